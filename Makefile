@@ -1,0 +1,96 @@
+# lantern - build, test, demo, benchmark, install.
+#
+#   make            liblantern.a and bin/lantern (packages must be installed)
+#   make demo       install missing packages, build, run the demo
+#   make test       install missing packages, build, run every test
+#   make bench      benchmarks
+#   make install PREFIX=/usr/local
+#   make clean
+
+PREFIX ?= /usr/local
+CC ?= cc
+PKG_CONFIG ?= pkg-config
+
+# Every library lantern uses, by pkg-config name.
+PKGS := gsl cfitsio libcjson inih lapacke openblas plplot
+TEST_PKGS := cmocka
+
+PKG_CFLAGS := $(shell $(PKG_CONFIG) --cflags $(PKGS) 2>/dev/null)
+# GSL asks for its reference CBLAS; OpenBLAS provides the same symbols, faster.
+PKG_LIBS := $(filter-out -lgslcblas,$(shell $(PKG_CONFIG) --libs $(PKGS) 2>/dev/null))
+TEST_CFLAGS := $(shell $(PKG_CONFIG) --cflags $(TEST_PKGS) 2>/dev/null)
+TEST_LIBS := $(shell $(PKG_CONFIG) --libs $(TEST_PKGS) 2>/dev/null)
+
+WARN := -Wall -Wextra -Werror -Wshadow -Wstrict-prototypes -Wmissing-prototypes
+CFLAGS ?= -O2 -g
+ALL_CFLAGS := -std=c17 -D_DEFAULT_SOURCE -fopenmp $(WARN) $(CFLAGS) -Iinclude $(PKG_CFLAGS)
+LDLIBS := $(PKG_LIBS) -lm
+
+BUILD := build
+LIB_SRC := $(wildcard src/util/*.c src/cosmology/*.c)
+CLI_SRC := $(wildcard src/cli/*.c)
+LIB_OBJ := $(LIB_SRC:%.c=$(BUILD)/%.o)
+CLI_OBJ := $(CLI_SRC:%.c=$(BUILD)/%.o)
+HEADERS := $(wildcard include/lantern/*.h src/*/*.h)
+
+TEST_SRC := $(wildcard tests/unit/test_*.c tests/reference/test_*.c)
+TEST_BIN := $(TEST_SRC:tests/%.c=$(BUILD)/tests/%)
+BENCH_SRC := $(wildcard tests/bench/bench_*.c)
+BENCH_BIN := $(BENCH_SRC:tests/%.c=$(BUILD)/tests/%)
+
+LIB := $(BUILD)/liblantern.a
+BIN := bin/lantern
+
+.PHONY: all deps check-pkgs demo test check bench install clean
+all: $(LIB) $(BIN)
+
+# Refuse to build with missing libraries, with a message that says what to do.
+check-pkgs:
+	@$(PKG_CONFIG) --exists $(PKGS) || { \
+	  echo "lantern: missing libraries; run 'make deps' (or scripts/install-deps.sh as root)" >&2; exit 2; }
+
+$(BUILD)/%.o: %.c $(HEADERS) | check-pkgs
+	@mkdir -p $(dir $@)
+	$(CC) $(ALL_CFLAGS) -c $< -o $@
+
+$(LIB): $(LIB_OBJ)
+	@mkdir -p $(dir $@)
+	rm -f $@
+	ar rcs $@ $^
+
+$(BIN): $(CLI_OBJ) $(LIB)
+	@mkdir -p bin
+	$(CC) $(ALL_CFLAGS) $(CLI_OBJ) $(LIB) $(LDLIBS) -o $@
+
+$(BUILD)/tests/%: tests/%.c $(LIB) $(HEADERS)
+	@mkdir -p $(dir $@)
+	$(CC) $(ALL_CFLAGS) $(TEST_CFLAGS) -Isrc $< $(LIB) $(TEST_LIBS) $(LDLIBS) -o $@
+
+deps:
+	@bash scripts/install-deps.sh
+
+# The two set-up commands of the README: each installs what is missing first,
+# then runs make again so that pkg-config sees the new packages.
+demo: deps
+	@$(MAKE) --no-print-directory demo-run
+
+demo-run: all
+	$(BIN) distance --model lcdm-flat --set h0=70,omega_m=0.3 --z-range 0.01:1.5:16
+
+test: deps
+	@$(MAKE) --no-print-directory check
+
+check: all $(TEST_BIN)
+	@bash tests/run.sh
+
+bench: all $(BENCH_BIN)
+	@bash scripts/bench.sh
+
+install: all
+	install -d $(DESTDIR)$(PREFIX)/bin $(DESTDIR)$(PREFIX)/lib $(DESTDIR)$(PREFIX)/include/lantern
+	install -m 755 $(BIN) $(DESTDIR)$(PREFIX)/bin/lantern
+	install -m 644 $(LIB) $(DESTDIR)$(PREFIX)/lib/liblantern.a
+	install -m 644 include/lantern/*.h $(DESTDIR)$(PREFIX)/include/lantern/
+
+clean:
+	rm -rf $(BUILD) bin

@@ -1,0 +1,12 @@
+/*
+ * lantern/lantern.h - the whole public interface of liblantern.
+ */
+#ifndef LANTERN_LANTERN_H
+#define LANTERN_LANTERN_H
+
+#define LT_VERSION "0.1.0"
+
+#include "lantern/util.h"
+#include "lantern/cosmology.h"
+
+#endif

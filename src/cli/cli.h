@@ -1,0 +1,66 @@
+/*
+ * Internal to the command line: argument scanning, error printing, exit
+ * codes. The command line holds no numerics; it parses, calls the library
+ * and prints.
+ */
+#ifndef LANTERN_CLI_H
+#define LANTERN_CLI_H
+
+#include <stdio.h>
+
+#include "lantern/lantern.h"
+
+/* Exit status (DESIGN.md). */
+enum {
+    CLI_OK = 0,
+    CLI_FAILED = 1,     /* a run that failed or was interrupted */
+    CLI_USAGE = 2,      /* bad input or bad usage */
+    CLI_UNCONVERGED = 3 /* finished its budget without converging */
+};
+
+/* The exit status for a library status code. */
+int cli_status(int code);
+
+/* Print "lantern: FILE:LINE: message" for err to stderr; returns the exit
+ * status for its code. */
+int cli_report(const lt_error *err);
+
+/* Print "lantern: WHERE: message" to stderr and return CLI_USAGE. */
+int cli_usage_error(const char *where, const char *fmt, ...)
+    __attribute__((format(printf, 2, 3)));
+
+/*
+ * Scanning options: "--name VALUE" and "--name=VALUE". Use as
+ *
+ *     cli_args a = cli_args_start(argc, argv, 1);
+ *     while (cli_args_more(&a)) {
+ *         if (cli_take(&a, "--model", &value)) ...;
+ *         else if (cli_flag(&a, "--help")) ...;
+ *         else return cli_args_unknown(&a, "distance");
+ *     }
+ *     if (a.failed) return CLI_USAGE;
+ */
+typedef struct cli_args {
+    int argc;
+    char **argv;
+    int i;
+    int failed; /* a value was missing; the message is already printed */
+} cli_args;
+
+cli_args cli_args_start(int argc, char **argv, int first);
+int cli_args_more(const cli_args *a);
+/* The current argument, if it does not start with "--" (a positional). */
+const char *cli_positional(cli_args *a);
+int cli_take(cli_args *a, const char *name, const char **value);
+int cli_flag(cli_args *a, const char *name);
+int cli_args_unknown(const cli_args *a, const char *command);
+
+/* Output formats. */
+typedef enum { CLI_TABLE, CLI_CSV, CLI_JSON } cli_format;
+/* Parse "table", "csv" or "json" (those allowed by mask, bits 1 << format). */
+int cli_parse_format(const char *text, unsigned allowed, cli_format *out);
+
+/* Commands. */
+int cli_distance(int argc, char **argv);
+
+#endif

@@ -1,0 +1,63 @@
+/*
+ * lantern: the command line. Dispatches to one subcommand; each lives in its
+ * own cmd_*.c file and returns the process exit status.
+ */
+#include <string.h>
+
+#include <gsl/gsl_errno.h>
+
+#include "cli.h"
+
+typedef struct {
+    const char *name;
+    const char *summary;
+    int (*run)(int argc, char **argv);
+} cli_command;
+
+static const cli_command commands[] = {
+    {"distance", "distances, times and H(z) for one model at given redshifts",
+     cli_distance},
+};
+#define NCOMMANDS (sizeof commands / sizeof commands[0])
+
+static void usage(FILE *f)
+{
+    fputs("usage: lantern COMMAND [OPTIONS]\n"
+          "       lantern --version | --help\n"
+          "\n"
+          "lantern turns a standard-candle Hubble diagram into cosmological\n"
+          "constraints.\n"
+          "\n"
+          "commands:\n",
+          f);
+    for (size_t i = 0; i < NCOMMANDS; i++)
+        fprintf(f, "  %-10s %s\n", commands[i].name, commands[i].summary);
+    fputs("\n'lantern COMMAND --help' describes each command.\n", f);
+}
+
+int main(int argc, char **argv)
+{
+    /* GSL's default error handler aborts the process; the library checks
+     * GSL's return codes instead. Switched off once, here, before any
+     * threads exist (DESIGN.md: third-party global state in one place). */
+    gsl_set_error_handler_off();
+
+    if (argc < 2) {
+        usage(stderr);
+        return CLI_USAGE;
+    }
+    if (strcmp(argv[1], "--version") == 0) {
+        printf("lantern %s\n", LT_VERSION);
+        return CLI_OK;
+    }
+    if (strcmp(argv[1], "--help") == 0 || strcmp(argv[1], "-h") == 0 ||
+        strcmp(argv[1], "help") == 0) {
+        usage(stdout);
+        return CLI_OK;
+    }
+    for (size_t i = 0; i < NCOMMANDS; i++)
+        if (strcmp(argv[1], commands[i].name) == 0)
+            return commands[i].run(argc - 1, argv + 1);
+    return cli_usage_error("lantern", "unknown command '%s' (see 'lantern --help')",
+                           argv[1]);
+}

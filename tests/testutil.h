@@ -1,0 +1,51 @@
+/*
+ * Helpers shared by the cmocka test programs. Include after <cmocka.h>.
+ */
+#ifndef LANTERN_TESTUTIL_H
+#define LANTERN_TESTUTIL_H
+
+#include <math.h>
+#include <stdio.h>
+
+/* Fail unless |got - want| <= tol * |want| (or <= tol where want == 0). */
+#define assert_rel(got, want, tol) \
+    lt_test_rel((got), (want), (tol), #got, __FILE__, __LINE__)
+
+static inline void lt_test_rel(double got, double want, double tol, const char *what,
+                               const char *file, int line)
+{
+    double scale = want != 0.0 ? fabs(want) : 1.0;
+    double rel = fabs(got - want) / scale;
+    if (!(rel <= tol)) {
+        print_error("%s = %.17g, want %.17g (relative difference %.3g > %.3g)\n", what,
+                    got, want, rel, tol);
+        _fail(file, line);
+    }
+}
+
+/* Fail unless |got - want| <= tol. */
+#define assert_abs(got, want, tol) \
+    lt_test_abs((got), (want), (tol), #got, __FILE__, __LINE__)
+
+static inline void lt_test_abs(double got, double want, double tol, const char *what,
+                               const char *file, int line)
+{
+    if (!(fabs(got - want) <= tol)) {
+        print_error("%s = %.17g, want %.17g (difference %.3g > %.3g)\n", what, got, want,
+                    fabs(got - want), tol);
+        _fail(file, line);
+    }
+}
+
+/* A small seeded generator for test parameters (splitmix64), so that every
+ * run draws the same "random" cases. */
+static inline double lt_test_uniform(unsigned long long *state, double lo, double hi)
+{
+    unsigned long long z = (*state += 0x9E3779B97F4A7C15ull);
+    z = (z ^ (z >> 30)) * 0xBF58476D1CE4E5B9ull;
+    z = (z ^ (z >> 27)) * 0x94D049BB133111EBull;
+    z ^= z >> 31;
+    return lo + (hi - lo) * ((double)(z >> 11) * 0x1.0p-53);
+}
+
+#endif

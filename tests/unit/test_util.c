@@ -1,0 +1,75 @@
+/* Unit tests of lantern/util.h: error records and strict number parsing. */
+#include <setjmp.h>
+#include <stdarg.h>
+#include <stddef.h>
+#include <stdint.h>
+#include <string.h>
+
+#include <cmocka.h>
+
+#include "lantern/lantern.h"
+
+static void test_error_format(void **state)
+{
+    (void)state;
+    lt_error e;
+    char buf[256];
+    assert_int_equal(lt_error_set(&e, LT_EINPUT, "survey.csv", 12, "bad %s", "z"), LT_EINPUT);
+    lt_error_format(&e, buf, sizeof buf);
+    assert_string_equal(buf, "survey.csv:12: bad z");
+    lt_error_set(&e, LT_EIO, "cov.txt", 0, "cannot open");
+    lt_error_format(&e, buf, sizeof buf);
+    assert_string_equal(buf, "cov.txt: cannot open");
+    lt_error_set(&e, LT_EDOMAIN, NULL, 0, "no big bang");
+    lt_error_format(&e, buf, sizeof buf);
+    assert_string_equal(buf, "no big bang");
+    lt_error_clear(&e);
+    assert_int_equal(e.code, LT_OK);
+    assert_string_equal(e.msg, "");
+    /* a NULL record is allowed and the code still comes back */
+    assert_int_equal(lt_error_set(NULL, LT_ENOMEM, NULL, 0, "x"), LT_ENOMEM);
+    assert_string_equal(lt_error_name(LT_ENOMEM), "out of memory");
+}
+
+static void test_parse_double(void **state)
+{
+    (void)state;
+    double v = 42.0;
+    assert_int_equal(lt_parse_double("0.3", &v), LT_OK);
+    assert_true(v == 0.3);
+    assert_int_equal(lt_parse_double("-1.5e-3", &v), LT_OK);
+    assert_true(v == -1.5e-3);
+    assert_int_equal(lt_parse_double("+2", &v), LT_OK);
+    assert_true(v == 2.0);
+    static const char *bad[] = {"", " 1", "1 ", "1,5", "0x10", "inf", "nan", "-inf",
+                                "1e999", "abc", "1.2.3", "--1", "e5", NULL};
+    for (int i = 0; bad[i]; i++) {
+        v = 42.0;
+        assert_int_equal(lt_parse_double(bad[i], &v), LT_EINPUT);
+        assert_true(v == 42.0); /* untouched on failure */
+    }
+    assert_int_equal(lt_parse_double(NULL, &v), LT_EINPUT);
+}
+
+static void test_parse_long(void **state)
+{
+    (void)state;
+    long v;
+    assert_int_equal(lt_parse_long("16", 1, 100, &v), LT_OK);
+    assert_int_equal(v, 16);
+    assert_int_equal(lt_parse_long("0", 1, 100, &v), LT_EINPUT);
+    assert_int_equal(lt_parse_long("101", 1, 100, &v), LT_EINPUT);
+    assert_int_equal(lt_parse_long("1.5", 1, 100, &v), LT_EINPUT);
+    assert_int_equal(lt_parse_long("", 1, 100, &v), LT_EINPUT);
+    assert_int_equal(lt_parse_long("99999999999999999999999", 1, 100, &v), LT_EINPUT);
+}
+
+int main(void)
+{
+    const struct CMUnitTest tests[] = {
+        cmocka_unit_test(test_error_format),
+        cmocka_unit_test(test_parse_double),
+        cmocka_unit_test(test_parse_long),
+    };
+    return cmocka_run_group_tests_name("util", tests, NULL, NULL);
+}
