@@ -55,4 +55,12 @@ int lt_parse_double(const char *text, double *out);
 /* The same for a base-10 integer in [lo, hi]. */
 int lt_parse_long(const char *text, long lo, long hi, long *out);
 
+/*
+ * Format v in the fewest significant digits (15 to 17) that read back as
+ * exactly v, so that text output loses nothing ("0.1", not
+ * "0.10000000000000001"). Non-finite values give "inf", "-inf" or "nan".
+ * size of 32 is always enough.
+ */
+void lt_format_double(double v, char *buf, size_t size);
+
 #endif

@@ -60,6 +60,11 @@ typedef enum { CLI_TABLE, CLI_CSV, CLI_JSON } cli_format;
 /* Parse "table", "csv" or "json" (those allowed by mask, bits 1 << format). */
 int cli_parse_format(const char *text, unsigned allowed, cli_format *out);
 
+/* A JSON number that reads back exactly (lt_format_double); null where v is
+ * not finite, since JSON has no infinities. */
+struct cJSON;
+struct cJSON *cli_json_number(double v);
+
 /* Commands. */
 int cli_distance(int argc, char **argv);
 

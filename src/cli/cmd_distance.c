@@ -224,9 +224,10 @@ static cJSON *params_json(const lt_cosmo *c)
     lt_cosmo_params p = c->p;
     for (int id = 0; id < LT_P_COUNT; id++)
         if (lt_cosmo_model_uses(c->model, id) || id == LT_P_OMEGA_DE)
-            cJSON_AddNumberToObject(o, lt_cosmo_param_name(id), *lt_cosmo_params_slot(&p, id));
-    cJSON_AddNumberToObject(o, "omega_k", c->omega_k);
-    cJSON_AddNumberToObject(o, "omega_r", c->omega_r);
+            cJSON_AddItemToObject(o, lt_cosmo_param_name(id),
+                                  cli_json_number(*lt_cosmo_params_slot(&p, id)));
+    cJSON_AddItemToObject(o, "omega_k", cli_json_number(c->omega_k));
+    cJSON_AddItemToObject(o, "omega_r", cli_json_number(c->omega_r));
     return o;
 }
 
@@ -264,9 +265,12 @@ static void print_csv(FILE *f, size_t n, double *const col[NCOL])
     for (int k = 0; k < NCOL; k++)
         fprintf(f, "%s%s", k ? "," : "", col_name[k]);
     fputc('\n', f);
+    char buf[32];
     for (size_t i = 0; i < n; i++) {
-        for (int k = 0; k < NCOL; k++)
-            fprintf(f, "%s%.12g", k ? "," : "", col[k][i]);
+        for (int k = 0; k < NCOL; k++) {
+            lt_format_double(col[k][i], buf, sizeof buf);
+            fprintf(f, "%s%s", k ? "," : "", buf);
+        }
         fputc('\n', f);
     }
 }
@@ -279,14 +283,10 @@ static int print_json(FILE *f, const lt_cosmo *c, size_t n, double *const col[NC
     cJSON *rows = cJSON_AddArrayToObject(root, "rows");
     for (size_t i = 0; i < n; i++) {
         cJSON *row = cJSON_CreateObject();
-        for (int k = 0; k < NCOL; k++) {
-            /* JSON has no infinities: an infinite age or the distance
-             * modulus at z = 0 is null (DESIGN.md). */
-            if (isfinite(col[k][i]))
-                cJSON_AddNumberToObject(row, col_name[k], col[k][i]);
-            else
-                cJSON_AddNullToObject(row, col_name[k]);
-        }
+        /* An infinite age or the distance modulus at z = 0 becomes null
+         * (DESIGN.md). */
+        for (int k = 0; k < NCOL; k++)
+            cJSON_AddItemToObject(row, col_name[k], cli_json_number(col[k][i]));
         cJSON_AddItemToArray(rows, row);
     }
     char *text = cJSON_Print(root);

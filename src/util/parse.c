@@ -4,6 +4,7 @@
 #include <ctype.h>
 #include <errno.h>
 #include <math.h>
+#include <stdio.h>
 #include <stdlib.h>
 
 int lt_parse_double(const char *text, double *out)
@@ -40,4 +41,17 @@ int lt_parse_long(const char *text, long lo, long hi, long *out)
         return LT_EINPUT;
     *out = v;
     return LT_OK;
+}
+
+void lt_format_double(double v, char *buf, size_t size)
+{
+    if (!isfinite(v)) {
+        snprintf(buf, size, "%s", isnan(v) ? "nan" : v > 0 ? "inf" : "-inf");
+        return;
+    }
+    for (int digits = 15; digits <= 17; digits++) {
+        snprintf(buf, size, "%.*g", digits, v);
+        if (strtod(buf, NULL) == v)
+            return;
+    }
 }
