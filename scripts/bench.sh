@@ -1,0 +1,11 @@
+#!/usr/bin/env bash
+# Runs every benchmark program built from tests/bench/ (make bench).
+set -eu
+cd "$(dirname "$0")/.."
+echo "machine: $(nproc) cores, $(grep -m1 'model name' /proc/cpuinfo | cut -d: -f2 | sed 's/^ *//')"
+for b in build/tests/bench/bench_*; do
+    [ -x "$b" ] || continue
+    echo
+    echo "== $(basename "$b")"
+    "$b"
+done

@@ -1,0 +1,47 @@
+# Helpers for the end-to-end tests: each check prints "ok - NAME" or
+# "not ok - NAME" (with what was seen), and tests/run.sh counts them.
+# Source from a test script; LANTERN is the binary under test.
+ROOT=$(cd "$(dirname "${BASH_SOURCE[0]}")/../.." && pwd)
+LANTERN="$ROOT/bin/lantern"
+E2E_TMP=$(mktemp -d)
+trap 'rm -rf "$E2E_TMP"' EXIT
+OUT="$E2E_TMP/out"
+ERR="$E2E_TMP/err"
+
+# run CMD...: runs it, keeping stdout in $OUT, stderr in $ERR, status in $STATUS
+run() {
+    "$@" >"$OUT" 2>"$ERR"
+    STATUS=$?
+}
+
+pass() { echo "ok - $1"; }
+fail() {
+    echo "not ok - $1"
+    echo "  status: $STATUS"
+    sed 's/^/  stdout: /' "$OUT" | head -5
+    sed 's/^/  stderr: /' "$ERR" | head -5
+}
+
+# expect_status NAME CODE: the last run exited with CODE
+expect_status() {
+    if [ "$STATUS" -eq "$2" ]; then pass "$1"; else fail "$1 (want status $2)"; fi
+}
+
+# expect_error NAME CODE PATTERN: exit CODE, nothing on stdout, and a
+# "lantern: ..." message matching PATTERN (grep -E) on stderr
+expect_error() {
+    if [ "$STATUS" -eq "$2" ] && [ ! -s "$OUT" ] && grep -qE "^lantern: .*$3" "$ERR"; then
+        pass "$1"
+    else
+        fail "$1 (want status $2 and stderr matching '$3')"
+    fi
+}
+
+# expect_stdout NAME PATTERN: status 0 and stdout matching PATTERN (grep -E)
+expect_stdout() {
+    if [ "$STATUS" -eq 0 ] && grep -qE -- "$2" "$OUT"; then
+        pass "$1"
+    else
+        fail "$1 (want status 0 and stdout matching '$2')"
+    fi
+}
