@@ -27,7 +27,7 @@ ALL_CFLAGS := -std=c17 -D_DEFAULT_SOURCE -fopenmp $(WARN) $(CFLAGS) -Iinclude $(
 LDLIBS := $(PKG_LIBS) -lm
 
 BUILD := build
-LIB_SRC := $(wildcard src/util/*.c src/cosmology/*.c)
+LIB_SRC := $(wildcard src/util/*.c src/cosmology/*.c src/survey/*.c)
 CLI_SRC := $(wildcard src/cli/*.c)
 LIB_OBJ := $(LIB_SRC:%.c=$(BUILD)/%.o)
 CLI_OBJ := $(CLI_SRC:%.c=$(BUILD)/%.o)
@@ -49,22 +49,29 @@ check-pkgs:
 	@$(PKG_CONFIG) --exists $(PKGS) || { \
 	  echo "lantern: missing libraries; run 'make deps' (or scripts/install-deps.sh as root)" >&2; exit 2; }
 
+# V=1 shows the full compiler lines.
+Q := $(if $(V),,@)
+
 $(BUILD)/%.o: %.c $(HEADERS) | check-pkgs
 	@mkdir -p $(dir $@)
-	$(CC) $(ALL_CFLAGS) -c $< -o $@
+	@$(if $(Q),echo "  CC      $<")
+	$(Q)$(CC) $(ALL_CFLAGS) -c $< -o $@
 
 $(LIB): $(LIB_OBJ)
 	@mkdir -p $(dir $@)
-	rm -f $@
-	ar rcs $@ $^
+	@rm -f $@
+	@$(if $(Q),echo "  AR      $@")
+	$(Q)ar rcs $@ $^
 
 $(BIN): $(CLI_OBJ) $(LIB)
 	@mkdir -p bin
-	$(CC) $(ALL_CFLAGS) $(CLI_OBJ) $(LIB) $(LDLIBS) -o $@
+	@$(if $(Q),echo "  LINK    $@")
+	$(Q)$(CC) $(ALL_CFLAGS) $(CLI_OBJ) $(LIB) $(LDLIBS) -o $@
 
 $(BUILD)/tests/%: tests/%.c $(LIB) $(HEADERS)
 	@mkdir -p $(dir $@)
-	$(CC) $(ALL_CFLAGS) $(TEST_CFLAGS) -Isrc $< $(LIB) $(TEST_LIBS) $(LDLIBS) -o $@
+	@$(if $(Q),echo "  LINK    $@")
+	$(Q)$(CC) $(ALL_CFLAGS) $(TEST_CFLAGS) -Isrc $< $(LIB) $(TEST_LIBS) $(LDLIBS) -o $@
 
 deps:
 	@bash scripts/install-deps.sh

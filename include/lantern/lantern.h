@@ -8,5 +8,6 @@
 
 #include "lantern/util.h"
 #include "lantern/cosmology.h"
+#include "lantern/survey.h"
 
 #endif

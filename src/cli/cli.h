@@ -65,7 +65,17 @@ int cli_parse_format(const char *text, unsigned allowed, cli_format *out);
 struct cJSON;
 struct cJSON *cli_json_number(double v);
 
+/* The DATA options (DESIGN.md): if the current argument is one, take it
+ * into spec and return 1 (a->failed is set for a bad value). */
+int cli_take_data(cli_args *a, lt_survey_spec *spec);
+/* Their --help text. */
+extern const char *cli_data_help;
+/* Print the survey's warnings to stderr. */
+void cli_print_warnings(const lt_survey *s);
+
 /* Commands. */
 int cli_distance(int argc, char **argv);
+int cli_inspect(int argc, char **argv);
+int cli_simulate(int argc, char **argv);
 
 #endif

@@ -4,6 +4,7 @@
  */
 #include <string.h>
 
+#include <cblas.h>
 #include <gsl/gsl_errno.h>
 
 #include "cli.h"
@@ -17,6 +18,8 @@ typedef struct {
 static const cli_command commands[] = {
     {"distance", "distances, times and H(z) for one model at given redshifts",
      cli_distance},
+    {"inspect", "read a survey and describe it: size, redshifts, errors, covariance",
+     cli_inspect},
 };
 #define NCOMMANDS (sizeof commands / sizeof commands[0])
 
@@ -41,6 +44,10 @@ int main(int argc, char **argv)
      * GSL's return codes instead. Switched off once, here, before any
      * threads exist (DESIGN.md: third-party global state in one place). */
     gsl_set_error_handler_off();
+    /* OpenBLAS may split a product over threads, and the split changes the
+     * rounding; one thread keeps results identical on every machine
+     * (DESIGN.md: a fixed thread count for threaded library routines). */
+    openblas_set_num_threads(1);
 
     if (argc < 2) {
         usage(stderr);

@@ -1,0 +1,191 @@
+/*
+ * lantern/survey.h - Hubble-diagram data: tables, covariances, cuts, and
+ * simulated surveys.
+ *
+ * A survey is N objects, each with a CMB-frame redshift z, a heliocentric
+ * redshift zhel, one observable (distance modulus, standardised magnitude
+ * or luminosity distance) and usually its error, plus the total covariance
+ * of the observables:
+ *
+ *     C = diag(err^2) [unless no_err_diag] + sum of dense matrices + U U^T
+ *
+ * where U (N x k) holds systematic modes already scaled by their
+ * amplitudes. The modes are never expanded to N x N: solves go through the
+ * Woodbury identity, so memory grows as N k.
+ *
+ * Tables are whitespace-separated text, CSV or FITS binary tables; the rules
+ * for headers, comments and short rows are in docs of lt_survey_read below.
+ */
+#ifndef LANTERN_SURVEY_H
+#define LANTERN_SURVEY_H
+
+#include <stddef.h>
+#include <stdint.h>
+
+#include "lantern/util.h"
+
+/* ---------------------------------------------------------------------- */
+/* Covariance matrices                                                     */
+/* ---------------------------------------------------------------------- */
+
+typedef enum {
+    LT_COV_DIAGONAL = 0, /* diag(d) */
+    LT_COV_DENSE,        /* a full N x N matrix */
+    LT_COV_STRUCTURED,   /* diag(d) + U U^T */
+    LT_COV_DENSE_MODES   /* dense + U U^T */
+} lt_cov_kind;
+
+const char *lt_cov_kind_name(lt_cov_kind k); /* "diagonal", "dense", ... */
+
+typedef struct lt_cov lt_cov;
+
+/* An N x N covariance, zero to start with. */
+lt_cov *lt_cov_alloc(size_t n, lt_error *err);
+void lt_cov_free(lt_cov *c);
+size_t lt_cov_size(const lt_cov *c);
+size_t lt_cov_nmodes(const lt_cov *c);
+lt_cov_kind lt_cov_kind_of(const lt_cov *c);
+
+/* Add diag(var). */
+int lt_cov_add_diag(lt_cov *c, const double *var, lt_error *err);
+/* Add a dense symmetric matrix m (row-major N x N); the first call turns
+ * the base into a dense matrix (N^2 doubles). */
+int lt_cov_add_dense(lt_cov *c, const double *m, lt_error *err);
+/* Add sum_j (amp_j u_j)(amp_j u_j)^T for k modes; u is N x k, row-major
+ * (row i holds object i's response to each mode); amp may be NULL (all 1). */
+int lt_cov_add_modes(lt_cov *c, size_t k, const double *u, const double *amp,
+                     lt_error *err);
+
+/*
+ * Factor the covariance for solves: Cholesky of the base (LAPACK dpotrf for
+ * a dense base), then the k x k Woodbury capacitance matrix I + U^T B^-1 U.
+ * Fails with LT_EINPUT if the matrix is not positive definite. After this,
+ * no more terms may be added.
+ */
+int lt_cov_factor(lt_cov *c, lt_error *err);
+
+/* Scratch space, in doubles, that lt_cov_chi2 and lt_cov_solve need. */
+size_t lt_cov_work_size(const lt_cov *c);
+/* r^T C^-1 r for a factored covariance; allocates nothing. */
+double lt_cov_chi2(const lt_cov *c, const double *r, double *work);
+/* x = C^-1 b (x may equal b); allocates nothing. */
+void lt_cov_solve(const lt_cov *c, const double *b, double *x, double *work);
+
+/* The sub-covariance of the objects idx[0..m-1] (in that order), unfactored. */
+lt_cov *lt_cov_select(const lt_cov *c, size_t m, const size_t *idx, lt_error *err);
+
+/* The whole matrix, row-major N x N into out (for tests and small N). */
+void lt_cov_to_dense(const lt_cov *c, double *out);
+
+/* What lt_cov_inspect reports. */
+typedef struct lt_cov_info {
+    lt_cov_kind kind;
+    int positive_definite;
+    double min_eigenvalue, max_eigenvalue, condition; /* 2-norm condition */
+    /* "exact": eigenvalues by LAPACK dsyevd; "bound": min_eigenvalue is a
+     * lower and condition an upper bound (large structured matrices);
+     * "estimate": condition from LAPACK dpocon (1-norm), no eigenvalues (NaN). */
+    const char *method;
+} lt_cov_info;
+
+/* Eigenvalues are exact up to this N; larger matrices get bounds or
+ * estimates (an eigen-decomposition costs N^3). */
+#define LT_COV_EXACT_MAX 3000
+
+/* Describe a factored covariance. */
+int lt_cov_inspect(const lt_cov *c, lt_cov_info *info, lt_error *err);
+
+/* ---------------------------------------------------------------------- */
+/* Surveys                                                                 */
+/* ---------------------------------------------------------------------- */
+
+typedef enum { LT_OBS_MU = 0, LT_OBS_MAG, LT_OBS_DL } lt_obs;
+const char *lt_obs_name(lt_obs k); /* "mu", "mag", "dl" */
+
+#define LT_SURVEY_MAX_COV 16
+
+/* What to read. Paths may be FITS extended names ("file.fits[2]"). */
+typedef struct lt_survey_spec {
+    const char *data;     /* the table */
+    const char *columns;  /* "role=name,..."; roles z, zhel, mu|mag|dl, err, id */
+    const char *cov[LT_SURVEY_MAX_COV];
+    size_t ncov;
+    const char *modes;    /* N x k mode table, or NULL */
+    int no_err_diag;      /* the covariances already hold the errors */
+    double zmin, zmax;    /* keep zmin <= z <= zmax; NaN for no cut */
+    const char *keep_ids; /* a file of ids to keep (one a line), or NULL */
+    const char *drop_ids; /* a file of ids to drop, or NULL */
+} lt_survey_spec;
+
+void lt_survey_spec_init(lt_survey_spec *s);
+
+typedef struct lt_survey {
+    size_t n;
+    lt_obs kind;
+    double *z;    /* CMB-frame redshift */
+    double *zhel; /* heliocentric redshift (= z when the table has none) */
+    double *obs;  /* the observable: mu or mag in magnitudes, dl in Mpc */
+    double *err;  /* its error, NULL if the table has none */
+    char **id;    /* NULL if the table has no id column */
+    long *row;    /* each object's 1-based data row in the table */
+    lt_cov *cov;  /* the total covariance, factored */
+    size_t n_read;     /* objects in the table before cuts */
+    size_t nwarnings;
+    char **warnings;   /* things worth saying that are not errors */
+} lt_survey;
+
+/*
+ * Read a survey. Tables:
+ *  - Text: the header is the first non-blank line and may start with '#';
+ *    later lines starting with '#' are comments; blank lines, CRLF line
+ *    ends, a UTF-8 byte-order mark and tabs are accepted. A header holding
+ *    a comma makes the file CSV (fields split at commas and trimmed),
+ *    otherwise fields are split at runs of blanks and tabs.
+ *  - Every data row must have the same number of fields as the first one.
+ *    A row may have fewer fields than the header has names only if the
+ *    names left over are trailing, filled by no row and mapped to no role:
+ *    they are ignored with one warning (the Pantheon 2018 files have one
+ *    such name). A row with more fields than names, or a missing mapped
+ *    column, is an error: columns never shift.
+ *  - Values are checked only in mapped columns; the id column is text.
+ *  - FITS binary tables by CFITSIO's extended names; errors name the row.
+ * Checks: finite numbers, z > 0, zhel > 0, err > 0, dl > 0, no duplicate
+ * header names, the covariance sizes, symmetry (|C_ij - C_ji| <= 1e-6
+ * sqrt(C_ii C_jj); the mean of the two is used) and positive definiteness.
+ * Cuts apply to the table and the covariance together.
+ */
+lt_survey *lt_survey_read(const lt_survey_spec *spec, lt_error *err);
+void lt_survey_free(lt_survey *s);
+
+/* Add a warning (copied) to s; returns LT_ENOMEM on failure. */
+int lt_survey_warn(lt_survey *s, const char *fmt, ...) __attribute__((format(printf, 2, 3)));
+
+/* Summary numbers of a survey, for lantern inspect. */
+#define LT_HIST_MAX 64
+typedef struct lt_survey_stats {
+    double z_min, z_max, zhel_min, zhel_max, obs_min, obs_max;
+    double err_min, err_median, err_max, err_mean; /* NaN without errors */
+    size_t nbins;                                  /* histogram of z */
+    double edges[LT_HIST_MAX + 1];                 /* equal widths in z */
+    size_t counts[LT_HIST_MAX];
+} lt_survey_stats;
+
+/* Fill st for s with an nbins-bin histogram (1 <= nbins <= LT_HIST_MAX). */
+int lt_survey_stats_compute(const lt_survey *s, size_t nbins, lt_survey_stats *st,
+                            lt_error *err);
+
+/* ---------------------------------------------------------------------- */
+/* Dense covariance files                                                  */
+/* ---------------------------------------------------------------------- */
+
+/*
+ * Read a dense matrix: text, either the size N then N*N values (any line
+ * breaks), or N rows of N values; or a FITS image (2-D, N x N). *m gets a
+ * malloc'ed row-major matrix, *n its size. Errors name the file and line.
+ */
+int lt_matrix_read(const char *path, double **m, size_t *n, lt_error *err);
+
+/* True if path names a FITS file (by extension, before any [..] suffix). */
+int lt_path_is_fits(const char *path);
+
+#endif

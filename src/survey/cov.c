@@ -1,0 +1,415 @@
+/*
+ * Covariance matrices: a base (diagonal or dense) plus low-rank modes,
+ * C = B + U U^T, factored once and then solved against many vectors.
+ *
+ * Storage is row-major. A dense base is factored in place by Cholesky,
+ * B = L L^T with L in the lower triangle; the strict upper triangle keeps
+ * the original values and the diagonal is saved, so the matrix can still be
+ * rebuilt. Modes go through the Woodbury identity (e.g. Press et al.,
+ * Numerical Recipes, 3rd ed., sec. 2.7.3):
+ *   C^-1 = B^-1 - W S^-1 W^T,  W = B^-1 U,  S = I + U^T B^-1 U  (k x k),
+ *   r^T C^-1 r = r^T B^-1 r - t^T S^-1 t,  t = W^T r,
+ * so no N x N matrix is ever formed for the modes.
+ */
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include <cblas.h>
+#include <lapacke.h>
+
+#include "lantern/survey.h"
+
+/* malloc(0) may return NULL; ask for at least one element. */
+static size_t at_least1(size_t n) { return n ? n : 1; }
+
+struct lt_cov {
+    size_t n, k;
+    double *diag;      /* the diagonal base (n), when dense == NULL */
+    double *dense;     /* a dense base (n x n), or NULL */
+    double *dense_diag;/* the dense base's diagonal, kept through factoring */
+    double *u;         /* n x k scaled modes, or NULL */
+    int factored;
+    double *w;         /* n x k: B^-1 U */
+    double *s;         /* k x k: Cholesky factor of I + U^T W (lower) */
+};
+
+const char *lt_cov_kind_name(lt_cov_kind k)
+{
+    static const char *names[] = {"diagonal", "dense", "structured", "dense+modes"};
+    return (unsigned)k < 4 ? names[k] : "unknown";
+}
+
+lt_cov *lt_cov_alloc(size_t n, lt_error *err)
+{
+    lt_cov *c = calloc(1, sizeof *c);
+    if (c)
+        c->diag = calloc(at_least1(n), sizeof *c->diag);
+    if (!c || !c->diag) {
+        free(c);
+        lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory for a %zu x %zu covariance", n,
+                     n);
+        return NULL;
+    }
+    c->n = n;
+    return c;
+}
+
+void lt_cov_free(lt_cov *c)
+{
+    if (!c)
+        return;
+    free(c->diag);
+    free(c->dense);
+    free(c->dense_diag);
+    free(c->u);
+    free(c->w);
+    free(c->s);
+    free(c);
+}
+
+size_t lt_cov_size(const lt_cov *c) { return c->n; }
+size_t lt_cov_nmodes(const lt_cov *c) { return c->k; }
+
+lt_cov_kind lt_cov_kind_of(const lt_cov *c)
+{
+    if (c->dense)
+        return c->k ? LT_COV_DENSE_MODES : LT_COV_DENSE;
+    return c->k ? LT_COV_STRUCTURED : LT_COV_DIAGONAL;
+}
+
+static int refuse_factored(const lt_cov *c, lt_error *err)
+{
+    if (c->factored)
+        return lt_error_set(err, LT_EINPUT, NULL, 0,
+                            "internal: covariance changed after it was factored");
+    return LT_OK;
+}
+
+int lt_cov_add_diag(lt_cov *c, const double *var, lt_error *err)
+{
+    if (refuse_factored(c, err))
+        return LT_EINPUT;
+    for (size_t i = 0; i < c->n; i++) {
+        if (c->dense)
+            c->dense[i * c->n + i] += var[i];
+        else
+            c->diag[i] += var[i];
+    }
+    return LT_OK;
+}
+
+int lt_cov_add_dense(lt_cov *c, const double *m, lt_error *err)
+{
+    if (refuse_factored(c, err))
+        return LT_EINPUT;
+    size_t n = c->n;
+    if (!c->dense) {
+        c->dense = calloc(at_least1(n * n), sizeof *c->dense);
+        if (!c->dense)
+            return lt_error_set(err, LT_ENOMEM, NULL, 0,
+                                "out of memory for a dense %zu x %zu covariance (%.1f GB)", n,
+                                n, 8e-9 * (double)n * (double)n);
+        for (size_t i = 0; i < n; i++)
+            c->dense[i * n + i] = c->diag[i];
+    }
+    for (size_t i = 0; i < n * n; i++)
+        c->dense[i] += m[i];
+    return LT_OK;
+}
+
+int lt_cov_add_modes(lt_cov *c, size_t k, const double *u, const double *amp, lt_error *err)
+{
+    if (refuse_factored(c, err))
+        return LT_EINPUT;
+    size_t n = c->n, k2 = c->k + k;
+    double *nu = malloc(at_least1(n * k2) * sizeof *nu);
+    if (!nu)
+        return lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory for %zu x %zu modes", n,
+                            k2);
+    for (size_t i = 0; i < n; i++) {
+        for (size_t j = 0; j < c->k; j++)
+            nu[i * k2 + j] = c->u[i * c->k + j];
+        for (size_t j = 0; j < k; j++)
+            nu[i * k2 + c->k + j] = u[i * k + j] * (amp ? amp[j] : 1.0);
+    }
+    free(c->u);
+    c->u = nu;
+    c->k = k2;
+    return LT_OK;
+}
+
+/* B^-1 x in place, for a factored base. */
+static void base_solve(const lt_cov *c, double *x)
+{
+    if (c->dense) {
+        cblas_dtrsv(CblasRowMajor, CblasLower, CblasNoTrans, CblasNonUnit, (int)c->n, c->dense,
+                    (int)c->n, x, 1);
+        cblas_dtrsv(CblasRowMajor, CblasLower, CblasTrans, CblasNonUnit, (int)c->n, c->dense,
+                    (int)c->n, x, 1);
+    } else {
+        for (size_t i = 0; i < c->n; i++)
+            x[i] /= c->diag[i];
+    }
+}
+
+int lt_cov_factor(lt_cov *c, lt_error *err)
+{
+    if (c->factored)
+        return LT_OK;
+    size_t n = c->n, k = c->k;
+    if (c->dense) {
+        c->dense_diag = malloc(at_least1(n) * sizeof *c->dense_diag);
+        if (!c->dense_diag)
+            return lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
+        for (size_t i = 0; i < n; i++)
+            c->dense_diag[i] = c->dense[i * n + i];
+        /* Row-major lower is column-major upper: dpotrf('U') on the same
+         * memory gives B = L L^T with L in our lower triangle, with no
+         * transposed copy. */
+        lapack_int info = LAPACKE_dpotrf(LAPACK_COL_MAJOR, 'U', (lapack_int)n, c->dense,
+                                         (lapack_int)n);
+        if (info != 0) {
+            /* restore the matrix so the caller may still inspect it */
+            for (size_t i = 0; i < n; i++) {
+                c->dense[i * n + i] = c->dense_diag[i];
+                for (size_t j = 0; j < i; j++)
+                    c->dense[i * n + j] = c->dense[j * n + i];
+            }
+            free(c->dense_diag);
+            c->dense_diag = NULL;
+            if (info > 0)
+                return lt_error_set(err, LT_EINPUT, NULL, 0,
+                                    "the covariance matrix is not positive definite "
+                                    "(Cholesky fails at row %d of %zu)",
+                                    (int)info, n);
+            return lt_error_set(err, LT_ENUMERIC, NULL, 0, "LAPACK dpotrf failed (%d)",
+                                (int)info);
+        }
+    } else {
+        for (size_t i = 0; i < n; i++)
+            if (!(c->diag[i] > 0.0) || !isfinite(c->diag[i]))
+                return lt_error_set(err, LT_EINPUT, NULL, 0,
+                                    "the covariance matrix is not positive definite: "
+                                    "variance %g for object %zu",
+                                    c->diag[i], i + 1);
+    }
+    if (k) {
+        c->w = malloc(n * k * sizeof *c->w);
+        c->s = calloc(k * k, sizeof *c->s);
+        double *col = malloc(at_least1(n) * sizeof *col);
+        if (!c->w || !c->s || !col) {
+            free(col);
+            return lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory for the modes");
+        }
+        for (size_t j = 0; j < k; j++) {
+            for (size_t i = 0; i < n; i++)
+                col[i] = c->u[i * k + j];
+            base_solve(c, col);
+            for (size_t i = 0; i < n; i++)
+                c->w[i * k + j] = col[i];
+        }
+        free(col);
+        for (size_t j = 0; j < k; j++)
+            c->s[j * k + j] = 1.0;
+        cblas_dgemm(CblasRowMajor, CblasTrans, CblasNoTrans, (int)k, (int)k, (int)n, 1.0, c->u,
+                    (int)k, c->w, (int)k, 1.0, c->s, (int)k);
+        lapack_int info = LAPACKE_dpotrf(LAPACK_COL_MAJOR, 'U', (lapack_int)k, c->s,
+                                         (lapack_int)k);
+        if (info != 0)
+            return lt_error_set(err, LT_ENUMERIC, NULL, 0,
+                                "the %zu systematic modes make the covariance singular "
+                                "(capacitance matrix not positive definite)",
+                                k);
+    }
+    c->factored = 1;
+    return LT_OK;
+}
+
+size_t lt_cov_work_size(const lt_cov *c) { return c->n + c->k + 1; }
+
+double lt_cov_chi2(const lt_cov *c, const double *r, double *work)
+{
+    size_t n = c->n, k = c->k;
+    double chi2 = 0.0;
+    if (c->dense) {
+        memcpy(work, r, n * sizeof *work);
+        cblas_dtrsv(CblasRowMajor, CblasLower, CblasNoTrans, CblasNonUnit, (int)n, c->dense,
+                    (int)n, work, 1);
+        chi2 = cblas_ddot((int)n, work, 1, work, 1);
+    } else {
+        for (size_t i = 0; i < n; i++)
+            chi2 += r[i] * r[i] / c->diag[i];
+    }
+    if (k) {
+        double *t = work + n;
+        cblas_dgemv(CblasRowMajor, CblasTrans, (int)n, (int)k, 1.0, c->w, (int)k, r, 1, 0.0, t,
+                    1);
+        cblas_dtrsv(CblasRowMajor, CblasLower, CblasNoTrans, CblasNonUnit, (int)k, c->s,
+                    (int)k, t, 1);
+        chi2 -= cblas_ddot((int)k, t, 1, t, 1);
+    }
+    return chi2;
+}
+
+void lt_cov_solve(const lt_cov *c, const double *b, double *x, double *work)
+{
+    size_t n = c->n, k = c->k;
+    double *t = work + n;
+    if (k)
+        cblas_dgemv(CblasRowMajor, CblasTrans, (int)n, (int)k, 1.0, c->w, (int)k, b, 1, 0.0, t,
+                    1);
+    if (x != b)
+        memcpy(x, b, n * sizeof *x);
+    base_solve(c, x);
+    if (k) {
+        cblas_dtrsv(CblasRowMajor, CblasLower, CblasNoTrans, CblasNonUnit, (int)k, c->s,
+                    (int)k, t, 1);
+        cblas_dtrsv(CblasRowMajor, CblasLower, CblasTrans, CblasNonUnit, (int)k, c->s, (int)k,
+                    t, 1);
+        cblas_dgemv(CblasRowMajor, CblasNoTrans, (int)n, (int)k, -1.0, c->w, (int)k, t, 1, 1.0,
+                    x, 1);
+    }
+}
+
+/* Base element (i, j) as given, whether or not factored. */
+static double base_at(const lt_cov *c, size_t i, size_t j)
+{
+    if (!c->dense)
+        return i == j ? c->diag[i] : 0.0;
+    if (i == j)
+        return c->factored ? c->dense_diag[i] : c->dense[i * c->n + i];
+    if (c->factored && i > j) /* the lower triangle holds L: read the upper */
+        return c->dense[j * c->n + i];
+    return c->dense[i * c->n + j];
+}
+
+void lt_cov_to_dense(const lt_cov *c, double *out)
+{
+    size_t n = c->n, k = c->k;
+    for (size_t i = 0; i < n; i++)
+        for (size_t j = 0; j < n; j++) {
+            double v = base_at(c, i, j);
+            for (size_t m = 0; m < k; m++)
+                v += c->u[i * k + m] * c->u[j * k + m];
+            out[i * n + j] = v;
+        }
+}
+
+lt_cov *lt_cov_select(const lt_cov *c, size_t m, const size_t *idx, lt_error *err)
+{
+    lt_cov *s = lt_cov_alloc(m, err);
+    if (!s)
+        return NULL;
+    if (c->dense) {
+        s->dense = malloc(at_least1(m * m) * sizeof *s->dense);
+        if (!s->dense)
+            goto nomem;
+        for (size_t a = 0; a < m; a++)
+            for (size_t b = 0; b < m; b++)
+                s->dense[a * m + b] = base_at(c, idx[a], idx[b]);
+    } else {
+        for (size_t a = 0; a < m; a++)
+            s->diag[a] = c->diag[idx[a]];
+    }
+    if (c->k) {
+        s->k = c->k;
+        s->u = malloc(at_least1(m * c->k) * sizeof *s->u);
+        if (!s->u)
+            goto nomem;
+        for (size_t a = 0; a < m; a++)
+            memcpy(s->u + a * c->k, c->u + idx[a] * c->k, c->k * sizeof *s->u);
+    }
+    return s;
+nomem:
+    lt_cov_free(s);
+    lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory selecting %zu objects", m);
+    return NULL;
+}
+
+/* Eigenvalues (ascending) of a symmetric k x k or n x n row-major matrix
+ * a, destroyed. */
+static int eigenvalues(double *a, size_t n, double *ev, lt_error *err)
+{
+    lapack_int info = LAPACKE_dsyevd(LAPACK_COL_MAJOR, 'N', 'U', (lapack_int)n, a,
+                                     (lapack_int)n, ev);
+    if (info != 0)
+        return lt_error_set(err, LT_ENUMERIC, NULL, 0, "LAPACK dsyevd failed (%d)", (int)info);
+    return LT_OK;
+}
+
+int lt_cov_inspect(const lt_cov *c, lt_cov_info *info, lt_error *err)
+{
+    size_t n = c->n, k = c->k;
+    info->kind = lt_cov_kind_of(c);
+    info->positive_definite = c->factored;
+    info->method = "exact";
+    info->min_eigenvalue = info->max_eigenvalue = info->condition = NAN;
+    if (n == 0)
+        return LT_OK;
+    if (info->kind == LT_COV_DIAGONAL) {
+        double lo = INFINITY, hi = -INFINITY;
+        for (size_t i = 0; i < n; i++)
+            lo = fmin(lo, c->diag[i]), hi = fmax(hi, c->diag[i]);
+        info->min_eigenvalue = lo, info->max_eigenvalue = hi, info->condition = hi / lo;
+        return LT_OK;
+    }
+    if (n <= LT_COV_EXACT_MAX) {
+        double *a = malloc(n * n * sizeof *a), *ev = malloc(n * sizeof *ev);
+        if (!a || !ev) {
+            free(a);
+            free(ev);
+            return lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
+        }
+        lt_cov_to_dense(c, a);
+        int rc = eigenvalues(a, n, ev, err);
+        if (!rc) {
+            info->min_eigenvalue = ev[0], info->max_eigenvalue = ev[n - 1];
+            info->condition = ev[n - 1] / ev[0];
+        }
+        free(a);
+        free(ev);
+        return rc;
+    }
+    if (info->kind == LT_COV_STRUCTURED) {
+        /* Weyl's inequality: eig(D + U U^T) lies in [min D, max D + max eig(U^T U)];
+         * with D = d I the spectrum is exactly d and d + eig(U^T U). */
+        double lo = INFINITY, hi = -INFINITY;
+        for (size_t i = 0; i < n; i++)
+            lo = fmin(lo, c->diag[i]), hi = fmax(hi, c->diag[i]);
+        double *g = calloc(k * k, sizeof *g), *ev = malloc(k * sizeof *ev);
+        if (!g || !ev) {
+            free(g);
+            free(ev);
+            return lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
+        }
+        cblas_dgemm(CblasRowMajor, CblasTrans, CblasNoTrans, (int)k, (int)k, (int)n, 1.0, c->u,
+                    (int)k, c->u, (int)k, 0.0, g, (int)k);
+        int rc = eigenvalues(g, k, ev, err);
+        if (!rc) {
+            info->min_eigenvalue = lo;
+            info->max_eigenvalue = hi + ev[k - 1];
+            info->condition = info->max_eigenvalue / lo;
+            info->method = lo == hi ? "exact" : "bound";
+        }
+        free(g);
+        free(ev);
+        return rc;
+    }
+    /* a large dense base: LAPACK's 1-norm condition estimate of the base */
+    double anorm = 0.0;
+    for (size_t j = 0; j < n; j++) {
+        double s = 0.0;
+        for (size_t i = 0; i < n; i++)
+            s += fabs(base_at(c, i, j));
+        anorm = fmax(anorm, s);
+    }
+    double rcond = NAN;
+    lapack_int rc = LAPACKE_dpocon(LAPACK_COL_MAJOR, 'U', (lapack_int)n, c->dense,
+                                   (lapack_int)n, anorm, &rcond);
+    if (rc != 0)
+        return lt_error_set(err, LT_ENUMERIC, NULL, 0, "LAPACK dpocon failed (%d)", (int)rc);
+    info->condition = 1.0 / rcond;
+    info->method = "estimate";
+    return LT_OK;
+}

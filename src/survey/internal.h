@@ -1,0 +1,73 @@
+/*
+ * Internal to the survey module: text scanning shared by the readers, and
+ * the raw table that the table readers fill.
+ */
+#ifndef LANTERN_SURVEY_INTERNAL_H
+#define LANTERN_SURVEY_INTERNAL_H
+
+#include "lantern/survey.h"
+
+/* Limits that turn absurd input into a clear error instead of a crash. */
+#define LT_TABLE_FILE_MAX ((size_t)8 << 30) /* 8 GiB of text */
+#define LT_TABLE_LINE_MAX (1u << 20)        /* 1 MiB in one line */
+#define LT_TABLE_FIELDS_MAX 100000          /* fields in one line */
+
+/* ---- lines of a text buffer, edited in place ---- */
+typedef struct lt_lines {
+    char *p;   /* the rest of the buffer */
+    long line; /* the number of the line last returned */
+} lt_lines;
+
+/* Start at buf, skipping a UTF-8 byte-order mark. */
+void lt_lines_start(lt_lines *it, char *buf);
+/* The next line, NUL-terminated and without its "\n" or "\r\n", or NULL at
+ * the end; *len gets its length. */
+char *lt_lines_next(lt_lines *it, size_t *len);
+
+/* Is the line empty or only blanks and tabs? */
+int lt_line_blank(const char *s);
+
+/* Split line in place into fields: at commas (csv, fields trimmed of blanks
+ * and tabs) or at runs of blanks and tabs. Returns the count, or -1 if
+ * there are more than max. */
+long lt_line_split(char *line, int csv, char **fields, long max);
+
+/* ---- roles of table columns ---- */
+enum { LT_ROLE_Z, LT_ROLE_ZHEL, LT_ROLE_OBS, LT_ROLE_ERR, LT_ROLE_ID, LT_ROLE_COUNT };
+
+typedef struct lt_colmap {
+    char *name[LT_ROLE_COUNT]; /* column names, NULL where a role is unmapped */
+    lt_obs kind;               /* which observable LT_ROLE_OBS holds */
+    char *text;                /* storage for the names */
+} lt_colmap;
+
+/* Parse "z=zcmb,zhel=zhel,mag=mb,err=dmb,id=name". */
+int lt_colmap_parse(const char *text, lt_colmap *map, lt_error *err);
+void lt_colmap_free(lt_colmap *map);
+const char *lt_role_name(int role, lt_obs kind);
+
+/* The mapped columns of a table, before any cut. */
+typedef struct lt_rawtable {
+    size_t n;
+    double *v[LT_ROLE_ID]; /* z, zhel, obs, err; NULL where unmapped */
+    char **id;             /* NULL where unmapped */
+    long *row;             /* 1-based data-row numbers */
+    long *line;            /* source lines (text), or 0 (FITS) */
+    char *warning;         /* one warning, or NULL */
+} lt_rawtable;
+
+void lt_rawtable_free(lt_rawtable *t);
+int lt_table_read_text(const char *path, const lt_colmap *map, lt_rawtable *t, lt_error *err);
+int lt_table_read_fits(const char *path, const lt_colmap *map, lt_rawtable *t, lt_error *err);
+
+/*
+ * The mode table: a header naming the first column and then one column per
+ * mode; a first data row whose first field is "amplitude" holding each
+ * mode's amplitude; then one row per object in table order, its first field
+ * the object's id (or row number). *u (n x k, row-major) and *amp are
+ * malloc'ed; ids[i] (may be NULL) are the first fields, for matching.
+ */
+int lt_modes_read(const char *path, size_t *n, size_t *k, double **u, double **amp,
+                  char ***ids, lt_error *err);
+
+#endif

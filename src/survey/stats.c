@@ -1,0 +1,59 @@
+/* Summary numbers of a survey: ranges, error statistics, a z histogram. */
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "lantern/survey.h"
+
+static int cmp_double(const void *a, const void *b)
+{
+    double x = *(const double *)a, y = *(const double *)b;
+    return (x > y) - (x < y);
+}
+
+int lt_survey_stats_compute(const lt_survey *s, size_t nbins, lt_survey_stats *st,
+                            lt_error *err)
+{
+    if (nbins < 1 || nbins > LT_HIST_MAX)
+        return lt_error_set(err, LT_EINPUT, NULL, 0, "histogram bins must be 1 to %d",
+                            LT_HIST_MAX);
+    memset(st, 0, sizeof *st);
+    st->z_min = st->zhel_min = st->obs_min = INFINITY;
+    st->z_max = st->zhel_max = st->obs_max = -INFINITY;
+    for (size_t i = 0; i < s->n; i++) {
+        st->z_min = fmin(st->z_min, s->z[i]);
+        st->z_max = fmax(st->z_max, s->z[i]);
+        st->zhel_min = fmin(st->zhel_min, s->zhel[i]);
+        st->zhel_max = fmax(st->zhel_max, s->zhel[i]);
+        st->obs_min = fmin(st->obs_min, s->obs[i]);
+        st->obs_max = fmax(st->obs_max, s->obs[i]);
+    }
+    st->err_min = st->err_median = st->err_max = st->err_mean = NAN;
+    if (s->err) {
+        double *e = malloc(s->n * sizeof *e);
+        if (!e)
+            return lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
+        memcpy(e, s->err, s->n * sizeof *e);
+        qsort(e, s->n, sizeof *e, cmp_double);
+        double sum = 0.0;
+        for (size_t i = 0; i < s->n; i++)
+            sum += e[i];
+        st->err_min = e[0];
+        st->err_max = e[s->n - 1];
+        st->err_median = s->n % 2 ? e[s->n / 2] : 0.5 * (e[s->n / 2 - 1] + e[s->n / 2]);
+        st->err_mean = sum / (double)s->n;
+        free(e);
+    }
+    st->nbins = nbins;
+    double w = (st->z_max - st->z_min) / (double)nbins;
+    for (size_t b = 0; b <= nbins; b++)
+        st->edges[b] = st->z_min + w * (double)b;
+    st->edges[nbins] = st->z_max;
+    for (size_t i = 0; i < s->n; i++) {
+        size_t b = w > 0 ? (size_t)((s->z[i] - st->z_min) / w) : 0;
+        if (b >= nbins)
+            b = nbins - 1; /* z_max belongs to the last bin */
+        st->counts[b]++;
+    }
+    return LT_OK;
+}

@@ -1,0 +1,376 @@
+/*
+ * Reading a survey: the table, the covariance terms, the cuts, and the
+ * factorisation that proves the total covariance positive definite.
+ */
+#include <math.h>
+#include <stdarg.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "internal.h"
+
+const char *lt_obs_name(lt_obs k)
+{
+    switch (k) {
+    case LT_OBS_MU: return "mu";
+    case LT_OBS_MAG: return "mag";
+    case LT_OBS_DL: return "dl";
+    default: return "?";
+    }
+}
+
+void lt_survey_spec_init(lt_survey_spec *s)
+{
+    memset(s, 0, sizeof *s);
+    s->zmin = NAN;
+    s->zmax = NAN;
+}
+
+void lt_survey_free(lt_survey *s)
+{
+    if (!s)
+        return;
+    free(s->z);
+    free(s->zhel);
+    free(s->obs);
+    free(s->err);
+    if (s->id)
+        for (size_t i = 0; i < s->n; i++)
+            free(s->id[i]);
+    free(s->id);
+    free(s->row);
+    lt_cov_free(s->cov);
+    for (size_t i = 0; i < s->nwarnings; i++)
+        free(s->warnings[i]);
+    free(s->warnings);
+    free(s);
+}
+
+int lt_survey_warn(lt_survey *s, const char *fmt, ...)
+{
+    char buf[1024];
+    va_list ap;
+    va_start(ap, fmt);
+    vsnprintf(buf, sizeof buf, fmt, ap);
+    va_end(ap);
+    char **w = realloc(s->warnings, (s->nwarnings + 1) * sizeof *w);
+    if (!w)
+        return LT_ENOMEM;
+    s->warnings = w;
+    if (!(w[s->nwarnings] = strdup(buf)))
+        return LT_ENOMEM;
+    s->nwarnings++;
+    return LT_OK;
+}
+
+static int cmp_str(const void *a, const void *b)
+{
+    return strcmp(*(char *const *)a, *(char *const *)b);
+}
+
+/* A sorted list of the ids in a file, one a line ('#' lines and blanks
+ * skipped). */
+typedef struct {
+    size_t n;
+    char **id;
+    char *buf;
+} idlist;
+
+static void idlist_free(idlist *l)
+{
+    free(l->id);
+    free(l->buf);
+}
+
+static int idlist_read(const char *path, idlist *l, lt_error *err)
+{
+    memset(l, 0, sizeof *l);
+    size_t size;
+    int rc = lt_file_read(path, LT_TABLE_FILE_MAX, &l->buf, &size, err);
+    if (rc)
+        return rc;
+    lt_lines it;
+    lt_lines_start(&it, l->buf);
+    char *s;
+    size_t len, cap = 0;
+    while ((s = lt_lines_next(&it, &len))) {
+        while (*s == ' ' || *s == '\t')
+            s++;
+        size_t m = strlen(s);
+        while (m && (s[m - 1] == ' ' || s[m - 1] == '\t'))
+            s[--m] = '\0';
+        if (!*s || *s == '#')
+            continue;
+        if (l->n == cap) {
+            cap = cap ? 2 * cap : 256;
+            char **ni = realloc(l->id, cap * sizeof *ni);
+            if (!ni) {
+                idlist_free(l);
+                return lt_error_set(err, LT_ENOMEM, path, it.line, "out of memory");
+            }
+            l->id = ni;
+        }
+        l->id[l->n++] = s;
+    }
+    if (l->n == 0) {
+        idlist_free(l);
+        return lt_error_set(err, LT_EINPUT, path, 0, "the id list is empty");
+    }
+    qsort(l->id, l->n, sizeof *l->id, cmp_str);
+    return LT_OK;
+}
+
+static int idlist_has(const idlist *l, const char *id)
+{
+    return bsearch(&id, l->id, l->n, sizeof *l->id, cmp_str) != NULL;
+}
+
+/* The covariance terms given as files, over all n rows of the table. */
+static int build_cov(const lt_survey_spec *spec, const lt_rawtable *t, lt_survey *s,
+                     lt_cov **out, lt_error *err)
+{
+    size_t n = t->n;
+    lt_cov *c = lt_cov_alloc(n, err);
+    if (!c)
+        return LT_ENOMEM;
+    int rc = LT_OK;
+    if (!spec->no_err_diag) {
+        double *var = malloc(n * sizeof *var);
+        if (!var) {
+            lt_cov_free(c);
+            return lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
+        }
+        for (size_t i = 0; i < n; i++)
+            var[i] = t->v[LT_ROLE_ERR][i] * t->v[LT_ROLE_ERR][i];
+        rc = lt_cov_add_diag(c, var, err);
+        free(var);
+    }
+    for (size_t f = 0; !rc && f < spec->ncov; f++) {
+        double *m = NULL;
+        size_t mn = 0;
+        rc = lt_matrix_read(spec->cov[f], &m, &mn, err);
+        if (!rc && mn != n)
+            rc = lt_error_set(err, LT_EINPUT, spec->cov[f], 0,
+                              "the matrix is %zu x %zu but the table %s has %zu objects "
+                              "(the covariance must cover every row, before cuts)",
+                              mn, mn, spec->data, n);
+        if (!rc)
+            rc = lt_cov_add_dense(c, m, err);
+        free(m);
+    }
+    if (!rc && spec->modes) {
+        size_t mn = 0, k = 0;
+        double *u = NULL, *amp = NULL;
+        char **ids = NULL;
+        rc = lt_modes_read(spec->modes, &mn, &k, &u, &amp, &ids, err);
+        if (!rc && mn != n)
+            rc = lt_error_set(err, LT_EINPUT, spec->modes, 0,
+                              "the mode table has %zu object rows but the table %s has %zu",
+                              mn, spec->data, n);
+        for (size_t i = 0; !rc && i < n; i++) {
+            char num[32];
+            snprintf(num, sizeof num, "%zu", i + 1);
+            if (strcmp(ids[i], num) != 0 && !(t->id && strcmp(ids[i], t->id[i]) == 0))
+                rc = lt_error_set(err, LT_EINPUT, spec->modes, 0,
+                                  "object row %zu is labelled '%s', but the table's object "
+                                  "%zu is %s%s%s: rows must follow the table's order",
+                                  i + 1, ids[i], i + 1, t->id ? "'" : "row ",
+                                  t->id ? t->id[i] : num, t->id ? "'" : "");
+        }
+        if (!rc)
+            rc = lt_cov_add_modes(c, k, u, amp, err);
+        if (ids)
+            for (size_t i = 0; i < mn; i++)
+                free(ids[i]);
+        free(ids);
+        free(u);
+        free(amp);
+    }
+    if (!rc && spec->no_err_diag && spec->ncov == 0 && !spec->modes)
+        rc = lt_error_set(err, LT_EINPUT, NULL, 0,
+                          "--no-err-diag leaves no covariance: give --cov with the full "
+                          "matrix, or drop --no-err-diag");
+    (void)s;
+    if (rc) {
+        lt_cov_free(c);
+        return rc;
+    }
+    *out = c;
+    return LT_OK;
+}
+
+/* Which rows survive the cuts. */
+static int select_rows(const lt_survey_spec *spec, const lt_rawtable *t, lt_survey *s,
+                       size_t **out, size_t *m, lt_error *err)
+{
+    idlist keep = {0}, drop = {0};
+    int rc = LT_OK;
+    if ((spec->keep_ids || spec->drop_ids) && !t->id)
+        return lt_error_set(err, LT_EINPUT, "--columns", 0,
+                            "id lists need an id column: add id=NAME to --columns");
+    if (spec->keep_ids && (rc = idlist_read(spec->keep_ids, &keep, err)))
+        return rc;
+    if (spec->drop_ids && (rc = idlist_read(spec->drop_ids, &drop, err))) {
+        idlist_free(&keep);
+        return rc;
+    }
+    size_t *idx = malloc((t->n ? t->n : 1) * sizeof *idx), k = 0;
+    if (!idx) {
+        rc = lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
+        goto done;
+    }
+    for (size_t i = 0; i < t->n; i++) {
+        double z = t->v[LT_ROLE_Z][i];
+        if (!isnan(spec->zmin) && z < spec->zmin)
+            continue;
+        if (!isnan(spec->zmax) && z > spec->zmax)
+            continue;
+        if (spec->keep_ids && !idlist_has(&keep, t->id[i]))
+            continue;
+        if (spec->drop_ids && idlist_has(&drop, t->id[i]))
+            continue;
+        idx[k++] = i;
+    }
+    if (k == 0) {
+        free(idx);
+        rc = lt_error_set(err, LT_EINPUT, spec->data, 0,
+                          "no objects are left after the cuts (%zu read)", t->n);
+        goto done;
+    }
+    if (k < t->n)
+        lt_survey_warn(s, "cuts keep %zu of the %zu objects read", k, t->n);
+    *out = idx;
+    *m = k;
+done:
+    idlist_free(&keep);
+    idlist_free(&drop);
+    return rc;
+}
+
+/* Say so when ids repeat: id lists and residual tables would be ambiguous. */
+static void warn_duplicate_ids(lt_survey *s)
+{
+    if (!s->id || s->n < 2)
+        return;
+    char **sorted = malloc(s->n * sizeof *sorted);
+    if (!sorted)
+        return;
+    memcpy(sorted, s->id, s->n * sizeof *sorted);
+    qsort(sorted, s->n, sizeof *sorted, cmp_str);
+    size_t dups = 0;
+    const char *first = NULL;
+    for (size_t i = 1; i < s->n; i++)
+        if (strcmp(sorted[i], sorted[i - 1]) == 0) {
+            if (!first)
+                first = sorted[i];
+            dups++;
+        }
+    if (dups)
+        lt_survey_warn(s, "%zu ids appear more than once (the first: '%s')", dups, first);
+    free(sorted);
+}
+
+lt_survey *lt_survey_read(const lt_survey_spec *spec, lt_error *err)
+{
+    if (!spec->data) {
+        lt_error_set(err, LT_EINPUT, "--data", 0, "no data table given (--data FILE)");
+        return NULL;
+    }
+    lt_colmap map;
+    if (lt_colmap_parse(spec->columns, &map, err))
+        return NULL;
+    if (!map.name[LT_ROLE_ERR] && !spec->no_err_diag) {
+        lt_error_set(err, LT_EINPUT, "--columns", 0,
+                     "map the error column (err=NAME), or give --no-err-diag with a --cov "
+                     "that holds the statistical errors");
+        lt_colmap_free(&map);
+        return NULL;
+    }
+    lt_rawtable t;
+    int rc = lt_path_is_fits(spec->data) ? lt_table_read_fits(spec->data, &map, &t, err)
+                                         : lt_table_read_text(spec->data, &map, &t, err);
+    if (rc) {
+        lt_colmap_free(&map);
+        return NULL;
+    }
+    lt_survey *s = calloc(1, sizeof *s);
+    lt_cov *full = NULL;
+    size_t *idx = NULL, m = 0;
+    if (!s) {
+        lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
+        goto fail;
+    }
+    s->kind = map.kind;
+    s->n_read = t.n;
+    if (t.warning)
+        lt_survey_warn(s, "%s", t.warning);
+    if (!map.name[LT_ROLE_ZHEL])
+        lt_survey_warn(s, "no zhel column: heliocentric redshifts are taken equal to z");
+    if (build_cov(spec, &t, s, &full, err))
+        goto fail;
+    if (select_rows(spec, &t, s, &idx, &m, err))
+        goto fail;
+
+    s->n = m;
+    s->z = malloc(m * sizeof *s->z);
+    s->zhel = malloc(m * sizeof *s->zhel);
+    s->obs = malloc(m * sizeof *s->obs);
+    s->row = malloc(m * sizeof *s->row);
+    if (map.name[LT_ROLE_ERR])
+        s->err = malloc(m * sizeof *s->err);
+    if (t.id)
+        s->id = calloc(m, sizeof *s->id);
+    if (!s->z || !s->zhel || !s->obs || !s->row || (map.name[LT_ROLE_ERR] && !s->err) ||
+        (t.id && !s->id)) {
+        lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
+        goto fail;
+    }
+    for (size_t a = 0; a < m; a++) {
+        size_t i = idx[a];
+        s->z[a] = t.v[LT_ROLE_Z][i];
+        s->zhel[a] = map.name[LT_ROLE_ZHEL] ? t.v[LT_ROLE_ZHEL][i] : t.v[LT_ROLE_Z][i];
+        s->obs[a] = t.v[LT_ROLE_OBS][i];
+        if (s->err)
+            s->err[a] = t.v[LT_ROLE_ERR][i];
+        s->row[a] = t.row[i];
+        if (s->id) { /* move the strings over */
+            s->id[a] = t.id[i];
+            t.id[i] = NULL;
+        }
+    }
+    warn_duplicate_ids(s);
+    s->cov = m == t.n ? full : lt_cov_select(full, m, idx, err);
+    if (!s->cov)
+        goto fail;
+    if (s->cov != full)
+        lt_cov_free(full);
+    full = NULL;
+    if ((rc = lt_cov_factor(s->cov, err))) {
+        /* Say which matrix and which object, so the user can look. */
+        char what[512] = "diag(err^2)";
+        if (spec->no_err_diag)
+            what[0] = '\0';
+        for (size_t f = 0; f < spec->ncov; f++)
+            snprintf(what + strlen(what), sizeof what - strlen(what), "%s%s",
+                     what[0] ? " + " : "", spec->cov[f]);
+        if (spec->modes)
+            snprintf(what + strlen(what), sizeof what - strlen(what), "%smodes %s",
+                     what[0] ? " + " : "", spec->modes);
+        char msg[LT_ERROR_MSG_MAX + sizeof what + 32];
+        snprintf(msg, sizeof msg, "%s; the total is %s", err ? err->msg : "", what);
+        lt_error_set(err, rc, spec->ncov ? spec->cov[0] : spec->data, 0, "%s", msg);
+        goto fail;
+    }
+    free(idx);
+    lt_rawtable_free(&t);
+    lt_colmap_free(&map);
+    return s;
+fail:
+    free(idx);
+    lt_cov_free(full);
+    lt_survey_free(s);
+    lt_rawtable_free(&t);
+    lt_colmap_free(&map);
+    return NULL;
+}

@@ -1,0 +1,586 @@
+/*
+ * Survey tables: text (whitespace or CSV) and FITS binary tables, read into
+ * the mapped columns only. The rules are documented at lt_survey_read in
+ * include/lantern/survey.h.
+ */
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include <fitsio.h>
+
+#include "internal.h"
+
+/* ---- lines and fields ---- */
+void lt_lines_start(lt_lines *it, char *buf)
+{
+    if (memcmp(buf, "\xEF\xBB\xBF", 3) == 0)
+        buf += 3;
+    it->p = buf;
+    it->line = 0;
+}
+
+char *lt_lines_next(lt_lines *it, size_t *len)
+{
+    if (!*it->p)
+        return NULL;
+    char *s = it->p, *end = strchr(s, '\n');
+    if (end) {
+        *end = '\0';
+        it->p = end + 1;
+    } else {
+        it->p = s + strlen(s);
+    }
+    size_t n = end ? (size_t)(end - s) : strlen(s);
+    if (n && s[n - 1] == '\r')
+        s[--n] = '\0';
+    it->line++;
+    *len = n;
+    return s;
+}
+
+int lt_line_blank(const char *s)
+{
+    for (; *s; s++)
+        if (*s != ' ' && *s != '\t')
+            return 0;
+    return 1;
+}
+
+static char *trim(char *s)
+{
+    while (*s == ' ' || *s == '\t')
+        s++;
+    size_t n = strlen(s);
+    while (n && (s[n - 1] == ' ' || s[n - 1] == '\t'))
+        s[--n] = '\0';
+    return s;
+}
+
+long lt_line_split(char *line, int csv, char **fields, long max)
+{
+    long n = 0;
+    if (csv) {
+        char *p = line;
+        for (;;) {
+            char *comma = strchr(p, ',');
+            if (comma)
+                *comma = '\0';
+            if (n == max)
+                return -1;
+            fields[n++] = trim(p);
+            if (!comma)
+                break;
+            p = comma + 1;
+        }
+        return n;
+    }
+    char *p = line;
+    for (;;) {
+        while (*p == ' ' || *p == '\t')
+            p++;
+        if (!*p)
+            break;
+        if (n == max)
+            return -1;
+        fields[n++] = p;
+        while (*p && *p != ' ' && *p != '\t')
+            p++;
+        if (*p)
+            *p++ = '\0';
+    }
+    return n;
+}
+
+/* ---- column roles ---- */
+const char *lt_role_name(int role, lt_obs kind)
+{
+    switch (role) {
+    case LT_ROLE_Z: return "z";
+    case LT_ROLE_ZHEL: return "zhel";
+    case LT_ROLE_OBS: return lt_obs_name(kind);
+    case LT_ROLE_ERR: return "err";
+    case LT_ROLE_ID: return "id";
+    default: return "?";
+    }
+}
+
+void lt_colmap_free(lt_colmap *map)
+{
+    free(map->text);
+    memset(map, 0, sizeof *map);
+}
+
+int lt_colmap_parse(const char *text, lt_colmap *map, lt_error *err)
+{
+    memset(map, 0, sizeof *map);
+    if (!text || !*text)
+        return lt_error_set(err, LT_EINPUT, "--columns", 0,
+                            "no column mapping given; say which column holds what, e.g. "
+                            "--columns z=zcmb,mag=mb,err=dmb");
+    map->text = strdup(text);
+    if (!map->text)
+        return lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
+    int have_obs = 0;
+    char *save = NULL;
+    for (char *item = strtok_r(map->text, ",", &save); item; item = strtok_r(NULL, ",", &save)) {
+        char *eq = strchr(item, '=');
+        if (!eq || eq == item || !eq[1]) {
+            lt_error_set(err, LT_EINPUT, "--columns", 0,
+                         "'%s' is not role=column (roles: z, zhel, mu, mag, dl, err, id)",
+                         item);
+            goto fail;
+        }
+        *eq = '\0';
+        const char *role = item, *name = eq + 1;
+        int r = -1;
+        lt_obs kind = LT_OBS_MU;
+        if (strcmp(role, "z") == 0)
+            r = LT_ROLE_Z;
+        else if (strcmp(role, "zhel") == 0)
+            r = LT_ROLE_ZHEL;
+        else if (strcmp(role, "err") == 0)
+            r = LT_ROLE_ERR;
+        else if (strcmp(role, "id") == 0)
+            r = LT_ROLE_ID;
+        else if (strcmp(role, "mu") == 0)
+            r = LT_ROLE_OBS, kind = LT_OBS_MU;
+        else if (strcmp(role, "mag") == 0)
+            r = LT_ROLE_OBS, kind = LT_OBS_MAG;
+        else if (strcmp(role, "dl") == 0)
+            r = LT_ROLE_OBS, kind = LT_OBS_DL;
+        if (r < 0) {
+            lt_error_set(err, LT_EINPUT, "--columns", 0,
+                         "unknown role '%s' (roles: z, zhel, mu, mag, dl, err, id)", role);
+            goto fail;
+        }
+        if (map->name[r]) {
+            lt_error_set(err, LT_EINPUT, "--columns", 0,
+                         r == LT_ROLE_OBS ? "more than one observable (mu, mag, dl) mapped"
+                                          : "role '%s' mapped twice",
+                         role);
+            goto fail;
+        }
+        map->name[r] = (char *)name;
+        if (r == LT_ROLE_OBS)
+            map->kind = kind, have_obs = 1;
+    }
+    if (!map->name[LT_ROLE_Z] || !have_obs) {
+        lt_error_set(err, LT_EINPUT, "--columns", 0,
+                     "map at least z and one observable (mu, mag or dl), e.g. "
+                     "z=zcmb,mag=mb,err=dmb");
+        goto fail;
+    }
+    for (int a = 0; a < LT_ROLE_COUNT; a++)
+        for (int b = a + 1; b < LT_ROLE_COUNT; b++)
+            if (map->name[a] && map->name[b] && strcmp(map->name[a], map->name[b]) == 0 &&
+                !(a == LT_ROLE_Z && b == LT_ROLE_ZHEL)) {
+                lt_error_set(err, LT_EINPUT, "--columns", 0,
+                             "column '%s' is mapped to both %s and %s", map->name[a],
+                             lt_role_name(a, map->kind), lt_role_name(b, map->kind));
+                goto fail;
+            }
+    return LT_OK;
+fail:
+    lt_colmap_free(map);
+    return err ? err->code : LT_EINPUT;
+}
+
+/* ---- the raw table ---- */
+void lt_rawtable_free(lt_rawtable *t)
+{
+    for (int r = 0; r < LT_ROLE_ID; r++)
+        free(t->v[r]);
+    if (t->id)
+        for (size_t i = 0; i < t->n; i++)
+            free(t->id[i]);
+    free(t->id);
+    free(t->row);
+    free(t->line);
+    free(t->warning);
+    memset(t, 0, sizeof *t);
+}
+
+/* Grow every mapped array of t to hold cap rows. */
+static int grow(lt_rawtable *t, const lt_colmap *map, size_t cap)
+{
+    for (int r = 0; r < LT_ROLE_ID; r++) {
+        if (!map->name[r])
+            continue;
+        double *v = realloc(t->v[r], cap * sizeof *v);
+        if (!v)
+            return -1;
+        t->v[r] = v;
+    }
+    if (map->name[LT_ROLE_ID]) {
+        char **id = realloc(t->id, cap * sizeof *id);
+        if (!id)
+            return -1;
+        t->id = id;
+    }
+    long *row = realloc(t->row, cap * sizeof *row);
+    if (!row)
+        return -1;
+    t->row = row;
+    long *line = realloc(t->line, cap * sizeof *line);
+    if (!line)
+        return -1;
+    t->line = line;
+    return 0;
+}
+
+/* Check one value of a mapped numeric column; the message says what to do. */
+static int check_value(const char *path, long line, const lt_colmap *map, int role,
+                       double v, lt_error *err)
+{
+    const char *col = map->name[role], *rn = lt_role_name(role, map->kind);
+    if ((role == LT_ROLE_Z || role == LT_ROLE_ZHEL) && !(v > 0.0))
+        return lt_error_set(err, LT_EINPUT, path, line,
+                            "column '%s' (%s) is %g: redshifts must be > 0; remove the row "
+                            "or cut it with --zmin",
+                            col, rn, v);
+    if (role == LT_ROLE_ERR && !(v > 0.0))
+        return lt_error_set(err, LT_EINPUT, path, line,
+                            "column '%s' (err) is %g: errors must be > 0", col, v);
+    if (role == LT_ROLE_OBS && map->kind == LT_OBS_DL && !(v > 0.0))
+        return lt_error_set(err, LT_EINPUT, path, line,
+                            "column '%s' (dl) is %g: luminosity distances must be > 0", col,
+                            v);
+    return LT_OK;
+}
+
+int lt_table_read_text(const char *path, const lt_colmap *map, lt_rawtable *t, lt_error *err)
+{
+    memset(t, 0, sizeof *t);
+    char *buf = NULL;
+    size_t size = 0;
+    if (lt_file_read(path, LT_TABLE_FILE_MAX, &buf, &size, err))
+        return err ? err->code : LT_EINPUT;
+    char **fields = malloc(LT_TABLE_FIELDS_MAX * sizeof *fields);
+    char **header = NULL;
+    int rc = LT_OK;
+    if (!fields) {
+        rc = lt_error_set(err, LT_ENOMEM, path, 0, "out of memory");
+        goto done;
+    }
+    if (size == 0) {
+        rc = lt_error_set(err, LT_EINPUT, path, 0, "file is empty");
+        goto done;
+    }
+    if (memchr(buf, '\0', size)) {
+        rc = lt_error_set(err, LT_EINPUT, path, 0,
+                          "holds a NUL byte: not a text table (FITS files need a .fits, "
+                          ".fit or .fts name)");
+        goto done;
+    }
+
+    lt_lines it;
+    lt_lines_start(&it, buf);
+    char *s;
+    size_t len;
+    /* The header: the first non-blank line. */
+    while ((s = lt_lines_next(&it, &len)) && lt_line_blank(s))
+        ;
+    if (!s) {
+        rc = lt_error_set(err, LT_EINPUT, path, 0, "file holds only blank lines: no header");
+        goto done;
+    }
+    if (len > LT_TABLE_LINE_MAX) {
+        rc = lt_error_set(err, LT_EINPUT, path, it.line, "line is longer than %u bytes",
+                          LT_TABLE_LINE_MAX);
+        goto done;
+    }
+    long header_line = it.line;
+    while (*s == '#' || *s == ' ' || *s == '\t')
+        s++;
+    int csv = strchr(s, ',') != NULL;
+    long h = lt_line_split(s, csv, fields, LT_TABLE_FIELDS_MAX);
+    if (h <= 0) {
+        rc = lt_error_set(err, LT_EINPUT, path, header_line,
+                          h < 0 ? "header has more than %d names" : "header names no columns",
+                          LT_TABLE_FIELDS_MAX);
+        goto done;
+    }
+    header = malloc((size_t)h * sizeof *header);
+    if (!header) {
+        rc = lt_error_set(err, LT_ENOMEM, path, 0, "out of memory");
+        goto done;
+    }
+    memcpy(header, fields, (size_t)h * sizeof *header);
+    for (long a = 0; a < h; a++) {
+        if (!*header[a]) {
+            rc = lt_error_set(err, LT_EINPUT, path, header_line,
+                              "header name number %ld is empty", a + 1);
+            goto done;
+        }
+        for (long b = 0; b < a; b++)
+            if (strcmp(header[a], header[b]) == 0) {
+                rc = lt_error_set(err, LT_EINPUT, path, header_line,
+                                  "header names '%s' twice (columns %ld and %ld); rename one",
+                                  header[a], b + 1, a + 1);
+                goto done;
+            }
+    }
+    /* Which field holds each mapped role. */
+    long col[LT_ROLE_COUNT];
+    for (int r = 0; r < LT_ROLE_COUNT; r++) {
+        col[r] = -1;
+        if (!map->name[r])
+            continue;
+        for (long a = 0; a < h; a++)
+            if (strcmp(header[a], map->name[r]) == 0)
+                col[r] = a;
+        if (col[r] < 0) {
+            char names[1024] = "";
+            for (long a = 0; a < h && strlen(names) < 900; a++)
+                snprintf(names + strlen(names), sizeof names - strlen(names), "%s%s",
+                         a ? ", " : "", header[a]);
+            rc = lt_error_set(err, LT_EINPUT, path, header_line,
+                              "no column '%s' for %s (the header names: %s)", map->name[r],
+                              lt_role_name(r, map->kind), names);
+            goto done;
+        }
+    }
+
+    long first_fields = -1, first_line = 0;
+    size_t cap = 0;
+    while ((s = lt_lines_next(&it, &len))) {
+        if (len > LT_TABLE_LINE_MAX) {
+            rc = lt_error_set(err, LT_EINPUT, path, it.line, "line is longer than %u bytes",
+                              LT_TABLE_LINE_MAX);
+            goto done;
+        }
+        if (lt_line_blank(s))
+            continue;
+        char *q = s;
+        while (*q == ' ' || *q == '\t')
+            q++;
+        if (*q == '#')
+            continue;
+        long nf = lt_line_split(s, csv, fields, LT_TABLE_FIELDS_MAX);
+        if (nf < 0) {
+            rc = lt_error_set(err, LT_EINPUT, path, it.line, "more than %d fields",
+                              LT_TABLE_FIELDS_MAX);
+            goto done;
+        }
+        if (first_fields < 0) {
+            first_fields = nf, first_line = it.line;
+            if (nf > h) {
+                rc = lt_error_set(err, LT_EINPUT, path, it.line,
+                                  "row has %ld fields but the header (line %ld) names %ld "
+                                  "columns: columns would shift; fix the header",
+                                  nf, header_line, h);
+                goto done;
+            }
+            if (nf < h) {
+                for (int r = 0; r < LT_ROLE_COUNT; r++)
+                    if (col[r] >= nf) {
+                        rc = lt_error_set(err, LT_EINPUT, path, it.line,
+                                          "column '%s' (%s) is field %ld, but rows have %ld "
+                                          "fields",
+                                          map->name[r], lt_role_name(r, map->kind),
+                                          col[r] + 1, nf);
+                        goto done;
+                    }
+                char names[512] = "";
+                for (long a = nf; a < h && strlen(names) < 400; a++)
+                    snprintf(names + strlen(names), sizeof names - strlen(names), "%s%s",
+                             a > nf ? ", " : "", header[a]);
+                char msg[768];
+                snprintf(msg, sizeof msg,
+                         "%s:%ld: the header names %ld columns but rows have %ld fields; "
+                         "the trailing name%s %s, filled by no row and mapped to no role, "
+                         "%s ignored",
+                         path, header_line, h, nf, h - nf > 1 ? "s" : "", names,
+                         h - nf > 1 ? "are" : "is");
+                t->warning = strdup(msg);
+            }
+        } else if (nf != first_fields) {
+            rc = lt_error_set(err, LT_EINPUT, path, it.line,
+                              "row has %ld fields but the first data row (line %ld) has %ld: "
+                              "%s",
+                              nf, first_line, first_fields,
+                              nf < first_fields ? "a short row" : "an extra field");
+            goto done;
+        }
+        if (t->n == cap) {
+            cap = cap ? 2 * cap : 1024;
+            if (grow(t, map, cap)) {
+                rc = lt_error_set(err, LT_ENOMEM, path, it.line, "out of memory");
+                goto done;
+            }
+        }
+        size_t i = t->n;
+        for (int r = 0; r < LT_ROLE_ID; r++) {
+            if (col[r] < 0)
+                continue;
+            double v;
+            const char *f = fields[col[r]];
+            if (lt_parse_double(f, &v)) {
+                rc = lt_error_set(err, LT_EINPUT, path, it.line,
+                                  "column '%s' (%s): '%s' is not a finite number",
+                                  map->name[r], lt_role_name(r, map->kind), f);
+                goto done;
+            }
+            if ((rc = check_value(path, it.line, map, r, v, err)))
+                goto done;
+            t->v[r][i] = v;
+        }
+        if (col[LT_ROLE_ID] >= 0) {
+            t->id[i] = strdup(fields[col[LT_ROLE_ID]]);
+            if (!t->id[i]) {
+                rc = lt_error_set(err, LT_ENOMEM, path, it.line, "out of memory");
+                goto done;
+            }
+        }
+        t->row[i] = (long)i + 1;
+        t->line[i] = it.line;
+        t->n++;
+    }
+    if (t->n == 0)
+        rc = lt_error_set(err, LT_EINPUT, path, header_line,
+                          "no data rows after the header");
+done:
+    free(header);
+    free(fields);
+    free(buf);
+    if (rc)
+        lt_rawtable_free(t);
+    return rc;
+}
+
+/* ---- FITS binary tables ---- */
+static int fits_fail(const char *path, int status, const char *what, lt_error *err)
+{
+    char text[FLEN_STATUS];
+    fits_get_errstatus(status, text);
+    fits_clear_errmsg();
+    return lt_error_set(err, LT_EINPUT, path, 0, "%s: %s (CFITSIO status %d)", what, text,
+                        status);
+}
+
+int lt_table_read_fits(const char *path, const lt_colmap *map, lt_rawtable *t, lt_error *err)
+{
+    memset(t, 0, sizeof *t);
+    fitsfile *f = NULL;
+    int status = 0, rc = LT_OK;
+    size_t n = 0, ids_ready = 0;
+    /* fits_open_table moves to the first table HDU unless the name picks
+     * one ("file.fits[2]", "file.fits[NAME]"). */
+    if (fits_open_table(&f, path, READONLY, &status))
+        return fits_fail(path, status, "cannot open a FITS table", err);
+    long nrows = 0;
+    int ncols = 0;
+    fits_get_num_rows(f, &nrows, &status);
+    fits_get_num_cols(f, &ncols, &status);
+    if (status) {
+        rc = fits_fail(path, status, "cannot read the table size", err);
+        goto done;
+    }
+    if (nrows <= 0) {
+        rc = lt_error_set(err, LT_EINPUT, path, 0, "the FITS table has no rows");
+        goto done;
+    }
+    int col[LT_ROLE_COUNT];
+    for (int r = 0; r < LT_ROLE_COUNT; r++) {
+        col[r] = 0;
+        if (!map->name[r])
+            continue;
+        /* exact names only: CFITSIO would read '*' and '#' as wildcards */
+        char key[FLEN_KEYWORD], val[FLEN_VALUE];
+        for (int c = 1; c <= ncols && !col[r]; c++) {
+            int st = 0;
+            snprintf(key, sizeof key, "TTYPE%d", c);
+            if (fits_read_key(f, TSTRING, key, val, NULL, &st) == 0 &&
+                strcmp(val, map->name[r]) == 0)
+                col[r] = c;
+        }
+        if (!col[r]) {
+            char names[1024] = "";
+            for (int c = 1; c <= ncols && strlen(names) < 900; c++) {
+                int st = 0;
+                snprintf(key, sizeof key, "TTYPE%d", c);
+                if (fits_read_key(f, TSTRING, key, val, NULL, &st) == 0)
+                    snprintf(names + strlen(names), sizeof names - strlen(names), "%s%s",
+                             c > 1 ? ", " : "", val);
+            }
+            fits_clear_errmsg();
+            rc = lt_error_set(err, LT_EINPUT, path, 0, "no column '%s' for %s (columns: %s)",
+                              map->name[r], lt_role_name(r, map->kind), names);
+            goto done;
+        }
+    }
+    n = (size_t)nrows;
+    if (grow(t, map, n)) {
+        rc = lt_error_set(err, LT_ENOMEM, path, 0, "out of memory for %zu rows", n);
+        goto done;
+    }
+    if (t->id)
+        for (size_t i = 0; i < n; i++)
+            t->id[i] = NULL; /* so that a failure part-way frees only what it made */
+    ids_ready = 1;
+    for (int r = 0; r < LT_ROLE_ID; r++) {
+        if (!col[r])
+            continue;
+        int typecode;
+        long repeat, width;
+        fits_get_coltype(f, col[r], &typecode, &repeat, &width, &status);
+        if (!status && (typecode == TSTRING || repeat != 1)) {
+            rc = lt_error_set(err, LT_EINPUT, path, 0,
+                              "column '%s' (%s) is not a scalar numeric column",
+                              map->name[r], lt_role_name(r, map->kind));
+            goto done;
+        }
+        double nul = NAN;
+        int anynul = 0;
+        fits_read_col(f, TDOUBLE, col[r], 1, 1, nrows, &nul, t->v[r], &anynul, &status);
+        if (status) {
+            rc = fits_fail(path, status, "cannot read a column", err);
+            goto done;
+        }
+        for (size_t i = 0; i < n; i++) {
+            if (!isfinite(t->v[r][i])) {
+                rc = lt_error_set(err, LT_EINPUT, path, 0,
+                                  "row %zu: column '%s' (%s) is not a finite number", i + 1,
+                                  map->name[r], lt_role_name(r, map->kind));
+                goto done;
+            }
+            char where[64];
+            snprintf(where, sizeof where, "%s: row %zu", path, i + 1);
+            if ((rc = check_value(where, 0, map, r, t->v[r][i], err)))
+                goto done;
+        }
+    }
+    if (col[LT_ROLE_ID]) {
+        int typecode;
+        long repeat, width;
+        fits_get_coltype(f, col[LT_ROLE_ID], &typecode, &repeat, &width, &status);
+        long w = typecode == TSTRING ? repeat : 32;
+        for (size_t i = 0; i < n && !status; i++) {
+            char *cell = calloc((size_t)w + 1, 1);
+            if (!cell) {
+                rc = lt_error_set(err, LT_ENOMEM, path, 0, "out of memory");
+                goto done;
+            }
+            t->id[i] = cell;
+            int anynul = 0;
+            fits_read_col(f, TSTRING, col[LT_ROLE_ID], (LONGLONG)i + 1, 1, 1, "", &t->id[i],
+                          &anynul, &status);
+        }
+        if (status) {
+            rc = fits_fail(path, status, "cannot read the id column", err);
+            goto done;
+        }
+    }
+    for (size_t i = 0; i < n; i++)
+        t->row[i] = (long)i + 1, t->line[i] = 0;
+    t->n = n;
+done:
+    status = 0;
+    fits_close_file(f, &status);
+    if (rc) {
+        t->n = ids_ready ? n : 0; /* every id is then a string or NULL */
+        lt_rawtable_free(t);
+    }
+    return rc;
+}

@@ -1,0 +1,70 @@
+/* Whole-file reading: see include/lantern/util.h. */
+#include <errno.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <sys/stat.h>
+
+#include "lantern/util.h"
+
+int lt_file_read(const char *path, size_t max_bytes, char **data, size_t *size,
+                 lt_error *err)
+{
+    struct stat st;
+    if (stat(path, &st) != 0)
+        return lt_error_set(err, LT_EINPUT, path, 0, "cannot open: %s", strerror(errno));
+    if (S_ISDIR(st.st_mode))
+        return lt_error_set(err, LT_EINPUT, path, 0,
+                            "is a directory; give the path of a file");
+    FILE *f = fopen(path, "rb");
+    if (!f)
+        return lt_error_set(err, LT_EINPUT, path, 0, "cannot open: %s", strerror(errno));
+    /* Read in chunks rather than trusting st_size: pipes and /proc files
+     * report 0. */
+    size_t cap = st.st_size > 0 ? (size_t)st.st_size + 1 : 65536, n = 0;
+    if (cap > max_bytes + 1)
+        cap = max_bytes + 1;
+    char *buf = malloc(cap + 1);
+    if (!buf) {
+        fclose(f);
+        return lt_error_set(err, LT_ENOMEM, path, 0, "out of memory reading the file");
+    }
+    for (;;) {
+        if (n == cap) {
+            if (cap > max_bytes) {
+                free(buf);
+                fclose(f);
+                return lt_error_set(err, LT_EINPUT, path, 0,
+                                    "file is larger than the limit of %zu bytes",
+                                    max_bytes);
+            }
+            size_t ncap = cap * 2 > max_bytes + 1 ? max_bytes + 1 : cap * 2;
+            char *nb = realloc(buf, ncap + 1);
+            if (!nb) {
+                free(buf);
+                fclose(f);
+                return lt_error_set(err, LT_ENOMEM, path, 0, "out of memory reading the file");
+            }
+            buf = nb, cap = ncap;
+        }
+        size_t got = fread(buf + n, 1, cap - n, f);
+        n += got;
+        if (got == 0)
+            break;
+    }
+    int bad = ferror(f);
+    fclose(f);
+    if (bad) {
+        free(buf);
+        return lt_error_set(err, LT_EIO, path, 0, "read error");
+    }
+    if (n > max_bytes) {
+        free(buf);
+        return lt_error_set(err, LT_EINPUT, path, 0,
+                            "file is larger than the limit of %zu bytes", max_bytes);
+    }
+    buf[n] = '\0';
+    *data = buf;
+    *size = n;
+    return LT_OK;
+}
