@@ -9,5 +9,6 @@
 #include "lantern/util.h"
 #include "lantern/cosmology.h"
 #include "lantern/survey.h"
+#include "lantern/simulate.h"
 
 #endif

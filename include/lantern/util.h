@@ -39,6 +39,11 @@ int lt_error_set(lt_error *err, int code, const char *file, long line,
                  const char *fmt, ...)
     __attribute__((format(printf, 5, 6)));
 
+/* Give an existing error a file and line, keeping its message (for a
+ * caller that knows where the bad value came from). Returns err's code, or
+ * code if err is NULL. */
+int lt_error_locate(lt_error *err, int code, const char *file, long line);
+
 /* Format "FILE:LINE: message", "FILE: message" or "message" into buf. */
 void lt_error_format(const lt_error *err, char *buf, size_t size);
 
@@ -123,5 +128,26 @@ int lt_ini_string(lt_ini *ini, const char *section, const char *key, int require
  */
 int lt_file_read(const char *path, size_t max_bytes, char **data, size_t *size,
                  lt_error *err);
+
+/*
+ * Output folders (DESIGN.md): an absent or empty folder is used; a folder
+ * holding lantern's marker file (LT_MARKER) is an earlier run and is
+ * refused unless force; any other non-empty folder is refused always, so
+ * that lantern never overwrites files it did not make.
+ */
+#define LT_MARKER ".lantern-output"
+int lt_outdir_prepare(const char *dir, int force, lt_error *err);
+/* Write the marker, naming the command that made the folder. */
+int lt_outdir_mark(const char *dir, const char *what, lt_error *err);
+
+/*
+ * Atomic files: write to lt_tmp_name(final) and then lt_file_commit it into
+ * place with rename(2), so a failure or an interruption never leaves a
+ * half-written final file.
+ */
+void lt_tmp_name(const char *final, char *buf, size_t size);
+int lt_file_commit(const char *final, lt_error *err);
+/* Write text (NUL-terminated) atomically. */
+int lt_file_write_text(const char *path, const char *text, lt_error *err);
 
 #endif

@@ -20,6 +20,7 @@ static const cli_command commands[] = {
      cli_distance},
     {"inspect", "read a survey and describe it: size, redshifts, errors, covariance",
      cli_inspect},
+    {"simulate", "simulate a survey from a scenario file", cli_simulate},
 };
 #define NCOMMANDS (sizeof commands / sizeof commands[0])
 

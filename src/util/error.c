@@ -33,6 +33,18 @@ int lt_error_set(lt_error *err, int code, const char *file, long line,
     return code;
 }
 
+int lt_error_locate(lt_error *err, int code, const char *file, long line)
+{
+    if (!err)
+        return code;
+    if (file)
+        snprintf(err->file, sizeof err->file, "%s", file);
+    else
+        err->file[0] = '\0';
+    err->line = line;
+    return err->code;
+}
+
 void lt_error_format(const lt_error *err, char *buf, size_t size)
 {
     if (err->file[0] && err->line > 0)
