@@ -81,8 +81,11 @@ deps:
 demo: deps
 	@$(MAKE) --no-print-directory demo-run
 
+DEMO := data/lamplighter
 demo-run: all
-	$(BIN) distance --model lcdm-flat --set h0=70,omega_m=0.3 --z-range 0.01:1.5:16
+	$(BIN) inspect --data $(DEMO)/survey.csv --columns z=z,zhel=zhel,mag=mag,err=err,id=id \
+	    --cov $(DEMO)/covariance.txt
+	$(BIN) distance --model lcdm-flat --set h0=70,omega_m=0.31 --z-range 0.01:1.5:16
 
 test: deps
 	@$(MAKE) --no-print-directory check

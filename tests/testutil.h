@@ -6,6 +6,7 @@
 
 #include <math.h>
 #include <stdio.h>
+#include <stdlib.h>
 
 /* Fail unless |got - want| <= tol * |want| (or <= tol where want == 0). */
 #define assert_rel(got, want, tol) \
@@ -46,6 +47,21 @@ static inline double lt_test_uniform(unsigned long long *state, double lo, doubl
     z = (z ^ (z >> 27)) * 0x94D049BB133111EBull;
     z ^= z >> 31;
     return lo + (hi - lo) * ((double)(z >> 11) * 0x1.0p-53);
+}
+
+/* A fresh folder /tmp/lantern-test-TAG-XXXXXX for a test program's files,
+ * and its removal with everything in it. */
+static inline int lt_test_tmpdir(char *dir, size_t size, const char *tag)
+{
+    snprintf(dir, size, "/tmp/lantern-test-%s-XXXXXX", tag);
+    return mkdtemp(dir) ? 0 : -1;
+}
+
+static inline int lt_test_rmtree(const char *dir)
+{
+    char cmd[600];
+    snprintf(cmd, sizeof cmd, "rm -rf '%s'", dir);
+    return system(cmd) == 0 ? 0 : -1;
 }
 
 #endif

@@ -188,9 +188,9 @@ static int build_cov(const lt_survey_spec *spec, const lt_rawtable *t, lt_survey
         free(amp);
     }
     if (!rc && spec->no_err_diag && spec->ncov == 0 && !spec->modes)
-        rc = lt_error_set(err, LT_EINPUT, NULL, 0,
-                          "--no-err-diag leaves no covariance: give --cov with the full "
-                          "matrix, or drop --no-err-diag");
+        rc = lt_error_set(err, LT_EINPUT, "--no-err-diag", 0,
+                          "leaves no covariance: give --cov with the full matrix, or drop "
+                          "--no-err-diag");
     (void)s;
     if (rc) {
         lt_cov_free(c);

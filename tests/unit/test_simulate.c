@@ -1,0 +1,318 @@
+/*
+ * Unit tests of simulated surveys: reproducibility, the noise model, the
+ * written files read back bit for bit, dense and mode forms of the same
+ * covariance, and scenario-file errors.
+ */
+#include <setjmp.h>
+#include <stdarg.h>
+#include <stddef.h>
+#include <stdint.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <unistd.h>
+
+#include <cmocka.h>
+#include <gsl/gsl_errno.h>
+#include <gsl/gsl_integration.h>
+
+#include "lantern/lantern.h"
+#include "../testutil.h"
+
+static char dir[256];
+
+static const char *write_scenario(const char *name, const char *text)
+{
+    static char path[8][512];
+    static int next = 0;
+    char *p = path[next++ % 8];
+    snprintf(p, 512, "%s/%s", dir, name);
+    FILE *f = fopen(p, "w");
+    assert_non_null(f);
+    fputs(text, f);
+    fclose(f);
+    return p;
+}
+
+static const char *basic =
+    "[survey]\nseed = 99\nobservable = mag\noffset = -19.0\n"
+    "[cosmology]\nmodel = wcdm\nomega_m = 0.28\nomega_de = 0.75\nw0 = -0.9\n"
+    "[tier.near]\nz_min = 0.02\nz_max = 0.1\ncount = 60\nerror = 0.1\ncalibration = 0.02\n"
+    "[tier.far]\nz_min = 0.3\nz_max = 1.0\ncount = 90\nerror = 0.15\ncalibration = 0.03\n"
+    "spread = uniform\n";
+
+static void simulate(const char *text, lt_scenario *sc, lt_sim *sim)
+{
+    lt_error err;
+    const char *p = write_scenario("s.ini", text);
+    int rc = lt_scenario_read(p, sc, &err);
+    if (rc)
+        print_error("%s:%ld: %s\n", err.file, err.line, err.msg);
+    assert_int_equal(rc, LT_OK);
+    assert_int_equal(lt_simulate(sc, sim, &err), LT_OK);
+}
+
+static void test_reproducible(void **state)
+{
+    (void)state;
+    lt_scenario sc;
+    lt_sim a, b;
+    simulate(basic, &sc, &a);
+    lt_scenario_free(&sc);
+    simulate(basic, &sc, &b);
+    assert_int_equal(a.n, 150);
+    assert_memory_equal(a.survey->z, b.survey->z, a.n * sizeof(double));
+    assert_memory_equal(a.survey->obs, b.survey->obs, a.n * sizeof(double));
+    assert_memory_equal(a.survey->zhel, b.survey->zhel, a.n * sizeof(double));
+    lt_sim_free(&b);
+    lt_scenario_free(&sc);
+    /* another seed, another survey */
+    char other[2048];
+    snprintf(other, sizeof other, "%s", basic);
+    memcpy(strstr(other, "seed = 99"), "seed = 98", 9);
+    simulate(other, &sc, &b);
+    assert_true(memcmp(a.survey->obs, b.survey->obs, a.n * sizeof(double)) != 0);
+    /* tiers in order, redshifts in range and sorted within each tier */
+    for (size_t i = 0; i < a.n; i++) {
+        const lt_sim_tier *t = &sc.tiers[a.tier[i]];
+        assert_true(a.survey->z[i] >= t->z_min && a.survey->z[i] <= t->z_max);
+        if (i && a.tier[i] == a.tier[i - 1])
+            assert_true(a.survey->z[i] >= a.survey->z[i - 1]);
+    }
+    lt_sim_free(&a);
+    lt_sim_free(&b);
+    lt_scenario_free(&sc);
+}
+
+/* The reported errors describe the noise: pulls (obs - truth - calibration
+ * offset) / err are standard normal. 20000 objects: the mean within 4
+ * standard errors of 0, the variance within 4 of 1 (sd of a sample
+ * variance: sqrt(2/N)). */
+static void test_noise_model(void **state)
+{
+    (void)state;
+    lt_scenario sc;
+    lt_sim sim;
+    simulate("[survey]\nseed = 5\nobservable = mu\nintrinsic_scatter = 0.12\n"
+             "velocity_dispersion = 400\n[cosmology]\nmodel = lcdm-flat\n"
+             "[tier.all]\nz_min = 0.01\nz_max = 1.2\ncount = 20000\nerror = 0.05\n"
+             "calibration = 0.05\n",
+             &sc, &sim);
+    double sum = 0, sum2 = 0;
+    size_t n = sim.n;
+    for (size_t i = 0; i < n; i++) {
+        double pull = (sim.survey->obs[i] - sim.truth[i] - sim.calib[0]) / sim.survey->err[i];
+        sum += pull;
+        sum2 += pull * pull;
+    }
+    double mean = sum / n, var = sum2 / n - mean * mean;
+    assert_abs(mean, 0.0, 4.0 / sqrt((double)n));
+    assert_abs(var, 1.0, 4.0 * sqrt(2.0 / n));
+    /* the error budget: measurement, intrinsic and peculiar velocity,
+     * sigma_pv = (5/ln10)(sigma_v/c)(1+z)/(z(1+z/2)) */
+    for (size_t i = 0; i < n; i += 997) {
+        double z = sim.survey->z[i];
+        double pv = 5 / log(10.0) * 400 / 299792.458 * (1 + z) / (z * (1 + z / 2));
+        assert_rel(sim.survey->err[i], sqrt(0.05 * 0.05 + 0.12 * 0.12 + pv * pv), 1e-14);
+    }
+    /* the Sun's motion: |(1+zhel)/(1+z) - 1| <= v/c */
+    for (size_t i = 0; i < n; i++)
+        assert_true(fabs((1 + sim.survey->zhel[i]) / (1 + sim.survey->z[i]) - 1) <=
+                    369 / 299792.458 * (1 + 1e-12));
+    lt_sim_free(&sim);
+    lt_scenario_free(&sc);
+}
+
+/* The peculiar-velocity term tends to (5/ln10) sigma_v/(c z) at low z. */
+static void test_peculiar_velocity_limit(void **state)
+{
+    (void)state;
+    lt_scenario sc;
+    lt_sim sim;
+    simulate("[survey]\nseed = 1\nobservable = mu\nintrinsic_scatter = 0\n"
+             "velocity_dispersion = 300\n[cosmology]\nmodel = lcdm-flat\n"
+             "[tier.t]\nz_min = 0.0001\nz_max = 0.0001\ncount = 1\nerror = 0\n",
+             &sc, &sim);
+    double want = 5 / log(10.0) * 300 / 299792.458 / 0.0001;
+    assert_rel(sim.survey->err[0], want, 1e-4);
+    lt_sim_free(&sim);
+    lt_scenario_free(&sc);
+}
+
+static double volume_density(double z, void *p)
+{
+    lt_cosmo *c = p;
+    /* D_M^2 / E by the closed form for EdS: D_M H0/c = 2 (1 - 1/sqrt(1+z)) */
+    double dm = 2 * (1 - 1 / sqrt(1 + z));
+    return dm * dm / lt_cosmo_efunc(c, z);
+}
+
+/* spread = volume: redshifts follow dV/dz ~ D_M^2/E. In Einstein-de Sitter
+ * the median of that density on [0.1, 2] is found with GSL's integrator;
+ * the fraction of 4000 draws below it is binomial(4000, 1/2): within 4 sd. */
+static void test_volume_spread(void **state)
+{
+    (void)state;
+    lt_scenario sc;
+    lt_sim sim;
+    simulate("[survey]\nseed = 3\nobservable = mu\n[cosmology]\nmodel = lcdm\n"
+             "omega_m = 1\nomega_de = 0\n[tier.t]\nz_min = 0.1\nz_max = 2\ncount = 4000\n"
+             "error = 0.1\n",
+             &sc, &sim);
+    lt_cosmo c;
+    lt_cosmo_init(&c, sc.model, &sc.params, NULL);
+    gsl_integration_workspace *ws = gsl_integration_workspace_alloc(1000);
+    gsl_function f = {volume_density, &c};
+    double total, e, lo = 0.1, hi = 2.0;
+    gsl_integration_qag(&f, 0.1, 2.0, 0, 1e-12, 1000, GSL_INTEG_GAUSS41, ws, &total, &e);
+    for (int it = 0; it < 60; it++) { /* bisect for the median */
+        double mid = 0.5 * (lo + hi), part;
+        gsl_integration_qag(&f, 0.1, mid, 0, 1e-12, 1000, GSL_INTEG_GAUSS41, ws, &part, &e);
+        if (part < 0.5 * total)
+            lo = mid;
+        else
+            hi = mid;
+    }
+    gsl_integration_workspace_free(ws);
+    size_t below = 0;
+    for (size_t i = 0; i < sim.n; i++)
+        below += sim.survey->z[i] < lo;
+    assert_abs((double)below, 2000.0, 4.0 * sqrt(1000.0));
+    lt_sim_free(&sim);
+    lt_scenario_free(&sc);
+}
+
+/* Write, read back (CSV and FITS, dense and mode covariances): the same
+ * numbers bit for bit and the same chi2. */
+static void test_round_trip(void **state)
+{
+    (void)state;
+    lt_scenario sc;
+    lt_sim sim;
+    simulate(basic, &sc, &sim);
+    char out[512];
+    snprintf(out, sizeof out, "%s/out", dir);
+    lt_error err;
+    assert_int_equal(lt_outdir_prepare(out, 0, &err), LT_OK);
+    assert_int_equal(lt_sim_write(&sc, &sim, out, &err), LT_OK);
+    char data_csv[600], data_fits[600], cov[600], modes[600];
+    snprintf(data_csv, sizeof data_csv, "%s/survey.csv", out);
+    snprintf(data_fits, sizeof data_fits, "%s/survey.fits", out);
+    snprintf(cov, sizeof cov, "%s/covariance.txt", out);
+    snprintf(modes, sizeof modes, "%s/modes.csv", out);
+    const char *data[] = {data_csv, data_fits};
+    size_t n = sim.n;
+    double *r = malloc(n * sizeof *r), *work = malloc((n + 8) * sizeof *work);
+    for (size_t i = 0; i < n; i++)
+        r[i] = sim.survey->obs[i] - sim.truth[i];
+    double want = lt_cov_chi2(sim.survey->cov, r, work);
+    for (int d = 0; d < 2; d++) {
+        for (int form = 0; form < 2; form++) {
+            lt_survey_spec spec;
+            lt_survey_spec_init(&spec);
+            spec.data = data[d];
+            spec.columns = "z=z,zhel=zhel,mag=mag,err=err,id=id";
+            if (form == 0)
+                spec.cov[spec.ncov++] = cov;
+            else
+                spec.modes = modes;
+            lt_survey *s = lt_survey_read(&spec, &err);
+            if (!s)
+                print_error("%s: %s\n", err.file, err.msg);
+            assert_non_null(s);
+            assert_int_equal(s->n, n);
+            assert_memory_equal(s->z, sim.survey->z, n * sizeof(double));
+            assert_memory_equal(s->zhel, sim.survey->zhel, n * sizeof(double));
+            assert_memory_equal(s->obs, sim.survey->obs, n * sizeof(double));
+            assert_memory_equal(s->err, sim.survey->err, n * sizeof(double));
+            for (size_t i = 0; i < n; i++)
+                assert_string_equal(s->id[i], sim.survey->id[i]);
+            assert_int_equal(lt_cov_kind_of(s->cov), form ? LT_COV_STRUCTURED : LT_COV_DENSE);
+            assert_rel(lt_cov_chi2(s->cov, r, work), want, 1e-10);
+            lt_survey_free(s);
+        }
+    }
+    /* a second write into the same folder needs --force (the marker) */
+    assert_int_equal(lt_outdir_mark(out, "test", &err), LT_OK);
+    assert_int_equal(lt_outdir_prepare(out, 0, &err), LT_EINPUT);
+    assert_int_equal(lt_outdir_prepare(out, 1, &err), LT_OK);
+    /* and no temporary files are left behind */
+    char cmd[700];
+    snprintf(cmd, sizeof cmd, "ls %s | grep -q tmp", out);
+    assert_int_not_equal(system(cmd), 0);
+    free(r);
+    free(work);
+    lt_sim_free(&sim);
+    lt_scenario_free(&sc);
+}
+
+static void expect_scenario_error(const char *text, long line, const char *what)
+{
+    lt_scenario sc;
+    lt_error err;
+    const char *p = write_scenario("bad.ini", text);
+    assert_int_equal(lt_scenario_read(p, &sc, &err), LT_EINPUT);
+    if (err.line != line || !strstr(err.msg, what))
+        print_error("line %ld (want %ld): %s\n", err.line, line, err.msg);
+    assert_string_equal(err.file, p);
+    assert_int_equal(err.line, line);
+    assert_non_null(strstr(err.msg, what));
+}
+
+static void test_scenario_errors(void **state)
+{
+    (void)state;
+    const char *tier = "[tier.t]\nz_min = 0.1\nz_max = 0.5\ncount = 10\nerror = 0.1\n";
+    char buf[1024];
+#define CASE(head, line, what)                                  \
+    do {                                                        \
+        snprintf(buf, sizeof buf, "%s%s", head, tier);          \
+        expect_scenario_error(buf, line, what);                 \
+    } while (0)
+    CASE("[survey]\n[cosmology]\nmodel = lcdm\n", 1, "needs the key 'seed'");
+    CASE("[survey]\nseed = 1\nobservable = flux\n[cosmology]\nmodel = lcdm\n", 3,
+         "observable = 'flux'");
+    CASE("[survey]\nseed = 1\nobservable = mu\noffset = -19\n[cosmology]\nmodel = lcdm\n", 4,
+         "offset");
+    CASE("[survey]\nseed = 1\n[cosmology]\nmodel = lcdm-flat\nomega_de = 0.7\n", 5,
+         "omega_de is derived");
+    CASE("[survey]\nseed = 1\n[cosmology]\nmodel = lcdm-flats\n", 4, "unknown model");
+    CASE("[survey]\nseed = 1\n[cosmology]\nmodel = lcdm\nh0 = -3\n", 4, "h0 must be positive");
+    CASE("[survey]\nseed = 1\nseeds = 2\n[cosmology]\nmodel = lcdm\n", 3, "unknown key 'seeds'");
+    CASE("[survey]\nseed = 1\n[cosmology]\nmodel = lcdm\n[extra]\n", 5, "unknown section");
+    expect_scenario_error("[survey]\nseed = 1\n[cosmology]\nmodel = lcdm\n", 0, "no tiers");
+    expect_scenario_error("[survey]\nseed = 1\n[cosmology]\nmodel = lcdm\n"
+                          "[tier.t]\nz_min = 0\nz_max = 0.5\ncount = 10\nerror = 0.1\n",
+                          5, "0 < z_min <= z_max");
+    expect_scenario_error("[survey]\nseed = 1\n[cosmology]\nmodel = lcdm\n"
+                          "[tier.t]\nz_min = 0.1\nz_max = 0.5\ncount = 0\nerror = 0.1\n",
+                          8, "count = '0'");
+    expect_scenario_error("[survey]\nseed = 1\n[cosmology]\nmodel = lcdm\n"
+                          "[tier.t]\nz_min = 0.1\nz_max = 0.5\ncount = 5\nerror = 0.1\n"
+                          "spread = log\n",
+                          10, "spread = 'log'");
+#undef CASE
+}
+
+static int setup(void **state)
+{
+    (void)state;
+    gsl_set_error_handler_off();
+    return lt_test_tmpdir(dir, sizeof dir, "sim");
+}
+
+static int teardown(void **state)
+{
+    (void)state;
+    return lt_test_rmtree(dir);
+}
+
+int main(void)
+{
+    const struct CMUnitTest tests[] = {
+        cmocka_unit_test(test_reproducible),   cmocka_unit_test(test_noise_model),
+        cmocka_unit_test(test_peculiar_velocity_limit), cmocka_unit_test(test_volume_spread),
+        cmocka_unit_test(test_round_trip),     cmocka_unit_test(test_scenario_errors),
+    };
+    return cmocka_run_group_tests_name("simulate", tests, setup, teardown);
+}

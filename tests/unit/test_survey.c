@@ -1,0 +1,425 @@
+/*
+ * Unit tests of the survey module: tables in their awkward-but-valid forms,
+ * the header rule, covariance algebra (dense against structured, against
+ * GSL's Cholesky as an outside reference), matrix files, cuts and stats.
+ * The malformed-file corpus is exercised end to end in
+ * tests/e2e/test_survey_errors.sh.
+ */
+#include <setjmp.h>
+#include <stdarg.h>
+#include <stddef.h>
+#include <stdint.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <unistd.h>
+
+#include <cmocka.h>
+#include <fitsio.h>
+#include <gsl/gsl_linalg.h>
+
+#include "lantern/lantern.h"
+#include "../testutil.h"
+
+static char dir[256];
+
+static const char *tmpfile_with(const char *name, const char *text, size_t len)
+{
+    static char path[16][512];
+    static int next = 0;
+    char *p = path[next++ % 16];
+    snprintf(p, 512, "%s/%s", dir, name);
+    FILE *f = fopen(p, "wb");
+    assert_non_null(f);
+    assert_int_equal(fwrite(text, 1, len, f), len);
+    fclose(f);
+    return p;
+}
+#define TMP(name, text) tmpfile_with(name, text, sizeof(text) - 1)
+
+static lt_survey *read_survey(const char *data, const char *columns, lt_error *err)
+{
+    lt_survey_spec spec;
+    lt_survey_spec_init(&spec);
+    spec.data = data;
+    spec.columns = columns;
+    return lt_survey_read(&spec, err);
+}
+
+/* ---- tables ---- */
+static void test_awkward_text(void **state)
+{
+    (void)state;
+    /* BOM, CRLF, a '#' header, tabs, blank lines, a comment line */
+    const char *p = TMP("awkward.txt", "\xEF\xBB\xBF\r\n#name\tzcmb  zhel mb dmb\r\n\r\n"
+                                       "sn1\t0.1 0.11 20.0 0.1\r\n# a comment\r\n"
+                                       "sn2 0.2\t0.21 21.5 0.12\r\n\r\n");
+    lt_error err;
+    lt_survey *s = read_survey(p, "z=zcmb,zhel=zhel,mag=mb,err=dmb,id=name", &err);
+    if (!s)
+        print_error("%s\n", err.msg);
+    assert_non_null(s);
+    assert_int_equal(s->n, 2);
+    assert_int_equal(s->kind, LT_OBS_MAG);
+    assert_true(s->z[0] == 0.1 && s->zhel[0] == 0.11 && s->obs[0] == 20.0 && s->err[0] == 0.1);
+    assert_true(s->z[1] == 0.2 && s->zhel[1] == 0.21 && s->obs[1] == 21.5 && s->err[1] == 0.12);
+    assert_string_equal(s->id[0], "sn1");
+    assert_string_equal(s->id[1], "sn2");
+    assert_int_equal(s->nwarnings, 0);
+    lt_survey_free(s);
+}
+
+static void test_csv_and_defaults(void **state)
+{
+    (void)state;
+    const char *p = TMP("t.csv", "id, z ,mu,err\n a , 0.5 ,42.1,0.2\nb,1.0,44.0,0.25\n");
+    lt_error err;
+    lt_survey *s = read_survey(p, "z=z,mu=mu,err=err,id=id", &err);
+    assert_non_null(s);
+    assert_int_equal(s->kind, LT_OBS_MU);
+    assert_string_equal(s->id[0], "a"); /* CSV fields are trimmed */
+    assert_true(s->zhel[1] == 1.0);     /* zhel defaults to z ... */
+    assert_int_equal(s->nwarnings, 1);  /* ... and says so */
+    assert_non_null(strstr(s->warnings[0], "zhel"));
+    assert_int_equal(lt_cov_kind_of(s->cov), LT_COV_DIAGONAL);
+    /* the covariance is diag(err^2) */
+    double r[2] = {0.2, 0.5}, work[8];
+    assert_rel(lt_cov_chi2(s->cov, r, work), 1.0 + 4.0, 1e-14);
+    lt_survey_free(s);
+}
+
+/* Trailing header names that no row fills are ignored with one warning,
+ * unless a role maps one of them. */
+static void test_trailing_header(void **state)
+{
+    (void)state;
+    const char *p = TMP("trail.txt", "#z mb dmb extra1 extra2\n0.1 20 0.1\n0.2 21 0.1\n");
+    lt_error err;
+    lt_survey *s = read_survey(p, "z=z,mag=mb,err=dmb", &err);
+    assert_non_null(s);
+    assert_int_equal(s->nwarnings, 2); /* trailing names; no zhel */
+    assert_non_null(strstr(s->warnings[0], "extra1, extra2"));
+    assert_non_null(strstr(s->warnings[0], ":1:"));
+    lt_survey_free(s);
+    assert_null(read_survey(p, "z=z,mag=mb,err=extra2", &err));
+    assert_int_equal(err.line, 2);
+    assert_non_null(strstr(err.msg, "column 'extra2' (err) is field 5, but rows have 3"));
+    /* more fields than names: columns would shift */
+    p = TMP("wide.txt", "z mb dmb\n0.1 20 0.1 7\n");
+    assert_null(read_survey(p, "z=z,mag=mb,err=dmb", &err));
+    assert_int_equal(err.line, 2);
+    assert_non_null(strstr(err.msg, "would shift"));
+}
+
+static void test_colmap_errors(void **state)
+{
+    (void)state;
+    const char *p = TMP("ok.txt", "z mb dmb\n0.1 20 0.1\n");
+    lt_error err;
+    static const struct {
+        const char *columns, *what;
+    } cases[] = {
+        {"z=z,mag=mb,err=dmb,foo=bar", "unknown role 'foo'"},
+        {"z=z,mag=mb,mu=dmb", "more than one observable"},
+        {"z=z,z=mb,err=dmb", "role 'z' mapped twice"},
+        {"mag=mb,err=dmb", "map at least z"},
+        {"z=z,err=dmb", "map at least z"},
+        {"z=z,mag=mb", "map the error column"},
+        {"z=z,mag=mb,err=mb", "mapped to both"},
+        {"z,mag=mb", "not role=column"},
+        {"", "no column mapping"},
+        {"z=zcmb,mag=mb,err=dmb", "no column 'zcmb' for z (the header names: z, mb, dmb)"},
+    };
+    for (size_t i = 0; i < sizeof cases / sizeof cases[0]; i++) {
+        assert_null(read_survey(p, cases[i].columns, &err));
+        if (!strstr(err.msg, cases[i].what))
+            print_error("'%s': message '%s' lacks '%s'\n", cases[i].columns, err.msg,
+                        cases[i].what);
+        assert_non_null(strstr(err.msg, cases[i].what));
+    }
+}
+
+/* ---- covariance algebra ---- */
+
+/* chi2 = r^T C^-1 r by GSL's Cholesky (gsl_linalg_cholesky_decomp1 and
+ * _solve): a reference independent of LAPACK and of lantern's code. */
+static double gsl_chi2(const double *c, const double *r, size_t n)
+{
+    gsl_matrix *m = gsl_matrix_alloc(n, n);
+    gsl_vector *b = gsl_vector_alloc(n), *x = gsl_vector_alloc(n);
+    for (size_t i = 0; i < n; i++) {
+        gsl_vector_set(b, i, r[i]);
+        for (size_t j = 0; j < n; j++)
+            gsl_matrix_set(m, i, j, c[i * n + j]);
+    }
+    assert_int_equal(gsl_linalg_cholesky_decomp1(m), 0);
+    gsl_linalg_cholesky_solve(m, b, x);
+    double chi2 = 0;
+    for (size_t i = 0; i < n; i++)
+        chi2 += r[i] * gsl_vector_get(x, i);
+    gsl_matrix_free(m);
+    gsl_vector_free(b);
+    gsl_vector_free(x);
+    return chi2;
+}
+
+static void test_dense_vs_structured(void **state)
+{
+    (void)state;
+    enum { N = 60, K = 5 };
+    unsigned long long seed = 7;
+    static double d[N], u[N * K], amp[K], full[N * N], r[N], x1[N], x2[N], work[N + K + 1];
+    for (size_t i = 0; i < N; i++)
+        d[i] = lt_test_uniform(&seed, 0.01, 0.04);
+    for (size_t i = 0; i < N * K; i++)
+        u[i] = lt_test_uniform(&seed, -1, 1);
+    for (size_t j = 0; j < K; j++)
+        amp[j] = lt_test_uniform(&seed, 0.05, 0.2);
+    for (size_t i = 0; i < N; i++)
+        r[i] = lt_test_uniform(&seed, -0.3, 0.3);
+    lt_error err;
+    lt_cov *s = lt_cov_alloc(N, &err);
+    assert_int_equal(lt_cov_add_diag(s, d, &err), LT_OK);
+    assert_int_equal(lt_cov_add_modes(s, K, u, amp, &err), LT_OK);
+    assert_int_equal(lt_cov_kind_of(s), LT_COV_STRUCTURED);
+    lt_cov_to_dense(s, full);
+    lt_cov *dn = lt_cov_alloc(N, &err);
+    assert_int_equal(lt_cov_add_dense(dn, full, &err), LT_OK);
+    /* dense base plus modes: half the modes in the dense part */
+    lt_cov *dm = lt_cov_alloc(N, &err);
+    static double part[N * N];
+    static double u2[N * 2], u3[N * 3];
+    for (size_t i = 0; i < N; i++) {
+        u2[i * 2] = u[i * K], u2[i * 2 + 1] = u[i * K + 1];
+        u3[i * 3] = u[i * K + 2], u3[i * 3 + 1] = u[i * K + 3], u3[i * 3 + 2] = u[i * K + 4];
+    }
+    lt_cov *base = lt_cov_alloc(N, &err);
+    lt_cov_add_diag(base, d, &err);
+    lt_cov_add_modes(base, 2, u2, amp, &err);
+    lt_cov_to_dense(base, part);
+    lt_cov_free(base);
+    lt_cov_add_dense(dm, part, &err);
+    lt_cov_add_modes(dm, 3, u3, amp + 2, &err);
+    assert_int_equal(lt_cov_kind_of(dm), LT_COV_DENSE_MODES);
+    assert_int_equal(lt_cov_factor(s, &err), LT_OK);
+    assert_int_equal(lt_cov_factor(dn, &err), LT_OK);
+    assert_int_equal(lt_cov_factor(dm, &err), LT_OK);
+    double want = gsl_chi2(full, r, N);
+    assert_rel(lt_cov_chi2(dn, r, work), want, 1e-10);
+    assert_rel(lt_cov_chi2(s, r, work), want, 1e-10);
+    assert_rel(lt_cov_chi2(dm, r, work), want, 1e-10);
+    /* solves agree too, and C x = r holds */
+    lt_cov_solve(s, r, x1, work);
+    lt_cov_solve(dn, r, x2, work);
+    for (size_t i = 0; i < N; i++) {
+        assert_rel(x1[i], x2[i], 1e-9);
+        double cx = 0;
+        for (size_t j = 0; j < N; j++)
+            cx += full[i * N + j] * x1[j];
+        assert_abs(cx, r[i], 1e-12);
+    }
+    /* the matrix survives factoring */
+    static double again[N * N];
+    lt_cov_to_dense(dn, again);
+    assert_memory_equal(again, full, sizeof full);
+    /* eigenvalue report: the same matrix, three storages */
+    lt_cov_info a, b, c;
+    assert_int_equal(lt_cov_inspect(s, &a, &err), LT_OK);
+    assert_int_equal(lt_cov_inspect(dn, &b, &err), LT_OK);
+    assert_int_equal(lt_cov_inspect(dm, &c, &err), LT_OK);
+    assert_rel(a.min_eigenvalue, b.min_eigenvalue, 1e-10);
+    assert_rel(a.condition, b.condition, 1e-10);
+    assert_rel(c.condition, b.condition, 1e-10);
+    assert_string_equal(b.method, "exact");
+    lt_cov_free(s);
+    lt_cov_free(dn);
+    lt_cov_free(dm);
+}
+
+static void test_select(void **state)
+{
+    (void)state;
+    enum { N = 30, K = 2 };
+    unsigned long long seed = 11;
+    static double d[N], u[N * K], full[N * N];
+    for (size_t i = 0; i < N; i++)
+        d[i] = lt_test_uniform(&seed, 0.5, 1.5);
+    for (size_t i = 0; i < N * K; i++)
+        u[i] = lt_test_uniform(&seed, -1, 1);
+    lt_error err;
+    lt_cov *s = lt_cov_alloc(N, &err);
+    lt_cov_add_diag(s, d, &err);
+    lt_cov_add_modes(s, K, u, NULL, &err);
+    lt_cov_to_dense(s, full);
+    lt_cov *dn = lt_cov_alloc(N, &err);
+    lt_cov_add_dense(dn, full, &err);
+    size_t idx[] = {3, 17, 0, 29, 8};
+    lt_cov *a = lt_cov_select(s, 5, idx, &err), *b = lt_cov_select(dn, 5, idx, &err);
+    double sub[25], ga[25], gb[25];
+    for (int i = 0; i < 5; i++)
+        for (int j = 0; j < 5; j++)
+            sub[i * 5 + j] = full[idx[i] * N + idx[j]];
+    lt_cov_to_dense(a, ga);
+    lt_cov_to_dense(b, gb);
+    for (int i = 0; i < 25; i++) {
+        assert_rel(ga[i], sub[i], 1e-15);
+        assert_true(gb[i] == sub[i]);
+    }
+    lt_cov_free(s);
+    lt_cov_free(dn);
+    lt_cov_free(a);
+    lt_cov_free(b);
+}
+
+static void test_not_positive_definite(void **state)
+{
+    (void)state;
+    lt_error err;
+    lt_cov *c = lt_cov_alloc(2, &err);
+    double m[4] = {1, 2, 2, 1}; /* eigenvalues 3 and -1 */
+    lt_cov_add_dense(c, m, &err);
+    assert_int_equal(lt_cov_factor(c, &err), LT_EINPUT);
+    assert_non_null(strstr(err.msg, "not positive definite"));
+    double back[4];
+    lt_cov_to_dense(c, back); /* restored after the failed factorisation */
+    assert_memory_equal(back, m, sizeof m);
+    lt_cov_free(c);
+    c = lt_cov_alloc(2, &err);
+    double v[2] = {1.0, 0.0};
+    lt_cov_add_diag(c, v, &err);
+    assert_int_equal(lt_cov_factor(c, &err), LT_EINPUT);
+    assert_non_null(strstr(err.msg, "object 2"));
+    lt_cov_free(c);
+}
+
+/* ---- matrix files ---- */
+static void test_matrix_forms(void **state)
+{
+    (void)state;
+    const char *a = TMP("a.txt", "3\n1\n0.1\n0\n0.1\n2\n0\n0\n0\n3\n");
+    const char *b = TMP("b.txt", "# rows form\n1 0.1 0\n0.1 2 0\n\n0 0 3\n");
+    const char *c = TMP("c.txt", "3 1 0.1 0 0.1 2 0 0 0 3");
+    double *ma, *mb, *mc;
+    size_t na, nb, nc;
+    lt_error err;
+    assert_int_equal(lt_matrix_read(a, &ma, &na, &err), LT_OK);
+    assert_int_equal(lt_matrix_read(b, &mb, &nb, &err), LT_OK);
+    /* "3 1 0.1 ..." on one line is 10 values on one line: neither form */
+    assert_int_equal(lt_matrix_read(c, &mc, &nc, &err), LT_EINPUT);
+    assert_int_equal(na, 3);
+    assert_int_equal(nb, 3);
+    assert_memory_equal(ma, mb, 9 * sizeof *ma);
+    assert_true(ma[1] == 0.1 && ma[4] == 2.0 && ma[8] == 3.0);
+
+    /* the same matrix as a FITS image, written with CFITSIO directly */
+    char fpath[600];
+    snprintf(fpath, sizeof fpath, "!%s/m.fits", dir);
+    fitsfile *f;
+    int status = 0;
+    long naxes[2] = {3, 3};
+    fits_create_file(&f, fpath, &status);
+    fits_create_img(f, DOUBLE_IMG, 2, naxes, &status);
+    fits_write_img(f, TDOUBLE, 1, 9, ma, &status);
+    fits_close_file(f, &status);
+    assert_int_equal(status, 0);
+    double *mf;
+    size_t nf;
+    assert_int_equal(lt_matrix_read(fpath + 1, &mf, &nf, &err), LT_OK);
+    assert_int_equal(nf, 3);
+    assert_memory_equal(mf, ma, 9 * sizeof *ma);
+    free(ma);
+    free(mb);
+    free(mf);
+
+    /* slightly asymmetric within 1e-6: accepted and symmetrised */
+    const char *s = TMP("s.txt", "2\n1 0.5\n0.5000000001 1\n");
+    double *ms;
+    size_t ns;
+    assert_int_equal(lt_matrix_read(s, &ms, &ns, &err), LT_OK);
+    assert_true(ms[1] == ms[2]);
+    free(ms);
+}
+
+static void test_stats(void **state)
+{
+    (void)state;
+    const char *p = TMP("st.csv", "z,mu,err\n0.1,38,0.1\n0.2,40,0.3\n0.3,41,0.2\n1.0,44,0.4\n");
+    lt_error err;
+    lt_survey *s = read_survey(p, "z=z,mu=mu,err=err", &err);
+    lt_survey_stats st;
+    assert_int_equal(lt_survey_stats_compute(s, 3, &st, &err), LT_OK);
+    assert_true(st.z_min == 0.1 && st.z_max == 1.0);
+    assert_rel(st.err_median, 0.25, 1e-15);
+    assert_rel(st.err_mean, 0.25, 1e-15);
+    assert_true(st.err_min == 0.1 && st.err_max == 0.4);
+    /* bins of width 0.3 from 0.1: [0.1,0.4) holds three, [0.7,1.0] one */
+    assert_int_equal(st.counts[0], 3);
+    assert_int_equal(st.counts[1], 0);
+    assert_int_equal(st.counts[2], 1);
+    assert_int_equal(lt_survey_stats_compute(s, 0, &st, &err), LT_EINPUT);
+    lt_survey_free(s);
+}
+
+/* Cuts act on the table and the covariance together. */
+static void test_cuts(void **state)
+{
+    (void)state;
+    const char *p = TMP("cut.txt", "id z mu err\na 0.1 38 0.1\nb 0.2 40 0.2\nc 0.3 41 0.3\n"
+                                   "d 0.4 42 0.4\n");
+    const char *cov = TMP("cut.cov", "4\n1 0.1 0.2 0.3\n0.1 2 0.4 0.5\n0.2 0.4 3 0.6\n"
+                                     "0.3 0.5 0.6 4\n");
+    const char *drop = TMP("drop.txt", "# ids to drop\nb\n\nzz\n");
+    lt_survey_spec spec;
+    lt_survey_spec_init(&spec);
+    spec.data = p;
+    spec.columns = "z=z,mu=mu,err=err,id=id";
+    spec.cov[spec.ncov++] = cov;
+    spec.zmax = 0.35;
+    spec.drop_ids = drop;
+    lt_error err;
+    lt_survey *s = lt_survey_read(&spec, &err);
+    assert_non_null(s);
+    assert_int_equal(s->n, 2); /* a and c */
+    assert_string_equal(s->id[0], "a");
+    assert_string_equal(s->id[1], "c");
+    assert_int_equal(s->row[1], 3);
+    double m[4];
+    lt_cov_to_dense(s->cov, m);
+    assert_rel(m[0], 1 + 0.01, 1e-15);
+    assert_rel(m[1], 0.2, 1e-15);
+    assert_rel(m[3], 3 + 0.09, 1e-15);
+    lt_survey_free(s);
+    /* nothing left */
+    spec.zmax = 0.05;
+    assert_null(lt_survey_read(&spec, &err));
+    assert_non_null(strstr(err.msg, "no objects are left"));
+    /* id lists need ids */
+    spec.zmax = NAN;
+    spec.columns = "z=z,mu=mu,err=err";
+    assert_null(lt_survey_read(&spec, &err));
+    assert_non_null(strstr(err.msg, "id lists need an id column"));
+}
+
+static int setup(void **state)
+{
+    (void)state;
+    return lt_test_tmpdir(dir, sizeof dir, "survey");
+}
+
+static int teardown(void **state)
+{
+    (void)state;
+    return lt_test_rmtree(dir);
+}
+
+int main(void)
+{
+    const struct CMUnitTest tests[] = {
+        cmocka_unit_test(test_awkward_text),      cmocka_unit_test(test_csv_and_defaults),
+        cmocka_unit_test(test_trailing_header),   cmocka_unit_test(test_colmap_errors),
+        cmocka_unit_test(test_dense_vs_structured), cmocka_unit_test(test_select),
+        cmocka_unit_test(test_not_positive_definite), cmocka_unit_test(test_matrix_forms),
+        cmocka_unit_test(test_stats),             cmocka_unit_test(test_cuts),
+    };
+    return cmocka_run_group_tests_name("survey", tests, setup, teardown);
+}
