@@ -73,3 +73,22 @@ assert a["covariance"]["kind"] == "dense" and b["covariance"]["kind"] == "struct
 assert abs(a["covariance"]["condition"] / b["covariance"]["condition"] - 1) < 1e-10
 assert abs(a["covariance"]["min_eigenvalue"] / b["covariance"]["min_eigenvalue"] - 1) < 1e-10
 ' "$E2E_TMP/dense.json" "$OUT"; then pass "dense (CSV) and modes (FITS) give the same covariance"; else fail "dense (CSV) and modes (FITS) give the same covariance"; fi
+
+# FITS tables by CFITSIO's extended names: the HDU by number and by name.
+for hdu in "[1]" "[SURVEY]"; do
+    run "$LANTERN" inspect --data "$D/survey.fits$hdu" --columns z=z,zhel=zhel,mag=mag,err=err,id=id
+    expect_stdout "FITS table picked as survey.fits$hdu" '^objects +800$'
+done
+run "$LANTERN" inspect --data "$D/survey.fits[2]" --columns z=z,mag=mag,err=err
+expect_error "a FITS HDU that does not exist" 2 "survey.fits\[2\]: cannot open a FITS table"
+run "$LANTERN" inspect --data "$D/survey.fits" --columns z=redshift,mag=mag,err=err
+expect_error "a FITS column that does not exist" 2 "no column 'redshift' for z \(columns: id, tier, z, zhel, mag, err\)"
+
+# Keep and drop lists of ids.
+printf 'harbor-0001\nbeacon-0007\n# a comment\nfarlight-0240\n' >"$E2E_TMP/keep.txt"
+run "$LANTERN" inspect --data "$D/survey.csv" --columns z=z,zhel=zhel,mag=mag,err=err,id=id \
+    --modes "$D/modes.csv" --keep-ids "$E2E_TMP/keep.txt"
+expect_stdout "--keep-ids keeps the listed objects" '^objects +3 \(of 800 read\)$'
+run "$LANTERN" inspect --data "$D/survey.csv" --columns z=z,zhel=zhel,mag=mag,err=err,id=id \
+    --modes "$D/modes.csv" --drop-ids "$E2E_TMP/keep.txt"
+expect_stdout "--drop-ids drops them" '^objects +797 \(of 800 read\)$'

@@ -246,6 +246,35 @@ static void test_round_trip(void **state)
     lt_scenario_free(&sc);
 }
 
+/* dl data: the same magnitude noise as a factor 10^(d/5), errors
+ * dl ln10/5 sigma, and modes scaled by dl ln10/5. */
+static void test_distance_data(void **state)
+{
+    (void)state;
+    lt_scenario sc;
+    lt_sim sim;
+    simulate("[survey]\nseed = 8\nobservable = dl\nintrinsic_scatter = 0.05\n"
+             "velocity_dispersion = 0\n[cosmology]\nmodel = lcdm-flat\n"
+             "[tier.sirens]\nz_min = 0.05\nz_max = 0.5\ncount = 5000\nerror = 0\n"
+             "calibration = 0.01\n",
+             &sc, &sim);
+    assert_int_equal(sim.survey->kind, LT_OBS_DL);
+    double k = log(10.0) / 5.0, sum = 0, sum2 = 0;
+    for (size_t i = 0; i < sim.n; i++) {
+        double dl = sim.truth[i];
+        assert_rel(sim.survey->err[i], dl * k * 0.05, 1e-14);
+        assert_rel(sim.modes[i], dl * k, 1e-14);
+        /* 5 log10(obs/truth) is the magnitude noise: N(calibration offset, 0.05) */
+        double d = 5 * log10(sim.survey->obs[i] / dl) - sim.calib[0];
+        sum += d, sum2 += d * d;
+    }
+    double mean = sum / sim.n, sd = sqrt(sum2 / sim.n - mean * mean);
+    assert_abs(mean, 0.0, 4 * 0.05 / sqrt((double)sim.n));
+    assert_abs(sd, 0.05, 4 * 0.05 / sqrt(2.0 * sim.n));
+    lt_sim_free(&sim);
+    lt_scenario_free(&sc);
+}
+
 static void expect_scenario_error(const char *text, long line, const char *what)
 {
     lt_scenario sc;
@@ -313,6 +342,7 @@ int main(void)
         cmocka_unit_test(test_reproducible),   cmocka_unit_test(test_noise_model),
         cmocka_unit_test(test_peculiar_velocity_limit), cmocka_unit_test(test_volume_spread),
         cmocka_unit_test(test_round_trip),     cmocka_unit_test(test_scenario_errors),
+        cmocka_unit_test(test_distance_data),
     };
     return cmocka_run_group_tests_name("simulate", tests, setup, teardown);
 }
