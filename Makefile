@@ -27,7 +27,7 @@ ALL_CFLAGS := -std=c17 -D_DEFAULT_SOURCE -fopenmp $(WARN) $(CFLAGS) -Iinclude $(
 LDLIBS := $(PKG_LIBS) -lm
 
 BUILD := build
-LIB_SRC := $(wildcard src/util/*.c src/cosmology/*.c src/survey/*.c src/simulate/*.c)
+LIB_SRC := $(wildcard src/util/*.c src/cosmology/*.c src/survey/*.c src/simulate/*.c src/likelihood/*.c src/inference/*.c src/report/*.c)
 CLI_SRC := $(wildcard src/cli/*.c)
 LIB_OBJ := $(LIB_SRC:%.c=$(BUILD)/%.o)
 CLI_OBJ := $(CLI_SRC:%.c=$(BUILD)/%.o)

@@ -10,5 +10,8 @@
 #include "lantern/cosmology.h"
 #include "lantern/survey.h"
 #include "lantern/simulate.h"
+#include "lantern/likelihood.h"
+#include "lantern/inference.h"
+#include "lantern/report.h"
 
 #endif

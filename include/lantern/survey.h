@@ -74,6 +74,9 @@ void lt_cov_solve(const lt_cov *c, const double *b, double *x, double *work);
 /* The sub-covariance of the objects idx[0..m-1] (in that order), unfactored. */
 lt_cov *lt_cov_select(const lt_cov *c, size_t m, const size_t *idx, lt_error *err);
 
+/* The diagonal C_ii (N values) into out. */
+void lt_cov_diagonal(const lt_cov *c, double *out);
+
 /* The whole matrix, row-major N x N into out (for tests and small N). */
 void lt_cov_to_dense(const lt_cov *c, double *out);
 

@@ -68,6 +68,12 @@ int lt_parse_long(const char *text, long lo, long hi, long *out);
  */
 void lt_format_double(double v, char *buf, size_t size);
 
+/* A cJSON number item that reads back exactly (lt_format_double), or null
+ * where v is not finite: JSON has no infinities. cJSON's own printing keeps
+ * 15 digits whenever they match within an epsilon, dropping the last bit. */
+struct cJSON;
+struct cJSON *lt_json_number(double v);
+
 /*
  * Run and scenario files: a small INI reader of our own. Debian's libinih
  * (55) is built with a 200-byte line limit that splits longer lines

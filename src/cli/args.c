@@ -1,9 +1,6 @@
 /* Argument scanning and error printing for the command line. */
 #include <stdarg.h>
-#include <math.h>
 #include <string.h>
-
-#include <cjson/cJSON.h>
 
 #include "cli.h"
 
@@ -105,13 +102,3 @@ int cli_parse_format(const char *text, unsigned allowed, cli_format *out)
     return -1;
 }
 
-cJSON *cli_json_number(double v)
-{
-    if (!isfinite(v))
-        return cJSON_CreateNull();
-    /* cJSON's own printing keeps 15 digits whenever they match to within an
-     * epsilon, which drops the last bit; a raw item keeps every digit. */
-    char buf[32];
-    lt_format_double(v, buf, sizeof buf);
-    return cJSON_CreateRaw(buf);
-}

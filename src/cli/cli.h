@@ -60,11 +60,6 @@ typedef enum { CLI_TABLE, CLI_CSV, CLI_JSON } cli_format;
 /* Parse "table", "csv" or "json" (those allowed by mask, bits 1 << format). */
 int cli_parse_format(const char *text, unsigned allowed, cli_format *out);
 
-/* A JSON number that reads back exactly (lt_format_double); null where v is
- * not finite, since JSON has no infinities. */
-struct cJSON;
-struct cJSON *cli_json_number(double v);
-
 /* The DATA options (DESIGN.md): if the current argument is one, take it
  * into spec and return 1 (a->failed is set for a bad value). */
 int cli_take_data(cli_args *a, lt_survey_spec *spec);
@@ -73,9 +68,46 @@ extern const char *cli_data_help;
 /* Print the survey's warnings to stderr. */
 void cli_print_warnings(const lt_survey *s);
 
+/* A fitting job: the run file, then the flags that override it (job.c). */
+#define CLI_MAX_PAR 32
+typedef struct cli_kv {
+    const char *name, *value;
+    const char *file; /* the run file it came from, NULL for a flag */
+    long line;
+} cli_kv;
+
+typedef struct cli_job {
+    lt_ini *ini;     /* the run file, or NULL */
+    char *pool[128]; /* strings made while reading it */
+    size_t npool;
+    const char *name;
+    lt_survey_spec data;
+    int cov_from_flags;
+    const char *model, *offset;
+    cli_kv priors[CLI_MAX_PAR], fixes[CLI_MAX_PAR];
+    size_t npriors, nfixes;
+    unsigned long seed;
+    long starts;
+    const char *out, *format;
+    int force;
+} cli_job;
+
+void cli_job_init(cli_job *j);
+void cli_job_free(cli_job *j);
+/* Read RUN.ini into j; prints any error and returns the exit status. */
+int cli_job_load(cli_job *j, const char *path);
+/* If the current argument is a DATA, MODEL or output option, take it. */
+int cli_take_job(cli_args *a, cli_job *j);
+/* The likelihood spec for model m from j's priors, fixes and offset;
+ * prints any error and returns the exit status. */
+int cli_job_like_spec(const cli_job *j, const lt_cosmo_model *m, lt_like_spec *spec);
+/* The help text of the MODEL options. */
+extern const char *cli_model_help;
+
 /* Commands. */
 int cli_distance(int argc, char **argv);
 int cli_inspect(int argc, char **argv);
 int cli_simulate(int argc, char **argv);
+int cli_fit(int argc, char **argv);
 
 #endif

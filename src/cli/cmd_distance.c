@@ -225,9 +225,9 @@ static cJSON *params_json(const lt_cosmo *c)
     for (int id = 0; id < LT_P_COUNT; id++)
         if (lt_cosmo_model_uses(c->model, id) || id == LT_P_OMEGA_DE)
             cJSON_AddItemToObject(o, lt_cosmo_param_name(id),
-                                  cli_json_number(*lt_cosmo_params_slot(&p, id)));
-    cJSON_AddItemToObject(o, "omega_k", cli_json_number(c->omega_k));
-    cJSON_AddItemToObject(o, "omega_r", cli_json_number(c->omega_r));
+                                  lt_json_number(*lt_cosmo_params_slot(&p, id)));
+    cJSON_AddItemToObject(o, "omega_k", lt_json_number(c->omega_k));
+    cJSON_AddItemToObject(o, "omega_r", lt_json_number(c->omega_r));
     return o;
 }
 
@@ -286,7 +286,7 @@ static int print_json(FILE *f, const lt_cosmo *c, size_t n, double *const col[NC
         /* An infinite age or the distance modulus at z = 0 becomes null
          * (DESIGN.md). */
         for (int k = 0; k < NCOL; k++)
-            cJSON_AddItemToObject(row, col_name[k], cli_json_number(col[k][i]));
+            cJSON_AddItemToObject(row, col_name[k], lt_json_number(col[k][i]));
         cJSON_AddItemToArray(rows, row);
     }
     char *text = cJSON_Print(root);

@@ -35,42 +35,40 @@ static void usage(FILE *f)
           f);
 }
 
-static cJSON *num(double v) { return cli_json_number(v); }
-
 static void print_json(const lt_survey_spec *spec, const lt_survey *s,
                        const lt_survey_stats *st, const lt_cov_info *ci)
 {
     cJSON *o = cJSON_CreateObject();
-    cJSON_AddItemToObject(o, "n_data", num((double)s->n));
-    cJSON_AddItemToObject(o, "n_read", num((double)s->n_read));
+    cJSON_AddItemToObject(o, "n_data", lt_json_number((double)s->n));
+    cJSON_AddItemToObject(o, "n_read", lt_json_number((double)s->n_read));
     cJSON_AddStringToObject(o, "observable", lt_obs_name(s->kind));
-    cJSON_AddItemToObject(o, "z_min", num(st->z_min));
-    cJSON_AddItemToObject(o, "z_max", num(st->z_max));
-    cJSON_AddItemToObject(o, "zhel_min", num(st->zhel_min));
-    cJSON_AddItemToObject(o, "zhel_max", num(st->zhel_max));
-    cJSON_AddItemToObject(o, "observable_min", num(st->obs_min));
-    cJSON_AddItemToObject(o, "observable_max", num(st->obs_max));
+    cJSON_AddItemToObject(o, "z_min", lt_json_number(st->z_min));
+    cJSON_AddItemToObject(o, "z_max", lt_json_number(st->z_max));
+    cJSON_AddItemToObject(o, "zhel_min", lt_json_number(st->zhel_min));
+    cJSON_AddItemToObject(o, "zhel_max", lt_json_number(st->zhel_max));
+    cJSON_AddItemToObject(o, "observable_min", lt_json_number(st->obs_min));
+    cJSON_AddItemToObject(o, "observable_max", lt_json_number(st->obs_max));
     cJSON *h = cJSON_AddObjectToObject(o, "z_histogram");
     cJSON *edges = cJSON_AddArrayToObject(h, "edges"), *counts = cJSON_AddArrayToObject(h, "counts");
     for (size_t b = 0; b <= st->nbins; b++)
-        cJSON_AddItemToArray(edges, num(st->edges[b]));
+        cJSON_AddItemToArray(edges, lt_json_number(st->edges[b]));
     for (size_t b = 0; b < st->nbins; b++)
-        cJSON_AddItemToArray(counts, num((double)st->counts[b]));
+        cJSON_AddItemToArray(counts, lt_json_number((double)st->counts[b]));
     if (s->err) {
         cJSON *e = cJSON_AddObjectToObject(o, "err");
-        cJSON_AddItemToObject(e, "min", num(st->err_min));
-        cJSON_AddItemToObject(e, "median", num(st->err_median));
-        cJSON_AddItemToObject(e, "mean", num(st->err_mean));
-        cJSON_AddItemToObject(e, "max", num(st->err_max));
+        cJSON_AddItemToObject(e, "min", lt_json_number(st->err_min));
+        cJSON_AddItemToObject(e, "median", lt_json_number(st->err_median));
+        cJSON_AddItemToObject(e, "mean", lt_json_number(st->err_mean));
+        cJSON_AddItemToObject(e, "max", lt_json_number(st->err_max));
     }
     cJSON *c = cJSON_AddObjectToObject(o, "covariance");
     cJSON_AddStringToObject(c, "kind", lt_cov_kind_name(ci->kind));
     cJSON_AddBoolToObject(c, "positive_definite", ci->positive_definite);
-    cJSON_AddItemToObject(c, "condition", num(ci->condition));
-    cJSON_AddItemToObject(c, "min_eigenvalue", num(ci->min_eigenvalue));
-    cJSON_AddItemToObject(c, "max_eigenvalue", num(ci->max_eigenvalue));
+    cJSON_AddItemToObject(c, "condition", lt_json_number(ci->condition));
+    cJSON_AddItemToObject(c, "min_eigenvalue", lt_json_number(ci->min_eigenvalue));
+    cJSON_AddItemToObject(c, "max_eigenvalue", lt_json_number(ci->max_eigenvalue));
     cJSON_AddStringToObject(c, "method", ci->method);
-    cJSON_AddItemToObject(c, "n_modes", num((double)lt_cov_nmodes(s->cov)));
+    cJSON_AddItemToObject(c, "n_modes", lt_json_number((double)lt_cov_nmodes(s->cov)));
     cJSON_AddBoolToObject(c, "err_diag", !spec->no_err_diag);
     cJSON *files = cJSON_AddObjectToObject(o, "files");
     cJSON_AddStringToObject(files, "data", spec->data);

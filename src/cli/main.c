@@ -21,6 +21,7 @@ static const cli_command commands[] = {
     {"inspect", "read a survey and describe it: size, redshifts, errors, covariance",
      cli_inspect},
     {"simulate", "simulate a survey from a scenario file", cli_simulate},
+    {"fit", "the best fit of a model to a survey, with Laplace errors", cli_fit},
 };
 #define NCOMMANDS (sizeof commands / sizeof commands[0])
 

@@ -201,13 +201,6 @@ static int write_modes(const lt_sim *sim, const lt_scenario *sc, const char *pat
     return close_checked(f, path, err);
 }
 
-static cJSON *jnum(double v)
-{
-    char buf[32];
-    lt_format_double(v, buf, sizeof buf);
-    return cJSON_CreateRaw(buf);
-}
-
 const char *lt_sim_cov_name(size_t n)
 {
     if (n > LT_SIM_DENSE_MAX)
@@ -220,7 +213,7 @@ static int write_truth(const lt_sim *sim, const lt_scenario *sc, const char *cov
 {
     cJSON *o = cJSON_CreateObject();
     cJSON_AddStringToObject(o, "scenario", sc->name);
-    cJSON_AddItemToObject(o, "seed", jnum((double)sc->seed));
+    cJSON_AddItemToObject(o, "seed", lt_json_number((double)sc->seed));
     cJSON_AddStringToObject(o, "model", sc->model->name);
     lt_cosmo c;
     lt_cosmo_init(&c, sc->model, &sc->params, NULL);
@@ -228,26 +221,26 @@ static int write_truth(const lt_sim *sim, const lt_scenario *sc, const char *cov
     lt_cosmo_params q = c.p;
     for (int id = 0; id < LT_P_COUNT; id++)
         if (lt_cosmo_model_uses(sc->model, id) || id == LT_P_OMEGA_DE)
-            cJSON_AddItemToObject(p, lt_cosmo_param_name(id), jnum(*lt_cosmo_params_slot(&q, id)));
-    cJSON_AddItemToObject(p, "omega_k", jnum(c.omega_k));
+            cJSON_AddItemToObject(p, lt_cosmo_param_name(id), lt_json_number(*lt_cosmo_params_slot(&q, id)));
+    cJSON_AddItemToObject(p, "omega_k", lt_json_number(c.omega_k));
     if (sc->kind == LT_OBS_MAG)
-        cJSON_AddItemToObject(p, "offset", jnum(sc->offset));
+        cJSON_AddItemToObject(p, "offset", lt_json_number(sc->offset));
     cJSON_AddStringToObject(o, "observable", lt_obs_name(sc->kind));
-    cJSON_AddItemToObject(o, "n_data", jnum((double)sim->n));
-    cJSON_AddItemToObject(o, "intrinsic_scatter", jnum(sc->intrinsic));
-    cJSON_AddItemToObject(o, "velocity_dispersion_km_s", jnum(sc->velocity_dispersion));
-    cJSON_AddItemToObject(o, "solar_motion_km_s", jnum(sc->solar_motion));
+    cJSON_AddItemToObject(o, "n_data", lt_json_number((double)sim->n));
+    cJSON_AddItemToObject(o, "intrinsic_scatter", lt_json_number(sc->intrinsic));
+    cJSON_AddItemToObject(o, "velocity_dispersion_km_s", lt_json_number(sc->velocity_dispersion));
+    cJSON_AddItemToObject(o, "solar_motion_km_s", lt_json_number(sc->solar_motion));
     cJSON *tiers = cJSON_AddArrayToObject(o, "tiers");
     for (size_t t = 0; t < sc->ntiers; t++) {
         const lt_sim_tier *tr = &sc->tiers[t];
         cJSON *x = cJSON_CreateObject();
         cJSON_AddStringToObject(x, "name", tr->name);
-        cJSON_AddItemToObject(x, "z_min", jnum(tr->z_min));
-        cJSON_AddItemToObject(x, "z_max", jnum(tr->z_max));
-        cJSON_AddItemToObject(x, "count", jnum((double)tr->count));
-        cJSON_AddItemToObject(x, "error", jnum(tr->error));
-        cJSON_AddItemToObject(x, "calibration", jnum(tr->calibration));
-        cJSON_AddItemToObject(x, "calibration_offset_drawn", jnum(sim->calib[t]));
+        cJSON_AddItemToObject(x, "z_min", lt_json_number(tr->z_min));
+        cJSON_AddItemToObject(x, "z_max", lt_json_number(tr->z_max));
+        cJSON_AddItemToObject(x, "count", lt_json_number((double)tr->count));
+        cJSON_AddItemToObject(x, "error", lt_json_number(tr->error));
+        cJSON_AddItemToObject(x, "calibration", lt_json_number(tr->calibration));
+        cJSON_AddItemToObject(x, "calibration_offset_drawn", lt_json_number(sim->calib[t]));
         cJSON_AddStringToObject(x, "spread", tr->volume ? "volume" : "uniform");
         cJSON_AddItemToArray(tiers, x);
     }

@@ -284,6 +284,16 @@ static double base_at(const lt_cov *c, size_t i, size_t j)
     return c->dense[i * c->n + j];
 }
 
+void lt_cov_diagonal(const lt_cov *c, double *out)
+{
+    for (size_t i = 0; i < c->n; i++) {
+        double v = base_at(c, i, i);
+        for (size_t m = 0; m < c->k; m++)
+            v += c->u[i * c->k + m] * c->u[i * c->k + m];
+        out[i] = v;
+    }
+}
+
 void lt_cov_to_dense(const lt_cov *c, double *out)
 {
     size_t n = c->n, k = c->k;

@@ -1,0 +1,304 @@
+/*
+ * What a fitting command is asked to do: the run file (RUN.ini) first, then
+ * the flags, which override it. Shared by fit and, as they land, sample,
+ * compare and run.
+ *
+ * Run files (our own layout; paths are relative to the run file's folder):
+ *   [run]     name
+ *   [data]    file, columns, cov (comma-separated), modes, no_err_diag,
+ *             zmin, zmax, keep_ids, drop_ids
+ *   [model]   name, offset (none | marginal | sampled)
+ *   [priors]  PARAM = uniform:LO:HI | gauss:MEAN:SD
+ *   [fixed]   PARAM = VALUE
+ *   [fit]     starts, seed
+ *   [output]  dir, format
+ * Unknown sections and keys, over-long lines and bad values are errors
+ * naming the file and line.
+ */
+#include <stdlib.h>
+#include <string.h>
+
+#include "cli.h"
+
+void cli_job_init(cli_job *j)
+{
+    memset(j, 0, sizeof *j);
+    lt_survey_spec_init(&j->data);
+    j->seed = 1;
+    j->starts = 8;
+    j->format = "table";
+}
+
+void cli_job_free(cli_job *j)
+{
+    for (size_t i = 0; i < j->npool; i++)
+        free(j->pool[i]);
+    lt_ini_free(j->ini);
+}
+
+static const char *keep(cli_job *j, char *s)
+{
+    if (!s || j->npool == sizeof j->pool / sizeof j->pool[0]) {
+        free(s);
+        return NULL;
+    }
+    return j->pool[j->npool++] = s;
+}
+
+/* A path from the run file, relative to the run file's folder. */
+static const char *resolve(cli_job *j, const char *path)
+{
+    if (path[0] == '/' || !strchr(j->ini->path, '/'))
+        return path;
+    size_t dir = (size_t)(strrchr(j->ini->path, '/') - j->ini->path);
+    char *s = malloc(dir + strlen(path) + 2);
+    if (s)
+        sprintf(s, "%.*s/%s", (int)dir, j->ini->path, path);
+    return keep(j, s);
+}
+
+static int parse_bool(const char *v, int *out)
+{
+    if (!strcmp(v, "true") || !strcmp(v, "yes") || !strcmp(v, "1"))
+        return *out = 1, 0;
+    if (!strcmp(v, "false") || !strcmp(v, "no") || !strcmp(v, "0"))
+        return *out = 0, 0;
+    return -1;
+}
+
+static int file_error(const cli_job *j, const lt_ini_entry *e, const char *fmt, const char *v)
+{
+    char msg[512];
+    snprintf(msg, sizeof msg, fmt, e->key, v);
+    lt_error err;
+    lt_error_set(&err, LT_EINPUT, j->ini->path, e->line, "%s", msg);
+    return cli_report(&err);
+}
+
+static int add_kv(cli_kv *list, size_t *n, const char *name, const char *value,
+                  const char *file, long line)
+{
+    if (*n == CLI_MAX_PAR)
+        return -1;
+    list[(*n)++] = (cli_kv){name, value, file, line};
+    return 0;
+}
+
+int cli_job_load(cli_job *j, const char *path)
+{
+    lt_error err;
+    lt_error_clear(&err);
+    j->ini = lt_ini_read(path, &err);
+    if (!j->ini)
+        return cli_report(&err);
+    lt_ini *ini = j->ini;
+    lt_ini_entry *e;
+    lt_ini_has_section(ini, "run");
+    if ((e = lt_ini_get(ini, "run", "name")))
+        j->name = e->value;
+
+    /* [data] */
+    if ((e = lt_ini_get(ini, "data", "file")))
+        j->data.data = resolve(j, e->value);
+    if ((e = lt_ini_get(ini, "data", "columns")))
+        j->data.columns = e->value;
+    if ((e = lt_ini_get(ini, "data", "cov"))) {
+        char *list = strdup(e->value), *save = NULL;
+        keep(j, list);
+        for (char *p = list ? strtok_r(list, ",", &save) : NULL; p; p = strtok_r(NULL, ",", &save)) {
+            while (*p == ' ' || *p == '\t')
+                p++;
+            size_t n = strlen(p);
+            while (n && (p[n - 1] == ' ' || p[n - 1] == '\t'))
+                p[--n] = '\0';
+            if (!*p)
+                continue;
+            if (j->data.ncov == LT_SURVEY_MAX_COV)
+                return file_error(j, e, "%s lists more than 16 files%s", "");
+            j->data.cov[j->data.ncov++] = resolve(j, p);
+        }
+    }
+    if ((e = lt_ini_get(ini, "data", "modes")))
+        j->data.modes = resolve(j, e->value);
+    if ((e = lt_ini_get(ini, "data", "no_err_diag")) && parse_bool(e->value, &j->data.no_err_diag))
+        return file_error(j, e, "%s = '%s' is not true or false", e->value);
+    const char *zkeys[2] = {"zmin", "zmax"};
+    double *zs[2] = {&j->data.zmin, &j->data.zmax};
+    for (int k = 0; k < 2; k++)
+        if ((e = lt_ini_get(ini, "data", zkeys[k])) &&
+            (lt_parse_double(e->value, zs[k]) || *zs[k] < 0))
+            return file_error(j, e, "%s = '%s' is not a redshift >= 0", e->value);
+    if ((e = lt_ini_get(ini, "data", "keep_ids")))
+        j->data.keep_ids = resolve(j, e->value);
+    if ((e = lt_ini_get(ini, "data", "drop_ids")))
+        j->data.drop_ids = resolve(j, e->value);
+
+    /* [model], [priors], [fixed] */
+    if ((e = lt_ini_get(ini, "model", "name")))
+        j->model = e->value;
+    if ((e = lt_ini_get(ini, "model", "offset")))
+        j->offset = e->value;
+    lt_ini_has_section(ini, "priors");
+    lt_ini_has_section(ini, "fixed");
+    for (size_t i = 0; i < ini->n; i++) {
+        lt_ini_entry *x = &ini->entries[i];
+        int is_prior = !strcmp(x->section, "priors"), is_fix = !strcmp(x->section, "fixed");
+        if (!is_prior && !is_fix)
+            continue;
+        x->used = 1;
+        if (add_kv(is_prior ? j->priors : j->fixes, is_prior ? &j->npriors : &j->nfixes, x->key,
+                   x->value, ini->path, x->line))
+            return file_error(j, x, "too many entries (%s%s)", "");
+    }
+
+    /* [fit], [output] */
+    long v;
+    if ((e = lt_ini_get(ini, "fit", "starts"))) {
+        if (lt_parse_long(e->value, 1, 1000, &v))
+            return file_error(j, e, "%s = '%s' is not a whole number from 1 to 1000", e->value);
+        j->starts = v;
+    }
+    if ((e = lt_ini_get(ini, "fit", "seed"))) {
+        if (lt_parse_long(e->value, 0, 4294967295L, &v))
+            return file_error(j, e, "%s = '%s' is not a seed (0 to 4294967295)", e->value);
+        j->seed = (unsigned long)v;
+    }
+    if ((e = lt_ini_get(ini, "output", "dir")))
+        j->out = resolve(j, e->value);
+    if ((e = lt_ini_get(ini, "output", "format")))
+        j->format = e->value;
+    if (lt_ini_check_used(ini, &err))
+        return cli_report(&err);
+    return CLI_OK;
+}
+
+/* "--prior NAME=SPEC" or "--fix NAME=VALUE" into the job's lists. */
+static void take_entry(cli_args *a, cli_job *j, int prior, const char *v)
+{
+    const char *flag = prior ? "--prior" : "--fix";
+    char *copy = (char *)keep(j, strdup(v));
+    char *eq = copy ? strchr(copy, '=') : NULL;
+    if (!eq || eq == copy) {
+        cli_usage_error(flag, "'%s' is not NAME=%s", v,
+                        prior ? "uniform:LO:HI or NAME=gauss:MEAN:SD" : "VALUE");
+        a->failed = 1;
+        return;
+    }
+    *eq = '\0';
+    if (add_kv(prior ? j->priors : j->fixes, prior ? &j->npriors : &j->nfixes, copy, eq + 1,
+               NULL, 0)) {
+        cli_usage_error(flag, "given too many times");
+        a->failed = 1;
+    }
+}
+
+int cli_take_job(cli_args *a, cli_job *j)
+{
+    const char *v, *arg = a->argv[a->i];
+    if (!strcmp(arg, "--cov") || !strncmp(arg, "--cov=", 6)) {
+        /* a --cov on the command line replaces the run file's list */
+        if (!j->cov_from_flags) {
+            j->data.ncov = 0;
+            j->cov_from_flags = 1;
+        }
+        return cli_take_data(a, &j->data);
+    }
+    if (cli_take_data(a, &j->data))
+        return 1;
+    if (cli_take(a, "--model", &v)) {
+        j->model = v;
+    } else if (cli_take(a, "--offset", &v)) {
+        j->offset = v;
+    } else if (cli_take(a, "--prior", &v)) {
+        take_entry(a, j, 1, v);
+    } else if (cli_take(a, "--fix", &v)) {
+        take_entry(a, j, 0, v);
+    } else if (cli_take(a, "--seed", &v)) {
+        long s;
+        if (lt_parse_long(v, 0, 4294967295L, &s)) {
+            cli_usage_error("--seed", "'%s' is not a seed (0 to 4294967295)", v);
+            a->failed = 1;
+        }
+        j->seed = (unsigned long)s;
+    } else if (cli_take(a, "--starts", &v)) {
+        if (lt_parse_long(v, 1, 1000, &j->starts)) {
+            cli_usage_error("--starts", "'%s' is not a whole number from 1 to 1000", v);
+            a->failed = 1;
+        }
+    } else if (cli_take(a, "--out", &v)) {
+        j->out = v;
+    } else if (cli_take(a, "--format", &v)) {
+        j->format = v;
+    } else if (cli_flag(a, "--force")) {
+        j->force = 1;
+    } else {
+        return 0;
+    }
+    return 1;
+}
+
+/* One prior or fix entry into spec; prints the error. */
+static int apply_kv(const cli_kv *kv, int prior, const lt_cosmo_model *m, lt_like_spec *spec,
+                    const char *src_flags[LT_NPAR])
+{
+    const char *where = kv->file ? kv->file : prior ? "--prior" : "--fix";
+    lt_error err;
+    int id = lt_par_find(kv->name);
+    if (id < 0) {
+        lt_error_set(&err, LT_EINPUT, where, kv->line,
+                     "unknown parameter '%s' (parameters: h0, omega_m, omega_de, w0, wa, "
+                     "t_cmb, n_eff, offset)",
+                     kv->name);
+        return cli_report(&err);
+    }
+    /* the same parameter twice from the same place is a mistake; a flag
+     * after the run file overrides it */
+    const char *src = kv->file ? "file" : "flag";
+    if (src_flags[id] && !strcmp(src_flags[id], src)) {
+        lt_error_set(&err, LT_EINPUT, where, kv->line, "%s is given twice", kv->name);
+        return cli_report(&err);
+    }
+    src_flags[id] = src;
+    if (prior) {
+        if (lt_prior_parse(kv->value, &spec->prior[id], &err)) {
+            lt_error_locate(&err, LT_EINPUT, where, kv->line);
+            return cli_report(&err);
+        }
+        spec->has_prior[id] = 1;
+        spec->has_fix[id] = 0;
+    } else {
+        if (lt_parse_double(kv->value, &spec->fix[id])) {
+            lt_error_set(&err, LT_EINPUT, where, kv->line, "%s = '%s' is not a finite number",
+                         kv->name, kv->value);
+            return cli_report(&err);
+        }
+        spec->has_fix[id] = 1;
+        spec->has_prior[id] = 0;
+    }
+    (void)m;
+    return CLI_OK;
+}
+
+int cli_job_like_spec(const cli_job *j, const lt_cosmo_model *m, lt_like_spec *spec)
+{
+    lt_like_spec_init(spec, m);
+    if (j->offset) {
+        int mode = lt_offset_parse(j->offset);
+        if (mode < 0)
+            return cli_usage_error("--offset", "'%s' is not none, marginal or sampled", j->offset);
+        spec->offset = (lt_offset_mode)mode;
+    }
+    const char *prior_src[LT_NPAR] = {0}, *fix_src[LT_NPAR] = {0};
+    /* file entries first, flags after: later ones override */
+    for (int pass = 0; pass < 2; pass++) {
+        for (size_t i = 0; i < j->npriors; i++)
+            if ((j->priors[i].file != NULL) == (pass == 0) &&
+                apply_kv(&j->priors[i], 1, m, spec, prior_src))
+                return CLI_USAGE;
+        for (size_t i = 0; i < j->nfixes; i++)
+            if ((j->fixes[i].file != NULL) == (pass == 0) &&
+                apply_kv(&j->fixes[i], 0, m, spec, fix_src))
+                return CLI_USAGE;
+    }
+    return CLI_OK;
+}

@@ -1,0 +1,153 @@
+/*
+ * The best fit of a likelihood: seeded starts inside the prior, the
+ * optimiser, the Laplace covariance, derived parameters and the summary
+ * numbers (chi2 probability, AIC, BIC).
+ */
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include <gsl/gsl_cdf.h>
+#include <gsl/gsl_randist.h>
+#include <gsl/gsl_rng.h>
+
+#include "lantern/inference.h"
+
+typedef struct {
+    const lt_like *l;
+    lt_like_work *w;
+} fit_ctx;
+
+/* -2 ln posterior */
+static double objective(const double *x, void *p)
+{
+    fit_ctx *c = p;
+    lt_like_point pt;
+    lt_like_eval(c->l, c->w, x, &pt);
+    return -2.0 * pt.logpost;
+}
+
+/* A point inside the prior: the centre, or a random draw. */
+static void prior_point(const lt_prior *p, gsl_rng *r, int centre, double *x)
+{
+    if (p->kind == LT_PRIOR_UNIFORM)
+        *x = centre ? 0.5 * (p->a + p->b) : p->a + (p->b - p->a) * gsl_rng_uniform(r);
+    else
+        *x = centre ? p->a : p->a + p->b * gsl_ran_gaussian(r, 1.0);
+}
+
+static double prior_scale(const lt_prior *p)
+{
+    return p->kind == LT_PRIOR_UNIFORM ? p->b - p->a : 4.0 * p->b;
+}
+
+int lt_fit_run(const lt_like *l, const lt_fit_opts *o, lt_fit_result *r, lt_error *err)
+{
+    memset(r, 0, sizeof *r);
+    size_t d = lt_like_dim(l);
+    r->dim = d;
+    for (size_t i = 0; i < d; i++)
+        r->id[i] = lt_like_param_id(l, i);
+    fit_ctx ctx = {l, lt_like_work_alloc(l)};
+    size_t nstarts = o->starts ? o->starts : 1;
+    double *starts = malloc((nstarts * d + 1) * sizeof *starts);
+    double scale[LT_NPAR];
+    gsl_rng *rng = gsl_rng_alloc(gsl_rng_mt19937);
+    int rc = LT_OK;
+    if (!ctx.w || !starts || !rng) {
+        rc = lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
+        goto done;
+    }
+    gsl_rng_set(rng, o->seed);
+    for (size_t i = 0; i < d; i++)
+        scale[i] = prior_scale(lt_like_prior(l, i));
+    /* Starts must be possible points: redraw (up to a limit) those that
+     * are not, such as a curved universe without a big bang. */
+    for (size_t k = 0; k < nstarts; k++) {
+        double *x = starts + k * d;
+        int tries = 0;
+        do {
+            for (size_t i = 0; i < d; i++)
+                prior_point(lt_like_prior(l, i), rng, k == 0 && tries == 0, &x[i]);
+        } while (!isfinite(objective(x, &ctx)) && ++tries < 10000);
+    }
+    lt_optim_opts oo = {d, nstarts, starts, scale, 1e-8, 2000 * (d + 1)};
+    if ((rc = lt_optimize(objective, &ctx, &oo, r->best, &r->f_best, &r->info, err)))
+        goto done;
+    lt_like_eval(l, ctx.w, r->best, &r->at_best);
+
+    size_t bad;
+    lt_error lerr;
+    r->laplace_ok = lt_laplace(objective, &ctx, d, r->best, scale, r->cov, &bad, &lerr) == LT_OK;
+    if (!r->laplace_ok) {
+        snprintf(r->laplace_note, sizeof r->laplace_note, "%s", lerr.msg);
+        if (bad < d)
+            snprintf(r->laplace_note, sizeof r->laplace_note,
+                     "the best fit of %s lies at the edge of its prior or of the physical "
+                     "domain: no Laplace errors",
+                     lt_par_name(r->id[bad]));
+    }
+    for (size_t i = 0; i < d; i++)
+        r->sd[i] = r->laplace_ok ? sqrt(r->cov[i * d + i]) : NAN;
+
+    r->dof = lt_like_dof(l);
+    r->k_counted = lt_like_nparams_counted(l);
+    double chi2 = r->at_best.chi2, n = (double)lt_like_survey(l)->n;
+    r->p_value = r->dof > 0 ? gsl_cdf_chisq_Q(chi2, (double)r->dof) : NAN;
+    r->aic = chi2 + 2.0 * (double)r->k_counted;
+    r->bic = chi2 + (double)r->k_counted * log(n);
+
+    /* Derived parameters: value at the best fit, sigma by the delta method
+     * (gradient by central differences with steps of sigma/100). */
+    double y[LT_NPAR];
+    for (int k = 0; k < LT_NDER; k++) {
+        if (!(r->has_der[k] = lt_like_has_derived(l, k)))
+            continue;
+        r->der_best[k] = lt_like_derived(l, r->best, k);
+        r->der_sd[k] = NAN;
+        if (!r->laplace_ok || !isfinite(r->der_best[k]))
+            continue;
+        double g[LT_NPAR];
+        int ok = 1;
+        for (size_t i = 0; i < d && ok; i++) {
+            double h = 0.01 * r->sd[i];
+            memcpy(y, r->best, d * sizeof *y);
+            y[i] += h;
+            double gp = lt_like_derived(l, y, k);
+            y[i] -= 2 * h;
+            double gm = lt_like_derived(l, y, k);
+            g[i] = (gp - gm) / (2 * h);
+            ok = isfinite(g[i]);
+        }
+        if (!ok)
+            continue;
+        double var = 0.0;
+        for (size_t i = 0; i < d; i++)
+            for (size_t j = 0; j < d; j++)
+                var += g[i] * r->cov[i * d + j] * g[j];
+        r->der_sd[k] = sqrt(fmax(var, 0.0));
+    }
+    /* The w0-wa pivot. */
+    int iw0 = -1, iwa = -1;
+    for (size_t i = 0; i < d; i++) {
+        if (r->id[i] == LT_P_W0)
+            iw0 = (int)i;
+        if (r->id[i] == LT_P_WA)
+            iwa = (int)i;
+    }
+    if (iw0 >= 0 && iwa >= 0 && r->laplace_ok) {
+        double c01 = r->cov[iw0 * d + iwa], v1 = r->cov[iwa * d + iwa], v0 = r->cov[iw0 * d + iw0];
+        r->z_pivot = lt_pivot_redshift(c01, v1);
+        if (isfinite(r->z_pivot)) {
+            double a_p = 1.0 / (1.0 + r->z_pivot);
+            r->has_pivot = 1;
+            r->w_pivot = r->best[iw0] + r->best[iwa] * (1.0 - a_p);
+            r->w_pivot_sd = sqrt(fmax(v0 - c01 * c01 / v1, 0.0));
+        }
+    }
+done:
+    gsl_rng_free(rng);
+    free(starts);
+    lt_like_work_free(ctx.w);
+    return rc;
+}

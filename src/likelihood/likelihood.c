@@ -1,0 +1,499 @@
+/*
+ * The supernova likelihood: see include/lantern/likelihood.h.
+ */
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "lantern/likelihood.h"
+
+/* ---- parameter names ---- */
+const char *lt_par_name(int id)
+{
+    return id == LT_PAR_OFFSET ? "offset" : lt_cosmo_param_name(id);
+}
+
+int lt_par_find(const char *name)
+{
+    if (name && !strcmp(name, "offset"))
+        return LT_PAR_OFFSET;
+    return lt_cosmo_param_find(name);
+}
+
+const char *lt_offset_name(lt_offset_mode m)
+{
+    switch (m) {
+    case LT_OFFSET_NONE: return "none";
+    case LT_OFFSET_MARGINAL: return "marginal";
+    case LT_OFFSET_SAMPLED: return "sampled";
+    default: return "default";
+    }
+}
+
+int lt_offset_parse(const char *text)
+{
+    if (!strcmp(text, "none"))
+        return LT_OFFSET_NONE;
+    if (!strcmp(text, "marginal"))
+        return LT_OFFSET_MARGINAL;
+    if (!strcmp(text, "sampled"))
+        return LT_OFFSET_SAMPLED;
+    return -1;
+}
+
+/* ---- priors ---- */
+int lt_prior_parse(const char *text, lt_prior *p, lt_error *err)
+{
+    char buf[256];
+    if (strlen(text) >= sizeof buf)
+        return lt_error_set(err, LT_EINPUT, NULL, 0, "prior '%.40s...' is too long", text);
+    strcpy(buf, text);
+    char *f[4] = {0};
+    int n = 0;
+    for (char *s = buf; n < 4;) {
+        f[n++] = s;
+        char *c = strchr(s, ':');
+        if (!c)
+            break;
+        *c = '\0';
+        s = c + 1;
+    }
+    double a, b;
+    if (n != 3 || lt_parse_double(f[1], &a) || lt_parse_double(f[2], &b))
+        return lt_error_set(err, LT_EINPUT, NULL, 0,
+                            "prior '%s' is not uniform:LO:HI or gauss:MEAN:SD", text);
+    if (!strcmp(f[0], "uniform")) {
+        if (!(a < b))
+            return lt_error_set(err, LT_EINPUT, NULL, 0,
+                                "prior '%s': impossible bounds, need LO < HI", text);
+        *p = (lt_prior){LT_PRIOR_UNIFORM, a, b};
+    } else if (!strcmp(f[0], "gauss")) {
+        if (!(b > 0))
+            return lt_error_set(err, LT_EINPUT, NULL, 0,
+                                "prior '%s': the standard deviation must be > 0", text);
+        *p = (lt_prior){LT_PRIOR_GAUSS, a, b};
+    } else {
+        return lt_error_set(err, LT_EINPUT, NULL, 0,
+                            "prior '%s': the kind must be uniform or gauss", text);
+    }
+    return LT_OK;
+}
+
+double lt_prior_logpdf(const lt_prior *p, double x)
+{
+    if (p->kind == LT_PRIOR_UNIFORM)
+        return x >= p->a && x <= p->b ? -log(p->b - p->a) : -INFINITY;
+    double u = (x - p->a) / p->b;
+    return -0.5 * u * u - log(p->b) - 0.5 * log(2.0 * M_PI);
+}
+
+void lt_prior_format(const lt_prior *p, char *buf, size_t size)
+{
+    snprintf(buf, size, p->kind == LT_PRIOR_UNIFORM ? "U(%g, %g)" : "N(%g, %g)", p->a, p->b);
+}
+
+lt_prior lt_prior_default(int id, lt_obs kind)
+{
+    switch (id) {
+    case LT_P_H0: return (lt_prior){LT_PRIOR_UNIFORM, 40, 100};
+    case LT_P_OMEGA_M: return (lt_prior){LT_PRIOR_UNIFORM, 0, 1};
+    case LT_P_OMEGA_DE: return (lt_prior){LT_PRIOR_UNIFORM, 0, 1.6};
+    case LT_P_W0: return (lt_prior){LT_PRIOR_UNIFORM, -2, 0};
+    case LT_P_WA: return (lt_prior){LT_PRIOR_UNIFORM, -3, 2};
+    case LT_PAR_OFFSET:
+        return kind == LT_OBS_MAG ? (lt_prior){LT_PRIOR_UNIFORM, -21, -17}
+                                  : (lt_prior){LT_PRIOR_UNIFORM, -2, 2};
+    default: return (lt_prior){LT_PRIOR_UNIFORM, 0, 0};
+    }
+}
+
+void lt_like_spec_init(lt_like_spec *s, const lt_cosmo_model *m)
+{
+    memset(s, 0, sizeof *s);
+    s->model = m;
+    s->offset = LT_OFFSET_DEFAULT;
+}
+
+/* ---- the likelihood ---- */
+struct lt_like {
+    const lt_survey *s;
+    const lt_cosmo_model *model;
+    lt_offset_mode offset;
+    size_t dim;
+    int id[LT_NPAR];
+    lt_prior prior[LT_NPAR];
+    lt_cosmo_params base;
+    int h0_known;
+    lt_zgrid *grid;
+    double *cinv1;    /* C^-1 1 (marginal offset) */
+    double c_sum;     /* 1^T C^-1 1 */
+    double ln_c_term; /* ln(C / 2 pi) */
+};
+
+struct lt_like_work {
+    double *dm, *r, *cov_work;
+};
+
+size_t lt_like_dim(const lt_like *l) { return l->dim; }
+int lt_like_param_id(const lt_like *l, size_t i) { return l->id[i]; }
+const lt_prior *lt_like_prior(const lt_like *l, size_t i) { return &l->prior[i]; }
+lt_offset_mode lt_like_offset_mode(const lt_like *l) { return l->offset; }
+const lt_survey *lt_like_survey(const lt_like *l) { return l->s; }
+const lt_cosmo_model *lt_like_model(const lt_like *l) { return l->model; }
+const lt_cosmo_params *lt_like_base(const lt_like *l) { return &l->base; }
+int lt_like_h0_known(const lt_like *l) { return l->h0_known; }
+
+long lt_like_dof(const lt_like *l)
+{
+    return (long)l->s->n - (long)l->dim - (l->offset == LT_OFFSET_MARGINAL);
+}
+
+size_t lt_like_nparams_counted(const lt_like *l)
+{
+    return l->dim + (l->offset == LT_OFFSET_MARGINAL);
+}
+
+void lt_like_free(lt_like *l)
+{
+    if (!l)
+        return;
+    lt_zgrid_free(l->grid);
+    free(l->cinv1);
+    free(l);
+}
+
+static int check_spec(const lt_survey *s, const lt_like_spec *spec, lt_offset_mode offset,
+                      lt_error *err)
+{
+    const lt_cosmo_model *m = spec->model;
+    for (int id = 0; id < LT_NPAR; id++) {
+        if (!spec->has_prior[id] && !spec->has_fix[id])
+            continue;
+        const char *name = lt_par_name(id), *what = spec->has_prior[id] ? "--prior" : "--fix";
+        if (spec->has_prior[id] && spec->has_fix[id])
+            return lt_error_set(err, LT_EINPUT, "--prior", 0,
+                                "%s has both a prior and a fixed value; give one", name);
+        if (id == LT_PAR_OFFSET) {
+            if (s->kind == LT_OBS_DL)
+                return lt_error_set(err, LT_EINPUT, what, 0,
+                                    "dl data have no offset; drop the %s on offset", what);
+            continue;
+        }
+        if (id == LT_P_OMEGA_DE && m->flat)
+            return lt_error_set(err, LT_EINPUT, what, 0,
+                                "omega_de is derived in the flat model %s (1 - omega_m - "
+                                "omega_r); use a curved model to constrain it",
+                                m->name);
+        if (!lt_cosmo_model_uses(m, id))
+            return lt_error_set(err, LT_EINPUT, what, 0, "model %s has no parameter %s",
+                                m->name, name);
+        if ((id == LT_P_T_CMB || id == LT_P_N_EFF) && spec->has_prior[id])
+            return lt_error_set(err, LT_EINPUT, "--prior", 0,
+                                "%s can be fixed (--fix %s=...) but not fitted", name, name);
+        if (id == LT_P_H0 && spec->has_prior[id] && offset == LT_OFFSET_MARGINAL)
+            return lt_error_set(err, LT_EINPUT, "--prior", 0,
+                                "h0 is degenerate with the marginalised offset of mag data; "
+                                "give a prior on offset (an absolute-magnitude calibration) to "
+                                "fit both");
+    }
+    return LT_OK;
+}
+
+lt_like *lt_like_alloc(const lt_survey *s, const lt_like_spec *spec, lt_error *err)
+{
+    if (!spec->model) {
+        lt_error_set(err, LT_EINPUT, "--model", 0, "no model given");
+        return NULL;
+    }
+    lt_offset_mode offset = spec->offset;
+    if (offset == LT_OFFSET_DEFAULT)
+        offset = spec->has_prior[LT_PAR_OFFSET] ? LT_OFFSET_SAMPLED
+                 : s->kind == LT_OBS_MAG        ? LT_OFFSET_MARGINAL
+                                                : LT_OFFSET_NONE;
+    if (offset != LT_OFFSET_NONE && s->kind == LT_OBS_DL) {
+        lt_error_set(err, LT_EINPUT, "--offset", 0, "dl data have no offset");
+        return NULL;
+    }
+    if (offset == LT_OFFSET_NONE && s->kind == LT_OBS_MAG) {
+        lt_error_set(err, LT_EINPUT, "--offset", 0,
+                     "mag data need an offset (the absolute magnitude): marginal or sampled");
+        return NULL;
+    }
+    if (spec->has_prior[LT_PAR_OFFSET] && offset == LT_OFFSET_MARGINAL) {
+        lt_error_set(err, LT_EINPUT, "--prior", 0,
+                     "a prior on offset makes it sampled; it cannot also be marginalised");
+        return NULL;
+    }
+    if (spec->has_fix[LT_PAR_OFFSET] && offset != LT_OFFSET_SAMPLED &&
+        spec->offset != LT_OFFSET_DEFAULT) {
+        lt_error_set(err, LT_EINPUT, "--fix", 0,
+                     "a fixed offset needs the offset mode 'sampled' (or no --offset)");
+        return NULL;
+    }
+    if (spec->has_fix[LT_PAR_OFFSET])
+        offset = LT_OFFSET_SAMPLED; /* a fixed offset is a sampled one that does not move */
+    if (check_spec(s, spec, offset, err))
+        return NULL;
+
+    lt_like *l = calloc(1, sizeof *l);
+    if (!l) {
+        lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
+        return NULL;
+    }
+    l->s = s;
+    l->model = spec->model;
+    l->offset = offset;
+    lt_cosmo_params_default(&l->base);
+    for (int id = 0; id < LT_P_COUNT; id++)
+        if (spec->has_fix[id])
+            *lt_cosmo_params_slot(&l->base, id) = spec->fix[id];
+    /* The free parameters, in id order. */
+    for (int id = 0; id < LT_NPAR; id++) {
+        if (spec->has_fix[id])
+            continue;
+        int free_par;
+        if (id == LT_PAR_OFFSET)
+            free_par = offset == LT_OFFSET_SAMPLED;
+        else if (id == LT_P_T_CMB || id == LT_P_N_EFF || !lt_cosmo_model_uses(l->model, id))
+            free_par = 0;
+        else if (id == LT_P_H0)
+            free_par = offset != LT_OFFSET_MARGINAL;
+        else
+            free_par = 1;
+        if (!free_par)
+            continue;
+        l->id[l->dim] = id;
+        l->prior[l->dim] = spec->has_prior[id] ? spec->prior[id] : lt_prior_default(id, s->kind);
+        l->dim++;
+    }
+    l->h0_known = spec->has_fix[LT_P_H0] || offset != LT_OFFSET_MARGINAL;
+    lt_cosmo c;
+    if (lt_cosmo_init(&c, l->model, &l->base, err))
+        goto fail;
+    l->grid = lt_zgrid_alloc(s->n, s->z, err);
+    if (!l->grid)
+        goto fail;
+    if (offset == LT_OFFSET_MARGINAL) {
+        size_t n = s->n;
+        double *ones = malloc(n * sizeof *ones);
+        double *work = malloc(lt_cov_work_size(s->cov) * sizeof *work);
+        l->cinv1 = malloc(n * sizeof *l->cinv1);
+        if (!ones || !work || !l->cinv1) {
+            free(ones);
+            free(work);
+            lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
+            goto fail;
+        }
+        for (size_t i = 0; i < n; i++)
+            ones[i] = 1.0;
+        lt_cov_solve(s->cov, ones, l->cinv1, work);
+        l->c_sum = 0.0;
+        for (size_t i = 0; i < n; i++)
+            l->c_sum += l->cinv1[i];
+        l->ln_c_term = log(l->c_sum / (2.0 * M_PI));
+        free(ones);
+        free(work);
+    }
+    return l;
+fail:
+    lt_like_free(l);
+    return NULL;
+}
+
+lt_like_work *lt_like_work_alloc(const lt_like *l)
+{
+    lt_like_work *w = calloc(1, sizeof *w);
+    if (!w)
+        return NULL;
+    size_t n = l->s->n;
+    w->dm = malloc(n * sizeof *w->dm);
+    w->r = malloc(n * sizeof *w->r);
+    w->cov_work = malloc(lt_cov_work_size(l->s->cov) * sizeof *w->cov_work);
+    if (!w->dm || !w->r || !w->cov_work) {
+        lt_like_work_free(w);
+        return NULL;
+    }
+    return w;
+}
+
+void lt_like_work_free(lt_like_work *w)
+{
+    if (!w)
+        return;
+    free(w->dm);
+    free(w->r);
+    free(w->cov_work);
+    free(w);
+}
+
+/* The full parameter set at theta; the sampled offset goes to *offset. */
+static void fill_params(const lt_like *l, const double *theta, lt_cosmo_params *p,
+                        double *offset)
+{
+    *p = l->base;
+    *offset = 0.0;
+    for (size_t i = 0; i < l->dim; i++) {
+        if (l->id[i] == LT_PAR_OFFSET)
+            *offset = theta[i];
+        else
+            *lt_cosmo_params_slot(p, l->id[i]) = theta[i];
+    }
+}
+
+int lt_like_cosmo(const lt_like *l, const double *theta, lt_cosmo *c, lt_error *err)
+{
+    lt_cosmo_params p;
+    double offset;
+    fill_params(l, theta, &p, &offset);
+    return lt_cosmo_init(c, l->model, &p, err);
+}
+
+/* Residuals observed - prediction (without any offset) into w->r; -1 if the
+ * parameters are outside the physical domain. */
+static int residuals(const lt_like *l, lt_like_work *w, const lt_cosmo *c)
+{
+    lt_cosmo_table t = {.transverse = w->dm};
+    if (lt_cosmo_eval(c, l->grid, &t, NULL) != LT_OK)
+        return -1;
+    const lt_survey *s = l->s;
+    if (s->kind == LT_OBS_DL) {
+        for (size_t i = 0; i < s->n; i++)
+            w->r[i] = s->obs[i] - (1.0 + s->zhel[i]) * w->dm[i];
+    } else {
+        for (size_t i = 0; i < s->n; i++) {
+            double dl = (1.0 + s->zhel[i]) * w->dm[i];
+            if (!(dl > 0.0))
+                return -1; /* a negative distance: beyond the antipode's reach */
+            w->r[i] = s->obs[i] - (5.0 * log10(dl) + 25.0);
+        }
+    }
+    return 0;
+}
+
+void lt_like_eval(const lt_like *l, lt_like_work *w, const double *theta, lt_like_point *out)
+{
+    out->logprior = 0.0;
+    for (size_t i = 0; i < l->dim; i++)
+        out->logprior += lt_prior_logpdf(&l->prior[i], theta[i]);
+    out->chi2 = out->chi2_eff = INFINITY;
+    out->loglike = out->logpost = -INFINITY;
+    out->offset = 0.0;
+    out->domain_ok = 0;
+    if (!isfinite(out->logprior))
+        return; /* outside the prior: no need to integrate anything */
+    lt_cosmo_params p;
+    double offset;
+    fill_params(l, theta, &p, &offset);
+    lt_cosmo c;
+    if (lt_cosmo_init(&c, l->model, &p, NULL) != LT_OK || residuals(l, w, &c) != 0)
+        return;
+    const lt_survey *s = l->s;
+    if (l->offset == LT_OFFSET_SAMPLED)
+        for (size_t i = 0; i < s->n; i++)
+            w->r[i] -= offset;
+    double a = lt_cov_chi2(s->cov, w->r, w->cov_work);
+    if (l->offset == LT_OFFSET_MARGINAL) {
+        double b = 0.0;
+        for (size_t i = 0; i < s->n; i++)
+            b += l->cinv1[i] * w->r[i];
+        out->chi2 = a - b * b / l->c_sum;
+        out->chi2_eff = out->chi2 + l->ln_c_term;
+        out->offset = b / l->c_sum;
+    } else {
+        out->chi2 = out->chi2_eff = a;
+        out->offset = offset;
+    }
+    out->domain_ok = 1;
+    out->loglike = -0.5 * out->chi2_eff;
+    out->logpost = out->loglike + out->logprior;
+}
+
+int lt_like_predict(const lt_like *l, lt_like_work *w, const double *theta, double *model,
+                    lt_error *err)
+{
+    lt_like_point pt;
+    lt_like_eval(l, w, theta, &pt);
+    if (!pt.domain_ok)
+        return lt_error_set(err, LT_EDOMAIN, NULL, 0,
+                            "the parameters are outside the prior or the physical domain");
+    /* lt_like_eval left observed - prediction (with a sampled offset) in r */
+    double shift = l->offset == LT_OFFSET_MARGINAL ? pt.offset : 0.0;
+    for (size_t i = 0; i < l->s->n; i++)
+        model[i] = l->s->obs[i] - w->r[i] + shift;
+    return LT_OK;
+}
+
+/* ---- derived parameters ---- */
+const char *lt_derived_name(int d)
+{
+    static const char *names[LT_NDER] = {"omega_k", "omega_de", "q0", "z_t", "age_gyr"};
+    return d >= 0 && d < LT_NDER ? names[d] : NULL;
+}
+
+int lt_like_has_derived(const lt_like *l, int d)
+{
+    switch (d) {
+    case LT_DER_OMEGA_K: return !l->model->flat;
+    case LT_DER_OMEGA_DE: return l->model->flat;
+    case LT_DER_Q0:
+    case LT_DER_Z_T: return 1;
+    case LT_DER_AGE: return l->h0_known;
+    default: return 0;
+    }
+}
+
+double lt_cosmo_transition_z(const lt_cosmo *c)
+{
+    /* q(0) < 0 and q > 0 somewhere before: scan in x = ln(1+z) to z = 1000
+     * for the first sign change, then bisect. */
+    if (!(lt_cosmo_q(c, 0.0) < 0.0))
+        return NAN;
+    double x_lo = 0.0, x_hi = NAN;
+    for (double x = 0.05; x <= log(1001.0); x += 0.05) {
+        double z = expm1(x);
+        if (!(lt_cosmo_e2(c, z) > 0.0))
+            return NAN; /* the universe turns around first */
+        if (lt_cosmo_q(c, z) >= 0.0) {
+            x_hi = x;
+            break;
+        }
+        x_lo = x;
+    }
+    if (isnan(x_hi))
+        return NAN;
+    for (int it = 0; it < 200 && x_hi - x_lo > 1e-15 * (1 + x_hi); it++) {
+        double x = 0.5 * (x_lo + x_hi);
+        if (lt_cosmo_q(c, expm1(x)) < 0.0)
+            x_lo = x;
+        else
+            x_hi = x;
+    }
+    return expm1(0.5 * (x_lo + x_hi));
+}
+
+double lt_like_derived(const lt_like *l, const double *theta, int d)
+{
+    lt_cosmo c;
+    if (lt_like_cosmo(l, theta, &c, NULL) != LT_OK)
+        return NAN;
+    switch (d) {
+    case LT_DER_OMEGA_K: return c.omega_k;
+    case LT_DER_OMEGA_DE: return c.p.omega_de;
+    case LT_DER_Q0: return lt_cosmo_q(&c, 0.0);
+    case LT_DER_Z_T: return lt_cosmo_transition_z(&c);
+    case LT_DER_AGE: {
+        double age;
+        return lt_cosmo_age(&c, 0.0, &age, NULL) == LT_OK ? age : NAN;
+    }
+    default: return NAN;
+    }
+}
+
+double lt_pivot_redshift(double cov_w0_wa, double var_wa)
+{
+    if (!(var_wa > 0.0))
+        return NAN;
+    double a_p = 1.0 + cov_w0_wa / var_wa;
+    return a_p > 0.0 ? 1.0 / a_p - 1.0 : NAN;
+}

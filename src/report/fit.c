@@ -1,0 +1,252 @@
+/*
+ * Reports of a best fit: the JSON summary, the table, the residuals.
+ */
+#include <errno.h>
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include <cjson/cJSON.h>
+
+#include "lantern/report.h"
+
+int lt_report_write_json(const char *path, const cJSON *o, lt_error *err)
+{
+    char *text = cJSON_Print(o);
+    if (!text)
+        return lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory printing JSON");
+    size_t n = strlen(text);
+    char *full = malloc(n + 2);
+    if (!full) {
+        free(text);
+        return lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
+    }
+    memcpy(full, text, n);
+    full[n] = '\n';
+    full[n + 1] = '\0';
+    free(text);
+    int rc = lt_file_write_text(path, full, err);
+    free(full);
+    return rc;
+}
+
+static cJSON *num(double v) { return lt_json_number(v); }
+
+/* A note on h0 when it is not a free parameter. */
+static const char *h0_note(const lt_like *l)
+{
+    if (lt_like_offset_mode(l) == LT_OFFSET_MARGINAL && !lt_like_h0_known(l))
+        return "degenerate with the marginalised offset";
+    return NULL;
+}
+
+cJSON *lt_report_fit_json(const lt_like *l, const lt_fit_result *r, const lt_survey_spec *data,
+                          unsigned long seed)
+{
+    const lt_survey *s = lt_like_survey(l);
+    size_t d = r->dim;
+    cJSON *o = cJSON_CreateObject();
+    cJSON_AddStringToObject(o, "command", "fit");
+    cJSON_AddStringToObject(o, "model", lt_like_model(l)->name);
+    cJSON_AddItemToObject(o, "n_data", num((double)s->n));
+    cJSON_AddStringToObject(o, "observable", lt_obs_name(s->kind));
+    cJSON_AddItemToObject(o, "chi2_min", num(r->at_best.chi2));
+    cJSON_AddItemToObject(o, "dof", num((double)r->dof));
+    cJSON_AddItemToObject(o, "p_value", num(r->p_value));
+    cJSON_AddItemToObject(o, "aic", num(r->aic));
+    cJSON_AddItemToObject(o, "bic", num(r->bic));
+    cJSON_AddItemToObject(o, "k_params", num((double)r->k_counted));
+    cJSON_AddBoolToObject(o, "converged", r->info.converged);
+    cJSON_AddBoolToObject(o, "laplace_ok", r->laplace_ok);
+    if (!r->laplace_ok)
+        cJSON_AddStringToObject(o, "laplace_note", r->laplace_note);
+
+    cJSON *params = cJSON_AddObjectToObject(o, "params");
+    for (size_t i = 0; i < d; i++) {
+        cJSON *p = cJSON_AddObjectToObject(params, lt_par_name(r->id[i]));
+        cJSON_AddItemToObject(p, "best", num(r->best[i]));
+        cJSON_AddItemToObject(p, "sd", num(r->sd[i]));
+        char buf[64];
+        lt_prior_format(lt_like_prior(l, i), buf, sizeof buf);
+        cJSON_AddStringToObject(p, "prior", buf);
+    }
+    cJSON *der = cJSON_AddObjectToObject(o, "derived");
+    for (int k = 0; k < LT_NDER; k++) {
+        if (!r->has_der[k])
+            continue;
+        cJSON *p = cJSON_AddObjectToObject(der, lt_derived_name(k));
+        cJSON_AddItemToObject(p, "best", num(r->der_best[k]));
+        cJSON_AddItemToObject(p, "sd", num(r->der_sd[k]));
+    }
+    if (r->has_pivot) {
+        cJSON *p = cJSON_AddObjectToObject(der, "w_pivot");
+        cJSON_AddItemToObject(p, "best", num(r->w_pivot));
+        cJSON_AddItemToObject(p, "sd", num(r->w_pivot_sd));
+        p = cJSON_AddObjectToObject(der, "z_pivot");
+        cJSON_AddItemToObject(p, "best", num(r->z_pivot));
+        cJSON_AddItemToObject(p, "sd", num(NAN));
+    }
+    cJSON *off = cJSON_AddObjectToObject(o, "offset");
+    cJSON_AddStringToObject(off, "mode", lt_offset_name(lt_like_offset_mode(l)));
+    if (lt_like_offset_mode(l) != LT_OFFSET_NONE)
+        cJSON_AddItemToObject(off, "best", num(r->at_best.offset));
+
+    /* fixed values: every parameter the model reads that is not free */
+    cJSON *fixed = cJSON_AddObjectToObject(o, "fixed");
+    lt_cosmo_params base = *lt_like_base(l);
+    for (int id = 0; id < LT_P_COUNT; id++) {
+        int is_free = 0;
+        for (size_t i = 0; i < d; i++)
+            is_free |= r->id[i] == id;
+        if (is_free || !lt_cosmo_model_uses(lt_like_model(l), id))
+            continue;
+        cJSON_AddItemToObject(fixed, lt_par_name(id), num(*lt_cosmo_params_slot(&base, id)));
+    }
+    const char *note = h0_note(l);
+    if (note)
+        cJSON_AddStringToObject(o, "h0_note", note);
+
+    cJSON *cov = cJSON_AddObjectToObject(o, "covariance");
+    cJSON *names = cJSON_AddArrayToObject(cov, "names");
+    cJSON *mat = cJSON_AddArrayToObject(cov, "matrix");
+    cJSON *cor = cJSON_AddArrayToObject(cov, "correlation");
+    for (size_t i = 0; i < d; i++) {
+        cJSON_AddItemToArray(names, cJSON_CreateString(lt_par_name(r->id[i])));
+        cJSON *row = cJSON_CreateArray(), *crow = cJSON_CreateArray();
+        for (size_t j = 0; j < d; j++) {
+            cJSON_AddItemToArray(row, num(r->cov[i * d + j]));
+            cJSON_AddItemToArray(crow, num(r->cov[i * d + j] / (r->sd[i] * r->sd[j])));
+        }
+        cJSON_AddItemToArray(mat, row);
+        cJSON_AddItemToArray(cor, crow);
+    }
+    cJSON *opt = cJSON_AddObjectToObject(o, "optimizer");
+    cJSON_AddItemToObject(opt, "seed", num((double)seed));
+    cJSON_AddItemToObject(opt, "evals", num((double)r->info.evals));
+    cJSON_AddItemToObject(opt, "best_start", num((double)r->info.best_start));
+    cJSON_AddItemToObject(opt, "starts_agreeing", num((double)r->info.agree));
+
+    cJSON *files = cJSON_AddObjectToObject(o, "data");
+    cJSON_AddStringToObject(files, "file", data->data);
+    cJSON_AddStringToObject(files, "columns", data->columns);
+    cJSON *covs = cJSON_AddArrayToObject(files, "cov");
+    for (size_t i = 0; i < data->ncov; i++)
+        cJSON_AddItemToArray(covs, cJSON_CreateString(data->cov[i]));
+    if (data->modes)
+        cJSON_AddStringToObject(files, "modes", data->modes);
+    cJSON *w = cJSON_AddArrayToObject(o, "warnings");
+    for (size_t i = 0; i < s->nwarnings; i++)
+        cJSON_AddItemToArray(w, cJSON_CreateString(s->warnings[i]));
+    if (!r->laplace_ok)
+        cJSON_AddItemToArray(w, cJSON_CreateString(r->laplace_note));
+    return o;
+}
+
+void lt_report_fit_table(FILE *f, const lt_like *l, const lt_fit_result *r,
+                         const lt_survey_spec *data)
+{
+    const lt_survey *s = lt_like_survey(l);
+    const lt_cosmo_model *m = lt_like_model(l);
+    fprintf(f, "best fit of %s (%s) to %s: %zu objects, observable %s\n\n", m->name, m->summary,
+            data->data, s->n, lt_obs_name(s->kind));
+    fprintf(f, "  %-12s %12s %12s   %s\n", "parameter", "best", "+-sigma", "prior");
+    for (size_t i = 0; i < r->dim; i++) {
+        char prior[64];
+        lt_prior_format(lt_like_prior(l, i), prior, sizeof prior);
+        fprintf(f, "  %-12s %12.6g %12.4g   %s\n", lt_par_name(r->id[i]), r->best[i], r->sd[i],
+                prior);
+    }
+    fprintf(f, "\n  %-12s %12s %12s\n", "derived", "best", "+-sigma");
+    for (int k = 0; k < LT_NDER; k++)
+        if (r->has_der[k])
+            fprintf(f, "  %-12s %12.6g %12.4g\n", lt_derived_name(k), r->der_best[k],
+                    r->der_sd[k]);
+    if (r->has_pivot) {
+        fprintf(f, "  %-12s %12.6g %12.4g\n", "w_pivot", r->w_pivot, r->w_pivot_sd);
+        fprintf(f, "  %-12s %12.6g\n", "z_pivot", r->z_pivot);
+    }
+    lt_cosmo_params base = *lt_like_base(l);
+    int first = 1;
+    for (int id = 0; id < LT_P_COUNT; id++) {
+        int is_free = 0;
+        for (size_t i = 0; i < r->dim; i++)
+            is_free |= r->id[i] == id;
+        if (is_free || !lt_cosmo_model_uses(m, id) || id == LT_P_N_EFF)
+            continue;
+        if (id == LT_P_T_CMB && base.t_cmb == 0.0)
+            continue;
+        fprintf(f, "%s%s = %g", first ? "\n  fixed: " : ", ", lt_par_name(id),
+                *lt_cosmo_params_slot(&base, id));
+        if (id == LT_P_H0 && h0_note(l))
+            fprintf(f, " (%s)", h0_note(l));
+        first = 0;
+    }
+    if (base.t_cmb > 0.0)
+        fprintf(f, ", n_eff = %g", base.n_eff);
+    fputs(first ? "\n" : "\n", f);
+    lt_offset_mode om = lt_like_offset_mode(l);
+    if (om == LT_OFFSET_MARGINAL)
+        fprintf(f, "  offset: marginalised analytically (flat prior); best value %.5g\n",
+                r->at_best.offset);
+    fprintf(f, "\n  chi2_min %.4f for %ld degrees of freedom (p = %.3g)\n", r->at_best.chi2,
+            r->dof, r->p_value);
+    fprintf(f, "  AIC %.3f, BIC %.3f (k = %zu parameters, the offset counted)\n", r->aic, r->bic,
+            r->k_counted);
+    fprintf(f, "  best fit reached by %zu of the starts (%zu evaluations)%s\n", r->info.agree,
+            r->info.evals, r->info.converged ? "" : "; NOT CONVERGED");
+    if (!r->laplace_ok)
+        fprintf(f, "  note: %s\n", r->laplace_note);
+}
+
+int lt_report_write_residuals(const char *path, const lt_like *l, const double *theta,
+                              lt_error *err)
+{
+    const lt_survey *s = lt_like_survey(l);
+    size_t n = s->n;
+    double *model = malloc(n * sizeof *model), *var = malloc(n * sizeof *var);
+    lt_like_work *w = lt_like_work_alloc(l);
+    int rc = LT_OK;
+    if (!model || !var || !w) {
+        rc = lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
+        goto done;
+    }
+    if ((rc = lt_like_predict(l, w, theta, model, err)))
+        goto done;
+    lt_cov_diagonal(s->cov, var);
+    char tmp[4200];
+    lt_tmp_name(path, tmp, sizeof tmp);
+    FILE *f = fopen(tmp, "w");
+    if (!f) {
+        rc = lt_error_set(err, LT_EIO, tmp, 0, "cannot write: %s", strerror(errno));
+        goto done;
+    }
+    fputs("id,z,zhel,observed,model,residual,pull\n", f);
+    char b[7][32];
+    for (size_t i = 0; i < n; i++) {
+        double res = s->obs[i] - model[i];
+        lt_format_double(s->z[i], b[0], 32);
+        lt_format_double(s->zhel[i], b[1], 32);
+        lt_format_double(s->obs[i], b[2], 32);
+        lt_format_double(model[i], b[3], 32);
+        lt_format_double(res, b[4], 32);
+        lt_format_double(res / sqrt(var[i]), b[5], 32);
+        if (s->id)
+            fprintf(f, "%s", s->id[i]);
+        else
+            fprintf(f, "%ld", s->row[i]);
+        fprintf(f, ",%s,%s,%s,%s,%s,%s\n", b[0], b[1], b[2], b[3], b[4], b[5]);
+    }
+    int bad = ferror(f);
+    bad |= fclose(f) != 0;
+    if (bad) {
+        remove(tmp);
+        rc = lt_error_set(err, LT_EIO, tmp, 0, "write failed (disk full?)");
+        goto done;
+    }
+    rc = lt_file_commit(path, err);
+done:
+    free(model);
+    free(var);
+    lt_like_work_free(w);
+    return rc;
+}
