@@ -237,9 +237,15 @@ int cli_take_job(cli_args *a, cli_job *j)
     return 1;
 }
 
+/* Where each parameter's prior or fix came from, to tell an override (a
+ * flag after the run file) from a mistake (two from the same place). */
+typedef struct {
+    const char *src[LT_NPAR]; /* "file" or "flag", NULL if none yet */
+    int prior[LT_NPAR];       /* 1 prior, 0 fix */
+} kv_seen;
+
 /* One prior or fix entry into spec; prints the error. */
-static int apply_kv(const cli_kv *kv, int prior, const lt_cosmo_model *m, lt_like_spec *spec,
-                    const char *src_flags[LT_NPAR])
+static int apply_kv(const cli_kv *kv, int prior, lt_like_spec *spec, kv_seen *seen)
 {
     const char *where = kv->file ? kv->file : prior ? "--prior" : "--fix";
     lt_error err;
@@ -251,14 +257,17 @@ static int apply_kv(const cli_kv *kv, int prior, const lt_cosmo_model *m, lt_lik
                      kv->name);
         return cli_report(&err);
     }
-    /* the same parameter twice from the same place is a mistake; a flag
-     * after the run file overrides it */
     const char *src = kv->file ? "file" : "flag";
-    if (src_flags[id] && !strcmp(src_flags[id], src)) {
-        lt_error_set(&err, LT_EINPUT, where, kv->line, "%s is given twice", kv->name);
+    if (seen->src[id] && !strcmp(seen->src[id], src)) {
+        if (seen->prior[id] == prior)
+            lt_error_set(&err, LT_EINPUT, where, kv->line, "%s is given twice", kv->name);
+        else
+            lt_error_set(&err, LT_EINPUT, where, kv->line,
+                         "%s has both a prior and a fixed value; give one", kv->name);
         return cli_report(&err);
     }
-    src_flags[id] = src;
+    seen->src[id] = src;
+    seen->prior[id] = prior;
     if (prior) {
         if (lt_prior_parse(kv->value, &spec->prior[id], &err)) {
             lt_error_locate(&err, LT_EINPUT, where, kv->line);
@@ -275,7 +284,6 @@ static int apply_kv(const cli_kv *kv, int prior, const lt_cosmo_model *m, lt_lik
         spec->has_fix[id] = 1;
         spec->has_prior[id] = 0;
     }
-    (void)m;
     return CLI_OK;
 }
 
@@ -288,16 +296,17 @@ int cli_job_like_spec(const cli_job *j, const lt_cosmo_model *m, lt_like_spec *s
             return cli_usage_error("--offset", "'%s' is not none, marginal or sampled", j->offset);
         spec->offset = (lt_offset_mode)mode;
     }
-    const char *prior_src[LT_NPAR] = {0}, *fix_src[LT_NPAR] = {0};
-    /* file entries first, flags after: later ones override */
+    kv_seen seen;
+    memset(&seen, 0, sizeof seen);
+    /* file entries first, flags after: a flag overrides the file */
     for (int pass = 0; pass < 2; pass++) {
         for (size_t i = 0; i < j->npriors; i++)
             if ((j->priors[i].file != NULL) == (pass == 0) &&
-                apply_kv(&j->priors[i], 1, m, spec, prior_src))
+                apply_kv(&j->priors[i], 1, spec, &seen))
                 return CLI_USAGE;
         for (size_t i = 0; i < j->nfixes; i++)
             if ((j->fixes[i].file != NULL) == (pass == 0) &&
-                apply_kv(&j->fixes[i], 0, m, spec, fix_src))
+                apply_kv(&j->fixes[i], 0, spec, &seen))
                 return CLI_USAGE;
     }
     return CLI_OK;

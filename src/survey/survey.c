@@ -168,9 +168,19 @@ static int build_cov(const lt_survey_spec *spec, const lt_rawtable *t, lt_survey
             rc = lt_error_set(err, LT_EINPUT, spec->modes, 0,
                               "the mode table has %zu object rows but the table %s has %zu",
                               mn, spec->data, n);
+        /* Rows must follow the table: each label is the object's id or its
+         * row number. Without an id column, ids in the mode table cannot be
+         * checked; say so rather than refuse. */
+        int unchecked = 0;
         for (size_t i = 0; !rc && i < n; i++) {
             char num[32];
             snprintf(num, sizeof num, "%zu", i + 1);
+            long label;
+            int numeric = lt_parse_long(ids[i], 1, 2147483647L, &label) == LT_OK;
+            if (!t->id && !numeric) {
+                unchecked = 1;
+                continue;
+            }
             if (strcmp(ids[i], num) != 0 && !(t->id && strcmp(ids[i], t->id[i]) == 0))
                 rc = lt_error_set(err, LT_EINPUT, spec->modes, 0,
                                   "object row %zu is labelled '%s', but the table's object "
@@ -178,6 +188,10 @@ static int build_cov(const lt_survey_spec *spec, const lt_rawtable *t, lt_survey
                                   i + 1, ids[i], i + 1, t->id ? "'" : "row ",
                                   t->id ? t->id[i] : num, t->id ? "'" : "");
         }
+        if (!rc && unchecked)
+            lt_survey_warn(s, "%s: the mode rows are labelled by id but the table has no id "
+                              "column, so their order is not checked; map id=NAME to check it",
+                           spec->modes);
         if (!rc)
             rc = lt_cov_add_modes(c, k, u, amp, err);
         if (ids)
@@ -191,7 +205,6 @@ static int build_cov(const lt_survey_spec *spec, const lt_rawtable *t, lt_survey
         rc = lt_error_set(err, LT_EINPUT, "--no-err-diag", 0,
                           "leaves no covariance: give --cov with the full matrix, or drop "
                           "--no-err-diag");
-    (void)s;
     if (rc) {
         lt_cov_free(c);
         return rc;

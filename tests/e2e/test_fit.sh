@@ -1,0 +1,145 @@
+#!/usr/bin/env bash
+# End-to-end tests of "lantern fit": the acceptance command, the output
+# folder, run files and flags, and every usage error.
+source "$(dirname "$0")/lib.sh"
+P="${LANTERN_SHARED:-$ROOT/../shared}/data/pantheon2018"
+DATA=(--data "$P/lcparam_DS17f.txt" --columns z=zcmb,zhel=zhel,mag=mb,err=dmb)
+SYS=(--cov "$P/sys_DS17f.txt")
+
+# The acceptance command of issue 4 (values from Scolnic et al. 2018 and the issue).
+run "$LANTERN" fit "${DATA[@]}" "${SYS[@]}" --model lcdm-flat --format json
+cp "$OUT" "$E2E_TMP/fit.json"
+if [ "$STATUS" -eq 0 ] && /usr/bin/python3 -c '
+import json, sys
+j = json.load(open(sys.argv[1]))
+p = j["params"]["omega_m"]
+assert abs(p["best"] - 0.296) < 0.002, p
+assert abs(p["sd"] - 0.022) < 0.002, p
+assert abs(j["chi2_min"] - 39.3) < 0.05 and j["n_data"] == 40 and j["dof"] == 38, j
+assert j["converged"] is True and j["model"] == "lcdm-flat"
+assert set(j["derived"]) == {"omega_de", "q0", "z_t"}
+assert j["offset"]["mode"] == "marginal" and j["fixed"]["h0"] == 70
+# AIC and BIC count the marginalised offset: k = 2
+assert abs(j["aic"] - (j["chi2_min"] + 4)) < 1e-9
+' "$OUT"; then pass "fit Pantheon 2018 flat LCDM: omega_m 0.296 +- 0.022, chi2_min 39.3"; else fail "fit Pantheon 2018 flat LCDM: omega_m 0.296 +- 0.022, chi2_min 39.3"; fi
+
+run "$LANTERN" fit "${DATA[@]}" "${SYS[@]}" --model lcdm-flat --format json
+cmp -s "$OUT" "$E2E_TMP/fit.json" && pass "the same seed gives the same JSON" || fail "the same seed gives the same JSON"
+
+run "$LANTERN" fit "${DATA[@]}" "${SYS[@]}" --model lcdm-flat
+expect_stdout "the table names the parameter, its error and prior" '^  omega_m +0\.296[0-9]* +0\.021[0-9]* +U\(0, 1\)$'
+
+# --out: summary.json and residuals.csv
+run "$LANTERN" fit "${DATA[@]}" "${SYS[@]}" --model lcdm-flat --out "$E2E_TMP/fitout" --format json
+if [ "$STATUS" -eq 0 ] && cmp -s "$OUT" "$E2E_TMP/fitout/summary.json" &&
+   [ "$(head -1 "$E2E_TMP/fitout/residuals.csv")" = "id,z,zhel,observed,model,residual,pull" ] &&
+   [ "$(wc -l <"$E2E_TMP/fitout/residuals.csv")" -eq 41 ]; then
+    pass "--out writes summary.json (as printed) and residuals.csv (40 rows)"
+else
+    fail "--out writes summary.json (as printed) and residuals.csv (40 rows)"
+fi
+/usr/bin/python3 - "$E2E_TMP/fitout/residuals.csv" "$P/lcparam_DS17f.txt" "$P/sys_DS17f.txt" <<'PY' && pass "residuals: observed - model, pulls by the total variance" || fail "residuals: observed - model, pulls by the total variance"
+import csv, sys
+import numpy as np
+rows = list(csv.DictReader(open(sys.argv[1])))
+d = np.genfromtxt(sys.argv[2], names=True, usecols=range(18))
+s = np.loadtxt(sys.argv[3])[1:].reshape(40, 40)
+var = d["dmb"] ** 2 + np.diag(s)
+for r, mb, v in zip(rows, d["mb"], var):
+    assert float(r["observed"]) == mb
+    assert abs(float(r["residual"]) - (mb - float(r["model"]))) < 1e-12
+    assert abs(float(r["pull"]) - float(r["residual"]) / np.sqrt(v)) < 1e-12
+PY
+run "$LANTERN" fit "${DATA[@]}" --model lcdm-flat --out "$E2E_TMP/fitout"
+expect_error "--out refuses an earlier run" 2 "pass --force"
+
+# Run files: the same fit, flags overriding the file.
+run "$LANTERN" fit "$ROOT/configs/pantheon2018.ini" --format json
+/usr/bin/python3 -c '
+import json, sys
+a, b = (json.load(open(p)) for p in sys.argv[1:])
+assert a["params"] == b["params"] and a["chi2_min"] == b["chi2_min"]
+' "$OUT" "$E2E_TMP/fit.json" && pass "configs/pantheon2018.ini gives the flag-driven fit" || fail "configs/pantheon2018.ini gives the flag-driven fit"
+run "$LANTERN" fit "$ROOT/configs/pantheon2018.ini" --model lcdm --prior omega_m=uniform:0.1:0.6 --format json
+/usr/bin/python3 -c '
+import json, sys
+j = json.load(open(sys.argv[1]))
+assert j["model"] == "lcdm" and j["params"]["omega_m"]["prior"] == "U(0.1, 0.6)"
+assert "omega_de" in j["params"]
+' "$OUT" && pass "flags override the run file's model and prior" || fail "flags override the run file's model and prior"
+run "$LANTERN" fit "$ROOT/configs/pantheon2018.ini" --cov "$P/sys_DS17f.txt" --cov "$P/sys_DS17f.txt" --format json
+/usr/bin/python3 -c '
+import json, sys
+j = json.load(open(sys.argv[1]))
+assert len(j["data"]["cov"]) == 2  # the flags replaced the file list, not added to it
+' "$OUT" && pass "--cov flags replace the run file's cov list" || fail "--cov flags replace the run file's cov list"
+
+mkdir -p "$E2E_TMP/runs"
+rf() { printf '%b' "$2" >"$E2E_TMP/runs/$1"; echo "$E2E_TMP/runs/$1"; }
+F=$(rf typo.ini "[data]\nfile = $P/lcparam_DS17f.txt\ncolums = z=zcmb\n")
+run "$LANTERN" fit "$F" --model lcdm-flat
+expect_error "run file: unknown key, with its line" 2 "typo.ini:3: unknown key 'colums' in \[data\]"
+F=$(rf section.ini "[data]\n[modle]\nname = lcdm\n")
+run "$LANTERN" fit "$F"
+expect_error "run file: unknown section" 2 "section.ini:2: unknown section \[modle\]"
+F=$(rf starts.ini "[fit]\nstarts = many\n")
+run "$LANTERN" fit "$F"
+expect_error "run file: bad value" 2 "starts.ini:2: starts = 'many'"
+F=$(rf prior.ini "[priors]\nomega_m = uniform:1:0\n")
+run "$LANTERN" fit "$F" "${DATA[@]}" --model lcdm-flat
+expect_error "run file: impossible prior bounds, with its line" 2 "prior.ini:2: .*impossible bounds"
+F=$(rf long.ini "[data]\ncolumns = $(head -c 5000 /dev/zero | tr '\0' x)\n")
+run "$LANTERN" fit "$F"
+expect_error "run file: an over-long line is refused, not cut" 2 "long.ini:2: line is 50[0-9]+ bytes long"
+F=$(rf bool.ini "[data]\nno_err_diag = maybe\n")
+run "$LANTERN" fit "$F"
+expect_error "run file: bad boolean" 2 "bool.ini:2: no_err_diag = 'maybe' is not true or false"
+run "$LANTERN" fit "$E2E_TMP/runs/none.ini"
+expect_error "run file: missing" 2 "none.ini: cannot open"
+
+# Usage errors: status 2 and a message.
+run "$LANTERN" fit "${DATA[@]}"
+expect_error "missing --model" 2 "--model is required"
+run "$LANTERN" fit "${DATA[@]}" --model lcdm-flatt
+expect_error "unknown model" 2 "unknown model 'lcdm-flatt'"
+run "$LANTERN" fit "${DATA[@]}" --model lcdm-flat --prior omega_m=uniform:0.5:0.2
+expect_error "impossible prior bounds" 2 "impossible bounds"
+run "$LANTERN" fit "${DATA[@]}" --model lcdm-flat --prior omega_m=flat:0:1
+expect_error "unknown prior kind" 2 "the kind must be uniform or gauss"
+run "$LANTERN" fit "${DATA[@]}" --model lcdm-flat --prior omega_m=gauss:0.3:0
+expect_error "gauss prior with sd 0" 2 "standard deviation must be > 0"
+run "$LANTERN" fit "${DATA[@]}" --model lcdm-flat --prior omega_m=uniform:0:x
+expect_error "non-numeric prior" 2 "not uniform:LO:HI or gauss:MEAN:SD"
+run "$LANTERN" fit "${DATA[@]}" --model lcdm-flat --prior omega_m
+expect_error "--prior without =" 2 "--prior: 'omega_m' is not NAME="
+run "$LANTERN" fit "${DATA[@]}" --model lcdm-flat --prior Om=uniform:0:1
+expect_error "unknown parameter in --prior" 2 "unknown parameter 'Om'"
+run "$LANTERN" fit "${DATA[@]}" --model lcdm-flat --fix w0=-1
+expect_error "--fix on a parameter the model lacks" 2 "model lcdm-flat has no parameter w0"
+run "$LANTERN" fit "${DATA[@]}" --model lcdm-flat --fix omega_m=abc
+expect_error "non-numeric --fix" 2 "omega_m = 'abc' is not a finite number"
+run "$LANTERN" fit "${DATA[@]}" --model lcdm-flat --fix omega_m=0.3 --fix omega_m=0.31
+expect_error "--fix twice" 2 "omega_m is given twice"
+run "$LANTERN" fit "${DATA[@]}" --model lcdm-flat --prior omega_m=uniform:0:1 --fix omega_m=0.3
+expect_error "prior and fix on one parameter" 2 "both a prior and a fixed value"
+run "$LANTERN" fit "${DATA[@]}" --model lcdm-flat --prior h0=uniform:60:80
+expect_error "h0 against a marginalised offset" 2 "h0 is degenerate"
+run "$LANTERN" fit "${DATA[@]}" --model lcdm-flat --offset floating
+expect_error "unknown offset mode" 2 "'floating' is not none, marginal or sampled"
+run "$LANTERN" fit "${DATA[@]}" --model lcdm-flat --seed -3
+expect_error "bad seed" 2 "--seed: '-3' is not a seed"
+run "$LANTERN" fit "${DATA[@]}" --model lcdm-flat --format csv
+expect_error "fit has no csv format" 2 "'csv' is not one of table, json"
+run "$LANTERN" fit --help
+expect_stdout "fit --help lists the default priors" 'omega_de U\(0,1\.6\)'
+
+# A sampled offset with a calibration prior frees h0 (mag = mu(h0) + M).
+run "$LANTERN" fit "${DATA[@]}" "${SYS[@]}" --model lcdm-flat --prior offset=gauss:-19.25:0.05 --format json
+/usr/bin/python3 -c '
+import json, sys
+j = json.load(open(sys.argv[1]))
+assert set(j["params"]) == {"h0", "omega_m", "offset"} and j["dof"] == 37
+assert "age_gyr" in j["derived"] and j["offset"]["mode"] == "sampled"
+# h0 and M are degenerate: h0 follows the calibration, 5 log10 h0 - M fixed
+assert 60 < j["params"]["h0"]["best"] < 80
+' "$OUT" && pass "a prior on offset samples it and frees h0" || fail "a prior on offset samples it and frees h0"
