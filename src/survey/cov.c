@@ -139,14 +139,77 @@ int lt_cov_add_modes(lt_cov *c, size_t k, const double *u, const double *amp, lt
     return LT_OK;
 }
 
+/*
+ * The solves below run in the likelihood's hot path, from many threads at
+ * once. They are plain loops rather than BLAS calls: OpenBLAS may take
+ * buffers or locks inside even a level-2 routine, and the loops keep the
+ * order of every sum fixed, so results do not depend on the library build.
+ * Both sweeps read L row by row (row-major), which is contiguous.
+ */
+
+/* sum a[j] b[j], j < n, in eight running sums (four pairs of SSE2 lanes) so
+ * the processor can overlap the additions; the order of the sums is fixed,
+ * so the result is the same on every run and every machine. */
+typedef double v2d __attribute__((vector_size(16))); /* two doubles: SSE2, on every x86-64 */
+
+static double dot(const double *a, const double *b, size_t n)
+{
+    v2d s0 = {0, 0}, s1 = {0, 0}, s2 = {0, 0}, s3 = {0, 0};
+    size_t j = 0;
+    for (; j + 8 <= n; j += 8) {
+        v2d a0, a1, a2, a3, b0, b1, b2, b3;
+        memcpy(&a0, a + j, 16), memcpy(&a1, a + j + 2, 16);
+        memcpy(&a2, a + j + 4, 16), memcpy(&a3, a + j + 6, 16);
+        memcpy(&b0, b + j, 16), memcpy(&b1, b + j + 2, 16);
+        memcpy(&b2, b + j + 4, 16), memcpy(&b3, b + j + 6, 16);
+        s0 += a0 * b0, s1 += a1 * b1, s2 += a2 * b2, s3 += a3 * b3;
+    }
+    v2d s = (s0 + s1) + (s2 + s3);
+    double t = s[0] + s[1];
+    for (; j < n; j++)
+        t += a[j] * b[j];
+    return t;
+}
+
+/* Solve L y = b in place (L lower triangular, row-major n x n). */
+static void forward(const double *L, size_t n, double *y)
+{
+    for (size_t i = 0; i < n; i++) {
+        const double *row = L + i * n;
+        y[i] = (y[i] - dot(row, y, i)) / row[i];
+    }
+}
+
+/* Solve L^T x = y in place. */
+static void backward(const double *L, size_t n, double *x)
+{
+    for (size_t i = n; i-- > 0;) {
+        const double *row = L + i * n;
+        x[i] /= row[i];
+        double xi = x[i];
+        for (size_t j = 0; j < i; j++) /* independent updates: vectorises */
+            x[j] -= row[j] * xi;
+    }
+}
+
+/* t = W^T r for W n x k row-major. */
+static void wt_times(const double *w, size_t n, size_t k, const double *r, double *t)
+{
+    for (size_t j = 0; j < k; j++)
+        t[j] = 0.0;
+    for (size_t i = 0; i < n; i++) {
+        const double *row = w + i * k;
+        for (size_t j = 0; j < k; j++)
+            t[j] += row[j] * r[i];
+    }
+}
+
 /* B^-1 x in place, for a factored base. */
 static void base_solve(const lt_cov *c, double *x)
 {
     if (c->dense) {
-        cblas_dtrsv(CblasRowMajor, CblasLower, CblasNoTrans, CblasNonUnit, (int)c->n, c->dense,
-                    (int)c->n, x, 1);
-        cblas_dtrsv(CblasRowMajor, CblasLower, CblasTrans, CblasNonUnit, (int)c->n, c->dense,
-                    (int)c->n, x, 1);
+        forward(c->dense, c->n, x);
+        backward(c->dense, c->n, x);
     } else {
         for (size_t i = 0; i < c->n; i++)
             x[i] /= c->diag[i];
@@ -234,20 +297,19 @@ double lt_cov_chi2(const lt_cov *c, const double *r, double *work)
     double chi2 = 0.0;
     if (c->dense) {
         memcpy(work, r, n * sizeof *work);
-        cblas_dtrsv(CblasRowMajor, CblasLower, CblasNoTrans, CblasNonUnit, (int)n, c->dense,
-                    (int)n, work, 1);
-        chi2 = cblas_ddot((int)n, work, 1, work, 1);
+        forward(c->dense, n, work);
+        for (size_t i = 0; i < n; i++)
+            chi2 += work[i] * work[i];
     } else {
         for (size_t i = 0; i < n; i++)
             chi2 += r[i] * r[i] / c->diag[i];
     }
     if (k) {
         double *t = work + n;
-        cblas_dgemv(CblasRowMajor, CblasTrans, (int)n, (int)k, 1.0, c->w, (int)k, r, 1, 0.0, t,
-                    1);
-        cblas_dtrsv(CblasRowMajor, CblasLower, CblasNoTrans, CblasNonUnit, (int)k, c->s,
-                    (int)k, t, 1);
-        chi2 -= cblas_ddot((int)k, t, 1, t, 1);
+        wt_times(c->w, n, k, r, t);
+        forward(c->s, k, t);
+        for (size_t j = 0; j < k; j++)
+            chi2 -= t[j] * t[j];
     }
     return chi2;
 }
@@ -257,18 +319,20 @@ void lt_cov_solve(const lt_cov *c, const double *b, double *x, double *work)
     size_t n = c->n, k = c->k;
     double *t = work + n;
     if (k)
-        cblas_dgemv(CblasRowMajor, CblasTrans, (int)n, (int)k, 1.0, c->w, (int)k, b, 1, 0.0, t,
-                    1);
+        wt_times(c->w, n, k, b, t);
     if (x != b)
         memcpy(x, b, n * sizeof *x);
     base_solve(c, x);
     if (k) {
-        cblas_dtrsv(CblasRowMajor, CblasLower, CblasNoTrans, CblasNonUnit, (int)k, c->s,
-                    (int)k, t, 1);
-        cblas_dtrsv(CblasRowMajor, CblasLower, CblasTrans, CblasNonUnit, (int)k, c->s, (int)k,
-                    t, 1);
-        cblas_dgemv(CblasRowMajor, CblasNoTrans, (int)n, (int)k, -1.0, c->w, (int)k, t, 1, 1.0,
-                    x, 1);
+        forward(c->s, k, t);
+        backward(c->s, k, t);
+        for (size_t i = 0; i < n; i++) {
+            const double *row = c->w + i * k;
+            double s = 0.0;
+            for (size_t j = 0; j < k; j++)
+                s += row[j] * t[j];
+            x[i] -= s;
+        }
     }
 }
 
