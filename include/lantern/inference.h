@@ -52,6 +52,119 @@ int lt_laplace(lt_objective f, void *ctx, size_t dim, const double *x, const dou
                double *cov, size_t *bad, lt_error *err);
 
 /* ---------------------------------------------------------------------- */
+/* Random numbers                                                          */
+/* ---------------------------------------------------------------------- */
+
+#include <signal.h>
+#include <stdint.h>
+
+/*
+ * xoshiro256** (Blackman & Vigna 2021, ACM TOMS 47, 36), seeded through
+ * splitmix64 from (seed, stream): every chain's stream comes from the run's
+ * seed and the chain's index only. The state is four words, so a checkpoint
+ * can hold it exactly.
+ */
+typedef struct lt_rng {
+    uint64_t s[4];
+} lt_rng;
+
+void lt_rng_seed(lt_rng *r, uint64_t seed, uint64_t stream);
+uint64_t lt_rng_next(lt_rng *r);
+double lt_rng_uniform(lt_rng *r); /* in [0, 1), 53 random bits */
+double lt_rng_normal(lt_rng *r);  /* standard normal (Box-Muller, one of the pair) */
+
+/* ---------------------------------------------------------------------- */
+/* Convergence diagnostics                                                 */
+/* ---------------------------------------------------------------------- */
+
+/*
+ * Draws of one quantity from m chains of n draws each, chain after chain:
+ * x[c * n + i]. The definitions are those of Vehtari, Gelman, Simpson,
+ * Carpenter & Burkner 2021 (Bayesian Analysis 16, 667): split chains in
+ * halves, rank-normalise (Blom's offset 3/8), R-hat as the larger of the
+ * bulk and the folded (|x - median|) values; ESS from the multi-chain
+ * autocorrelation with Geyer's initial monotone sequence (Geyer 1992,
+ * Statist. Sci. 7, 473); tail ESS the smaller of the ESS of the indicators
+ * of the 5% and 95% quantiles.
+ */
+double lt_diag_rhat_basic(const double *x, size_t m, size_t n); /* no split, no ranks */
+double lt_diag_rhat(const double *x, size_t m, size_t n);
+double lt_diag_ess(const double *x, size_t m, size_t n);        /* plain multi-chain ESS */
+double lt_diag_ess_bulk(const double *x, size_t m, size_t n);
+double lt_diag_ess_tail(const double *x, size_t m, size_t n);
+/* All three at once, sharing the sorting (what the sampler calls). */
+void lt_diag_all(const double *x, size_t m, size_t n, double *rhat, double *ess_bulk,
+                 double *ess_tail);
+/* The integrated autocorrelation time of one chain with Sokal's automatic
+ * window: the smallest W with W >= 5 tau(W) (Sokal 1997, in Functional
+ * Integration, Plenum, 131). */
+double lt_diag_tau(const double *x, size_t n);
+
+/* ---------------------------------------------------------------------- */
+/* Adaptive Metropolis                                                     */
+/* ---------------------------------------------------------------------- */
+
+/* The log-density to sample, up to a constant; -inf where impossible.
+ * extra (nextra values) receives quantities to keep with each draw. Each
+ * chain gets its own ctx, so the function may use scratch space there. */
+typedef double (*lt_logdensity)(const double *x, void *ctx, double *extra);
+
+typedef struct lt_mcmc_opts {
+    size_t dim, nextra, nchains;
+    uint64_t seed;
+    const double *center;   /* dim: chains start around it (the best fit) */
+    const double *cov;      /* dim x dim: its covariance (Laplace), or NULL */
+    const double *scale;    /* dim: widths to use where cov is NULL */
+    size_t warmup;          /* adaptation steps per chain, then discarded */
+    size_t check_every;     /* kept steps per chain between convergence checks */
+    size_t max_steps;       /* kept steps per chain at most */
+    double target_ess;      /* every quantity needs ESS (bulk and tail) >= this */
+    double rhat_tol;        /* and R-hat - 1 < this */
+    int threads;            /* OpenMP threads (0: the default) */
+} lt_mcmc_opts;
+
+/* What a convergence check found. */
+typedef struct lt_mcmc_diag {
+    size_t draws_per_chain;
+    double rhat_max, ess_min;     /* over all parameters; ESS is bulk and tail */
+    double *rhat, *ess_bulk, *ess_tail, *tau; /* per parameter (dim) */
+    double *acceptance;                        /* per chain, after warm-up */
+} lt_mcmc_diag;
+
+typedef struct lt_mcmc lt_mcmc;
+
+/* Chains are set up but not run. ctx[c] is chain c's context. */
+lt_mcmc *lt_mcmc_alloc(const lt_mcmc_opts *o, lt_logdensity f, void **ctx, lt_error *err);
+void lt_mcmc_free(lt_mcmc *m);
+
+/* Called after every convergence check (from the calling thread). */
+typedef void (*lt_mcmc_progress)(const lt_mcmc *m, void *ctx);
+
+/*
+ * Run until converged (every parameter's R-hat - 1 < rhat_tol and ESS >=
+ * target_ess, checked every check_every steps) or until max_steps. Returns
+ * LT_OK either way (lt_mcmc_converged tells which); LT_EINTR if *stop was
+ * set, with every chain stopped after a whole step, so that the state can
+ * be saved and the run resumed. Chains run in parallel; each uses only its
+ * own random stream, so the draws do not depend on the thread count.
+ */
+int lt_mcmc_run(lt_mcmc *m, volatile sig_atomic_t *stop, lt_mcmc_progress progress,
+                void *progress_ctx, lt_error *err);
+
+int lt_mcmc_converged(const lt_mcmc *m);
+const lt_mcmc_diag *lt_mcmc_diagnostics(const lt_mcmc *m);
+const lt_mcmc_opts *lt_mcmc_options(const lt_mcmc *m);
+/* Kept draws of chain c: n rows of (dim params, logdensity, nextra extras). */
+const double *lt_mcmc_draws(const lt_mcmc *m, size_t c, size_t *n);
+size_t lt_mcmc_row_size(const lt_mcmc *m); /* dim + 1 + nextra */
+
+/* Save the whole state (every draw included) to path, atomically; and
+ * restore it. fingerprint ties a checkpoint to its data and settings. */
+int lt_mcmc_save(const lt_mcmc *m, const char *path, uint64_t fingerprint, lt_error *err);
+lt_mcmc *lt_mcmc_load(const char *path, uint64_t fingerprint, lt_logdensity f, void **ctx,
+                      lt_error *err);
+
+/* ---------------------------------------------------------------------- */
 /* Best fit of a likelihood                                                */
 /* ---------------------------------------------------------------------- */
 

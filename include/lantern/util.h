@@ -18,7 +18,8 @@ enum {
     LT_EDOMAIN = 2, /* parameters outside the physical domain (no big bang, ...) */
     LT_ENUMERIC = 3,/* a numerical method failed */
     LT_EIO = 4,     /* reading or writing a file failed */
-    LT_ENOMEM = 5   /* an allocation failed */
+    LT_ENOMEM = 5,  /* an allocation failed */
+    LT_EINTR = 6    /* stopped on request (a signal); the state was kept */
 };
 
 #define LT_ERROR_MSG_MAX 512

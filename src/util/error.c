@@ -64,6 +64,7 @@ const char *lt_error_name(int code)
     case LT_ENUMERIC: return "numerical failure";
     case LT_EIO: return "input/output error";
     case LT_ENOMEM: return "out of memory";
+    case LT_EINTR: return "interrupted";
     default: return "unknown error";
     }
 }

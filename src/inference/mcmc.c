@@ -1,0 +1,538 @@
+/*
+ * Adaptive Metropolis (Haario, Saksman & Tamminen 2001, Bernoulli 7, 223)
+ * with parallel chains.
+ *
+ * Each chain starts from an over-dispersed point around the centre (three
+ * standard deviations), proposes y = x + L z with z ~ N(0, I), and during
+ * warm-up sets L L^T = s_d (C + eps I), C the covariance of its own warm-up
+ * history (from a quarter of the warm-up on), s_d = 2.38^2 / d (Gelman,
+ * Roberts & Gilks 1996). After warm-up the proposal is frozen, so the kept
+ * draws come from a plain Metropolis chain. Chains share nothing while they
+ * run: each has its own stream from (seed, chain index), which is why the
+ * draws are the same whatever the number of threads.
+ */
+#include <errno.h>
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include <omp.h>
+
+#include "lantern/inference.h"
+
+#define DIM_MAX 64 /* parameters at most: proposals use fixed-size scratch */
+
+typedef struct chain {
+    lt_rng rng;
+    double *x, *extra, logp;
+    size_t steps;          /* steps taken, warm-up included */
+    size_t acc_warm, acc;  /* accepted proposals in warm-up, after it */
+    size_t nw;             /* warm-up points in the running covariance */
+    double *wmean, *wm2;   /* their mean (dim) and sum of outer products (dim^2) */
+    double *chol;          /* proposal Cholesky factor, lower, row-major */
+    double *draws;         /* kept rows: params, logp, extras */
+    size_t ndraws, cap;
+    double *y, *yextra, *z; /* scratch */
+} chain;
+
+struct lt_mcmc {
+    lt_mcmc_opts o;
+    double *center, *cov, *scale;
+    lt_logdensity f;
+    void **ctx;
+    chain *ch;
+    size_t next_check; /* kept steps per chain at the next check */
+    int converged;
+    lt_mcmc_diag diag;
+};
+
+size_t lt_mcmc_row_size(const lt_mcmc *m) { return m->o.dim + 1 + m->o.nextra; }
+int lt_mcmc_converged(const lt_mcmc *m) { return m->converged; }
+const lt_mcmc_diag *lt_mcmc_diagnostics(const lt_mcmc *m) { return &m->diag; }
+const lt_mcmc_opts *lt_mcmc_options(const lt_mcmc *m) { return &m->o; }
+
+const double *lt_mcmc_draws(const lt_mcmc *m, size_t c, size_t *n)
+{
+    *n = m->ch[c].ndraws;
+    return m->ch[c].draws;
+}
+
+/* Cholesky of a small symmetric matrix a (d x d) into l; -1 if not
+ * positive definite. */
+static int small_cholesky(const double *a, size_t d, double *l)
+{
+    memset(l, 0, d * d * sizeof *l);
+    for (size_t i = 0; i < d; i++)
+        for (size_t j = 0; j <= i; j++) {
+            double s = a[i * d + j];
+            for (size_t k = 0; k < j; k++)
+                s -= l[i * d + k] * l[j * d + k];
+            if (i == j) {
+                if (!(s > 0.0))
+                    return -1;
+                l[i * d + i] = sqrt(s);
+            } else {
+                l[i * d + j] = s / l[j * d + j];
+            }
+        }
+    return 0;
+}
+
+static void chain_free(chain *c)
+{
+    free(c->x);
+    free(c->extra);
+    free(c->wmean);
+    free(c->wm2);
+    free(c->chol);
+    free(c->draws);
+    free(c->y);
+    free(c->yextra);
+    free(c->z);
+}
+
+static int chain_buffers(chain *c, size_t d, size_t ne)
+{
+    c->x = calloc(d + 1, sizeof *c->x);
+    c->extra = calloc(ne + 1, sizeof *c->extra);
+    c->wmean = calloc(d + 1, sizeof *c->wmean);
+    c->wm2 = calloc(d * d + 1, sizeof *c->wm2);
+    c->chol = calloc(d * d + 1, sizeof *c->chol);
+    c->y = calloc(d + 1, sizeof *c->y);
+    c->yextra = calloc(ne + 1, sizeof *c->yextra);
+    c->z = calloc(d + 1, sizeof *c->z);
+    return c->x && c->extra && c->wmean && c->wm2 && c->chol && c->y && c->yextra && c->z ? 0 : -1;
+}
+
+void lt_mcmc_free(lt_mcmc *m)
+{
+    if (!m)
+        return;
+    for (size_t c = 0; m->ch && c < m->o.nchains; c++)
+        chain_free(&m->ch[c]);
+    free(m->ch);
+    free(m->center);
+    free(m->cov);
+    free(m->scale);
+    free(m->diag.rhat);
+    free(m->diag.ess_bulk);
+    free(m->diag.ess_tail);
+    free(m->diag.tau);
+    free(m->diag.acceptance);
+    free(m);
+}
+
+/* The struct and its arrays, before any chain is started. */
+static lt_mcmc *mcmc_shell(const lt_mcmc_opts *o, lt_logdensity f, void **ctx, lt_error *err)
+{
+    size_t d = o->dim;
+    if (d == 0 || d > DIM_MAX || o->nchains < 1 || o->check_every < 10 ||
+        o->max_steps < o->check_every) {
+        lt_error_set(err, LT_EINPUT, NULL, 0,
+                     "sampler settings: need 1 to %d parameters, at least one chain, "
+                     "check_every >= 10 and max_steps >= check_every",
+                     DIM_MAX);
+        return NULL;
+    }
+    lt_mcmc *m = calloc(1, sizeof *m);
+    if (!m)
+        goto nomem;
+    m->o = *o;
+    m->f = f;
+    m->ctx = ctx;
+    m->center = malloc(d * sizeof *m->center);
+    m->scale = malloc(d * sizeof *m->scale);
+    m->cov = malloc(d * d * sizeof *m->cov);
+    m->ch = calloc(o->nchains, sizeof *m->ch);
+    m->diag.rhat = calloc(d, sizeof(double));
+    m->diag.ess_bulk = calloc(d, sizeof(double));
+    m->diag.ess_tail = calloc(d, sizeof(double));
+    m->diag.tau = calloc(d, sizeof(double));
+    m->diag.acceptance = calloc(o->nchains, sizeof(double));
+    if (!m->center || !m->scale || !m->cov || !m->ch || !m->diag.rhat || !m->diag.ess_bulk ||
+        !m->diag.ess_tail || !m->diag.tau || !m->diag.acceptance)
+        goto nomem;
+    m->o.center = m->center, m->o.cov = m->cov, m->o.scale = m->scale;
+    for (size_t c = 0; c < o->nchains; c++)
+        if (chain_buffers(&m->ch[c], d, o->nextra))
+            goto nomem;
+    m->diag.rhat_max = m->diag.ess_min = NAN;
+    return m;
+nomem:
+    lt_mcmc_free(m);
+    lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory for the chains");
+    return NULL;
+}
+
+lt_mcmc *lt_mcmc_alloc(const lt_mcmc_opts *o, lt_logdensity f, void **ctx, lt_error *err)
+{
+    lt_mcmc *m = mcmc_shell(o, f, ctx, err);
+    if (!m)
+        return NULL;
+    size_t d = o->dim;
+    memcpy(m->center, o->center, d * sizeof *m->center);
+    for (size_t i = 0; i < d; i++)
+        m->scale[i] = o->scale ? o->scale[i] : 1.0;
+    if (o->cov) {
+        memcpy(m->cov, o->cov, d * d * sizeof *m->cov);
+    } else {
+        memset(m->cov, 0, d * d * sizeof *m->cov);
+        for (size_t i = 0; i < d; i++)
+            m->cov[i * d + i] = 0.01 * m->scale[i] * m->scale[i];
+    }
+    m->o.cov = m->cov;
+    double *prop = malloc(d * d * sizeof *prop);
+    if (!prop) {
+        lt_mcmc_free(m);
+        lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
+        return NULL;
+    }
+    double sd_scale = 2.38 * 2.38 / (double)d;
+    for (size_t i = 0; i < d * d; i++)
+        prop[i] = sd_scale * m->cov[i];
+    int bad_cov = small_cholesky(prop, d, m->ch[0].chol) != 0;
+    free(prop);
+    if (bad_cov) {
+        lt_mcmc_free(m);
+        lt_error_set(err, LT_EINPUT, NULL, 0,
+                     "the starting covariance is not positive definite");
+        return NULL;
+    }
+    double ec[1];
+    if (!isfinite(f(m->center, ctx[0], o->nextra ? m->ch[0].extra : ec))) {
+        lt_mcmc_free(m);
+        lt_error_set(err, LT_EINPUT, NULL, 0,
+                     "the chains' centre (the best fit) has zero posterior density");
+        return NULL;
+    }
+    /* Starts: three standard deviations around the centre, drawn from each
+     * chain's own stream; a start with zero density is redrawn, closer in
+     * after each hundred failures. */
+    for (size_t c = 0; c < o->nchains; c++) {
+        chain *ch = &m->ch[c];
+        lt_rng_seed(&ch->rng, o->seed, (uint64_t)c);
+        if (c)
+            memcpy(ch->chol, m->ch[0].chol, d * d * sizeof *ch->chol);
+        double spread = 3.0;
+        for (int tries = 0;; tries++) {
+            if (tries && tries % 100 == 0)
+                spread *= 0.5;
+            for (size_t i = 0; i < d; i++)
+                ch->x[i] = m->center[i] +
+                           spread * sqrt(m->cov[i * d + i]) * lt_rng_normal(&ch->rng);
+            ch->logp = f(ch->x, ctx[c], ch->extra);
+            if (isfinite(ch->logp))
+                break;
+            if (tries > 2000) { /* give up dispersing: start at the centre */
+                memcpy(ch->x, m->center, d * sizeof *ch->x);
+                ch->logp = f(ch->x, ctx[c], ch->extra);
+                break;
+            }
+        }
+    }
+    m->next_check = o->check_every;
+    return m;
+}
+
+/* Recompute the proposal from the warm-up history. */
+static void adapt(chain *c, size_t d)
+{
+    if (c->nw < 2 * d + 10)
+        return;
+    double cov[DIM_MAX * DIM_MAX], l[DIM_MAX * DIM_MAX];
+    double sd = 2.38 * 2.38 / (double)d;
+    for (size_t i = 0; i < d * d; i++)
+        cov[i] = sd * c->wm2[i] / (double)(c->nw - 1);
+    for (size_t i = 0; i < d; i++) /* eps I, relative to each variance */
+        cov[i * d + i] *= 1.0 + 1e-10;
+    if (small_cholesky(cov, d, l) == 0)
+        memcpy(c->chol, l, d * d * sizeof *l);
+}
+
+/* One Metropolis step of chain c. */
+static void step(lt_mcmc *m, size_t ci)
+{
+    chain *c = &m->ch[ci];
+    size_t d = m->o.dim, ne = m->o.nextra;
+    for (size_t i = 0; i < d; i++)
+        c->z[i] = lt_rng_normal(&c->rng);
+    for (size_t i = 0; i < d; i++) {
+        double s = c->x[i];
+        for (size_t j = 0; j <= i; j++)
+            s += c->chol[i * d + j] * c->z[j];
+        c->y[i] = s;
+    }
+    double lp = m->f(c->y, m->ctx[ci], c->yextra);
+    double u = lt_rng_uniform(&c->rng);
+    int warm = c->steps < m->o.warmup;
+    if (isfinite(lp) && log(u) < lp - c->logp) {
+        memcpy(c->x, c->y, d * sizeof *c->x);
+        if (ne)
+            memcpy(c->extra, c->yextra, ne * sizeof *c->extra);
+        c->logp = lp;
+        if (warm)
+            c->acc_warm++;
+        else
+            c->acc++;
+    }
+    c->steps++;
+    if (warm) {
+        if (c->steps > m->o.warmup / 4) { /* Welford's running covariance */
+            c->nw++;
+            double *delta = c->z; /* z is free again */
+            for (size_t i = 0; i < d; i++) {
+                delta[i] = c->x[i] - c->wmean[i];
+                c->wmean[i] += delta[i] / (double)c->nw;
+            }
+            for (size_t i = 0; i < d; i++)
+                for (size_t j = 0; j < d; j++)
+                    c->wm2[i * d + j] += delta[i] * (c->x[j] - c->wmean[j]);
+        }
+        if (c->steps % 50 == 0 || c->steps == m->o.warmup)
+            adapt(c, d);
+        return;
+    }
+    /* keep the draw */
+    size_t row = d + 1 + ne;
+    double *r = c->draws + c->ndraws * row;
+    memcpy(r, c->x, d * sizeof *r);
+    r[d] = c->logp;
+    if (ne)
+        memcpy(r + d + 1, c->extra, ne * sizeof *r);
+    c->ndraws++;
+}
+
+static int reserve(chain *c, size_t rows, size_t row)
+{
+    if (rows <= c->cap)
+        return 0;
+    double *nd = realloc(c->draws, rows * row * sizeof *nd);
+    if (!nd)
+        return -1;
+    c->draws = nd;
+    c->cap = rows;
+    return 0;
+}
+
+/* Diagnostics over the kept draws of every chain. */
+static int check(lt_mcmc *m)
+{
+    size_t d = m->o.dim, nc = m->o.nchains, row = lt_mcmc_row_size(m);
+    size_t n = m->ch[0].ndraws;
+    for (size_t c = 1; c < nc; c++)
+        if (m->ch[c].ndraws < n)
+            n = m->ch[c].ndraws;
+    double *x = malloc(nc * n * sizeof *x);
+    if (!x)
+        return -1;
+    m->diag.draws_per_chain = n;
+    m->diag.rhat_max = 0.0;
+    m->diag.ess_min = INFINITY;
+    int ok = 1;
+    for (size_t p = 0; p < d; p++) {
+        for (size_t c = 0; c < nc; c++)
+            for (size_t i = 0; i < n; i++)
+                x[c * n + i] = m->ch[c].draws[i * row + p];
+        double r, eb, et, tau = 0.0;
+        lt_diag_all(x, nc, n, &r, &eb, &et);
+        for (size_t c = 0; c < nc; c++)
+            tau += lt_diag_tau(x + c * n, n) / (double)nc;
+        m->diag.rhat[p] = r, m->diag.ess_bulk[p] = eb, m->diag.ess_tail[p] = et;
+        m->diag.tau[p] = tau;
+        if (!isfinite(r) || !isfinite(eb) || !isfinite(et)) {
+            ok = 0;
+            m->diag.rhat_max = NAN;
+            continue;
+        }
+        if (!isnan(m->diag.rhat_max))
+            m->diag.rhat_max = fmax(m->diag.rhat_max, r);
+        m->diag.ess_min = fmin(m->diag.ess_min, fmin(eb, et));
+        if (!(r - 1.0 < m->o.rhat_tol) || eb < m->o.target_ess || et < m->o.target_ess)
+            ok = 0;
+    }
+    for (size_t c = 0; c < nc; c++) {
+        size_t kept = m->ch[c].steps > m->o.warmup ? m->ch[c].steps - m->o.warmup : 0;
+        m->diag.acceptance[c] = kept ? (double)m->ch[c].acc / (double)kept : NAN;
+    }
+    free(x);
+    m->converged = ok;
+    return 0;
+}
+
+int lt_mcmc_run(lt_mcmc *m, volatile sig_atomic_t *stop, lt_mcmc_progress progress,
+                void *progress_ctx, lt_error *err)
+{
+    size_t nc = m->o.nchains, row = lt_mcmc_row_size(m);
+    int threads = m->o.threads > 0 ? m->o.threads : omp_get_max_threads();
+    if (m->converged)
+        return LT_OK;
+    for (;;) {
+        size_t target = m->o.warmup + m->next_check;
+        for (size_t c = 0; c < nc; c++)
+            if (reserve(&m->ch[c], m->next_check, row))
+                return lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory for the draws");
+        int interrupted = 0;
+#pragma omp parallel for schedule(dynamic, 1) num_threads(threads) reduction(| : interrupted)
+        for (size_t c = 0; c < nc; c++) {
+            while (m->ch[c].steps < target) {
+                if (stop && *stop) {
+                    interrupted = 1;
+                    break;
+                }
+                step(m, c);
+            }
+        }
+        if (interrupted)
+            return lt_error_set(err, LT_EINTR, NULL, 0, "interrupted");
+        if (check(m))
+            return lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory for the diagnostics");
+        if (progress)
+            progress(m, progress_ctx);
+        if (m->converged || m->next_check >= m->o.max_steps)
+            return LT_OK;
+        /* Checks cost a sort of all draws: once the run is long, check
+         * every 10% of its length instead, so that checking stays a small
+         * share of the work. */
+        size_t step_size = m->o.check_every;
+        if (m->next_check / 10 > step_size)
+            step_size = m->next_check / 10 / m->o.check_every * m->o.check_every;
+        m->next_check += step_size;
+        if (m->next_check > m->o.max_steps)
+            m->next_check = m->o.max_steps;
+    }
+}
+
+/* ---- checkpoints ---- */
+
+/* FNV-1a over the bytes written, to find a damaged file. */
+typedef struct {
+    FILE *f;
+    uint64_t h;
+    int bad;
+} sink;
+
+static void put(sink *s, const void *p, size_t n)
+{
+    const unsigned char *b = p;
+    for (size_t i = 0; i < n; i++)
+        s->h = (s->h ^ b[i]) * 0x100000001B3ull;
+    if (fwrite(p, 1, n, s->f) != n)
+        s->bad = 1;
+}
+
+static int get(sink *s, void *p, size_t n)
+{
+    if (fread(p, 1, n, s->f) != n)
+        return (s->bad = 1), -1;
+    const unsigned char *b = p;
+    for (size_t i = 0; i < n; i++)
+        s->h = (s->h ^ b[i]) * 0x100000001B3ull;
+    return 0;
+}
+
+static const char MAGIC[16] = "lantern-mcmc-v1";
+
+#define PUT(x) put(&s, &(x), sizeof(x))
+#define PUTA(p, n) put(&s, (p), (n) * sizeof *(p))
+
+int lt_mcmc_save(const lt_mcmc *m, const char *path, uint64_t fingerprint, lt_error *err)
+{
+    char tmp[4200];
+    lt_tmp_name(path, tmp, sizeof tmp);
+    FILE *f = fopen(tmp, "wb");
+    if (!f)
+        return lt_error_set(err, LT_EIO, tmp, 0, "cannot write the checkpoint: %s",
+                            strerror(errno));
+    sink s = {f, 0xCBF29CE484222325ull, 0};
+    size_t d = m->o.dim, ne = m->o.nextra;
+    put(&s, MAGIC, sizeof MAGIC);
+    PUT(fingerprint);
+    PUT(m->o.dim), PUT(m->o.nextra), PUT(m->o.nchains), PUT(m->o.seed), PUT(m->o.warmup);
+    PUT(m->o.check_every), PUT(m->o.max_steps), PUT(m->o.target_ess), PUT(m->o.rhat_tol);
+    PUTA(m->center, d), PUTA(m->cov, d * d), PUTA(m->scale, d);
+    PUT(m->next_check), PUT(m->converged);
+    for (size_t c = 0; c < m->o.nchains; c++) {
+        const chain *ch = &m->ch[c];
+        PUT(ch->rng), PUTA(ch->x, d), PUTA(ch->extra, ne), PUT(ch->logp), PUT(ch->steps);
+        PUT(ch->acc_warm), PUT(ch->acc), PUT(ch->nw), PUTA(ch->wmean, d), PUTA(ch->wm2, d * d);
+        PUTA(ch->chol, d * d), PUT(ch->ndraws), PUTA(ch->draws, ch->ndraws * (d + 1 + ne));
+    }
+    uint64_t h = s.h;
+    put(&s, &h, sizeof h);
+    int bad = s.bad || fflush(f) != 0;
+    bad |= fclose(f) != 0;
+    if (bad) {
+        remove(tmp);
+        return lt_error_set(err, LT_EIO, tmp, 0, "writing the checkpoint failed (disk full?)");
+    }
+    return lt_file_commit(path, err);
+}
+
+#define GET(x) get(&s, &(x), sizeof(x))
+#define GETA(p, n) get(&s, (p), (n) * sizeof *(p))
+
+lt_mcmc *lt_mcmc_load(const char *path, uint64_t fingerprint, lt_logdensity f, void **ctx,
+                      lt_error *err)
+{
+    FILE *fp = fopen(path, "rb");
+    if (!fp) {
+        lt_error_set(err, LT_EINPUT, path, 0, "cannot open the checkpoint: %s", strerror(errno));
+        return NULL;
+    }
+    sink s = {fp, 0xCBF29CE484222325ull, 0};
+    char magic[16];
+    uint64_t fp_saved;
+    lt_mcmc_opts o;
+    memset(&o, 0, sizeof o);
+    lt_mcmc *m = NULL;
+    if (get(&s, magic, sizeof magic) || memcmp(magic, MAGIC, sizeof MAGIC) != 0) {
+        lt_error_set(err, LT_EINPUT, path, 0, "not a lantern checkpoint (or another version)");
+        goto fail;
+    }
+    if (GET(fp_saved) || GET(o.dim) || GET(o.nextra) || GET(o.nchains) || GET(o.seed) ||
+        GET(o.warmup) || GET(o.check_every) || GET(o.max_steps) || GET(o.target_ess) ||
+        GET(o.rhat_tol))
+        goto damaged;
+    if (fp_saved != fingerprint) {
+        lt_error_set(err, LT_EINPUT, path, 0,
+                     "the checkpoint belongs to another run: its data, model, priors, seed or "
+                     "sampler settings differ from these");
+        goto fail;
+    }
+    if (o.dim == 0 || o.dim > DIM_MAX || o.nchains == 0 || o.nchains > 4096 || o.nextra > 64)
+        goto damaged;
+    m = mcmc_shell(&o, f, ctx, err);
+    if (!m)
+        goto fail;
+    size_t d = o.dim, ne = o.nextra;
+    if (GETA(m->center, d) || GETA(m->cov, d * d) || GETA(m->scale, d) || GET(m->next_check) ||
+        GET(m->converged))
+        goto damaged;
+    for (size_t c = 0; c < o.nchains; c++) {
+        chain *ch = &m->ch[c];
+        size_t nd;
+        if (GET(ch->rng) || GETA(ch->x, d) || GETA(ch->extra, ne) || GET(ch->logp) ||
+            GET(ch->steps) || GET(ch->acc_warm) || GET(ch->acc) || GET(ch->nw) ||
+            GETA(ch->wmean, d) || GETA(ch->wm2, d * d) || GETA(ch->chol, d * d) || GET(nd))
+            goto damaged;
+        if (nd > o.max_steps || reserve(ch, nd > m->next_check ? nd : m->next_check, d + 1 + ne))
+            goto damaged;
+        ch->ndraws = nd;
+        if (GETA(ch->draws, nd * (d + 1 + ne)))
+            goto damaged;
+    }
+    uint64_t h_calc = s.h, h_file;
+    if (fread(&h_file, sizeof h_file, 1, fp) != 1 || h_file != h_calc || fgetc(fp) != EOF)
+        goto damaged;
+    fclose(fp);
+    if (m->converged) /* the diagnostics for the report */
+        check(m);
+    return m;
+damaged:
+    lt_error_set(err, LT_EINPUT, path, 0, "the checkpoint is damaged or truncated");
+fail:
+    fclose(fp);
+    lt_mcmc_free(m);
+    return NULL;
+}
