@@ -137,6 +137,16 @@ typedef struct lt_mcmc lt_mcmc;
 lt_mcmc *lt_mcmc_alloc(const lt_mcmc_opts *o, lt_logdensity f, void **ctx, lt_error *err);
 void lt_mcmc_free(lt_mcmc *m);
 
+/* A likelihood as a sampler's log-density: give each chain an
+ * lt_like_chain (its own work space) as ctx; extra[0] receives chi2. */
+typedef struct lt_like lt_like;
+typedef struct lt_like_work lt_like_work;
+typedef struct lt_like_chain {
+    const lt_like *l;
+    lt_like_work *w;
+} lt_like_chain;
+double lt_like_logdensity(const double *x, void *ctx, double *extra);
+
 /* Called after every convergence check (from the calling thread). */
 typedef void (*lt_mcmc_progress)(const lt_mcmc *m, void *ctx);
 

@@ -32,6 +32,60 @@ void lt_report_fit_table(FILE *f, const lt_like *l, const lt_fit_result *r,
 int lt_report_write_residuals(const char *path, const lt_like *l, const double *theta,
                               lt_error *err);
 
+/* ---- posterior summaries ---- */
+typedef struct lt_post_stats {
+    double mean, sd, median;
+    double lo68, hi68, lo95, hi95; /* equal-tailed: Phi(-1), Phi(1); 2.5 and 97.5 % */
+    double hpd68_lo, hpd68_hi, hpd95_lo, hpd95_hi; /* highest density (shortest) */
+} lt_post_stats;
+
+/* Summarise n draws (NaN draws are left out; all NaN gives NaN). Quantiles
+ * interpolate linearly between order statistics (Hyndman & Fan 1996,
+ * definition 7, numpy's default); the HPD interval is the shortest one
+ * holding ceil(p n) of the sorted draws. */
+void lt_post_summarise(const double *x, size_t n, lt_post_stats *s);
+
+/* ---- sampled posteriors ---- */
+
+/* Everything a sampled run reports: the draws with their derived columns,
+ * the polished best fit and the diagnostics. */
+typedef struct lt_sample_result {
+    size_t nchains, ndraws;  /* draws per chain (the same for all) */
+    size_t ncols;            /* columns per row, below */
+    char **cols;             /* names: logpost, chi2, params..., derived... */
+    size_t first_param, nparams, first_derived, nderived;
+    double *rows;            /* nchains * ndraws rows of ncols, chain after chain */
+    double best[LT_NPAR];    /* the best draw, polished by the optimiser */
+    lt_like_point at_best;
+    double best_derived[LT_NDER + 2];
+    double z_pivot;          /* NaN unless w0-wa */
+    lt_post_stats *stats;    /* per column from first_param on */
+    double *cov;             /* nparams x nparams posterior covariance */
+    int converged;
+    const lt_mcmc_diag *diag;
+    size_t warmup, steps;
+} lt_sample_result;
+
+/* Gather m's draws, add derived columns (computed in parallel), polish the
+ * best draw and summarise. */
+int lt_sample_collect(const lt_like *l, const lt_mcmc *m, lt_sample_result *r, lt_error *err);
+void lt_sample_result_free(lt_sample_result *r);
+
+struct cJSON *lt_report_sample_json(const lt_like *l, const lt_sample_result *r,
+                                    const lt_survey_spec *data, unsigned long seed);
+void lt_report_sample_table(FILE *f, const lt_like *l, const lt_sample_result *r,
+                            const lt_survey_spec *data);
+/* chains.csv and chains.fits: one row per draw (chain, step, then the
+ * columns); FITS header keywords name the model, data, seed, version and
+ * convergence. Both written atomically. */
+int lt_report_write_chains(const char *dir, const lt_like *l, const lt_sample_result *r,
+                           const lt_survey_spec *data, unsigned long seed, lt_error *err);
+
+/* Add the "data" block (files, columns) and the "warnings" list of s to o;
+ * returns the warnings array for the caller to extend. */
+struct cJSON *lt_report_add_data(struct cJSON *o, const lt_survey_spec *data,
+                                 const lt_survey *s);
+
 /* Write a JSON object to path atomically (pretty-printed). */
 int lt_report_write_json(const char *path, const struct cJSON *o, lt_error *err);
 

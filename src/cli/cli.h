@@ -90,6 +90,10 @@ typedef struct cli_job {
     long starts;
     const char *out, *format;
     int force;
+    /* sampler ([sampler] in the run file) */
+    long chains, threads, warmup, check_every, max_steps;
+    double target_ess;
+    int quiet, verbose;
 } cli_job;
 
 void cli_job_init(cli_job *j);
@@ -101,6 +105,9 @@ int cli_take_job(cli_args *a, cli_job *j);
 /* The likelihood spec for model m from j's priors, fixes and offset;
  * prints any error and returns the exit status. */
 int cli_job_like_spec(const cli_job *j, const lt_cosmo_model *m, lt_like_spec *spec);
+/* The model of j (required) and its likelihood spec; prints any error and
+ * returns the exit status. */
+int cli_job_model(const cli_job *j, const char *command, lt_like_spec *spec);
 /* The help text of the MODEL options. */
 extern const char *cli_model_help;
 
@@ -109,5 +116,9 @@ int cli_distance(int argc, char **argv);
 int cli_inspect(int argc, char **argv);
 int cli_simulate(int argc, char **argv);
 int cli_fit(int argc, char **argv);
+int cli_sample(int argc, char **argv);
+/* Write j, with its final likelihood spec, as a run file (absolute paths),
+ * for --resume. */
+int cli_job_write(const cli_job *j, const lt_like_spec *spec, const char *path, lt_error *err);
 
 #endif

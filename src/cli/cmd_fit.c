@@ -92,21 +92,8 @@ int cli_fit(int argc, char **argv)
         status = cli_usage_error("--format", "'%s' is not one of table, json", j.format);
         goto done;
     }
-    if (!j.model) {
-        status = cli_usage_error("fit", "--model is required (lcdm-flat, lcdm, wcdm-flat, "
-                                        "wcdm, w0wa-flat, w0wa)");
-        goto done;
-    }
-    const lt_cosmo_model *m = lt_cosmo_model_find(j.model);
-    if (!m) {
-        status = cli_usage_error("--model",
-                                 "unknown model '%s' (models: lcdm-flat, lcdm, wcdm-flat, "
-                                 "wcdm, w0wa-flat, w0wa)",
-                                 j.model);
-        goto done;
-    }
     lt_like_spec spec;
-    if ((status = cli_job_like_spec(&j, m, &spec)))
+    if ((status = cli_job_model(&j, "fit", &spec)))
         goto done;
     lt_error err;
     lt_error_clear(&err);

@@ -15,6 +15,10 @@
  * Unknown sections and keys, over-long lines and bad values are errors
  * naming the file and line.
  */
+#include <math.h>
+#include <stddef.h>
+#include <stdio.h>
+#include <unistd.h>
 #include <stdlib.h>
 #include <string.h>
 
@@ -27,6 +31,12 @@ void cli_job_init(cli_job *j)
     j->seed = 1;
     j->starts = 8;
     j->format = "table";
+    j->chains = 4;
+    j->threads = 0;
+    j->warmup = 0; /* 0: max(1000, 250 d) */
+    j->check_every = 1000;
+    j->max_steps = 200000;
+    j->target_ess = 1000;
 }
 
 void cli_job_free(cli_job *j)
@@ -163,6 +173,33 @@ int cli_job_load(cli_job *j, const char *path)
             return file_error(j, e, "%s = '%s' is not a seed (0 to 4294967295)", e->value);
         j->seed = (unsigned long)v;
     }
+    static const struct {
+        const char *key;
+        long lo, hi;
+        size_t off;
+    } sk[] = {
+        {"chains", 1, 256, offsetof(cli_job, chains)},
+        {"threads", 0, 256, offsetof(cli_job, threads)},
+        {"warmup", 0, 100000000, offsetof(cli_job, warmup)},
+        {"check_every", 10, 100000000, offsetof(cli_job, check_every)},
+        {"max_steps", 10, 1000000000, offsetof(cli_job, max_steps)},
+    };
+    for (size_t k = 0; k < sizeof sk / sizeof sk[0]; k++)
+        if ((e = lt_ini_get(ini, "sampler", sk[k].key))) {
+            char fmt[96];
+            snprintf(fmt, sizeof fmt, "%%s = '%%s' is not a whole number from %ld to %ld",
+                     sk[k].lo, sk[k].hi);
+            if (lt_parse_long(e->value, sk[k].lo, sk[k].hi, (long *)((char *)j + sk[k].off)))
+                return file_error(j, e, fmt, e->value);
+        }
+    if ((e = lt_ini_get(ini, "sampler", "seed"))) {
+        if (lt_parse_long(e->value, 0, 4294967295L, &v))
+            return file_error(j, e, "%s = '%s' is not a seed (0 to 4294967295)", e->value);
+        j->seed = (unsigned long)v;
+    }
+    if ((e = lt_ini_get(ini, "sampler", "target_ess")) &&
+        (lt_parse_double(e->value, &j->target_ess) || j->target_ess < 1))
+        return file_error(j, e, "%s = '%s' is not a number >= 1", e->value);
     if ((e = lt_ini_get(ini, "output", "dir")))
         j->out = resolve(j, e->value);
     if ((e = lt_ini_get(ini, "output", "format")))
@@ -188,6 +225,14 @@ static void take_entry(cli_args *a, cli_job *j, int prior, const char *v)
     if (add_kv(prior ? j->priors : j->fixes, prior ? &j->npriors : &j->nfixes, copy, eq + 1,
                NULL, 0)) {
         cli_usage_error(flag, "given too many times");
+        a->failed = 1;
+    }
+}
+
+static void take_long(cli_args *a, const char *flag, const char *v, long lo, long hi, long *out)
+{
+    if (lt_parse_long(v, lo, hi, out)) {
+        cli_usage_error(flag, "'%s' is not a whole number from %ld to %ld", v, lo, hi);
         a->failed = 1;
     }
 }
@@ -225,6 +270,25 @@ int cli_take_job(cli_args *a, cli_job *j)
             cli_usage_error("--starts", "'%s' is not a whole number from 1 to 1000", v);
             a->failed = 1;
         }
+    } else if (cli_take(a, "--chains", &v)) {
+        take_long(a, "--chains", v, 1, 256, &j->chains);
+    } else if (cli_take(a, "--threads", &v)) {
+        take_long(a, "--threads", v, 0, 256, &j->threads);
+    } else if (cli_take(a, "--warmup", &v)) {
+        take_long(a, "--warmup", v, 0, 100000000, &j->warmup);
+    } else if (cli_take(a, "--check-every", &v)) {
+        take_long(a, "--check-every", v, 10, 100000000, &j->check_every);
+    } else if (cli_take(a, "--max-steps", &v)) {
+        take_long(a, "--max-steps", v, 10, 1000000000, &j->max_steps);
+    } else if (cli_take(a, "--target-ess", &v)) {
+        if (lt_parse_double(v, &j->target_ess) || j->target_ess < 1) {
+            cli_usage_error("--target-ess", "'%s' is not a number >= 1", v);
+            a->failed = 1;
+        }
+    } else if (cli_flag(a, "--quiet")) {
+        j->quiet = 1;
+    } else if (cli_flag(a, "--verbose")) {
+        j->verbose = 1;
     } else if (cli_take(a, "--out", &v)) {
         j->out = v;
     } else if (cli_take(a, "--format", &v)) {
@@ -310,4 +374,95 @@ int cli_job_like_spec(const cli_job *j, const lt_cosmo_model *m, lt_like_spec *s
                 return CLI_USAGE;
     }
     return CLI_OK;
+}
+
+/* An absolute form of a path (FITS extended names keep their suffix). */
+static void absolute(const char *path, char *out, size_t size)
+{
+    if (path[0] == '/') {
+        snprintf(out, size, "%s", path);
+        return;
+    }
+    char cwd[2048];
+    if (!getcwd(cwd, sizeof cwd))
+        cwd[0] = '\0';
+    snprintf(out, size, "%s/%s", cwd, path);
+}
+
+int cli_job_write(const cli_job *j, const lt_like_spec *spec, const char *path, lt_error *err)
+{
+    size_t cap = 65536, len = 0;
+    char *t = malloc(cap), p[4200];
+    if (!t)
+        return lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
+#define ADD(...) (len += (size_t)snprintf(t + len, len < cap ? cap - len : 0, __VA_ARGS__))
+    ADD("# written by lantern %s: the settings of this run, read by --resume\n", LT_VERSION);
+    ADD("[run]\nname = %s\n[data]\n", j->name ? j->name : "sample");
+    absolute(j->data.data, p, sizeof p);
+    ADD("file = %s\ncolumns = %s\n", p, j->data.columns);
+    if (j->data.ncov) {
+        ADD("cov = ");
+        for (size_t i = 0; i < j->data.ncov; i++) {
+            absolute(j->data.cov[i], p, sizeof p);
+            ADD("%s%s", i ? ", " : "", p);
+        }
+        ADD("\n");
+    }
+    if (j->data.modes)
+        absolute(j->data.modes, p, sizeof p), ADD("modes = %s\n", p);
+    ADD("no_err_diag = %s\n", j->data.no_err_diag ? "true" : "false");
+    char buf[32];
+    if (!isnan(j->data.zmin))
+        lt_format_double(j->data.zmin, buf, sizeof buf), ADD("zmin = %s\n", buf);
+    if (!isnan(j->data.zmax))
+        lt_format_double(j->data.zmax, buf, sizeof buf), ADD("zmax = %s\n", buf);
+    if (j->data.keep_ids)
+        absolute(j->data.keep_ids, p, sizeof p), ADD("keep_ids = %s\n", p);
+    if (j->data.drop_ids)
+        absolute(j->data.drop_ids, p, sizeof p), ADD("drop_ids = %s\n", p);
+    ADD("[model]\nname = %s\n", j->model);
+    if (j->offset)
+        ADD("offset = %s\n", j->offset);
+    /* priors and fixes as they finally stand (flags over the file) */
+    ADD("[priors]\n");
+    for (int id = 0; id < LT_NPAR; id++)
+        if (spec->has_prior[id]) {
+            char a[32], b[32];
+            lt_format_double(spec->prior[id].a, a, sizeof a);
+            lt_format_double(spec->prior[id].b, b, sizeof b);
+            ADD("%s = %s:%s:%s\n", lt_par_name(id),
+                spec->prior[id].kind == LT_PRIOR_UNIFORM ? "uniform" : "gauss", a, b);
+        }
+    ADD("[fixed]\n");
+    for (int id = 0; id < LT_NPAR; id++)
+        if (spec->has_fix[id]) {
+            char a[32];
+            lt_format_double(spec->fix[id], a, sizeof a);
+            ADD("%s = %s\n", lt_par_name(id), a);
+        }
+    ADD("[fit]\nstarts = %ld\n", j->starts);
+    ADD("[sampler]\nseed = %lu\nchains = %ld\nthreads = %ld\nwarmup = %ld\ncheck_every = %ld\n"
+        "max_steps = %ld\n",
+        j->seed, j->chains, j->threads, j->warmup, j->check_every, j->max_steps);
+    lt_format_double(j->target_ess, buf, sizeof buf);
+    ADD("target_ess = %s\n", buf);
+#undef ADD
+    int rc = len >= cap ? lt_error_set(err, LT_EINPUT, path, 0, "settings too long")
+                        : lt_file_write_text(path, t, err);
+    free(t);
+    return rc;
+}
+
+int cli_job_model(const cli_job *j, const char *command, lt_like_spec *spec)
+{
+    if (!j->model)
+        return cli_usage_error(command, "--model is required (lcdm-flat, lcdm, wcdm-flat, "
+                                        "wcdm, w0wa-flat, w0wa)");
+    const lt_cosmo_model *m = lt_cosmo_model_find(j->model);
+    if (!m)
+        return cli_usage_error("--model",
+                               "unknown model '%s' (models: lcdm-flat, lcdm, wcdm-flat, wcdm, "
+                               "w0wa-flat, w0wa)",
+                               j->model);
+    return cli_job_like_spec(j, m, spec);
 }

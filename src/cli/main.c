@@ -22,6 +22,7 @@ static const cli_command commands[] = {
      cli_inspect},
     {"simulate", "simulate a survey from a scenario file", cli_simulate},
     {"fit", "the best fit of a model to a survey, with Laplace errors", cli_fit},
+    {"sample", "the posterior by MCMC, with convergence checks and chain files", cli_sample},
 };
 #define NCOMMANDS (sizeof commands / sizeof commands[0])
 

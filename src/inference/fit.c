@@ -27,6 +27,15 @@ static double objective(const double *x, void *p)
     return -2.0 * pt.logpost;
 }
 
+double lt_like_logdensity(const double *x, void *ctx, double *extra)
+{
+    lt_like_chain *c = ctx;
+    lt_like_point pt;
+    lt_like_eval(c->l, c->w, x, &pt);
+    extra[0] = pt.chi2;
+    return pt.logpost;
+}
+
 /* A point inside the prior: the centre, or a random draw. */
 static void prior_point(const lt_prior *p, gsl_rng *r, int centre, double *x)
 {

@@ -32,6 +32,22 @@ int lt_report_write_json(const char *path, const cJSON *o, lt_error *err)
 
 static cJSON *num(double v) { return lt_json_number(v); }
 
+cJSON *lt_report_add_data(cJSON *o, const lt_survey_spec *data, const lt_survey *s)
+{
+    cJSON *files = cJSON_AddObjectToObject(o, "data");
+    cJSON_AddStringToObject(files, "file", data->data ? data->data : "");
+    cJSON_AddStringToObject(files, "columns", data->columns ? data->columns : "");
+    cJSON *covs = cJSON_AddArrayToObject(files, "cov");
+    for (size_t i = 0; i < data->ncov; i++)
+        cJSON_AddItemToArray(covs, cJSON_CreateString(data->cov[i]));
+    if (data->modes)
+        cJSON_AddStringToObject(files, "modes", data->modes);
+    cJSON *w = cJSON_AddArrayToObject(o, "warnings");
+    for (size_t i = 0; i < s->nwarnings; i++)
+        cJSON_AddItemToArray(w, cJSON_CreateString(s->warnings[i]));
+    return w;
+}
+
 /* A note on h0 when it is not a free parameter. */
 static const char *h0_note(const lt_like *l)
 {
@@ -126,17 +142,7 @@ cJSON *lt_report_fit_json(const lt_like *l, const lt_fit_result *r, const lt_sur
     cJSON_AddItemToObject(opt, "best_start", num((double)r->info.best_start));
     cJSON_AddItemToObject(opt, "starts_agreeing", num((double)r->info.agree));
 
-    cJSON *files = cJSON_AddObjectToObject(o, "data");
-    cJSON_AddStringToObject(files, "file", data->data);
-    cJSON_AddStringToObject(files, "columns", data->columns);
-    cJSON *covs = cJSON_AddArrayToObject(files, "cov");
-    for (size_t i = 0; i < data->ncov; i++)
-        cJSON_AddItemToArray(covs, cJSON_CreateString(data->cov[i]));
-    if (data->modes)
-        cJSON_AddStringToObject(files, "modes", data->modes);
-    cJSON *w = cJSON_AddArrayToObject(o, "warnings");
-    for (size_t i = 0; i < s->nwarnings; i++)
-        cJSON_AddItemToArray(w, cJSON_CreateString(s->warnings[i]));
+    cJSON *w = lt_report_add_data(o, data, s);
     if (!r->laplace_ok)
         cJSON_AddItemToArray(w, cJSON_CreateString(r->laplace_note));
     return o;

@@ -1,0 +1,385 @@
+/*
+ * lantern sample: the posterior by adaptive Metropolis with parallel chains,
+ * convergence checks, chain files and checkpoints; --resume continues a
+ * stopped run.
+ */
+#include <errno.h>
+#include <math.h>
+#include <signal.h>
+#include <stdlib.h>
+#include <string.h>
+#include <sys/stat.h>
+#include <time.h>
+#include <unistd.h>
+
+#include <cjson/cJSON.h>
+
+#include "cli.h"
+#include "lantern/report.h"
+
+/* The one piece of global state in lantern: set by the signal handler,
+ * read by the chains between steps (the library gets a pointer to it). */
+static volatile sig_atomic_t stop_requested;
+
+static void on_signal(int sig)
+{
+    (void)sig;
+    stop_requested = 1;
+}
+
+static void usage(FILE *f)
+{
+    fputs("usage: lantern sample [RUN.ini] DATA MODEL SAMPLER [--out DIR] [--force]\n"
+          "                      [--format table|json] [--quiet|--verbose]\n"
+          "       lantern sample --resume DIR [--format table|json] [--quiet|--verbose]\n"
+          "\n"
+          "The posterior by adaptive Metropolis (Haario, Saksman & Tamminen 2001): chains\n"
+          "start over-dispersed around the best fit, adapt their proposal during warm-up,\n"
+          "then freeze it, and run in parallel threads. Convergence is checked every\n"
+          "--check-every steps (every 10% of the run once that is longer): every\n"
+          "parameter needs rank-normalised split R-hat - 1 < 0.01 and bulk and tail ESS\n"
+          "of at least --target-ess (Vehtari et al. 2021). The same seed gives the same\n"
+          "chains with any number of threads and after a resume.\n"
+          "\n",
+          f);
+    fputs(cli_data_help, f);
+    fputs("\n", f);
+    fputs(cli_model_help, f);
+    fputs("\nsampler:\n"
+          "  --chains N          chains [4]\n"
+          "  --seed S            seed; chain c uses the stream (S, c) [1]\n"
+          "  --threads T         OpenMP threads [all cores]\n"
+          "  --target-ess N      ESS every parameter needs [1000]\n"
+          "  --max-steps N       kept steps per chain at most [200000]; reaching it ends\n"
+          "                      the run with exit status 3 and \"converged\": false\n"
+          "  --warmup N          adaptation steps per chain [max(1000, 250 x dimension)]\n"
+          "  --check-every N     kept steps per chain between checks [1000]\n"
+          "\noutput:\n"
+          "  --out DIR           DIR/summary.json, chains.csv, chains.fits, and checkpoint/\n"
+          "                      (written at every check; Ctrl-C or SIGTERM saves it and\n"
+          "                      stops with status 1, and --resume DIR continues)\n"
+          "  --force             replace an earlier lantern output in DIR\n"
+          "  --format F          table (default) or json\n"
+          "  --quiet, --verbose  no progress line; a line per check even without a terminal\n"
+          "  --help              this text\n"
+          "\n"
+          "RUN.ini as in 'lantern fit --help', plus [sampler] chains, seed, threads,\n"
+          "target_ess, max_steps, warmup, check_every.\n"
+          "\n"
+          "exit status: 0 converged, 1 interrupted or failed, 2 bad input, 3 not converged\n",
+          f);
+}
+
+/* FNV-1a over what makes a run what it is: the data as read, the model,
+ * the priors and fixed values, the seed and the sampler settings (not the
+ * thread count, which does not change the draws). */
+static void fnv(uint64_t *h, const void *p, size_t n)
+{
+    const unsigned char *b = p;
+    for (size_t i = 0; i < n; i++)
+        *h = (*h ^ b[i]) * 0x100000001B3ull;
+}
+
+static uint64_t fingerprint(const lt_like *l, const lt_like_spec *spec, const cli_job *j)
+{
+    uint64_t h = 0xCBF29CE484222325ull;
+    const lt_survey *s = lt_like_survey(l);
+    fnv(&h, &s->n, sizeof s->n);
+    fnv(&h, s->z, s->n * sizeof *s->z);
+    fnv(&h, s->zhel, s->n * sizeof *s->zhel);
+    fnv(&h, s->obs, s->n * sizeof *s->obs);
+    double *diag = malloc(s->n * sizeof *diag);
+    if (diag) {
+        lt_cov_diagonal(s->cov, diag);
+        fnv(&h, diag, s->n * sizeof *diag);
+        free(diag);
+    }
+    fnv(&h, lt_like_model(l)->name, strlen(lt_like_model(l)->name));
+    fnv(&h, spec->has_prior, sizeof spec->has_prior);
+    fnv(&h, spec->prior, sizeof spec->prior);
+    fnv(&h, spec->has_fix, sizeof spec->has_fix);
+    fnv(&h, spec->fix, sizeof spec->fix);
+    int offset = lt_like_offset_mode(l);
+    fnv(&h, &offset, sizeof offset);
+    long settings[] = {(long)j->seed, j->chains, j->warmup, j->check_every, j->max_steps};
+    fnv(&h, settings, sizeof settings);
+    fnv(&h, &j->target_ess, sizeof j->target_ess);
+    return h;
+}
+
+typedef struct {
+    struct timespec start;
+    int tty, quiet, verbose;
+    double target;
+    const char *state_path;
+    uint64_t fp;
+    lt_error err;
+    int save_failed;
+    int printed;
+} progress;
+
+static double elapsed(const struct timespec *t0)
+{
+    struct timespec t;
+    clock_gettime(CLOCK_MONOTONIC, &t);
+    return (double)(t.tv_sec - t0->tv_sec) + 1e-9 * (double)(t.tv_nsec - t0->tv_nsec);
+}
+
+static void on_check(const lt_mcmc *m, void *p)
+{
+    progress *pr = p;
+    if (pr->state_path && !pr->save_failed &&
+        lt_mcmc_save(m, pr->state_path, pr->fp, &pr->err) != LT_OK)
+        pr->save_failed = 1;
+    if (pr->quiet || (!pr->tty && !pr->verbose))
+        return;
+    const lt_mcmc_diag *d = lt_mcmc_diagnostics(m);
+    double t = elapsed(&pr->start), left = NAN;
+    if (d->ess_min > 0 && isfinite(d->ess_min))
+        left = t * fmax(0.0, pr->target / d->ess_min - 1.0);
+    char eta[32] = "";
+    if (isfinite(left) && !lt_mcmc_converged(m))
+        snprintf(eta, sizeof eta, ", about %.0f s left", left);
+    fprintf(stderr, "%ssampling: %zu draws per chain, worst R-hat %.4f, smallest ESS %.0f, %.1f s%s%s",
+            pr->tty && !pr->verbose ? "\r" : "", d->draws_per_chain, d->rhat_max, d->ess_min, t,
+            eta, pr->tty && !pr->verbose ? "   " : "\n");
+    pr->printed = 1;
+}
+
+static int finish(const cli_job *j, lt_like *l, lt_mcmc *m, cli_format format, const char *out)
+{
+    lt_sample_result r;
+    lt_error err;
+    lt_error_clear(&err);
+    if (lt_sample_collect(l, m, &r, &err))
+        return cli_report(&err);
+    cJSON *json = lt_report_sample_json(l, &r, &j->data, j->seed);
+    if (format == CLI_JSON) {
+        char *text = cJSON_Print(json);
+        printf("%s\n", text ? text : "{}");
+        free(text);
+    } else {
+        lt_report_sample_table(stdout, l, &r, &j->data);
+    }
+    int status = CLI_OK;
+    if (out) {
+        char path[4096], what[128];
+        snprintf(path, sizeof path, "%s/summary.json", out);
+        snprintf(what, sizeof what, "lantern %s sample", LT_VERSION);
+        if (lt_report_write_json(path, json, &err) ||
+            lt_report_write_chains(out, l, &r, &j->data, j->seed, &err) ||
+            lt_outdir_mark(out, what, &err))
+            status = cli_report(&err);
+    }
+    if (!status && !r.converged) {
+        fputs("lantern: warning: the chains did not converge within --max-steps; the results "
+              "are written and marked \"converged\": false\n",
+              stderr);
+        status = CLI_UNCONVERGED;
+    }
+    cJSON_Delete(json);
+    lt_sample_result_free(&r);
+    return status;
+}
+
+int cli_sample(int argc, char **argv)
+{
+    cli_job j;
+    cli_job_init(&j);
+    int status = CLI_OK, first = 1;
+    const char *resume = NULL, *format_flag = NULL;
+    int quiet = 0, verbose = 0;
+    lt_survey *s = NULL;
+    lt_like *l = NULL;
+    lt_mcmc *m = NULL;
+    lt_like_chain *ctx = NULL;
+    void **ctxp = NULL;
+    char state[4200] = "", settings[4200] = "";
+    if (argc > 1 && strncmp(argv[1], "--", 2) != 0) {
+        if ((status = cli_job_load(&j, argv[1])))
+            goto done;
+        first = 2;
+    }
+    cli_args a = cli_args_start(argc, argv, first);
+    while (cli_args_more(&a)) {
+        const char *v;
+        if (cli_flag(&a, "--help")) {
+            usage(stdout);
+            goto done;
+        }
+        if (cli_take(&a, "--resume", &v)) {
+            resume = v;
+            continue;
+        }
+        if (cli_take(&a, "--format", &v)) {
+            format_flag = v;
+            continue;
+        }
+        if (cli_flag(&a, "--quiet")) {
+            quiet = 1;
+            continue;
+        }
+        if (cli_flag(&a, "--verbose")) {
+            verbose = 1;
+            continue;
+        }
+        if (resume || !cli_take_job(&a, &j)) {
+            status = resume ? cli_usage_error("--resume",
+                                              "takes no other options than --format, --quiet "
+                                              "and --verbose: the run's settings are in its "
+                                              "checkpoint")
+                            : cli_args_unknown(&a, "sample");
+            goto done;
+        }
+    }
+    if (a.failed) {
+        status = CLI_USAGE;
+        goto done;
+    }
+    if (resume) {
+        if (first == 2) {
+            status = cli_usage_error("--resume", "give the run folder only, not a run file");
+            goto done;
+        }
+        snprintf(settings, sizeof settings, "%s/checkpoint/settings.ini", resume);
+        struct stat st;
+        if (stat(settings, &st) != 0) {
+            status = cli_usage_error(resume, "no checkpoint here (checkpoint/settings.ini is "
+                                             "missing): not a stopped lantern sample run");
+            goto done;
+        }
+        if ((status = cli_job_load(&j, settings)))
+            goto done;
+        j.out = resume;
+    }
+    if (format_flag)
+        j.format = format_flag;
+    j.quiet |= quiet, j.verbose |= verbose;
+    cli_format format;
+    if (cli_parse_format(j.format, (1u << CLI_TABLE) | (1u << CLI_JSON), &format)) {
+        status = cli_usage_error("--format", "'%s' is not one of table, json", j.format);
+        goto done;
+    }
+    lt_like_spec spec;
+    if ((status = cli_job_model(&j, "sample", &spec)))
+        goto done;
+    lt_error err;
+    lt_error_clear(&err);
+    if (!(s = lt_survey_read(&j.data, &err)) || !(l = lt_like_alloc(s, &spec, &err))) {
+        status = cli_report(&err);
+        goto done;
+    }
+    cli_print_warnings(s);
+    size_t d = lt_like_dim(l);
+    if (d == 0) {
+        status = cli_usage_error("sample", "every parameter is fixed: nothing to sample");
+        goto done;
+    }
+    if (j.warmup == 0)
+        j.warmup = d * 250 > 1000 ? (long)d * 250 : 1000;
+    ctx = calloc((size_t)j.chains, sizeof *ctx);
+    ctxp = calloc((size_t)j.chains, sizeof *ctxp);
+    if (!ctx || !ctxp) {
+        status = cli_usage_error("sample", "out of memory");
+        goto done;
+    }
+    for (long c = 0; c < j.chains; c++) {
+        ctx[c] = (lt_like_chain){l, lt_like_work_alloc(l)};
+        ctxp[c] = &ctx[c];
+        if (!ctx[c].w) {
+            status = cli_usage_error("sample", "out of memory");
+            goto done;
+        }
+    }
+    uint64_t fp = fingerprint(l, &spec, &j);
+    if (j.out) {
+        snprintf(state, sizeof state, "%s/checkpoint/state.bin", j.out);
+        snprintf(settings, sizeof settings, "%s/checkpoint/settings.ini", j.out);
+    }
+    if (resume) {
+        if (!(m = lt_mcmc_load(state, fp, lt_like_logdensity, ctxp, &err))) {
+            status = cli_report(&err);
+            goto done;
+        }
+    } else {
+        if (j.out && lt_outdir_prepare(j.out, j.force, &err)) {
+            status = cli_report(&err);
+            goto done;
+        }
+        /* the chains' centre: the best fit and its Laplace covariance */
+        lt_fit_opts fo = {j.seed, (size_t)j.starts};
+        lt_fit_result fr;
+        if (lt_fit_run(l, &fo, &fr, &err)) {
+            status = cli_report(&err);
+            goto done;
+        }
+        double scale[LT_NPAR];
+        for (size_t i = 0; i < d; i++) {
+            const lt_prior *p = lt_like_prior(l, i);
+            scale[i] = p->kind == LT_PRIOR_UNIFORM ? p->b - p->a : 4 * p->b;
+        }
+        lt_mcmc_opts mo = {d, 1, (size_t)j.chains, j.seed, fr.best, fr.laplace_ok ? fr.cov : NULL,
+                           scale, (size_t)j.warmup, (size_t)j.check_every, (size_t)j.max_steps,
+                           j.target_ess, 0.01, (int)j.threads};
+        if (!(m = lt_mcmc_alloc(&mo, lt_like_logdensity, ctxp, &err))) {
+            status = cli_report(&err);
+            goto done;
+        }
+        if (j.out) {
+            char dir[4200];
+            snprintf(dir, sizeof dir, "%s/checkpoint", j.out);
+            char what[128];
+            snprintf(what, sizeof what, "lantern %s sample (running)", LT_VERSION);
+            if ((mkdir(dir, 0777) != 0 && errno != EEXIST) ||
+                cli_job_write(&j, &spec, settings, &err) || lt_outdir_mark(j.out, what, &err)) {
+                status = err.code ? cli_report(&err)
+                                  : cli_usage_error(dir, "cannot make the checkpoint folder");
+                goto done;
+            }
+        }
+    }
+    /* threads may be set differently on resume: the draws do not depend on it */
+    progress pr = {{0, 0}, isatty(2), j.quiet, j.verbose, j.target_ess, j.out ? state : NULL, fp,
+                   {0, 0, "", ""}, 0, 0};
+    clock_gettime(CLOCK_MONOTONIC, &pr.start);
+    struct sigaction sa;
+    memset(&sa, 0, sizeof sa);
+    sa.sa_handler = on_signal;
+    sigaction(SIGINT, &sa, NULL);
+    sigaction(SIGTERM, &sa, NULL);
+    sigaction(SIGHUP, &sa, NULL);
+    int rc = lt_mcmc_run(m, &stop_requested, on_check, &pr, &err);
+    if (pr.printed && pr.tty && !pr.verbose)
+        fputc('\n', stderr);
+    if (pr.save_failed) {
+        status = cli_report(&pr.err);
+        goto done;
+    }
+    if (rc == LT_EINTR) {
+        if (j.out && lt_mcmc_save(m, state, fp, &err) == LT_OK)
+            fprintf(stderr, "lantern: interrupted; the checkpoint in %s/checkpoint holds every "
+                            "draw so far: continue with 'lantern sample --resume %s'\n",
+                    j.out, j.out);
+        else if (j.out)
+            cli_report(&err);
+        else
+            fputs("lantern: interrupted (no --out folder, so nothing was saved)\n", stderr);
+        status = CLI_FAILED;
+        goto done;
+    }
+    if (rc) {
+        status = cli_report(&err);
+        goto done;
+    }
+    status = finish(&j, l, m, format, j.out);
+done:
+    lt_mcmc_free(m);
+    for (long c = 0; ctx && c < j.chains; c++)
+        lt_like_work_free(ctx[c].w);
+    free(ctx);
+    free(ctxp);
+    lt_like_free(l);
+    lt_survey_free(s);
+    cli_job_free(&j);
+    return status;
+}

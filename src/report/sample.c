@@ -1,0 +1,406 @@
+/*
+ * Sampled posteriors: collecting the draws with derived columns, the JSON
+ * summary, the table, and the chain files (CSV and FITS).
+ */
+#include <errno.h>
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include <cjson/cJSON.h>
+#include <fitsio.h>
+
+#include "lantern/lantern.h"
+
+#define LOGPOST 0
+#define CHI2 1
+
+void lt_sample_result_free(lt_sample_result *r)
+{
+    for (size_t i = 0; r->cols && i < r->ncols; i++)
+        free(r->cols[i]);
+    free(r->cols);
+    free(r->rows);
+    free(r->stats);
+    free(r->cov);
+    memset(r, 0, sizeof *r);
+}
+
+typedef struct {
+    const lt_like *l;
+    lt_like_work *w;
+} polish_ctx;
+
+static double neg2logpost(const double *x, void *p)
+{
+    polish_ctx *c = p;
+    lt_like_point pt;
+    lt_like_eval(c->l, c->w, x, &pt);
+    return -2.0 * pt.logpost;
+}
+
+int lt_sample_collect(const lt_like *l, const lt_mcmc *m, lt_sample_result *r, lt_error *err)
+{
+    memset(r, 0, sizeof *r);
+    const lt_mcmc_opts *o = lt_mcmc_options(m);
+    size_t d = lt_like_dim(l), nc = o->nchains, row = lt_mcmc_row_size(m);
+    size_t n = SIZE_MAX;
+    for (size_t c = 0; c < nc; c++) {
+        size_t k;
+        lt_mcmc_draws(m, c, &k);
+        n = k < n ? k : n;
+    }
+    int der[LT_NDER + 1], nder = 0, iw0 = -1, iwa = -1;
+    for (int k = 0; k < LT_NDER; k++)
+        if (lt_like_has_derived(l, k))
+            der[nder++] = k;
+    for (size_t i = 0; i < d; i++) {
+        if (lt_like_param_id(l, i) == LT_P_W0)
+            iw0 = (int)i;
+        if (lt_like_param_id(l, i) == LT_P_WA)
+            iwa = (int)i;
+    }
+    int pivot = iw0 >= 0 && iwa >= 0;
+    r->nchains = nc, r->ndraws = n;
+    r->first_param = 2, r->nparams = d;
+    r->first_derived = 2 + d, r->nderived = (size_t)nder + (pivot ? 1 : 0);
+    r->ncols = 2 + d + r->nderived;
+    r->cols = calloc(r->ncols, sizeof *r->cols);
+    r->rows = malloc((nc * n + 1) * r->ncols * sizeof *r->rows);
+    r->stats = calloc(r->ncols, sizeof *r->stats);
+    r->cov = calloc(d * d + 1, sizeof *r->cov);
+    if (!r->cols || !r->rows || !r->stats || !r->cov)
+        goto nomem;
+    r->cols[0] = strdup("logpost");
+    r->cols[1] = strdup("chi2");
+    for (size_t i = 0; i < d; i++)
+        r->cols[2 + i] = strdup(lt_par_name(lt_like_param_id(l, i)));
+    for (int k = 0; k < nder; k++)
+        r->cols[2 + d + k] = strdup(lt_derived_name(der[k]));
+    if (pivot)
+        r->cols[2 + d + nder] = strdup("w_pivot");
+    for (size_t i = 0; i < r->ncols; i++)
+        if (!r->cols[i])
+            goto nomem;
+    for (size_t c = 0; c < nc; c++) {
+        size_t k;
+        const double *dr = lt_mcmc_draws(m, c, &k);
+        for (size_t i = 0; i < n; i++) {
+            double *out = r->rows + (c * n + i) * r->ncols;
+            const double *in = dr + i * row;
+            out[LOGPOST] = in[d];
+            out[CHI2] = o->nextra ? in[d + 1] : NAN;
+            memcpy(out + 2, in, d * sizeof *out);
+        }
+    }
+    size_t total = nc * n;
+    /* the posterior covariance of the parameters */
+    double mean[LT_NPAR] = {0};
+    for (size_t j = 0; j < total; j++)
+        for (size_t i = 0; i < d; i++)
+            mean[i] += r->rows[j * r->ncols + 2 + i] / (double)total;
+    for (size_t j = 0; j < total; j++)
+        for (size_t a = 0; a < d; a++)
+            for (size_t b = 0; b < d; b++)
+                r->cov[a * d + b] += (r->rows[j * r->ncols + 2 + a] - mean[a]) *
+                                     (r->rows[j * r->ncols + 2 + b] - mean[b]) /
+                                     (double)(total > 1 ? total - 1 : 1);
+    r->z_pivot = NAN;
+    double one_minus_ap = NAN;
+    if (pivot) {
+        r->z_pivot = lt_pivot_redshift(r->cov[iw0 * d + iwa], r->cov[iwa * d + iwa]);
+        one_minus_ap = 1.0 - 1.0 / (1.0 + r->z_pivot);
+    }
+    /* derived columns, draw by draw (each a pure function of its draw) */
+#pragma omp parallel for schedule(dynamic, 256)
+    for (size_t j = 0; j < total; j++) {
+        double *out = r->rows + j * r->ncols;
+        for (int k = 0; k < nder; k++)
+            out[2 + d + k] = lt_like_derived(l, out + 2, der[k]);
+        if (pivot)
+            out[2 + d + nder] = out[2 + iw0] + out[2 + iwa] * one_minus_ap;
+    }
+    for (size_t col = 2; col < r->ncols; col++) {
+        double *x = malloc((total ? total : 1) * sizeof *x);
+        if (!x)
+            goto nomem;
+        for (size_t j = 0; j < total; j++)
+            x[j] = r->rows[j * r->ncols + col];
+        lt_post_summarise(x, total, &r->stats[col]);
+        free(x);
+    }
+    /* the best draw, polished: chi2_min */
+    size_t jbest = 0;
+    for (size_t j = 1; j < total; j++)
+        if (r->rows[j * r->ncols] > r->rows[jbest * r->ncols])
+            jbest = j;
+    polish_ctx pc = {l, lt_like_work_alloc(l)};
+    if (!pc.w)
+        goto nomem;
+    double scale[LT_NPAR], x0[LT_NPAR];
+    for (size_t i = 0; i < d; i++) {
+        scale[i] = isfinite(r->stats[2 + i].sd) && r->stats[2 + i].sd > 0 ? r->stats[2 + i].sd : 1.0;
+        x0[i] = total ? r->rows[jbest * r->ncols + 2 + i] : 0.0;
+    }
+    lt_optim_opts oo = {d, 1, x0, scale, 1e-10, 4000 * (d + 1)};
+    lt_optim_info info;
+    double f;
+    if (lt_optimize(neg2logpost, &pc, &oo, r->best, &f, &info, err)) {
+        lt_like_work_free(pc.w);
+        return err ? err->code : LT_ENUMERIC;
+    }
+    lt_like_eval(l, pc.w, r->best, &r->at_best);
+    lt_like_work_free(pc.w);
+    for (int k = 0; k < nder; k++)
+        r->best_derived[k] = lt_like_derived(l, r->best, der[k]);
+    if (pivot)
+        r->best_derived[nder] = r->best[iw0] + r->best[iwa] * one_minus_ap;
+    r->converged = lt_mcmc_converged(m);
+    r->diag = lt_mcmc_diagnostics(m);
+    r->warmup = o->warmup;
+    r->steps = n;
+    return LT_OK;
+nomem:
+    lt_sample_result_free(r);
+    return lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory summarising the draws");
+}
+
+static cJSON *num(double v) { return lt_json_number(v); }
+
+static cJSON *stats_json(const lt_post_stats *s, double best)
+{
+    cJSON *o = cJSON_CreateObject();
+    cJSON_AddItemToObject(o, "best", num(best));
+    cJSON_AddItemToObject(o, "mean", num(s->mean));
+    cJSON_AddItemToObject(o, "sd", num(s->sd));
+    cJSON_AddItemToObject(o, "median", num(s->median));
+    cJSON_AddItemToObject(o, "lo68", num(s->lo68));
+    cJSON_AddItemToObject(o, "hi68", num(s->hi68));
+    cJSON_AddItemToObject(o, "lo95", num(s->lo95));
+    cJSON_AddItemToObject(o, "hi95", num(s->hi95));
+    cJSON_AddItemToObject(o, "hpd68_lo", num(s->hpd68_lo));
+    cJSON_AddItemToObject(o, "hpd68_hi", num(s->hpd68_hi));
+    cJSON_AddItemToObject(o, "hpd95_lo", num(s->hpd95_lo));
+    cJSON_AddItemToObject(o, "hpd95_hi", num(s->hpd95_hi));
+    return o;
+}
+
+cJSON *lt_report_sample_json(const lt_like *l, const lt_sample_result *r,
+                             const lt_survey_spec *data, unsigned long seed)
+{
+    const lt_survey *s = lt_like_survey(l);
+    size_t d = r->nparams;
+    cJSON *o = cJSON_CreateObject();
+    cJSON_AddStringToObject(o, "command", "sample");
+    cJSON_AddStringToObject(o, "model", lt_like_model(l)->name);
+    cJSON_AddItemToObject(o, "n_data", num((double)s->n));
+    cJSON_AddStringToObject(o, "observable", lt_obs_name(s->kind));
+    cJSON_AddItemToObject(o, "chi2_min", num(r->at_best.chi2));
+    cJSON_AddItemToObject(o, "dof", num((double)lt_like_dof(l)));
+    cJSON_AddBoolToObject(o, "converged", r->converged);
+    cJSON *params = cJSON_AddObjectToObject(o, "params");
+    for (size_t i = 0; i < d; i++) {
+        cJSON *p = stats_json(&r->stats[r->first_param + i], r->best[i]);
+        char buf[64];
+        lt_prior_format(lt_like_prior(l, i), buf, sizeof buf);
+        cJSON_AddStringToObject(p, "prior", buf);
+        cJSON_AddItemToObject(params, r->cols[r->first_param + i], p);
+    }
+    cJSON *der = cJSON_AddObjectToObject(o, "derived");
+    for (size_t k = 0; k < r->nderived; k++)
+        cJSON_AddItemToObject(der, r->cols[r->first_derived + k],
+                              stats_json(&r->stats[r->first_derived + k], r->best_derived[k]));
+    if (!isnan(r->z_pivot))
+        cJSON_AddItemToObject(o, "z_pivot", num(r->z_pivot));
+    cJSON *off = cJSON_AddObjectToObject(o, "offset");
+    cJSON_AddStringToObject(off, "mode", lt_offset_name(lt_like_offset_mode(l)));
+    if (lt_like_offset_mode(l) != LT_OFFSET_NONE)
+        cJSON_AddItemToObject(off, "best", num(r->at_best.offset));
+
+    const lt_mcmc_diag *dg = r->diag;
+    cJSON *cv = cJSON_AddObjectToObject(o, "convergence");
+    cJSON_AddItemToObject(cv, "rhat_max", num(dg->rhat_max));
+    cJSON_AddItemToObject(cv, "ess_min", num(dg->ess_min));
+    cJSON_AddItemToObject(cv, "chains", num((double)r->nchains));
+    cJSON_AddItemToObject(cv, "draws", num((double)(r->nchains * r->ndraws)));
+    cJSON_AddItemToObject(cv, "draws_per_chain", num((double)r->ndraws));
+    cJSON_AddItemToObject(cv, "warmup_per_chain", num((double)r->warmup));
+    cJSON *acc = cJSON_AddArrayToObject(cv, "acceptance");
+    for (size_t c = 0; c < r->nchains; c++)
+        cJSON_AddItemToArray(acc, num(dg->acceptance[c]));
+    cJSON *pp = cJSON_AddObjectToObject(cv, "params");
+    for (size_t i = 0; i < d; i++) {
+        cJSON *p = cJSON_AddObjectToObject(pp, r->cols[r->first_param + i]);
+        cJSON_AddItemToObject(p, "rhat", num(dg->rhat[i]));
+        cJSON_AddItemToObject(p, "ess_bulk", num(dg->ess_bulk[i]));
+        cJSON_AddItemToObject(p, "ess_tail", num(dg->ess_tail[i]));
+        cJSON_AddItemToObject(p, "tau", num(dg->tau[i]));
+    }
+    cJSON *cov = cJSON_AddObjectToObject(o, "covariance");
+    cJSON *names = cJSON_AddArrayToObject(cov, "names");
+    cJSON *mat = cJSON_AddArrayToObject(cov, "matrix"), *cor = cJSON_AddArrayToObject(cov, "correlation");
+    for (size_t i = 0; i < d; i++) {
+        cJSON_AddItemToArray(names, cJSON_CreateString(r->cols[r->first_param + i]));
+        cJSON *row = cJSON_CreateArray(), *crow = cJSON_CreateArray();
+        for (size_t j = 0; j < d; j++) {
+            cJSON_AddItemToArray(row, num(r->cov[i * d + j]));
+            cJSON_AddItemToArray(crow, num(r->cov[i * d + j] / sqrt(r->cov[i * d + i] * r->cov[j * d + j])));
+        }
+        cJSON_AddItemToArray(mat, row);
+        cJSON_AddItemToArray(cor, crow);
+    }
+    cJSON *sm = cJSON_AddObjectToObject(o, "sampler");
+    cJSON_AddStringToObject(sm, "method", "adaptive Metropolis (Haario et al. 2001)");
+    cJSON_AddItemToObject(sm, "seed", num((double)seed));
+    cJSON *w = lt_report_add_data(o, data, s);
+    if (!r->converged)
+        cJSON_AddItemToArray(w, cJSON_CreateString("the chains did not converge within the step cap"));
+    return o;
+}
+
+void lt_report_sample_table(FILE *f, const lt_like *l, const lt_sample_result *r,
+                            const lt_survey_spec *data)
+{
+    const lt_survey *s = lt_like_survey(l);
+    fprintf(f, "posterior of %s (%s) given %s: %zu objects, observable %s\n\n",
+            lt_like_model(l)->name, lt_like_model(l)->summary, data->data, s->n, lt_obs_name(s->kind));
+    fprintf(f, "  %-10s %11s %10s %11s %23s %23s %7s %7s\n", "parameter", "mean", "sd", "best",
+            "68% interval", "95% interval", "R-hat", "ESS");
+    for (size_t k = 0; k < r->nparams + r->nderived; k++) {
+        size_t col = r->first_param + k;
+        const lt_post_stats *st = &r->stats[col];
+        double best = k < r->nparams ? r->best[k] : r->best_derived[k - r->nparams];
+        if (k == r->nparams)
+            fprintf(f, "  derived\n");
+        fprintf(f, "  %-10s %11.5g %10.4g %11.5g   [%9.5g, %9.5g]   [%9.5g, %9.5g]", r->cols[col],
+                st->mean, st->sd, best, st->lo68, st->hi68, st->lo95, st->hi95);
+        if (k < r->nparams)
+            fprintf(f, " %7.4f %7.0f", r->diag->rhat[k],
+                    fmin(r->diag->ess_bulk[k], r->diag->ess_tail[k]));
+        fputc('\n', f);
+    }
+    if (!isnan(r->z_pivot))
+        fprintf(f, "  z_pivot    %11.5g (from the posterior covariance of w0 and wa)\n", r->z_pivot);
+    fprintf(f, "\n  chi2_min %.4f for %ld degrees of freedom (the best draw, polished)\n",
+            r->at_best.chi2, lt_like_dof(l));
+    fprintf(f, "  %zu chains x %zu draws after %zu warm-up steps; worst R-hat %.4f, smallest ESS %.0f%s\n",
+            r->nchains, r->ndraws, r->warmup, r->diag->rhat_max, r->diag->ess_min,
+            r->converged ? "" : "; NOT CONVERGED");
+}
+
+static int csv_write(const char *path, const lt_sample_result *r, lt_error *err)
+{
+    char tmp[4200];
+    lt_tmp_name(path, tmp, sizeof tmp);
+    FILE *f = fopen(tmp, "w");
+    if (!f)
+        return lt_error_set(err, LT_EIO, tmp, 0, "cannot write: %s", strerror(errno));
+    fputs("chain,step", f);
+    for (size_t k = 0; k < r->ncols; k++)
+        fprintf(f, ",%s", r->cols[k]);
+    fputc('\n', f);
+    char buf[32];
+    for (size_t c = 0; c < r->nchains; c++)
+        for (size_t i = 0; i < r->ndraws; i++) {
+            fprintf(f, "%zu,%zu", c + 1, i + 1);
+            const double *row = r->rows + (c * r->ndraws + i) * r->ncols;
+            for (size_t k = 0; k < r->ncols; k++) {
+                lt_format_double(row[k], buf, sizeof buf);
+                fprintf(f, ",%s", buf);
+            }
+            fputc('\n', f);
+        }
+    int bad = ferror(f);
+    bad |= fclose(f) != 0;
+    if (bad) {
+        remove(tmp);
+        return lt_error_set(err, LT_EIO, tmp, 0, "write failed (disk full?)");
+    }
+    return lt_file_commit(path, err);
+}
+
+static int fits_write(const char *path, const lt_like *l, const lt_sample_result *r,
+                      const lt_survey_spec *data, unsigned long seed, lt_error *err)
+{
+    char tmp[4200];
+    lt_tmp_name(path, tmp, sizeof tmp);
+    remove(tmp);
+    size_t nc = r->ncols + 2, total = r->nchains * r->ndraws;
+    char **ttype = malloc(nc * sizeof *ttype), **tform = malloc(nc * sizeof *tform);
+    double *col = malloc((total ? total : 1) * sizeof *col);
+    long *ichain = malloc((total ? total : 1) * sizeof *ichain), *istep = malloc((total ? total : 1) * sizeof *istep);
+    int status = 0, rc = LT_OK;
+    fitsfile *f = NULL;
+    if (!ttype || !tform || !col || !ichain || !istep) {
+        rc = lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
+        goto done;
+    }
+    ttype[0] = "chain", ttype[1] = "step", tform[0] = tform[1] = "1J";
+    for (size_t k = 0; k < r->ncols; k++)
+        ttype[k + 2] = r->cols[k], tform[k + 2] = "1D";
+    if (fits_create_file(&f, tmp, &status))
+        goto fitserr;
+    fits_create_tbl(f, BINARY_TBL, (LONGLONG)total, (int)nc, ttype, tform, NULL, "CHAINS", &status);
+    char version[32] = "lantern " LT_VERSION, model[64];
+    snprintf(model, sizeof model, "%s", lt_like_model(l)->name);
+    long lseed = (long)seed, lchains = (long)r->nchains;
+    int conv = r->converged;
+    double rhat = r->diag->rhat_max, ess = r->diag->ess_min;
+    fits_update_key(f, TSTRING, "CREATOR", version, "program that wrote this file", &status);
+    fits_update_key(f, TSTRING, "MODEL", model, "cosmological model", &status);
+    fits_update_key_longstr(f, "DATAFILE", (char *)(data->data ? data->data : ""), "survey table", &status);
+    fits_update_key(f, TLONG, "SEED", &lseed, "random seed", &status);
+    fits_update_key(f, TLONG, "NCHAINS", &lchains, "chains", &status);
+    fits_update_key(f, TLOGICAL, "CONVERGD", &conv, "R-hat and ESS criteria met", &status);
+    if (isfinite(rhat))
+        fits_update_key(f, TDOUBLE, "RHATMAX", &rhat, "worst R-hat", &status);
+    if (isfinite(ess))
+        fits_update_key(f, TDOUBLE, "ESSMIN", &ess, "smallest ESS (bulk and tail)", &status);
+    for (size_t c = 0, j = 0; c < r->nchains; c++)
+        for (size_t i = 0; i < r->ndraws; i++, j++)
+            ichain[j] = (long)c + 1, istep[j] = (long)i + 1;
+    fits_write_col(f, TLONG, 1, 1, 1, (LONGLONG)total, ichain, &status);
+    fits_write_col(f, TLONG, 2, 1, 1, (LONGLONG)total, istep, &status);
+    for (size_t k = 0; k < r->ncols && !status; k++) {
+        for (size_t j = 0; j < total; j++)
+            col[j] = r->rows[j * r->ncols + k];
+        fits_write_col(f, TDOUBLE, (int)k + 3, 1, 1, (LONGLONG)total, col, &status);
+    }
+    if (status)
+        goto fitserr;
+    fits_close_file(f, &status);
+    f = NULL;
+    if (status)
+        goto fitserr;
+    rc = lt_file_commit(path, err);
+    goto done;
+fitserr: {
+    char text[FLEN_STATUS];
+    fits_get_errstatus(status, text);
+    fits_clear_errmsg();
+    rc = lt_error_set(err, LT_EIO, tmp, 0, "writing FITS: %s", text);
+    int st2 = 0;
+    if (f)
+        fits_close_file(f, &st2);
+    remove(tmp);
+}
+done:
+    free(ttype);
+    free(tform);
+    free(col);
+    free(ichain);
+    free(istep);
+    return rc;
+}
+
+int lt_report_write_chains(const char *dir, const lt_like *l, const lt_sample_result *r,
+                           const lt_survey_spec *data, unsigned long seed, lt_error *err)
+{
+    char path[4096];
+    snprintf(path, sizeof path, "%s/chains.csv", dir);
+    int rc = csv_write(path, r, err);
+    if (rc)
+        return rc;
+    snprintf(path, sizeof path, "%s/chains.fits", dir);
+    return fits_write(path, l, r, data, seed, err);
+}

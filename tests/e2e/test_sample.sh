@@ -1,0 +1,111 @@
+#!/usr/bin/env bash
+# End-to-end tests of "lantern sample": the acceptance command, chain files
+# read by astropy, the same chains with 1 and 2 threads, interrupt and
+# resume, the step cap, and the refusals.
+source "$(dirname "$0")/lib.sh"
+P="${LANTERN_SHARED:-$ROOT/../shared}/data/pantheon2018"
+DATA=(--data "$P/lcparam_DS17f.txt" --columns z=zcmb,zhel=zhel,mag=mb,err=dmb --cov "$P/sys_DS17f.txt")
+
+# The acceptance command of issue 5.
+run "$LANTERN" sample "${DATA[@]}" --model lcdm --out "$E2E_TMP/a" --format json
+if [ "$STATUS" -eq 0 ] && /usr/bin/python3 - "$OUT" "$E2E_TMP/a" <<'PY'
+import json, sys
+import numpy as np
+from astropy.io import fits
+j = json.load(open(sys.argv[1]))
+c = j["convergence"]
+assert c["rhat_max"] < 1.01 and c["ess_min"] >= 1000 and c["chains"] == 4, c
+assert c["draws"] == 4 * c["draws_per_chain"]
+for name in ("omega_m", "omega_de"):
+    p = j["params"][name]
+    for k in ("best", "mean", "sd", "median", "lo68", "hi68", "lo95", "hi95",
+              "hpd68_lo", "hpd68_hi", "hpd95_lo", "hpd95_hi"):
+        assert k in p, (name, k)
+    assert p["lo95"] < p["lo68"] < p["median"] < p["hi68"] < p["hi95"]
+    assert p["hpd95_lo"] < p["hpd68_lo"] < p["hpd68_hi"] < p["hpd95_hi"]
+assert set(j["derived"]) == {"omega_k", "q0", "z_t"}
+assert j["converged"] is True and j["dof"] == 37 and abs(j["chi2_min"] - 39.10) < 0.01
+assert json.load(open(sys.argv[2] + "/summary.json")) == j
+# the chains, as astropy reads them, give the summary's numbers
+with fits.open(sys.argv[2] + "/chains.fits") as h:
+    t = h[1].data
+    hdr = h[1].header
+    assert len(t) == c["draws"] and hdr["MODEL"] == "lcdm" and hdr["CONVERGD"] is True
+    om = np.asarray(t["omega_m"], dtype=float)
+    assert abs(om.mean() - j["params"]["omega_m"]["mean"]) < 1e-12
+    assert abs(np.percentile(om, 50) - j["params"]["omega_m"]["median"]) < 1e-12
+    assert abs(om.std(ddof=1) - j["params"]["omega_m"]["sd"]) < 1e-12
+    # equal-tailed 95%: numpy's default percentile is the same definition (linear, type 7)
+    assert abs(np.percentile(om, 2.5) - j["params"]["omega_m"]["lo95"]) < 1e-12
+    assert sorted(set(t["chain"])) == [1, 2, 3, 4]
+csv = np.genfromtxt(sys.argv[2] + "/chains.csv", delimiter=",", names=True)
+assert np.array_equal(csv["omega_m"], om) and np.array_equal(csv["chi2"], np.asarray(t["chi2"]))
+PY
+then pass "sample Pantheon 2018 curved LCDM: converged, contract fields, chains in astropy"; else fail "sample Pantheon 2018 curved LCDM: converged, contract fields, chains in astropy"; fi
+[ -s "$E2E_TMP/a/checkpoint/state.bin" ] && [ -s "$E2E_TMP/a/checkpoint/settings.ini" ] && pass "--out keeps the checkpoint" || fail "--out keeps the checkpoint"
+
+# Same seed, one thread and two: identical chain files.
+run "$LANTERN" sample "${DATA[@]}" --model lcdm-flat --threads 1 --seed 7 --out "$E2E_TMP/t1" --quiet
+run "$LANTERN" sample "${DATA[@]}" --model lcdm-flat --threads 2 --seed 7 --out "$E2E_TMP/t2" --quiet
+if cmp -s "$E2E_TMP/t1/chains.csv" "$E2E_TMP/t2/chains.csv" && cmp -s "$E2E_TMP/t1/chains.fits" "$E2E_TMP/t2/chains.fits" &&
+   cmp -s "$E2E_TMP/t1/summary.json" "$E2E_TMP/t2/summary.json"; then
+    pass "1 and 2 threads give byte-identical chains and summary"
+else
+    fail "1 and 2 threads give byte-identical chains and summary"
+fi
+run "$LANTERN" sample "${DATA[@]}" --model lcdm-flat --threads 2 --seed 8 --out "$E2E_TMP/t3" --quiet
+cmp -s "$E2E_TMP/t1/chains.csv" "$E2E_TMP/t3/chains.csv" && fail "another seed, other chains" || pass "another seed, other chains"
+
+# Interrupt (SIGINT) and resume: the same chains as an uninterrupted run.
+LONG=(--model lcdm --target-ess 25000 --seed 3 --threads 2 --quiet)
+run "$LANTERN" sample "${DATA[@]}" "${LONG[@]}" --out "$E2E_TMP/full"
+expect_status "a long reference run" 0
+"$LANTERN" sample "${DATA[@]}" "${LONG[@]}" --out "$E2E_TMP/cut" >"$OUT" 2>"$ERR" &
+pid=$!
+sleep 0.5
+kill -INT $pid
+wait $pid
+STATUS=$?
+if [ "$STATUS" -eq 1 ] && [ -s "$E2E_TMP/cut/checkpoint/state.bin" ] && [ ! -e "$E2E_TMP/cut/summary.json" ] &&
+   [ ! -e "$E2E_TMP/cut/chains.csv" ] && grep -q "resume" "$ERR"; then
+    pass "SIGINT: status 1, a checkpoint and no final files"
+else
+    fail "SIGINT: status 1, a checkpoint and no final files"
+fi
+run "$LANTERN" sample --resume "$E2E_TMP/cut" --quiet
+if [ "$STATUS" -eq 0 ] && cmp -s "$E2E_TMP/full/chains.csv" "$E2E_TMP/cut/chains.csv" &&
+   cmp -s "$E2E_TMP/full/summary.json" "$E2E_TMP/cut/summary.json"; then
+    pass "--resume ends with the uninterrupted run's chains and summary"
+else
+    fail "--resume ends with the uninterrupted run's chains and summary"
+fi
+
+# The step cap: status 3, results written and marked unconverged.
+run "$LANTERN" sample "${DATA[@]}" --model lcdm --max-steps 200 --check-every 100 --out "$E2E_TMP/cap" --format json
+if [ "$STATUS" -eq 3 ] && grep -q '"converged":[[:space:]]*false' "$E2E_TMP/cap/summary.json" && grep -q "did not converge" "$ERR"; then
+    pass "the step cap: status 3 and \"converged\": false"
+else
+    fail "the step cap: status 3 and \"converged\": false"
+fi
+
+# Refusals.
+run "$LANTERN" sample --resume "$E2E_TMP/nowhere"
+expect_error "--resume without a checkpoint" 2 "no checkpoint here"
+run "$LANTERN" sample --resume "$E2E_TMP/a" --chains 8
+expect_error "--resume takes no other settings" 2 "takes no other options"
+cp -r "$E2E_TMP/a" "$E2E_TMP/bad"
+printf 'garbage' | dd of="$E2E_TMP/bad/checkpoint/state.bin" bs=1 seek=300 conv=notrunc 2>/dev/null
+run "$LANTERN" sample --resume "$E2E_TMP/bad"
+expect_error "a damaged checkpoint is refused" 2 "damaged or truncated"
+cp -r "$E2E_TMP/a" "$E2E_TMP/other"
+sed -i 's/^seed = .*/seed = 99/' "$E2E_TMP/other/checkpoint/settings.ini"
+run "$LANTERN" sample --resume "$E2E_TMP/other"
+expect_error "a checkpoint of other settings is refused" 2 "belongs to another run"
+run "$LANTERN" sample "${DATA[@]}" --model lcdm --chains 0
+expect_error "bad --chains" 2 "--chains: '0' is not a whole number from 1 to 256"
+run "$LANTERN" sample "${DATA[@]}" --model lcdm --target-ess x
+expect_error "bad --target-ess" 2 "--target-ess: 'x'"
+run "$LANTERN" sample "${DATA[@]}" --model lcdm --out "$E2E_TMP/a"
+expect_error "an earlier run is refused without --force" 2 "pass --force"
+run "$LANTERN" sample --help
+expect_stdout "sample --help explains the stopping rule" 'R-hat - 1 < 0.01'
