@@ -81,11 +81,9 @@ deps:
 demo: deps
 	@$(MAKE) --no-print-directory demo-run
 
-DEMO := data/lamplighter
+# The whole job on the demo survey (configs/demo.ini): out/demo/.
 demo-run: all
-	$(BIN) inspect --data $(DEMO)/survey.csv --columns z=z,zhel=zhel,mag=mag,err=err,id=id \
-	    --cov $(DEMO)/covariance.txt
-	$(BIN) distance --model lcdm-flat --set h0=70,omega_m=0.31 --z-range 0.01:1.5:16
+	$(BIN) run configs/demo.ini --force
 
 test: deps
 	@$(MAKE) --no-print-directory check

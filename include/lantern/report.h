@@ -81,6 +81,62 @@ void lt_report_sample_table(FILE *f, const lt_like *l, const lt_sample_result *r
 int lt_report_write_chains(const char *dir, const lt_like *l, const lt_sample_result *r,
                            const lt_survey_spec *data, unsigned long seed, lt_error *err);
 
+/* ---- runs of several models (lantern run, lantern report) ---- */
+
+/* One sampled model as saved in its folder (summary.json, chains.csv). */
+typedef struct lt_run_model {
+    char *name;                 /* the model, "lcdm-flat" */
+    char *label;                /* how tables and legends name it */
+    const lt_cosmo_model *model;
+    size_t nparams, nderived;
+    char **names;               /* nparams then nderived */
+    lt_prior *priors;           /* nparams (uniform priors give the edges) */
+    double *best;               /* nparams + nderived */
+    lt_post_stats *stats;       /* nparams + nderived */
+    size_t nchains, ndraws;     /* draws per chain */
+    double *draws;              /* nchains * ndraws rows of nparams + nderived */
+    double chi2_min, aic, bic, offset_best, rhat_max, ess_min;
+    long dof;
+    size_t k_params, n_data;
+    int converged, offset_marginal;
+    lt_cosmo_params best_params; /* the fixed values with the best fit applied */
+} lt_run_model;
+
+/* Read dir/summary.json and dir/chains.csv. */
+int lt_run_model_load(const char *dir, lt_run_model *m, lt_error *err);
+void lt_run_model_free(lt_run_model *m);
+
+/*
+ * Rounding by the rule of the Particle Data Group (Review of Particle
+ * Physics, introduction): the three leading digits of the error decide:
+ * 100-354, two significant digits; 355-949, one; 950-999, round up to 1000
+ * and keep two. The value keeps the error's last decimal place. For
+ * asymmetric errors the smaller one decides. Writes value, minus and plus
+ * as text (minus and plus without sign).
+ */
+void lt_pdg_round(double value, double minus, double plus, char *v, char *m, char *p,
+                  size_t size);
+
+/* How a parameter is quoted: a two-sided interval, or a 95% upper or lower
+ * limit when its posterior presses on a prior edge. */
+typedef enum { LT_QUOTE_TWO_SIDED = 0, LT_QUOTE_UPPER, LT_QUOTE_LOWER } lt_quote_kind;
+typedef struct lt_quote {
+    lt_quote_kind kind;
+    double value, minus, plus; /* median and 68% equal-tailed; or the limit */
+} lt_quote;
+lt_quote lt_quote_of(const lt_run_model *m, size_t col);
+
+/* constraints.md, constraints.tex (booktabs) and constraints.csv
+ * (model,parameter,value,minus,plus,kind) for n models, into dir. */
+int lt_report_write_tables(const char *dir, const lt_run_model *models, size_t n,
+                           lt_error *err);
+
+/* Figures (PLplot, cairo drivers), PNG and PDF: hubble.*, and per model
+ * posterior_<model>.*, plane_<model>.* (curved and w0-wa models) and
+ * traces_<model>.png. The survey s gives the Hubble diagram's data. */
+int lt_report_write_figures(const char *dir, const lt_run_model *models, size_t n,
+                            const lt_survey *s, lt_error *err);
+
 /* Add the "data" block (files, columns) and the "warnings" list of s to o;
  * returns the warnings array for the caller to extend. */
 struct cJSON *lt_report_add_data(struct cJSON *o, const lt_survey_spec *data,

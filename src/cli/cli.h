@@ -94,12 +94,23 @@ typedef struct cli_job {
     long chains, threads, warmup, check_every, max_steps;
     double target_ess;
     int quiet, verbose;
+    const char *models; /* [run] models: a comma-separated list (lantern run) */
+    int lenient;        /* priors and fixes apply to the models that have them */
 } cli_job;
 
 void cli_job_init(cli_job *j);
 void cli_job_free(cli_job *j);
 /* Read RUN.ini into j; prints any error and returns the exit status. */
 int cli_job_load(cli_job *j, const char *path);
+/* The same, with "section.key=value" overrides applied first (--set). */
+int cli_job_load_sets(cli_job *j, const char *path, const char *const *sets, size_t nsets);
+/* Make the data paths absolute, so that summaries name them from anywhere. */
+void cli_job_absolute(cli_job *j);
+/* Sample one model into out (a folder: summary.json, chains, checkpoint);
+ * resume continues from out's checkpoint; print writes the summary to
+ * stdout in format. Returns the exit status. */
+int cli_sample_model(cli_job *j, lt_like *l, const lt_like_spec *spec, const char *out,
+                     int resume, int print, cli_format format);
 /* If the current argument is a DATA, MODEL or output option, take it. */
 int cli_take_job(cli_args *a, cli_job *j);
 /* The likelihood spec for model m from j's priors, fixes and offset;
@@ -117,6 +128,8 @@ int cli_inspect(int argc, char **argv);
 int cli_simulate(int argc, char **argv);
 int cli_fit(int argc, char **argv);
 int cli_sample(int argc, char **argv);
+int cli_run(int argc, char **argv);
+int cli_report_runs(int argc, char **argv);
 /* Write j, with its final likelihood spec, as a run file (absolute paths),
  * for --resume. */
 int cli_job_write(const cli_job *j, const lt_like_spec *spec, const char *path, lt_error *err);

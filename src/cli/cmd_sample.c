@@ -52,7 +52,7 @@ static void usage(FILE *f)
           "  --target-ess N      ESS every parameter needs [1000]\n"
           "  --max-steps N       kept steps per chain at most [200000]; reaching it ends\n"
           "                      the run with exit status 3 and \"converged\": false\n"
-          "  --warmup N          adaptation steps per chain [max(1000, 250 x dimension)]\n"
+          "  --warmup N          adaptation steps per chain [max(2000, 1000 x dimension)]\n"
           "  --check-every N     kept steps per chain between checks [1000]\n"
           "\noutput:\n"
           "  --out DIR           DIR/summary.json, chains.csv, chains.fits, and checkpoint/\n"
@@ -146,7 +146,8 @@ static void on_check(const lt_mcmc *m, void *p)
     pr->printed = 1;
 }
 
-static int finish(const cli_job *j, lt_like *l, lt_mcmc *m, cli_format format, const char *out)
+static int finish(const cli_job *j, lt_like *l, lt_mcmc *m, cli_format format, const char *out,
+                  int print)
 {
     lt_sample_result r;
     lt_error err;
@@ -154,7 +155,8 @@ static int finish(const cli_job *j, lt_like *l, lt_mcmc *m, cli_format format, c
     if (lt_sample_collect(l, m, &r, &err))
         return cli_report(&err);
     cJSON *json = lt_report_sample_json(l, &r, &j->data, j->seed);
-    if (format == CLI_JSON) {
+    if (!print) {
+    } else if (format == CLI_JSON) {
         char *text = cJSON_Print(json);
         printf("%s\n", text ? text : "{}");
         free(text);
@@ -182,6 +184,127 @@ static int finish(const cli_job *j, lt_like *l, lt_mcmc *m, cli_format format, c
     return status;
 }
 
+int cli_sample_model(cli_job *j, lt_like *l, const lt_like_spec *spec, const char *out,
+                     int resume, int print, cli_format format)
+{
+    int status = CLI_OK;
+    lt_mcmc *m = NULL;
+    lt_like_chain *ctx = NULL;
+    void **ctxp = NULL;
+    char state[4200] = "", settings[4200] = "";
+    lt_error err;
+    lt_error_clear(&err);
+    size_t d = lt_like_dim(l);
+    if (d == 0) {
+        status = cli_usage_error("sample", "every parameter is fixed: nothing to sample");
+        goto done;
+    }
+    if (j->warmup == 0)
+        j->warmup = d * 1000 > 2000 ? (long)d * 1000 : 2000;
+    ctx = calloc((size_t)j->chains, sizeof *ctx);
+    ctxp = calloc((size_t)j->chains, sizeof *ctxp);
+    if (!ctx || !ctxp) {
+        status = cli_usage_error("sample", "out of memory");
+        goto done;
+    }
+    for (long c = 0; c < j->chains; c++) {
+        ctx[c] = (lt_like_chain){l, lt_like_work_alloc(l)};
+        ctxp[c] = &ctx[c];
+        if (!ctx[c].w) {
+            status = cli_usage_error("sample", "out of memory");
+            goto done;
+        }
+    }
+    uint64_t fp = fingerprint(l, spec, j);
+    if (out) {
+        snprintf(state, sizeof state, "%s/checkpoint/state.bin", out);
+        snprintf(settings, sizeof settings, "%s/checkpoint/settings.ini", out);
+    }
+    if (resume) {
+        if (!(m = lt_mcmc_load(state, fp, lt_like_logdensity, ctxp, &err))) {
+            status = cli_report(&err);
+            goto done;
+        }
+    } else {
+        if (out && lt_outdir_prepare(out, j->force, &err)) {
+            status = cli_report(&err);
+            goto done;
+        }
+        /* the chains' centre: the best fit and its Laplace covariance */
+        lt_fit_opts fo = {j->seed, (size_t)j->starts};
+        lt_fit_result fr;
+        if (lt_fit_run(l, &fo, &fr, &err)) {
+            status = cli_report(&err);
+            goto done;
+        }
+        double scale[LT_NPAR];
+        for (size_t i = 0; i < d; i++) {
+            const lt_prior *p = lt_like_prior(l, i);
+            scale[i] = p->kind == LT_PRIOR_UNIFORM ? p->b - p->a : 4 * p->b;
+        }
+        lt_mcmc_opts mo = {d, 1, (size_t)j->chains, j->seed, fr.best, fr.laplace_ok ? fr.cov : NULL,
+                           scale, (size_t)j->warmup, (size_t)j->check_every, (size_t)j->max_steps,
+                           j->target_ess, 0.01, (int)j->threads};
+        if (!(m = lt_mcmc_alloc(&mo, lt_like_logdensity, ctxp, &err))) {
+            status = cli_report(&err);
+            goto done;
+        }
+        if (out) {
+            char dir[4200];
+            snprintf(dir, sizeof dir, "%s/checkpoint", out);
+            char what[128];
+            snprintf(what, sizeof what, "lantern %s sample (running)", LT_VERSION);
+            if ((mkdir(dir, 0777) != 0 && errno != EEXIST) ||
+                cli_job_write(j, spec, settings, &err) || lt_outdir_mark(out, what, &err)) {
+                status = err.code ? cli_report(&err)
+                                  : cli_usage_error(dir, "cannot make the checkpoint folder");
+                goto done;
+            }
+        }
+    }
+    /* threads may be set differently on resume: the draws do not depend on it */
+    progress pr = {{0, 0}, isatty(2), j->quiet, j->verbose, j->target_ess, out ? state : NULL, fp,
+                   {0, 0, "", ""}, 0, 0};
+    clock_gettime(CLOCK_MONOTONIC, &pr.start);
+    struct sigaction sa;
+    memset(&sa, 0, sizeof sa);
+    sa.sa_handler = on_signal;
+    sigaction(SIGINT, &sa, NULL);
+    sigaction(SIGTERM, &sa, NULL);
+    sigaction(SIGHUP, &sa, NULL);
+    int rc = lt_mcmc_run(m, &stop_requested, on_check, &pr, &err);
+    if (pr.printed && pr.tty && !pr.verbose)
+        fputc('\n', stderr);
+    if (pr.save_failed) {
+        status = cli_report(&pr.err);
+        goto done;
+    }
+    if (rc == LT_EINTR) {
+        if (out && lt_mcmc_save(m, state, fp, &err) == LT_OK)
+            fprintf(stderr, "lantern: interrupted; the checkpoint in %s/checkpoint holds every "
+                            "draw so far: continue with 'lantern sample --resume %s'\n",
+                    out, out);
+        else if (out)
+            cli_report(&err);
+        else
+            fputs("lantern: interrupted (no --out folder, so nothing was saved)\n", stderr);
+        status = CLI_FAILED;
+        goto done;
+    }
+    if (rc) {
+        status = cli_report(&err);
+        goto done;
+    }
+    status = finish(j, l, m, format, out, print);
+done:
+    lt_mcmc_free(m);
+    for (long c = 0; ctx && c < j->chains; c++)
+        lt_like_work_free(ctx[c].w);
+    free(ctx);
+    free(ctxp);
+    return status;
+}
+
 int cli_sample(int argc, char **argv)
 {
     cli_job j;
@@ -191,10 +314,7 @@ int cli_sample(int argc, char **argv)
     int quiet = 0, verbose = 0;
     lt_survey *s = NULL;
     lt_like *l = NULL;
-    lt_mcmc *m = NULL;
-    lt_like_chain *ctx = NULL;
-    void **ctxp = NULL;
-    char state[4200] = "", settings[4200] = "";
+    char settings[4200] = "";
     if (argc > 1 && strncmp(argv[1], "--", 2) != 0) {
         if ((status = cli_job_load(&j, argv[1])))
             goto done;
@@ -270,114 +390,8 @@ int cli_sample(int argc, char **argv)
         goto done;
     }
     cli_print_warnings(s);
-    size_t d = lt_like_dim(l);
-    if (d == 0) {
-        status = cli_usage_error("sample", "every parameter is fixed: nothing to sample");
-        goto done;
-    }
-    if (j.warmup == 0)
-        j.warmup = d * 250 > 1000 ? (long)d * 250 : 1000;
-    ctx = calloc((size_t)j.chains, sizeof *ctx);
-    ctxp = calloc((size_t)j.chains, sizeof *ctxp);
-    if (!ctx || !ctxp) {
-        status = cli_usage_error("sample", "out of memory");
-        goto done;
-    }
-    for (long c = 0; c < j.chains; c++) {
-        ctx[c] = (lt_like_chain){l, lt_like_work_alloc(l)};
-        ctxp[c] = &ctx[c];
-        if (!ctx[c].w) {
-            status = cli_usage_error("sample", "out of memory");
-            goto done;
-        }
-    }
-    uint64_t fp = fingerprint(l, &spec, &j);
-    if (j.out) {
-        snprintf(state, sizeof state, "%s/checkpoint/state.bin", j.out);
-        snprintf(settings, sizeof settings, "%s/checkpoint/settings.ini", j.out);
-    }
-    if (resume) {
-        if (!(m = lt_mcmc_load(state, fp, lt_like_logdensity, ctxp, &err))) {
-            status = cli_report(&err);
-            goto done;
-        }
-    } else {
-        if (j.out && lt_outdir_prepare(j.out, j.force, &err)) {
-            status = cli_report(&err);
-            goto done;
-        }
-        /* the chains' centre: the best fit and its Laplace covariance */
-        lt_fit_opts fo = {j.seed, (size_t)j.starts};
-        lt_fit_result fr;
-        if (lt_fit_run(l, &fo, &fr, &err)) {
-            status = cli_report(&err);
-            goto done;
-        }
-        double scale[LT_NPAR];
-        for (size_t i = 0; i < d; i++) {
-            const lt_prior *p = lt_like_prior(l, i);
-            scale[i] = p->kind == LT_PRIOR_UNIFORM ? p->b - p->a : 4 * p->b;
-        }
-        lt_mcmc_opts mo = {d, 1, (size_t)j.chains, j.seed, fr.best, fr.laplace_ok ? fr.cov : NULL,
-                           scale, (size_t)j.warmup, (size_t)j.check_every, (size_t)j.max_steps,
-                           j.target_ess, 0.01, (int)j.threads};
-        if (!(m = lt_mcmc_alloc(&mo, lt_like_logdensity, ctxp, &err))) {
-            status = cli_report(&err);
-            goto done;
-        }
-        if (j.out) {
-            char dir[4200];
-            snprintf(dir, sizeof dir, "%s/checkpoint", j.out);
-            char what[128];
-            snprintf(what, sizeof what, "lantern %s sample (running)", LT_VERSION);
-            if ((mkdir(dir, 0777) != 0 && errno != EEXIST) ||
-                cli_job_write(&j, &spec, settings, &err) || lt_outdir_mark(j.out, what, &err)) {
-                status = err.code ? cli_report(&err)
-                                  : cli_usage_error(dir, "cannot make the checkpoint folder");
-                goto done;
-            }
-        }
-    }
-    /* threads may be set differently on resume: the draws do not depend on it */
-    progress pr = {{0, 0}, isatty(2), j.quiet, j.verbose, j.target_ess, j.out ? state : NULL, fp,
-                   {0, 0, "", ""}, 0, 0};
-    clock_gettime(CLOCK_MONOTONIC, &pr.start);
-    struct sigaction sa;
-    memset(&sa, 0, sizeof sa);
-    sa.sa_handler = on_signal;
-    sigaction(SIGINT, &sa, NULL);
-    sigaction(SIGTERM, &sa, NULL);
-    sigaction(SIGHUP, &sa, NULL);
-    int rc = lt_mcmc_run(m, &stop_requested, on_check, &pr, &err);
-    if (pr.printed && pr.tty && !pr.verbose)
-        fputc('\n', stderr);
-    if (pr.save_failed) {
-        status = cli_report(&pr.err);
-        goto done;
-    }
-    if (rc == LT_EINTR) {
-        if (j.out && lt_mcmc_save(m, state, fp, &err) == LT_OK)
-            fprintf(stderr, "lantern: interrupted; the checkpoint in %s/checkpoint holds every "
-                            "draw so far: continue with 'lantern sample --resume %s'\n",
-                    j.out, j.out);
-        else if (j.out)
-            cli_report(&err);
-        else
-            fputs("lantern: interrupted (no --out folder, so nothing was saved)\n", stderr);
-        status = CLI_FAILED;
-        goto done;
-    }
-    if (rc) {
-        status = cli_report(&err);
-        goto done;
-    }
-    status = finish(&j, l, m, format, j.out);
+    status = cli_sample_model(&j, l, &spec, j.out, resume != NULL, 1, format);
 done:
-    lt_mcmc_free(m);
-    for (long c = 0; ctx && c < j.chains; c++)
-        lt_like_work_free(ctx[c].w);
-    free(ctx);
-    free(ctxp);
     lt_like_free(l);
     lt_survey_free(s);
     cli_job_free(&j);

@@ -94,18 +94,84 @@ static int add_kv(cli_kv *list, size_t *n, const char *name, const char *value,
     return 0;
 }
 
+/* "--set section.key=value": replace the key's value, or add the key. */
+static int apply_set(cli_job *j, const char *text)
+{
+    const char *dot = strchr(text, '.'), *eq = strchr(text, '=');
+    if (!dot || !eq || dot > eq || dot == text || eq == dot + 1)
+        return cli_usage_error("--set", "'%s' is not section.key=value", text);
+    char section[128], key[128];
+    snprintf(section, sizeof section, "%.*s", (int)(dot - text), text);
+    snprintf(key, sizeof key, "%.*s", (int)(eq - dot - 1), dot + 1);
+    lt_ini *ini = j->ini;
+    for (size_t i = 0; i < ini->n; i++)
+        if (!strcmp(ini->entries[i].section, section) && !strcmp(ini->entries[i].key, key)) {
+            char *v = strdup(eq + 1);
+            if (!v)
+                return cli_usage_error("--set", "out of memory");
+            free(ini->entries[i].value);
+            ini->entries[i].value = v;
+            ini->entries[i].line = 0;
+            return CLI_OK;
+        }
+    /* a new key: its section must exist or is made */
+    const char *sec = NULL;
+    for (size_t i = 0; i < ini->nsections; i++)
+        if (!strcmp(ini->sections[i], section))
+            sec = ini->sections[i];
+    if (!sec) {
+        char **ns = realloc(ini->sections, (ini->nsections + 1) * sizeof *ns);
+        long *nl = ns ? realloc(ini->section_lines, (ini->nsections + 1) * sizeof *nl) : NULL;
+        int *nu = nl ? realloc(ini->section_used, (ini->nsections + 1) * sizeof *nu) : NULL;
+        if (ns)
+            ini->sections = ns;
+        if (nl)
+            ini->section_lines = nl;
+        if (nu)
+            ini->section_used = nu;
+        char *copy = strdup(section);
+        if (!ns || !nl || !nu || !copy) {
+            free(copy);
+            return cli_usage_error("--set", "out of memory");
+        }
+        ini->sections[ini->nsections] = copy;
+        ini->section_lines[ini->nsections] = 0;
+        ini->section_used[ini->nsections] = 0;
+        sec = ini->sections[ini->nsections++];
+    }
+    lt_ini_entry *ne = realloc(ini->entries, (ini->n + 1) * sizeof *ne);
+    if (!ne)
+        return cli_usage_error("--set", "out of memory");
+    ini->entries = ne;
+    ne[ini->n] = (lt_ini_entry){(char *)sec, strdup(key), strdup(eq + 1), 0, 0};
+    if (!ne[ini->n].key || !ne[ini->n].value)
+        return cli_usage_error("--set", "out of memory");
+    ini->n++;
+    return CLI_OK;
+}
+
 int cli_job_load(cli_job *j, const char *path)
+{
+    return cli_job_load_sets(j, path, NULL, 0);
+}
+
+int cli_job_load_sets(cli_job *j, const char *path, const char *const *sets, size_t nsets)
 {
     lt_error err;
     lt_error_clear(&err);
     j->ini = lt_ini_read(path, &err);
     if (!j->ini)
         return cli_report(&err);
+    for (size_t i = 0; i < nsets; i++)
+        if (apply_set(j, sets[i]))
+            return CLI_USAGE;
     lt_ini *ini = j->ini;
     lt_ini_entry *e;
     lt_ini_has_section(ini, "run");
     if ((e = lt_ini_get(ini, "run", "name")))
         j->name = e->value;
+    if ((e = lt_ini_get(ini, "run", "models")))
+        j->models = e->value;
 
     /* [data] */
     if ((e = lt_ini_get(ini, "data", "file")))
@@ -351,6 +417,18 @@ static int apply_kv(const cli_kv *kv, int prior, lt_like_spec *spec, kv_seen *se
     return CLI_OK;
 }
 
+/* Does model m have parameter name (the offset counts: every model has
+ * one where the data need it)? */
+static int model_has(const lt_cosmo_model *m, const char *name)
+{
+    int id = lt_par_find(name);
+    if (id < 0 || id == LT_PAR_OFFSET)
+        return 1; /* unknown names are reported by apply_kv */
+    if (id == LT_P_OMEGA_DE && m->flat)
+        return 0;
+    return lt_cosmo_model_uses(m, id);
+}
+
 int cli_job_like_spec(const cli_job *j, const lt_cosmo_model *m, lt_like_spec *spec)
 {
     lt_like_spec_init(spec, m);
@@ -366,10 +444,12 @@ int cli_job_like_spec(const cli_job *j, const lt_cosmo_model *m, lt_like_spec *s
     for (int pass = 0; pass < 2; pass++) {
         for (size_t i = 0; i < j->npriors; i++)
             if ((j->priors[i].file != NULL) == (pass == 0) &&
+                (!j->lenient || model_has(m, j->priors[i].name)) &&
                 apply_kv(&j->priors[i], 1, spec, &seen))
                 return CLI_USAGE;
         for (size_t i = 0; i < j->nfixes; i++)
             if ((j->fixes[i].file != NULL) == (pass == 0) &&
+                (!j->lenient || model_has(m, j->fixes[i].name)) &&
                 apply_kv(&j->fixes[i], 0, spec, &seen))
                 return CLI_USAGE;
     }
@@ -465,4 +545,23 @@ int cli_job_model(const cli_job *j, const char *command, lt_like_spec *spec)
                                "w0wa-flat, w0wa)",
                                j->model);
     return cli_job_like_spec(j, m, spec);
+}
+
+void cli_job_absolute(cli_job *j)
+{
+    char p[4200];
+#define ABS(field)                                    \
+    if (field && field[0] != '/') {                   \
+        absolute(field, p, sizeof p);                 \
+        const char *k = keep(j, strdup(p));           \
+        if (k)                                        \
+            field = k;                                \
+    }
+    ABS(j->data.data);
+    for (size_t i = 0; i < j->data.ncov; i++)
+        ABS(j->data.cov[i]);
+    ABS(j->data.modes);
+    ABS(j->data.keep_ids);
+    ABS(j->data.drop_ids);
+#undef ABS
 }

@@ -197,7 +197,20 @@ cJSON *lt_report_sample_json(const lt_like *l, const lt_sample_result *r,
     cJSON_AddStringToObject(o, "observable", lt_obs_name(s->kind));
     cJSON_AddItemToObject(o, "chi2_min", num(r->at_best.chi2));
     cJSON_AddItemToObject(o, "dof", num((double)lt_like_dof(l)));
+    size_t kp = lt_like_nparams_counted(l);
+    cJSON_AddItemToObject(o, "k_params", num((double)kp));
+    cJSON_AddItemToObject(o, "aic", num(r->at_best.chi2 + 2.0 * (double)kp));
+    cJSON_AddItemToObject(o, "bic", num(r->at_best.chi2 + (double)kp * log((double)s->n)));
     cJSON_AddBoolToObject(o, "converged", r->converged);
+    cJSON *fixed = cJSON_AddObjectToObject(o, "fixed");
+    lt_cosmo_params base = *lt_like_base(l);
+    for (int id = 0; id < LT_P_COUNT; id++) {
+        int is_free = 0;
+        for (size_t i = 0; i < d; i++)
+            is_free |= lt_like_param_id(l, i) == id;
+        if (!is_free && lt_cosmo_model_uses(lt_like_model(l), id))
+            cJSON_AddItemToObject(fixed, lt_par_name(id), num(*lt_cosmo_params_slot(&base, id)));
+    }
     cJSON *params = cJSON_AddObjectToObject(o, "params");
     for (size_t i = 0; i < d; i++) {
         cJSON *p = stats_json(&r->stats[r->first_param + i], r->best[i]);

@@ -1,0 +1,572 @@
+/*
+ * Figures with PLplot's cairo drivers (pngcairo, pdfcairo): the Hubble
+ * diagram with residuals, the posterior matrix of each model, the
+ * Omega_m - Omega_de or w0 - wa plane, and the chain traces.
+ *
+ * PLplot keeps global state; figures are drawn one after another from one
+ * thread, each opened and closed here (DESIGN.md).
+ */
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include <plplot.h>
+
+#include "lantern/report.h"
+
+/* Colour map 0: background, ink, then one colour per model (the same model
+ * has the same colour in every figure), grey for data. */
+enum { C_BG = 0, C_INK = 1, C_MODEL = 2, C_GREY = 8, C_LIGHT = 9, C_GRID = 10 };
+static const int palette[][3] = {
+    {255, 255, 255}, {0, 0, 0},       {31, 119, 180}, {214, 39, 40}, {44, 160, 44},
+    {255, 127, 14},  {148, 103, 189}, {140, 86, 75},  {110, 110, 110}, {200, 200, 200},
+    {225, 225, 225}};
+#define NMODELCOL 6
+
+static int model_colour(size_t i) { return C_MODEL + (int)(i % NMODELCOL); }
+
+static void open_figure(const char *dev, const char *path, int w, int h)
+{
+    plsdev(dev);
+    plsfnam(path);
+    plspage(0, 0, w, h, 0, 0);
+    plscolbg(255, 255, 255);
+    plinit();
+    pladv(0);
+    for (size_t i = 0; i < sizeof palette / sizeof palette[0]; i++)
+        plscol0((PLINT)i, palette[i][0], palette[i][1], palette[i][2]);
+    plcol0(C_INK);
+}
+
+/* The figure at dir/name.ext for each requested driver, via draw(). */
+typedef void (*drawer)(const void *ctx);
+
+static int figure(const char *dir, const char *name, int pdf_too, int w, int h, drawer draw,
+                  const void *ctx, lt_error *err)
+{
+    const char *devs[] = {"pngcairo", "pdfcairo"}, *exts[] = {"png", "pdf"};
+    for (int k = 0; k < (pdf_too ? 2 : 1); k++) {
+        char final[4096], tmp[4200];
+        snprintf(final, sizeof final, "%s/%s.%s", dir, name, exts[k]);
+        snprintf(tmp, sizeof tmp, "%s/.%s.%s.tmp", dir, name, exts[k]);
+        open_figure(devs[k], tmp, w, h);
+        draw(ctx);
+        plend();
+        FILE *f = fopen(tmp, "rb");
+        long size = 0;
+        if (f) {
+            fseek(f, 0, SEEK_END);
+            size = ftell(f);
+            fclose(f);
+        }
+        if (size <= 0) {
+            remove(tmp);
+            return lt_error_set(err, LT_EIO, final, 0, "PLplot wrote no figure");
+        }
+        if (rename(tmp, final) != 0)
+            return lt_error_set(err, LT_EIO, final, 0, "cannot move the figure in place");
+    }
+    return LT_OK;
+}
+
+/* ---- helpers on draws ---- */
+static int cmp_double(const void *a, const void *b)
+{
+    double x = *(const double *)a, y = *(const double *)b;
+    return (x > y) - (x < y);
+}
+
+/* A plotting range for column c: the 0.5% to 99.5% span of the draws,
+ * widened by 15%, clipped to the prior where there is one. */
+static void range_of(const lt_run_model *m, size_t c, double *lo, double *hi)
+{
+    size_t n = m->nchains * m->ndraws, nc = m->nparams + m->nderived, k = 0;
+    double *x = malloc((n ? n : 1) * sizeof *x);
+    for (size_t i = 0; x && i < n; i++)
+        if (isfinite(m->draws[i * nc + c]))
+            x[k++] = m->draws[i * nc + c];
+    if (!x || k < 2) {
+        *lo = 0, *hi = 1;
+        free(x);
+        return;
+    }
+    qsort(x, k, sizeof *x, cmp_double);
+    double a = x[(size_t)(0.005 * (double)(k - 1))], b = x[(size_t)(0.995 * (double)(k - 1))];
+    free(x);
+    double pad = 0.15 * (b - a > 0 ? b - a : 1.0);
+    *lo = a - pad, *hi = b + pad;
+    if (c < m->nparams && m->priors[c].kind == LT_PRIOR_UNIFORM && isfinite(m->priors[c].a)) {
+        *lo = fmax(*lo, m->priors[c].a);
+        *hi = fmin(*hi, m->priors[c].b);
+    }
+}
+
+/* Smooth a grid with a Gaussian of sd s cells (separable, edges clipped). */
+static void smooth(double *g, int nx, int ny, double s)
+{
+    int r = (int)ceil(3 * s);
+    double *k = malloc((size_t)(2 * r + 1) * sizeof *k), *t = malloc((size_t)(nx * ny) * sizeof *t);
+    if (!k || !t) {
+        free(k);
+        free(t);
+        return;
+    }
+    for (int i = -r; i <= r; i++)
+        k[i + r] = exp(-0.5 * i * i / (s * s));
+    for (int pass = 0; pass < 2; pass++) {
+        for (int x = 0; x < nx; x++)
+            for (int y = 0; y < ny; y++) {
+                double sum = 0;
+                for (int i = -r; i <= r; i++) {
+                    int xx = pass ? x : x + i, yy = pass ? y + i : y;
+                    if (xx >= 0 && xx < nx && yy >= 0 && yy < ny)
+                        sum += k[i + r] * g[xx * ny + yy];
+                }
+                t[x * ny + y] = sum;
+            }
+        memcpy(g, t, (size_t)(nx * ny) * sizeof *g);
+    }
+    free(k);
+    free(t);
+}
+
+#define NB 60 /* histogram bins per axis */
+
+/* The 68% and 95% levels of a density grid: the values above which it
+ * holds those fractions of the total (highest-density regions). */
+static void hpd_levels(const double *g, int n, double *l68, double *l95)
+{
+    double *s = malloc((size_t)n * sizeof *s), total = 0;
+    if (!s)
+        return;
+    memcpy(s, g, (size_t)n * sizeof *s);
+    qsort(s, (size_t)n, sizeof *s, cmp_double);
+    for (int i = 0; i < n; i++)
+        total += s[i];
+    double cum = 0;
+    *l68 = *l95 = s[n - 1];
+    for (int i = n - 1; i >= 0; i--) {
+        cum += s[i];
+        if (cum <= 0.6827 * total)
+            *l68 = s[i];
+        if (cum <= 0.9545 * total)
+            *l95 = s[i];
+    }
+    free(s);
+}
+
+/* Contours of columns cx, cy of model m in the current window. */
+static void contours(const lt_run_model *m, size_t cx, size_t cy, double x0, double x1,
+                     double y0, double y1, int colour)
+{
+    static double g[NB * NB];
+    memset(g, 0, sizeof g);
+    size_t n = m->nchains * m->ndraws, nc = m->nparams + m->nderived;
+    for (size_t i = 0; i < n; i++) {
+        double x = m->draws[i * nc + cx], y = m->draws[i * nc + cy];
+        int ix = (int)floor((x - x0) / (x1 - x0) * NB), iy = (int)floor((y - y0) / (y1 - y0) * NB);
+        if (ix >= 0 && ix < NB && iy >= 0 && iy < NB)
+            g[ix * NB + iy] += 1.0;
+    }
+    smooth(g, NB, NB, 1.2);
+    double l68 = 0, l95 = 0;
+    hpd_levels(g, NB * NB, &l68, &l95);
+    PLFLT **f;
+    plAlloc2dGrid(&f, NB, NB);
+    PLFLT xg[NB], yg[NB];
+    for (int i = 0; i < NB; i++) {
+        xg[i] = x0 + (x1 - x0) * (i + 0.5) / NB;
+        yg[i] = y0 + (y1 - y0) * (i + 0.5) / NB;
+        for (int k = 0; k < NB; k++)
+            f[i][k] = g[i * NB + k];
+    }
+    PLcGrid cg = {xg, yg, NULL, NB, NB, 0};
+    PLFLT lev95[1] = {l95}, lev68[1] = {l68};
+    plcol0(colour);
+    plwidth(1.5);
+    pllsty(2);
+    plcont((PLFLT_MATRIX)f, NB, NB, 1, NB, 1, NB, lev95, 1, pltr1, &cg);
+    pllsty(1);
+    plwidth(2.5);
+    plcont((PLFLT_MATRIX)f, NB, NB, 1, NB, 1, NB, lev68, 1, pltr1, &cg);
+    plwidth(1);
+    plFree2dGrid(f, NB, NB);
+}
+
+/* The 1-D marginal of column c as a smoothed histogram scaled to peak 1. */
+static void marginal(const lt_run_model *m, size_t c, double x0, double x1, int colour)
+{
+    double h[NB] = {0};
+    size_t n = m->nchains * m->ndraws, nc = m->nparams + m->nderived;
+    for (size_t i = 0; i < n; i++) {
+        int ix = (int)floor((m->draws[i * nc + c] - x0) / (x1 - x0) * NB);
+        if (ix >= 0 && ix < NB)
+            h[ix] += 1.0;
+    }
+    smooth(h, NB, 1, 1.2);
+    double peak = 0;
+    for (int i = 0; i < NB; i++)
+        peak = fmax(peak, h[i]);
+    PLFLT x[NB], y[NB];
+    for (int i = 0; i < NB; i++)
+        x[i] = x0 + (x1 - x0) * (i + 0.5) / NB, y[i] = peak > 0 ? h[i] / peak : 0;
+    plcol0(colour);
+    plwidth(2);
+    plline(NB, x, y);
+    plwidth(1);
+}
+
+/* Labels with units, as PLplot text (#g gives Greek letters). */
+static const char *axis_label(const char *name)
+{
+    static const struct {
+        const char *name, *label;
+    } t[] = {{"omega_m", "#gW#dm#u"},       {"omega_de", "#gW#dDE#u"}, {"omega_k", "#gW#dk#u"},
+             {"w0", "w#d0#u"},             {"wa", "w#da#u"},          {"h0", "H#d0#u [km/s/Mpc]"},
+             {"offset", "M [mag]"},        {"q0", "q#d0#u"},          {"z_t", "z#dt#u"},
+             {"age_gyr", "age [Gyr]"},     {"w_pivot", "w#dp#u"}};
+    for (size_t i = 0; i < sizeof t / sizeof t[0]; i++)
+        if (!strcmp(t[i].name, name))
+            return t[i].label;
+    return name;
+}
+
+/* ---- the posterior matrix ---- */
+typedef struct {
+    const lt_run_model *m;
+    size_t index;
+} one_model;
+
+static void draw_posterior(const void *p)
+{
+    const one_model *om = p;
+    const lt_run_model *m = om->m;
+    size_t d = m->nparams;
+    int col = model_colour(om->index);
+    double lo[LT_NPAR], hi[LT_NPAR];
+    for (size_t i = 0; i < d; i++)
+        range_of(m, i, &lo[i], &hi[i]);
+    plschr(0, d > 3 ? 0.6 : 0.8);
+    /* one parameter: leave the top for the legend */
+    double margin = 0.11, top = d == 1 ? 0.78 : 0.97, span = (top - margin) / (double)d;
+    for (size_t r = 0; r < d; r++)
+        for (size_t c = 0; c <= r; c++) {
+            double vx0 = margin + c * span, vy1 = top - r * span;
+            plvpor(vx0 + 0.008, vx0 + span - 0.008, vy1 - span + 0.008, vy1 - 0.008);
+            const char *xo = r == d - 1 ? "bcnst" : "bcst", *yo = c == 0 && r > 0 ? "bcnstv" : "bcst";
+            plcol0(C_INK);
+            if (r == c) {
+                plwind(lo[c], hi[c], 0, 1.1);
+                plbox(xo, 0, 0, "bc", 0, 0);
+                marginal(m, c, lo[c], hi[c], col);
+                PLFLT bx[2] = {m->best[c], m->best[c]}, by[2] = {0, 1.1};
+                plcol0(C_INK);
+                pllsty(3);
+                plline(2, bx, by);
+                pllsty(1);
+            } else {
+                plwind(lo[c], hi[c], lo[r], hi[r]);
+                plbox(xo, 0, 0, yo, 0, 0);
+                contours(m, c, r, lo[c], hi[c], lo[r], hi[r], col);
+                PLFLT bx = m->best[c], by = m->best[r];
+                plcol0(C_INK);
+                plpoin(1, &bx, &by, 5);
+            }
+            plcol0(C_INK);
+            if (r == d - 1)
+                plmtex("b", 3.2, 0.5, 0.5, axis_label(m->names[c]));
+            if (c == 0 && r > 0)
+                plmtex("l", 5.0, 0.5, 0.5, axis_label(m->names[r]));
+        }
+    /* legend and title in the empty upper right */
+    plvpor(0.55, 0.97, 0.80, 0.97);
+    plwind(0, 1, 0, 1);
+    plschr(0, 0.9);
+    char title[128];
+    snprintf(title, sizeof title, "posterior of %s", m->label);
+    plcol0(C_INK);
+    plptex(1.0, 0.85, 1, 0, 1.0, title);
+    plschr(0, 0.7);
+    plptex(1.0, 0.55, 1, 0, 1.0, "68% (solid) and 95% (dashed) regions");
+    plptex(1.0, 0.3, 1, 0, 1.0, "x and dotted line: the best fit");
+}
+
+/* ---- traces ---- */
+static void draw_traces(const void *p)
+{
+    const one_model *om = p;
+    const lt_run_model *m = om->m;
+    size_t d = m->nparams, nc = m->nparams + m->nderived, n = m->ndraws;
+    plschr(0, 0.75);
+    size_t stride = n > 4000 ? n / 4000 : 1; /* at most 4000 points per chain */
+    PLFLT *x = malloc((n / stride + 1) * sizeof *x), *y = malloc((n / stride + 1) * sizeof *y);
+    for (size_t k = 0; x && y && k < d; k++) {
+        double lo, hi;
+        range_of(m, k, &lo, &hi);
+        double top = 0.95 - k * (0.87 / (double)d);
+        plvpor(0.1, 0.97, top - 0.87 / (double)d + 0.03, top);
+        plwind(1, (double)n, lo, hi);
+        plcol0(C_INK);
+        plbox(k == d - 1 ? "bcnst" : "bcst", 0, 0, "bcnstv", 0, 0);
+        plmtex("l", 4.5, 0.5, 0.5, axis_label(m->names[k]));
+        for (size_t c = 0; c < m->nchains; c++) {
+            size_t j = 0;
+            for (size_t i = 0; i < n; i += stride, j++) {
+                x[j] = (double)(i + 1);
+                y[j] = m->draws[(c * n + i) * nc + k];
+            }
+            plcol0(C_MODEL + (int)(c % NMODELCOL));
+            plline((PLINT)j, x, y);
+        }
+        if (k == 0) {
+            char t[160];
+            snprintf(t, sizeof t, "traces of %s: %zu chains (colours) x %zu draws after warm-up",
+                     m->label, m->nchains, n);
+            plcol0(C_INK);
+            plmtex("t", 1.0, 0.5, 0.5, t);
+        }
+    }
+    plcol0(C_INK);
+    plmtex("b", 3.0, 0.5, 0.5, "step after warm-up");
+    free(x);
+    free(y);
+}
+
+/* ---- the Omega_m - Omega_de or w0 - wa plane ---- */
+static long find_col(const lt_run_model *m, const char *name)
+{
+    for (size_t c = 0; c < m->nparams + m->nderived; c++)
+        if (!strcmp(m->names[c], name))
+            return (long)c;
+    return -1;
+}
+
+static void draw_plane(const void *p)
+{
+    const one_model *om = p;
+    const lt_run_model *m = om->m;
+    long cx = find_col(m, "omega_m"), cy = find_col(m, "omega_de");
+    int w0wa = m->model && m->model->de->w_early != NULL && find_col(m, "wa") >= 0;
+    if (w0wa)
+        cx = find_col(m, "w0"), cy = find_col(m, "wa");
+    double x0, x1, y0, y1;
+    range_of(m, (size_t)cx, &x0, &x1);
+    range_of(m, (size_t)cy, &y0, &y1);
+    if (w0wa) { /* make sure w = -1 is in view */
+        x0 = fmin(x0, -1.1), x1 = fmax(x1, -0.9), y0 = fmin(y0, -0.2), y1 = fmax(y1, 0.2);
+    }
+    plschr(0, 1.0);
+    plvpor(0.13, 0.95, 0.12, 0.9);
+    plwind(x0, x1, y0, y1);
+    plcol0(C_INK);
+    plbox("bcnst", 0, 0, "bcnstv", 0, 0);
+    pllab(axis_label(m->names[cx]), axis_label(m->names[cy]), "");
+    contours(m, (size_t)cx, (size_t)cy, x0, x1, y0, y1, model_colour(om->index));
+    PLFLT bx = m->best[cx], by = m->best[cy];
+    plcol0(C_INK);
+    plpoin(1, &bx, &by, 5);
+    char title[160];
+    plcol0(C_GREY);
+    if (w0wa) {
+        PLFLT lx[2] = {-1, -1}, ly[2] = {y0, y1}, hx[2] = {x0, x1}, hy[2] = {0, 0};
+        pllsty(3);
+        plline(2, lx, ly);
+        plline(2, hx, hy);
+        pllsty(1);
+        PLFLT px = -1, py = 0;
+        plcol0(C_INK);
+        plpoin(1, &px, &py, 17);
+        plptex(-1, 0, 1, 0, -0.1, "w = -1");
+        snprintf(title, sizeof title, "%s: w#d0#u - w#da#u plane (68%%, 95%%)", m->label);
+    } else {
+        /* flat: Omega_de = 1 - Omega_m; q0 = 0: Omega_de = Omega_m / 2 (q0 = Om/2 - OL,
+         * for a cosmological constant; the line is drawn for w = -1) */
+        PLFLT fx[2] = {x0, x1}, fy[2] = {1 - x0, 1 - x1}, ay[2] = {x0 / 2, x1 / 2};
+        pllsty(2);
+        plline(2, fx, fy);
+        pllsty(3);
+        plline(2, fx, ay);
+        pllsty(1);
+        double tx = x0 + 0.75 * (x1 - x0);
+        plptex(tx, 1 - tx, 1, -1, 0.5, "flat");
+        plptex(tx, tx / 2, 1, 0.5, 0.5, "accelerating above, decelerating below");
+        snprintf(title, sizeof title, "%s: #gW#dm#u - #gW#dDE#u plane (68%%, 95%%)", m->label);
+    }
+    plcol0(C_INK);
+    plmtex("t", 1.5, 0.5, 0.5, title);
+}
+
+/* ---- the Hubble diagram ---- */
+typedef struct {
+    const lt_run_model *models;
+    size_t n;
+    const lt_survey *s;
+} hubble_ctx;
+
+/* mu(z) of model m's best fit at n redshifts (zhel may be NULL: = z),
+ * shifted by its offset relative to ref_offset for mag data. */
+static int model_mu(const lt_run_model *m, size_t n, const double *z, const double *zhel,
+                    double *mu)
+{
+    lt_cosmo c;
+    if (!m->model || lt_cosmo_init(&c, m->model, &m->best_params, NULL))
+        return -1;
+    lt_zgrid *g = lt_zgrid_alloc(n, z, NULL);
+    double *dm = malloc(n * sizeof *dm);
+    lt_cosmo_table t = {.transverse = dm};
+    int rc = !g || !dm || lt_cosmo_eval(&c, g, &t, NULL) ? -1 : 0;
+    for (size_t i = 0; !rc && i < n; i++)
+        mu[i] = 5 * log10((1 + (zhel ? zhel[i] : z[i])) * dm[i]) + 25;
+    lt_zgrid_free(g);
+    free(dm);
+    return rc;
+}
+
+static void draw_hubble(const void *p)
+{
+    const hubble_ctx *h = p;
+    const lt_survey *s = h->s;
+    size_t n = s->n;
+    const lt_run_model *ref = &h->models[0];
+    int mag = s->kind == LT_OBS_MAG, dl = s->kind == LT_OBS_DL;
+    double off = mag && isfinite(ref->offset_best) ? ref->offset_best : 0.0;
+    double *mu = malloc(n * sizeof *mu), *err = malloc(n * sizeof *err), *mref = malloc(n * sizeof *mref);
+    double zmin = INFINITY, zmax = 0;
+    enum { NG = 200 };
+    double zg[NG], mg[NG], mg_ref[NG];
+    if (!mu || !err || !mref)
+        goto done;
+    lt_cov_diagonal(s->cov, err);
+    for (size_t i = 0; i < n; i++) {
+        double sd = sqrt(err[i]);
+        mu[i] = dl ? 5 * log10(s->obs[i]) + 25 : s->obs[i] - off;
+        err[i] = dl ? 5 / log(10.0) * sd / s->obs[i] : sd;
+        zmin = fmin(zmin, s->z[i]), zmax = fmax(zmax, s->z[i]);
+    }
+    for (int k = 0; k < NG; k++)
+        zg[k] = zmin * 0.9 * pow(zmax * 1.1 / (zmin * 0.9), k / (NG - 1.0));
+    if (model_mu(ref, n, s->z, s->zhel, mref) || model_mu(ref, NG, zg, NULL, mg_ref))
+        goto done;
+    double lx0 = log10(zmin * 0.9), lx1 = log10(zmax * 1.1);
+    double ylo = INFINITY, yhi = -INFINITY, rlo = INFINITY, rhi = -INFINITY;
+    for (size_t i = 0; i < n; i++) {
+        ylo = fmin(ylo, mu[i] - err[i]), yhi = fmax(yhi, mu[i] + err[i]);
+        double r = mu[i] - mref[i];
+        rlo = fmin(rlo, r - err[i]), rhi = fmax(rhi, r + err[i]);
+    }
+    double rr = fmax(fabs(rlo), fabs(rhi));
+    rr = fmin(rr, 1.5);
+    /* top: the diagram */
+    plschr(0, 0.9);
+    plvpor(0.1, 0.96, 0.36, 0.92);
+    plwind(lx0, lx1, ylo - 0.3, yhi + 0.3);
+    plcol0(C_INK);
+    plbox("bclst", 0, 0, "bcnstv", 0, 0);
+    plmtex("l", 4.3, 0.5, 0.5, mag ? "#gm = m - M#dbest#u [mag]" : "#gm [mag]");
+    char title[256];
+    snprintf(title, sizeof title, "Hubble diagram: %zu objects and the best fit of each model", n);
+    plmtex("t", 1.5, 0.5, 0.5, title);
+    PLFLT *lz = malloc(n * sizeof *lz), *y0 = malloc(n * sizeof *y0), *y1 = malloc(n * sizeof *y1);
+    if (!lz || !y0 || !y1) {
+        free(lz), free(y0), free(y1);
+        goto done;
+    }
+    for (size_t i = 0; i < n; i++)
+        lz[i] = log10(s->z[i]), y0[i] = mu[i] - err[i], y1[i] = mu[i] + err[i];
+    plcol0(C_LIGHT);
+    plerry((PLINT)n, lz, y0, y1);
+    plcol0(C_GREY);
+    plpoin((PLINT)n, lz, mu, 1);
+    PLFLT lg[NG];
+    for (int k = 0; k < NG; k++)
+        lg[k] = log10(zg[k]);
+    for (size_t m = 0; m < h->n; m++) {
+        if (model_mu(&h->models[m], NG, zg, NULL, mg))
+            continue;
+        /* the data are m - M of the first model; another model's curve is
+         * moved by its own offset's difference, so it meets the data */
+        double shift = mag && isfinite(h->models[m].offset_best) ? h->models[m].offset_best - off : 0;
+        for (int k = 0; k < NG; k++)
+            mg[k] += shift;
+        plcol0(model_colour(m));
+        plwidth(2);
+        pllsty(1 + (int)(m % 4));
+        plline(NG, lg, mg);
+        pllsty(1);
+        plwidth(1);
+        /* the legend, top left */
+        double ly = yhi + 0.3 - (yhi - ylo + 0.6) * (0.06 + 0.065 * (double)m);
+        PLFLT sx[2] = {lx0 + 0.03 * (lx1 - lx0), lx0 + 0.1 * (lx1 - lx0)}, sy[2] = {ly, ly};
+        pllsty(1 + (int)(m % 4));
+        plwidth(2);
+        plline(2, sx, sy);
+        plwidth(1);
+        pllsty(1);
+        char lab[160];
+        snprintf(lab, sizeof lab, "%s (chi2_min = %.1f)", h->models[m].label, h->models[m].chi2_min);
+        plcol0(C_INK);
+        plptex(lx0 + 0.12 * (lx1 - lx0), ly, 1, 0, 0, lab);
+    }
+    /* bottom: residuals against the first model */
+    plvpor(0.1, 0.96, 0.1, 0.34);
+    plwind(lx0, lx1, -rr * 1.1, rr * 1.1);
+    plcol0(C_INK);
+    plbox("bclnst", 0, 0, "bcnstv", 0, 0);
+    plmtex("b", 3.0, 0.5, 0.5, "redshift z");
+    snprintf(title, sizeof title, "#gm - #gm(%s)", ref->name);
+    plmtex("l", 4.3, 0.5, 0.5, title);
+    for (size_t i = 0; i < n; i++) {
+        double r = mu[i] - mref[i];
+        y0[i] = r - err[i], y1[i] = r + err[i], mu[i] = r;
+    }
+    plcol0(C_LIGHT);
+    plerry((PLINT)n, lz, y0, y1);
+    plcol0(C_GREY);
+    plpoin((PLINT)n, lz, mu, 1);
+    for (size_t m = 0; m < h->n; m++) {
+        if (model_mu(&h->models[m], NG, zg, NULL, mg))
+            continue;
+        double shift = mag && isfinite(h->models[m].offset_best) ? h->models[m].offset_best - off : 0;
+        for (int k = 0; k < NG; k++)
+            mg[k] += shift - mg_ref[k];
+        plcol0(model_colour(m));
+        plwidth(2);
+        pllsty(1 + (int)(m % 4));
+        plline(NG, lg, mg);
+        pllsty(1);
+        plwidth(1);
+    }
+    free(lz);
+    free(y0);
+    free(y1);
+done:
+    free(mu);
+    free(err);
+    free(mref);
+}
+
+int lt_report_write_figures(const char *dir, const lt_run_model *models, size_t n,
+                            const lt_survey *s, lt_error *err)
+{
+    hubble_ctx h = {models, n, s};
+    int rc = figure(dir, "hubble", 1, 1100, 800, draw_hubble, &h, err);
+    for (size_t i = 0; !rc && i < n; i++) {
+        one_model om = {&models[i], i};
+        char name[256];
+        size_t d = models[i].nparams, side = d < 2 ? 500 : 260 * d + 80;
+        snprintf(name, sizeof name, "posterior_%s", models[i].name);
+        rc = figure(dir, name, 1, (int)side, (int)side, draw_posterior, &om, err);
+        int curved = models[i].model && !models[i].model->flat && find_col(&models[i], "omega_de") >= 0;
+        int w0wa = find_col(&models[i], "wa") >= 0 && find_col(&models[i], "w0") >= 0;
+        if (!rc && (curved || w0wa)) {
+            snprintf(name, sizeof name, "plane_%s", models[i].name);
+            rc = figure(dir, name, 1, 800, 700, draw_plane, &om, err);
+        }
+        if (!rc) {
+            snprintf(name, sizeof name, "traces_%s", models[i].name);
+            rc = figure(dir, name, 0, 1000, 200 * (int)(d < 2 ? 2 : d), draw_traces, &om, err);
+        }
+    }
+    return rc;
+}

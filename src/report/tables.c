@@ -1,0 +1,296 @@
+/*
+ * Constraint tables: the rounding rule, how each parameter is quoted, and
+ * the Markdown, LaTeX and CSV writers.
+ */
+#include <errno.h>
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "lantern/report.h"
+
+void lt_pdg_round(double value, double minus, double plus, char *v, char *m, char *p,
+                  size_t size)
+{
+    double e = NAN;
+    if (minus > 0 && plus > 0)
+        e = fmin(minus, plus);
+    else if (minus > 0)
+        e = minus;
+    else if (plus > 0)
+        e = plus;
+    if (!isfinite(e) || !isfinite(value)) {
+        snprintf(v, size, "%.4g", value);
+        snprintf(m, size, "%.2g", minus);
+        snprintf(p, size, "%.2g", plus);
+        return;
+    }
+    int ex = (int)floor(log10(e));
+    double lead = e / pow(10.0, ex - 2); /* 100 <= lead < 1000 */
+    if (lead >= 999.9999999) /* log10 rounding at an exact power of ten */
+        ex++, lead /= 10.0;
+    /* the digits as printed: 0.95 is 949.999... in binary, and means 950 */
+    int three = (int)floor(lead + 1e-6);
+    /* The power of ten of the last digit kept: two significant digits for
+     * 100-354 (10^(ex-1)), one for 355-949 (10^ex); 950-999 round up to
+     * 1000 = 10^(ex+1) kept as two digits, whose last is again 10^ex. */
+    int place = three <= 354 ? ex - 1 : ex;
+    double unit = pow(10.0, place);
+    int decimals = place < 0 ? -place : 0;
+    /* round half away from zero on the decimal digits as written (a
+     * nudge of 1e-9 units undoes binary representation, as above) */
+#define RND(x) (round((x) / unit + copysign(1e-9, (x))) * unit)
+    snprintf(v, size, "%.*f", decimals, RND(value));
+    snprintf(m, size, "%.*f", decimals, RND(minus));
+    snprintf(p, size, "%.*f", decimals, RND(plus));
+#undef RND
+    /* "-0.0" reads badly */
+    if (!strncmp(v, "-0", 2) && strspn(v + 1, "0.") == strlen(v + 1))
+        memmove(v, v + 1, strlen(v));
+}
+
+static int cmp_double(const void *a, const void *b)
+{
+    double x = *(const double *)a, y = *(const double *)b;
+    return (x > y) - (x < y);
+}
+
+/* The q-quantile of column col of m's draws. */
+static double draw_quantile(const lt_run_model *m, size_t col, double q)
+{
+    size_t n = m->nchains * m->ndraws, nc = m->nparams + m->nderived, k = 0;
+    double *x = malloc((n ? n : 1) * sizeof *x);
+    if (!x)
+        return NAN;
+    for (size_t i = 0; i < n; i++)
+        if (!isnan(m->draws[i * nc + col]))
+            x[k++] = m->draws[i * nc + col];
+    double v = NAN;
+    if (k) {
+        qsort(x, k, sizeof *x, cmp_double);
+        double h = q * (double)(k - 1);
+        size_t lo = (size_t)floor(h);
+        v = lo + 1 < k ? x[lo] + (h - (double)lo) * (x[lo + 1] - x[lo]) : x[k - 1];
+    }
+    free(x);
+    return v;
+}
+
+lt_quote lt_quote_of(const lt_run_model *m, size_t col)
+{
+    const lt_post_stats *s = &m->stats[col];
+    lt_quote q = {LT_QUOTE_TWO_SIDED, s->median, s->median - s->lo68, s->hi68 - s->median};
+    if (col >= m->nparams || m->priors[col].kind != LT_PRIOR_UNIFORM)
+        return q;
+    /* A posterior that presses on a prior edge: its 2.5% (97.5%) quantile
+     * lies within 2% of the prior's width of the lower (upper) edge. Then a
+     * one-sided 95% limit says more than an interval cut by the prior. */
+    double a = m->priors[col].a, b = m->priors[col].b, w = b - a;
+    int at_lo = s->lo95 - a < 0.02 * w, at_hi = b - s->hi95 < 0.02 * w;
+    if (at_lo && !at_hi)
+        q = (lt_quote){LT_QUOTE_UPPER, draw_quantile(m, col, 0.95), NAN, NAN};
+    else if (at_hi && !at_lo)
+        q = (lt_quote){LT_QUOTE_LOWER, draw_quantile(m, col, 0.05), NAN, NAN};
+    return q;
+}
+
+/* The quoted value as text, in Markdown (tex = 0) or LaTeX (tex = 1). */
+static void quote_text(const lt_quote *q, int tex, char *buf, size_t size)
+{
+    char v[64], mi[64], pl[64];
+    if (q->kind != LT_QUOTE_TWO_SIDED) {
+        /* limits: two significant digits (common practice, no source) */
+        snprintf(v, sizeof v, "%.2g", q->value);
+        const char *op = q->kind == LT_QUOTE_UPPER ? (tex ? "<" : "<") : (tex ? ">" : ">");
+        snprintf(buf, size, tex ? "$%s %s$ (95\\%%)" : "%s %s (95%%)", op, v);
+        return;
+    }
+    lt_pdg_round(q->value, q->minus, q->plus, v, mi, pl, sizeof v);
+    if (!strcmp(mi, pl))
+        snprintf(buf, size, tex ? "$%s \\pm %s$" : "%s ± %s", v, mi);
+    else
+        snprintf(buf, size, tex ? "$%s^{+%s}_{-%s}$" : "%s +%s/-%s", v, pl, mi);
+}
+
+/* The columns of all models, in first-seen order. */
+static size_t union_names(const lt_run_model *models, size_t n, const char **out, size_t max)
+{
+    size_t k = 0;
+    for (int pass = 0; pass < 2; pass++) /* parameters first, then derived */
+        for (size_t i = 0; i < n; i++) {
+            size_t lo = pass ? models[i].nparams : 0;
+            size_t hi = pass ? models[i].nparams + models[i].nderived : models[i].nparams;
+            for (size_t c = lo; c < hi; c++) {
+                size_t j = 0;
+                while (j < k && strcmp(out[j], models[i].names[c]))
+                    j++;
+                if (j == k && k < max)
+                    out[k++] = models[i].names[c];
+            }
+        }
+    return k;
+}
+
+static long col_of(const lt_run_model *m, const char *name)
+{
+    for (size_t c = 0; c < m->nparams + m->nderived; c++)
+        if (!strcmp(m->names[c], name))
+            return (long)c;
+    return -1;
+}
+
+static const char *tex_name(const char *p)
+{
+    static const struct {
+        const char *name, *tex;
+    } t[] = {{"omega_m", "$\\Omega_\\mathrm{m}$"}, {"omega_de", "$\\Omega_\\mathrm{DE}$"},
+             {"omega_k", "$\\Omega_k$"},         {"w0", "$w_0$"},
+             {"wa", "$w_a$"},                     {"h0", "$H_0$ [km\\,s$^{-1}$\\,Mpc$^{-1}$]"},
+             {"offset", "$M$ [mag]"},            {"q0", "$q_0$"},
+             {"z_t", "$z_\\mathrm{t}$"},          {"age_gyr", "age [Gyr]"},
+             {"w_pivot", "$w_\\mathrm{p}$"}};
+    for (size_t i = 0; i < sizeof t / sizeof t[0]; i++)
+        if (!strcmp(t[i].name, p))
+            return t[i].tex;
+    return p;
+}
+
+static const char *tex_model(const char *m)
+{
+    static const struct {
+        const char *name, *tex;
+    } t[] = {{"lcdm-flat", "flat $\\Lambda$CDM"}, {"lcdm", "$\\Lambda$CDM"},
+             {"wcdm-flat", "flat $w$CDM"},        {"wcdm", "$w$CDM"},
+             {"w0wa-flat", "flat $w_0w_a$"},      {"w0wa", "$w_0w_a$"}};
+    for (size_t i = 0; i < sizeof t / sizeof t[0]; i++)
+        if (!strcmp(t[i].name, m))
+            return t[i].tex;
+    return m;
+}
+
+static int open_tmp(const char *dir, const char *name, char *final, char *tmp, FILE **f,
+                    lt_error *err)
+{
+    snprintf(final, 4096, "%s/%s", dir, name);
+    lt_tmp_name(final, tmp, 4200);
+    *f = fopen(tmp, "w");
+    if (!*f)
+        return lt_error_set(err, LT_EIO, tmp, 0, "cannot write: %s", strerror(errno));
+    return LT_OK;
+}
+
+static int close_commit(FILE *f, const char *final, const char *tmp, lt_error *err)
+{
+    int bad = ferror(f);
+    bad |= fclose(f) != 0;
+    if (bad) {
+        remove(tmp);
+        return lt_error_set(err, LT_EIO, tmp, 0, "write failed (disk full?)");
+    }
+    return lt_file_commit(final, err);
+}
+
+int lt_report_write_tables(const char *dir, const lt_run_model *models, size_t n,
+                           lt_error *err)
+{
+    const char *names[64];
+    size_t nn = union_names(models, n, names, 64);
+    char final[4096], tmp[4200], cell[160];
+    FILE *f;
+    int rc;
+
+    /* Markdown */
+    if ((rc = open_tmp(dir, "constraints.md", final, tmp, &f, err)))
+        return rc;
+    fputs("| parameter |", f);
+    for (size_t i = 0; i < n; i++)
+        fprintf(f, " %s |", models[i].label);
+    fputs("\n| --- |", f);
+    for (size_t i = 0; i < n; i++)
+        fputs(" --- |", f);
+    fputc('\n', f);
+    for (size_t p = 0; p < nn; p++) {
+        fprintf(f, "| %s |", names[p]);
+        for (size_t i = 0; i < n; i++) {
+            long c = col_of(&models[i], names[p]);
+            if (c < 0) {
+                fputs(" - |", f);
+                continue;
+            }
+            lt_quote q = lt_quote_of(&models[i], (size_t)c);
+            quote_text(&q, 0, cell, sizeof cell);
+            fprintf(f, " %s |", cell);
+        }
+        fputc('\n', f);
+    }
+    fputs("| chi2_min / dof |", f);
+    for (size_t i = 0; i < n; i++)
+        fprintf(f, " %.2f / %ld |", models[i].chi2_min, models[i].dof);
+    fputs("\n| AIC - AIC(first) |", f);
+    for (size_t i = 0; i < n; i++)
+        fprintf(f, " %+.2f |", models[i].aic - models[0].aic);
+    fputs("\n| BIC - BIC(first) |", f);
+    for (size_t i = 0; i < n; i++)
+        fprintf(f, " %+.2f |", models[i].bic - models[0].bic);
+    fputs("\n\nValues are posterior medians with 68% equal-tailed intervals, rounded by the "
+          "Particle Data Group's rule; a parameter whose posterior presses on a prior edge is "
+          "given as a 95% limit.\n",
+          f);
+    if ((rc = close_commit(f, final, tmp, err)))
+        return rc;
+
+    /* LaTeX (booktabs) */
+    if ((rc = open_tmp(dir, "constraints.tex", final, tmp, &f, err)))
+        return rc;
+    fputs("% lantern constraint table; needs \\usepackage{booktabs}\n\\begin{tabular}{l", f);
+    for (size_t i = 0; i < n; i++)
+        fputc('c', f);
+    fputs("}\n\\toprule\nParameter", f);
+    for (size_t i = 0; i < n; i++)
+        fprintf(f, " & %s", tex_model(models[i].name));
+    fputs(" \\\\\n\\midrule\n", f);
+    for (size_t p = 0; p < nn; p++) {
+        fprintf(f, "%s", tex_name(names[p]));
+        for (size_t i = 0; i < n; i++) {
+            long c = col_of(&models[i], names[p]);
+            if (c < 0) {
+                fputs(" & ---", f);
+                continue;
+            }
+            lt_quote q = lt_quote_of(&models[i], (size_t)c);
+            quote_text(&q, 1, cell, sizeof cell);
+            fprintf(f, " & %s", cell);
+        }
+        fputs(" \\\\\n", f);
+    }
+    fputs("\\midrule\n$\\chi^2_\\mathrm{min}$ / dof", f);
+    for (size_t i = 0; i < n; i++)
+        fprintf(f, " & %.2f / %ld", models[i].chi2_min, models[i].dof);
+    fputs(" \\\\\n$\\Delta$AIC", f);
+    for (size_t i = 0; i < n; i++)
+        fprintf(f, " & %+.2f", models[i].aic - models[0].aic);
+    fputs(" \\\\\n$\\Delta$BIC", f);
+    for (size_t i = 0; i < n; i++)
+        fprintf(f, " & %+.2f", models[i].bic - models[0].bic);
+    fputs(" \\\\\n\\bottomrule\n\\end{tabular}\n", f);
+    if ((rc = close_commit(f, final, tmp, err)))
+        return rc;
+
+    /* CSV: unrounded numbers */
+    if ((rc = open_tmp(dir, "constraints.csv", final, tmp, &f, err)))
+        return rc;
+    fputs("model,parameter,value,minus,plus,kind\n", f);
+    static const char *kinds[] = {"two-sided", "upper", "lower"};
+    for (size_t i = 0; i < n; i++)
+        for (size_t c = 0; c < models[i].nparams + models[i].nderived; c++) {
+            lt_quote q = lt_quote_of(&models[i], c);
+            char v[32], mi[32], pl[32];
+            lt_format_double(q.value, v, sizeof v);
+            lt_format_double(q.minus, mi, sizeof mi);
+            lt_format_double(q.plus, pl, sizeof pl);
+            fprintf(f, "%s,%s,%s,%s,%s,%s\n", models[i].label, models[i].names[c], v,
+                    q.kind ? "" : mi, q.kind ? "" : pl, kinds[q.kind]);
+        }
+    return close_commit(f, final, tmp, err);
+}

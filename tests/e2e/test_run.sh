@@ -1,0 +1,78 @@
+#!/usr/bin/env bash
+# End-to-end tests of "lantern run" (the demo, as make demo runs it) and
+# "lantern report": every file of the report, all four models, the truth of
+# the simulated survey recovered, figures valid and not blank.
+source "$(dirname "$0")/lib.sh"
+D="$E2E_TMP/demo"
+
+run "$LANTERN" run "$ROOT/configs/demo.ini" --out "$D" --quiet
+expect_status "lantern run configs/demo.ini" 0
+missing=""
+for f in summary.json constraints.md constraints.tex constraints.csv hubble.png hubble.pdf; do
+    [ -s "$D/$f" ] || missing="$missing $f"
+done
+for m in lcdm-flat lcdm wcdm-flat w0wa-flat; do
+    for f in posterior_$m.png posterior_$m.pdf traces_$m.png $m/summary.json $m/chains.csv $m/chains.fits; do
+        [ -s "$D/$f" ] || missing="$missing $f"
+    done
+done
+for f in plane_lcdm.png plane_lcdm.pdf plane_w0wa-flat.png plane_w0wa-flat.pdf; do
+    [ -s "$D/$f" ] || missing="$missing $f"
+done
+[ -z "$missing" ] && pass "the report holds every file" || fail "the report holds every file (missing:$missing)"
+
+/usr/bin/python3 - "$D" "$ROOT/data/lamplighter/truth.json" <<'PY' && pass "summary lists the four models; the truth within 3 sigma for every parameter" || fail "summary lists the four models; the truth within 3 sigma for every parameter"
+import csv, json, sys
+d, truth = sys.argv[1], json.load(open(sys.argv[2]))
+j = json.load(open(d + "/summary.json"))
+assert [m["model"] for m in j["models"]] == ["lcdm-flat", "lcdm", "wcdm-flat", "w0wa-flat"]
+assert [c["model"] for c in j["comparison"]] == ["lcdm-flat", "lcdm", "wcdm-flat", "w0wa-flat"]
+t = dict(truth["params"])  # h0, omega_m, omega_de (0.69: flat), w0 -1, wa 0 in truth
+t.setdefault("w0", -1.0)
+t.setdefault("wa", 0.0)
+for m in j["models"]:
+    assert m["converged"] is True, m["model"]
+    for name, p in m["params"].items():
+        pull = (p["mean"] - t[name]) / p["sd"]
+        assert abs(pull) < 3, (m["model"], name, p["mean"], p["sd"], t[name])
+# the table's CSV has the contract's columns and a row per model and quantity
+rows = list(csv.DictReader(open(d + "/constraints.csv")))
+assert list(rows[0]) == ["model", "parameter", "value", "minus", "plus", "kind"]
+assert {r["kind"] for r in rows} <= {"two-sided", "upper", "lower"}
+assert {r["model"] for r in rows} == {"lcdm-flat", "lcdm", "wcdm-flat", "w0wa-flat"}
+md = open(d + "/constraints.md").read()
+assert md.startswith("| parameter | lcdm-flat | lcdm | wcdm-flat | w0wa-flat |")
+tex = open(d + "/constraints.tex").read()
+assert "\\toprule" in tex and "\\bottomrule" in tex and tex.count("\\\\") >= 10
+PY
+
+/usr/bin/python3 "$ROOT/tests/e2e/figures.py" "$D"/*.png "$D"/*.pdf
+
+# lantern report: rebuilt in place, the same tables; two runs in one table
+cp "$D/constraints.md" "$E2E_TMP/before.md"
+run "$LANTERN" report "$D"
+if [ "$STATUS" -eq 0 ] && cmp -s "$D/constraints.md" "$E2E_TMP/before.md"; then
+    pass "lantern report rebuilds the same tables from the saved chains"
+else
+    fail "lantern report rebuilds the same tables from the saved chains"
+fi
+run "$LANTERN" report "$D" "$D" --out "$E2E_TMP/joint"
+if [ "$STATUS" -eq 0 ] && head -1 "$E2E_TMP/joint/constraints.md" | grep -q "demo: lcdm-flat .* demo: w0wa-flat | demo: lcdm-flat" &&
+   [ -s "$E2E_TMP/joint/hubble.png" ]; then
+    pass "several runs go into one table and one set of figures"
+else
+    fail "several runs go into one table and one set of figures"
+fi
+
+# refusals
+run "$LANTERN" run "$ROOT/configs/demo.ini" --out "$D"
+expect_error "an earlier run is refused without --force" 2 "pass --force"
+printf '[run]\nmodels = lcdm, lcdm-flatt\n[data]\nfile = x\n' >"$E2E_TMP/bad.ini"
+run "$LANTERN" run "$E2E_TMP/bad.ini"
+expect_error "an unknown model in [run] models" 2 "unknown model 'lcdm-flatt'"
+run "$LANTERN" run "$ROOT/configs/demo.ini" --set sampler
+expect_error "a malformed --set" 2 "--set: 'sampler' is not section.key=value"
+run "$LANTERN" report "$E2E_TMP"
+expect_error "report of a folder that is no run" 2 "summary.json: cannot open"
+run "$LANTERN" report "$D" "$D"
+expect_error "several runs need --out" 2 "several runs need --out"
