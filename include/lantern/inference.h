@@ -175,6 +175,64 @@ lt_mcmc *lt_mcmc_load(const char *path, uint64_t fingerprint, lt_logdensity f, v
                       lt_error *err);
 
 /* ---------------------------------------------------------------------- */
+/* Nested sampling                                                         */
+/* ---------------------------------------------------------------------- */
+
+/*
+ * Nested sampling (Skilling 2004, AIP Conf. Proc. 735, 395; Skilling 2006,
+ * Bayesian Analysis 1, 833) in the unit cube of the prior: live points are
+ * drawn from the prior, the lowest-likelihood one is replaced by a draw
+ * from the prior above its likelihood, the prior volume shrinks as
+ * X_i = exp(-i/N), Z = sum of L_i (X_{i-1} - X_i) plus the live points at
+ * the end. Replacements come from the bounding ellipsoid of the live points,
+ * enlarged (Mukherjee, Parkinson & Liddle 2006, ApJ 638, L51), by rejection;
+ * when the ellipsoid's acceptance falls below 5%, from a short constrained
+ * random walk from a live point instead. The error of ln Z is sqrt(H/N)
+ * with H the information (Skilling 2006). Candidates are generated in
+ * fixed batches from one stream and their likelihoods computed in parallel;
+ * the first acceptable one in batch order wins, so results do not depend on
+ * the thread count.
+ */
+typedef void (*lt_prior_transform)(const double *u, double *theta, void *ctx);
+/* ln L (not the prior) at theta; -inf where impossible; ctx per thread. */
+typedef double (*lt_loglike)(const double *theta, void *ctx);
+
+typedef struct lt_nested_opts {
+    size_t dim, nlive;
+    uint64_t seed;
+    double dlogz;     /* stop when the live points could add less than this to ln Z */
+    double enlarge;   /* the ellipsoid's axes grow by this factor (1.25) */
+    size_t max_iter;
+    int threads;      /* 0: all; ctx must hold this many contexts */
+} lt_nested_opts;
+
+typedef struct lt_nested_result {
+    double logz, logz_err, info; /* ln Z, its error, H in nats */
+    size_t iterations, evals;
+    int finished;                /* stopped by dlogz, not max_iter */
+    size_t nsamples;             /* dead points and the final live points */
+    double *theta;               /* nsamples x dim */
+    double *loglike, *logw;      /* ln L and ln of the posterior weight (sum 1) */
+} lt_nested_result;
+
+int lt_nested_run(const lt_nested_opts *o, lt_prior_transform transform, void *tctx,
+                  lt_loglike f, void **ctx, lt_nested_result *r, lt_error *err);
+void lt_nested_result_free(lt_nested_result *r);
+
+/* A likelihood for the nested sampler: the prior transform of its priors
+ * (uniform a + (b - a) u, Gaussian mean + sd Phi^-1(u); tctx is the const
+ * lt_like *), and its normalised ln L: -chi2_eff/2 - ln det(2 pi C)/2
+ * (ctx an lt_like_nested per thread; -inf outside the domain). */
+void lt_like_prior_transform(const double *u, double *theta, void *tctx);
+typedef struct lt_like_nested {
+    lt_like_chain c;
+    double norm; /* lt_like_lognorm */
+} lt_like_nested;
+double lt_like_nested_loglike(const double *theta, void *ctx);
+/* -ln det(2 pi C)/2 for l's survey. */
+double lt_like_lognorm(const lt_like *l);
+
+/* ---------------------------------------------------------------------- */
 /* Best fit of a likelihood                                                */
 /* ---------------------------------------------------------------------- */
 

@@ -96,6 +96,7 @@ typedef struct lt_run_model {
     size_t nchains, ndraws;     /* draws per chain */
     double *draws;              /* nchains * ndraws rows of nparams + nderived */
     double chi2_min, aic, bic, offset_best, rhat_max, ess_min;
+    double ln_z, ln_z_err;      /* NaN where no evidence was computed */
     long dof;
     size_t k_params, n_data;
     int converged, offset_marginal;

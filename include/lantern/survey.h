@@ -64,6 +64,9 @@ int lt_cov_add_modes(lt_cov *c, size_t k, const double *u, const double *amp,
  */
 int lt_cov_factor(lt_cov *c, lt_error *err);
 
+/* ln det C of a factored covariance (for normalised likelihoods). */
+double lt_cov_logdet(const lt_cov *c);
+
 /* Scratch space, in doubles, that lt_cov_chi2 and lt_cov_solve need. */
 size_t lt_cov_work_size(const lt_cov *c);
 /* r^T C^-1 r for a factored covariance; allocates nothing. */

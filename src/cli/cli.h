@@ -129,6 +129,12 @@ int cli_simulate(int argc, char **argv);
 int cli_fit(int argc, char **argv);
 int cli_sample(int argc, char **argv);
 int cli_run(int argc, char **argv);
+int cli_compare(int argc, char **argv);
+/* Nested sampling of l's posterior with live points (compare.c). */
+int cli_nested_model(const lt_like *l, long live, uint64_t seed, int threads,
+                     lt_nested_result *r, lt_error *err);
+/* Kass & Raftery 1995's words for |2 ln B|: bare mention, positive, strong, very strong. */
+const char *cli_kass_raftery(double two_ln_b);
 int cli_report_runs(int argc, char **argv);
 /* Write j, with its final likelihood spec, as a run file (absolute paths),
  * for --resume. */

@@ -10,6 +10,7 @@
 #include <sys/stat.h>
 
 #include <cjson/cJSON.h>
+#include <omp.h>
 
 #include "cli.h"
 #include "lantern/report.h"
@@ -51,6 +52,30 @@ static void usage_run(FILE *f)
           f);
 }
 
+/* Put "evidence": {ln_z, ln_z_err, ...} into dir/summary.json. */
+static int add_evidence(const char *dir, const lt_nested_result *nr, lt_error *err)
+{
+    char path[4200], *text = NULL;
+    size_t size;
+    snprintf(path, sizeof path, "%.4000s/summary.json", dir);
+    int rc = lt_file_read(path, (size_t)64 << 20, &text, &size, err);
+    if (rc)
+        return rc;
+    cJSON *o = cJSON_Parse(text);
+    free(text);
+    if (!o)
+        return lt_error_set(err, LT_EIO, path, 0, "cannot read back the summary");
+    cJSON_DeleteItemFromObject(o, "evidence");
+    cJSON *ev = cJSON_AddObjectToObject(o, "evidence");
+    cJSON_AddItemToObject(ev, "ln_z", lt_json_number(nr->logz));
+    cJSON_AddItemToObject(ev, "ln_z_err", lt_json_number(nr->logz_err));
+    cJSON_AddItemToObject(ev, "information", lt_json_number(nr->info));
+    cJSON_AddItemToObject(ev, "live_points", lt_json_number(1000));
+    rc = lt_report_write_json(path, o, err);
+    cJSON_Delete(o);
+    return rc;
+}
+
 static int exists(const char *path)
 {
     struct stat st;
@@ -90,6 +115,17 @@ static int write_run_summary(const char *dir, const char *name, const lt_run_mod
         cJSON_AddItemToObject(c, "delta_aic", lt_json_number(models[i].aic - models[0].aic));
         cJSON_AddItemToObject(c, "delta_bic", lt_json_number(models[i].bic - models[0].bic));
         cJSON_AddBoolToObject(c, "converged", models[i].converged);
+        if (isfinite(models[i].ln_z)) {
+            double lnb = models[i].ln_z - models[0].ln_z;
+            cJSON_AddItemToObject(c, "ln_z", lt_json_number(models[i].ln_z));
+            cJSON_AddItemToObject(c, "ln_z_err", lt_json_number(models[i].ln_z_err));
+            cJSON_AddItemToObject(c, "ln_b", lt_json_number(lnb));
+            cJSON_AddItemToObject(c, "two_ln_b", lt_json_number(2 * lnb));
+            char rd[160];
+            snprintf(rd, sizeof rd, i == 0 ? "reference" : "%s: %s", 2 * lnb >= 0 ? "for this model" : "for the reference",
+                     cli_kass_raftery(2 * lnb));
+            cJSON_AddStringToObject(c, "reading", rd);
+        }
         cJSON_AddItemToArray(cmp, c);
     }
     char path[4200];
@@ -279,6 +315,19 @@ int cli_run(int argc, char **argv)
             goto done;
         }
         int st = cli_sample_model(&mj, l, &spec, dirs[k], again, 0, CLI_TABLE);
+        if (st == CLI_OK || st == CLI_UNCONVERGED) {
+            /* the evidence, added to the model's summary */
+            if (!j.quiet)
+                fprintf(stderr, "[%zu/%zu] %s: evidence by nested sampling\n", k + 1, nm, names[k]);
+            int threads = j.threads > 0 ? (int)j.threads : omp_get_max_threads();
+            lt_nested_result nr;
+            if (cli_nested_model(l, 1000, j.seed, threads, &nr, &err) || add_evidence(dirs[k], &nr, &err)) {
+                lt_like_free(l);
+                status = cli_report(&err);
+                goto done;
+            }
+            lt_nested_result_free(&nr);
+        }
         for (size_t i = 0; i < mj.npool; i++) /* strings the model's copy made */
             free(mj.pool[i]);
         lt_like_free(l);

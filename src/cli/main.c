@@ -23,6 +23,7 @@ static const cli_command commands[] = {
     {"simulate", "simulate a survey from a scenario file", cli_simulate},
     {"fit", "the best fit of a model to a survey, with Laplace errors", cli_fit},
     {"sample", "the posterior by MCMC, with convergence checks and chain files", cli_sample},
+    {"compare", "compare models: information criteria and Bayesian evidence", cli_compare},
     {"run", "the whole job from a run file: fits, posteriors, comparison, report", cli_run},
     {"report", "rebuild tables and figures from saved runs", cli_report_runs},
 };

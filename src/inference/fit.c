@@ -36,6 +36,30 @@ double lt_like_logdensity(const double *x, void *ctx, double *extra)
     return pt.logpost;
 }
 
+void lt_like_prior_transform(const double *u, double *theta, void *tctx)
+{
+    const lt_like *l = tctx;
+    for (size_t i = 0; i < lt_like_dim(l); i++) {
+        const lt_prior *p = lt_like_prior(l, i);
+        theta[i] = p->kind == LT_PRIOR_UNIFORM ? p->a + (p->b - p->a) * u[i]
+                                               : p->a + p->b * gsl_cdf_ugaussian_Pinv(u[i]);
+    }
+}
+
+double lt_like_lognorm(const lt_like *l)
+{
+    const lt_survey *s = lt_like_survey(l);
+    return -0.5 * ((double)s->n * log(2.0 * M_PI) + lt_cov_logdet(s->cov));
+}
+
+double lt_like_nested_loglike(const double *theta, void *ctx)
+{
+    lt_like_nested *c = ctx;
+    lt_like_point pt;
+    lt_like_eval(c->c.l, c->c.w, theta, &pt);
+    return pt.domain_ok && isfinite(pt.logprior) ? pt.loglike + c->norm : -INFINITY;
+}
+
 /* A point inside the prior: the centre, or a random draw. */
 static void prior_point(const lt_prior *p, gsl_rng *r, int centre, double *x)
 {

@@ -98,6 +98,8 @@ int lt_run_model_load(const char *dir, lt_run_model *m, lt_error *err)
     m->k_params = (size_t)jnum(j, "k_params");
     m->aic = jnum(j, "aic"), m->bic = jnum(j, "bic");
     m->n_data = (size_t)jnum(j, "n_data");
+    const cJSON *ev = cJSON_GetObjectItemCaseSensitive(j, "evidence");
+    m->ln_z = jnum(ev, "ln_z"), m->ln_z_err = jnum(ev, "ln_z_err");
     m->converged = cJSON_IsTrue(cJSON_GetObjectItemCaseSensitive(j, "converged"));
     const cJSON *cv = cJSON_GetObjectItemCaseSensitive(j, "convergence");
     m->rhat_max = jnum(cv, "rhat_max"), m->ess_min = jnum(cv, "ess_min");

@@ -233,6 +233,17 @@ int lt_report_write_tables(const char *dir, const lt_run_model *models, size_t n
     fputs("\n| BIC - BIC(first) |", f);
     for (size_t i = 0; i < n; i++)
         fprintf(f, " %+.2f |", models[i].bic - models[0].bic);
+    int have_z = 0;
+    for (size_t i = 0; i < n; i++)
+        have_z |= isfinite(models[i].ln_z);
+    if (have_z) {
+        fputs("\n| ln Z (nested sampling) |", f);
+        for (size_t i = 0; i < n; i++)
+            fprintf(f, " %.2f ± %.2f |", models[i].ln_z, models[i].ln_z_err);
+        fputs("\n| ln B vs first |", f);
+        for (size_t i = 0; i < n; i++)
+            fprintf(f, " %+.2f |", models[i].ln_z - models[0].ln_z);
+    }
     fputs("\n\nValues are posterior medians with 68% equal-tailed intervals, rounded by the "
           "Particle Data Group's rule; a parameter whose posterior presses on a prior edge is "
           "given as a 95% limit.\n",
@@ -273,6 +284,14 @@ int lt_report_write_tables(const char *dir, const lt_run_model *models, size_t n
     fputs(" \\\\\n$\\Delta$BIC", f);
     for (size_t i = 0; i < n; i++)
         fprintf(f, " & %+.2f", models[i].bic - models[0].bic);
+    if (have_z) {
+        fputs(" \\\\\n$\\ln Z$", f);
+        for (size_t i = 0; i < n; i++)
+            fprintf(f, " & $%.2f \\pm %.2f$", models[i].ln_z, models[i].ln_z_err);
+        fputs(" \\\\\n$\\ln B$", f);
+        for (size_t i = 0; i < n; i++)
+            fprintf(f, " & %+.2f", models[i].ln_z - models[0].ln_z);
+    }
     fputs(" \\\\\n\\bottomrule\n\\end{tabular}\n", f);
     if ((rc = close_commit(f, final, tmp, err)))
         return rc;

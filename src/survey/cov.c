@@ -291,6 +291,18 @@ int lt_cov_factor(lt_cov *c, lt_error *err)
 
 size_t lt_cov_work_size(const lt_cov *c) { return c->n + c->k + 1; }
 
+double lt_cov_logdet(const lt_cov *c)
+{
+    /* det(B + U U^T) = det(B) det(I + U^T B^-1 U) (the matrix determinant
+     * lemma); both factors come from the Cholesky factors. */
+    double ld = 0.0;
+    for (size_t i = 0; i < c->n; i++)
+        ld += c->dense ? 2.0 * log(c->dense[i * c->n + i]) : log(c->diag[i]);
+    for (size_t j = 0; j < c->k; j++)
+        ld += 2.0 * log(c->s[j * c->k + j]);
+    return ld;
+}
+
 double lt_cov_chi2(const lt_cov *c, const double *r, double *work)
 {
     size_t n = c->n, k = c->k;

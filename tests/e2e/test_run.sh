@@ -27,6 +27,9 @@ d, truth = sys.argv[1], json.load(open(sys.argv[2]))
 j = json.load(open(d + "/summary.json"))
 assert [m["model"] for m in j["models"]] == ["lcdm-flat", "lcdm", "wcdm-flat", "w0wa-flat"]
 assert [c["model"] for c in j["comparison"]] == ["lcdm-flat", "lcdm", "wcdm-flat", "w0wa-flat"]
+# the comparison carries the evidence of every model (nested sampling, errors < 0.1)
+assert all(c["ln_z_err"] < 0.1 and "reading" in c for c in j["comparison"])
+assert j["comparison"][0]["ln_b"] == 0
 t = dict(truth["params"])  # h0, omega_m, omega_de (0.69: flat), w0 -1, wa 0 in truth
 t.setdefault("w0", -1.0)
 t.setdefault("wa", 0.0)

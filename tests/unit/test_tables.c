@@ -76,10 +76,12 @@ static void fake_models(lt_run_model *m)
     memset(m, 0, 2 * sizeof *m);
     m[0] = (lt_run_model){.name = "lcdm-flat", .label = "lcdm-flat", .nparams = 1, .nderived = 1,
                           .names = na, .priors = pa, .best = ba, .nchains = 2, .ndraws = 200,
-                          .draws = draws_a, .chi2_min = 39.3, .aic = 43.3, .bic = 46.7, .dof = 38};
+                          .draws = draws_a, .chi2_min = 39.3, .aic = 43.3, .bic = 46.7, .dof = 38,
+                          .ln_z = NAN, .ln_z_err = NAN};
     m[1] = (lt_run_model){.name = "lcdm", .label = "lcdm", .nparams = 2, .nderived = 1,
                           .names = nb, .priors = pb, .best = bb, .nchains = 2, .ndraws = 200,
-                          .draws = draws_b, .chi2_min = 39.1, .aic = 45.1, .bic = 50.2, .dof = 37};
+                          .draws = draws_b, .chi2_min = 39.1, .aic = 45.1, .bic = 50.2, .dof = 37,
+                          .ln_z = NAN, .ln_z_err = NAN};
     static lt_post_stats sa[2], sb[3];
     for (int c = 0; c < 2; c++) {
         double x[400];
@@ -138,6 +140,16 @@ static void test_quotes_and_files(void **state)
         }
         same_file(got, want);
     }
+    /* with evidences, the tables carry ln Z and ln B against the first model */
+    m[0].ln_z = 10.0, m[0].ln_z_err = 0.05, m[1].ln_z = 9.0, m[1].ln_z_err = 0.06;
+    assert_int_equal(lt_report_write_tables(dir, m, 2, &err), LT_OK);
+    char *md;
+    size_t len;
+    snprintf(got, sizeof got, "%s/constraints.md", dir);
+    assert_int_equal(lt_file_read(got, 1 << 20, &md, &len, NULL), LT_OK);
+    assert_non_null(strstr(md, "| ln Z (nested sampling) | 10.00 ± 0.05 | 9.00 ± 0.06 |"));
+    assert_non_null(strstr(md, "| ln B vs first | +0.00 | -1.00 |"));
+    free(md);
     /* compile the LaTeX where a LaTeX is installed */
     if (system("command -v pdflatex >/dev/null 2>&1") != 0) {
         print_message("skipped: pdflatex is not installed (texlive-latex-recommended has "

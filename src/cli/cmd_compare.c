@@ -1,0 +1,402 @@
+/*
+ * lantern compare: models side by side: chi2_min, AIC, BIC and DIC, and the
+ * Bayesian evidence by nested sampling with Bayes factors against the first
+ * model, read on the scale of Kass & Raftery 1995.
+ */
+#include <errno.h>
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include <cjson/cJSON.h>
+#include <gsl/gsl_cdf.h>
+#include <omp.h>
+
+#include "cli.h"
+#include "lantern/report.h"
+
+#define MAX_MODELS 16
+
+static void usage(FILE *f)
+{
+    fputs("usage: lantern compare [RUN.ini] DATA --models M1,M2,... [--prior ...]... [--fix ...]...\n"
+          "                       [--live-points N] [--seed S] [--threads T] [--out DIR] [--force]\n"
+          "                       [--format table|json]\n"
+          "\n"
+          "Compare models on one survey: for each, the best fit (chi2_min, AIC = chi2_min + 2k,\n"
+          "BIC = chi2_min + k ln N, with k the free parameters and a marginalised offset\n"
+          "counted), and nested sampling (Skilling 2004, 2006; ellipsoidal rejection after\n"
+          "Mukherjee, Parkinson & Liddle 2006) for the evidence ln Z +- its error\n"
+          "sqrt(H/N_live), DIC = D_mean + p_D (Spiegelhalter et al. 2002) from its posterior\n"
+          "draws, and ln B against the first model with its reading on the scale of Kass &\n"
+          "Raftery 1995 (on 2 ln B: below 2 not worth more than a bare mention, 2-6\n"
+          "positive, 6-10 strong, above 10 very strong).\n"
+          "\n"
+          "The evidence depends on the prior volume: the priors are printed with the table,\n"
+          "and a posterior that presses on a prior edge is warned about. A --prior or --fix\n"
+          "applies to every compared model that has the parameter. For mag data with the\n"
+          "offset marginalised, ln Z is that of a flat offset prior of unit width (1 mag), the\n"
+          "same for every model; do not mix it in one Bayes factor with a sampled offset.\n"
+          "\n",
+          f);
+    fputs(cli_data_help, f);
+    fputs("\n", f);
+    fputs(cli_model_help, f);
+    fputs("\ncompare:\n"
+          "  --models M1,M2,...  the models, the first being the reference\n"
+          "  --live-points N     live points [1000]\n"
+          "  --seed S, --threads T, --format table|json, --out DIR (summary.json and\n"
+          "                      nested_MODEL.csv with the weighted posterior draws), --force\n",
+          f);
+}
+
+const char *cli_kass_raftery(double two_ln_b)
+{
+    double a = fabs(two_ln_b);
+    return a < 2 ? "not worth more than a bare mention" : a < 6 ? "positive" : a < 10 ? "strong"
+                                                                                   : "very strong";
+}
+
+typedef struct {
+    const char *name;
+    lt_like *l;
+    lt_fit_result fit;
+    lt_nested_result nr;
+    double mean[LT_NPAR], sd[LT_NPAR], q025[LT_NPAR], q975[LT_NPAR];
+    double dic, p_d;
+    char warning[512];
+} model_run;
+
+static int cmp_pair(const void *a, const void *b)
+{
+    const double *x = a, *y = b;
+    return (x[0] > y[0]) - (x[0] < y[0]);
+}
+
+/* Weighted moments and quantiles of the nested posterior, and DIC. */
+static void posterior(model_run *mr, lt_like_nested *ctx)
+{
+    size_t d = lt_like_dim(mr->l), n = mr->nr.nsamples;
+    double *pair = malloc(2 * n * sizeof *pair);
+    double dbar = 0;
+    for (size_t i = 0; i < d; i++) {
+        double m = 0, m2 = 0;
+        for (size_t j = 0; j < n; j++) {
+            double w = exp(mr->nr.logw[j]), x = mr->nr.theta[j * d + i];
+            m += w * x, m2 += w * x * x;
+        }
+        mr->mean[i] = m, mr->sd[i] = sqrt(fmax(m2 - m * m, 0));
+        mr->q025[i] = mr->q975[i] = NAN;
+        if (!pair)
+            continue;
+        for (size_t j = 0; j < n; j++)
+            pair[2 * j] = mr->nr.theta[j * d + i], pair[2 * j + 1] = exp(mr->nr.logw[j]);
+        qsort(pair, n, 2 * sizeof *pair, cmp_pair);
+        double cum = 0;
+        for (size_t j = 0; j < n; j++) {
+            cum += pair[2 * j + 1];
+            if (isnan(mr->q025[i]) && cum >= 0.025)
+                mr->q025[i] = pair[2 * j];
+            if (isnan(mr->q975[i]) && cum >= 0.975)
+                mr->q975[i] = pair[2 * j];
+        }
+    }
+    free(pair);
+    /* the deviance on the chi2 scale of AIC and BIC: D = -2 ln L less the
+     * normalisation, i.e. the chi2 that enters the likelihood */
+    for (size_t j = 0; j < n; j++)
+        if (isfinite(mr->nr.loglike[j]))
+            dbar += exp(mr->nr.logw[j]) * -2.0 * (mr->nr.loglike[j] - ctx->norm);
+    double dmean = -2.0 * (lt_like_nested_loglike(mr->mean, ctx) - ctx->norm);
+    mr->p_d = dbar - dmean;
+    mr->dic = dbar + mr->p_d;
+    /* a posterior pressing on a prior edge makes ln Z depend on where the edge is */
+    mr->warning[0] = '\0';
+    for (size_t i = 0; i < d; i++) {
+        const lt_prior *p = lt_like_prior(mr->l, i);
+        if (p->kind != LT_PRIOR_UNIFORM)
+            continue;
+        double w = p->b - p->a;
+        const char *edge = mr->q025[i] - p->a < 0.02 * w ? "lower" : p->b - mr->q975[i] < 0.02 * w ? "upper" : NULL;
+        if (edge)
+            snprintf(mr->warning + strlen(mr->warning), sizeof mr->warning - strlen(mr->warning),
+                     "%sthe posterior of %s presses on the %s edge of its prior U(%g, %g); ln Z "
+                     "depends on that edge",
+                     mr->warning[0] ? "; " : "", lt_par_name(lt_like_param_id(mr->l, i)), edge, p->a, p->b);
+    }
+}
+
+static int write_samples(const char *dir, const model_run *mr, lt_error *err)
+{
+    char path[4200], tmp[4300];
+    snprintf(path, sizeof path, "%s/nested_%s.csv", dir, mr->name);
+    lt_tmp_name(path, tmp, sizeof tmp);
+    FILE *f = fopen(tmp, "w");
+    if (!f)
+        return lt_error_set(err, LT_EIO, tmp, 0, "cannot write: %s", strerror(errno));
+    size_t d = lt_like_dim(mr->l);
+    fputs("weight,loglike", f);
+    for (size_t i = 0; i < d; i++)
+        fprintf(f, ",%s", lt_par_name(lt_like_param_id(mr->l, i)));
+    fputc('\n', f);
+    char b[32];
+    for (size_t j = 0; j < mr->nr.nsamples; j++) {
+        lt_format_double(exp(mr->nr.logw[j]), b, sizeof b);
+        fputs(b, f);
+        lt_format_double(mr->nr.loglike[j], b, sizeof b);
+        fprintf(f, ",%s", b);
+        for (size_t i = 0; i < d; i++) {
+            lt_format_double(mr->nr.theta[j * d + i], b, sizeof b);
+            fprintf(f, ",%s", b);
+        }
+        fputc('\n', f);
+    }
+    int bad = ferror(f);
+    bad |= fclose(f) != 0;
+    if (bad) {
+        remove(tmp);
+        return lt_error_set(err, LT_EIO, tmp, 0, "write failed");
+    }
+    return lt_file_commit(path, err);
+}
+
+int cli_nested_model(const lt_like *l, long live, uint64_t seed, int threads,
+                     lt_nested_result *r, lt_error *err)
+{
+    lt_like_nested *ctx = calloc((size_t)threads, sizeof *ctx);
+    void **cp = calloc((size_t)threads, sizeof *cp);
+    int ok = ctx && cp, rc;
+    for (int t = 0; ok && t < threads; t++) {
+        ctx[t] = (lt_like_nested){{l, lt_like_work_alloc(l)}, lt_like_lognorm(l)};
+        cp[t] = &ctx[t];
+        ok = ctx[t].c.w != NULL;
+    }
+    lt_nested_opts no = {lt_like_dim(l), (size_t)live, seed, 0.01, 1.25, 10000000, threads};
+    rc = ok ? lt_nested_run(&no, lt_like_prior_transform, (void *)l, lt_like_nested_loglike, cp, r, err)
+            : lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
+    for (int t = 0; ctx && t < threads; t++)
+        lt_like_work_free(ctx[t].c.w);
+    free(ctx);
+    free(cp);
+    return rc;
+}
+
+int cli_compare(int argc, char **argv)
+{
+    cli_job j;
+    cli_job_init(&j);
+    const char *models_flag = NULL;
+    long live = 1000;
+    int status = CLI_OK, first = 1;
+    lt_survey *s = NULL;
+    model_run runs[MAX_MODELS];
+    size_t nm = 0;
+    memset(runs, 0, sizeof runs);
+    cJSON *json = NULL;
+    if (argc > 1 && strncmp(argv[1], "--", 2) != 0) {
+        if ((status = cli_job_load(&j, argv[1])))
+            goto done;
+        first = 2;
+    }
+    cli_args a = cli_args_start(argc, argv, first);
+    while (cli_args_more(&a)) {
+        const char *v;
+        if (cli_flag(&a, "--help")) {
+            usage(stdout);
+            goto done;
+        } else if (cli_take(&a, "--models", &v)) {
+            models_flag = v;
+        } else if (cli_take(&a, "--live-points", &v)) {
+            if (lt_parse_long(v, 20, 100000, &live)) {
+                status = cli_usage_error("--live-points", "'%s' is not a whole number from 20 to 100000", v);
+                goto done;
+            }
+        } else if (!cli_take_job(&a, &j)) {
+            status = cli_args_unknown(&a, "compare");
+            goto done;
+        }
+    }
+    if (a.failed) {
+        status = CLI_USAGE;
+        goto done;
+    }
+    cli_format format;
+    if (cli_parse_format(j.format, (1u << CLI_TABLE) | (1u << CLI_JSON), &format)) {
+        status = cli_usage_error("--format", "'%s' is not one of table, json", j.format);
+        goto done;
+    }
+    const char *list_text = models_flag ? models_flag : j.models;
+    if (!list_text) {
+        status = cli_usage_error("compare", "--models M1,M2,... is required");
+        goto done;
+    }
+    char list[1024], *save = NULL;
+    snprintf(list, sizeof list, "%s", list_text);
+    for (char *p = strtok_r(list, ", \t", &save); p; p = strtok_r(NULL, ", \t", &save)) {
+        if (!lt_cosmo_model_find(p)) {
+            status = cli_usage_error("--models", "unknown model '%s'", p);
+            goto done;
+        }
+        if (nm == MAX_MODELS) {
+            status = cli_usage_error("--models", "at most %d models", MAX_MODELS);
+            goto done;
+        }
+        runs[nm++].name = p;
+    }
+    if (nm == 0) {
+        status = cli_usage_error("--models", "no models given");
+        goto done;
+    }
+    j.lenient = 1;
+    lt_error err;
+    lt_error_clear(&err);
+    if (!(s = lt_survey_read(&j.data, &err)) || (j.out && lt_outdir_prepare(j.out, j.force, &err))) {
+        status = cli_report(&err);
+        goto done;
+    }
+    cli_print_warnings(s);
+    int threads = j.threads > 0 ? (int)j.threads : omp_get_max_threads();
+    for (size_t k = 0; k < nm; k++) {
+        model_run *mr = &runs[k];
+        cli_job mj = j;
+        mj.model = mr->name;
+        lt_like_spec spec;
+        if ((status = cli_job_model(&mj, "compare", &spec)))
+            goto done;
+        if (!(mr->l = lt_like_alloc(s, &spec, &err))) {
+            status = cli_report(&err);
+            goto done;
+        }
+        if (!j.quiet)
+            fprintf(stderr, "[%zu/%zu] %s: best fit, then nested sampling with %ld live points\n",
+                    k + 1, nm, mr->name, live);
+        lt_fit_opts fo = {j.seed, (size_t)j.starts};
+        if (lt_fit_run(mr->l, &fo, &mr->fit, &err)) {
+            status = cli_report(&err);
+            goto done;
+        }
+        int rc = cli_nested_model(mr->l, live, j.seed, threads, &mr->nr, &err);
+        if (!rc) {
+            lt_like_nested c0 = {{mr->l, lt_like_work_alloc(mr->l)}, lt_like_lognorm(mr->l)};
+            if (c0.c.w)
+                posterior(mr, &c0);
+            lt_like_work_free(c0.c.w);
+        }
+        if (rc) {
+            status = cli_report(&err);
+            goto done;
+        }
+        if (mr->warning[0])
+            fprintf(stderr, "lantern: warning: %s: %s\n", mr->name, mr->warning);
+        if (j.out && write_samples(j.out, mr, &err)) {
+            status = cli_report(&err);
+            goto done;
+        }
+    }
+    /* the JSON summary */
+    json = cJSON_CreateObject();
+    cJSON_AddStringToObject(json, "command", "compare");
+    cJSON_AddItemToObject(json, "n_data", lt_json_number((double)s->n));
+    cJSON_AddStringToObject(json, "reference", runs[0].name);
+    cJSON_AddStringToObject(json, "evidence_convention",
+                            "ln Z of the normalised Gaussian likelihood; a marginalised offset "
+                            "has a flat prior of unit width (1 mag)");
+    cJSON *list_j = cJSON_AddArrayToObject(json, "models");
+    for (size_t k = 0; k < nm; k++) {
+        model_run *mr = &runs[k];
+        cJSON *o = cJSON_CreateObject();
+        size_t d = lt_like_dim(mr->l);
+        cJSON_AddStringToObject(o, "model", mr->name);
+        cJSON_AddItemToObject(o, "n_data", lt_json_number((double)s->n));
+        cJSON_AddItemToObject(o, "k_params", lt_json_number((double)mr->fit.k_counted));
+        cJSON_AddItemToObject(o, "chi2_min", lt_json_number(mr->fit.at_best.chi2));
+        cJSON_AddItemToObject(o, "dof", lt_json_number((double)mr->fit.dof));
+        cJSON_AddItemToObject(o, "aic", lt_json_number(mr->fit.aic));
+        cJSON_AddItemToObject(o, "bic", lt_json_number(mr->fit.bic));
+        cJSON_AddItemToObject(o, "dic", lt_json_number(mr->dic));
+        cJSON_AddItemToObject(o, "p_d", lt_json_number(mr->p_d));
+        cJSON_AddBoolToObject(o, "converged", mr->nr.finished && mr->fit.info.converged);
+        cJSON *ev = cJSON_AddObjectToObject(o, "evidence");
+        cJSON_AddItemToObject(ev, "ln_z", lt_json_number(mr->nr.logz));
+        cJSON_AddItemToObject(ev, "ln_z_err", lt_json_number(mr->nr.logz_err));
+        cJSON_AddItemToObject(ev, "information", lt_json_number(mr->nr.info));
+        cJSON_AddItemToObject(ev, "live_points", lt_json_number((double)live));
+        cJSON_AddItemToObject(ev, "iterations", lt_json_number((double)mr->nr.iterations));
+        cJSON_AddItemToObject(ev, "evals", lt_json_number((double)mr->nr.evals));
+        double lnb = mr->nr.logz - runs[0].nr.logz;
+        double lnb_err = k ? sqrt(mr->nr.logz_err * mr->nr.logz_err + runs[0].nr.logz_err * runs[0].nr.logz_err) : 0;
+        cJSON_AddItemToObject(o, "ln_b", lt_json_number(lnb));
+        cJSON_AddItemToObject(o, "ln_b_err", lt_json_number(lnb_err));
+        cJSON_AddItemToObject(o, "two_ln_b", lt_json_number(2 * lnb));
+        char rd[160];
+        snprintf(rd, sizeof rd, k == 0 ? "reference" : "%s: %s", 2 * lnb >= 0 ? "for this model" : "for the reference", cli_kass_raftery(2 * lnb));
+        cJSON_AddStringToObject(o, "reading", rd);
+        cJSON *params = cJSON_AddObjectToObject(o, "params");
+        for (size_t i = 0; i < d; i++) {
+            cJSON *p = cJSON_AddObjectToObject(params, lt_par_name(lt_like_param_id(mr->l, i)));
+            cJSON_AddItemToObject(p, "best", lt_json_number(mr->fit.best[i]));
+            cJSON_AddItemToObject(p, "mean", lt_json_number(mr->mean[i]));
+            cJSON_AddItemToObject(p, "sd", lt_json_number(mr->sd[i]));
+            char pr[64];
+            lt_prior_format(lt_like_prior(mr->l, i), pr, sizeof pr);
+            cJSON_AddStringToObject(p, "prior", pr);
+        }
+        cJSON *w = cJSON_AddArrayToObject(o, "warnings");
+        if (mr->warning[0])
+            cJSON_AddItemToArray(w, cJSON_CreateString(mr->warning));
+        cJSON_AddItemToArray(list_j, o);
+    }
+    if (format == CLI_JSON) {
+        char *text = cJSON_Print(json);
+        printf("%s\n", text ? text : "{}");
+        free(text);
+    } else {
+        printf("model comparison on %s: %zu objects, observable %s\n\n", j.data.data, s->n,
+               lt_obs_name(s->kind));
+        printf("  %-10s %2s %9s %9s %9s %9s %17s %15s  %s\n", "model", "k", "chi2_min", "AIC", "BIC",
+               "DIC", "ln Z", "ln B", "reading (Kass & Raftery 1995, on 2 ln B)");
+        for (size_t k = 0; k < nm; k++) {
+            model_run *mr = &runs[k];
+            double lnb = mr->nr.logz - runs[0].nr.logz;
+            double e = sqrt(mr->nr.logz_err * mr->nr.logz_err + runs[0].nr.logz_err * runs[0].nr.logz_err);
+            char zb[64], bb[64], rd[128];
+            snprintf(zb, sizeof zb, "%.2f +- %.2f", mr->nr.logz, mr->nr.logz_err);
+            if (k)
+                snprintf(bb, sizeof bb, "%+.2f +- %.2f", lnb, e),
+                    snprintf(rd, sizeof rd, "%s: %s", 2 * lnb >= 0 ? mr->name : runs[0].name, cli_kass_raftery(2 * lnb));
+            else
+                snprintf(bb, sizeof bb, "0"), snprintf(rd, sizeof rd, "(reference)");
+            printf("  %-10s %2zu %9.3f %9.3f %9.3f %9.3f %17s %15s  %s\n", mr->name, mr->fit.k_counted,
+                   mr->fit.at_best.chi2, mr->fit.aic, mr->fit.bic, mr->dic, zb, bb, rd);
+        }
+        printf("\n  priors:");
+        for (size_t k = 0; k < nm; k++) {
+            printf("\n    %-10s", runs[k].name);
+            for (size_t i = 0; i < lt_like_dim(runs[k].l); i++) {
+                char pr[64];
+                lt_prior_format(lt_like_prior(runs[k].l, i), pr, sizeof pr);
+                printf(" %s %s%s", lt_par_name(lt_like_param_id(runs[k].l, i)), pr,
+                       i + 1 < lt_like_dim(runs[k].l) ? "," : "");
+            }
+            if (lt_like_offset_mode(runs[k].l) == LT_OFFSET_MARGINAL)
+                printf("; offset marginalised (flat, unit width)");
+        }
+        printf("\n  ln Z depends on these prior volumes; k counts a marginalised offset.\n");
+    }
+    if (j.out) {
+        char path[4200], what[128];
+        snprintf(path, sizeof path, "%s/summary.json", j.out);
+        snprintf(what, sizeof what, "lantern %s compare", LT_VERSION);
+        if (lt_report_write_json(path, json, &err) || lt_outdir_mark(j.out, what, &err))
+            status = cli_report(&err);
+    }
+done:
+    cJSON_Delete(json);
+    for (size_t k = 0; k < nm; k++) {
+        lt_nested_result_free(&runs[k].nr);
+        lt_like_free(runs[k].l);
+    }
+    lt_survey_free(s);
+    cli_job_free(&j);
+    return status;
+}

@@ -1,0 +1,48 @@
+#!/usr/bin/env bash
+# End-to-end tests of "lantern compare": the acceptance command, the
+# contract's fields, the Kass & Raftery reading, and the refusals.
+source "$(dirname "$0")/lib.sh"
+P="${LANTERN_SHARED:-$ROOT/../shared}/data/pantheon2018"
+DATA=(--data "$P/lcparam_DS17f.txt" --columns z=zcmb,zhel=zhel,mag=mb,err=dmb --cov "$P/sys_DS17f.txt")
+
+# The acceptance command of issue 7.
+start=$(date +%s)
+run "$LANTERN" compare "${DATA[@]}" --models lcdm-flat,wcdm-flat --prior w0=uniform:-2:0 --format json --out "$E2E_TMP/c"
+took=$(( $(date +%s) - start ))
+if [ "$STATUS" -eq 0 ] && /usr/bin/python3 - "$OUT" "$E2E_TMP/c" <<'PY'
+import json, math, sys
+j = json.load(open(sys.argv[1]))
+assert json.load(open(sys.argv[2] + "/summary.json")) == j
+a, b = j["models"]
+assert a["model"] == "lcdm-flat" and b["model"] == "wcdm-flat"
+for m in (a, b):
+    e = m["evidence"]
+    assert e["ln_z_err"] < 0.1 and math.isfinite(e["ln_z"]), e
+    for k in ("k_params", "chi2_min", "dof", "aic", "bic", "dic", "ln_b", "reading"):
+        assert k in m, k
+# k counts the marginalised offset; AIC and BIC from chi2_min
+assert a["k_params"] == 2 and b["k_params"] == 3
+assert abs(b["aic"] - (b["chi2_min"] + 6)) < 1e-9 and abs(b["bic"] - (b["chi2_min"] + 3 * math.log(40))) < 1e-9
+assert abs(b["ln_b"] - (b["evidence"]["ln_z"] - a["evidence"]["ln_z"])) < 1e-12 and a["ln_b"] == 0
+# ln B of about -1.2: 2 ln B of -2.5 reads "positive" for the reference (Kass & Raftery 1995)
+assert -2.0 < b["ln_b"] < -0.5 and b["reading"] == "for the reference: positive", b["reading"]
+assert b["params"]["w0"]["prior"] == "U(-2, 0)"
+PY
+then pass "compare Pantheon lcdm-flat vs wcdm-flat: ln Z errors < 0.1, fields, reading ($took s)"; else fail "compare Pantheon lcdm-flat vs wcdm-flat: ln Z errors < 0.1, fields, reading"; fi
+[ "$took" -le 10 ] && pass "in a few seconds ($took s)" || fail "in a few seconds ($took s)"
+[ -s "$E2E_TMP/c/nested_wcdm-flat.csv" ] && head -1 "$E2E_TMP/c/nested_wcdm-flat.csv" | grep -q "^weight,loglike,omega_m,w0$" &&
+    pass "--out keeps the weighted posterior draws" || fail "--out keeps the weighted posterior draws"
+
+run "$LANTERN" compare "${DATA[@]}" --models lcdm-flat,wcdm-flat
+expect_stdout "the table names the priors beside it" 'wcdm-flat +omega_m U\(0, 1\), w0 U\(-2, 0\)'
+
+# A posterior that presses on a prior edge is warned about (w0 bounded at -1.2).
+run "$LANTERN" compare "${DATA[@]}" --models lcdm-flat,wcdm-flat --prior w0=uniform:-1.2:0 --live-points 200 --quiet
+if [ "$STATUS" -eq 0 ] && grep -q "presses on the lower edge of its prior" "$ERR"; then pass "a prior edge is warned about"; else fail "a prior edge is warned about"; fi
+
+run "$LANTERN" compare "${DATA[@]}"
+expect_error "--models is required" 2 "--models M1,M2,... is required"
+run "$LANTERN" compare "${DATA[@]}" --models lcdm,foo
+expect_error "an unknown model" 2 "unknown model 'foo'"
+run "$LANTERN" compare "${DATA[@]}" --models lcdm --live-points 5
+expect_error "too few live points" 2 "--live-points: '5'"

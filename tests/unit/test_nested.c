@@ -1,0 +1,175 @@
+/*
+ * Nested sampling against evidences known in closed form: a normalised
+ * Gaussian likelihood under a wide uniform prior in 1, 2 and 5 dimensions
+ * (Z = 1/V, the prior's inverse volume, up to the negligible mass outside
+ * the box), and a straight line fitted to Gaussian data, whose evidence is
+ * L_max sqrt(det(2 pi Sigma_post)) / V exactly for a linear-Gaussian model
+ * (e.g. Sivia & Skilling, Data Analysis, 2nd ed., ch. 4, from memory).
+ * Each within 3 reported sigma; the reported sigma within a factor 2 of
+ * the scatter over seeds; and the posterior weights give the mean.
+ */
+#include <setjmp.h>
+#include <stdarg.h>
+#include <stddef.h>
+#include <stdint.h>
+#include <stdio.h>
+#include <string.h>
+
+#include <cmocka.h>
+#include <gsl/gsl_errno.h>
+
+#include "lantern/lantern.h"
+#include "../testutil.h"
+
+typedef struct {
+    size_t d;
+    double half; /* prior: [-half, half]^d */
+} box;
+
+static void to_box(const double *u, double *t, void *p)
+{
+    const box *b = p;
+    for (size_t i = 0; i < b->d; i++)
+        t[i] = -b->half + 2 * b->half * u[i];
+}
+
+/* A normalised Gaussian with means 0.5 i and sds 1, 0.5, 2, ... */
+static double gauss_ll(const double *t, void *p)
+{
+    const box *b = p;
+    double s = 0, norm = 0;
+    for (size_t i = 0; i < b->d; i++) {
+        double sd = i % 3 == 0 ? 1.0 : i % 3 == 1 ? 0.5 : 2.0;
+        double z = (t[i] - 0.5 * (double)i) / sd;
+        s += z * z;
+        norm += log(sd * sqrt(2 * M_PI));
+    }
+    return -0.5 * s - norm;
+}
+
+static lt_nested_result run(size_t d, size_t nlive, uint64_t seed, box *b, lt_loglike f)
+{
+    void *ctx[64];
+    for (int i = 0; i < 64; i++)
+        ctx[i] = b;
+    lt_nested_opts o = {d, nlive, seed, 0.01, 1.25, 1000000, 0};
+    lt_nested_result r;
+    lt_error err;
+    assert_int_equal(lt_nested_run(&o, to_box, b, f, ctx, &r, &err), LT_OK);
+    assert_true(r.finished);
+    return r;
+}
+
+static void test_gaussian_evidence(void **state)
+{
+    (void)state;
+    size_t dims[] = {1, 2, 5};
+    for (int k = 0; k < 3; k++) {
+        box b = {dims[k], 10.0};
+        lt_nested_result r = run(dims[k], 400, 1 + k, &b, gauss_ll);
+        double want = -(double)dims[k] * log(20.0);
+        print_message("d = %zu: ln Z = %.4f +- %.4f, closed form %.4f (%zu evaluations)\n",
+                      dims[k], r.logz, r.logz_err, want, r.evals);
+        assert_abs(r.logz, want, 3 * r.logz_err);
+        /* the weighted samples give the posterior mean 0.5 i */
+        for (size_t i = 0; i < dims[k]; i++) {
+            double m = 0;
+            for (size_t j = 0; j < r.nsamples; j++)
+                m += exp(r.logw[j]) * r.theta[j * dims[k] + i];
+            double sd = i % 3 == 0 ? 1.0 : i % 3 == 1 ? 0.5 : 2.0;
+            assert_abs(m, 0.5 * (double)i, 0.1 * sd);
+        }
+        lt_nested_result_free(&r);
+    }
+}
+
+static void test_error_is_honest(void **state)
+{
+    (void)state;
+    enum { SEEDS = 12 };
+    box b = {2, 10.0};
+    double z[SEEDS], err = 0, mean = 0;
+    for (int s = 0; s < SEEDS; s++) {
+        lt_nested_result r = run(2, 150, 100 + s, &b, gauss_ll);
+        z[s] = r.logz, err += r.logz_err / SEEDS, mean += r.logz / SEEDS;
+        lt_nested_result_free(&r);
+    }
+    double var = 0;
+    for (int s = 0; s < SEEDS; s++)
+        var += (z[s] - mean) * (z[s] - mean) / (SEEDS - 1);
+    double scatter = sqrt(var);
+    print_message("reported sigma %.4f, scatter over %d seeds %.4f\n", err, SEEDS, scatter);
+    assert_true(err / scatter < 2.0 && err / scatter > 0.5);
+}
+
+/* ---- a straight line ---- */
+enum { NP = 20 };
+static double xs[NP], ys[NP], sig[NP];
+
+static double line_ll(const double *t, void *p)
+{
+    (void)p;
+    double s = 0, norm = 0;
+    for (int i = 0; i < NP; i++) {
+        double r = (ys[i] - t[0] - t[1] * xs[i]) / sig[i];
+        s += r * r;
+        norm += log(sig[i] * sqrt(2 * M_PI));
+    }
+    return -0.5 * s - norm;
+}
+
+static void test_linear_gaussian(void **state)
+{
+    (void)state;
+    unsigned long long seed = 3;
+    for (int i = 0; i < NP; i++) {
+        xs[i] = 0.2 * i;
+        sig[i] = 0.3;
+        ys[i] = 1.0 + 0.5 * xs[i] + 0.3 * lt_test_uniform(&seed, -1.7, 1.7);
+    }
+    /* weighted least squares (Press et al., Numerical Recipes, sec. 15.2) */
+    double S = 0, Sx = 0, Sxx = 0, Sy = 0, Sxy = 0;
+    for (int i = 0; i < NP; i++) {
+        double w = 1 / (sig[i] * sig[i]);
+        S += w, Sx += w * xs[i], Sxx += w * xs[i] * xs[i], Sy += w * ys[i], Sxy += w * xs[i] * ys[i];
+    }
+    double delta = S * Sxx - Sx * Sx;
+    double best[2] = {(Sxx * Sy - Sx * Sxy) / delta, (S * Sxy - Sx * Sy) / delta};
+    double det_cov = (Sxx / delta) * (S / delta) - (Sx / delta) * (Sx / delta);
+    box b = {2, 5.0};
+    double want = line_ll(best, NULL) + 0.5 * log(4 * M_PI * M_PI * det_cov) - log(100.0);
+    lt_nested_result r = run(2, 400, 9, &b, line_ll);
+    print_message("line: ln Z = %.4f +- %.4f, closed form %.4f\n", r.logz, r.logz_err, want);
+    assert_abs(r.logz, want, 3 * r.logz_err);
+    lt_nested_result_free(&r);
+}
+
+/* the same seed, the same run, with 1 and 2 threads */
+static void test_threads(void **state)
+{
+    (void)state;
+    box b = {2, 10.0};
+    void *ctx[2] = {&b, &b};
+    lt_nested_opts o1 = {2, 100, 5, 0.01, 1.25, 100000, 1}, o2 = o1;
+    o2.threads = 2;
+    lt_nested_result a, c;
+    lt_error err;
+    assert_int_equal(lt_nested_run(&o1, to_box, &b, gauss_ll, ctx, &a, &err), LT_OK);
+    assert_int_equal(lt_nested_run(&o2, to_box, &b, gauss_ll, ctx, &c, &err), LT_OK);
+    assert_true(a.logz == c.logz && a.nsamples == c.nsamples);
+    assert_memory_equal(a.theta, c.theta, a.nsamples * 2 * sizeof(double));
+    lt_nested_result_free(&a);
+    lt_nested_result_free(&c);
+}
+
+int main(void)
+{
+    gsl_set_error_handler_off();
+    const struct CMUnitTest tests[] = {
+        cmocka_unit_test(test_gaussian_evidence),
+        cmocka_unit_test(test_error_is_honest),
+        cmocka_unit_test(test_linear_gaussian),
+        cmocka_unit_test(test_threads),
+    };
+    return cmocka_run_group_tests_name("nested", tests, NULL, NULL);
+}
