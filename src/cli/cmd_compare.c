@@ -310,6 +310,7 @@ int cli_compare(int argc, char **argv)
         cJSON_AddItemToObject(o, "n_data", lt_json_number((double)s->n));
         cJSON_AddItemToObject(o, "k_params", lt_json_number((double)mr->fit.k_counted));
         cJSON_AddItemToObject(o, "chi2_min", lt_json_number(mr->fit.at_best.chi2));
+        cJSON_AddItemToObject(o, "delta_chi2", lt_json_number(mr->fit.at_best.chi2 - runs[0].fit.at_best.chi2));
         cJSON_AddItemToObject(o, "dof", lt_json_number((double)mr->fit.dof));
         cJSON_AddItemToObject(o, "aic", lt_json_number(mr->fit.aic));
         cJSON_AddItemToObject(o, "bic", lt_json_number(mr->fit.bic));
@@ -353,8 +354,8 @@ int cli_compare(int argc, char **argv)
     } else {
         printf("model comparison on %s: %zu objects, observable %s\n\n", j.data.data, s->n,
                lt_obs_name(s->kind));
-        printf("  %-10s %2s %9s %9s %9s %9s %17s %15s  %s\n", "model", "k", "chi2_min", "AIC", "BIC",
-               "DIC", "ln Z", "ln B", "reading (Kass & Raftery 1995, on 2 ln B)");
+        printf("  %-10s %2s %9s %7s %9s %9s %9s %17s %15s  %s\n", "model", "k", "chi2_min", "dchi2",
+               "AIC", "BIC", "DIC", "ln Z", "ln B", "reading (Kass & Raftery 1995, on 2 ln B)");
         for (size_t k = 0; k < nm; k++) {
             model_run *mr = &runs[k];
             double lnb = mr->nr.logz - runs[0].nr.logz;
@@ -366,8 +367,10 @@ int cli_compare(int argc, char **argv)
                     snprintf(rd, sizeof rd, "%s: %s", 2 * lnb >= 0 ? mr->name : runs[0].name, cli_kass_raftery(2 * lnb));
             else
                 snprintf(bb, sizeof bb, "0"), snprintf(rd, sizeof rd, "(reference)");
-            printf("  %-10s %2zu %9.3f %9.3f %9.3f %9.3f %17s %15s  %s\n", mr->name, mr->fit.k_counted,
-                   mr->fit.at_best.chi2, mr->fit.aic, mr->fit.bic, mr->dic, zb, bb, rd);
+            printf("  %-10s %2zu %9.3f %+7.3f %9.3f %9.3f %9.3f %17s %15s  %s\n", mr->name,
+                   mr->fit.k_counted, mr->fit.at_best.chi2,
+                   mr->fit.at_best.chi2 - runs[0].fit.at_best.chi2, mr->fit.aic, mr->fit.bic, mr->dic,
+                   zb, bb, rd);
         }
         printf("\n  priors:");
         for (size_t k = 0; k < nm; k++) {

@@ -18,7 +18,7 @@ assert a["model"] == "lcdm-flat" and b["model"] == "wcdm-flat"
 for m in (a, b):
     e = m["evidence"]
     assert e["ln_z_err"] < 0.1 and math.isfinite(e["ln_z"]), e
-    for k in ("k_params", "chi2_min", "dof", "aic", "bic", "dic", "ln_b", "reading"):
+    for k in ("k_params", "chi2_min", "delta_chi2", "dof", "aic", "bic", "dic", "ln_b", "reading"):
         assert k in m, k
 # k counts the marginalised offset; AIC and BIC from chi2_min
 assert a["k_params"] == 2 and b["k_params"] == 3
@@ -27,6 +27,7 @@ assert abs(b["ln_b"] - (b["evidence"]["ln_z"] - a["evidence"]["ln_z"])) < 1e-12 
 # ln B of about -1.2: 2 ln B of -2.5 reads "positive" for the reference (Kass & Raftery 1995)
 assert -2.0 < b["ln_b"] < -0.5 and b["reading"] == "for the reference: positive", b["reading"]
 assert b["params"]["w0"]["prior"] == "U(-2, 0)"
+assert abs(b["delta_chi2"] - (b["chi2_min"] - a["chi2_min"])) < 1e-12 and a["delta_chi2"] == 0
 PY
 then pass "compare Pantheon lcdm-flat vs wcdm-flat: ln Z errors < 0.1, fields, reading ($took s)"; else fail "compare Pantheon lcdm-flat vs wcdm-flat: ln Z errors < 0.1, fields, reading"; fi
 [ "$took" -le 10 ] && pass "in a few seconds ($took s)" || fail "in a few seconds ($took s)"
