@@ -66,6 +66,8 @@ typedef struct lt_like_spec {
     lt_prior prior[LT_NPAR];
     int has_fix[LT_NPAR];
     double fix[LT_NPAR];
+    int exact; /* 1: always the exact N-object path (the compressed one is the default
+                * for mu and mag data) */
 } lt_like_spec;
 
 void lt_like_spec_init(lt_like_spec *s, const lt_cosmo_model *m);
@@ -114,8 +116,19 @@ typedef struct lt_like_point {
     int domain_ok;   /* 0 if the parameters are unphysical for the data */
 } lt_like_point;
 
-/* Evaluate at theta (lt_like_dim values, in lt_like_param_id order). */
+/* Evaluate at theta (lt_like_dim values, in lt_like_param_id order), by the
+ * compressed path where it is set up, else the exact one. */
 void lt_like_eval(const lt_like *l, lt_like_work *w, const double *theta, lt_like_point *out);
+/* The exact path always: residuals of every object against C. */
+void lt_like_eval_exact(const lt_like *l, lt_like_work *w, const double *theta, lt_like_point *out);
+
+/*
+ * The compressed path (see src/likelihood/compress.c): K knots in ln(1+z),
+ * chosen at set-up so that |chi2_compressed - chi2_exact| stays below 2e-4
+ * on test points within Delta chi2 < 50 of the best of them (the worst seen
+ * is *max_dchi2). Returns 0 (and K = 0) when the exact path is in use.
+ */
+int lt_like_compression(const lt_like *l, size_t *K, double *max_dchi2);
 
 /* The cosmology at theta (for derived quantities); LT_EDOMAIN etc. */
 int lt_like_cosmo(const lt_like *l, const double *theta, lt_cosmo *c, lt_error *err);
