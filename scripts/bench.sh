@@ -9,3 +9,6 @@ for b in build/tests/bench/bench_*; do
     echo "== $(basename "$b")"
     "$b"
 done
+echo
+echo "== side by side with numpy/scipy (scripts/bench_table.py; a few minutes)"
+/usr/bin/python3 scripts/bench_table.py

@@ -126,7 +126,8 @@ void lt_like_eval_exact(const lt_like *l, lt_like_work *w, const double *theta, 
  * The compressed path (see src/likelihood/compress.c): K knots in ln(1+z),
  * chosen at set-up so that |chi2_compressed - chi2_exact| stays below 2e-4
  * on test points within Delta chi2 < 50 of the best of them (the worst seen
- * is *max_dchi2). Returns 0 (and K = 0) when the exact path is in use.
+ * is *max_dchi2). Returns 0 (and K = 0) when the exact path is in use:
+ * for dl data, with spec.exact, or when K would exceed N/2 (small surveys).
  */
 int lt_like_compression(const lt_like *l, size_t *K, double *max_dchi2);
 

@@ -130,6 +130,7 @@ int cli_fit(int argc, char **argv);
 int cli_sample(int argc, char **argv);
 int cli_run(int argc, char **argv);
 int cli_compare(int argc, char **argv);
+int cli_bench(int argc, char **argv);
 /* Nested sampling of l's posterior with live points (compare.c). */
 int cli_nested_model(const lt_like *l, long live, uint64_t seed, int threads,
                      lt_nested_result *r, lt_error *err);

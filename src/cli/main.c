@@ -26,6 +26,7 @@ static const cli_command commands[] = {
     {"compare", "compare models: information criteria and Bayesian evidence", cli_compare},
     {"run", "the whole job from a run file: fits, posteriors, comparison, report", cli_run},
     {"report", "rebuild tables and figures from saved runs", cli_report_runs},
+    {"bench", "time the likelihood on given data: rate, set-up, memory, accuracy", cli_bench},
 };
 #define NCOMMANDS (sizeof commands / sizeof commands[0])
 

@@ -6,8 +6,9 @@
  *     mu_i = 5 log10(z_i (1 + zhel_i)) + g(z_i),   g(z) = 5 log10(D_M(z) / z) + 25,
  * g smooth. Around a fiducial cosmology, g = g_fid + dg, and dg is
  * represented by its values on K knots uniform in x = ln(1+z) over the
- * data's range, with local cubic (four-point Lagrange) interpolation, so
- * that dg(z_i) = sum_k B_ik dg_k with B linear and four non-zeros a row.
+ * data's range, with local six-point Lagrange interpolation (quintic, error
+ * ~ h^6), so that dg(z_i) = sum_k B_ik dg_k with B linear and six non-zeros
+ * a row.
  * With d'_i = obs_i - 5 log10(z_i (1 + zhel_i)) - g_fid(z_i) (exact, at
  * each object) the residual is r = d' - B dg and
  *     chi2 = a - 2 b^T dg + dg^T F dg,  a = d'^T C^-1 d', b = B^T C^-1 d',
@@ -37,19 +38,21 @@ void lt_compress_free(lt_compress *c)
     free(c);
 }
 
-/* The interpolation row of x: first knot j0 and four weights. */
-static void row_of(double x, double x0, double h, size_t K, size_t *j0, double w[4])
+#define NW 6 /* interpolation points a row */
+
+/* The interpolation row of x: first knot j0 and NW weights. */
+static void row_of(double x, double x0, double h, size_t K, size_t *j0, double w[NW])
 {
     double t = (x - x0) / h;
-    long j = (long)floor(t) - 1; /* knots j .. j+3 around the interval */
+    long j = (long)floor(t) - (NW / 2 - 1); /* knots j .. j+NW-1 around the interval */
     if (j < 0)
         j = 0;
-    if (j > (long)K - 4)
-        j = (long)K - 4;
+    if (j > (long)K - NW)
+        j = (long)K - NW;
     *j0 = (size_t)j;
-    for (int a = 0; a < 4; a++) {
+    for (int a = 0; a < NW; a++) {
         double p = 1.0;
-        for (int b = 0; b < 4; b++)
+        for (int b = 0; b < NW; b++)
             if (b != a)
                 p *= (t - (double)(j + b)) / (double)(a - b);
         w[a] = p;
@@ -80,12 +83,12 @@ lt_compress *lt_compress_alloc(const lt_survey *s, const lt_cosmo *fid, size_t K
     double *y = malloc(n * sizeof *y), *work = malloc(lt_cov_work_size(s->cov) * sizeof *work);
     double *xs = malloc(n * sizeof *xs), *dm = malloc(n * sizeof *dm), *gf = malloc(n * sizeof *gf);
     size_t *j0 = malloc(n * sizeof *j0);
-    double *w = malloc(4 * n * sizeof *w);
+    double *w = malloc(NW * n * sizeof *w);
     lt_zgrid *dg = NULL;
     if (!c || !dprime || !col || !y || !work || !xs || !dm || !gf || !j0 || !w)
         goto nomem;
-    if (K < 4)
-        K = 4;
+    if (K < NW)
+        K = NW;
     c->K = K;
     double xmin = INFINITY, xmax = -INFINITY;
     for (size_t i = 0; i < n; i++) {
@@ -118,7 +121,7 @@ lt_compress *lt_compress_alloc(const lt_survey *s, const lt_cosmo *fid, size_t K
     }
     for (size_t i = 0; i < n; i++) {
         dprime[i] = s->obs[i] - 5.0 * log10(s->z[i] * (1.0 + s->zhel[i])) - gf[i];
-        row_of(xs[i], c->x0, c->h, K, &j0[i], w + 4 * i);
+        row_of(xs[i], c->x0, c->h, K, &j0[i], w + NW * i);
     }
     /* C^-1 d', C^-1 1: a, b, u, c1d, c11 */
     lt_cov_solve(s->cov, dprime, y, work);
@@ -126,8 +129,8 @@ lt_compress *lt_compress_alloc(const lt_survey *s, const lt_cosmo *fid, size_t K
     for (size_t i = 0; i < n; i++) {
         c->a += dprime[i] * y[i];
         c->c1d += y[i];
-        for (int q = 0; q < 4; q++)
-            c->b[j0[i] + q] += w[4 * i + q] * y[i];
+        for (int q = 0; q < NW; q++)
+            c->b[j0[i] + q] += w[NW * i + q] * y[i];
     }
     for (size_t i = 0; i < n; i++)
         col[i] = 1.0;
@@ -135,23 +138,40 @@ lt_compress *lt_compress_alloc(const lt_survey *s, const lt_cosmo *fid, size_t K
     c->c11 = 0.0;
     for (size_t i = 0; i < n; i++) {
         c->c11 += y[i];
-        for (int q = 0; q < 4; q++)
-            c->u[j0[i] + q] += w[4 * i + q] * y[i];
+        for (int q = 0; q < NW; q++)
+            c->u[j0[i] + q] += w[NW * i + q] * y[i];
     }
-    /* F = B^T C^-1 B, one column of B at a time */
-    for (size_t k = 0; k < K; k++) {
-        for (size_t i = 0; i < n; i++) {
-            double v = 0.0;
-            for (int q = 0; q < 4; q++)
-                if (j0[i] + (size_t)q == k)
-                    v = w[4 * i + q];
-            col[i] = v;
+    /* F = B^T C^-1 B, one column of B at a time: K independent solves,
+     * shared out over the threads (each writes only its own columns of F,
+     * so the result does not depend on the thread count) */
+    int failed = 0;
+#pragma omp parallel reduction(| : failed)
+    {
+        double *tc = malloc(n * sizeof *tc), *ty = malloc(n * sizeof *ty);
+        double *tw = malloc(lt_cov_work_size(s->cov) * sizeof *tw);
+        failed = !tc || !ty || !tw;
+#pragma omp for schedule(dynamic, 1)
+        for (size_t k = 0; k < K; k++) {
+            if (failed)
+                continue;
+            for (size_t i = 0; i < n; i++) {
+                double v = 0.0;
+                for (int q = 0; q < NW; q++)
+                    if (j0[i] + (size_t)q == k)
+                        v = w[NW * i + q];
+                tc[i] = v;
+            }
+            lt_cov_solve(s->cov, tc, ty, tw);
+            for (size_t i = 0; i < n; i++)
+                for (int q = 0; q < NW; q++)
+                    c->F[(j0[i] + (size_t)q) * K + k] += w[NW * i + q] * ty[i];
         }
-        lt_cov_solve(s->cov, col, y, work);
-        for (size_t i = 0; i < n; i++)
-            for (int q = 0; q < 4; q++)
-                c->F[(j0[i] + (size_t)q) * K + k] += w[4 * i + q] * y[i];
+        free(tc);
+        free(ty);
+        free(tw);
     }
+    if (failed)
+        goto nomem;
     /* symmetrise: the two halves differ by rounding only */
     for (size_t p = 0; p < K; p++)
         for (size_t q = 0; q < p; q++)
