@@ -19,6 +19,7 @@
 
 #include <omp.h>
 
+#include "internal.h"
 #include "lantern/inference.h"
 
 #define DIM_MAX 64 /* parameters at most: proposals use fixed-size scratch */
@@ -58,9 +59,7 @@ const double *lt_mcmc_draws(const lt_mcmc *m, size_t c, size_t *n)
     return m->ch[c].draws;
 }
 
-/* Cholesky of a small symmetric matrix a (d x d) into l; -1 if not
- * positive definite. */
-static int small_cholesky(const double *a, size_t d, double *l)
+int lt_small_cholesky(const double *a, size_t d, double *l)
 {
     memset(l, 0, d * d * sizeof *l);
     for (size_t i = 0; i < d; i++)
@@ -191,7 +190,7 @@ lt_mcmc *lt_mcmc_alloc(const lt_mcmc_opts *o, lt_logdensity f, void **ctx, lt_er
     double sd_scale = 2.38 * 2.38 / (double)d;
     for (size_t i = 0; i < d * d; i++)
         prop[i] = sd_scale * m->cov[i];
-    int bad_cov = small_cholesky(prop, d, m->ch[0].chol) != 0;
+    int bad_cov = lt_small_cholesky(prop, d, m->ch[0].chol) != 0;
     free(prop);
     if (bad_cov) {
         lt_mcmc_free(m);
@@ -246,7 +245,7 @@ static void adapt(chain *c, size_t d)
         cov[i] = sd * c->wm2[i] / (double)(c->nw - 1);
     for (size_t i = 0; i < d; i++) /* eps I, relative to each variance */
         cov[i * d + i] *= 1.0 + 1e-10;
-    if (small_cholesky(cov, d, l) == 0)
+    if (lt_small_cholesky(cov, d, l) == 0)
         memcpy(c->chol, l, d * d * sizeof *l);
 }
 

@@ -7,6 +7,7 @@
 
 #include <omp.h>
 
+#include "internal.h"
 #include "lantern/inference.h"
 
 #define BATCH 8     /* candidates per parallel batch: fixed, for determinism */
@@ -27,26 +28,6 @@ static double logaddexp(double a, double b)
     if (b == -INFINITY)
         return a;
     return a > b ? a + log1p(exp(b - a)) : b + log1p(exp(a - b));
-}
-
-/* Cholesky of a small symmetric matrix; -1 if not positive definite. */
-static int chol(const double *a, size_t d, double *l)
-{
-    memset(l, 0, d * d * sizeof *l);
-    for (size_t i = 0; i < d; i++)
-        for (size_t j = 0; j <= i; j++) {
-            double s = a[i * d + j];
-            for (size_t k = 0; k < j; k++)
-                s -= l[i * d + k] * l[j * d + k];
-            if (i == j) {
-                if (!(s > 0))
-                    return -1;
-                l[i * d + i] = sqrt(s);
-            } else {
-                l[i * d + j] = s / l[j * d + j];
-            }
-        }
-    return 0;
 }
 
 /* y = L^-1 x for lower-triangular L. */
@@ -82,7 +63,7 @@ static int bound(const double *u, size_t n, size_t d, double enlarge, ellipsoid 
                 cov[a * d + b] += (u[i * d + a] - e->mu[a]) * (u[i * d + b] - e->mu[b]) / (double)(n - 1);
     for (size_t a = 0; a < d; a++)
         cov[a * d + a] += 1e-12;
-    if (chol(cov, d, e->l))
+    if (lt_small_cholesky(cov, d, e->l))
         return -1;
     double r2max = 0, y[DMAX];
     for (size_t i = 0; i < n; i++) {
