@@ -3,7 +3,7 @@
 likelihood paths against the same likelihood in numpy/scipy, for N = 40
 (Pantheon 2018 binned with its systematics), 1048 (the Pantheon 2018 table
 with a dense covariance simulated here), 10^4 (dense, simulated by
-lantern simulate) and 10^5, 10^6 (structured: 20 modes, simulated), plus
+lantern simulate) and 10^5, 10^6 (structured: 100 calibration modes, simulated), plus
 MCMC wall time to convergence for flat LCDM and flat w0-wa.
 Run from the repository's top folder with /usr/bin/python3."""
 import json
@@ -78,12 +78,12 @@ def main():
              (os.path.join(P, "lcparam_full_long_zhel.txt"), ["zcmb", "zhel", "mb", "dmb"], cov1048, 300)),
         ]
         s4 = simulate(tmp, 10000, 5)
-        cols = ["--columns", "z=z,zhel=zhel,mag=mag,err=err"]
+        cols = ["--columns", "id=id,z=z,zhel=zhel,mag=mag,err=err"]
         cases.append(("10^4 (dense)", ["--data", s4 + "/survey.csv"] + cols, ["--cov", s4 + "/covariance.fits"],
                       (s4 + "/survey.csv", ["z", "zhel", "mag", "err"], s4 + "/covariance.fits", 10)))
         for n in (100000, 1000000):
-            sn = simulate(tmp, n, 20)
-            cases.append((f"10^{len(str(n)) - 1} (20 modes)", ["--data", sn + "/survey.csv"] + cols,
+            sn = simulate(tmp, n, 100)
+            cases.append((f"10^{len(str(n)) - 1} (100 modes)", ["--data", sn + "/survey.csv"] + cols,
                           ["--modes", sn + "/modes.csv"], None))
         for label, data, extra, np_case in cases:
             n = label.split()[0]
