@@ -93,12 +93,18 @@ int cli_args_unknown(const cli_args *a, const char *command)
 int cli_parse_format(const char *text, unsigned allowed, cli_format *out)
 {
     static const char *names[] = {"table", "csv", "json"};
+    char list[32] = "";
     for (int f = 0; f < 3; f++) {
-        if ((allowed & (1u << f)) && strcmp(text, names[f]) == 0) {
+        if (!(allowed & (1u << f)))
+            continue;
+        if (strcmp(text, names[f]) == 0) {
             *out = (cli_format)f;
             return 0;
         }
+        if (list[0])
+            strcat(list, ", ");
+        strcat(list, names[f]);
     }
-    return -1;
+    return cli_usage_error("--format", "'%s' is not one of %s", text, list);
 }
 

@@ -57,7 +57,8 @@ int cli_args_unknown(const cli_args *a, const char *command);
 
 /* Output formats. */
 typedef enum { CLI_TABLE, CLI_CSV, CLI_JSON } cli_format;
-/* Parse "table", "csv" or "json" (those allowed by mask, bits 1 << format). */
+/* Parse "table", "csv" or "json" (those allowed by mask, bits 1 << format);
+ * any other text is reported as a usage error naming the allowed ones. */
 int cli_parse_format(const char *text, unsigned allowed, cli_format *out);
 
 /* The DATA options (DESIGN.md): if the current argument is one, take it

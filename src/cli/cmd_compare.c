@@ -221,10 +221,8 @@ int cli_compare(int argc, char **argv)
         goto done;
     }
     cli_format format;
-    if (cli_parse_format(j.format, (1u << CLI_TABLE) | (1u << CLI_JSON), &format)) {
-        status = cli_usage_error("--format", "'%s' is not one of table, json", j.format);
+    if ((status = cli_parse_format(j.format, (1u << CLI_TABLE) | (1u << CLI_JSON), &format)))
         goto done;
-    }
     const char *list_text = models_flag ? models_flag : j.models;
     if (!list_text) {
         status = cli_usage_error("compare", "--models M1,M2,... is required");

@@ -328,9 +328,9 @@ int cli_distance(int argc, char **argv)
     if (a.failed)
         return CLI_USAGE;
     cli_format format;
-    if (cli_parse_format(format_text, 7u, &format))
-        return cli_usage_error("--format", "'%s' is not one of table, csv, json",
-                               format_text);
+    int status = cli_parse_format(format_text, 7u, &format);
+    if (status)
+        return status;
     if (!model_name)
         return cli_usage_error("distance", "--model is required (see 'lantern distance "
                                            "--help' for the models)");
@@ -357,7 +357,7 @@ int cli_distance(int argc, char **argv)
 
     double *z = NULL;
     size_t n = 0;
-    int status = z_list ? parse_z_list(z_list, &z, &n) : parse_z_range(z_range, &z, &n);
+    status = z_list ? parse_z_list(z_list, &z, &n) : parse_z_range(z_range, &z, &n);
     if (status)
         return status;
 

@@ -88,10 +88,8 @@ int cli_fit(int argc, char **argv)
         goto done;
     }
     cli_format format;
-    if (cli_parse_format(j.format, (1u << CLI_TABLE) | (1u << CLI_JSON), &format)) {
-        status = cli_usage_error("--format", "'%s' is not one of table, json", j.format);
+    if ((status = cli_parse_format(j.format, (1u << CLI_TABLE) | (1u << CLI_JSON), &format)))
         goto done;
-    }
     lt_like_spec spec;
     if ((status = cli_job_model(&j, "fit", &spec)))
         goto done;

@@ -160,8 +160,9 @@ int cli_inspect(int argc, char **argv)
     if (a.failed)
         return CLI_USAGE;
     cli_format format;
-    if (cli_parse_format(format_text, (1u << CLI_TABLE) | (1u << CLI_JSON), &format))
-        return cli_usage_error("--format", "'%s' is not one of table, json", format_text);
+    int status = cli_parse_format(format_text, (1u << CLI_TABLE) | (1u << CLI_JSON), &format);
+    if (status)
+        return status;
     lt_error err;
     lt_error_clear(&err);
     lt_survey *s = lt_survey_read(&spec, &err);
@@ -169,7 +170,7 @@ int cli_inspect(int argc, char **argv)
         return cli_report(&err);
     lt_survey_stats st;
     lt_cov_info ci;
-    int status = CLI_OK;
+    status = CLI_OK;
     if (lt_survey_stats_compute(s, NBINS, &st, &err) || lt_cov_inspect(s->cov, &ci, &err)) {
         status = cli_report(&err);
     } else {

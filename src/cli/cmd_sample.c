@@ -376,10 +376,8 @@ int cli_sample(int argc, char **argv)
         j.format = format_flag;
     j.quiet |= quiet, j.verbose |= verbose;
     cli_format format;
-    if (cli_parse_format(j.format, (1u << CLI_TABLE) | (1u << CLI_JSON), &format)) {
-        status = cli_usage_error("--format", "'%s' is not one of table, json", j.format);
+    if ((status = cli_parse_format(j.format, (1u << CLI_TABLE) | (1u << CLI_JSON), &format)))
         goto done;
-    }
     lt_like_spec spec;
     if ((status = cli_job_model(&j, "sample", &spec)))
         goto done;
