@@ -12,6 +12,7 @@
 #include <gsl/gsl_errno.h>
 
 #include "lantern/lantern.h"
+#include "../pantheon.h"
 
 static double now(void)
 {
@@ -23,17 +24,8 @@ static double now(void)
 int main(void)
 {
     gsl_set_error_handler_off();
-    const char *shared = getenv("LANTERN_SHARED");
-    char data[512], sys[512];
-    snprintf(data, sizeof data, "%s/data/pantheon2018/lcparam_DS17f.txt", shared ? shared : "../shared");
-    snprintf(sys, sizeof sys, "%s/data/pantheon2018/sys_DS17f.txt", shared ? shared : "../shared");
-    lt_survey_spec spec;
-    lt_survey_spec_init(&spec);
-    spec.data = data;
-    spec.columns = "z=zcmb,zhel=zhel,mag=mb,err=dmb";
-    spec.cov[spec.ncov++] = sys;
     lt_error err;
-    lt_survey *s = lt_survey_read(&spec, &err);
+    lt_survey *s = lt_test_pantheon_binned(&err);
     if (!s) {
         fprintf(stderr, "bench: %s\n", err.msg);
         return 1;

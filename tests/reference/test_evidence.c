@@ -24,6 +24,7 @@
 
 #include "lantern/lantern.h"
 #include "../testutil.h"
+#include "../pantheon.h"
 
 static char dir[256];
 
@@ -142,17 +143,8 @@ static void test_savage_dickey(void **state)
 static void test_pantheon_wcdm(void **state)
 {
     (void)state;
-    const char *shared = getenv("LANTERN_SHARED");
-    char data[512], sys[512];
-    snprintf(data, sizeof data, "%s/data/pantheon2018/lcparam_DS17f.txt", shared ? shared : "../shared");
-    snprintf(sys, sizeof sys, "%s/data/pantheon2018/sys_DS17f.txt", shared ? shared : "../shared");
-    lt_survey_spec spec;
-    lt_survey_spec_init(&spec);
-    spec.data = data;
-    spec.columns = "z=zcmb,zhel=zhel,mag=mb,err=dmb";
-    spec.cov[spec.ncov++] = sys;
     lt_error err;
-    lt_survey *s = lt_survey_read(&spec, &err);
+    lt_survey *s = lt_test_pantheon_binned(&err);
     assert_non_null(s);
     lt_like *l = like_for(s, "wcdm-flat");
     lt_nested_result r = nested(l, 1000, 5);

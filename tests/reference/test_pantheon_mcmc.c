@@ -20,6 +20,7 @@
 
 #include "lantern/lantern.h"
 #include "../testutil.h"
+#include "../pantheon.h"
 
 static lt_survey *survey;
 
@@ -27,17 +28,8 @@ static int setup(void **state)
 {
     (void)state;
     gsl_set_error_handler_off();
-    const char *shared = getenv("LANTERN_SHARED");
-    char data[512], sys[512];
-    snprintf(data, sizeof data, "%s/data/pantheon2018/lcparam_DS17f.txt", shared ? shared : "../shared");
-    snprintf(sys, sizeof sys, "%s/data/pantheon2018/sys_DS17f.txt", shared ? shared : "../shared");
-    lt_survey_spec spec;
-    lt_survey_spec_init(&spec);
-    spec.data = data;
-    spec.columns = "z=zcmb,zhel=zhel,mag=mb,err=dmb";
-    spec.cov[spec.ncov++] = sys;
     lt_error err;
-    survey = lt_survey_read(&spec, &err);
+    survey = lt_test_pantheon_binned(&err);
     return survey ? 0 : -1;
 }
 

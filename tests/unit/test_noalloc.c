@@ -18,6 +18,7 @@
 
 #include "lantern/lantern.h"
 #include "../testutil.h"
+#include "../pantheon.h"
 
 /* glibc's own allocator, under the names it exports for this purpose. */
 extern void *__libc_malloc(size_t);
@@ -134,17 +135,8 @@ static void test_no_allocation(void **state)
     lt_survey_free(dl);
 
     /* a dense covariance (Pantheon 2018 binned with systematics) */
-    const char *shared = getenv("LANTERN_SHARED");
-    char data[512], sys[512];
-    snprintf(data, sizeof data, "%s/data/pantheon2018/lcparam_DS17f.txt", shared ? shared : "../shared");
-    snprintf(sys, sizeof sys, "%s/data/pantheon2018/sys_DS17f.txt", shared ? shared : "../shared");
-    lt_survey_spec ss;
-    lt_survey_spec_init(&ss);
-    ss.data = data;
-    ss.columns = "z=zcmb,zhel=zhel,mag=mb,err=dmb";
-    ss.cov[ss.ncov++] = sys;
     lt_error err;
-    lt_survey *p = lt_survey_read(&ss, &err);
+    lt_survey *p = lt_test_pantheon_binned(&err);
     assert_non_null(p);
     lt_like_spec_init(&spec, lt_cosmo_model_find("lcdm"));
     assert_int_equal(count_allocations(p, &spec), 0);
