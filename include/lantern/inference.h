@@ -128,7 +128,8 @@ typedef struct lt_mcmc_diag {
     size_t draws_per_chain;
     double rhat_max, ess_min;     /* over all parameters; ESS is bulk and tail */
     double *rhat, *ess_bulk, *ess_tail, *tau; /* per parameter (dim) */
-    double *acceptance;                        /* per chain, after warm-up */
+    double *acceptance;       /* per chain, after warm-up: steps that moved */
+    double *acceptance_first; /* of those, moved by the first-stage proposal */
 } lt_mcmc_diag;
 
 typedef struct lt_mcmc lt_mcmc;

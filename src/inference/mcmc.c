@@ -1,13 +1,23 @@
 /*
  * Adaptive Metropolis (Haario, Saksman & Tamminen 2001, Bernoulli 7, 223)
- * with parallel chains.
+ * with delayed rejection (Tierney & Mira 1999, Stat. Med. 18, 2507; the
+ * pairing is DRAM, Haario, Laine, Mira & Saksman 2006, Stat. Comput. 16,
+ * 339), with parallel chains.
  *
  * Each chain starts from an over-dispersed point around the centre (three
  * standard deviations), proposes y = x + L z with z ~ N(0, I), and during
  * warm-up sets L L^T = s_d (C + eps I), C the covariance of its own warm-up
  * history (from a quarter of the warm-up on), s_d = 2.38^2 / d (Gelman,
  * Roberts & Gilks 1996). After warm-up the proposal is frozen, so the kept
- * draws come from a plain Metropolis chain. Chains share nothing while they
+ * draws come from a plain Metropolis chain.
+ *
+ * Delayed rejection: when a proposal is refused, a second one, DR_SHRINK
+ * times smaller, is tried from the same point, with the two-stage
+ * acceptance probability that keeps detailed balance. One global Gaussian
+ * proposal is too wide where the posterior narrows (the tail of the
+ * Omega_m-wa banana of the w0-wa models, where the wa width falls four-fold);
+ * the second stage takes the small steps there, at the cost of one more
+ * evaluation per refusal. Chains share nothing while they
  * run: each has its own stream from (seed, chain index), which is why the
  * draws are the same whatever the number of threads.
  */
@@ -24,17 +34,24 @@
 
 #define DIM_MAX 64 /* parameters at most: proposals use fixed-size scratch */
 
+/* Second-stage proposal scale, relative to the first. Our choice: a fifth
+ * of the width tries steps well inside the narrowest part of the posteriors
+ * we sample (wa narrows about four-fold in the w0-wa banana's tail). */
+#define DR_SHRINK 0.2
+
 typedef struct chain {
     lt_rng rng;
     double *x, *extra, logp;
     size_t steps;          /* steps taken, warm-up included */
     size_t acc_warm, acc;  /* accepted proposals in warm-up, after it */
+    size_t acc_first;      /* of acc, those accepted at the first stage */
     size_t nw;             /* warm-up points in the running covariance */
     double *wmean, *wm2;   /* their mean (dim) and sum of outer products (dim^2) */
     double *chol;          /* proposal Cholesky factor, lower, row-major */
     double *draws;         /* kept rows: params, logp, extras */
     size_t ndraws, cap;
-    double *y, *yextra, *z; /* scratch */
+    double *y, *yextra, *z;   /* scratch: first-stage proposal */
+    double *y2, *yextra2, *z2; /* second stage */
 } chain;
 
 struct lt_mcmc {
@@ -89,6 +106,9 @@ static void chain_free(chain *c)
     free(c->y);
     free(c->yextra);
     free(c->z);
+    free(c->y2);
+    free(c->yextra2);
+    free(c->z2);
 }
 
 static int chain_buffers(chain *c, size_t d, size_t ne)
@@ -101,7 +121,13 @@ static int chain_buffers(chain *c, size_t d, size_t ne)
     c->y = calloc(d + 1, sizeof *c->y);
     c->yextra = calloc(ne + 1, sizeof *c->yextra);
     c->z = calloc(d + 1, sizeof *c->z);
-    return c->x && c->extra && c->wmean && c->wm2 && c->chol && c->y && c->yextra && c->z ? 0 : -1;
+    c->y2 = calloc(d + 1, sizeof *c->y2);
+    c->yextra2 = calloc(ne + 1, sizeof *c->yextra2);
+    c->z2 = calloc(d + 1, sizeof *c->z2);
+    return c->x && c->extra && c->wmean && c->wm2 && c->chol && c->y && c->yextra && c->z &&
+                   c->y2 && c->yextra2 && c->z2
+               ? 0
+               : -1;
 }
 
 void lt_mcmc_free(lt_mcmc *m)
@@ -119,6 +145,7 @@ void lt_mcmc_free(lt_mcmc *m)
     free(m->diag.ess_tail);
     free(m->diag.tau);
     free(m->diag.acceptance);
+    free(m->diag.acceptance_first);
     free(m);
 }
 
@@ -149,8 +176,9 @@ static lt_mcmc *mcmc_shell(const lt_mcmc_opts *o, lt_logdensity f, void **ctx, l
     m->diag.ess_tail = calloc(d, sizeof(double));
     m->diag.tau = calloc(d, sizeof(double));
     m->diag.acceptance = calloc(o->nchains, sizeof(double));
+    m->diag.acceptance_first = calloc(o->nchains, sizeof(double));
     if (!m->center || !m->scale || !m->cov || !m->ch || !m->diag.rhat || !m->diag.ess_bulk ||
-        !m->diag.ess_tail || !m->diag.tau || !m->diag.acceptance)
+        !m->diag.ess_tail || !m->diag.tau || !m->diag.acceptance || !m->diag.acceptance_first)
         goto nomem;
     m->o.center = m->center, m->o.cov = m->cov, m->o.scale = m->scale;
     for (size_t c = 0; c < o->nchains; c++)
@@ -249,31 +277,79 @@ static void adapt(chain *c, size_t d)
         memcpy(c->chol, l, d * d * sizeof *l);
 }
 
-/* One Metropolis step of chain c. */
+/* y = x + scale L z, z ~ N(0, I) drawn from the chain's stream. */
+static void propose(chain *c, size_t d, double scale, double *z, double *y)
+{
+    for (size_t i = 0; i < d; i++)
+        z[i] = lt_rng_normal(&c->rng);
+    for (size_t i = 0; i < d; i++) {
+        double s = 0.0;
+        for (size_t j = 0; j <= i; j++)
+            s += c->chol[i * d + j] * z[j];
+        y[i] = c->x[i] + scale * s;
+    }
+}
+
+/* log(1 - e^a) for a < 0. */
+static double log1mexp(double a) { return a > -0.693 ? log(-expm1(a)) : log1p(-exp(a)); }
+
+/*
+ * The second-stage acceptance, in logs (Tierney & Mira 1999, eq. 5, for
+ * symmetric Gaussian stages): from x (lp0) the first proposal y1 = x + L z1
+ * (lp1) was refused; y2 = x + s L z2 (lp2) is accepted with probability
+ *   min(1, pi(y2) q1(y2 -> y1) [1 - a1(y2, y1)] / (pi(x) q1(x -> y1) [1 - a1(x, y1)])),
+ * a1(u, v) = min(1, pi(v) / pi(u)), q1(u -> v) = N(L^-1 (v - u)); the
+ * second-stage densities are equal both ways and cancel. L^-1 (y1 - y2) =
+ * z1 - s z2, so no triangular solve is needed.
+ */
+static double dr_log_alpha(double lp0, double lp1, double lp2, const double *z1,
+                           const double *z2, size_t d)
+{
+    if (!isfinite(lp2))
+        return -INFINITY;
+    double q = 0.0;
+    for (size_t i = 0; i < d; i++) {
+        double u = z1[i] - DR_SHRINK * z2[i];
+        q += 0.5 * (z1[i] * z1[i] - u * u);
+    }
+    if (!isfinite(lp1)) /* y1 outside the prior: both refusal factors are 1 */
+        return lp2 - lp0 + q;
+    if (lp1 >= lp2) /* from y2, y1 would always be accepted */
+        return -INFINITY;
+    return lp2 - lp0 + q + log1mexp(lp1 - lp2) - log1mexp(lp1 - lp0);
+}
+
+static void accept(chain *c, size_t d, size_t ne, const double *y, const double *ye, double lp,
+                   int warm)
+{
+    memcpy(c->x, y, d * sizeof *c->x);
+    if (ne)
+        memcpy(c->extra, ye, ne * sizeof *c->extra);
+    c->logp = lp;
+    if (warm)
+        c->acc_warm++;
+    else
+        c->acc++;
+}
+
+/* One delayed-rejection Metropolis step of chain c. */
 static void step(lt_mcmc *m, size_t ci)
 {
     chain *c = &m->ch[ci];
     size_t d = m->o.dim, ne = m->o.nextra;
-    for (size_t i = 0; i < d; i++)
-        c->z[i] = lt_rng_normal(&c->rng);
-    for (size_t i = 0; i < d; i++) {
-        double s = c->x[i];
-        for (size_t j = 0; j <= i; j++)
-            s += c->chol[i * d + j] * c->z[j];
-        c->y[i] = s;
-    }
+    int warm = c->steps < m->o.warmup;
+    propose(c, d, 1.0, c->z, c->y);
     double lp = m->f(c->y, m->ctx[ci], c->yextra);
     double u = lt_rng_uniform(&c->rng);
-    int warm = c->steps < m->o.warmup;
     if (isfinite(lp) && log(u) < lp - c->logp) {
-        memcpy(c->x, c->y, d * sizeof *c->x);
-        if (ne)
-            memcpy(c->extra, c->yextra, ne * sizeof *c->extra);
-        c->logp = lp;
-        if (warm)
-            c->acc_warm++;
-        else
-            c->acc++;
+        accept(c, d, ne, c->y, c->yextra, lp, warm);
+        c->acc_first += !warm;
+    } else {
+        propose(c, d, DR_SHRINK, c->z2, c->y2);
+        double lp2 = m->f(c->y2, m->ctx[ci], c->yextra2);
+        double u2 = lt_rng_uniform(&c->rng);
+        if (log(u2) < dr_log_alpha(c->logp, lp, lp2, c->z, c->z2, d))
+            accept(c, d, ne, c->y2, c->yextra2, lp2, warm);
     }
     c->steps++;
     if (warm) {
@@ -314,7 +390,9 @@ static int reserve(chain *c, size_t rows, size_t row)
     return 0;
 }
 
-/* Diagnostics over the kept draws of every chain. */
+/* Diagnostics over the kept draws of every chain. Parameters are
+ * independent, so they are spread over the threads; each result lands in
+ * its own slot, so the outcome does not depend on the thread count. */
 static int check(lt_mcmc *m)
 {
     size_t d = m->o.dim, nc = m->o.nchains, row = lt_mcmc_row_size(m);
@@ -322,14 +400,15 @@ static int check(lt_mcmc *m)
     for (size_t c = 1; c < nc; c++)
         if (m->ch[c].ndraws < n)
             n = m->ch[c].ndraws;
-    double *x = malloc(nc * n * sizeof *x);
-    if (!x)
-        return -1;
-    m->diag.draws_per_chain = n;
-    m->diag.rhat_max = 0.0;
-    m->diag.ess_min = INFINITY;
-    int ok = 1;
+    int threads = m->o.threads > 0 ? m->o.threads : omp_get_max_threads();
+    int nomem = 0;
+#pragma omp parallel for schedule(dynamic, 1) num_threads(threads) reduction(| : nomem)
     for (size_t p = 0; p < d; p++) {
+        double *x = malloc((n ? nc * n : 1) * sizeof *x);
+        if (!x) {
+            nomem = 1;
+            continue;
+        }
         for (size_t c = 0; c < nc; c++)
             for (size_t i = 0; i < n; i++)
                 x[c * n + i] = m->ch[c].draws[i * row + p];
@@ -339,6 +418,16 @@ static int check(lt_mcmc *m)
             tau += lt_diag_tau(x + c * n, n) / (double)nc;
         m->diag.rhat[p] = r, m->diag.ess_bulk[p] = eb, m->diag.ess_tail[p] = et;
         m->diag.tau[p] = tau;
+        free(x);
+    }
+    if (nomem)
+        return -1;
+    m->diag.draws_per_chain = n;
+    m->diag.rhat_max = 0.0;
+    m->diag.ess_min = INFINITY;
+    int ok = 1;
+    for (size_t p = 0; p < d; p++) {
+        double r = m->diag.rhat[p], eb = m->diag.ess_bulk[p], et = m->diag.ess_tail[p];
         if (!isfinite(r) || !isfinite(eb) || !isfinite(et)) {
             ok = 0;
             m->diag.rhat_max = NAN;
@@ -353,10 +442,35 @@ static int check(lt_mcmc *m)
     for (size_t c = 0; c < nc; c++) {
         size_t kept = m->ch[c].steps > m->o.warmup ? m->ch[c].steps - m->o.warmup : 0;
         m->diag.acceptance[c] = kept ? (double)m->ch[c].acc / (double)kept : NAN;
+        m->diag.acceptance_first[c] = kept ? (double)m->ch[c].acc_first / (double)kept : NAN;
     }
-    free(x);
     m->converged = ok;
     return 0;
+}
+
+/*
+ * Where to check next. A check costs sorts and FFTs of all draws, as much
+ * as taking a few steps per draw with a fast likelihood, so checks must be
+ * few: every check_every steps at first, every 10% of the run once that is
+ * longer, and, when the smallest ESS grows linearly towards the target,
+ * straight to where it should be reached (5% beyond, at most twice the
+ * draws so far), skipping checks that could only fail.
+ */
+static size_t next_check(const lt_mcmc *m)
+{
+    size_t n = m->next_check, every = m->o.check_every;
+    size_t step = every;
+    if (n / 10 > step)
+        step = n / 10 / every * every;
+    double e = m->diag.ess_min;
+    if (isfinite(e) && e > 0.0 && n >= 10 * every && e < m->o.target_ess) {
+        double want = 1.05 * (double)n * m->o.target_ess / e - (double)n;
+        if (want > (double)n)
+            want = (double)n;
+        if (want > (double)step)
+            step = (size_t)want / every * every;
+    }
+    return n + step;
 }
 
 int lt_mcmc_run(lt_mcmc *m, volatile sig_atomic_t *stop, lt_mcmc_progress progress,
@@ -390,13 +504,7 @@ int lt_mcmc_run(lt_mcmc *m, volatile sig_atomic_t *stop, lt_mcmc_progress progre
             progress(m, progress_ctx);
         if (m->converged || m->next_check >= m->o.max_steps)
             return LT_OK;
-        /* Checks cost a sort of all draws: once the run is long, check
-         * every 10% of its length instead, so that checking stays a small
-         * share of the work. */
-        size_t step_size = m->o.check_every;
-        if (m->next_check / 10 > step_size)
-            step_size = m->next_check / 10 / m->o.check_every * m->o.check_every;
-        m->next_check += step_size;
+        m->next_check = next_check(m);
         if (m->next_check > m->o.max_steps)
             m->next_check = m->o.max_steps;
     }
@@ -430,7 +538,7 @@ static int get(sink *s, void *p, size_t n)
     return 0;
 }
 
-static const char MAGIC[16] = "lantern-mcmc-v1";
+static const char MAGIC[16] = "lantern-mcmc-v2"; /* v2: delayed rejection */
 
 #define PUT(x) put(&s, &(x), sizeof(x))
 #define PUTA(p, n) put(&s, (p), (n) * sizeof *(p))
@@ -454,7 +562,7 @@ int lt_mcmc_save(const lt_mcmc *m, const char *path, uint64_t fingerprint, lt_er
     for (size_t c = 0; c < m->o.nchains; c++) {
         const chain *ch = &m->ch[c];
         PUT(ch->rng), PUTA(ch->x, d), PUTA(ch->extra, ne), PUT(ch->logp), PUT(ch->steps);
-        PUT(ch->acc_warm), PUT(ch->acc), PUT(ch->nw), PUTA(ch->wmean, d), PUTA(ch->wm2, d * d);
+        PUT(ch->acc_warm), PUT(ch->acc), PUT(ch->acc_first), PUT(ch->nw), PUTA(ch->wmean, d), PUTA(ch->wm2, d * d);
         PUTA(ch->chol, d * d), PUT(ch->ndraws), PUTA(ch->draws, ch->ndraws * (d + 1 + ne));
     }
     uint64_t h = s.h;
@@ -512,7 +620,7 @@ lt_mcmc *lt_mcmc_load(const char *path, uint64_t fingerprint, lt_logdensity f, v
         chain *ch = &m->ch[c];
         size_t nd;
         if (GET(ch->rng) || GETA(ch->x, d) || GETA(ch->extra, ne) || GET(ch->logp) ||
-            GET(ch->steps) || GET(ch->acc_warm) || GET(ch->acc) || GET(ch->nw) ||
+            GET(ch->steps) || GET(ch->acc_warm) || GET(ch->acc) || GET(ch->acc_first) || GET(ch->nw) ||
             GETA(ch->wmean, d) || GETA(ch->wm2, d * d) || GETA(ch->chol, d * d) || GET(nd))
             goto damaged;
         if (nd > o.max_steps || reserve(ch, nd > m->next_check ? nd : m->next_check, d + 1 + ne))

@@ -241,6 +241,9 @@ cJSON *lt_report_sample_json(const lt_like *l, const lt_sample_result *r,
     cJSON *acc = cJSON_AddArrayToObject(cv, "acceptance");
     for (size_t c = 0; c < r->nchains; c++)
         cJSON_AddItemToArray(acc, num(dg->acceptance[c]));
+    cJSON *acc1 = cJSON_AddArrayToObject(cv, "acceptance_first");
+    for (size_t c = 0; c < r->nchains; c++)
+        cJSON_AddItemToArray(acc1, num(dg->acceptance_first[c]));
     cJSON *pp = cJSON_AddObjectToObject(cv, "params");
     for (size_t i = 0; i < d; i++) {
         cJSON *p = cJSON_AddObjectToObject(pp, r->cols[r->first_param + i]);
