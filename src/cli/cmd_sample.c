@@ -179,6 +179,15 @@ static int finish(const cli_job *j, lt_like *l, lt_mcmc *m, cli_format format, c
         fputs("lantern: warning: the chains did not converge within --max-steps; the results "
               "are written and marked \"converged\": false\n",
               stderr);
+        /* ESS grows about linearly with the draws once the chains mix: say
+         * what cap should reach the target at the rate seen so far. */
+        double e = r.diag ? r.diag->ess_min : NAN;
+        if (isfinite(e) && e > 0.0 && e < j->target_ess)
+            fprintf(stderr,
+                    "lantern: the smallest ESS is %.0f after %zu draws per chain; at that rate "
+                    "--max-steps %.0f should reach %g\n",
+                    e, r.ndraws, ceil(1.1 * (double)r.ndraws * j->target_ess / e / 1000.0) * 1000.0,
+                    j->target_ess);
         status = CLI_UNCONVERGED;
     }
     cJSON_Delete(json);

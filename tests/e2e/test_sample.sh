@@ -87,6 +87,17 @@ if [ "$STATUS" -eq 3 ] && grep -q '"converged":[[:space:]]*false' "$E2E_TMP/cap/
 else
     fail "the step cap: status 3 and \"converged\": false"
 fi
+# ... and the cap it suggests is the one the ESS rate in summary.json gives
+# (linear growth of ESS with draws: the usual extrapolation, no source).
+want=$(/usr/bin/python3 -c '
+import json, math, sys
+c = json.load(open(sys.argv[1]))["convergence"]
+print(math.ceil(1.1 * c["draws_per_chain"] * 1000 / c["ess_min"] / 1000) * 1000)' "$E2E_TMP/cap/summary.json")
+if grep -q -- "--max-steps $want should reach 1000" "$ERR"; then
+    pass "the step cap: the suggested --max-steps ($want) follows from the ESS rate"
+else
+    fail "the step cap: the suggested --max-steps ($want) follows from the ESS rate: $(cat "$ERR")"
+fi
 
 # Refusals.
 run "$LANTERN" sample --resume "$E2E_TMP/nowhere"
