@@ -29,12 +29,20 @@ def bench(data, extra, exact, evals):
 
 
 def mcmc(data, extra, model):
+    """Wall time to convergence. The cap is raised to 10^6 steps per chain:
+    the w0-wa posterior of the large structured surveys is a curved banana
+    that needs several hundred thousand steps; an unconverged run is marked."""
     t0 = time.perf_counter()
-    out = subprocess.run([LANTERN, "sample"] + data + extra + ["--model", model, "--format", "json", "--quiet"],
+    out = subprocess.run([LANTERN, "sample"] + data + extra + ["--model", model, "--format", "json", "--quiet",
+                                                              "--max-steps", "1000000"],
                          capture_output=True, text=True)
     wall = time.perf_counter() - t0
     j = json.loads(out.stdout)
     return wall, j["convergence"]["ess_min"], j["converged"]
+
+
+def mc(m):
+    return f"{m[0]:.2f}" + ("" if m[2] else "*")
 
 
 def numpy_rate(table, cols, cov, evals):
@@ -91,7 +99,7 @@ def main():
             co = bench(data, extra, False, 200000)
             npr = numpy_rate(*np_case) if np_case else float("nan")
             m1 = mcmc(data, extra, "lcdm-flat")
-            m2 = mcmc(data, extra, "w0wa-flat") if "modes" not in label else (float("nan"), 0, False)
+            m2 = mcmc(data, extra, "w0wa-flat")
             rows.append((label, ex, co, npr, m1, m2))
     print("likelihood evaluations per second (one thread), set-up, memory; MCMC wall time to convergence (2 cores)")
     print(f"{'N':>16} {'exact/s':>10} {'compr./s':>10} {'numpy/s':>9} {'compr./numpy':>12} {'set-up s':>9}"
@@ -99,7 +107,9 @@ def main():
     for label, ex, co, npr, m1, m2 in rows:
         ratio = co["evals_per_s"] / npr if npr == npr else float("nan")
         print(f"{label:>16} {ex['evals_per_s']:10.4g} {co['evals_per_s']:10.4g} {npr:9.4g} {ratio:12.4g}"
-              f" {co['setup_s']:9.3f} {co['peak_rss_mb']:7.0f} {co['max_abs_dchi2']:9.1e} {m1[0]:11.2f} {m2[0]:11.2f}")
+              f" {co['setup_s']:9.3f} {co['peak_rss_mb']:7.0f} {co['max_abs_dchi2']:9.1e} {mc(m1):>11} {mc(m2):>11}")
+    print("MCMC: 4 chains, R-hat - 1 < 0.01 and bulk and tail ESS >= 1000; wall time includes reading the data"
+          " and the set-up; * marks a run that reached 10^6 steps per chain unconverged")
     return 0
 
 

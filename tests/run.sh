@@ -6,8 +6,13 @@
 #   tests/reference/*.py          comparisons with astropy (/usr/bin/python3)
 # A program that exits non-zero without reporting a failed case counts as one
 # failure, so a crash is never a pass.
+# LANTERN_BUILD (default build) names the build tree whose test programs run,
+# LANTERN_BIN (default bin/lantern) the binary the end-to-end tests call:
+# make asan points both at the sanitizer build.
 set -u
 cd "$(dirname "$0")/.."
+BUILD_DIR=${LANTERN_BUILD:-build}
+export LANTERN_BIN=${LANTERN_BIN:-$PWD/bin/lantern}
 export CMOCKA_MESSAGE_OUTPUT=stdout
 pass=0
 fail=0
@@ -24,7 +29,7 @@ tally() { # name, exit status, passes, failures
     fi
 }
 
-for t in build/tests/unit/test_* build/tests/reference/test_*; do
+for t in "$BUILD_DIR"/tests/unit/test_* "$BUILD_DIR"/tests/reference/test_*; do
     [ -x "$t" ] || continue
     echo "== $t"
     "$t" 2>&1 | tee "$log"

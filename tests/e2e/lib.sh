@@ -1,8 +1,9 @@
 # Helpers for the end-to-end tests: each check prints "ok - NAME" or
 # "not ok - NAME" (with what was seen), and tests/run.sh counts them.
-# Source from a test script; LANTERN is the binary under test.
+# Source from a test script; LANTERN is the binary under test ($LANTERN_BIN
+# when set, as make asan and make valgrind do).
 ROOT=$(cd "$(dirname "${BASH_SOURCE[0]}")/../.." && pwd)
-LANTERN="$ROOT/bin/lantern"
+LANTERN="${LANTERN_BIN:-$ROOT/bin/lantern}"
 E2E_TMP=$(mktemp -d)
 trap 'rm -rf "$E2E_TMP"' EXIT
 OUT="$E2E_TMP/out"

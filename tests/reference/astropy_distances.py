@@ -22,7 +22,7 @@ import numpy as np
 from astropy import cosmology as ac
 
 ROOT = os.path.dirname(os.path.dirname(os.path.dirname(os.path.abspath(__file__))))
-LANTERN = os.path.join(ROOT, "bin", "lantern")
+LANTERN = os.environ.get("LANTERN_BIN", os.path.join(ROOT, "bin", "lantern"))
 TCMB = 2.7255
 NEFF = 3.046
 DRAWS = 6

@@ -23,7 +23,7 @@ import numpy as np
 from astropy.io import fits
 
 ROOT = os.path.dirname(os.path.dirname(os.path.dirname(os.path.abspath(__file__))))
-LANTERN = os.path.join(ROOT, "bin", "lantern")
+LANTERN = os.environ.get("LANTERN_BIN", os.path.join(ROOT, "bin", "lantern"))
 SHARED = os.environ.get("LANTERN_SHARED", os.path.join(ROOT, "..", "shared"))
 failures = 0
 
