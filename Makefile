@@ -4,6 +4,10 @@
 #   make demo       install missing packages, build, run the demo
 #   make test       install missing packages, build, run every test
 #   make bench      benchmarks
+#   make asan       every test again, built with AddressSanitizer and UBSan
+#   make valgrind   the end-to-end tests under valgrind
+#   make fuzz       each libFuzzer target for FUZZ_SECONDS (default 30)
+#   make test-long  make test, then the longer checks (fuzzing 30 s a target)
 #   make install PREFIX=/usr/local
 #   make clean
 
@@ -26,7 +30,8 @@ CFLAGS ?= -O2 -g
 ALL_CFLAGS := -std=c17 -D_DEFAULT_SOURCE -fopenmp $(WARN) $(CFLAGS) -Iinclude $(PKG_CFLAGS)
 LDLIBS := $(PKG_LIBS) -lm
 
-BUILD := build
+BUILD ?= build
+BINDIR ?= bin
 LIB_SRC := $(wildcard src/util/*.c src/cosmology/*.c src/survey/*.c src/simulate/*.c src/likelihood/*.c src/inference/*.c src/report/*.c)
 CLI_SRC := $(wildcard src/cli/*.c)
 LIB_OBJ := $(LIB_SRC:%.c=$(BUILD)/%.o)
@@ -39,9 +44,9 @@ BENCH_SRC := $(wildcard tests/bench/bench_*.c)
 BENCH_BIN := $(BENCH_SRC:tests/%.c=$(BUILD)/tests/%)
 
 LIB := $(BUILD)/liblantern.a
-BIN := bin/lantern
+BIN := $(BINDIR)/lantern
 
-.PHONY: all deps check-pkgs demo test check bench install clean
+.PHONY: all deps check-pkgs demo test check bench install clean asan valgrind fuzz test-long tests-built
 all: $(LIB) $(BIN)
 
 # Refuse to build with missing libraries, with a message that says what to do.
@@ -64,7 +69,7 @@ $(LIB): $(LIB_OBJ)
 	$(Q)ar rcs $@ $^
 
 $(BIN): $(CLI_OBJ) $(LIB)
-	@mkdir -p bin
+	@mkdir -p $(BINDIR)
 	@$(if $(Q),echo "  LINK    $@")
 	$(Q)$(CC) $(ALL_CFLAGS) $(CLI_OBJ) $(LIB) $(LDLIBS) -o $@
 
@@ -88,8 +93,52 @@ demo-run: all
 test: deps
 	@$(MAKE) --no-print-directory check
 
-check: all $(TEST_BIN)
+tests-built: all $(TEST_BIN)
+
+check: tests-built
 	@bash tests/run.sh
+
+# The sanitizer build lives in build/asan (objects, test programs, bin/),
+# so it never mixes with the normal one. Every finding stops the program
+# (no recovery), so a finding is a failed test. tests/sanitizers/ holds the
+# suppressions for third-party libraries, each with its reason.
+SAN_CFLAGS := -O1 -g -fno-omit-frame-pointer -fsanitize=address,undefined -fno-sanitize-recover=all
+SAN_ENV := LANTERN_BUILD=build/asan LANTERN_BIN=$(CURDIR)/build/asan/bin/lantern LANTERN_SANITIZE=1 \
+	ASAN_OPTIONS=detect_leaks=1:abort_on_error=0:strict_string_checks=1 \
+	LSAN_OPTIONS=suppressions=$(CURDIR)/tests/sanitizers/lsan.supp:print_suppressions=0 \
+	UBSAN_OPTIONS=print_stacktrace=1:halt_on_error=1
+asan: deps
+	@$(MAKE) --no-print-directory BUILD=build/asan BINDIR=build/asan/bin CFLAGS="$(SAN_CFLAGS)" tests-built
+	@$(SAN_ENV) bash tests/run.sh
+
+# The end-to-end tests with every lantern call under valgrind (memcheck):
+# an error or a definite leak in our code makes the call exit 99.
+valgrind: all
+	@LANTERN_BIN=$(CURDIR)/tests/sanitizers/valgrind-lantern bash tests/run.sh e2e
+
+# libFuzzer targets (clang), one per reader and parser: tests/fuzz/. The
+# library is compiled once with clang and the sanitizers (build/fuzz/obj),
+# each target links it with -fsanitize=fuzzer.
+FUZZ_SECONDS ?= 30
+FUZZ_SRC := $(wildcard tests/fuzz/fuzz_*.c)
+FUZZ_BIN := $(FUZZ_SRC:tests/fuzz/%.c=build/fuzz/%)
+FUZZ_OBJ := $(LIB_SRC:%.c=build/fuzz/obj/%.o)
+FUZZ_CFLAGS := -std=c17 -D_DEFAULT_SOURCE -fopenmp -O1 -g -fno-omit-frame-pointer \
+	-fsanitize=address,undefined -fno-sanitize-recover=all -Iinclude -Isrc $(PKG_CFLAGS)
+.SECONDARY: $(FUZZ_OBJ)
+build/fuzz/obj/%.o: %.c $(HEADERS) | check-pkgs
+	@mkdir -p $(dir $@)
+	@$(if $(Q),echo "  CLANG   $<")
+	$(Q)clang $(FUZZ_CFLAGS) -fsanitize=fuzzer-no-link -c $< -o $@
+build/fuzz/%: tests/fuzz/%.c tests/fuzz/fuzz.h $(FUZZ_OBJ)
+	@$(if $(Q),echo "  FUZZ    $@")
+	$(Q)clang $(FUZZ_CFLAGS) -fsanitize=fuzzer $< $(FUZZ_OBJ) $(LDLIBS) -o $@
+fuzz: deps
+	@$(MAKE) --no-print-directory $(FUZZ_BIN)
+	@FUZZ_SECONDS=$(FUZZ_SECONDS) bash tests/fuzz/run.sh $(FUZZ_BIN)
+
+test-long: test
+	@$(MAKE) --no-print-directory fuzz FUZZ_SECONDS=30
 
 bench: all $(BENCH_BIN)
 	@bash scripts/bench.sh

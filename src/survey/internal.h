@@ -5,6 +5,8 @@
 #ifndef LANTERN_SURVEY_INTERNAL_H
 #define LANTERN_SURVEY_INTERNAL_H
 
+#include <fitsio.h>
+
 #include "lantern/survey.h"
 
 /* Limits that turn absurd input into a clear error instead of a crash. */
@@ -20,6 +22,11 @@ typedef struct lt_lines {
 
 /* Start at buf, skipping a UTF-8 byte-order mark. */
 void lt_lines_start(lt_lines *it, char *buf);
+
+void lt_fits_close_failed(fitsfile *f);
+
+/* Scan a FITS file's headers (fitscheck.c) before CFITSIO reads them. */
+int lt_fits_check(const char *path, lt_error *err);
 /* The next line, NUL-terminated and without its "\n" or "\r\n", or NULL at
  * the end; *len gets its length. */
 char *lt_lines_next(lt_lines *it, size_t *len);

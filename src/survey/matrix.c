@@ -65,10 +65,13 @@ static int matrix_read_fits(const char *path, double **out, size_t *nout, lt_err
     int status = 0, naxis = 0, rc = LT_OK;
     long dims[3] = {0, 0, 0};
     double *m = NULL;
+    if (lt_fits_check(path, err))
+        return LT_EINPUT;
     if (fits_open_image(&f, path, READONLY, &status)) {
         char text[FLEN_STATUS];
         fits_get_errstatus(status, text);
         fits_clear_errmsg();
+        lt_fits_close_failed(f);
         return lt_error_set(err, LT_EINPUT, path, 0, "cannot open a FITS image: %s", text);
     }
     fits_get_img_dim(f, &naxis, &status);
@@ -195,7 +198,7 @@ int lt_matrix_read(const char *path, double **out, size_t *nout, lt_error *err)
     size_t n;
     if (form_a && !(rows == 1 && n_header == 1 && total == 1)) {
         n = (size_t)n_header;
-        if (n > DENSE_BYTES_MAX / 8 / n) {
+        if (n && n > DENSE_BYTES_MAX / 8 / n) { /* n = 0 divided by zero (fuzzing) */
             rc = too_big(path, first_line, n, err);
             goto done;
         }
@@ -210,7 +213,7 @@ int lt_matrix_read(const char *path, double **out, size_t *nout, lt_error *err)
     } else {
         /* Form B: N rows of N values. */
         n = rows;
-        if (n > DENSE_BYTES_MAX / 8 / n) {
+        if (n && n > DENSE_BYTES_MAX / 8 / n) { /* n = 0 divided by zero (fuzzing) */
             rc = too_big(path, first_line, n, err);
             goto done;
         }

@@ -59,5 +59,21 @@ bad "no --columns"            "--columns"                  "no column mapping"  
 bad "no --data"               "--data"                     "no data table"                --columns $MU
 bad "bad --zmin"              "--zmin"                     "not a redshift"               --data "$B/two_rows.txt" --columns $MU --zmin abc
 
+# FITS headers are checked before CFITSIO reads them (src/survey/fitscheck.c):
+# an unquoted TTYPE value filling its card made CFITSIO 4.2 abort the
+# process (found by fuzzing), a header cut short, a byte outside printable
+# ASCII (FITS Standard 4.0, sect. 4.1.1).
+FCOL="z=z,mag=mag,err=err"
+bad "FITS: unquoted TTYPE"    "$B/fits_unquoted_ttype.fits" "TTYPE5.*must hold a quoted string" --data "$B/fits_unquoted_ttype.fits" --columns $FCOL
+head -c 4000 "$ROOT/data/lamplighter/survey.fits" >"$E2E_TMP/cut.fits"
+bad "FITS: truncated header"  "$E2E_TMP/cut.fits"          "HDU 2's header is truncated"   --data "$E2E_TMP/cut.fits" --columns $FCOL
+/usr/bin/python3 -c '
+import sys
+b = bytearray(open(sys.argv[1], "rb").read())
+b[2880 + 80 * 3 + 40] = 0x07
+open(sys.argv[2], "wb").write(b)' "$ROOT/data/lamplighter/survey.fits" "$E2E_TMP/bell.fits"
+bad "FITS: control byte in a header" "$E2E_TMP/bell.fits"  "HDU 2, header card 4 holds a byte 0x07" --data "$E2E_TMP/bell.fits" --columns $FCOL
+bad "FITS image: unquoted TTYPE" "$B/fits_unquoted_ttype.fits" "must hold a quoted string" --data "$B/two_rows.txt" --columns $MU --cov "$B/fits_unquoted_ttype.fits"
+
 # Nothing was written anywhere by a refused input: the corpus folder is unchanged.
-if [ "$(ls "$B" | wc -l)" -eq 30 ]; then pass "refused inputs write nothing"; else fail "refused inputs write nothing"; fi
+if [ "$(ls "$B" | wc -l)" -eq 31 ]; then pass "refused inputs write nothing"; else fail "refused inputs write nothing"; fi

@@ -98,7 +98,7 @@ static void check_model(const lt_survey *s, const char *model, int posterior, do
         for (size_t i = 0; i < d; i++)
             scale[i] = lt_like_prior(lc, i)->b - lt_like_prior(lc, i)->a;
         lt_mcmc_opts o = {d, 1, 4, 5, fr.best, fr.laplace_ok ? fr.cov : NULL, scale,
-                          d * 1000 > 2000 ? d * 1000 : 2000, 1000, 30000, 1000, 0.01, 0};
+                          d * 1000 > 2000 ? d * 1000 : 2000, 1000, 30000, 1000, 0.01, 0, 0};
         lt_mcmc *m = lt_mcmc_alloc(&o, lt_like_logdensity, cp, &err);
         assert_int_equal(lt_mcmc_run(m, NULL, NULL, NULL, &err), LT_OK);
         size_t row = lt_mcmc_row_size(m);
