@@ -121,6 +121,8 @@ typedef struct lt_mcmc_opts {
     double target_ess;      /* every quantity needs ESS (bulk and tail) >= this */
     double rhat_tol;        /* and R-hat - 1 < this */
     int threads;            /* OpenMP threads (0: the default) */
+    double memory_limit;    /* bytes the draws may take (0: 80% of the machine's memory);
+                             * a run that would need more stops with LT_ENOMEM */
 } lt_mcmc_opts;
 
 /* What a convergence check found. */

@@ -255,7 +255,7 @@ int cli_sample_model(cli_job *j, lt_like *l, const lt_like_spec *spec, const cha
         }
         lt_mcmc_opts mo = {d, 1, (size_t)j->chains, j->seed, fr.best, fr.laplace_ok ? fr.cov : NULL,
                            scale, (size_t)j->warmup, (size_t)j->check_every, (size_t)j->max_steps,
-                           j->target_ess, 0.01, (int)j->threads};
+                           j->target_ess, 0.01, (int)j->threads, 0};
         if (!(m = lt_mcmc_alloc(&mo, lt_like_logdensity, ctxp, &err))) {
             status = cli_report(&err);
             goto done;

@@ -26,6 +26,7 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <unistd.h>
 
 #include <omp.h>
 
@@ -482,6 +483,19 @@ int lt_mcmc_run(lt_mcmc *m, volatile sig_atomic_t *stop, lt_mcmc_progress progre
         return LT_OK;
     for (;;) {
         size_t target = m->o.warmup + m->next_check;
+        /* Refuse before the machine runs out: with overcommit, malloc
+         * rarely fails, and a process past physical memory is killed
+         * without a word. */
+        double need = (double)nc * (double)m->next_check * (double)row * sizeof(double);
+        double have = m->o.memory_limit > 0
+                          ? m->o.memory_limit
+                          : 0.8 * (double)sysconf(_SC_PHYS_PAGES) * (double)sysconf(_SC_PAGESIZE);
+        if (have > 0 && need > have)
+            return lt_error_set(err, LT_ENOMEM, NULL, 0,
+                                "the draws would need %.2f GB (%zu chains x %zu steps), more than "
+                                "the %.2f GB allowed (80%% of this machine's memory): lower "
+                                "--max-steps or --chains",
+                                need / 1e9, nc, m->next_check, have / 1e9);
         for (size_t c = 0; c < nc; c++)
             if (reserve(&m->ch[c], m->next_check, row))
                 return lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory for the draws");

@@ -53,7 +53,7 @@ int main(void)
         for (size_t i = 0; i < d; i++)
             scale[i] = lt_like_prior(l, i)->b - lt_like_prior(l, i)->a;
         lt_mcmc_opts o = {d, 1, 4, 1, fr.best, fr.laplace_ok ? fr.cov : NULL, scale,
-                          d * 1000 > 2000 ? d * 1000 : 2000, 1000, 200000, 1000, 0.01, 0};
+                          d * 1000 > 2000 ? d * 1000 : 2000, 1000, 200000, 1000, 0.01, 0, 0};
         lt_mcmc *m = lt_mcmc_alloc(&o, lt_like_logdensity, cp, &err);
         lt_mcmc_run(m, NULL, NULL, NULL, &err);
         double t2 = now();

@@ -117,7 +117,7 @@ static void test_savage_dickey(void **state)
     for (int k = 0; k < 8; k++)
         c[k] = (lt_like_chain){l1, lt_like_work_alloc(l1)}, cp[k] = &c[k];
     double scale[2] = {1, 2};
-    lt_mcmc_opts o = {2, 1, 8, 99, fr.best, fr.cov, scale, 2000, 1000, 400000, 8000, 0.01, 0};
+    lt_mcmc_opts o = {2, 1, 8, 99, fr.best, fr.cov, scale, 2000, 1000, 400000, 8000, 0.01, 0, 0};
     lt_mcmc *m = lt_mcmc_alloc(&o, lt_like_logdensity, cp, &err);
     assert_non_null(m);
     assert_int_equal(lt_mcmc_run(m, NULL, NULL, NULL, &err), LT_OK);

@@ -56,7 +56,7 @@ static void sample(const lt_like *l, double target_ess, double *mean, double *sd
     for (size_t i = 0; i < d; i++)
         scale[i] = lt_like_prior(l, i)->b - lt_like_prior(l, i)->a;
     lt_mcmc_opts o = {d, 1, 4, 2026, fr.best, fr.cov, scale, 1000, 1000, 2000000, target_ess,
-                      0.01, 0};
+                      0.01, 0, 0};
     lt_mcmc *m = lt_mcmc_alloc(&o, lt_like_logdensity, cp, &err);
     assert_non_null(m);
     assert_int_equal(lt_mcmc_run(m, NULL, NULL, NULL, &err), LT_OK);

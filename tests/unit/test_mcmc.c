@@ -176,7 +176,7 @@ static lt_mcmc *sample(target *t, void **ctx, size_t nchains, const double *cent
                        const double *scale, int threads, double target_ess)
 {
     lt_mcmc_opts o = {t->d, 1, nchains, 12345, center, NULL, scale, 2000, 1000, 400000,
-                      target_ess, 0.01, threads};
+                      target_ess, 0.01, threads, 0};
     lt_error err;
     lt_mcmc *m = lt_mcmc_alloc(&o, gauss_logp, ctx, &err);
     assert_non_null(m);
@@ -285,7 +285,7 @@ static void test_delayed_rejection(void **state)
     /* proposal covariance = 2.38^2/d * start_cov: start_cov = 2^2 d / 2.38^2 */
     double wide = 4.0 * 2.0 / (2.38 * 2.38);
     double start_cov[4] = {wide, 0, 0, wide};
-    lt_mcmc_opts o = {2, 1, 4, 99, center, start_cov, scale, 0, 1000, 2000000, 100000, 0.01, 0};
+    lt_mcmc_opts o = {2, 1, 4, 99, center, start_cov, scale, 0, 1000, 2000000, 100000, 0.01, 0, 0};
     lt_error err;
     lt_mcmc *m = lt_mcmc_alloc(&o, gauss_logp, ctx, &err);
     assert_non_null(m);
@@ -314,6 +314,31 @@ static void test_delayed_rejection(void **state)
         assert_abs(mu, 0.0, 4 * sqrt(1.0 / ess));
         assert_abs(v, 1.0, 4 * sqrt(2.0 / ess));
     }
+    lt_mcmc_free(m);
+}
+
+/* A run whose draws would outgrow the memory allowed stops with a clear
+ * error before allocating them (here 1 MB; the default is 80% of the
+ * machine's memory), rather than being killed by the system. */
+static void test_memory_limit(void **state)
+{
+    (void)state;
+    double cov[4] = {1, 0, 0, 1}, center[2] = {0, 0}, scale[2] = {1, 1};
+    target t = {2, {0}, 0, 0, 0, NULL};
+    invert(cov, t.prec, 2);
+    target ts[4] = {t, t, t, t};
+    void *ctx[4] = {&ts[0], &ts[1], &ts[2], &ts[3]};
+    /* an ESS target it cannot reach: the run would go to max_steps */
+    lt_mcmc_opts o = {2, 1, 4, 7, center, NULL, scale, 2000, 1000, 1000000, 1e12, 0.01, 0, 1e6};
+    lt_error err;
+    lt_mcmc *m = lt_mcmc_alloc(&o, gauss_logp, ctx, &err);
+    assert_non_null(m);
+    assert_int_equal(lt_mcmc_run(m, NULL, NULL, NULL, &err), LT_ENOMEM);
+    assert_non_null(strstr(err.msg, "more than the 0.00 GB allowed"));
+    /* it stopped at the last check that fitted: 4 chains x n draws x 4 numbers */
+    size_t n;
+    lt_mcmc_draws(m, 0, &n);
+    assert_true(n > 0 && 4.0 * (double)n * 4 * sizeof(double) <= 1e6);
     lt_mcmc_free(m);
 }
 
@@ -438,7 +463,8 @@ int main(void)
         cmocka_unit_test(test_rng),       cmocka_unit_test(test_rhat_by_hand),
         cmocka_unit_test(test_ess_and_tau), cmocka_unit_test(test_gaussians),
         cmocka_unit_test(test_banana),
-        cmocka_unit_test(test_delayed_rejection),    cmocka_unit_test(test_threads),
+        cmocka_unit_test(test_delayed_rejection),
+        cmocka_unit_test(test_memory_limit),    cmocka_unit_test(test_threads),
         cmocka_unit_test(test_resume),
     };
     return cmocka_run_group_tests_name("mcmc", tests, setup, teardown);
