@@ -80,6 +80,35 @@ else
     fail "--resume ends with the uninterrupted run's chains and summary"
 fi
 
+# Killed again and again, by each signal lantern catches, and resumed each
+# time: still the uninterrupted run's chains and summary. A kill may land
+# in the best fit, the warm-up or the sampling; a run that ends before its
+# kill is simply resumed to the same end (--resume of a finished run only
+# rewrites its outputs).
+"$LANTERN" sample "${DATA[@]}" "${LONG[@]}" --out "$E2E_TMP/multi" >"$OUT" 2>"$ERR" &
+pid=$!
+sleep 0.2
+kill -TERM $pid
+wait $pid
+first=$?
+kills=0
+for sig in HUP INT TERM HUP; do
+    "$LANTERN" sample --resume "$E2E_TMP/multi" --quiet >"$OUT" 2>>"$ERR" &
+    pid=$!
+    sleep 0.3
+    kill -$sig $pid 2>/dev/null && kills=$((kills + 1))
+    wait $pid
+done
+run "$LANTERN" sample --resume "$E2E_TMP/multi" --quiet
+if [ "$first" -eq 1 ] && [ "$kills" -ge 2 ] && [ "$STATUS" -eq 0 ] &&
+   cmp -s "$E2E_TMP/full/chains.csv" "$E2E_TMP/multi/chains.csv" &&
+   cmp -s "$E2E_TMP/full/chains.fits" "$E2E_TMP/multi/chains.fits" &&
+   cmp -s "$E2E_TMP/full/summary.json" "$E2E_TMP/multi/summary.json"; then
+    pass "SIGTERM, SIGHUP, SIGINT at five points ($kills resumed runs killed): the same chains and summary"
+else
+    fail "SIGTERM, SIGHUP, SIGINT at five points (first status $first, $kills resumed runs killed): the same chains and summary"
+fi
+
 # The step cap: status 3, results written and marked unconverged.
 run "$LANTERN" sample "${DATA[@]}" --model lcdm --max-steps 200 --check-every 100 --out "$E2E_TMP/cap" --format json
 if [ "$STATUS" -eq 3 ] && grep -q '"converged":[[:space:]]*false' "$E2E_TMP/cap/summary.json" && grep -q "did not converge" "$ERR"; then
@@ -112,6 +141,15 @@ cp -r "$E2E_TMP/a" "$E2E_TMP/other"
 sed -i 's/^seed = .*/seed = 99/' "$E2E_TMP/other/checkpoint/settings.ini"
 run "$LANTERN" sample --resume "$E2E_TMP/other"
 expect_error "a checkpoint of other settings is refused" 2 "belongs to another run"
+cp -r "$E2E_TMP/a" "$E2E_TMP/othermodel"
+sed -i 's/^name = lcdm$/name = wcdm/' "$E2E_TMP/othermodel/checkpoint/settings.ini"
+run "$LANTERN" sample --resume "$E2E_TMP/othermodel"
+expect_error "a checkpoint of another model is refused" 2 "belongs to another run"
+cp -r "$E2E_TMP/a" "$E2E_TMP/otherdata"
+awk 'NR == 5 { $5 = $5 + 0.01 } { print }' "$(sed -n 's/^file = //p' "$E2E_TMP/a/checkpoint/settings.ini")" >"$E2E_TMP/changed.txt"
+sed -i "s|^file = .*|file = $E2E_TMP/changed.txt|" "$E2E_TMP/otherdata/checkpoint/settings.ini"
+run "$LANTERN" sample --resume "$E2E_TMP/otherdata"
+expect_error "a checkpoint of other data (one magnitude changed) is refused" 2 "belongs to another run"
 run "$LANTERN" sample "${DATA[@]}" --model lcdm --chains 0
 expect_error "bad --chains" 2 "--chains: '0' is not a whole number from 1 to 256"
 run "$LANTERN" sample "${DATA[@]}" --model lcdm --target-ess x
