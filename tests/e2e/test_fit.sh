@@ -96,6 +96,23 @@ run "$LANTERN" fit "$F"
 expect_error "run file: bad boolean" 2 "bool.ini:2: no_err_diag = 'maybe' is not true or false"
 run "$LANTERN" fit "$E2E_TMP/runs/none.ini"
 expect_error "run file: missing" 2 "none.ini: cannot open"
+F=$(rf nul.ini "[data]\nfile = a\0b\n")
+run "$LANTERN" fit "$F"
+expect_error "run file: a NUL byte" 2 "nul.ini: holds a NUL byte"
+F=$(rf unclosed.ini "[data\nfile = a\n")
+run "$LANTERN" fit "$F"
+expect_error "run file: section header without ]" 2 "unclosed.ini:1: section header without"
+F=$(rf dup.ini "[fit]\nstarts = 4\nstarts = 5\n")
+run "$LANTERN" fit "$F"
+expect_error "run file: a key twice" 2 "dup.ini:3: key 'starts' appears twice in \[fit\] \(first at line 2\)"
+F=$(rf noeq.ini "[fit]\nstarts\n")
+run "$LANTERN" fit "$F"
+expect_error "run file: a line that is no key = value" 2 "noeq.ini:2: expected 'key = value'"
+# Limits instead of running out of memory: a run file over 4 MiB is refused
+# before it is parsed.
+{ printf '[data]\n'; head -c 5000000 /dev/zero | tr '\0' '#'; printf '\n'; } >"$E2E_TMP/runs/huge.ini"
+run "$LANTERN" fit "$E2E_TMP/runs/huge.ini"
+expect_error "run file: over the 4 MiB limit" 2 "huge.ini: file is larger than the limit of 4194304 bytes"
 
 # Usage errors: status 2 and a message.
 run "$LANTERN" fit "${DATA[@]}"

@@ -75,5 +75,18 @@ open(sys.argv[2], "wb").write(b)' "$ROOT/data/lamplighter/survey.fits" "$E2E_TMP
 bad "FITS: control byte in a header" "$E2E_TMP/bell.fits"  "HDU 2, header card 4 holds a byte 0x07" --data "$E2E_TMP/bell.fits" --columns $FCOL
 bad "FITS image: unquoted TTYPE" "$B/fits_unquoted_ttype.fits" "must hold a quoted string" --data "$B/two_rows.txt" --columns $MU --cov "$B/fits_unquoted_ttype.fits"
 
+# Limits instead of running out of memory: a line over 1 MiB, a header of
+# 200 000 names (one line of 1.3 MB), a covariance whose first line asks for
+# a 10^8 x 10^8 matrix. Each is refused before the memory is taken.
+/usr/bin/python3 -c '
+import sys
+d = sys.argv[1]
+open(d + "/longline.txt", "w").write("z mu err\n0.1 38 0.1 " + "x" * (1 << 21) + "\n")
+open(d + "/manycols.txt", "w").write(" ".join("c%d" % i for i in range(200000)) + "\n")
+open(d + "/hugecov.txt", "w").write("100000000\n1 2 3\n")' "$E2E_TMP"
+bad "limit: a line over 1 MiB"   "$E2E_TMP/longline.txt:2" "line is longer than 1048576 bytes" --data "$E2E_TMP/longline.txt" --columns $MU
+bad "limit: 200 000 column names" "$E2E_TMP/manycols.txt:1" "line is longer than 1048576 bytes" --data "$E2E_TMP/manycols.txt" --columns z=c1,mu=c2,err=c3
+bad "limit: a 10^8 x 10^8 covariance" "$E2E_TMP/hugecov.txt:1" "needs 80000000.0 GB, over the limit of 2.1 GB" --data "$B/two_rows.txt" --columns $MU --cov "$E2E_TMP/hugecov.txt"
+
 # Nothing was written anywhere by a refused input: the corpus folder is unchanged.
 if [ "$(ls "$B" | wc -l)" -eq 31 ]; then pass "refused inputs write nothing"; else fail "refused inputs write nothing"; fi
