@@ -30,7 +30,6 @@ assert b["params"]["w0"]["prior"] == "U(-2, 0)"
 assert abs(b["delta_chi2"] - (b["chi2_min"] - a["chi2_min"])) < 1e-12 and a["delta_chi2"] == 0
 PY
 then pass "compare Pantheon lcdm-flat vs wcdm-flat: ln Z errors < 0.1, fields, reading ($took s)"; else fail "compare Pantheon lcdm-flat vs wcdm-flat: ln Z errors < 0.1, fields, reading"; fi
-[ "$took" -le 10 ] && pass "in a few seconds ($took s)" || fail "in a few seconds ($took s)"
 [ -s "$E2E_TMP/c/nested_wcdm-flat.csv" ] && head -1 "$E2E_TMP/c/nested_wcdm-flat.csv" | grep -q "^weight,loglike,omega_m,w0$" &&
     pass "--out keeps the weighted posterior draws" || fail "--out keeps the weighted posterior draws"
 
