@@ -41,7 +41,7 @@ for t in "$BUILD_DIR"/tests/unit/test_* "$BUILD_DIR"/tests/reference/test_*; do
     tally "$t" "$rc" "$ok" $((run - ok))
 done
 
-for t in tests/e2e/*.sh; do
+for t in tests/e2e/test_*.sh; do
     [ -f "$t" ] || continue
     echo "== $t"
     bash "$t" 2>&1 | tee "$log"

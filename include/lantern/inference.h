@@ -222,6 +222,28 @@ int lt_nested_run(const lt_nested_opts *o, lt_prior_transform transform, void *t
                   lt_loglike f, void **ctx, lt_nested_result *r, lt_error *err);
 void lt_nested_result_free(lt_nested_result *r);
 
+/*
+ * The same run in steps, for interruption and resume: alloc draws and
+ * evaluates the live points; iterate runs until the stopping rule (or
+ * max_iter) and returns LT_OK, or LT_EINTR as soon as *stop is set, between
+ * two iterations, so that save then load then iterate gives exactly the
+ * result of an uninterrupted run; result_get gives the evidence and
+ * weighted samples. lt_nested_run is alloc, iterate, result_get, free.
+ * load refuses a checkpoint whose fingerprint (the caller's digest of data,
+ * model and priors) or options differ; threads may differ.
+ */
+typedef struct lt_nested lt_nested;
+lt_nested *lt_nested_alloc(const lt_nested_opts *o, lt_prior_transform transform, void *tctx,
+                           lt_loglike f, void **ctx, lt_error *err);
+int lt_nested_iterate(lt_nested *s, volatile sig_atomic_t *stop, lt_error *err);
+int lt_nested_result_get(const lt_nested *s, lt_nested_result *r, lt_error *err);
+size_t lt_nested_iterations(const lt_nested *s);
+int lt_nested_save(const lt_nested *s, const char *path, uint64_t fingerprint, lt_error *err);
+lt_nested *lt_nested_load(const char *path, uint64_t fingerprint, const lt_nested_opts *o,
+                          lt_prior_transform transform, void *tctx, lt_loglike f, void **ctx,
+                          lt_error *err);
+void lt_nested_free(lt_nested *s);
+
 /* A likelihood for the nested sampler: the prior transform of its priors
  * (uniform a + (b - a) u, Gaussian mean + sd Phi^-1(u); tctx is the const
  * lt_like *), and its normalised ln L: -chi2_eff/2 - ln det(2 pi C)/2

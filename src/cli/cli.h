@@ -6,6 +6,7 @@
 #ifndef LANTERN_CLI_H
 #define LANTERN_CLI_H
 
+#include <signal.h>
 #include <stdio.h>
 
 #include "lantern/lantern.h"
@@ -132,9 +133,23 @@ int cli_sample(int argc, char **argv);
 int cli_run(int argc, char **argv);
 int cli_compare(int argc, char **argv);
 int cli_bench(int argc, char **argv);
-/* Nested sampling of l's posterior with live points (compare.c). */
+/* Nested sampling of l's posterior with live points (compare.c). With a
+ * checkpoint path: a checkpoint there (whose fingerprint fp must match) is
+ * continued, an interruption (*stop set) saves the state there and returns
+ * LT_EINTR, and a finished run saves its final state there too, so that a
+ * resumed comparison does not redo it. */
 int cli_nested_model(const lt_like *l, long live, uint64_t seed, int threads,
+                     const char *checkpoint, uint64_t fp, volatile sig_atomic_t *stop,
                      lt_nested_result *r, lt_error *err);
+
+/* Ctrl-C, SIGTERM and SIGHUP set the flag returned, for the samplers to
+ * stop at their next safe point (job.c). */
+volatile sig_atomic_t *cli_catch_signals(void);
+
+/* FNV-1a digests for checkpoints: of the data, model, priors and offset
+ * mode; cli_fnv adds more bytes. */
+void cli_fnv(uint64_t *h, const void *p, size_t n);
+uint64_t cli_like_fingerprint(const lt_like *l, const lt_like_spec *spec);
 /* Kass & Raftery 1995's words for |2 ln B|: bare mention, positive, strong, very strong. */
 const char *cli_kass_raftery(double two_ln_b);
 int cli_report_runs(int argc, char **argv);

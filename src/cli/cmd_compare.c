@@ -7,6 +7,8 @@
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
+#include <sys/stat.h>
+#include <unistd.h>
 
 #include <cjson/cJSON.h>
 #include <gsl/gsl_cdf.h>
@@ -21,7 +23,7 @@ static void usage(FILE *f)
 {
     fputs("usage: lantern compare [RUN.ini] DATA --models M1,M2,... [--prior ...]... [--fix ...]...\n"
           "                       [--live-points N] [--seed S] [--threads T] [--out DIR] [--force]\n"
-          "                       [--format table|json]\n"
+          "                       [--resume DIR] [--format table|json]\n"
           "\n"
           "Compare models on one survey: for each, the best fit (chi2_min, AIC = chi2_min + 2k,\n"
           "BIC = chi2_min + k ln N, with k the free parameters and a marginalised offset\n"
@@ -46,7 +48,12 @@ static void usage(FILE *f)
           "  --models M1,M2,...  the models, the first being the reference\n"
           "  --live-points N     live points [1000]\n"
           "  --seed S, --threads T, --format table|json, --out DIR (summary.json and\n"
-          "                      nested_MODEL.csv with the weighted posterior draws), --force\n",
+          "                      nested_MODEL.csv with the weighted posterior draws), --force\n"
+          "  --resume DIR        continue a comparison stopped by Ctrl-C, SIGTERM or SIGHUP:\n"
+          "                      give the same options again, with --resume DIR instead of\n"
+          "                      --out DIR; each model's checkpoint in DIR/checkpoint/ is\n"
+          "                      continued (finished models are not redone) and refused if\n"
+          "                      its data, model, priors, seed or live points differ\n",
           f);
 }
 
@@ -161,8 +168,10 @@ static int write_samples(const char *dir, const model_run *mr, lt_error *err)
 }
 
 int cli_nested_model(const lt_like *l, long live, uint64_t seed, int threads,
+                     const char *checkpoint, uint64_t fp, volatile sig_atomic_t *stop,
                      lt_nested_result *r, lt_error *err)
 {
+    memset(r, 0, sizeof *r);
     lt_like_nested *ctx = calloc((size_t)threads, sizeof *ctx);
     void **cp = calloc((size_t)threads, sizeof *cp);
     int ok = ctx && cp, rc;
@@ -172,8 +181,33 @@ int cli_nested_model(const lt_like *l, long live, uint64_t seed, int threads,
         ok = ctx[t].c.w != NULL;
     }
     lt_nested_opts no = {lt_like_dim(l), (size_t)live, seed, 0.01, 1.25, 10000000, threads};
-    rc = ok ? lt_nested_run(&no, lt_like_prior_transform, (void *)l, lt_like_nested_loglike, cp, r, err)
-            : lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
+    lt_nested *ns = NULL;
+    if (!ok) {
+        rc = lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
+        goto done;
+    }
+    if (checkpoint && access(checkpoint, F_OK) == 0)
+        ns = lt_nested_load(checkpoint, fp, &no, lt_like_prior_transform, (void *)l,
+                            lt_like_nested_loglike, cp, err);
+    else
+        ns = lt_nested_alloc(&no, lt_like_prior_transform, (void *)l, lt_like_nested_loglike, cp,
+                             err);
+    if (!ns) {
+        rc = err->code;
+        goto done;
+    }
+    rc = lt_nested_iterate(ns, stop, err);
+    if (checkpoint && (rc == LT_OK || rc == LT_EINTR)) {
+        lt_error serr;
+        if (lt_nested_save(ns, checkpoint, fp, &serr)) {
+            *err = serr;
+            rc = serr.code;
+        }
+    }
+    if (rc == LT_OK)
+        rc = lt_nested_result_get(ns, r, err);
+done:
+    lt_nested_free(ns);
     for (int t = 0; ctx && t < threads; t++)
         lt_like_work_free(ctx[t].c.w);
     free(ctx);
@@ -185,7 +219,7 @@ int cli_compare(int argc, char **argv)
 {
     cli_job j;
     cli_job_init(&j);
-    const char *models_flag = NULL;
+    const char *models_flag = NULL, *resume = NULL;
     long live = 1000;
     int status = CLI_OK, first = 1;
     lt_survey *s = NULL;
@@ -206,6 +240,8 @@ int cli_compare(int argc, char **argv)
             goto done;
         } else if (cli_take(&a, "--models", &v)) {
             models_flag = v;
+        } else if (cli_take(&a, "--resume", &v)) {
+            resume = v;
         } else if (cli_take(&a, "--live-points", &v)) {
             if (lt_parse_long(v, 20, 100000, &live)) {
                 status = cli_usage_error("--live-points", "'%s' is not a whole number from 20 to 100000", v);
@@ -246,11 +282,38 @@ int cli_compare(int argc, char **argv)
         goto done;
     }
     j.lenient = 1;
+    if (resume) {
+        if (j.out && strcmp(j.out, resume) != 0) {
+            status = cli_usage_error("--resume", "give --resume DIR instead of --out, not both");
+            goto done;
+        }
+        j.out = resume;
+    }
+    char ckdir[4200] = "";
+    if (j.out)
+        snprintf(ckdir, sizeof ckdir, "%s/checkpoint", j.out);
+    if (resume && access(ckdir, F_OK) != 0) {
+        status = cli_usage_error(resume, "no checkpoint here (no checkpoint/ folder) to resume");
+        goto done;
+    }
+    volatile sig_atomic_t *stop = cli_catch_signals();
     lt_error err;
     lt_error_clear(&err);
-    if (!(s = lt_survey_read(&j.data, &err)) || (j.out && lt_outdir_prepare(j.out, j.force, &err))) {
+    if (!(s = lt_survey_read(&j.data, &err))) {
         status = cli_report(&err);
         goto done;
+    }
+    if (j.out && !resume) {
+        char what[128];
+        snprintf(what, sizeof what, "lantern %s compare (running)", LT_VERSION);
+        if (lt_outdir_prepare(j.out, j.force, &err) || lt_outdir_mark(j.out, what, &err)) {
+            status = cli_report(&err);
+            goto done;
+        }
+        if (mkdir(ckdir, 0777) != 0 && errno != EEXIST) {
+            status = cli_usage_error(ckdir, "cannot make the checkpoint folder: %s", strerror(errno));
+            goto done;
+        }
     }
     cli_print_warnings(s);
     int threads = j.threads > 0 ? (int)j.threads : omp_get_max_threads();
@@ -273,7 +336,24 @@ int cli_compare(int argc, char **argv)
             status = cli_report(&err);
             goto done;
         }
-        int rc = cli_nested_model(mr->l, live, j.seed, threads, &mr->nr, &err);
+        char ck[4400];
+        snprintf(ck, sizeof ck, "%s/nested_%s.bin", ckdir, mr->name);
+        uint64_t fp = cli_like_fingerprint(mr->l, &spec);
+        uint64_t settings[] = {j.seed, (uint64_t)live};
+        cli_fnv(&fp, settings, sizeof settings);
+        int rc = cli_nested_model(mr->l, live, j.seed, threads, j.out ? ck : NULL, fp, stop,
+                                  &mr->nr, &err);
+        if (rc == LT_EINTR) {
+            if (j.out)
+                fprintf(stderr,
+                        "lantern: interrupted; %s/checkpoint holds the state of every model so "
+                        "far: continue with the same options and --resume %s\n",
+                        j.out, j.out);
+            else
+                fputs("lantern: interrupted (no --out folder, so nothing was saved)\n", stderr);
+            status = CLI_FAILED;
+            goto done;
+        }
         if (!rc) {
             lt_like_nested c0 = {{mr->l, lt_like_work_alloc(mr->l)}, lt_like_lognorm(mr->l)};
             if (c0.c.w)
@@ -286,11 +366,14 @@ int cli_compare(int argc, char **argv)
         }
         if (mr->warning[0])
             fprintf(stderr, "lantern: warning: %s: %s\n", mr->name, mr->warning);
-        if (j.out && write_samples(j.out, mr, &err)) {
+    }
+    /* final files only once every model is done: an interrupted comparison
+     * leaves nothing but its checkpoints */
+    for (size_t k = 0; j.out && k < nm; k++)
+        if (write_samples(j.out, &runs[k], &err)) {
             status = cli_report(&err);
             goto done;
         }
-    }
     /* the JSON summary */
     json = cJSON_CreateObject();
     cJSON_AddStringToObject(json, "command", "compare");

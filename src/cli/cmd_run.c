@@ -82,6 +82,26 @@ static int exists(const char *path)
     return stat(path, &st) == 0;
 }
 
+/* What an earlier run left of a model: 0 nothing, 1 its sampler's summary
+ * (the evidence still to do), 2 the summary with the evidence. *converged
+ * is the sampler's verdict. */
+static int model_done(const char *sum, int *converged)
+{
+    char *text = NULL;
+    size_t size;
+    *converged = 1;
+    if (!exists(sum) || lt_file_read(sum, (size_t)64 << 20, &text, &size, NULL))
+        return 0;
+    cJSON *o = cJSON_Parse(text);
+    free(text);
+    if (!o)
+        return 0;
+    int done = cJSON_GetObjectItem(o, "evidence") ? 2 : 1;
+    *converged = !cJSON_IsFalse(cJSON_GetObjectItem(o, "converged"));
+    cJSON_Delete(o);
+    return done;
+}
+
 /* summary.json of the whole run: every model's summary and the comparison. */
 static int write_run_summary(const char *dir, const char *name, const lt_run_model *models,
                              size_t n, char dirs[][4200], lt_error *err)
@@ -292,13 +312,16 @@ int cli_run(int argc, char **argv)
         char sum[4400], chk[4400];
         snprintf(sum, sizeof sum, "%.4000s/summary.json", dirs[k]);
         snprintf(chk, sizeof chk, "%.4000s/checkpoint/state.bin", dirs[k]);
-        if (resume && exists(sum)) {
+        int converged_before = 1, done_before = resume ? model_done(sum, &converged_before) : 0;
+        if (done_before == 2) {
             if (!j.quiet)
                 fprintf(stderr, "[%zu/%zu] %s: finished earlier, kept\n", k + 1, nm, names[k]);
+            if (!converged_before)
+                worst = CLI_UNCONVERGED;
             continue;
         }
         int again = resume && exists(chk);
-        if (!j.quiet)
+        if (!j.quiet && !done_before)
             fprintf(stderr, "[%zu/%zu] %s: %s\n", k + 1, nm, names[k],
                     again ? "resuming the sampler" : "best fit, then sampling");
         cli_job mj = j; /* the model's own copy of the settings */
@@ -314,19 +337,39 @@ int cli_run(int argc, char **argv)
             status = cli_report(&err);
             goto done;
         }
-        int st = cli_sample_model(&mj, l, &spec, dirs[k], again, 0, CLI_TABLE);
+        /* a model whose sampling finished earlier goes straight to its evidence */
+        int st = done_before ? (converged_before ? CLI_OK : CLI_UNCONVERGED)
+                             : cli_sample_model(&mj, l, &spec, dirs[k], again, 0, CLI_TABLE);
         if (st == CLI_OK || st == CLI_UNCONVERGED) {
             /* the evidence, added to the model's summary */
             if (!j.quiet)
                 fprintf(stderr, "[%zu/%zu] %s: evidence by nested sampling\n", k + 1, nm, names[k]);
             int threads = j.threads > 0 ? (int)j.threads : omp_get_max_threads();
             lt_nested_result nr;
-            if (cli_nested_model(l, 1000, j.seed, threads, &nr, &err) || add_evidence(dirs[k], &nr, &err)) {
+            char nck[4400];
+            snprintf(nck, sizeof nck, "%.4000s/checkpoint/nested.bin", dirs[k]);
+            uint64_t fp = cli_like_fingerprint(l, &spec);
+            uint64_t settings[] = {j.seed, 1000};
+            cli_fnv(&fp, settings, sizeof settings);
+            int rc = cli_nested_model(l, 1000, j.seed, threads, nck, fp, cli_catch_signals(), &nr,
+                                      &err);
+            if (rc == LT_OK)
+                rc = add_evidence(dirs[k], &nr, &err);
+            lt_nested_result_free(&nr);
+            if (rc) {
+                for (size_t i = 0; i < mj.npool; i++)
+                    free(mj.pool[i]);
                 lt_like_free(l);
-                status = cli_report(&err);
+                if (rc == LT_EINTR) {
+                    fprintf(stderr, "lantern: interrupted; run stopped; continue with 'lantern run "
+                                    "%s --resume %s'\n",
+                            argv[1], dir);
+                    status = CLI_FAILED;
+                } else {
+                    status = cli_report(&err);
+                }
                 goto done;
             }
-            lt_nested_result_free(&nr);
         }
         for (size_t i = 0; i < mj.npool; i++) /* strings the model's copy made */
             free(mj.pool[i]);

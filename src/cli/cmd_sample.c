@@ -17,16 +17,6 @@
 #include "cli.h"
 #include "lantern/report.h"
 
-/* The one piece of global state in lantern: set by the signal handler,
- * read by the chains between steps (the library gets a pointer to it). */
-static volatile sig_atomic_t stop_requested;
-
-static void on_signal(int sig)
-{
-    (void)sig;
-    stop_requested = 1;
-}
-
 static void usage(FILE *f)
 {
     fputs("usage: lantern sample [RUN.ini] DATA MODEL SAMPLER [--out DIR] [--force]\n"
@@ -75,37 +65,14 @@ static void usage(FILE *f)
 /* FNV-1a over what makes a run what it is: the data as read, the model,
  * the priors and fixed values, the seed and the sampler settings (not the
  * thread count, which does not change the draws). */
-static void fnv(uint64_t *h, const void *p, size_t n)
-{
-    const unsigned char *b = p;
-    for (size_t i = 0; i < n; i++)
-        *h = (*h ^ b[i]) * 0x100000001B3ull;
-}
-
+/* The run's digest: data, model and priors (cli_like_fingerprint), then
+ * the sampler settings that shape the chains. */
 static uint64_t fingerprint(const lt_like *l, const lt_like_spec *spec, const cli_job *j)
 {
-    uint64_t h = 0xCBF29CE484222325ull;
-    const lt_survey *s = lt_like_survey(l);
-    fnv(&h, &s->n, sizeof s->n);
-    fnv(&h, s->z, s->n * sizeof *s->z);
-    fnv(&h, s->zhel, s->n * sizeof *s->zhel);
-    fnv(&h, s->obs, s->n * sizeof *s->obs);
-    double *diag = malloc(s->n * sizeof *diag);
-    if (diag) {
-        lt_cov_diagonal(s->cov, diag);
-        fnv(&h, diag, s->n * sizeof *diag);
-        free(diag);
-    }
-    fnv(&h, lt_like_model(l)->name, strlen(lt_like_model(l)->name));
-    fnv(&h, spec->has_prior, sizeof spec->has_prior);
-    fnv(&h, spec->prior, sizeof spec->prior);
-    fnv(&h, spec->has_fix, sizeof spec->has_fix);
-    fnv(&h, spec->fix, sizeof spec->fix);
-    int offset = lt_like_offset_mode(l);
-    fnv(&h, &offset, sizeof offset);
+    uint64_t h = cli_like_fingerprint(l, spec);
     long settings[] = {(long)j->seed, j->chains, j->warmup, j->check_every, j->max_steps};
-    fnv(&h, settings, sizeof settings);
-    fnv(&h, &j->target_ess, sizeof j->target_ess);
+    cli_fnv(&h, settings, sizeof settings);
+    cli_fnv(&h, &j->target_ess, sizeof j->target_ess);
     return h;
 }
 
@@ -277,13 +244,7 @@ int cli_sample_model(cli_job *j, lt_like *l, const lt_like_spec *spec, const cha
     progress pr = {{0, 0}, isatty(2), j->quiet, j->verbose, j->target_ess, out ? state : NULL, fp,
                    {0, 0, "", ""}, 0, 0};
     clock_gettime(CLOCK_MONOTONIC, &pr.start);
-    struct sigaction sa;
-    memset(&sa, 0, sizeof sa);
-    sa.sa_handler = on_signal;
-    sigaction(SIGINT, &sa, NULL);
-    sigaction(SIGTERM, &sa, NULL);
-    sigaction(SIGHUP, &sa, NULL);
-    int rc = lt_mcmc_run(m, &stop_requested, on_check, &pr, &err);
+    int rc = lt_mcmc_run(m, cli_catch_signals(), on_check, &pr, &err);
     if (pr.printed && pr.tty && !pr.verbose)
         fputc('\n', stderr);
     if (pr.save_failed) {

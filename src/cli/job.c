@@ -16,6 +16,7 @@
  * naming the file and line.
  */
 #include <math.h>
+#include <signal.h>
 #include <stddef.h>
 #include <stdio.h>
 #include <unistd.h>
@@ -564,4 +565,58 @@ void cli_job_absolute(cli_job *j)
     ABS(j->data.keep_ids);
     ABS(j->data.drop_ids);
 #undef ABS
+}
+
+/* ---- interruption and checkpoints ---- */
+
+/* The one piece of global state in lantern: set by the signal handler,
+ * read by the samplers between steps (the library gets a pointer to it). */
+static volatile sig_atomic_t stop_requested;
+
+static void on_signal(int sig)
+{
+    (void)sig;
+    stop_requested = 1;
+}
+
+volatile sig_atomic_t *cli_catch_signals(void)
+{
+    struct sigaction sa;
+    memset(&sa, 0, sizeof sa);
+    sa.sa_handler = on_signal;
+    sigaction(SIGINT, &sa, NULL);
+    sigaction(SIGTERM, &sa, NULL);
+    sigaction(SIGHUP, &sa, NULL);
+    return &stop_requested;
+}
+
+void cli_fnv(uint64_t *h, const void *p, size_t n)
+{
+    const unsigned char *b = p;
+    for (size_t i = 0; i < n; i++)
+        *h = (*h ^ b[i]) * 0x100000001B3ull;
+}
+
+uint64_t cli_like_fingerprint(const lt_like *l, const lt_like_spec *spec)
+{
+    uint64_t h = 0xCBF29CE484222325ull;
+    const lt_survey *s = lt_like_survey(l);
+    cli_fnv(&h, &s->n, sizeof s->n);
+    cli_fnv(&h, s->z, s->n * sizeof *s->z);
+    cli_fnv(&h, s->zhel, s->n * sizeof *s->zhel);
+    cli_fnv(&h, s->obs, s->n * sizeof *s->obs);
+    double *diag = malloc(s->n * sizeof *diag);
+    if (diag) {
+        lt_cov_diagonal(s->cov, diag);
+        cli_fnv(&h, diag, s->n * sizeof *diag);
+        free(diag);
+    }
+    cli_fnv(&h, lt_like_model(l)->name, strlen(lt_like_model(l)->name));
+    cli_fnv(&h, spec->has_prior, sizeof spec->has_prior);
+    cli_fnv(&h, spec->prior, sizeof spec->prior);
+    cli_fnv(&h, spec->has_fix, sizeof spec->has_fix);
+    cli_fnv(&h, spec->fix, sizeof spec->fix);
+    int offset = lt_like_offset_mode(l);
+    cli_fnv(&h, &offset, sizeof offset);
+    return h;
 }

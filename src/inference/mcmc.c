@@ -526,48 +526,18 @@ int lt_mcmc_run(lt_mcmc *m, volatile sig_atomic_t *stop, lt_mcmc_progress progre
 
 /* ---- checkpoints ---- */
 
-/* FNV-1a over the bytes written, to find a damaged file. */
-typedef struct {
-    FILE *f;
-    uint64_t h;
-    int bad;
-} sink;
-
-static void put(sink *s, const void *p, size_t n)
-{
-    const unsigned char *b = p;
-    for (size_t i = 0; i < n; i++)
-        s->h = (s->h ^ b[i]) * 0x100000001B3ull;
-    if (fwrite(p, 1, n, s->f) != n)
-        s->bad = 1;
-}
-
-static int get(sink *s, void *p, size_t n)
-{
-    if (fread(p, 1, n, s->f) != n)
-        return (s->bad = 1), -1;
-    const unsigned char *b = p;
-    for (size_t i = 0; i < n; i++)
-        s->h = (s->h ^ b[i]) * 0x100000001B3ull;
-    return 0;
-}
-
 static const char MAGIC[16] = "lantern-mcmc-v2"; /* v2: delayed rejection */
 
-#define PUT(x) put(&s, &(x), sizeof(x))
-#define PUTA(p, n) put(&s, (p), (n) * sizeof *(p))
+#define PUT(x) lt_ckpt_put(&s, &(x), sizeof(x))
+#define PUTA(p, n) lt_ckpt_put(&s, (p), (n) * sizeof *(p))
 
 int lt_mcmc_save(const lt_mcmc *m, const char *path, uint64_t fingerprint, lt_error *err)
 {
-    char tmp[4200];
-    lt_tmp_name(path, tmp, sizeof tmp);
-    FILE *f = fopen(tmp, "wb");
-    if (!f)
-        return lt_error_set(err, LT_EIO, tmp, 0, "cannot write the checkpoint: %s",
-                            strerror(errno));
-    sink s = {f, 0xCBF29CE484222325ull, 0};
+    lt_ckpt s;
+    if (lt_ckpt_create(&s, path, err))
+        return err->code;
     size_t d = m->o.dim, ne = m->o.nextra;
-    put(&s, MAGIC, sizeof MAGIC);
+    lt_ckpt_put(&s, MAGIC, sizeof MAGIC);
     PUT(fingerprint);
     PUT(m->o.dim), PUT(m->o.nextra), PUT(m->o.nchains), PUT(m->o.seed), PUT(m->o.warmup);
     PUT(m->o.check_every), PUT(m->o.max_steps), PUT(m->o.target_ess), PUT(m->o.rhat_tol);
@@ -576,38 +546,28 @@ int lt_mcmc_save(const lt_mcmc *m, const char *path, uint64_t fingerprint, lt_er
     for (size_t c = 0; c < m->o.nchains; c++) {
         const chain *ch = &m->ch[c];
         PUT(ch->rng), PUTA(ch->x, d), PUTA(ch->extra, ne), PUT(ch->logp), PUT(ch->steps);
-        PUT(ch->acc_warm), PUT(ch->acc), PUT(ch->acc_first), PUT(ch->nw), PUTA(ch->wmean, d), PUTA(ch->wm2, d * d);
-        PUTA(ch->chol, d * d), PUT(ch->ndraws), PUTA(ch->draws, ch->ndraws * (d + 1 + ne));
+        PUT(ch->acc_warm), PUT(ch->acc), PUT(ch->acc_first), PUT(ch->nw), PUTA(ch->wmean, d);
+        PUTA(ch->wm2, d * d), PUTA(ch->chol, d * d), PUT(ch->ndraws);
+        PUTA(ch->draws, ch->ndraws * (d + 1 + ne));
     }
-    uint64_t h = s.h;
-    put(&s, &h, sizeof h);
-    int bad = s.bad || fflush(f) != 0;
-    bad |= fclose(f) != 0;
-    if (bad) {
-        remove(tmp);
-        return lt_error_set(err, LT_EIO, tmp, 0, "writing the checkpoint failed (disk full?)");
-    }
-    return lt_file_commit(path, err);
+    return lt_ckpt_commit(&s, err);
 }
 
-#define GET(x) get(&s, &(x), sizeof(x))
-#define GETA(p, n) get(&s, (p), (n) * sizeof *(p))
+#define GET(x) lt_ckpt_get(&s, &(x), sizeof(x))
+#define GETA(p, n) lt_ckpt_get(&s, (p), (n) * sizeof *(p))
 
 lt_mcmc *lt_mcmc_load(const char *path, uint64_t fingerprint, lt_logdensity f, void **ctx,
                       lt_error *err)
 {
-    FILE *fp = fopen(path, "rb");
-    if (!fp) {
-        lt_error_set(err, LT_EINPUT, path, 0, "cannot open the checkpoint: %s", strerror(errno));
+    lt_ckpt s;
+    if (lt_ckpt_open(&s, path, err))
         return NULL;
-    }
-    sink s = {fp, 0xCBF29CE484222325ull, 0};
     char magic[16];
     uint64_t fp_saved;
     lt_mcmc_opts o;
     memset(&o, 0, sizeof o);
     lt_mcmc *m = NULL;
-    if (get(&s, magic, sizeof magic) || memcmp(magic, MAGIC, sizeof MAGIC) != 0) {
+    if (lt_ckpt_get(&s, magic, sizeof magic) || memcmp(magic, MAGIC, sizeof MAGIC) != 0) {
         lt_error_set(err, LT_EINPUT, path, 0, "not a lantern checkpoint (or another version)");
         goto fail;
     }
@@ -643,17 +603,18 @@ lt_mcmc *lt_mcmc_load(const char *path, uint64_t fingerprint, lt_logdensity f, v
         if (GETA(ch->draws, nd * (d + 1 + ne)))
             goto damaged;
     }
-    uint64_t h_calc = s.h, h_file;
-    if (fread(&h_file, sizeof h_file, 1, fp) != 1 || h_file != h_calc || fgetc(fp) != EOF)
-        goto damaged;
-    fclose(fp);
+    if (lt_ckpt_close_read(&s)) {
+        lt_error_set(err, LT_EINPUT, path, 0, "the checkpoint is damaged or truncated");
+        lt_mcmc_free(m);
+        return NULL;
+    }
     if (m->converged) /* the diagnostics for the report */
         check(m);
     return m;
 damaged:
     lt_error_set(err, LT_EINPUT, path, 0, "the checkpoint is damaged or truncated");
 fail:
-    fclose(fp);
+    fclose(s.f);
     lt_mcmc_free(m);
     return NULL;
 }

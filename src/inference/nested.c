@@ -103,44 +103,105 @@ static int ellipsoid_draw(const ellipsoid *e, lt_rng *r, double *u)
     return -1;
 }
 
-int lt_nested_run(const lt_nested_opts *o, lt_prior_transform transform, void *tctx,
-                  lt_loglike f, void **ctx, lt_nested_result *r, lt_error *err)
+/* The whole state of a run between iterations: what a checkpoint holds. */
+struct lt_nested {
+    lt_nested_opts o;
+    lt_prior_transform transform;
+    void *tctx;
+    lt_loglike f;
+    void **ctx;
+    double *u, *th, *ll;     /* live points: unit cube, parameters, ln L */
+    lt_rng rng;
+    double logz, logx;       /* ln Z so far, ln X (the prior volume left) */
+    size_t it, ns, cap;      /* iterations done, dead points kept, their room */
+    size_t accepted, proposed, evals;
+    int walk, finished;
+    double *theta, *loglike, *logw; /* the dead points (cap) */
+};
+
+void lt_nested_free(lt_nested *s)
 {
-    memset(r, 0, sizeof *r);
+    if (!s)
+        return;
+    free(s->u);
+    free(s->th);
+    free(s->ll);
+    free(s->theta);
+    free(s->loglike);
+    free(s->logw);
+    free(s);
+}
+
+/* The struct and its arrays, for n live points and room for cap dead ones. */
+static lt_nested *nested_shell(const lt_nested_opts *o, size_t cap, lt_prior_transform transform,
+                               void *tctx, lt_loglike f, void **ctx, lt_error *err)
+{
+    size_t d = o->dim, n = o->nlive;
+    if (d == 0 || d > DMAX || n < 2 * d + 2 || n > 10000000) {
+        lt_error_set(err, LT_EINPUT, NULL, 0,
+                     "nested sampling needs 1 to %d parameters and at least 2 d + 2 live points",
+                     DMAX);
+        return NULL;
+    }
+    lt_nested *s = calloc(1, sizeof *s);
+    if (!s)
+        goto nomem;
+    s->o = *o, s->transform = transform, s->tctx = tctx, s->f = f, s->ctx = ctx;
+    s->cap = cap;
+    s->u = malloc(n * d * sizeof *s->u);
+    s->th = malloc(n * d * sizeof *s->th);
+    s->ll = malloc(n * sizeof *s->ll);
+    s->theta = malloc(cap * d * sizeof *s->theta);
+    s->loglike = malloc(cap * sizeof *s->loglike);
+    s->logw = malloc(cap * sizeof *s->logw);
+    if (!s->u || !s->th || !s->ll || !s->theta || !s->loglike || !s->logw)
+        goto nomem;
+    return s;
+nomem:
+    lt_nested_free(s);
+    lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory for the live points");
+    return NULL;
+}
+
+lt_nested *lt_nested_alloc(const lt_nested_opts *o, lt_prior_transform transform, void *tctx,
+                           lt_loglike f, void **ctx, lt_error *err)
+{
+    lt_nested *s = nested_shell(o, o->nlive * 64, transform, tctx, f, ctx, err);
+    if (!s)
+        return NULL;
     size_t d = o->dim, n = o->nlive;
     int threads = o->threads > 0 ? o->threads : omp_get_max_threads();
-    if (d == 0 || d > DMAX || n < 2 * d + 2)
-        return lt_error_set(err, LT_EINPUT, NULL, 0,
-                            "nested sampling needs 1 to %d parameters and at least 2 d + 2 live "
-                            "points",
-                            DMAX);
-    double *u = malloc(n * d * sizeof *u), *th = malloc(n * d * sizeof *th);
-    double *ll = malloc(n * sizeof *ll);
-    size_t cap = n * 64;
-    r->theta = malloc(cap * d * sizeof *r->theta);
-    r->loglike = malloc(cap * sizeof *r->loglike);
-    r->logw = malloc(cap * sizeof *r->logw);
-    double bu[BATCH * DMAX], bt[BATCH * DMAX], bl[BATCH];
-    int rc = LT_OK;
-    if (!u || !th || !ll || !r->theta || !r->loglike || !r->logw) {
-        rc = lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory for the live points");
-        goto done;
-    }
-    lt_rng rng;
-    lt_rng_seed(&rng, o->seed, 0x4e5354ull);
+    lt_rng_seed(&s->rng, o->seed, 0x4e5354ull);
     /* live points from the prior: drawn in order, evaluated in parallel */
     for (size_t i = 0; i < n * d; i++)
-        u[i] = lt_rng_uniform(&rng);
+        s->u[i] = lt_rng_uniform(&s->rng);
     for (size_t i = 0; i < n; i++)
-        transform(u + i * d, th + i * d, tctx);
+        transform(s->u + i * d, s->th + i * d, tctx);
 #pragma omp parallel for schedule(dynamic, 4) num_threads(threads)
     for (size_t i = 0; i < n; i++)
-        ll[i] = f(th + i * d, ctx[omp_get_thread_num()]);
-    r->evals = n;
-    double logz = -INFINITY, logx = 0.0; /* ln X, the prior volume left */
-    size_t ns = 0, accepted = 0, proposed = 0;
-    int walk = 0;
-    for (size_t it = 0; it < o->max_iter; it++) {
+        s->ll[i] = f(s->th + i * d, ctx[omp_get_thread_num()]);
+    s->evals = n;
+    s->logz = -INFINITY;
+    s->logx = 0.0;
+    return s;
+}
+
+size_t lt_nested_iterations(const lt_nested *s) { return s->it; }
+
+int lt_nested_iterate(lt_nested *s, volatile sig_atomic_t *stop, lt_error *err)
+{
+    size_t d = s->o.dim, n = s->o.nlive;
+    int threads = s->o.threads > 0 ? s->o.threads : omp_get_max_threads();
+    double bu[BATCH * DMAX], bt[BATCH * DMAX], bl[BATCH];
+    double *u = s->u, *th = s->th, *ll = s->ll;
+    lt_prior_transform transform = s->transform;
+    void *tctx = s->tctx;
+    lt_loglike f = s->f;
+    void **ctx = s->ctx;
+    for (; !s->finished && s->it < s->o.max_iter; s->it++) {
+        if (stop && *stop) /* between iterations: the state is whole */
+            return lt_error_set(err, LT_EINTR, NULL, 0, "interrupted");
+        size_t it = s->it;
         size_t worst = 0;
         double lmax = -INFINITY;
         for (size_t i = 0; i < n; i++) {
@@ -150,54 +211,52 @@ int lt_nested_run(const lt_nested_opts *o, lt_prior_transform transform, void *t
         }
         double lstar = ll[worst];
         /* stop when the live points could add less than dlogz to ln Z */
-        if (it > 0 && logaddexp(logz, lmax + logx) - logz < o->dlogz) {
-            r->finished = 1;
+        if (it > 0 && logaddexp(s->logz, lmax + s->logx) - s->logz < s->o.dlogz) {
+            s->finished = 1;
             break;
         }
         double logx_new = -(double)(it + 1) / (double)n;
-        double logw = logx + log1p(-exp(logx_new - logx)); /* ln(X_i-1 - X_i) */
-        if (ns == cap) {
-            cap *= 2;
-            double *a = realloc(r->theta, cap * d * sizeof *a);
+        double logw = s->logx + log1p(-exp(logx_new - s->logx)); /* ln(X_i-1 - X_i) */
+        if (s->ns == s->cap) {
+            size_t cap = 2 * s->cap;
+            double *a = realloc(s->theta, cap * d * sizeof *a);
             if (a)
-                r->theta = a;
-            double *b = realloc(r->loglike, cap * sizeof *b);
+                s->theta = a;
+            double *b = realloc(s->loglike, cap * sizeof *b);
             if (b)
-                r->loglike = b;
-            double *c = realloc(r->logw, cap * sizeof *c);
+                s->loglike = b;
+            double *c = realloc(s->logw, cap * sizeof *c);
             if (c)
-                r->logw = c;
-            if (!a || !b || !c) {
-                rc = lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory for the samples");
-                goto done;
-            }
+                s->logw = c;
+            if (!a || !b || !c)
+                return lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory for the samples");
+            s->cap = cap;
         }
-        memcpy(r->theta + ns * d, th + worst * d, d * sizeof *th);
-        r->loglike[ns] = lstar;
-        r->logw[ns] = logw; /* prior weight for now */
-        ns++;
+        memcpy(s->theta + s->ns * d, th + worst * d, d * sizeof *th);
+        s->loglike[s->ns] = lstar;
+        s->logw[s->ns] = logw; /* prior weight for now */
+        s->ns++;
         if (isfinite(lstar))
-            logz = logaddexp(logz, lstar + logw);
-        logx = logx_new;
-        r->iterations = it + 1;
+            s->logz = logaddexp(s->logz, lstar + logw);
+        s->logx = logx_new;
 
         /* a replacement with ln L > lstar */
         ellipsoid e;
-        int have_e = !walk && bound(u, n, d, o->enlarge, &e) == 0;
+        int have_e = !s->walk && bound(u, n, d, s->o.enlarge, &e) == 0;
         int found = 0;
         while (!found) {
             size_t nb = 0;
             if (have_e) {
                 for (; nb < BATCH; nb++)
-                    if (ellipsoid_draw(&e, &rng, bu + nb * d))
+                    if (ellipsoid_draw(&e, &s->rng, bu + nb * d))
                         break;
             }
             if (!have_e || nb == 0) {
                 /* the fallback: a random walk from a live point, in the
                  * cube, keeping ln L > lstar, 20 d steps scaled to the live
                  * points' spread */
-                walk = 1;
-                size_t start = (size_t)(lt_rng_uniform(&rng) * (double)n);
+                s->walk = 1;
+                size_t start = (size_t)(lt_rng_uniform(&s->rng) * (double)n);
                 if (start >= n)
                     start = n - 1;
                 if (start == worst) /* start above the threshold */
@@ -213,18 +272,18 @@ int lt_nested_run(const lt_nested_opts *o, lt_prior_transform transform, void *t
                     sd[k] = 0.5 * sqrt(v) + 1e-9;
                 }
                 double cl = ll[start];
-                for (size_t s = 0; s < 20 * d; s++) {
+                for (size_t st = 0; st < 20 * d; st++) {
                     double cand[DMAX], ct[DMAX];
                     int inside = 1;
                     for (size_t k = 0; k < d; k++) {
-                        cand[k] = cur[k] + sd[k] * lt_rng_normal(&rng);
+                        cand[k] = cur[k] + sd[k] * lt_rng_normal(&s->rng);
                         inside &= cand[k] > 0 && cand[k] < 1;
                     }
                     if (!inside)
                         continue;
                     transform(cand, ct, tctx);
                     double lc = f(ct, ctx[0]);
-                    r->evals++;
+                    s->evals++;
                     if (lc > lstar)
                         memcpy(cur, cand, d * sizeof *cur), cl = lc;
                 }
@@ -239,37 +298,56 @@ int lt_nested_run(const lt_nested_opts *o, lt_prior_transform transform, void *t
 #pragma omp parallel for schedule(static, 1) num_threads(threads)
             for (size_t b = 0; b < nb; b++)
                 bl[b] = f(bt + b * d, ctx[omp_get_thread_num()]);
-            r->evals += nb;
+            s->evals += nb;
             for (size_t b = 0; b < nb && !found; b++) {
-                proposed++;
+                s->proposed++;
                 if (bl[b] > lstar) {
                     memcpy(u + worst * d, bu + b * d, d * sizeof *u);
                     memcpy(th + worst * d, bt + b * d, d * sizeof *th);
                     ll[worst] = bl[b];
-                    accepted++;
+                    s->accepted++;
                     found = 1;
                 }
             }
             /* after a fair trial, an ellipsoid that accepts under 5% gives way */
-            if (proposed > 200 && (double)accepted / (double)proposed < 0.05)
+            if (s->proposed > 200 && (double)s->accepted / (double)s->proposed < 0.05)
                 have_e = 0;
         }
-        if (proposed > 1000) /* judge the efficiency on recent iterations */
-            proposed /= 2, accepted /= 2;
+        if (s->proposed > 1000) /* judge the efficiency on recent iterations */
+            s->proposed /= 2, s->accepted /= 2;
     }
+    return LT_OK;
+}
+
+int lt_nested_result_get(const lt_nested *s, lt_nested_result *r, lt_error *err)
+{
+    memset(r, 0, sizeof *r);
+    size_t d = s->o.dim, n = s->o.nlive, ns = s->ns, total = ns + n;
+    r->theta = malloc(total * d * sizeof *r->theta);
+    r->loglike = malloc(total * sizeof *r->loglike);
+    r->logw = malloc(total * sizeof *r->logw);
+    if (!r->theta || !r->loglike || !r->logw) {
+        lt_nested_result_free(r);
+        return lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory for the samples");
+    }
+    memcpy(r->theta, s->theta, ns * d * sizeof *r->theta);
+    memcpy(r->loglike, s->loglike, ns * sizeof *r->loglike);
+    memcpy(r->logw, s->logw, ns * sizeof *r->logw);
+    double logz = s->logz;
     /* the live points, each with an equal share of the volume left */
     for (size_t i = 0; i < n; i++) {
-        if (ns == cap)
-            break;
-        memcpy(r->theta + ns * d, th + i * d, d * sizeof *th);
-        r->loglike[ns] = ll[i];
-        r->logw[ns] = logx - log((double)n);
-        if (isfinite(ll[i]))
-            logz = logaddexp(logz, ll[i] + r->logw[ns]);
+        memcpy(r->theta + ns * d, s->th + i * d, d * sizeof *r->theta);
+        r->loglike[ns] = s->ll[i];
+        r->logw[ns] = s->logx - log((double)n);
+        if (isfinite(s->ll[i]))
+            logz = logaddexp(logz, s->ll[i] + r->logw[ns]);
         ns++;
     }
     r->nsamples = ns;
     r->logz = logz;
+    r->iterations = s->it;
+    r->evals = s->evals;
+    r->finished = s->finished;
     /* posterior weights and the information H = sum p ln(L / Z) */
     double h = 0.0;
     for (size_t i = 0; i < ns; i++) {
@@ -280,11 +358,101 @@ int lt_nested_run(const lt_nested_opts *o, lt_prior_transform transform, void *t
     }
     r->info = h;
     r->logz_err = sqrt(fmax(h, 0.0) / (double)n);
-done:
-    free(u);
-    free(th);
-    free(ll);
-    if (rc)
-        lt_nested_result_free(r);
+    return LT_OK;
+}
+
+int lt_nested_run(const lt_nested_opts *o, lt_prior_transform transform, void *tctx,
+                  lt_loglike f, void **ctx, lt_nested_result *r, lt_error *err)
+{
+    memset(r, 0, sizeof *r);
+    lt_nested *s = lt_nested_alloc(o, transform, tctx, f, ctx, err);
+    if (!s)
+        return err->code;
+    int rc = lt_nested_iterate(s, NULL, err);
+    if (rc == LT_OK)
+        rc = lt_nested_result_get(s, r, err);
+    lt_nested_free(s);
     return rc;
+}
+
+/* ---- checkpoints ---- */
+
+static const char NMAGIC[16] = "lantern-nest-v1";
+
+#define PUT(x) lt_ckpt_put(&c, &(x), sizeof(x))
+#define PUTA(p, k) lt_ckpt_put(&c, (p), (k) * sizeof *(p))
+
+int lt_nested_save(const lt_nested *s, const char *path, uint64_t fingerprint, lt_error *err)
+{
+    lt_ckpt c;
+    if (lt_ckpt_create(&c, path, err))
+        return err->code;
+    size_t d = s->o.dim, n = s->o.nlive;
+    lt_ckpt_put(&c, NMAGIC, sizeof NMAGIC);
+    PUT(fingerprint);
+    PUT(s->o.dim), PUT(s->o.nlive), PUT(s->o.seed), PUT(s->o.dlogz), PUT(s->o.enlarge);
+    PUT(s->o.max_iter);
+    PUT(s->rng), PUT(s->logz), PUT(s->logx), PUT(s->it), PUT(s->ns), PUT(s->accepted);
+    PUT(s->proposed), PUT(s->evals), PUT(s->walk), PUT(s->finished);
+    PUTA(s->u, n * d), PUTA(s->th, n * d), PUTA(s->ll, n);
+    PUTA(s->theta, s->ns * d), PUTA(s->loglike, s->ns), PUTA(s->logw, s->ns);
+    return lt_ckpt_commit(&c, err);
+}
+
+#define GET(x) lt_ckpt_get(&c, &(x), sizeof(x))
+#define GETA(p, k) lt_ckpt_get(&c, (p), (k) * sizeof *(p))
+
+lt_nested *lt_nested_load(const char *path, uint64_t fingerprint, const lt_nested_opts *o,
+                          lt_prior_transform transform, void *tctx, lt_loglike f, void **ctx,
+                          lt_error *err)
+{
+    lt_ckpt c;
+    if (lt_ckpt_open(&c, path, err))
+        return NULL;
+    char magic[16];
+    uint64_t fp;
+    lt_nested_opts so = *o; /* threads are not part of the state */
+    lt_nested *s = NULL;
+    if (lt_ckpt_get(&c, magic, sizeof magic) || memcmp(magic, NMAGIC, sizeof NMAGIC) != 0) {
+        lt_error_set(err, LT_EINPUT, path, 0, "not a lantern nested-sampling checkpoint");
+        goto fail;
+    }
+    if (GET(fp) || GET(so.dim) || GET(so.nlive) || GET(so.seed) || GET(so.dlogz) ||
+        GET(so.enlarge) || GET(so.max_iter))
+        goto damaged;
+    if (fp != fingerprint || so.dim != o->dim || so.nlive != o->nlive || so.seed != o->seed ||
+        so.dlogz != o->dlogz || so.enlarge != o->enlarge || so.max_iter != o->max_iter) {
+        lt_error_set(err, LT_EINPUT, path, 0,
+                     "the checkpoint belongs to another run: its data, model, priors, seed or "
+                     "live points differ from these");
+        goto fail;
+    }
+    size_t it, ns;
+    lt_rng rng;
+    double logz, logx;
+    if (GET(rng) || GET(logz) || GET(logx) || GET(it) || GET(ns))
+        goto damaged;
+    if (ns > it || it > so.max_iter)
+        goto damaged;
+    s = nested_shell(&so, ns > so.nlive * 64 ? ns : so.nlive * 64, transform, tctx, f, ctx, err);
+    if (!s)
+        goto fail;
+    size_t d = so.dim, n = so.nlive;
+    s->rng = rng, s->logz = logz, s->logx = logx, s->it = it, s->ns = ns;
+    if (GET(s->accepted) || GET(s->proposed) || GET(s->evals) || GET(s->walk) ||
+        GET(s->finished) || GETA(s->u, n * d) || GETA(s->th, n * d) || GETA(s->ll, n) ||
+        GETA(s->theta, ns * d) || GETA(s->loglike, ns) || GETA(s->logw, ns))
+        goto damaged;
+    if (lt_ckpt_close_read(&c)) {
+        lt_error_set(err, LT_EINPUT, path, 0, "the checkpoint is damaged or truncated");
+        lt_nested_free(s);
+        return NULL;
+    }
+    return s;
+damaged:
+    lt_error_set(err, LT_EINPUT, path, 0, "the checkpoint is damaged or truncated");
+fail:
+    fclose(c.f);
+    lt_nested_free(s);
+    return NULL;
 }

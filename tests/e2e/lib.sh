@@ -46,3 +46,15 @@ expect_stdout() {
         fail "$1 (want status 0 and stdout matching '$2')"
     fi
 }
+
+# wait_for PATH: until PATH exists (at most 30 s). Interrupt tests wait for
+# the checkpoint folder, made once lantern catches signals: a background job
+# of a script starts with SIGINT ignored, so an earlier Ctrl-C would be lost.
+wait_for() {
+    local i
+    for i in $(seq 300); do
+        [ -e "$1" ] && return 0
+        sleep 0.1
+    done
+    return 1
+}

@@ -46,3 +46,48 @@ run "$LANTERN" compare "${DATA[@]}" --models lcdm,foo
 expect_error "an unknown model" 2 "unknown model 'foo'"
 run "$LANTERN" compare "${DATA[@]}" --models lcdm --live-points 5
 expect_error "too few live points" 2 "--live-points: '5'"
+
+# Interrupted by each signal lantern catches, at several points, and resumed
+# each time: the same summary, table and weighted draws as an uninterrupted
+# comparison, and no final file while it is unfinished.
+CMP=(--models lcdm-flat,wcdm-flat,w0wa-flat --live-points 400 --seed 5 --format json --quiet)
+run "$LANTERN" compare "${DATA[@]}" "${CMP[@]}" --out "$E2E_TMP/whole"
+cp "$OUT" "$E2E_TMP/whole.json"
+"$LANTERN" compare "${DATA[@]}" "${CMP[@]}" --out "$E2E_TMP/cut" >/dev/null 2>"$ERR" &
+pid=$!
+wait_for "$E2E_TMP/cut/checkpoint"
+sleep 0.3
+kill -INT $pid
+wait $pid
+first=$?
+if [ "$first" -eq 1 ] && grep -q "continue with the same options and --resume" "$ERR" &&
+   [ -d "$E2E_TMP/cut/checkpoint" ] && [ ! -e "$E2E_TMP/cut/summary.json" ] &&
+   [ -z "$(ls "$E2E_TMP/cut" | grep nested_)" ]; then
+    pass "compare, SIGINT: status 1, checkpoints and no final files"
+else
+    fail "compare, SIGINT: status 1, checkpoints and no final files (status $first)"
+fi
+kills=0
+for sig in TERM HUP INT; do
+    "$LANTERN" compare "${DATA[@]}" "${CMP[@]}" --resume "$E2E_TMP/cut" >/dev/null 2>>"$ERR" &
+    pid=$!
+    sleep 0.4
+    kill -$sig $pid 2>/dev/null && kills=$((kills + 1))
+    wait $pid
+done
+run "$LANTERN" compare "${DATA[@]}" "${CMP[@]}" --resume "$E2E_TMP/cut"
+same=1
+for f in summary.json nested_lcdm-flat.csv nested_wcdm-flat.csv nested_w0wa-flat.csv; do
+    cmp -s "$E2E_TMP/whole/$f" "$E2E_TMP/cut/$f" || same=0
+done
+if [ "$STATUS" -eq 0 ] && [ "$kills" -ge 1 ] && [ "$same" -eq 1 ] && cmp -s "$OUT" "$E2E_TMP/whole.json"; then
+    pass "compare killed at four points ($kills resumed runs killed) and resumed: byte-identical results"
+else
+    fail "compare killed at four points ($kills resumed runs killed) and resumed: byte-identical results"
+fi
+run "$LANTERN" compare "${DATA[@]}" --models lcdm-flat,wcdm-flat,w0wa-flat --live-points 400 --seed 6 --resume "$E2E_TMP/cut"
+expect_error "compare --resume with another seed is refused" 2 "belongs to another run"
+run "$LANTERN" compare "${DATA[@]}" "${CMP[@]}" --resume "$E2E_TMP/nowhere"
+expect_error "compare --resume without a checkpoint" 2 "no checkpoint here"
+run "$LANTERN" compare "${DATA[@]}" "${CMP[@]}" --out "$E2E_TMP/cut"
+expect_error "compare: an earlier comparison is refused without --force" 2 "pass --force"

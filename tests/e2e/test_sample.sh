@@ -62,7 +62,8 @@ run "$LANTERN" sample "${DATA[@]}" "${LONG[@]}" --out "$E2E_TMP/full"
 expect_status "a long reference run" 0
 "$LANTERN" sample "${DATA[@]}" "${LONG[@]}" --out "$E2E_TMP/cut" >"$OUT" 2>"$ERR" &
 pid=$!
-sleep 0.5
+wait_for "$E2E_TMP/cut/checkpoint/settings.ini"
+sleep 0.3
 kill -INT $pid
 wait $pid
 STATUS=$?
@@ -87,7 +88,8 @@ fi
 # rewrites its outputs).
 "$LANTERN" sample "${DATA[@]}" "${LONG[@]}" --out "$E2E_TMP/multi" >"$OUT" 2>"$ERR" &
 pid=$!
-sleep 0.2
+wait_for "$E2E_TMP/multi/checkpoint/settings.ini"
+sleep 0.1
 kill -TERM $pid
 wait $pid
 first=$?

@@ -13,7 +13,9 @@
 #include <stddef.h>
 #include <stdint.h>
 #include <stdio.h>
+#include <signal.h>
 #include <string.h>
+#include <unistd.h>
 
 #include <cmocka.h>
 #include <gsl/gsl_errno.h>
@@ -162,6 +164,78 @@ static void test_threads(void **state)
     lt_nested_result_free(&c);
 }
 
+/* Stop after K likelihood calls (one thread, so the point is exact), save,
+ * load, finish: the result of a run without the stop, to the byte. Then a
+ * foreign checkpoint (another fingerprint, another seed) and a damaged one
+ * are refused. */
+static volatile sig_atomic_t stop_flag;
+static long calls_left;
+
+static double counting_ll(const double *t, void *p)
+{
+    if (--calls_left == 0)
+        stop_flag = 1;
+    return gauss_ll(t, p);
+}
+
+static void test_resume(void **state)
+{
+    (void)state;
+    box b = {2, 10.0};
+    void *ctx[1] = {&b};
+    lt_nested_opts o = {2, 100, 9, 0.01, 1.25, 100000, 1};
+    lt_nested_result whole, again;
+    lt_error err;
+    calls_left = -1;
+    assert_int_equal(lt_nested_run(&o, to_box, &b, counting_ll, ctx, &whole, &err), LT_OK);
+    char path[] = "/tmp/lantern-test-nested-XXXXXX";
+    int fd = mkstemp(path);
+    assert_true(fd >= 0);
+    close(fd);
+    for (long k = 150; k <= 2400; k *= 4) { /* early and late stops */
+        stop_flag = 0;
+        calls_left = k;
+        lt_nested *s = lt_nested_alloc(&o, to_box, &b, counting_ll, ctx, &err);
+        assert_non_null(s);
+        assert_int_equal(lt_nested_iterate(s, &stop_flag, &err), LT_EINTR);
+        size_t at = lt_nested_iterations(s);
+        assert_int_equal(lt_nested_save(s, path, 42, &err), LT_OK);
+        lt_nested_free(s);
+        calls_left = -1;
+        stop_flag = 0;
+        s = lt_nested_load(path, 42, &o, to_box, &b, counting_ll, ctx, &err);
+        assert_non_null(s);
+        assert_int_equal(lt_nested_iterations(s), at);
+        assert_int_equal(lt_nested_iterate(s, &stop_flag, &err), LT_OK);
+        assert_int_equal(lt_nested_result_get(s, &again, &err), LT_OK);
+        lt_nested_free(s);
+        assert_true(again.logz == whole.logz && again.nsamples == whole.nsamples &&
+                    again.evals == whole.evals && again.iterations == whole.iterations);
+        assert_memory_equal(again.theta, whole.theta, whole.nsamples * 2 * sizeof(double));
+        assert_memory_equal(again.logw, whole.logw, whole.nsamples * sizeof(double));
+        lt_nested_result_free(&again);
+    }
+    /* foreign and damaged checkpoints */
+    assert_null(lt_nested_load(path, 43, &o, to_box, &b, gauss_ll, ctx, &err));
+    assert_non_null(strstr(err.msg, "belongs to another run"));
+    lt_nested_opts other = o;
+    other.seed = 10;
+    assert_null(lt_nested_load(path, 42, &other, to_box, &b, gauss_ll, ctx, &err));
+    assert_non_null(strstr(err.msg, "belongs to another run"));
+    FILE *f = fopen(path, "r+b");
+    assert_non_null(f);
+    fseek(f, 200, SEEK_SET);
+    fputc(0x5a, f);
+    fclose(f);
+    assert_null(lt_nested_load(path, 42, &o, to_box, &b, gauss_ll, ctx, &err));
+    assert_non_null(strstr(err.msg, "damaged"));
+    truncate(path, 100);
+    assert_null(lt_nested_load(path, 42, &o, to_box, &b, gauss_ll, ctx, &err));
+    assert_non_null(strstr(err.msg, "damaged"));
+    remove(path);
+    lt_nested_result_free(&whole);
+}
+
 int main(void)
 {
     gsl_set_error_handler_off();
@@ -170,6 +244,7 @@ int main(void)
         cmocka_unit_test(test_error_is_honest),
         cmocka_unit_test(test_linear_gaussian),
         cmocka_unit_test(test_threads),
+        cmocka_unit_test(test_resume),
     };
     return cmocka_run_group_tests_name("nested", tests, NULL, NULL);
 }
