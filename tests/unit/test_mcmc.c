@@ -172,6 +172,13 @@ static void invert(const double *a, double *inv, size_t d)
             inv[i * d + j] = m[i * 2 * d + d + j];
 }
 
+/* Four chains' contexts, each its own copy of the target. */
+static void four_chains(const target *t, target ts[4], void *ctx[4])
+{
+    for (int c = 0; c < 4; c++)
+        ts[c] = *t, ctx[c] = &ts[c];
+}
+
 static lt_mcmc *sample(target *t, void **ctx, size_t nchains, const double *center,
                        const double *scale, int threads, double target_ess)
 {
@@ -248,8 +255,9 @@ static void test_banana(void **state)
     (void)state;
     double b = 0.03;
     target t = {2, {0.01, 0, 0, 1}, b, 0, 0, NULL};
-    target ts[4] = {t, t, t, t};
-    void *ctx[4] = {&ts[0], &ts[1], &ts[2], &ts[3]};
+    target ts[4];
+    void *ctx[4];
+    four_chains(&t, ts, ctx);
     double center[2] = {0, 0}, scale[2] = {30, 10};
     lt_mcmc *m = sample(&t, ctx, 4, center, scale, 0, 2000);
     lt_error err;
@@ -280,8 +288,9 @@ static void test_delayed_rejection(void **state)
     double cov[4] = {1, 0, 0, 1}, center[2] = {0, 0}, scale[2] = {1, 1};
     target t = {2, {0}, 0, 0, 0, NULL};
     invert(cov, t.prec, 2);
-    target ts[4] = {t, t, t, t};
-    void *ctx[4] = {&ts[0], &ts[1], &ts[2], &ts[3]};
+    target ts[4];
+    void *ctx[4];
+    four_chains(&t, ts, ctx);
     /* proposal covariance = 2.38^2/d * start_cov: start_cov = 2^2 d / 2.38^2 */
     double wide = 4.0 * 2.0 / (2.38 * 2.38);
     double start_cov[4] = {wide, 0, 0, wide};
@@ -326,8 +335,9 @@ static void test_memory_limit(void **state)
     double cov[4] = {1, 0, 0, 1}, center[2] = {0, 0}, scale[2] = {1, 1};
     target t = {2, {0}, 0, 0, 0, NULL};
     invert(cov, t.prec, 2);
-    target ts[4] = {t, t, t, t};
-    void *ctx[4] = {&ts[0], &ts[1], &ts[2], &ts[3]};
+    target ts[4];
+    void *ctx[4];
+    four_chains(&t, ts, ctx);
     /* an ESS target it cannot reach: the run would go to max_steps */
     lt_mcmc_opts o = {2, 1, 4, 7, center, NULL, scale, 2000, 1000, 1000000, 1e12, 0.01, 0, 1e6};
     lt_error err;
@@ -361,8 +371,9 @@ static void test_threads(void **state)
     double cov[4] = {1, 0.5, 0.5, 2}, center[2] = {0, 0}, scale[2] = {5, 5};
     target t = {2, {0}, 0, 0, 0, NULL};
     invert(cov, t.prec, 2);
-    target ts[4] = {t, t, t, t};
-    void *ctx[4] = {&ts[0], &ts[1], &ts[2], &ts[3]};
+    target ts[4];
+    void *ctx[4];
+    four_chains(&t, ts, ctx);
     lt_error err;
     lt_mcmc *one = sample(&t, ctx, 4, center, scale, 1, 3000);
     lt_mcmc *two = sample(&t, ctx, 4, center, scale, 2, 3000);
