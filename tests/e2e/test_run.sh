@@ -67,6 +67,36 @@ else
     fail "several runs go into one table and one set of figures"
 fi
 
+# Interrupted in its first evidence step (the progress line says when it
+# starts) and resumed: the same summaries and tables as the run above.
+R="$E2E_TMP/rcut"
+"$LANTERN" run "$ROOT/configs/demo.ini" --out "$R" >/dev/null 2>"$ERR" &
+pid=$!
+for i in $(seq 600); do
+    grep -q "evidence by nested sampling" "$ERR" && break
+    sleep 0.05
+done
+sleep 0.1
+kill -INT $pid
+wait $pid
+first=$?
+if [ "$first" -eq 1 ] && grep -q "continue with 'lantern run .* --resume" "$ERR" && [ ! -e "$R/summary.json" ]; then
+    pass "run, SIGINT in the evidence step: status 1 and no run summary"
+else
+    fail "run, SIGINT in the evidence step: status 1 and no run summary (status $first)"
+fi
+run "$LANTERN" run "$ROOT/configs/demo.ini" --resume "$R" --quiet
+same=1
+for f in summary.json constraints.md constraints.csv constraints.tex lcdm-flat/summary.json lcdm/summary.json \
+    wcdm-flat/summary.json w0wa-flat/summary.json lcdm-flat/chains.csv; do
+    cmp -s "$D/$f" "$R/$f" || same=0
+done
+if [ "$STATUS" -eq 0 ] && [ "$same" -eq 1 ]; then
+    pass "run --resume after it: byte-identical summaries, tables and chains"
+else
+    fail "run --resume after it: byte-identical summaries, tables and chains"
+fi
+
 # refusals
 run "$LANTERN" run "$ROOT/configs/demo.ini" --out "$D"
 expect_error "an earlier run is refused without --force" 2 "pass --force"
