@@ -89,6 +89,13 @@ double *lt_cosmo_params_slot(lt_cosmo_params *p, int id);
 int lt_cosmo_params_set(lt_cosmo_params *p, const lt_cosmo_model *m,
                         const char *name, double value, lt_error *err);
 
+/* A list "name=value,name=value" (as --set takes it) applied with
+ * lt_cosmo_params_set. *seen collects the LT_PMASK bits given so far, over
+ * several lists: a name given twice is an error. Errors name where as their
+ * file (the option, say). */
+int lt_cosmo_params_parse(lt_cosmo_params *p, const lt_cosmo_model *m, const char *text,
+                          unsigned *seen, const char *where, lt_error *err);
+
 /* A model with parameter values and what follows from them. Read the fields
  * freely; fill it only with lt_cosmo_init. */
 struct lt_cosmo {

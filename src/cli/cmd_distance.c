@@ -72,44 +72,6 @@ static void usage(FILE *f)
           f);
 }
 
-/* Apply "k=v,k=v" to p. */
-static int apply_sets(const char *text, const lt_cosmo_model *m, lt_cosmo_params *p,
-                      unsigned *seen)
-{
-    char *copy = strdup(text);
-    if (!copy)
-        return cli_usage_error("--set", "out of memory");
-    int status = CLI_OK;
-    char *save = NULL;
-    for (char *item = strtok_r(copy, ",", &save); item; item = strtok_r(NULL, ",", &save)) {
-        char *eq = strchr(item, '=');
-        double v;
-        if (!eq) {
-            status = cli_usage_error("--set", "'%s' is not of the form name=value", item);
-            break;
-        }
-        *eq = '\0';
-        if (lt_parse_double(eq + 1, &v)) {
-            status = cli_usage_error("--set", "value of %s is not a finite number: '%s'",
-                                     item, eq + 1);
-            break;
-        }
-        lt_error err;
-        if (lt_cosmo_params_set(p, m, item, v, &err)) {
-            status = cli_usage_error("--set", "%s", err.msg);
-            break;
-        }
-        unsigned bit = LT_PMASK(lt_cosmo_param_find(item));
-        if (*seen & bit) {
-            status = cli_usage_error("--set", "%s is given twice", item);
-            break;
-        }
-        *seen |= bit;
-    }
-    free(copy);
-    return status;
-}
-
 /* Redshifts from "--z 0.1,0.5,1". */
 static int parse_z_list(const char *text, double **z, size_t *n)
 {
@@ -346,11 +308,11 @@ int cli_distance(int argc, char **argv)
     lt_cosmo_params p;
     lt_cosmo_params_default(&p);
     unsigned seen = 0;
-    for (int i = 0; i < nsets; i++)
-        if (apply_sets(sets[i], m, &p, &seen))
-            return CLI_USAGE;
-
     lt_error err;
+    for (int i = 0; i < nsets; i++)
+        if (lt_cosmo_params_parse(&p, m, sets[i], &seen, "--set", &err))
+            return cli_report(&err);
+
     lt_cosmo c;
     if (lt_cosmo_init(&c, m, &p, &err))
         return cli_report(&err);

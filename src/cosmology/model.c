@@ -11,6 +11,7 @@
  */
 #include <math.h>
 #include <stddef.h>
+#include <stdlib.h>
 #include <string.h>
 
 #include "internal.h"
@@ -170,4 +171,38 @@ int lt_cosmo_params_set(lt_cosmo_params *p, const lt_cosmo_model *m,
                             "model %s has no parameter %s", m->name, name);
     *lt_cosmo_params_slot(p, id) = value;
     return LT_OK;
+}
+
+int lt_cosmo_params_parse(lt_cosmo_params *p, const lt_cosmo_model *m, const char *text,
+                          unsigned *seen, const char *where, lt_error *err)
+{
+    char *copy = strdup(text);
+    if (!copy)
+        return lt_error_set(err, LT_ENOMEM, where, 0, "out of memory");
+    int rc = LT_OK;
+    char *save = NULL;
+    for (char *item = strtok_r(copy, ",", &save); item && !rc; item = strtok_r(NULL, ",", &save)) {
+        char *eq = strchr(item, '=');
+        double v;
+        if (!eq) {
+            rc = lt_error_set(err, LT_EINPUT, where, 0, "'%s' is not of the form name=value", item);
+            break;
+        }
+        *eq = '\0';
+        if (lt_parse_double(eq + 1, &v)) {
+            rc = lt_error_set(err, LT_EINPUT, where, 0, "value of %s is not a finite number: '%s'",
+                              item, eq + 1);
+            break;
+        }
+        if ((rc = lt_cosmo_params_set(p, m, item, v, err))) {
+            lt_error_locate(err, LT_EINPUT, where, 0);
+            break;
+        }
+        unsigned bit = LT_PMASK(lt_cosmo_param_find(item));
+        if (*seen & bit)
+            rc = lt_error_set(err, LT_EINPUT, where, 0, "%s is given twice", item);
+        *seen |= bit;
+    }
+    free(copy);
+    return rc;
 }

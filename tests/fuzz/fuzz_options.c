@@ -1,6 +1,6 @@
 /* The option-value parsers: --prior (lt_prior_parse), --columns
- * (lt_colmap_parse), --fix and --set values (lt_parse_double, then
- * lt_cosmo_params_set by name), integers (lt_parse_long). The first byte
+ * (lt_colmap_parse), --set lists and --fix values (lt_cosmo_params_parse:
+ * splitting, numbers, names, repeats), integers (lt_parse_long). The first byte
  * picks the parser; the rest, NUL-terminated, is the value. */
 #include "fuzz.h"
 #include "lantern/lantern.h"
@@ -27,18 +27,12 @@ int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)
             lt_colmap_free(&map);
         break;
     }
-    case 2: { /* NAME=VALUE as --fix and --set take it */
-        char *eq = strchr(text, '=');
-        double v;
-        if (eq) {
-            *eq = '\0';
-            if (lt_parse_double(eq + 1, &v) == 0) {
-                const lt_cosmo_model *m = lt_cosmo_model_find("w0wa");
-                lt_cosmo_params p;
-                lt_cosmo_params_default(&p);
-                lt_cosmo_params_set(&p, m, text, v, &err);
-            }
-        }
+    case 2: { /* --set's list name=value,... (and --fix's single NAME=VALUE) */
+        const lt_cosmo_model *m = lt_cosmo_model_find(size % 2 ? "w0wa" : "lcdm-flat");
+        lt_cosmo_params p;
+        lt_cosmo_params_default(&p);
+        unsigned seen = 0;
+        lt_cosmo_params_parse(&p, m, text, &seen, "--set", &err);
         break;
     }
     default: {
