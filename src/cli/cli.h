@@ -133,13 +133,14 @@ int cli_sample(int argc, char **argv);
 int cli_run(int argc, char **argv);
 int cli_compare(int argc, char **argv);
 int cli_bench(int argc, char **argv);
-/* Nested sampling of l's posterior with live points (compare.c). With a
- * checkpoint path: a checkpoint there (whose fingerprint fp must match) is
- * continued, an interruption (*stop set) saves the state there and returns
- * LT_EINTR, and a finished run saves its final state there too, so that a
- * resumed comparison does not redo it. */
-int cli_nested_model(const lt_like *l, long live, uint64_t seed, int threads,
-                     const char *checkpoint, uint64_t fp, volatile sig_atomic_t *stop,
+/* Nested sampling of l's posterior (spec: what l was made from) with live
+ * points (compare.c). With a checkpoint path: a checkpoint there is
+ * continued if its fingerprint (data, model, priors, seed, live points)
+ * matches and refused if not, an interruption (*stop set) saves the state
+ * there and returns LT_EINTR, and a finished run saves its final state there
+ * too, so that a resumed comparison does not redo it. */
+int cli_nested_model(const lt_like *l, const lt_like_spec *spec, long live, uint64_t seed,
+                     int threads, const char *checkpoint, volatile sig_atomic_t *stop,
                      lt_nested_result *r, lt_error *err);
 
 /* Ctrl-C, SIGTERM and SIGHUP set the flag returned, for the samplers to

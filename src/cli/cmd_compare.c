@@ -167,11 +167,14 @@ static int write_samples(const char *dir, const model_run *mr, lt_error *err)
     return lt_file_commit(path, err);
 }
 
-int cli_nested_model(const lt_like *l, long live, uint64_t seed, int threads,
-                     const char *checkpoint, uint64_t fp, volatile sig_atomic_t *stop,
+int cli_nested_model(const lt_like *l, const lt_like_spec *spec, long live, uint64_t seed,
+                     int threads, const char *checkpoint, volatile sig_atomic_t *stop,
                      lt_nested_result *r, lt_error *err)
 {
     memset(r, 0, sizeof *r);
+    uint64_t fp = cli_like_fingerprint(l, spec);
+    uint64_t settings[] = {seed, (uint64_t)live};
+    cli_fnv(&fp, settings, sizeof settings);
     lt_like_nested *ctx = calloc((size_t)threads, sizeof *ctx);
     void **cp = calloc((size_t)threads, sizeof *cp);
     int ok = ctx && cp, rc;
@@ -338,10 +341,7 @@ int cli_compare(int argc, char **argv)
         }
         char ck[4400];
         snprintf(ck, sizeof ck, "%s/nested_%s.bin", ckdir, mr->name);
-        uint64_t fp = cli_like_fingerprint(mr->l, &spec);
-        uint64_t settings[] = {j.seed, (uint64_t)live};
-        cli_fnv(&fp, settings, sizeof settings);
-        int rc = cli_nested_model(mr->l, live, j.seed, threads, j.out ? ck : NULL, fp, stop,
+        int rc = cli_nested_model(mr->l, &spec, live, j.seed, threads, j.out ? ck : NULL, stop,
                                   &mr->nr, &err);
         if (rc == LT_EINTR) {
             if (j.out)

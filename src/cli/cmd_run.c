@@ -348,11 +348,8 @@ int cli_run(int argc, char **argv)
             lt_nested_result nr;
             char nck[4400];
             snprintf(nck, sizeof nck, "%.4000s/checkpoint/nested.bin", dirs[k]);
-            uint64_t fp = cli_like_fingerprint(l, &spec);
-            uint64_t settings[] = {j.seed, 1000};
-            cli_fnv(&fp, settings, sizeof settings);
-            int rc = cli_nested_model(l, 1000, j.seed, threads, nck, fp, cli_catch_signals(), &nr,
-                                      &err);
+            int rc = cli_nested_model(l, &spec, 1000, j.seed, threads, nck, cli_catch_signals(),
+                                      &nr, &err);
             if (rc == LT_OK)
                 rc = add_evidence(dirs[k], &nr, &err);
             lt_nested_result_free(&nr);

@@ -63,10 +63,8 @@ static void usage(FILE *f)
 }
 
 /* FNV-1a over what makes a run what it is: the data as read, the model,
- * the priors and fixed values, the seed and the sampler settings (not the
- * thread count, which does not change the draws). */
-/* The run's digest: data, model and priors (cli_like_fingerprint), then
- * the sampler settings that shape the chains. */
+ * the priors and fixed values (cli_like_fingerprint), then the seed and the
+ * sampler settings (not the thread count, which does not change the draws). */
 static uint64_t fingerprint(const lt_like *l, const lt_like_spec *spec, const cli_job *j)
 {
     uint64_t h = cli_like_fingerprint(l, spec);
