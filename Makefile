@@ -1,6 +1,7 @@
 # lantern - build, test, demo, benchmark, install.
 #
 #   make            liblantern.a and bin/lantern (packages must be installed)
+#   make mpi        bin/lantern-mpi (campaigns over Open MPI ranks; mpicc)
 #   make demo       install missing packages, build, run the demo
 #   make test       install missing packages, build, run every test
 #   make bench      benchmarks
@@ -32,7 +33,7 @@ LDLIBS := $(PKG_LIBS) -lm
 
 BUILD ?= build
 BINDIR ?= bin
-LIB_SRC := $(wildcard src/util/*.c src/cosmology/*.c src/survey/*.c src/simulate/*.c src/likelihood/*.c src/inference/*.c src/report/*.c)
+LIB_SRC := $(wildcard src/util/*.c src/cosmology/*.c src/survey/*.c src/simulate/*.c src/likelihood/*.c src/inference/*.c src/report/*.c src/campaign/*.c)
 CLI_SRC := $(wildcard src/cli/*.c)
 LIB_OBJ := $(LIB_SRC:%.c=$(BUILD)/%.o)
 CLI_OBJ := $(CLI_SRC:%.c=$(BUILD)/%.o)
@@ -45,8 +46,12 @@ BENCH_BIN := $(BENCH_SRC:tests/%.c=$(BUILD)/tests/%)
 
 LIB := $(BUILD)/liblantern.a
 BIN := $(BINDIR)/lantern
+MPI_BIN := $(BINDIR)/lantern-mpi
+MPICC ?= mpicc
+# lantern-mpi: the same command line with its own entry (src/cli/mpi/).
+MPI_CLI_OBJ := $(filter-out $(BUILD)/src/cli/entry.o,$(CLI_OBJ)) $(BUILD)/src/cli/mpi/main_mpi.o
 
-.PHONY: all deps check-pkgs demo test check bench install clean asan valgrind fuzz test-long tests-built
+.PHONY: mpi all deps check-pkgs demo test check bench install clean asan valgrind fuzz test-long tests-built
 all: $(LIB) $(BIN)
 
 # Refuse to build with missing libraries, with a message that says what to do.
@@ -78,6 +83,18 @@ $(BUILD)/tests/%: tests/%.c $(LIB) $(HEADERS)
 	@$(if $(Q),echo "  LINK    $@")
 	$(Q)$(CC) $(ALL_CFLAGS) $(TEST_CFLAGS) -Isrc $< $(LIB) $(TEST_LIBS) $(LDLIBS) -o $@
 
+$(BUILD)/src/cli/mpi/main_mpi.o: src/cli/mpi/main_mpi.c $(HEADERS) src/cli/campaign.h | check-pkgs
+	@mkdir -p $(dir $@)
+	@$(if $(Q),echo "  MPICC   $<")
+	$(Q)OMPI_CC=$(CC) $(MPICC) $(ALL_CFLAGS) -c $< -o $@
+
+$(MPI_BIN): $(MPI_CLI_OBJ) $(LIB)
+	@mkdir -p $(BINDIR)
+	@$(if $(Q),echo "  LINK    $@")
+	$(Q)OMPI_CC=$(CC) $(MPICC) $(ALL_CFLAGS) $(MPI_CLI_OBJ) $(LIB) $(LDLIBS) -o $@
+
+mpi: $(MPI_BIN)
+
 deps:
 	@bash scripts/install-deps.sh
 
@@ -93,7 +110,7 @@ demo-run: all
 test: deps
 	@$(MAKE) --no-print-directory check
 
-tests-built: all $(TEST_BIN)
+tests-built: all $(MPI_BIN) $(TEST_BIN)
 
 check: tests-built
 	@bash tests/run.sh

@@ -13,5 +13,6 @@
 #include "lantern/likelihood.h"
 #include "lantern/inference.h"
 #include "lantern/report.h"
+#include "lantern/campaign.h"
 
 #endif

@@ -146,4 +146,27 @@ struct cJSON *lt_report_add_data(struct cJSON *o, const lt_survey_spec *data,
 /* Write a JSON object to path atomically (pretty-printed). */
 int lt_report_write_json(const char *path, const struct cJSON *o, lt_error *err);
 
+/* ---- campaigns and forecasts ---- */
+
+/* One parameter of a campaign group: its pulls and its coverage. */
+typedef struct lt_bias_panel {
+    const char *name;
+    size_t n;
+    const double *pulls;
+    double pull_mean, pull_width;
+    double cover68, cover68_err, cover95, cover95_err;
+} lt_bias_panel;
+
+/* dir/name.{png,pdf}: a histogram of each parameter's pulls against the
+ * N(0, 1) they should follow, and below, the coverage of the 68% and 95%
+ * intervals with their binomial errors against the nominal values. */
+int lt_report_write_bias_figure(const char *dir, const char *name, const char *title,
+                                const lt_bias_panel *panels, size_t np, lt_error *err);
+
+/* dir/name.{png,pdf}: the 68% and 95% joint regions of a two-parameter
+ * Gaussian with covariance cov (row major, 2 x 2) around (x, y). */
+int lt_report_write_ellipse(const char *dir, const char *name, const char *title,
+                            const char *xname, const char *yname, double x, double y,
+                            const double cov[4], lt_error *err);
+
 #endif

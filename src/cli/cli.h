@@ -124,6 +124,11 @@ int cli_job_model(const cli_job *j, const char *command, lt_like_spec *spec);
 /* The help text of the MODEL options. */
 extern const char *cli_model_help;
 
+/* The whole command line: set-up, then the command argv[1]. */
+int cli_main(int argc, char **argv);
+/* The set-up every entry does once: third-party global state (main.c). */
+void cli_setup(void);
+
 /* Commands. */
 int cli_distance(int argc, char **argv);
 int cli_inspect(int argc, char **argv);
@@ -133,6 +138,7 @@ int cli_sample(int argc, char **argv);
 int cli_run(int argc, char **argv);
 int cli_compare(int argc, char **argv);
 int cli_bench(int argc, char **argv);
+int cli_campaign(int argc, char **argv);
 /* Nested sampling of l's posterior (spec: what l was made from) with live
  * points (compare.c). With a checkpoint path: a checkpoint there is
  * continued if its fingerprint (data, model, priors, seed, live points)

@@ -1,6 +1,7 @@
 /*
  * lantern: the command line. Dispatches to one subcommand; each lives in its
- * own cmd_*.c file and returns the process exit status.
+ * own cmd_*.c file and returns the process exit status. The process entry
+ * is entry.c (bin/lantern) or mpi/main_mpi.c (bin/lantern-mpi).
  */
 #include <string.h>
 
@@ -27,6 +28,7 @@ static const cli_command commands[] = {
     {"run", "the whole job from a run file: fits, posteriors, comparison, report", cli_run},
     {"report", "rebuild tables and figures from saved runs", cli_report_runs},
     {"bench", "time the likelihood on given data: rate, set-up, memory, accuracy", cli_bench},
+    {"campaign", "many tasks over data sets, models and methods: bias and coverage", cli_campaign},
 };
 #define NCOMMANDS (sizeof commands / sizeof commands[0])
 
@@ -45,7 +47,7 @@ static void usage(FILE *f)
     fputs("\n'lantern COMMAND --help' describes each command.\n", f);
 }
 
-int main(int argc, char **argv)
+void cli_setup(void)
 {
     /* GSL's default error handler aborts the process; the library checks
      * GSL's return codes instead. Switched off once, here, before any
@@ -55,6 +57,11 @@ int main(int argc, char **argv)
      * rounding; one thread keeps results identical on every machine
      * (DESIGN.md: a fixed thread count for threaded library routines). */
     openblas_set_num_threads(1);
+}
+
+int cli_main(int argc, char **argv)
+{
+    cli_setup();
 
     if (argc < 2) {
         usage(stderr);

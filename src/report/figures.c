@@ -570,3 +570,168 @@ int lt_report_write_figures(const char *dir, const lt_run_model *models, size_t 
     }
     return rc;
 }
+
+/* ---- campaigns: pulls and coverage ---- */
+typedef struct {
+    const char *title;
+    const lt_bias_panel *p;
+    size_t np;
+} bias_ctx;
+
+static void draw_bias(const void *ctx)
+{
+    const bias_ctx *b = ctx;
+    size_t np = b->np;
+    plschr(0, 0.75);
+    double left = 0.07, right = 0.98, gap = 0.04;
+    double w = (right - left - gap * (double)(np - 1)) / (double)np;
+    /* top row: the pulls of each parameter against N(0, 1) */
+    for (size_t k = 0; k < np; k++) {
+        const lt_bias_panel *p = &b->p[k];
+        double x0 = left + (double)k * (w + gap);
+        plvpor(x0, x0 + w, 0.56, 0.90);
+        const int nb = 16;
+        const double lo = -4, hi = 4, bw = (hi - lo) / nb;
+        double count[16] = {0}, peak = 0.4 * (double)p->n * bw;
+        for (size_t i = 0; i < p->n; i++) {
+            if (!isfinite(p->pulls[i]))
+                continue;
+            int j = (int)floor((p->pulls[i] - lo) / bw);
+            j = j < 0 ? 0 : j >= nb ? nb - 1 : j; /* the outer bins hold the tails */
+            count[j] += 1;
+        }
+        for (int j = 0; j < nb; j++)
+            peak = fmax(peak, count[j]);
+        plcol0(C_INK);
+        plwind(lo, hi, 0, 1.15 * (peak > 0 ? peak : 1));
+        plbox("bcnst", 0, 0, k == 0 ? "bcnstv" : "bcst", 0, 0);
+        plcol0(C_MODEL);
+        for (int j = 0; j < nb; j++) {
+            if (count[j] <= 0)
+                continue;
+            PLFLT xs[4] = {lo + j * bw, lo + j * bw, lo + (j + 1) * bw, lo + (j + 1) * bw};
+            PLFLT ys[4] = {0, count[j], count[j], 0};
+            plline(4, xs, ys);
+        }
+        /* the expectation: n bw phi(x) */
+        PLFLT gx[81], gy[81];
+        for (int j = 0; j < 81; j++) {
+            gx[j] = lo + (hi - lo) * j / 80.0;
+            gy[j] = (double)p->n * bw * exp(-0.5 * gx[j] * gx[j]) / sqrt(2 * M_PI);
+        }
+        plcol0(C_INK);
+        pllsty(2);
+        plline(81, gx, gy);
+        pllsty(1);
+        plmtex("b", 3.0, 0.5, 0.5, "pull (estimate - truth) / #gs");
+        if (k == 0)
+            plmtex("l", 3.5, 0.5, 0.5, "realizations");
+        char t[128];
+        snprintf(t, sizeof t, "%s: mean %.2f, width %.2f", axis_label(p->name), p->pull_mean,
+                 p->pull_width);
+        plmtex("t", 0.8, 0.5, 0.5, t);
+    }
+    /* bottom: coverage of the 68% and 95% intervals with their binomial errors */
+    plvpor(left, right, 0.10, 0.42);
+    plcol0(C_INK);
+    plwind(0.5, (double)np + 0.5, 0.4, 1.02);
+    plbox("bc", 0, 0, "bcnstv", 0, 0);
+    for (double nominal = 0.68; nominal < 1; nominal += 0.27) {
+        PLFLT hx[2] = {0.5, (double)np + 0.5}, hy[2] = {nominal, nominal};
+        plcol0(C_GREY);
+        pllsty(2);
+        plline(2, hx, hy);
+        pllsty(1);
+    }
+    for (size_t k = 0; k < np; k++) {
+        const lt_bias_panel *p = &b->p[k];
+        const double f[2] = {p->cover68, p->cover95}, e[2] = {p->cover68_err, p->cover95_err};
+        for (int s = 0; s < 2; s++) {
+            PLFLT x = (double)(k + 1) + (s ? 0.08 : -0.08), y = f[s];
+            PLFLT ex[2] = {x, x}, ey[2] = {y - e[s], y + e[s]};
+            plcol0(C_MODEL + s);
+            plline(2, ex, ey);
+            plssym(0, 1.3);
+            plpoin(1, &x, &y, s ? 4 : 17);
+            plssym(0, 1.0);
+        }
+        plcol0(C_INK);
+        plmtex("b", 1.5, ((double)k + 0.5) / (double)np, 0.5, axis_label(p->name));
+    }
+    plcol0(C_INK);
+    plmtex("l", 3.5, 0.5, 0.5, "coverage");
+    plmtex("b", 3.2, 0.5, 0.5,
+           "68% (dot) and 95% (circle) intervals holding the truth; dashed: nominal; bars: "
+           "binomial errors");
+    plschr(0, 0.9);
+    plmtex("t", 2.2, 0.5, 0.5, ""); /* keeps PLplot's character state */
+    plvpor(left, right, 0.93, 0.99);
+    plwind(0, 1, 0, 1);
+    plptex(0.5, 0.3, 1, 0, 0.5, b->title);
+}
+
+int lt_report_write_bias_figure(const char *dir, const char *name, const char *title,
+                                const lt_bias_panel *panels, size_t np, lt_error *err)
+{
+    if (np == 0)
+        return LT_OK;
+    bias_ctx b = {title, panels, np};
+    int w = np < 3 ? 900 : 300 * (int)np + 100;
+    return figure(dir, name, 1, w, 700, draw_bias, &b, err);
+}
+
+/* ---- forecasts: the Fisher ellipse of two parameters ---- */
+typedef struct {
+    const char *title, *xname, *yname;
+    double x, y, cxx, cxy, cyy;
+} ellipse_ctx;
+
+static void draw_ellipse(const void *ctx)
+{
+    const ellipse_ctx *e = ctx;
+    /* for two parameters jointly, the 68.3% and 95.4% regions of a Gaussian
+     * are Delta chi2 = 2.30 and 6.18 (Press et al., Numerical Recipes, 3rd
+     * ed., section 15.6, table) */
+    const double dchi2[2] = {2.30, 6.18};
+    double a = e->cxx, b = e->cxy, c = e->cyy;
+    /* axes from the eigen-decomposition of [[a b][b c]] */
+    double tr = 0.5 * (a + c), disc = sqrt(0.25 * (a - c) * (a - c) + b * b);
+    double l1 = tr + disc, l2 = fmax(tr - disc, 0), ang = 0.5 * atan2(2 * b, a - c);
+    double sx = sqrt(a * dchi2[1]) * 1.25, sy = sqrt(c * dchi2[1]) * 1.25;
+    plschr(0, 0.85);
+    plvpor(0.14, 0.95, 0.12, 0.90);
+    plcol0(C_INK);
+    plwind(e->x - sx, e->x + sx, e->y - sy, e->y + sy);
+    plbox("bcnst", 0, 0, "bcnstv", 0, 0);
+    for (int k = 0; k < 2; k++) {
+        PLFLT px[201], py[201];
+        double r1 = sqrt(l1 * dchi2[k]), r2 = sqrt(l2 * dchi2[k]);
+        for (int j = 0; j <= 200; j++) {
+            double t = 2 * M_PI * j / 200.0, u = r1 * cos(t), v = r2 * sin(t);
+            px[j] = e->x + u * cos(ang) - v * sin(ang);
+            py[j] = e->y + u * sin(ang) + v * cos(ang);
+        }
+        plcol0(C_MODEL);
+        pllsty(k ? 2 : 1);
+        plwidth(2);
+        plline(201, px, py);
+        plwidth(1);
+        pllsty(1);
+    }
+    PLFLT fx = e->x, fy = e->y;
+    plcol0(C_INK);
+    plpoin(1, &fx, &fy, 5);
+    plmtex("b", 3.2, 0.5, 0.5, axis_label(e->xname));
+    plmtex("l", 4.5, 0.5, 0.5, axis_label(e->yname));
+    plmtex("t", 2.5, 0.5, 0.5, e->title);
+    plschr(0, 0.7);
+    plmtex("t", 0.9, 0.5, 0.5, "Fisher forecast: 68% (solid) and 95% (dashed) regions, x: fiducial");
+}
+
+int lt_report_write_ellipse(const char *dir, const char *name, const char *title,
+                            const char *xname, const char *yname, double x, double y,
+                            const double cov[4], lt_error *err)
+{
+    ellipse_ctx e = {title, xname, yname, x, y, cov[0], cov[1], cov[3]};
+    return figure(dir, name, 1, 800, 700, draw_ellipse, &e, err);
+}

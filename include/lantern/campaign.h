@@ -1,0 +1,188 @@
+/*
+ * lantern/campaign.h - many fits at once: campaigns of tasks over data sets,
+ * models and methods, their bias and coverage, and Fisher forecasts of
+ * survey designs.
+ *
+ * A campaign file (INI, keys in lantern campaign --help) lists data sets,
+ * real files or simulated realizations of a scenario (seeds first_seed ..
+ * first_seed + R - 1), models and methods (fit, sample, nested). The task
+ * list is their product, in this order: data set, realization, model,
+ * method. A task is a pure function of the campaign and its index: it
+ * simulates or reads its data, runs its method and returns its result as a
+ * JSON object, so tasks can run anywhere, in any order, on any number of
+ * machines, and give the same numbers (the samplers' draws do not depend
+ * on thread counts). Where tasks run is not this module's business: the
+ * command line runs them in a loop, or over Open MPI ranks, through the
+ * same queue (lt_campaign_queue), which retries a failed task once.
+ *
+ * Nothing here prints.
+ */
+#ifndef LANTERN_CAMPAIGN_H
+#define LANTERN_CAMPAIGN_H
+
+#include <signal.h>
+#include <stdint.h>
+
+#include "lantern/likelihood.h"
+#include "lantern/simulate.h"
+
+struct cJSON;
+
+typedef enum { LT_METHOD_FIT = 0, LT_METHOD_SAMPLE, LT_METHOD_NESTED, LT_NMETHODS } lt_method;
+const char *lt_method_name(lt_method m); /* "fit", "sample", "nested" */
+
+typedef struct lt_campaign_data {
+    char *name;               /* from the section name: [data.NAME], [simulated.NAME] */
+    int simulated;
+    lt_survey_spec spec;      /* real data: the files (paths absolute) */
+    char *strings[8 + LT_SURVEY_MAX_COV]; /* what spec points to */
+    lt_scenario scenario;     /* simulated data */
+    long first_seed, realizations;
+} lt_campaign_data;
+
+/* A prior or fixed value as written, applied to every model that has the
+ * parameter. */
+typedef struct lt_campaign_kv {
+    int id;                   /* LT_P_* or LT_PAR_OFFSET */
+    int prior;                /* 1 prior, 0 fixed */
+    lt_prior p;
+    double value;
+} lt_campaign_kv;
+
+typedef struct lt_campaign {
+    char *path, *name;
+    uint64_t digest;          /* of the campaign file and its scenarios: ties a resume to them */
+    size_t ndata;
+    lt_campaign_data *data;
+    size_t nmodels;
+    const lt_cosmo_model *models[16];
+    size_t nmethods;
+    lt_method methods[LT_NMETHODS];
+    lt_offset_mode offset;
+    size_t nkv;
+    lt_campaign_kv kv[2 * LT_NPAR];
+    unsigned long seed;       /* the samplers' base seed */
+    long starts;              /* fit: optimiser starts */
+    long chains, warmup, check_every, max_steps; /* sample */
+    double target_ess;
+    long live_points;         /* nested */
+    size_t ntasks;
+} lt_campaign;
+
+/* Read and check a campaign file; errors name the file and line. */
+int lt_campaign_read(const char *path, lt_campaign *c, lt_error *err);
+void lt_campaign_free(lt_campaign *c);
+
+typedef struct lt_campaign_task {
+    size_t index;
+    size_t data;              /* index into c->data */
+    long realization;         /* the scenario seed; 0 for real data */
+    size_t model;             /* index into c->models */
+    lt_method method;
+    uint64_t seed;            /* the sampler's seed: from the campaign seed, data set and
+                               * realization, the same for every model and method */
+} lt_campaign_task;
+
+void lt_campaign_task_get(const lt_campaign *c, size_t index, lt_campaign_task *t);
+/* "lamplighter/r12/lcdm-flat/sample" */
+void lt_campaign_task_label(const lt_campaign *c, size_t index, char *buf, size_t size);
+
+/*
+ * Run task index with threads OpenMP threads (0: the default). On success
+ * *result is a new JSON object: task, dataset, realization, model, method,
+ * status "ok", n_data, chi2_min, dof, converged and params.NAME.{truth (for
+ * simulated data), estimate, sd, lo68, hi68, lo95, hi95} with estimate the
+ * best fit (fit) or the posterior mean (sample, nested) and the intervals
+ * best +- 1 and 1.96 sd (fit) or equal-tailed (sample, nested); sample adds
+ * convergence, nested evidence. LT_EINTR if *stop was set.
+ */
+int lt_campaign_task_run(const lt_campaign *c, size_t index, int threads,
+                         volatile sig_atomic_t *stop, struct cJSON **result, lt_error *err);
+
+/* The record of a task that failed (status "failed", its error). */
+struct cJSON *lt_campaign_task_failed(const lt_campaign *c, size_t index, const lt_error *e);
+
+/*
+ * The queue both runners share: tasks in index order, skipping those
+ * already done (a resume); a failed task goes back once, ahead of new ones.
+ */
+typedef struct lt_campaign_queue {
+    size_t ntasks, next;
+    unsigned char *state;     /* 0 to do, 1 running, 2 done, 3 failed for good */
+    unsigned char *attempts;
+    size_t *retry, nretry;    /* failed once, to run again */
+    size_t running;
+} lt_campaign_queue;
+
+int lt_campaign_queue_init(lt_campaign_queue *q, size_t ntasks);
+void lt_campaign_queue_free(lt_campaign_queue *q);
+void lt_campaign_queue_skip(lt_campaign_queue *q, size_t index); /* finished earlier */
+/* The next task to run, or -1 if none is waiting (some may be running). */
+long lt_campaign_queue_take(lt_campaign_queue *q);
+/* A task ended: ok or not. Returns 1 if it goes back to be retried. */
+int lt_campaign_queue_done(lt_campaign_queue *q, size_t index, int ok);
+int lt_campaign_queue_finished(const lt_campaign_queue *q);
+
+/*
+ * The summary: the campaign, counts of tasks done and failed, each task's
+ * result (in index order; results[i] may be NULL for a task not run), and
+ * for each (data set, model, method) of simulated data, each parameter's
+ * bias and coverage (lt_campaign_bias). The results are not taken over.
+ */
+struct cJSON *lt_campaign_summary(const lt_campaign *c, struct cJSON *const *results);
+
+/* ---- bias and coverage over realizations ---- */
+
+typedef struct lt_bias_stats {
+    size_t n;                        /* realizations with an estimate and an error */
+    double truth;
+    double bias_mean, bias_err;      /* mean of estimate - truth, and its error sd/sqrt(n) */
+    double pull_mean, pull_mean_err; /* pulls (estimate - truth)/sd */
+    double pull_width, pull_width_err; /* their sd, and its error sd/sqrt(2(n-1)) */
+    size_t in68, in95;               /* intervals that hold the truth */
+    double cover68, cover68_err, cover68_p; /* fraction, binomial error, exact test vs 0.68 */
+    double cover95, cover95_err, cover95_p;
+} lt_bias_stats;
+
+/* From n realizations: estimate, sd, and the 68% and 95% intervals. */
+void lt_bias_compute(double truth, size_t n, const double *est, const double *sd,
+                     const double *lo68, const double *hi68, const double *lo95,
+                     const double *hi95, lt_bias_stats *s);
+
+/* The two-sided exact binomial test of k successes in n trials against
+ * probability p: the total probability of the outcomes no more likely than
+ * k (the usual definition, e.g. Hollander & Wolfe, Nonparametric
+ * Statistical Methods, section 2.1). */
+double lt_binomial_test(size_t k, size_t n, double p);
+
+/* ---- forecasts ---- */
+
+/*
+ * The Fisher matrix of a survey design: the scenario simulated without
+ * noise (observed = truth, the same objects and covariance), the
+ * likelihood of spec on it, and F = (1/2) d^2 chi2_eff / dtheta_i dtheta_j
+ * at the scenario's parameters by central differences (the compressed
+ * likelihood where it applies). With noiseless data the residuals vanish
+ * at the truth, so this is J^T C^-1 J, the Fisher matrix of a Gaussian
+ * likelihood (Tegmark, Taylor & Heavens 1997, ApJ 480, 22, eq. 15), with
+ * the marginalised offset projected out. Gaussian priors add 1/sd^2;
+ * uniform priors add nothing.
+ */
+typedef struct lt_forecast {
+    size_t dim, n_data;
+    int id[LT_NPAR];
+    double fiducial[LT_NPAR];
+    double fisher[LT_NPAR * LT_NPAR];
+    double cov[LT_NPAR * LT_NPAR];   /* F^-1 */
+    double sd[LT_NPAR];              /* marginal: sqrt of cov's diagonal */
+    double sd_cond[LT_NPAR];         /* the others fixed: 1/sqrt(F_ii) */
+    int has_w0wa;
+    double fom;                      /* 1/sqrt(det Cov(w0, wa)) */
+    double z_pivot, w_pivot_sd;
+    size_t K;                        /* compression knots (0: exact path) */
+} lt_forecast;
+
+int lt_forecast_run(const lt_scenario *sc, const lt_like_spec *spec, lt_forecast *f,
+                    lt_error *err);
+
+#endif

@@ -1,0 +1,485 @@
+/* Campaign files, the task list and the queue: see lantern/campaign.h. */
+#include <limits.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <unistd.h>
+
+#include "lantern/campaign.h"
+
+const char *lt_method_name(lt_method m)
+{
+    static const char *names[LT_NMETHODS] = {"fit", "sample", "nested"};
+    return m < LT_NMETHODS ? names[m] : "?";
+}
+
+static void fnv(uint64_t *h, const void *p, size_t n)
+{
+    const unsigned char *b = p;
+    for (size_t i = 0; i < n; i++)
+        *h = (*h ^ b[i]) * 0x100000001B3ull;
+}
+
+/* The digest of a file's bytes into h. */
+static int digest_file(uint64_t *h, const char *path, lt_error *err)
+{
+    char *text = NULL;
+    size_t size = 0;
+    if (lt_file_read(path, 16u << 20, &text, &size, err))
+        return err->code;
+    fnv(h, text, size);
+    free(text);
+    return LT_OK;
+}
+
+/* A path from the campaign file: relative to its folder, made absolute so
+ * that task records name it from anywhere. Returns a new string. */
+static char *resolve(const char *campaign_path, const char *path)
+{
+    char base[PATH_MAX] = "";
+    if (path[0] != '/') {
+        const char *slash = strrchr(campaign_path, '/');
+        if (campaign_path[0] != '/' && !getcwd(base, sizeof base - 2))
+            base[0] = '\0';
+        size_t len = strlen(base);
+        if (len)
+            base[len++] = '/', base[len] = '\0';
+        if (slash)
+            snprintf(base + len, sizeof base - len, "%.*s/", (int)(slash - campaign_path),
+                     campaign_path);
+    }
+    size_t n = strlen(base) + strlen(path) + 1;
+    char *s = malloc(n);
+    if (s)
+        snprintf(s, n, "%s%s", base, path);
+    return s;
+}
+
+/* Split a comma-separated list in place into at most max trimmed items. */
+static size_t split_list(char *s, char **items, size_t max)
+{
+    size_t n = 0;
+    for (char *tok = strtok(s, ","); tok; tok = strtok(NULL, ",")) {
+        while (*tok == ' ' || *tok == '\t')
+            tok++;
+        size_t len = strlen(tok);
+        while (len && (tok[len - 1] == ' ' || tok[len - 1] == '\t'))
+            tok[--len] = '\0';
+        if (n == max)
+            return max + 1;
+        items[n++] = tok;
+    }
+    return n;
+}
+
+static int read_models(lt_ini *ini, lt_campaign *c, lt_error *err)
+{
+    lt_ini_entry *e = lt_ini_get(ini, "campaign", "models");
+    if (!e)
+        return lt_error_set(err, LT_EINPUT, ini->path, 0,
+                            "[campaign] needs models = M1, M2, ... (lcdm-flat, lcdm, wcdm-flat, "
+                            "wcdm, w0wa-flat, w0wa)");
+    char buf[LT_INI_LINE_MAX + 1], *items[17];
+    snprintf(buf, sizeof buf, "%s", e->value);
+    size_t n = split_list(buf, items, 16);
+    if (n == 0 || n > 16)
+        return lt_error_set(err, LT_EINPUT, ini->path, e->line, "models: give 1 to 16 models");
+    for (size_t i = 0; i < n; i++) {
+        const lt_cosmo_model *m = lt_cosmo_model_find(items[i]);
+        if (!m)
+            return lt_error_set(err, LT_EINPUT, ini->path, e->line,
+                                "unknown model '%s' (lcdm-flat, lcdm, wcdm-flat, wcdm, "
+                                "w0wa-flat, w0wa)",
+                                items[i]);
+        for (size_t k = 0; k < c->nmodels; k++)
+            if (c->models[k] == m)
+                return lt_error_set(err, LT_EINPUT, ini->path, e->line,
+                                    "model %s is listed twice", m->name);
+        c->models[c->nmodels++] = m;
+    }
+    return LT_OK;
+}
+
+static int read_methods(lt_ini *ini, lt_campaign *c, lt_error *err)
+{
+    lt_ini_entry *e = lt_ini_get(ini, "campaign", "methods");
+    if (!e) {
+        c->methods[c->nmethods++] = LT_METHOD_FIT;
+        return LT_OK;
+    }
+    char buf[LT_INI_LINE_MAX + 1], *items[LT_NMETHODS + 1];
+    snprintf(buf, sizeof buf, "%s", e->value);
+    size_t n = split_list(buf, items, LT_NMETHODS);
+    if (n == 0 || n > LT_NMETHODS)
+        return lt_error_set(err, LT_EINPUT, ini->path, e->line,
+                            "methods: give one or more of fit, sample, nested");
+    for (size_t i = 0; i < n; i++) {
+        int m = -1;
+        for (int k = 0; k < LT_NMETHODS; k++)
+            if (!strcmp(items[i], lt_method_name((lt_method)k)))
+                m = k;
+        if (m < 0)
+            return lt_error_set(err, LT_EINPUT, ini->path, e->line,
+                                "unknown method '%s' (fit, sample, nested)", items[i]);
+        for (size_t k = 0; k < c->nmethods; k++)
+            if (c->methods[k] == (lt_method)m)
+                return lt_error_set(err, LT_EINPUT, ini->path, e->line,
+                                    "method %s is listed twice", items[i]);
+        c->methods[c->nmethods++] = (lt_method)m;
+    }
+    return LT_OK;
+}
+
+/* [priors] and [fixed]: every key names a parameter. */
+static int read_kv(lt_ini *ini, lt_campaign *c, int prior, lt_error *err)
+{
+    const char *section = prior ? "priors" : "fixed";
+    lt_ini_has_section(ini, section);
+    for (size_t i = 0; i < ini->n; i++) {
+        lt_ini_entry *e = &ini->entries[i];
+        if (strcmp(e->section, section))
+            continue;
+        e->used = 1;
+        int id = lt_par_find(e->key);
+        if (id < 0)
+            return lt_error_set(err, LT_EINPUT, ini->path, e->line,
+                                "unknown parameter '%s' (h0, omega_m, omega_de, w0, wa, t_cmb, "
+                                "n_eff, offset)",
+                                e->key);
+        for (size_t k = 0; k < c->nkv; k++)
+            if (c->kv[k].id == id)
+                return lt_error_set(err, LT_EINPUT, ini->path, e->line,
+                                    "%s has both a prior and a fixed value; give one", e->key);
+        lt_campaign_kv *kv = &c->kv[c->nkv];
+        kv->id = id, kv->prior = prior;
+        if (prior ? lt_prior_parse(e->value, &kv->p, err) != LT_OK
+                  : lt_parse_double(e->value, &kv->value) != LT_OK) {
+            if (!prior)
+                lt_error_set(err, LT_EINPUT, NULL, 0, "%s = '%s' is not a finite number", e->key,
+                             e->value);
+            return lt_error_locate(err, LT_EINPUT, ini->path, e->line);
+        }
+        c->nkv++;
+    }
+    return LT_OK;
+}
+
+static int keep(lt_campaign_data *d, size_t *n, char *s, const char **slot, lt_error *err)
+{
+    if (!s)
+        return lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
+    d->strings[(*n)++] = s;
+    *slot = s;
+    return LT_OK;
+}
+
+/* [data.NAME]: the keys of a run file's [data] section. */
+static int read_real(lt_ini *ini, const char *section, lt_campaign_data *d, lt_error *err)
+{
+    lt_survey_spec_init(&d->spec);
+    size_t ns = 0;
+    const char *v;
+    int rc;
+    if ((rc = lt_ini_string(ini, section, "file", 1, &v, err)) ||
+        (rc = keep(d, &ns, resolve(ini->path, v), &d->spec.data, err)))
+        return rc;
+    if ((rc = lt_ini_string(ini, section, "columns", 1, &v, err)) ||
+        (rc = keep(d, &ns, strdup(v), &d->spec.columns, err)))
+        return rc;
+    v = NULL;
+    if ((rc = lt_ini_string(ini, section, "modes", 0, &v, err)) ||
+        (v && (rc = keep(d, &ns, resolve(ini->path, v), &d->spec.modes, err))))
+        return rc;
+    lt_ini_entry *e = lt_ini_get(ini, section, "cov");
+    if (e) {
+        char buf[LT_INI_LINE_MAX + 1], *items[LT_SURVEY_MAX_COV + 1];
+        snprintf(buf, sizeof buf, "%s", e->value);
+        size_t n = split_list(buf, items, LT_SURVEY_MAX_COV);
+        if (n == 0 || n > LT_SURVEY_MAX_COV)
+            return lt_error_set(err, LT_EINPUT, ini->path, e->line,
+                                "cov: give 1 to %d files, separated by commas",
+                                LT_SURVEY_MAX_COV);
+        for (size_t i = 0; i < n; i++)
+            if ((rc = keep(d, &ns, resolve(ini->path, items[i]), &d->spec.cov[i], err)))
+                return rc;
+        d->spec.ncov = n;
+    }
+    if ((e = lt_ini_get(ini, section, "no_err_diag"))) {
+        if (strcmp(e->value, "true") && strcmp(e->value, "false"))
+            return lt_error_set(err, LT_EINPUT, ini->path, e->line,
+                                "no_err_diag = '%s': give true or false", e->value);
+        d->spec.no_err_diag = !strcmp(e->value, "true");
+    }
+    if ((rc = lt_ini_double(ini, section, "zmin", 0, &d->spec.zmin, err)) ||
+        (rc = lt_ini_double(ini, section, "zmax", 0, &d->spec.zmax, err)))
+        return rc;
+    d->realizations = 1;
+    return LT_OK;
+}
+
+/* [simulated.NAME]: scenario = FILE, realizations = R, first_seed = S. */
+static int read_simulated(lt_ini *ini, const char *section, lt_campaign_data *d, uint64_t *h,
+                          lt_error *err)
+{
+    const char *v;
+    int rc;
+    if ((rc = lt_ini_string(ini, section, "scenario", 1, &v, err)))
+        return rc;
+    char *path = resolve(ini->path, v);
+    if (!path)
+        return lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
+    rc = lt_scenario_read(path, &d->scenario, err);
+    if (rc == LT_OK)
+        rc = digest_file(h, path, err);
+    free(path);
+    if (rc)
+        return rc;
+    d->simulated = 1;
+    d->first_seed = 1;
+    if ((rc = lt_ini_long(ini, section, "realizations", 1, 1, 1000000, &d->realizations, err)) ||
+        (rc = lt_ini_long(ini, section, "first_seed", 0, 1, LONG_MAX / 2, &d->first_seed, err)))
+        return rc;
+    return LT_OK;
+}
+
+int lt_campaign_read(const char *path, lt_campaign *c, lt_error *err)
+{
+    memset(c, 0, sizeof *c);
+    c->seed = 1;
+    c->starts = 8;
+    c->chains = 4;
+    c->check_every = 1000;
+    c->max_steps = 200000;
+    c->target_ess = 1000;
+    c->live_points = 1000;
+    c->offset = LT_OFFSET_DEFAULT;
+    c->digest = 0xcbf29ce484222325ull;
+    lt_ini *ini = lt_ini_read(path, err);
+    if (!ini)
+        return err->code;
+    int rc;
+    const char *v = NULL;
+    /* absolute, so that a resume from another folder finds it */
+    char full[PATH_MAX];
+    c->path = strdup(realpath(path, full) ? full : path);
+    if ((rc = digest_file(&c->digest, path, err)))
+        goto done;
+    if ((rc = lt_ini_string(ini, "campaign", "name", 0, &v, err)))
+        goto done;
+    if (!v) {
+        /* the file's stem */
+        const char *base = strrchr(path, '/') ? strrchr(path, '/') + 1 : path;
+        const char *dot = strrchr(base, '.');
+        size_t len = dot && dot != base ? (size_t)(dot - base) : strlen(base);
+        c->name = strndup(base, len);
+    } else
+        c->name = strdup(v);
+    long seed = (long)c->seed;
+    if ((rc = read_models(ini, c, err)) || (rc = read_methods(ini, c, err)) ||
+        (rc = lt_ini_long(ini, "campaign", "seed", 0, 0, LONG_MAX, &seed, err)))
+        goto done;
+    c->seed = (unsigned long)seed;
+    lt_ini_entry *e;
+    if ((e = lt_ini_get(ini, "campaign", "offset"))) {
+        int m = lt_offset_parse(e->value);
+        if (m < 0) {
+            rc = lt_error_set(err, LT_EINPUT, ini->path, e->line,
+                              "offset = '%s': give none, marginal or sampled", e->value);
+            goto done;
+        }
+        c->offset = (lt_offset_mode)m;
+    }
+    if ((rc = read_kv(ini, c, 1, err)) || (rc = read_kv(ini, c, 0, err)) ||
+        (rc = lt_ini_long(ini, "fit", "starts", 0, 1, 1000, &c->starts, err)) ||
+        (rc = lt_ini_long(ini, "sampler", "chains", 0, 2, 256, &c->chains, err)) ||
+        (rc = lt_ini_long(ini, "sampler", "warmup", 0, 0, 100000000, &c->warmup, err)) ||
+        (rc = lt_ini_long(ini, "sampler", "check_every", 0, 10, 100000000, &c->check_every,
+                          err)) ||
+        (rc = lt_ini_long(ini, "sampler", "max_steps", 0, 10, 1000000000, &c->max_steps, err)) ||
+        (rc = lt_ini_double(ini, "sampler", "target_ess", 0, &c->target_ess, err)) ||
+        (rc = lt_ini_long(ini, "nested", "live_points", 0, 20, 100000, &c->live_points, err)))
+        goto done;
+    if (!(c->target_ess >= 1)) {
+        rc = lt_error_set(err, LT_EINPUT, ini->path, lt_ini_get(ini, "sampler", "target_ess")->line,
+                          "target_ess must be at least 1");
+        goto done;
+    }
+    /* data sets, in file order */
+    for (size_t i = 0; i < ini->nsections; i++) {
+        const char *s = ini->sections[i];
+        int real = !strncmp(s, "data.", 5), sim = !strncmp(s, "simulated.", 10);
+        if (!real && !sim)
+            continue;
+        const char *name = s + (real ? 5 : 10);
+        if (!*name || strchr(name, '/')) {
+            rc = lt_error_set(err, LT_EINPUT, ini->path, ini->section_lines[i],
+                              "[%s]: name the data set after the dot, without '/'", s);
+            goto done;
+        }
+        lt_campaign_data *d = realloc(c->data, (c->ndata + 1) * sizeof *d);
+        if (!d) {
+            rc = lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
+            goto done;
+        }
+        c->data = d;
+        d = &c->data[c->ndata++];
+        memset(d, 0, sizeof *d);
+        d->name = strdup(name);
+        for (size_t k = 0; k + 1 < c->ndata; k++)
+            if (!strcmp(c->data[k].name, name)) {
+                rc = lt_error_set(err, LT_EINPUT, ini->path, ini->section_lines[i],
+                                  "data set '%s' is given twice", name);
+                goto done;
+            }
+        lt_ini_has_section(ini, s);
+        if ((rc = real ? read_real(ini, s, d, err) : read_simulated(ini, s, d, &c->digest, err)))
+            goto done;
+    }
+    if (c->ndata == 0) {
+        rc = lt_error_set(err, LT_EINPUT, ini->path, 0,
+                          "no data sets: add [data.NAME] (a survey file) or [simulated.NAME] "
+                          "(realizations of a scenario) sections");
+        goto done;
+    }
+    if ((rc = lt_ini_check_used(ini, err)))
+        goto done;
+    for (size_t i = 0; i < c->ndata; i++)
+        c->ntasks += (size_t)c->data[i].realizations;
+    c->ntasks *= c->nmodels * c->nmethods;
+done:
+    lt_ini_free(ini);
+    if (rc)
+        lt_campaign_free(c);
+    return rc;
+}
+
+void lt_campaign_free(lt_campaign *c)
+{
+    if (!c)
+        return;
+    for (size_t i = 0; i < c->ndata; i++) {
+        lt_campaign_data *d = &c->data[i];
+        free(d->name);
+        for (size_t k = 0; k < sizeof d->strings / sizeof d->strings[0]; k++)
+            free(d->strings[k]);
+        if (d->simulated)
+            lt_scenario_free(&d->scenario);
+    }
+    free(c->data);
+    free(c->path);
+    free(c->name);
+    memset(c, 0, sizeof *c);
+}
+
+/* splitmix64's finaliser: a well-mixed seed from a few words. */
+static uint64_t mix(uint64_t x)
+{
+    x += 0x9E3779B97F4A7C15ull;
+    x = (x ^ (x >> 30)) * 0xBF58476D1CE4E5B9ull;
+    x = (x ^ (x >> 27)) * 0x94D049BB133111EBull;
+    return x ^ (x >> 31);
+}
+
+void lt_campaign_task_get(const lt_campaign *c, size_t index, lt_campaign_task *t)
+{
+    memset(t, 0, sizeof *t);
+    t->index = index;
+    size_t per = c->nmodels * c->nmethods, rest = index / per, inner = index % per;
+    t->model = inner / c->nmethods;
+    t->method = c->methods[inner % c->nmethods];
+    for (size_t i = 0; i < c->ndata; i++) {
+        size_t r = (size_t)c->data[i].realizations;
+        if (rest < r) {
+            t->data = i;
+            t->realization = c->data[i].simulated ? c->data[i].first_seed + (long)rest : 0;
+            break;
+        }
+        rest -= r;
+    }
+    t->seed = mix(mix(mix(c->seed) ^ t->data) ^ (uint64_t)t->realization) >> 1;
+}
+
+void lt_campaign_task_label(const lt_campaign *c, size_t index, char *buf, size_t size)
+{
+    lt_campaign_task t;
+    lt_campaign_task_get(c, index, &t);
+    char r[32] = "";
+    if (c->data[t.data].simulated)
+        snprintf(r, sizeof r, "/r%ld", t.realization);
+    snprintf(buf, size, "%s%s/%s/%s", c->data[t.data].name, r, c->models[t.model]->name,
+             lt_method_name(t.method));
+}
+
+/* ---- the queue ---- */
+
+int lt_campaign_queue_init(lt_campaign_queue *q, size_t ntasks)
+{
+    memset(q, 0, sizeof *q);
+    q->ntasks = ntasks;
+    q->state = calloc(ntasks + 1, 1);
+    q->attempts = calloc(ntasks + 1, 1);
+    q->retry = calloc(ntasks + 1, sizeof *q->retry);
+    if (!q->state || !q->attempts || !q->retry) {
+        lt_campaign_queue_free(q);
+        return LT_ENOMEM;
+    }
+    return LT_OK;
+}
+
+void lt_campaign_queue_free(lt_campaign_queue *q)
+{
+    free(q->state);
+    free(q->attempts);
+    free(q->retry);
+    memset(q, 0, sizeof *q);
+}
+
+void lt_campaign_queue_skip(lt_campaign_queue *q, size_t index)
+{
+    if (index < q->ntasks)
+        q->state[index] = 2;
+}
+
+long lt_campaign_queue_take(lt_campaign_queue *q)
+{
+    size_t i;
+    if (q->nretry)
+        i = q->retry[--q->nretry];
+    else {
+        while (q->next < q->ntasks && q->state[q->next] != 0)
+            q->next++;
+        if (q->next == q->ntasks)
+            return -1;
+        i = q->next++;
+    }
+    q->state[i] = 1;
+    q->attempts[i]++;
+    q->running++;
+    return (long)i;
+}
+
+int lt_campaign_queue_done(lt_campaign_queue *q, size_t index, int ok)
+{
+    q->running--;
+    if (ok) {
+        q->state[index] = 2;
+        return 0;
+    }
+    if (q->attempts[index] < 2) {
+        q->state[index] = 0;
+        q->retry[q->nretry++] = index;
+        return 1;
+    }
+    q->state[index] = 3;
+    return 0;
+}
+
+int lt_campaign_queue_finished(const lt_campaign_queue *q)
+{
+    if (q->running || q->nretry)
+        return 0;
+    for (size_t i = q->next; i < q->ntasks; i++)
+        if (q->state[i] == 0)
+            return 0;
+    return 1;
+}

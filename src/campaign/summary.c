@@ -1,0 +1,219 @@
+/* A campaign's summary: its task records, and bias and coverage over the
+ * realizations of each simulated data set. */
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include <cjson/cJSON.h>
+#include <gsl/gsl_randist.h>
+
+#include "lantern/campaign.h"
+
+static cJSON *num(double v) { return lt_json_number(v); }
+
+double lt_binomial_test(size_t k, size_t n, double p)
+{
+    if (n == 0 || k > n || !(p >= 0 && p <= 1))
+        return NAN;
+    double pk = gsl_ran_binomial_pdf((unsigned)k, p, (unsigned)n);
+    /* outcomes as likely as k within rounding count as "no more likely"
+     * (the relative tolerance 1e-7 of the usual implementations) */
+    double limit = pk * (1 + 1e-7), total = 0;
+    for (size_t j = 0; j <= n; j++) {
+        double pj = gsl_ran_binomial_pdf((unsigned)j, p, (unsigned)n);
+        if (pj <= limit)
+            total += pj;
+    }
+    return total < 1 ? total : 1;
+}
+
+void lt_bias_compute(double truth, size_t n, const double *est, const double *sd,
+                     const double *lo68, const double *hi68, const double *lo95,
+                     const double *hi95, lt_bias_stats *s)
+{
+    memset(s, 0, sizeof *s);
+    s->truth = truth;
+    double sb = 0, sb2 = 0, sp = 0, sp2 = 0;
+    for (size_t i = 0; i < n; i++) {
+        if (!isfinite(est[i]) || !(sd[i] > 0))
+            continue;
+        double b = est[i] - truth, p = b / sd[i];
+        s->n++;
+        sb += b, sb2 += b * b, sp += p, sp2 += p * p;
+        s->in68 += lo68[i] <= truth && truth <= hi68[i];
+        s->in95 += lo95[i] <= truth && truth <= hi95[i];
+    }
+    double m = (double)s->n;
+    if (s->n == 0) {
+        s->bias_mean = s->bias_err = s->pull_mean = s->pull_mean_err = NAN;
+        s->pull_width = s->pull_width_err = NAN;
+        s->cover68 = s->cover68_err = s->cover68_p = NAN;
+        s->cover95 = s->cover95_err = s->cover95_p = NAN;
+        return;
+    }
+    s->bias_mean = sb / m;
+    s->pull_mean = sp / m;
+    if (s->n > 1) {
+        double vb = fmax(sb2 - m * s->bias_mean * s->bias_mean, 0) / (m - 1);
+        double vp = fmax(sp2 - m * s->pull_mean * s->pull_mean, 0) / (m - 1);
+        s->bias_err = sqrt(vb / m);
+        s->pull_width = sqrt(vp);
+        s->pull_mean_err = s->pull_width / sqrt(m);
+        /* the standard error of a sample sd of Gaussian draws (common practice) */
+        s->pull_width_err = s->pull_width / sqrt(2 * (m - 1));
+    } else
+        s->bias_err = s->pull_width = s->pull_mean_err = s->pull_width_err = NAN;
+    /* errors at the nominal probability: the scatter the coverage would
+     * show if the intervals were right */
+    s->cover68 = (double)s->in68 / m;
+    s->cover68_err = sqrt(0.68 * 0.32 / m);
+    s->cover68_p = lt_binomial_test(s->in68, s->n, 0.68);
+    s->cover95 = (double)s->in95 / m;
+    s->cover95_err = sqrt(0.95 * 0.05 / m);
+    s->cover95_p = lt_binomial_test(s->in95, s->n, 0.95);
+}
+
+static double get(const cJSON *o, const char *name)
+{
+    const cJSON *v = cJSON_GetObjectItemCaseSensitive(o, name);
+    return cJSON_IsNumber(v) ? v->valuedouble : NAN;
+}
+
+static int is(const cJSON *o, const char *key, const char *value)
+{
+    const cJSON *v = cJSON_GetObjectItemCaseSensitive(o, key);
+    return cJSON_IsString(v) && !strcmp(v->valuestring, value);
+}
+
+static cJSON *coverage_json(size_t k, size_t n, double f, double e, double p, double nominal)
+{
+    cJSON *o = cJSON_CreateObject();
+    cJSON_AddItemToObject(o, "nominal", num(nominal));
+    cJSON_AddItemToObject(o, "fraction", num(f));
+    cJSON_AddItemToObject(o, "err", num(e));
+    cJSON_AddItemToObject(o, "covered", num((double)k));
+    cJSON_AddItemToObject(o, "of", num((double)n));
+    cJSON_AddItemToObject(o, "p_value", num(p));
+    return o;
+}
+
+/* Bias and coverage of one (data set, model, method) group. */
+static cJSON *group_json(const lt_campaign *c, size_t d, size_t m, lt_method k,
+                         cJSON *const *results)
+{
+    size_t R = (size_t)c->data[d].realizations;
+    const cJSON *first = NULL;
+    const cJSON **rec = calloc(R + 1, sizeof *rec);
+    double *buf = malloc(6 * (R + 1) * sizeof *buf);
+    if (!rec || !buf) {
+        free(rec);
+        free(buf);
+        return NULL;
+    }
+    size_t n = 0;
+    for (size_t i = 0; i < c->ntasks; i++) {
+        lt_campaign_task t;
+        lt_campaign_task_get(c, i, &t);
+        if (t.data != d || t.model != m || t.method != k || !results[i] ||
+            !is(results[i], "status", "ok"))
+            continue;
+        rec[n++] = results[i];
+        if (!first)
+            first = results[i];
+    }
+    cJSON *o = cJSON_CreateObject();
+    cJSON_AddStringToObject(o, "dataset", c->data[d].name);
+    cJSON_AddStringToObject(o, "model", c->models[m]->name);
+    cJSON_AddStringToObject(o, "method", lt_method_name(k));
+    cJSON_AddItemToObject(o, "realizations", num((double)R));
+    cJSON_AddItemToObject(o, "used", num((double)n));
+    size_t unconv = 0;
+    for (size_t i = 0; i < n; i++)
+        unconv += !cJSON_IsTrue(cJSON_GetObjectItemCaseSensitive(rec[i], "converged"));
+    cJSON_AddItemToObject(o, "unconverged", num((double)unconv));
+    cJSON *params = cJSON_AddObjectToObject(o, "params");
+    const cJSON *fp = first ? cJSON_GetObjectItemCaseSensitive(first, "params") : NULL;
+    const cJSON *par;
+    cJSON_ArrayForEach(par, fp)
+    {
+        double *est = buf, *sd = buf + R, *l68 = buf + 2 * R, *h68 = buf + 3 * R;
+        double *l95 = buf + 4 * R, *h95 = buf + 5 * R;
+        for (size_t i = 0; i < n; i++) {
+            const cJSON *q = cJSON_GetObjectItemCaseSensitive(
+                cJSON_GetObjectItemCaseSensitive(rec[i], "params"), par->string);
+            est[i] = get(q, "estimate"), sd[i] = get(q, "sd");
+            l68[i] = get(q, "lo68"), h68[i] = get(q, "hi68");
+            l95[i] = get(q, "lo95"), h95[i] = get(q, "hi95");
+        }
+        lt_bias_stats s;
+        lt_bias_compute(get(par, "truth"), n, est, sd, l68, h68, l95, h95, &s);
+        cJSON *b = cJSON_AddObjectToObject(params, par->string);
+        cJSON_AddItemToObject(b, "truth", num(s.truth));
+        cJSON_AddItemToObject(b, "n", num((double)s.n));
+        cJSON_AddItemToObject(b, "bias_mean", num(s.bias_mean));
+        cJSON_AddItemToObject(b, "bias_err", num(s.bias_err));
+        cJSON_AddItemToObject(b, "pull_mean", num(s.pull_mean));
+        cJSON_AddItemToObject(b, "pull_mean_err", num(s.pull_mean_err));
+        cJSON_AddItemToObject(b, "pull_width", num(s.pull_width));
+        cJSON_AddItemToObject(b, "pull_width_err", num(s.pull_width_err));
+        cJSON_AddItemToObject(b, "coverage68", coverage_json(s.in68, s.n, s.cover68,
+                                                             s.cover68_err, s.cover68_p, 0.68));
+        cJSON_AddItemToObject(b, "coverage95", coverage_json(s.in95, s.n, s.cover95,
+                                                             s.cover95_err, s.cover95_p, 0.95));
+        cJSON *pulls = cJSON_AddArrayToObject(b, "pulls");
+        for (size_t i = 0; i < n; i++)
+            cJSON_AddItemToArray(pulls, num(sd[i] > 0 ? (est[i] - s.truth) / sd[i] : NAN));
+    }
+    free(rec);
+    free(buf);
+    return o;
+}
+
+cJSON *lt_campaign_summary(const lt_campaign *c, cJSON *const *results)
+{
+    cJSON *o = cJSON_CreateObject();
+    cJSON_AddStringToObject(o, "command", "campaign");
+    cJSON_AddStringToObject(o, "campaign", c->name);
+    cJSON_AddStringToObject(o, "file", c->path);
+    cJSON *models = cJSON_AddArrayToObject(o, "models");
+    for (size_t m = 0; m < c->nmodels; m++)
+        cJSON_AddItemToArray(models, cJSON_CreateString(c->models[m]->name));
+    cJSON *methods = cJSON_AddArrayToObject(o, "methods");
+    for (size_t k = 0; k < c->nmethods; k++)
+        cJSON_AddItemToArray(methods, cJSON_CreateString(lt_method_name(c->methods[k])));
+    size_t ok = 0, failed = 0, unconv = 0;
+    for (size_t i = 0; i < c->ntasks; i++) {
+        if (!results[i])
+            continue;
+        if (is(results[i], "status", "ok")) {
+            ok++;
+            unconv += !cJSON_IsTrue(cJSON_GetObjectItemCaseSensitive(results[i], "converged"));
+        } else
+            failed++;
+    }
+    cJSON_AddItemToObject(o, "tasks", num((double)c->ntasks));
+    cJSON_AddItemToObject(o, "done", num((double)ok));
+    cJSON_AddItemToObject(o, "failed", num((double)failed));
+    cJSON_AddItemToObject(o, "not_run", num((double)(c->ntasks - ok - failed)));
+    cJSON_AddItemToObject(o, "unconverged", num((double)unconv));
+    cJSON_AddBoolToObject(o, "converged", ok == c->ntasks && unconv == 0);
+    cJSON *bias = cJSON_AddArrayToObject(o, "bias");
+    for (size_t d = 0; d < c->ndata; d++) {
+        if (!c->data[d].simulated)
+            continue;
+        for (size_t m = 0; m < c->nmodels; m++)
+            for (size_t k = 0; k < c->nmethods; k++) {
+                cJSON *g = group_json(c, d, m, c->methods[k], results);
+                if (g)
+                    cJSON_AddItemToArray(bias, g);
+            }
+    }
+    cJSON *list = cJSON_AddArrayToObject(o, "results");
+    for (size_t i = 0; i < c->ntasks; i++)
+        if (results[i]) {
+            cJSON *r = cJSON_Duplicate(results[i], 1);
+            cJSON_DeleteItemFromObjectCaseSensitive(r, "where"); /* rank, host, time */
+            cJSON_AddItemToArray(list, r);
+        }
+    return o;
+}
