@@ -8,7 +8,7 @@
 #   make asan       every test again, built with AddressSanitizer and UBSan
 #   make valgrind   the end-to-end tests under valgrind
 #   make fuzz       each libFuzzer target for FUZZ_SECONDS (default 30)
-#   make test-long  make test, then the longer checks (fuzzing 30 s a target)
+#   make test-long  make test, then the longer checks (fuzzing, the 200-survey coverage)
 #   make install PREFIX=/usr/local
 #   make clean
 
@@ -154,8 +154,11 @@ fuzz: deps
 	@$(MAKE) --no-print-directory $(FUZZ_BIN)
 	@FUZZ_SECONDS=$(FUZZ_SECONDS) bash tests/fuzz/run.sh $(FUZZ_BIN)
 
+# The longer checks: fuzzing 30 s a target, and the coverage campaign on all
+# 200 realizations of configs/campaign-coverage.ini (CI runs 40).
 test-long: test
 	@$(MAKE) --no-print-directory fuzz FUZZ_SECONDS=30
+	@COVERAGE_REALIZATIONS=200 bash tests/e2e/test_coverage.sh | tee /dev/stderr | grep -q '^ok '
 
 bench: all $(BENCH_BIN)
 	@bash scripts/bench.sh

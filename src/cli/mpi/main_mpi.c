@@ -153,7 +153,7 @@ int main(int argc, char **argv)
         MPI_Bcast(&status, 1, MPI_INT, 0, MPI_COMM_WORLD);
     } else {
         if (world_rank == 0)
-            fprintf(stderr, "lantern-mpi: only 'campaign' spreads over ranks; run '%s' with "
+            fprintf(stderr, "lantern: only 'campaign' spreads over MPI ranks; run '%s' with "
                             "bin/lantern (or with mpirun -np 1)\n",
                     argc >= 2 ? argv[1] : "a command");
         status = CLI_USAGE;
