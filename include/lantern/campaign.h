@@ -185,4 +185,14 @@ typedef struct lt_forecast {
 int lt_forecast_run(const lt_scenario *sc, const lt_like_spec *spec, lt_forecast *f,
                     lt_error *err);
 
+/*
+ * A forecast file: a scenario (lantern simulate --help) and, optionally,
+ *   [forecast] model = NAME (default: the scenario's), offset = none |
+ *              marginal | sampled
+ *   [priors]   PARAM = uniform:LO:HI | gauss:MEAN:SD
+ *   [fixed]    PARAM = VALUE
+ * into sc and spec. Errors name the file and line.
+ */
+int lt_forecast_read(const char *path, lt_scenario *sc, lt_like_spec *spec, lt_error *err);
+
 #endif

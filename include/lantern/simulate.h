@@ -61,6 +61,9 @@ typedef struct lt_scenario {
 
 /* Read and check a scenario file; errors name the file and line. */
 int lt_scenario_read(const char *path, lt_scenario *sc, lt_error *err);
+/* The same from an INI file already read, for files that add sections of
+ * their own (forecasts): the caller checks for unused keys. */
+int lt_scenario_from_ini(lt_ini *ini, lt_scenario *sc, lt_error *err);
 void lt_scenario_free(lt_scenario *sc);
 
 typedef struct lt_sim {

@@ -6,6 +6,7 @@
 #include <unistd.h>
 
 #include "lantern/campaign.h"
+#include "internal.h"
 
 const char *lt_method_name(lt_method m)
 {
@@ -131,7 +132,7 @@ static int read_methods(lt_ini *ini, lt_campaign *c, lt_error *err)
 }
 
 /* [priors] and [fixed]: every key names a parameter. */
-static int read_kv(lt_ini *ini, lt_campaign *c, int prior, lt_error *err)
+int campaign_read_kv(lt_ini *ini, lt_campaign_kv *list, size_t *nlist, int prior, lt_error *err)
 {
     const char *section = prior ? "priors" : "fixed";
     lt_ini_has_section(ini, section);
@@ -146,11 +147,11 @@ static int read_kv(lt_ini *ini, lt_campaign *c, int prior, lt_error *err)
                                 "unknown parameter '%s' (h0, omega_m, omega_de, w0, wa, t_cmb, "
                                 "n_eff, offset)",
                                 e->key);
-        for (size_t k = 0; k < c->nkv; k++)
-            if (c->kv[k].id == id)
+        for (size_t k = 0; k < *nlist; k++)
+            if (list[k].id == id)
                 return lt_error_set(err, LT_EINPUT, ini->path, e->line,
                                     "%s has both a prior and a fixed value; give one", e->key);
-        lt_campaign_kv *kv = &c->kv[c->nkv];
+        lt_campaign_kv *kv = &list[*nlist];
         kv->id = id, kv->prior = prior;
         if (prior ? lt_prior_parse(e->value, &kv->p, err) != LT_OK
                   : lt_parse_double(e->value, &kv->value) != LT_OK) {
@@ -159,7 +160,7 @@ static int read_kv(lt_ini *ini, lt_campaign *c, int prior, lt_error *err)
                              e->value);
             return lt_error_locate(err, LT_EINPUT, ini->path, e->line);
         }
-        c->nkv++;
+        ++*nlist;
     }
     return LT_OK;
 }
@@ -289,7 +290,8 @@ int lt_campaign_read(const char *path, lt_campaign *c, lt_error *err)
         }
         c->offset = (lt_offset_mode)m;
     }
-    if ((rc = read_kv(ini, c, 1, err)) || (rc = read_kv(ini, c, 0, err)) ||
+    if ((rc = campaign_read_kv(ini, c->kv, &c->nkv, 1, err)) ||
+        (rc = campaign_read_kv(ini, c->kv, &c->nkv, 0, err)) ||
         (rc = lt_ini_long(ini, "fit", "starts", 0, 1, 1000, &c->starts, err)) ||
         (rc = lt_ini_long(ini, "sampler", "chains", 0, 2, 256, &c->chains, err)) ||
         (rc = lt_ini_long(ini, "sampler", "warmup", 0, 0, 100000000, &c->warmup, err)) ||

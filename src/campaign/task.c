@@ -9,6 +9,7 @@
 #include "lantern/campaign.h"
 #include "lantern/inference.h"
 #include "lantern/report.h"
+#include "internal.h"
 
 static cJSON *num(double v) { return lt_json_number(v); }
 
@@ -27,18 +28,18 @@ static int model_has(const lt_cosmo_model *m, int id)
     return lt_cosmo_model_uses(m, id);
 }
 
-static void task_spec(const lt_campaign *c, const lt_cosmo_model *m, lt_like_spec *spec)
+void campaign_like_spec(const lt_cosmo_model *m, lt_offset_mode offset,
+                        const lt_campaign_kv *kv, size_t nkv, lt_like_spec *spec)
 {
     lt_like_spec_init(spec, m);
-    spec->offset = c->offset;
-    for (size_t i = 0; i < c->nkv; i++) {
-        const lt_campaign_kv *kv = &c->kv[i];
-        if (!model_has(m, kv->id))
+    spec->offset = offset;
+    for (size_t i = 0; i < nkv; i++) {
+        if (!model_has(m, kv[i].id))
             continue;
-        if (kv->prior)
-            spec->has_prior[kv->id] = 1, spec->prior[kv->id] = kv->p;
+        if (kv[i].prior)
+            spec->has_prior[kv[i].id] = 1, spec->prior[kv[i].id] = kv[i].p;
         else
-            spec->has_fix[kv->id] = 1, spec->fix[kv->id] = kv->value;
+            spec->has_fix[kv[i].id] = 1, spec->fix[kv[i].id] = kv[i].value;
     }
 }
 
@@ -251,9 +252,7 @@ cJSON *lt_campaign_task_failed(const lt_campaign *c, size_t index, const lt_erro
     return o;
 }
 
-/* The true value of parameter id in scenario sc (the offset: M for mag
- * data, none otherwise). */
-static double truth_of(const lt_scenario *sc, int id)
+double campaign_truth(const lt_scenario *sc, int id)
 {
     if (id == LT_PAR_OFFSET)
         return sc->kind == LT_OBS_MAG ? sc->offset : 0.0;
@@ -292,7 +291,7 @@ int lt_campaign_task_run(const lt_campaign *c, size_t index, int threads,
         s = own;
     }
     lt_like_spec spec;
-    task_spec(c, c->models[t.model], &spec);
+    campaign_like_spec(c->models[t.model], c->offset, c->kv, c->nkv, &spec);
     if (!(l = lt_like_alloc(s, &spec, err))) {
         rc = err->code;
         goto done;
@@ -318,7 +317,7 @@ int lt_campaign_task_run(const lt_campaign *c, size_t index, int threads,
         int id = lt_like_param_id(l, i);
         cJSON *q = cJSON_AddObjectToObject(params, lt_par_name(id));
         if (d->simulated)
-            cJSON_AddItemToObject(q, "truth", num(truth_of(&d->scenario, id)));
+            cJSON_AddItemToObject(q, "truth", num(campaign_truth(&d->scenario, id)));
         cJSON_AddItemToObject(q, "estimate", num(p[i].estimate));
         cJSON_AddItemToObject(q, "sd", num(p[i].sd));
         cJSON_AddItemToObject(q, "lo68", num(p[i].lo68));

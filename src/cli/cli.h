@@ -139,6 +139,7 @@ int cli_run(int argc, char **argv);
 int cli_compare(int argc, char **argv);
 int cli_bench(int argc, char **argv);
 int cli_campaign(int argc, char **argv);
+int cli_forecast(int argc, char **argv);
 /* Nested sampling of l's posterior (spec: what l was made from) with live
  * points (compare.c). With a checkpoint path: a checkpoint there is
  * continued if its fingerprint (data, model, priors, seed, live points)

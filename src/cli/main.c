@@ -29,6 +29,7 @@ static const cli_command commands[] = {
     {"report", "rebuild tables and figures from saved runs", cli_report_runs},
     {"bench", "time the likelihood on given data: rate, set-up, memory, accuracy", cli_bench},
     {"campaign", "many tasks over data sets, models and methods: bias and coverage", cli_campaign},
+    {"forecast", "Fisher forecast of a survey design: errors, figure of merit", cli_forecast},
 };
 #define NCOMMANDS (sizeof commands / sizeof commands[0])
 

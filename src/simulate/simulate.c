@@ -162,6 +162,17 @@ int lt_scenario_read(const char *path, lt_scenario *sc, lt_error *err)
     lt_ini *ini = lt_ini_read(path, err);
     if (!ini)
         return err ? err->code : LT_EINPUT;
+    int rc = lt_scenario_from_ini(ini, sc, err);
+    if (rc == LT_OK && (rc = lt_ini_check_used(ini, err)))
+        lt_scenario_free(sc);
+    lt_ini_free(ini);
+    return rc;
+}
+
+int lt_scenario_from_ini(lt_ini *ini, lt_scenario *sc, lt_error *err)
+{
+    memset(sc, 0, sizeof *sc);
+    const char *path = ini->path;
     int rc = LT_OK;
     sc->path = strdup(path);
     if (!sc->path) {
@@ -204,9 +215,7 @@ int lt_scenario_read(const char *path, lt_scenario *sc, lt_error *err)
                           total, MAX_OBJECTS);
         goto done;
     }
-    rc = lt_ini_check_used(ini, err);
 done:
-    lt_ini_free(ini);
     if (rc)
         lt_scenario_free(sc);
     return rc;

@@ -1,0 +1,190 @@
+/* Fisher forecasts of survey designs: see lantern/campaign.h. */
+#include <math.h>
+#include <string.h>
+
+#include <gsl/gsl_linalg.h>
+
+#include "internal.h"
+
+int lt_forecast_read(const char *path, lt_scenario *sc, lt_like_spec *spec, lt_error *err)
+{
+    memset(sc, 0, sizeof *sc);
+    lt_ini *ini = lt_ini_read(path, err);
+    if (!ini)
+        return err->code;
+    lt_campaign_kv kv[2 * LT_NPAR];
+    size_t nkv = 0;
+    const char *model = NULL;
+    lt_offset_mode offset = LT_OFFSET_DEFAULT;
+    lt_ini_entry *e;
+    int rc = lt_scenario_from_ini(ini, sc, err);
+    if (rc)
+        goto done;
+    if ((rc = lt_ini_string(ini, "forecast", "model", 0, &model, err)))
+        goto done;
+    const lt_cosmo_model *m = model ? lt_cosmo_model_find(model) : sc->model;
+    if (!m) {
+        e = lt_ini_get(ini, "forecast", "model");
+        rc = lt_error_set(err, LT_EINPUT, path, e->line,
+                          "unknown model '%s' (lcdm-flat, lcdm, wcdm-flat, wcdm, w0wa-flat, w0wa)",
+                          model);
+        goto done;
+    }
+    if ((e = lt_ini_get(ini, "forecast", "offset"))) {
+        int o = lt_offset_parse(e->value);
+        if (o < 0) {
+            rc = lt_error_set(err, LT_EINPUT, path, e->line,
+                              "offset = '%s': give none, marginal or sampled", e->value);
+            goto done;
+        }
+        offset = (lt_offset_mode)o;
+    }
+    if ((rc = campaign_read_kv(ini, kv, &nkv, 1, err)) ||
+        (rc = campaign_read_kv(ini, kv, &nkv, 0, err)) || (rc = lt_ini_check_used(ini, err)))
+        goto done;
+    campaign_like_spec(m, offset, kv, nkv, spec);
+done:
+    lt_ini_free(ini);
+    if (rc)
+        lt_scenario_free(sc);
+    return rc;
+}
+
+typedef struct {
+    const lt_like *l;
+    lt_like_work *w;
+    double x[LT_NPAR];
+    size_t dim;
+    int bad; /* a step left the physical domain */
+} fisher_ctx;
+
+/* chi2_eff at x0 + a e_i + b e_j (the likelihood alone: no prior). */
+static double chi2_at(fisher_ctx *c, size_t i, double a, size_t j, double b)
+{
+    double x[LT_NPAR];
+    memcpy(x, c->x, c->dim * sizeof *x);
+    x[i] += a;
+    x[j] += b;
+    lt_like_point p;
+    lt_like_eval(c->l, c->w, x, &p);
+    if (!p.domain_ok || !isfinite(p.chi2_eff)) {
+        c->bad = 1;
+        return NAN;
+    }
+    return p.chi2_eff;
+}
+
+/* The Hessian of chi2_eff at c->x with steps h, by central differences. */
+static void hessian(fisher_ctx *c, const double *h, double *H)
+{
+    size_t d = c->dim;
+    double f0 = chi2_at(c, 0, 0, 0, 0);
+    for (size_t i = 0; i < d; i++) {
+        H[i * d + i] = (chi2_at(c, i, h[i], i, 0) - 2 * f0 + chi2_at(c, i, -h[i], i, 0)) /
+                       (h[i] * h[i]);
+        for (size_t j = 0; j < i; j++) {
+            double v = (chi2_at(c, i, h[i], j, h[j]) - chi2_at(c, i, h[i], j, -h[j]) -
+                        chi2_at(c, i, -h[i], j, h[j]) + chi2_at(c, i, -h[i], j, -h[j])) /
+                       (4 * h[i] * h[j]);
+            H[i * d + j] = H[j * d + i] = v;
+        }
+    }
+}
+
+int lt_forecast_run(const lt_scenario *sc, const lt_like_spec *spec, lt_forecast *f,
+                    lt_error *err)
+{
+    memset(f, 0, sizeof *f);
+    lt_sim sim;
+    int rc = lt_simulate(sc, &sim, err);
+    if (rc)
+        return rc;
+    /* the design without its noise: every object at its true value */
+    lt_survey *s = sim.survey;
+    memcpy(s->obs, sim.truth, s->n * sizeof *s->obs);
+    lt_like *l = lt_like_alloc(s, spec, err);
+    lt_like_work *w = l ? lt_like_work_alloc(l) : NULL;
+    if (!l) {
+        rc = err->code;
+        goto done;
+    }
+    if (!w) {
+        rc = lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
+        goto done;
+    }
+    size_t d = lt_like_dim(l);
+    if (d == 0) {
+        rc = lt_error_set(err, LT_EINPUT, sc->path, 0, "every parameter is fixed: nothing to forecast");
+        goto done;
+    }
+    f->dim = d;
+    f->n_data = s->n;
+    double dchi2;
+    if (!lt_like_compression(l, &f->K, &dchi2))
+        f->K = 0;
+    fisher_ctx c = {l, w, {0}, d, 0};
+    double h[LT_NPAR], H[LT_NPAR * LT_NPAR];
+    for (size_t i = 0; i < d; i++) {
+        f->id[i] = lt_like_param_id(l, i);
+        f->fiducial[i] = c.x[i] = campaign_truth(sc, f->id[i]);
+        const lt_prior *p = lt_like_prior(l, i);
+        h[i] = 1e-4 * (p->kind == LT_PRIOR_UNIFORM ? p->b - p->a : 4 * p->b);
+    }
+    /* first pass: each parameter's conditional width; then steps of a
+     * fifth of it, small against the scale on which the model bends, large
+     * against rounding in chi2 */
+    hessian(&c, h, H);
+    for (size_t i = 0; i < d && !c.bad; i++) {
+        if (!(H[i * d + i] > 0)) {
+            rc = lt_error_set(err, LT_ENUMERIC, sc->path, 0,
+                              "the data do not constrain %s at the fiducial (zero curvature): "
+                              "fix it or give it a Gaussian prior",
+                              lt_par_name(f->id[i]));
+            goto done;
+        }
+        h[i] = 0.2 * sqrt(2 / H[i * d + i]);
+    }
+    if (!c.bad)
+        hessian(&c, h, H);
+    if (c.bad) {
+        rc = lt_error_set(err, LT_EDOMAIN, sc->path, 0,
+                          "a step around the fiducial leaves the physical domain (E^2 <= 0 or "
+                          "no distance): the fiducial is too close to its edge for derivatives");
+        goto done;
+    }
+    for (size_t i = 0; i < d; i++) {
+        for (size_t j = 0; j < d; j++)
+            f->fisher[i * d + j] = 0.5 * H[i * d + j];
+        const lt_prior *p = lt_like_prior(l, i);
+        if (p->kind == LT_PRIOR_GAUSS)
+            f->fisher[i * d + i] += 1 / (p->b * p->b);
+        f->sd_cond[i] = 1 / sqrt(f->fisher[i * d + i]);
+    }
+    memcpy(f->cov, f->fisher, d * d * sizeof *f->cov);
+    gsl_matrix_view cv = gsl_matrix_view_array(f->cov, d, d);
+    if (gsl_linalg_cholesky_decomp1(&cv.matrix) || gsl_linalg_cholesky_invert(&cv.matrix)) {
+        rc = lt_error_set(err, LT_ENUMERIC, sc->path, 0,
+                          "the Fisher matrix is singular: some parameters are degenerate for "
+                          "this design; fix one or give it a Gaussian prior");
+        goto done;
+    }
+    int iw0 = -1, iwa = -1;
+    for (size_t i = 0; i < d; i++) {
+        f->sd[i] = sqrt(f->cov[i * d + i]);
+        iw0 = f->id[i] == LT_P_W0 ? (int)i : iw0;
+        iwa = f->id[i] == LT_P_WA ? (int)i : iwa;
+    }
+    f->fom = f->z_pivot = f->w_pivot_sd = NAN;
+    if (iw0 >= 0 && iwa >= 0) {
+        double a = f->cov[iw0 * d + iw0], b = f->cov[iw0 * d + iwa], cc = f->cov[iwa * d + iwa];
+        f->has_w0wa = 1;
+        f->fom = 1 / sqrt(a * cc - b * b);
+        f->z_pivot = lt_pivot_redshift(b, cc);
+        f->w_pivot_sd = sqrt(fmax(a - b * b / cc, 0));
+    }
+done:
+    lt_like_work_free(w);
+    lt_like_free(l);
+    lt_sim_free(&sim);
+    return rc;
+}
