@@ -59,7 +59,9 @@ typedef struct lt_scenario {
     lt_sim_tier *tiers;
 } lt_scenario;
 
-/* Read and check a scenario file; errors name the file and line. */
+/* Read and check a scenario file; errors name the file and line. The
+ * sections a forecast adds ([forecast], [priors], [fixed]) are passed over:
+ * lt_forecast_read checks them. */
 int lt_scenario_read(const char *path, lt_scenario *sc, lt_error *err);
 /* The same from an INI file already read, for files that add sections of
  * their own (forecasts): the caller checks for unused keys. */

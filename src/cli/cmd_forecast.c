@@ -12,7 +12,7 @@
 
 static void usage(FILE *f)
 {
-    fputs("usage: lantern forecast SCENARIO.ini [--model NAME] [--format table|json]\n"
+    fputs("usage: lantern forecast SCENARIO.ini [--model NAME] [--format table|json] [--exact]\n"
           "                        [--out DIR] [--force]\n"
           "\n"
           "Forecast the constraints of a survey design. The scenario (the file lantern\n"
@@ -31,6 +31,8 @@ static void usage(FILE *f)
           "options:\n"
           "  --model NAME   the model to forecast [the scenario's, or [forecast] model]\n"
           "  --format F     table or json [table]\n"
+          "  --exact        differentiate the exact likelihood (every object), not the\n"
+          "                 compressed one\n"
           "  --out DIR      also write DIR/summary.json and the 68% and 95% ellipse of\n"
           "                 w0-wa (or of the first two parameters): ellipse_X_Y.{png,pdf}\n"
           "  --force        replace an earlier lantern output in DIR\n"
@@ -152,7 +154,7 @@ static void print_table(FILE *out, const lt_scenario *sc, const lt_like_spec *sp
 int cli_forecast(int argc, char **argv)
 {
     const char *file = NULL, *model = NULL, *fmt = "table", *out = NULL;
-    int force = 0;
+    int force = 0, exact = 0;
     cli_args a = cli_args_start(argc, argv, 1);
     while (cli_args_more(&a)) {
         const char *v;
@@ -167,6 +169,8 @@ int cli_forecast(int argc, char **argv)
             out = v;
         else if (cli_flag(&a, "--force"))
             force = 1;
+        else if (cli_flag(&a, "--exact"))
+            exact = 1;
         else if (!file && (v = cli_positional(&a)))
             file = v;
         else
@@ -198,6 +202,7 @@ int cli_forecast(int argc, char **argv)
         }
         spec.model = m;
     }
+    spec.exact = exact;
     lt_forecast f;
     if (lt_forecast_run(&sc, &spec, &f, &err)) {
         status = cli_report(&err);

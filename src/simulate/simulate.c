@@ -163,6 +163,18 @@ int lt_scenario_read(const char *path, lt_scenario *sc, lt_error *err)
     if (!ini)
         return err ? err->code : LT_EINPUT;
     int rc = lt_scenario_from_ini(ini, sc, err);
+    /* a forecast's own sections are lantern forecast's to check
+     * (lt_forecast_read), so that one file serves both commands */
+    for (size_t i = 0; i < ini->n; i++) {
+        const char *s = ini->entries[i].section;
+        if (!strcmp(s, "forecast") || !strcmp(s, "priors") || !strcmp(s, "fixed"))
+            ini->entries[i].used = 1;
+    }
+    for (size_t i = 0; i < ini->nsections; i++) {
+        const char *s = ini->sections[i];
+        if (!strcmp(s, "forecast") || !strcmp(s, "priors") || !strcmp(s, "fixed"))
+            ini->section_used[i] = 1;
+    }
     if (rc == LT_OK && (rc = lt_ini_check_used(ini, err)))
         lt_scenario_free(sc);
     lt_ini_free(ini);
