@@ -1,0 +1,270 @@
+/*
+ * Unit tests of campaigns: the file reader and its errors, the task list's
+ * order and seeds, the queue's retry rule, bias and coverage arithmetic,
+ * the exact binomial test against closed forms, and a task record.
+ */
+#include <setjmp.h>
+#include <stdarg.h>
+#include <stddef.h>
+#include <stdint.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <unistd.h>
+
+#include <cjson/cJSON.h>
+#include <cmocka.h>
+#include <gsl/gsl_errno.h>
+
+#include "lantern/lantern.h"
+#include "../testutil.h"
+
+static char dir[256];
+
+static const char *write_text(const char *name, const char *text)
+{
+    static char path[8][512];
+    static int next = 0;
+    char *p = path[next++ % 8];
+    snprintf(p, 512, "%s/%s", dir, name);
+    FILE *f = fopen(p, "w");
+    assert_non_null(f);
+    fputs(text, f);
+    fclose(f);
+    return p;
+}
+
+static const char *scenario =
+    "[survey]\nseed = 5\nobservable = mag\noffset = -19.3\n"
+    "[cosmology]\nmodel = lcdm-flat\nomega_m = 0.3\n"
+    "[tier.a]\nz_min = 0.02\nz_max = 1.0\ncount = 120\nerror = 0.12\n";
+
+static int setup(void **state)
+{
+    (void)state;
+    gsl_set_error_handler_off();
+    if (lt_test_tmpdir(dir, sizeof dir, "campaign"))
+        return -1;
+    write_text("scenario.ini", scenario);
+    write_text("survey.csv", "z,mag,err\n0.1,19,0.1\n0.2,20.5,0.1\n0.3,21.4,0.1\n0.5,22.6,0.1\n");
+    return 0;
+}
+
+static int teardown(void **state)
+{
+    (void)state;
+    return lt_test_rmtree(dir);
+}
+
+static const char *good =
+    "[campaign]\nname = t\nmodels = lcdm-flat, wcdm-flat\nmethods = fit, sample\nseed = 3\n"
+    "[simulated.sim]\nscenario = scenario.ini\nrealizations = 3\nfirst_seed = 10\n"
+    "[data.real]\nfile = survey.csv\ncolumns = z=z,mag=mag,err=err\n"
+    "[priors]\nw0 = uniform:-1.5:-0.5\n[fixed]\nh0 = 70\n"
+    "[sampler]\ntarget_ess = 200\n";
+
+/* Data set, then realization, then model, then method. */
+static void test_task_order(void **state)
+{
+    (void)state;
+    lt_campaign c;
+    lt_error err;
+    assert_int_equal(lt_campaign_read(write_text("good.ini", good), &c, &err), LT_OK);
+    assert_int_equal(c.ntasks, (3 + 1) * 2 * 2);
+    assert_int_equal(c.ndata, 2);
+    assert_true(c.data[0].simulated && !c.data[1].simulated);
+    assert_string_equal(c.data[1].spec.data[0] == '/' ? "abs" : "rel", "abs");
+    lt_campaign_task t;
+    lt_campaign_task_get(&c, 0, &t);
+    assert_true(t.data == 0 && t.realization == 10 && t.model == 0 && t.method == LT_METHOD_FIT);
+    lt_campaign_task_get(&c, 1, &t);
+    assert_true(t.realization == 10 && t.model == 0 && t.method == LT_METHOD_SAMPLE);
+    lt_campaign_task_get(&c, 2, &t);
+    assert_true(t.realization == 10 && t.model == 1 && t.method == LT_METHOD_FIT);
+    uint64_t seed10 = t.seed;
+    lt_campaign_task_get(&c, 4, &t);
+    assert_true(t.realization == 11 && t.model == 0);
+    assert_true(t.seed != seed10); /* each realization has its own sampler seed */
+    lt_campaign_task_get(&c, 3, &t);
+    assert_true(t.seed == seed10); /* the same for every model and method of one */
+    lt_campaign_task_get(&c, 15, &t);
+    assert_true(t.data == 1 && t.realization == 0 && t.model == 1 && t.method == LT_METHOD_SAMPLE);
+    char label[128];
+    lt_campaign_task_label(&c, 15, label, sizeof label);
+    assert_string_equal(label, "real/wcdm-flat/sample");
+    lt_campaign_task_label(&c, 5, label, sizeof label);
+    assert_string_equal(label, "sim/r11/lcdm-flat/sample");
+    assert_int_equal(c.nkv, 2);
+    assert_true(c.target_ess == 200 && c.chains == 4 && c.live_points == 1000);
+    lt_campaign_free(&c);
+}
+
+static void expect_error(const char *text, const char *where, const char *msg)
+{
+    lt_campaign c;
+    lt_error err;
+    lt_error_clear(&err);
+    const char *p = write_text("bad.ini", text);
+    assert_int_equal(lt_campaign_read(p, &c, &err), LT_EINPUT);
+    char buf[1024];
+    lt_error_format(&err, buf, sizeof buf);
+    if (!strstr(buf, where) || !strstr(buf, msg))
+        fail_msg("error '%s' lacks '%s' or '%s'", buf, where, msg);
+}
+
+static void test_errors(void **state)
+{
+    (void)state;
+    expect_error("[campaign]\nmodels = lcdm-flat\n", "bad.ini", "no data sets");
+    expect_error("[campaign]\nmodels = lcdm-flat, lcdm-flat\n", "bad.ini:2:", "listed twice");
+    expect_error("[campaign]\nmodels = lcdm-flat\nmethods = fit, grid\n", "bad.ini:3:",
+                 "unknown method 'grid'");
+    expect_error("[campaign]\nmodels = lcdmflat\n", "bad.ini:2:", "unknown model 'lcdmflat'");
+    expect_error("[campaign]\n[simulated.s]\nscenario = scenario.ini\nrealizations = 2\n",
+                 "bad.ini", "needs models");
+    expect_error("[campaign]\nmodels = lcdm-flat\n[simulated.s]\nscenario = scenario.ini\n"
+                 "realizations = 0\n",
+                 "bad.ini:5:", "");
+    expect_error("[campaign]\nmodels = lcdm-flat\n[simulated.s]\nscenario = scenario.ini\n"
+                 "realizations = 2\n[priors]\nomega_x = uniform:0:1\n",
+                 "bad.ini:7:", "unknown parameter 'omega_x'");
+    expect_error("[campaign]\nmodels = lcdm-flat\n[simulated.s]\nscenario = scenario.ini\n"
+                 "realizations = 2\n[priors]\nomega_m = uniform:0:1\n[fixed]\nomega_m = 0.3\n",
+                 "bad.ini:9:", "both a prior and a fixed value");
+    expect_error("[campaign]\nmodels = lcdm-flat\n[simulated.s]\nscenario = scenario.ini\n"
+                 "realizations = 2\nrealisations = 3\n",
+                 "bad.ini:6:", "");
+    expect_error("[campaign]\nmodels = lcdm-flat\n[simulated.s]\nscenario = scenario.ini\n"
+                 "realizations = 2\n[simulated.s]\n",
+                 "bad.ini:6:", "twice");
+    /* an error in the scenario names the scenario */
+    write_text("broken-scenario.ini", "[survey]\nseed = x\n");
+    expect_error("[campaign]\nmodels = lcdm-flat\n[simulated.s]\nscenario = broken-scenario.ini\n"
+                 "realizations = 2\n",
+                 "broken-scenario.ini:2:", "");
+}
+
+/* The queue hands out tasks in order, retries a failure once ahead of new
+ * tasks, and gives up after the second. */
+static void test_queue(void **state)
+{
+    (void)state;
+    lt_campaign_queue q;
+    assert_int_equal(lt_campaign_queue_init(&q, 4), LT_OK);
+    lt_campaign_queue_skip(&q, 1); /* finished in an earlier run */
+    assert_int_equal(lt_campaign_queue_take(&q), 0);
+    assert_int_equal(lt_campaign_queue_take(&q), 2);
+    assert_int_equal(lt_campaign_queue_done(&q, 0, 0), 1); /* failed: back it goes */
+    assert_false(lt_campaign_queue_finished(&q));
+    assert_int_equal(lt_campaign_queue_take(&q), 0);        /* before task 3 */
+    assert_int_equal(q.attempts[0], 2);
+    assert_int_equal(lt_campaign_queue_done(&q, 0, 0), 0); /* failed twice: for good */
+    assert_int_equal(q.state[0], 3);
+    assert_int_equal(lt_campaign_queue_take(&q), 3);
+    assert_int_equal(lt_campaign_queue_take(&q), -1);       /* 2 and 3 still running */
+    assert_false(lt_campaign_queue_finished(&q));
+    lt_campaign_queue_done(&q, 2, 1);
+    lt_campaign_queue_done(&q, 3, 1);
+    assert_true(lt_campaign_queue_finished(&q));
+    lt_campaign_queue_free(&q);
+}
+
+/* The two-sided exact binomial test against closed forms. */
+static void test_binomial(void **state)
+{
+    (void)state;
+    /* p = 1/2 is symmetric: k = 0 of 10 leaves 0 and 10, 2 / 2^10 */
+    assert_rel(lt_binomial_test(0, 10, 0.5), 2.0 / 1024, 1e-12);
+    /* k = 2 of 10: outcomes 0, 1, 2, 8, 9, 10: 2 (1 + 10 + 45) / 1024 */
+    assert_rel(lt_binomial_test(2, 10, 0.5), 112.0 / 1024, 1e-12);
+    /* the most likely outcome: everything is no more likely */
+    assert_rel(lt_binomial_test(5, 10, 0.5), 1.0, 1e-12);
+    /* n = 1, p = 0.68: k = 0 has 0.32, k = 1 has 0.68 */
+    assert_rel(lt_binomial_test(0, 1, 0.68), 0.32, 1e-12);
+    assert_rel(lt_binomial_test(1, 1, 0.68), 1.0, 1e-12);
+    /* n = 2, p = 0.95: P = 0.0025, 0.095, 0.9025; k = 1 keeps 0 and 1 */
+    assert_rel(lt_binomial_test(1, 2, 0.95), 0.0025 + 0.095, 1e-12);
+    assert_true(isnan(lt_binomial_test(3, 2, 0.5)));
+}
+
+/* Bias and coverage on a case worked by hand. */
+static void test_bias(void **state)
+{
+    (void)state;
+    const double est[4] = {1.1, 0.9, 1.3, 1.0}, sd[4] = {0.1, 0.1, 0.2, 0.5};
+    const double lo68[4] = {1.0, 0.8, 1.1, 0.5}, hi68[4] = {1.2, 1.0, 1.5, 1.5};
+    const double lo95[4] = {0.9, 0.7, 0.9, 0.0}, hi95[4] = {1.3, 1.1, 1.7, 2.0};
+    lt_bias_stats s;
+    lt_bias_compute(1.0, 4, est, sd, lo68, hi68, lo95, hi95, &s);
+    assert_int_equal(s.n, 4);
+    /* biases 0.1, -0.1, 0.3, 0: mean 0.075; squared deviations
+     * 0.025^2 + 0.175^2 + 0.225^2 + 0.075^2 = 0.0875, so sd sqrt(0.0875/3) */
+    assert_rel(s.bias_mean, 0.075, 1e-12);
+    assert_rel(s.bias_err, sqrt(0.0875 / 3) / 2, 1e-12);
+    /* pulls 1, -1, 1.5, 0: mean 0.375, sd sqrt((4.25 - 4 * 0.375^2) / 3) */
+    assert_rel(s.pull_mean, 0.375, 1e-12);
+    double w = sqrt((4.25 - 4 * 0.375 * 0.375) / 3);
+    assert_rel(s.pull_width, w, 1e-12);
+    assert_rel(s.pull_width_err, w / sqrt(6), 1e-12);
+    assert_rel(s.pull_mean_err, w / 2, 1e-12);
+    /* truth 1.0 is inside [1.0, 1.2] (edges count), [0.8, 1.0], not [1.1, 1.5], inside [0.5, 1.5] */
+    assert_int_equal(s.in68, 3);
+    assert_int_equal(s.in95, 4);
+    assert_rel(s.cover68, 0.75, 1e-15);
+    assert_rel(s.cover68_err, sqrt(0.68 * 0.32 / 4), 1e-12);
+    assert_rel(s.cover68_p, lt_binomial_test(3, 4, 0.68), 1e-15);
+    /* an estimate without an error is left out */
+    const double sd0[4] = {0.1, 0.1, 0.2, 0};
+    lt_bias_compute(1.0, 4, est, sd0, lo68, hi68, lo95, hi95, &s);
+    assert_int_equal(s.n, 3);
+    lt_bias_compute(1.0, 0, est, sd, lo68, hi68, lo95, hi95, &s);
+    assert_true(s.n == 0 && isnan(s.bias_mean) && isnan(s.cover68));
+}
+
+/* One task run twice gives the same record; it holds the truth and the
+ * fields the summary reads; a failed record says why. */
+static void test_task_record(void **state)
+{
+    (void)state;
+    lt_campaign c;
+    lt_error err;
+    assert_int_equal(lt_campaign_read(write_text("good.ini", good), &c, &err), LT_OK);
+    cJSON *a = NULL, *b = NULL;
+    assert_int_equal(lt_campaign_task_run(&c, 0, 1, NULL, &a, &err), LT_OK);
+    assert_int_equal(lt_campaign_task_run(&c, 0, 2, NULL, &b, &err), LT_OK);
+    char *ta = cJSON_PrintUnformatted(a), *tb = cJSON_PrintUnformatted(b);
+    assert_string_equal(ta, tb);
+    cJSON *r = cJSON_Parse(ta);
+    assert_string_equal(cJSON_GetObjectItem(r, "status")->valuestring, "ok");
+    assert_int_equal((int)cJSON_GetObjectItem(r, "n_data")->valuedouble, 120);
+    cJSON *om = cJSON_GetObjectItem(cJSON_GetObjectItem(r, "params"), "omega_m");
+    assert_rel(cJSON_GetObjectItem(om, "truth")->valuedouble, 0.3, 0);
+    double e = cJSON_GetObjectItem(om, "estimate")->valuedouble;
+    double sd = cJSON_GetObjectItem(om, "sd")->valuedouble;
+    assert_rel(cJSON_GetObjectItem(om, "hi95")->valuedouble, e + 1.959963984540054 * sd, 1e-12);
+    free(ta);
+    free(tb);
+    cJSON_Delete(a);
+    cJSON_Delete(b);
+    cJSON_Delete(r);
+    lt_error_set(&err, LT_EIO, "x.csv", 3, "gone");
+    cJSON *f = lt_campaign_task_failed(&c, 14, &err);
+    char *tf = cJSON_PrintUnformatted(f);
+    assert_non_null(strstr(tf, "\"status\":\"failed\""));
+    assert_non_null(strstr(tf, "x.csv:3: gone"));
+    assert_non_null(strstr(tf, "\"dataset\":\"real\""));
+    free(tf);
+    cJSON_Delete(f);
+    assert_int_equal(lt_campaign_task_run(&c, 99, 1, NULL, &a, &err), LT_EINPUT);
+    lt_campaign_free(&c);
+}
+
+int main(void)
+{
+    const struct CMUnitTest tests[] = {
+        cmocka_unit_test(test_task_order), cmocka_unit_test(test_errors),
+        cmocka_unit_test(test_queue),      cmocka_unit_test(test_binomial),
+        cmocka_unit_test(test_bias),       cmocka_unit_test(test_task_record),
+    };
+    return cmocka_run_group_tests(tests, setup, teardown);
+}
