@@ -326,6 +326,44 @@ static void print_table(FILE *f, const cJSON *summary)
 #undef V
         }
     }
+    /* Data sets without a truth (survey files) have no bias to show: their
+     * estimates are listed instead, one line per task; then every failure. */
+    const cJSON *r;
+    int header = 0;
+    cJSON_ArrayForEach(r, cJSON_GetObjectItemCaseSensitive(summary, "results"))
+    {
+        const cJSON *kind = cJSON_GetObjectItemCaseSensitive(r, "kind");
+        const cJSON *st = cJSON_GetObjectItemCaseSensitive(r, "status");
+        if (!cJSON_IsString(kind) || strcmp(kind->valuestring, "file") || !cJSON_IsString(st) ||
+            strcmp(st->valuestring, "ok"))
+            continue;
+        if (!header++)
+            fprintf(f, "\nsurvey files (estimate +- sd; posterior mean for sample and nested):\n");
+        fprintf(f, "  %-36s chi2_min %9.2f / %-5d",
+                cJSON_GetObjectItemCaseSensitive(r, "label")->valuestring,
+                cJSON_GetNumberValue(cJSON_GetObjectItemCaseSensitive(r, "chi2_min")),
+                (int)cJSON_GetNumberValue(cJSON_GetObjectItemCaseSensitive(r, "dof")));
+        const cJSON *p;
+        cJSON_ArrayForEach(p, cJSON_GetObjectItemCaseSensitive(r, "params"))
+        {
+            fprintf(f, "  %s = %.4g +- %.2g", p->string,
+                    cJSON_GetNumberValue(cJSON_GetObjectItemCaseSensitive(p, "estimate")),
+                    cJSON_GetNumberValue(cJSON_GetObjectItemCaseSensitive(p, "sd")));
+        }
+        fputc('\n', f);
+    }
+    header = 0;
+    cJSON_ArrayForEach(r, cJSON_GetObjectItemCaseSensitive(summary, "results"))
+    {
+        const cJSON *st = cJSON_GetObjectItemCaseSensitive(r, "status");
+        if (!cJSON_IsString(st) || strcmp(st->valuestring, "failed"))
+            continue;
+        if (!header++)
+            fprintf(f, "\nfailed tasks (tried twice):\n");
+        const cJSON *e = cJSON_GetObjectItemCaseSensitive(r, "error");
+        fprintf(f, "  %s: %s\n", cJSON_GetObjectItemCaseSensitive(r, "label")->valuestring,
+                cJSON_IsString(e) ? e->valuestring : "(no message)");
+    }
 }
 
 /* bias.csv: one row per group and parameter. */
@@ -606,7 +644,7 @@ int cli_campaign_main(int argc, char **argv, const cli_campaign_runner *runner, 
     for (size_t i = 0; i < cc.c.ntasks; i++)
         cc.to_run += cc.results[i] == NULL;
     if (is_root && !quiet)
-        fprintf(stderr, "campaign %s: %zu tasks (%zu data sets, %zu models, %zu methods), %zu to "
+        fprintf(stderr, "campaign %s: %zu tasks (data sets %zu, models %zu, methods %zu), %zu to "
                         "run (%s)\n",
                 cc.c.name, cc.c.ntasks, cc.c.ndata, cc.c.nmodels, cc.c.nmethods, cc.to_run,
                 runner->name);

@@ -137,6 +137,31 @@ assert len(bad) == 1 and bad[0]["dataset"] == "lost" and "no-such-survey.csv" in
 PY
 then pass "a failing task is retried once, reported with its error, and does not stop the others"
 else fail "a failing task is retried once, reported with its error, and does not stop the others"; fi
+run "$LANTERN" campaign "$B" --resume "$E2E_TMP/broken"
+[ "$STATUS" -eq 1 ] && grep -q "^failed tasks (tried twice):" "$OUT" &&
+    grep -q "^  lost/lcdm-flat/fit: .*no-such-survey.csv" "$OUT" &&
+    pass "the table lists each failed task with its error" ||
+    fail "the table lists each failed task with its error"
+# The shipped small campaign: a survey file's task gives what "lantern fit"
+# and "lantern sample" give on the same file with the same settings, and the
+# table lists it.
+run "$LANTERN" campaign "$ROOT/configs/campaign-small.ini" --out "$E2E_TMP/small" --quiet
+SMALL_OUT="$OUT"
+D=(--data "$ROOT/data/lamplighter/survey.csv" --columns z=z,zhel=zhel,mag=mag,err=err,id=id
+   --modes "$ROOT/data/lamplighter/modes.csv" --model lcdm-flat)
+"$LANTERN" fit "${D[@]}" --format json >"$E2E_TMP/fit.json" 2>/dev/null
+if [ "$STATUS" -eq 0 ] && grep -qE "^  release/lcdm-flat/fit +chi2_min +766\.04 / 798 +omega_m = 0\.325" "$SMALL_OUT" &&
+    /usr/bin/python3 - "$E2E_TMP/small/summary.json" "$E2E_TMP/fit.json" <<'PY'
+import json, sys
+s = json.load(open(sys.argv[1])); f = json.load(open(sys.argv[2]))
+r = [r for r in s["results"] if r["label"] == "release/lcdm-flat/fit"][0]
+assert r["kind"] == "file" and "truth" not in r["params"]["omega_m"]
+assert abs(r["params"]["omega_m"]["estimate"] - f["params"]["omega_m"]["best"]) < 1e-6
+assert abs(r["params"]["omega_m"]["sd"] - f["params"]["omega_m"]["sd"]) < 1e-6
+assert abs(r["chi2_min"] - f["chi2_min"]) < 1e-6 and r["dof"] == f["dof"]
+PY
+then pass "configs/campaign-small.ini runs; its survey-file fit equals lantern fit on the same file"
+else fail "configs/campaign-small.ini runs; its survey-file fit equals lantern fit on the same file"; fi
 
 # Refusals.
 run "$LANTERN" campaign "$C" --out "$E2E_TMP/one"

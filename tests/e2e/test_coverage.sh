@@ -33,3 +33,25 @@ assert methods == {"sample", "fit"}
 PY
 then pass "omega_m coverage over $R demo-design surveys is consistent with 0.68 and 0.95 (exact binomial test, p > 0.001; $took s)"
 else fail "omega_m coverage over $R demo-design surveys is consistent with 0.68 and 0.95 (exact binomial test, p > 0.001)"; fi
+
+# The bias itself: what the demo design should give, by a Monte Carlo of
+# 10000 surveys independent of lantern (tests/reference/helpers/bias_mc.py:
+# astropy distances, numpy draws from the full covariance, a grid fit), for
+# the best fit and for the posterior mean; lantern's mean bias over its R
+# realizations must agree within 3 combined standard errors.
+"$LANTERN" simulate "$ROOT/data/lamplighter.ini" --out "$E2E_TMP/design" >/dev/null 2>&1
+if /usr/bin/python3 "$ROOT/tests/reference/helpers/bias_mc.py" "$E2E_TMP/design" 0.31 10000 1 >"$E2E_TMP/mc.json" &&
+    /usr/bin/python3 - "$E2E_TMP/cov/summary.json" "$E2E_TMP/mc.json" <<'PY'
+import json, math, sys
+s = json.load(open(sys.argv[1])); mc = json.load(open(sys.argv[2]))
+for g in s["bias"]:
+    b = g["params"]["omega_m"]
+    want, werr = (mc["fit_bias"], mc["fit_bias_err"]) if g["method"] == "fit" else \
+                 (mc["mean_bias"], mc["mean_bias_err"])
+    tol = 3 * math.hypot(b["bias_err"], werr)
+    print("  %s: bias %+.5f +- %.5f, independent Monte Carlo %+.5f +- %.5f" %
+          (g["method"], b["bias_mean"], b["bias_err"], want, werr))
+    assert abs(b["bias_mean"] - want) < tol
+PY
+then pass "the omega_m bias of the best fit and the posterior mean agree with an independent Monte Carlo (numpy, astropy)"
+else fail "the omega_m bias of the best fit and the posterior mean agree with an independent Monte Carlo (numpy, astropy)"; fi

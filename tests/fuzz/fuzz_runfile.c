@@ -1,5 +1,7 @@
-/* Run files and simulation scenarios: lantern's INI reader (lt_ini_read)
- * and the scenario reader on top of it (every key's value parsed). */
+/* Run files, simulation scenarios, campaign and forecast files: lantern's
+ * INI reader (lt_ini_read) and the readers on top of it (every key's value
+ * parsed). A campaign names scenario files by path; those the fuzzer
+ * invents mostly do not exist, which tests that error path too. */
 #include "fuzz.h"
 #include "lantern/lantern.h"
 #include "lantern/simulate.h"
@@ -17,6 +19,12 @@ int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)
     }
     lt_scenario sc;
     if (lt_scenario_read(path, &sc, &err) == LT_OK)
+        lt_scenario_free(&sc);
+    lt_campaign c;
+    if (lt_campaign_read(path, &c, &err) == LT_OK)
+        lt_campaign_free(&c);
+    lt_like_spec spec;
+    if (lt_forecast_read(path, &sc, &spec, &err) == LT_OK)
         lt_scenario_free(&sc);
     remove(path);
     return 0;
