@@ -87,6 +87,22 @@ if [ -z "${LANTERN_SANITIZE:-}" ] && [ -x "$MPI_BIN" ] && command -v mpirun >/de
         cmp -s "$E2E_TMP/one/summary.json" "$E2E_TMP/retry/summary.json" &&
         pass "under MPI a failed task is reported, retried once, and the summary is unchanged" ||
         fail "under MPI a failed task is reported, retried once, and the summary is unchanged"
+    # a batch system ends a job with SIGTERM to mpirun, which passes it on:
+    # the ranks stop, the finished records stay, and a resume with another
+    # number of ranks gives the same summary
+    "${MPIRUN[@]}" -np 3 "$MPI_BIN" campaign "$C" --out "$E2E_TMP/mpiterm" --quiet \
+        >/dev/null 2>"$E2E_TMP/mpiterm.err" &
+    pid=$!
+    wait_for "$E2E_TMP/mpiterm/tasks/000006.json"
+    kill -TERM $pid
+    wait $pid
+    STATUS=$?
+    kept=$(ls "$E2E_TMP/mpiterm/tasks" | wc -l)
+    run "${MPIRUN[@]}" -np 2 "$MPI_BIN" campaign "$C" --resume "$E2E_TMP/mpiterm" --quiet
+    [ "$STATUS" -eq 0 ] && [ "$kept" -lt 40 ] && grep -q -- "--resume" "$E2E_TMP/mpiterm.err" &&
+        cmp -s "$E2E_TMP/one/summary.json" "$E2E_TMP/mpiterm/summary.json" &&
+        pass "SIGTERM to mpirun stops the ranks; a resume on 2 ranks gives the same summary" ||
+        fail "SIGTERM to mpirun stops the ranks; a resume on 2 ranks gives the same summary"
     run "${MPIRUN[@]}" -np 2 "$MPI_BIN" fit --help
     expect_error "lantern-mpi refuses commands other than campaign on several ranks" 2 "only 'campaign'"
 else
