@@ -146,6 +146,10 @@ int lt_file_read(const char *path, size_t max_bytes, char **data, size_t *size,
 int lt_outdir_prepare(const char *dir, int force, lt_error *err);
 /* Write the marker, naming the command that made the folder. */
 int lt_outdir_mark(const char *dir, const char *what, lt_error *err);
+/* The command that made dir ("run", "campaign", ...) from its marker, into
+ * command; LT_EINPUT when dir has no marker, so that a resume never writes
+ * into a folder lantern did not make, or one another command made. */
+int lt_outdir_command(const char *dir, char *command, size_t size, lt_error *err);
 
 /*
  * Atomic files: write to lt_tmp_name(final) and then lt_file_commit it into

@@ -290,6 +290,20 @@ int cli_run(int argc, char **argv)
         status = cli_usage_error("--resume", "%s does not exist", dir);
         goto done;
     }
+    if (resume) {
+        /* "report" too: lantern report rebuilding a run in place re-marks it */
+        char made_by[64];
+        if (lt_outdir_command(dir, made_by, sizeof made_by, &err)) {
+            status = cli_report(&err);
+            goto done;
+        }
+        if (strcmp(made_by, "run") && strcmp(made_by, "report")) {
+            status = cli_usage_error(dir, "holds the output of 'lantern %s', not of a run: "
+                                          "nothing to resume",
+                                     made_by);
+            goto done;
+        }
+    }
     cli_job_absolute(&j);
     /* the data, once */
     if (!j.quiet)
@@ -468,6 +482,7 @@ int cli_report_runs(int argc, char **argv)
             status = cli_usage_error(path, "not the summary of a lantern run (no models list)");
             goto done;
         }
+        size_t n_before = n;
         if (r == 0)
             snprintf(first_name, sizeof first_name, "%s",
                      cJSON_IsString(rname) ? rname->valuestring : runs[0]);
@@ -505,6 +520,11 @@ int cli_report_runs(int argc, char **argv)
             n++;
         }
         cJSON_Delete(j);
+        if (n == n_before) {
+            /* a campaign or forecast summary also has "models", as names */
+            status = cli_usage_error(path, "not the summary of a lantern run (no model folders)");
+            goto done;
+        }
     }
     const char *dir = out ? out : runs[0];
     if (out && lt_outdir_prepare(out, force, &err)) {

@@ -232,6 +232,18 @@ static const char *axis_label(const char *name)
     return name;
 }
 
+/* A major-tick step of 1, 2 or 5 times a power of ten that puts about
+ * `labels` labels on [lo, hi]: PLplot's automatic step crowds the labels of
+ * a narrow panel until they run together ("-1.6-1.4-1.2"). */
+static double tick_step(double lo, double hi, int labels)
+{
+    double raw = (hi - lo) / labels;
+    if (!(raw > 0) || !isfinite(raw))
+        return 0; /* PLplot's own choice */
+    double mag = pow(10.0, floor(log10(raw))), f = raw / mag;
+    return (f < 1.5 ? 1.0 : f < 3.0 ? 2.0 : f < 7.0 ? 5.0 : 10.0) * mag;
+}
+
 /* ---- the posterior matrix ---- */
 typedef struct {
     const lt_run_model *m;
@@ -248,6 +260,7 @@ static void draw_posterior(const void *p)
     for (size_t i = 0; i < d; i++)
         range_of(m, i, &lo[i], &hi[i]);
     plschr(0, d > 3 ? 0.6 : 0.8);
+    int nl = d >= 3 ? 3 : 5; /* about this many tick labels per panel */
     /* one parameter: leave the top for the legend */
     double margin = 0.11, top = d == 1 ? 0.78 : 0.97, span = (top - margin) / (double)d;
     for (size_t r = 0; r < d; r++)
@@ -258,7 +271,7 @@ static void draw_posterior(const void *p)
             plcol0(C_INK);
             if (r == c) {
                 plwind(lo[c], hi[c], 0, 1.1);
-                plbox(xo, 0, 0, "bc", 0, 0);
+                plbox(xo, tick_step(lo[c], hi[c], nl), 0, "bc", 0, 0);
                 marginal(m, c, lo[c], hi[c], col);
                 PLFLT bx[2] = {m->best[c], m->best[c]}, by[2] = {0, 1.1};
                 plcol0(C_INK);
@@ -267,7 +280,7 @@ static void draw_posterior(const void *p)
                 pllsty(1);
             } else {
                 plwind(lo[c], hi[c], lo[r], hi[r]);
-                plbox(xo, 0, 0, yo, 0, 0);
+                plbox(xo, tick_step(lo[c], hi[c], nl), 0, yo, tick_step(lo[r], hi[r], nl), 0);
                 contours(m, c, r, lo[c], hi[c], lo[r], hi[r], col);
                 PLFLT bx = m->best[c], by = m->best[r];
                 plcol0(C_INK);
@@ -289,7 +302,7 @@ static void draw_posterior(const void *p)
     plptex(1.0, 0.85, 1, 0, 1.0, title);
     plschr(0, 0.7);
     plptex(1.0, 0.55, 1, 0, 1.0, "68% (solid) and 95% (dashed) regions");
-    plptex(1.0, 0.3, 1, 0, 1.0, "x and dotted line: the best fit");
+    plptex(1.0, 0.3, 1, 0, 1.0, "x and long-dashed line: the best fit");
 }
 
 /* ---- traces ---- */
@@ -549,6 +562,8 @@ done:
 int lt_report_write_figures(const char *dir, const lt_run_model *models, size_t n,
                             const lt_survey *s, lt_error *err)
 {
+    if (n == 0 || !models || !s)
+        return lt_error_set(err, LT_EINPUT, dir, 0, "a report needs at least one model and its data");
     hubble_ctx h = {models, n, s};
     int rc = figure(dir, "hubble", 1, 1100, 800, draw_hubble, &h, err);
     for (size_t i = 0; !rc && i < n; i++) {

@@ -66,6 +66,25 @@ int lt_outdir_mark(const char *dir, const char *what, lt_error *err)
     return lt_file_write_text(path, text, err);
 }
 
+int lt_outdir_command(const char *dir, char *command, size_t size, lt_error *err)
+{
+    char path[4096], text[512] = "";
+    snprintf(path, sizeof path, "%s/%s", dir, LT_MARKER);
+    FILE *f = fopen(path, "r");
+    if (!f)
+        return lt_error_set(err, LT_EINPUT, dir, 0, "was not made by lantern (no %s file)",
+                            LT_MARKER);
+    size_t got = fread(text, 1, sizeof text - 1, f);
+    fclose(f);
+    text[got] = '\0';
+    /* "this folder was written by lantern VERSION COMMAND[ ...]" */
+    char word[64] = "";
+    if (sscanf(text, "this folder was written by lantern %*s %63[a-z]", word) != 1)
+        return lt_error_set(err, LT_EINPUT, path, 1, "not a lantern marker file");
+    snprintf(command, size, "%s", word);
+    return LT_OK;
+}
+
 void lt_tmp_name(const char *final, char *buf, size_t size)
 {
     snprintf(buf, size, "%s.tmp", final);

@@ -199,3 +199,6 @@ run "$LANTERN" campaign "$E2E_TMP/typo.ini" --out "$E2E_TMP/bad"
 expect_error "an unknown key names its line" 2 "typo.ini:6:"
 run "$LANTERN" campaign "$C"
 expect_status "a campaign needs --out or --resume" 2
+run "$LANTERN" report "$E2E_TMP/one" --out "$E2E_TMP/rep"
+expect_error "lantern report refuses a campaign folder (it crashed once)" 2 "not the summary of a lantern run"
+

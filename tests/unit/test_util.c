@@ -1,4 +1,5 @@
-/* Unit tests of lantern/util.h: error records and strict number parsing. */
+/* Unit tests of lantern/util.h: error records, strict number parsing, and
+ * output folders and their marker. */
 #include <setjmp.h>
 #include <stdarg.h>
 #include <stddef.h>
@@ -7,7 +8,10 @@
 
 #include <cmocka.h>
 
+#include <stdio.h>
+
 #include "lantern/lantern.h"
+#include "../testutil.h"
 
 static void test_error_format(void **state)
 {
@@ -64,12 +68,41 @@ static void test_parse_long(void **state)
     assert_int_equal(lt_parse_long("99999999999999999999999", 1, 100, &v), LT_EINPUT);
 }
 
+/* The marker names the command that made a folder; a folder without one,
+ * or with a damaged one, is not lantern's. */
+static void test_outdir_command(void **state)
+{
+    (void)state;
+    char dir[256], cmd[64], path[512];
+    lt_error err;
+    assert_int_equal(lt_test_tmpdir(dir, sizeof dir, "outdir"), 0);
+    assert_int_equal(lt_outdir_command(dir, cmd, sizeof cmd, &err), LT_EINPUT);
+    assert_non_null(strstr(err.msg, "not made by lantern"));
+    assert_int_equal(lt_outdir_prepare(dir, 0, &err), LT_OK); /* empty: usable */
+    assert_int_equal(lt_outdir_mark(dir, "lantern 0.1.0 run configs/demo.ini", &err), LT_OK);
+    assert_int_equal(lt_outdir_command(dir, cmd, sizeof cmd, &err), LT_OK);
+    assert_string_equal(cmd, "run");
+    assert_int_equal(lt_outdir_prepare(dir, 0, &err), LT_EINPUT); /* an earlier run */
+    assert_int_equal(lt_outdir_prepare(dir, 1, &err), LT_OK);     /* --force */
+    assert_int_equal(lt_outdir_mark(dir, "lantern 0.1.0 campaign (running)", &err), LT_OK);
+    assert_int_equal(lt_outdir_command(dir, cmd, sizeof cmd, &err), LT_OK);
+    assert_string_equal(cmd, "campaign");
+    snprintf(path, sizeof path, "%s/%s", dir, LT_MARKER);
+    FILE *f = fopen(path, "w");
+    assert_non_null(f);
+    fputs("made by hand\n", f);
+    fclose(f);
+    assert_int_equal(lt_outdir_command(dir, cmd, sizeof cmd, &err), LT_EINPUT);
+    assert_int_equal(lt_test_rmtree(dir), 0);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_error_format),
         cmocka_unit_test(test_parse_double),
         cmocka_unit_test(test_parse_long),
+        cmocka_unit_test(test_outdir_command),
     };
     return cmocka_run_group_tests_name("util", tests, NULL, NULL);
 }
