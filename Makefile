@@ -158,7 +158,9 @@ fuzz: deps
 # 200 realizations of configs/campaign-coverage.ini (CI runs 40).
 test-long: test
 	@$(MAKE) --no-print-directory fuzz FUZZ_SECONDS=30
-	@COVERAGE_REALIZATIONS=200 bash tests/e2e/test_coverage.sh | tee /dev/stderr | grep -q '^ok '
+	@COVERAGE_REALIZATIONS=200 bash tests/e2e/test_coverage.sh >build/coverage-long.log 2>&1; \
+	cat build/coverage-long.log; \
+	grep -q '^ok ' build/coverage-long.log && ! grep -q '^not ok' build/coverage-long.log
 
 bench: all $(BENCH_BIN)
 	@bash scripts/bench.sh

@@ -7,6 +7,25 @@ D="$E2E_TMP/demo"
 
 run "$LANTERN" run "$ROOT/configs/demo.ini" --out "$D" --quiet
 expect_status "lantern run configs/demo.ini" 0
+# The README shows the table this run prints (a stale README table once went
+# unnoticed after a sampler change): the first "| parameter |" block of the
+# README must equal the table on stdout, line for line.
+/usr/bin/python3 - "$ROOT/README.md" "$OUT" <<'PY' && pass "the README's demo table is what lantern run configs/demo.ini prints" ||
+import sys
+def table(path):
+    lines = open(path).read().splitlines()
+    i = next(k for k, l in enumerate(lines) if l.startswith("| parameter |"))
+    out = []
+    while i < len(lines) and lines[i].startswith("|"):
+        out.append(lines[i]); i += 1
+    return out
+readme, printed = table(sys.argv[1]), table(sys.argv[2])
+for a, b in zip(readme, printed):
+    if a != b:
+        print("  README:  " + a + "\n  printed: " + b)
+assert readme == printed
+PY
+    fail "the README's demo table is what lantern run configs/demo.ini prints"
 missing=""
 for f in summary.json constraints.md constraints.tex constraints.csv hubble.png hubble.pdf; do
     [ -s "$D/$f" ] || missing="$missing $f"
@@ -100,6 +119,15 @@ fi
 # refusals
 run "$LANTERN" run "$ROOT/configs/demo.ini" --out "$D"
 expect_error "an earlier run is refused without --force" 2 "pass --force"
+mkdir -p "$E2E_TMP/mine" && echo "keep me" >"$E2E_TMP/mine/notes.txt"
+run "$LANTERN" run "$ROOT/configs/demo.ini" --resume "$E2E_TMP/mine"
+expect_error "run --resume refuses a folder lantern did not make" 2 "not made by lantern"
+[ "$(cat "$E2E_TMP/mine/notes.txt")" = "keep me" ] && [ "$(ls "$E2E_TMP/mine" | wc -l)" -eq 1 ] &&
+    pass "and writes nothing into it" || fail "and writes nothing into it"
+"$LANTERN" simulate "$ROOT/data/lamplighter.ini" --out "$E2E_TMP/sim" >/dev/null 2>&1
+run "$LANTERN" run "$ROOT/configs/demo.ini" --resume "$E2E_TMP/sim"
+expect_error "run --resume refuses another command's folder (it once ran the whole job into it)" 2 \
+    "holds the output of 'lantern simulate'"
 printf '[run]\nmodels = lcdm, lcdm-flatt\n[data]\nfile = x\n' >"$E2E_TMP/bad.ini"
 run "$LANTERN" run "$E2E_TMP/bad.ini"
 expect_error "an unknown model in [run] models" 2 "unknown model 'lcdm-flatt'"
