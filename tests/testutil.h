@@ -64,4 +64,21 @@ static inline int lt_test_rmtree(const char *dir)
     return system(cmd) == 0 ? 0 : -1;
 }
 
+/* Write len bytes of text to dir/name and return the path, from one of 16
+ * buffers used in turn, so that a test can hold several paths at once. A
+ * file that cannot be written fails the test. */
+static inline const char *lt_test_write(const char *dir, const char *name, const char *text,
+                                        size_t len)
+{
+    static char path[16][512];
+    static int next = 0;
+    char *p = path[next++ % 16];
+    snprintf(p, sizeof path[0], "%s/%s", dir, name);
+    FILE *f = fopen(p, "wb");
+    assert_non_null(f);
+    assert_int_equal(fwrite(text, 1, len, f), len);
+    fclose(f);
+    return p;
+}
+
 #endif

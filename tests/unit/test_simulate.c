@@ -23,15 +23,7 @@ static char dir[256];
 
 static const char *write_scenario(const char *name, const char *text)
 {
-    static char path[8][512];
-    static int next = 0;
-    char *p = path[next++ % 8];
-    snprintf(p, 512, "%s/%s", dir, name);
-    FILE *f = fopen(p, "w");
-    assert_non_null(f);
-    fputs(text, f);
-    fclose(f);
-    return p;
+    return lt_test_write(dir, name, text, strlen(text));
 }
 
 static const char *basic =

@@ -23,19 +23,7 @@
 
 static char dir[256];
 
-static const char *tmpfile_with(const char *name, const char *text, size_t len)
-{
-    static char path[16][512];
-    static int next = 0;
-    char *p = path[next++ % 16];
-    snprintf(p, 512, "%s/%s", dir, name);
-    FILE *f = fopen(p, "wb");
-    assert_non_null(f);
-    assert_int_equal(fwrite(text, 1, len, f), len);
-    fclose(f);
-    return p;
-}
-#define TMP(name, text) tmpfile_with(name, text, sizeof(text) - 1)
+#define TMP(name, text) lt_test_write(dir, name, text, sizeof(text) - 1)
 
 static lt_survey *read_survey(const char *data, const char *columns, lt_error *err)
 {
