@@ -6,6 +6,7 @@
 #ifndef LANTERN_INFERENCE_H
 #define LANTERN_INFERENCE_H
 
+#include <signal.h>
 #include <stddef.h>
 
 #include "lantern/util.h"
@@ -21,6 +22,9 @@ typedef struct lt_optim_opts {
     const double *scale;  /* dim: a typical size of each parameter's range */
     double tol;           /* simplex size at which to stop, in units of scale */
     size_t max_evals;     /* per start and stage */
+    /* when set, checked between simplex iterations: a nonzero value stops
+     * the search with LT_EINTR (a signal during a long best fit); NULL: none */
+    volatile sig_atomic_t *stop;
 } lt_optim_opts;
 
 typedef struct lt_optim_info {
@@ -55,7 +59,6 @@ int lt_laplace(lt_objective f, void *ctx, size_t dim, const double *x, const dou
 /* Random numbers                                                          */
 /* ---------------------------------------------------------------------- */
 
-#include <signal.h>
 #include <stdint.h>
 
 /*
@@ -99,6 +102,29 @@ void lt_diag_all(const double *x, size_t m, size_t n, double *rhat, double *ess_
  * window: the smallest W with W >= 5 tau(W) (Sokal 1997, in Functional
  * Integration, Plenum, 131). */
 double lt_diag_tau(const double *x, size_t n);
+
+/*
+ * The deviance information criterion of weighted draws of the deviance
+ * D = -2 ln L (any constant offset of D shifts DIC alike for every model,
+ * so differences are what matter). DIC = mean(D) + p, with the effective
+ * number of parameters p = p_V = var(D) / 2 (Gelman, Carlin, Stern, Dunson,
+ * Vehtari & Rubin 2013, Bayesian Data Analysis, 3rd ed., sec. 7.2). Unlike
+ * Spiegelhalter et al.'s (2002) p_D = mean(D) - D(mean of the parameters),
+ * p_V needs no point estimate, so it cannot go negative when the posterior
+ * mean lies off a curved ridge, and for a Gaussian posterior of k
+ * parameters far from prior edges it is k (D - D_min follows chi2_k, whose
+ * variance is 2k). w may be NULL (equal weights); weights need not be
+ * normalised; draws with zero weight or a non-finite D are left out.
+ * Returns LT_EDOMAIN when no draw has positive weight.
+ */
+typedef struct {
+    double d_mean; /* weighted mean of D */
+    double p_v;    /* var(D) / 2 */
+    double dic;    /* d_mean + p_v */
+} lt_dic;
+int lt_dic_compute(const double *dev, const double *w, size_t n, lt_dic *out);
+/* The words written beside p_d in JSON summaries (p_d_definition). */
+#define LT_DIC_P_DEFINITION "p_V = var(D)/2 over the posterior draws (Gelman et al. 2013, BDA3 sec. 7.2)"
 
 /* ---------------------------------------------------------------------- */
 /* Adaptive Metropolis                                                     */
@@ -266,6 +292,7 @@ double lt_like_lognorm(const lt_like *l);
 typedef struct lt_fit_opts {
     unsigned long seed; /* for the random starts */
     size_t starts;      /* how many (the first is the centre of the prior) */
+    volatile sig_atomic_t *stop; /* as in lt_optim_opts; NULL: none */
 } lt_fit_opts;
 
 typedef struct lt_fit_result {

@@ -10,6 +10,7 @@
 #define LANTERN_UTIL_H
 
 #include <stddef.h>
+#include <stdio.h>
 
 /* Status codes. LT_OK is zero; every failure is positive. */
 enum {
@@ -141,14 +142,31 @@ int lt_file_read(const char *path, size_t max_bytes, char **data, size_t *size,
  * holding lantern's marker file (LT_MARKER) is an earlier run and is
  * refused unless force; any other non-empty folder is refused always, so
  * that lantern never overwrites files it did not make.
+ *
+ * The life of a folder: lt_outdir_prepare takes it (making it if need be)
+ * and writes the marker, noting what the folder holds; lt_outdir_mark
+ * renames the command in the marker while the run goes on ("(running)");
+ * then exactly one of
+ *   lt_outdir_finish   the run succeeded: the earlier run's files that this
+ *                      run did not rewrite are removed (a fit forced over a
+ *                      sample leaves no chains behind), files the user put
+ *                      there are kept, and the marker lists the run's files;
+ *   lt_outdir_abandon  the run failed: nothing is removed; a folder this run
+ *                      made (or found empty) that holds nothing of it is
+ *                      removed, and a forced folder the run never wrote to
+ *                      gets the earlier run's marker back, so that a failed
+ *                      run neither destroys the earlier one nor leaves an
+ *                      empty folder. A checkpoint to resume keeps the folder.
+ * The state lives in the marker, so a resumed run finishes the same way.
  */
 #define LT_MARKER ".lantern-output"
 int lt_outdir_prepare(const char *dir, int force, lt_error *err);
-/* Write the marker, naming the command that made the folder. */
+/* Write the marker's first line, naming the command that makes the folder. */
 int lt_outdir_mark(const char *dir, const char *what, lt_error *err);
-/* The command that made dir ("run", "campaign", ...) from its marker, into
- * command; LT_EINPUT when dir has no marker, so that a resume never writes
- * into a folder lantern did not make, or one another command made. */
+int lt_outdir_finish(const char *dir, const char *what, lt_error *err);
+void lt_outdir_abandon(const char *dir);
+/* dir/name into buf (size bytes); LT_EINPUT when it does not fit. */
+int lt_outdir_path(char *buf, size_t size, const char *dir, const char *name, lt_error *err);
 int lt_outdir_command(const char *dir, char *command, size_t size, lt_error *err);
 
 /*
@@ -158,6 +176,9 @@ int lt_outdir_command(const char *dir, char *command, size_t size, lt_error *err
  */
 void lt_tmp_name(const char *final, char *buf, size_t size);
 int lt_file_commit(const char *final, lt_error *err);
+/* Close f, the temporary file of final, and commit it; a write error or a
+ * failed close removes the temporary file and is reported (disk full). */
+int lt_file_close_commit(FILE *f, const char *final, lt_error *err);
 /* Write text (NUL-terminated) atomically. */
 int lt_file_write_text(const char *path, const char *text, lt_error *err);
 

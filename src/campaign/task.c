@@ -80,7 +80,7 @@ static void weighted_param(const lt_nested_result *r, size_t d, size_t i, double
 static int run_fit(const lt_like *l, const lt_campaign *c, const lt_campaign_task *t,
                    task_param *p, cJSON *o, lt_error *err)
 {
-    lt_fit_opts fo = {(unsigned long)t->seed, (size_t)c->starts};
+    lt_fit_opts fo = {(unsigned long)t->seed, (size_t)c->starts, NULL};
     lt_fit_result fr;
     int rc = lt_fit_run(l, &fo, &fr, err);
     if (rc)
@@ -117,7 +117,7 @@ static int run_sample(const lt_like *l, const lt_campaign *c, const lt_campaign_
         goto done;
     }
     /* the chains' centre: the best fit and its Laplace covariance */
-    lt_fit_opts fo = {(unsigned long)t->seed, (size_t)c->starts};
+    lt_fit_opts fo = {(unsigned long)t->seed, (size_t)c->starts, NULL};
     lt_fit_result fr;
     if ((rc = lt_fit_run(l, &fo, &fr, err)))
         goto done;

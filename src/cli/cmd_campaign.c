@@ -510,7 +510,11 @@ static int finish(cli_campaign_state *cc, cli_format format, int interrupted)
     }
     char what[128];
     snprintf(what, sizeof what, "lantern %s campaign", LT_VERSION);
-    lt_outdir_mark(cc->out, what, &err);
+    if (lt_outdir_finish(cc->out, what, &err)) {
+        cJSON_Delete(summary);
+        cJSON_Delete(raw);
+        return cli_report(&err);
+    }
     if (format == CLI_JSON) {
         char *pretty = cJSON_Print(raw);
         if (pretty)

@@ -29,8 +29,9 @@ static void usage(FILE *f)
           "BIC = chi2_min + k ln N, with k the free parameters and a marginalised offset\n"
           "counted), and nested sampling (Skilling 2004, 2006; ellipsoidal rejection after\n"
           "Mukherjee, Parkinson & Liddle 2006) for the evidence ln Z +- its error\n"
-          "sqrt(H/N_live), DIC = D_mean + p_D (Spiegelhalter et al. 2002) from its posterior\n"
-          "draws, and ln B against the first model with its reading on the scale of Kass &\n"
+          "sqrt(H/N_live), DIC = D_mean + p_V with p_V = var(D)/2 (Gelman et al. 2013,\n"
+          "Bayesian Data Analysis, 3rd ed., sec. 7.2; warned about when |p_V - k| >\n"
+          "max(1, k/2) for k sampled parameters) from its posterior draws, and ln B against the first model with its reading on the scale of Kass &\n"
           "Raftery 1995 (on 2 ln B: below 2 not worth more than a bare mention, 2-6\n"
           "positive, 6-10 strong, above 10 very strong).\n"
           "\n"
@@ -72,6 +73,7 @@ typedef struct {
     double mean[LT_NPAR], sd[LT_NPAR], q025[LT_NPAR], q975[LT_NPAR];
     double dic, p_d;
     char warning[512];
+    char dic_warning[256];
 } model_run;
 
 static int cmp_pair(const void *a, const void *b)
@@ -81,11 +83,10 @@ static int cmp_pair(const void *a, const void *b)
 }
 
 /* Weighted moments and quantiles of the nested posterior, and DIC. */
-static void posterior(model_run *mr, lt_like_nested *ctx)
+static void posterior(model_run *mr, double norm)
 {
     size_t d = lt_like_dim(mr->l), n = mr->nr.nsamples;
     double *pair = malloc(2 * n * sizeof *pair);
-    double dbar = 0;
     for (size_t i = 0; i < d; i++) {
         double m = 0, m2 = 0;
         for (size_t j = 0; j < n; j++) {
@@ -111,12 +112,27 @@ static void posterior(model_run *mr, lt_like_nested *ctx)
     free(pair);
     /* the deviance on the chi2 scale of AIC and BIC: D = -2 ln L less the
      * normalisation, i.e. the chi2 that enters the likelihood */
-    for (size_t j = 0; j < n; j++)
-        if (isfinite(mr->nr.loglike[j]))
-            dbar += exp(mr->nr.logw[j]) * -2.0 * (mr->nr.loglike[j] - ctx->norm);
-    double dmean = -2.0 * (lt_like_nested_loglike(mr->mean, ctx) - ctx->norm);
-    mr->p_d = dbar - dmean;
-    mr->dic = dbar + mr->p_d;
+    double *dev = malloc((n ? n : 1) * sizeof *dev), *wt = malloc((n ? n : 1) * sizeof *wt);
+    lt_dic dic = {NAN, NAN, NAN};
+    if (dev && wt) {
+        for (size_t j = 0; j < n; j++)
+            dev[j] = -2.0 * (mr->nr.loglike[j] - norm), wt[j] = exp(mr->nr.logw[j]);
+        lt_dic_compute(dev, wt, n, &dic);
+    }
+    free(dev);
+    free(wt);
+    mr->p_d = dic.p_v;
+    mr->dic = dic.dic;
+    /* p_V near k is what a well-constrained Gaussian posterior gives; far
+     * from it, DIC is not a fair penalty (a posterior cut by its prior, or
+     * far from Gaussian) and the ranking by DIC deserves doubt */
+    double k = (double)d;
+    mr->dic_warning[0] = '\0';
+    if (isfinite(mr->p_d) && fabs(mr->p_d - k) > fmax(1.0, k / 2.0))
+        snprintf(mr->dic_warning, sizeof mr->dic_warning,
+                 "p_V = %.2f effective parameters against %zu sampled: the posterior is far from "
+                 "Gaussian or cut by its prior, so DIC is a poor guide for this model",
+                 mr->p_d, d);
     /* a posterior pressing on a prior edge makes ln Z depend on where the edge is */
     mr->warning[0] = '\0';
     for (size_t i = 0; i < d; i++) {
@@ -224,7 +240,7 @@ int cli_compare(int argc, char **argv)
     cli_job_init(&j);
     const char *models_flag = NULL, *resume = NULL;
     long live = 1000;
-    int status = CLI_OK, first = 1;
+    int status = CLI_OK, first = 1, prepared = 0;
     lt_survey *s = NULL;
     model_run runs[MAX_MODELS];
     size_t nm = 0;
@@ -309,7 +325,12 @@ int cli_compare(int argc, char **argv)
     if (j.out && !resume) {
         char what[128];
         snprintf(what, sizeof what, "lantern %s compare (running)", LT_VERSION);
-        if (lt_outdir_prepare(j.out, j.force, &err) || lt_outdir_mark(j.out, what, &err)) {
+        if (lt_outdir_prepare(j.out, j.force, &err)) {
+            status = cli_report(&err);
+            goto done;
+        }
+        prepared = 1;
+        if (lt_outdir_mark(j.out, what, &err)) {
             status = cli_report(&err);
             goto done;
         }
@@ -334,7 +355,7 @@ int cli_compare(int argc, char **argv)
         if (!j.quiet)
             fprintf(stderr, "[%zu/%zu] %s: best fit, then nested sampling with %ld live points\n",
                     k + 1, nm, mr->name, live);
-        lt_fit_opts fo = {j.seed, (size_t)j.starts};
+        lt_fit_opts fo = {j.seed, (size_t)j.starts, stop};
         if (lt_fit_run(mr->l, &fo, &mr->fit, &err)) {
             status = cli_report(&err);
             goto done;
@@ -354,18 +375,16 @@ int cli_compare(int argc, char **argv)
             status = CLI_FAILED;
             goto done;
         }
-        if (!rc) {
-            lt_like_nested c0 = {{mr->l, lt_like_work_alloc(mr->l)}, lt_like_lognorm(mr->l)};
-            if (c0.c.w)
-                posterior(mr, &c0);
-            lt_like_work_free(c0.c.w);
-        }
+        if (!rc)
+            posterior(mr, lt_like_lognorm(mr->l));
         if (rc) {
             status = cli_report(&err);
             goto done;
         }
         if (mr->warning[0])
             fprintf(stderr, "lantern: warning: %s: %s\n", mr->name, mr->warning);
+        if (mr->dic_warning[0])
+            fprintf(stderr, "lantern: warning: %s: %s\n", mr->name, mr->dic_warning);
     }
     /* final files only once every model is done: an interrupted comparison
      * leaves nothing but its checkpoints */
@@ -397,6 +416,7 @@ int cli_compare(int argc, char **argv)
         cJSON_AddItemToObject(o, "bic", lt_json_number(mr->fit.bic));
         cJSON_AddItemToObject(o, "dic", lt_json_number(mr->dic));
         cJSON_AddItemToObject(o, "p_d", lt_json_number(mr->p_d));
+        cJSON_AddStringToObject(o, "p_d_definition", LT_DIC_P_DEFINITION);
         cJSON_AddBoolToObject(o, "converged", mr->nr.finished && mr->fit.info.converged);
         cJSON *ev = cJSON_AddObjectToObject(o, "evidence");
         cJSON_AddItemToObject(ev, "ln_z", lt_json_number(mr->nr.logz));
@@ -426,6 +446,8 @@ int cli_compare(int argc, char **argv)
         cJSON *w = cJSON_AddArrayToObject(o, "warnings");
         if (mr->warning[0])
             cJSON_AddItemToArray(w, cJSON_CreateString(mr->warning));
+        if (mr->dic_warning[0])
+            cJSON_AddItemToArray(w, cJSON_CreateString(mr->dic_warning));
         cJSON_AddItemToArray(list_j, o);
     }
     if (format == CLI_JSON) {
@@ -471,10 +493,12 @@ int cli_compare(int argc, char **argv)
         char path[4200], what[128];
         snprintf(path, sizeof path, "%s/summary.json", j.out);
         snprintf(what, sizeof what, "lantern %s compare", LT_VERSION);
-        if (lt_report_write_json(path, json, &err) || lt_outdir_mark(j.out, what, &err))
+        if (lt_report_write_json(path, json, &err) || lt_outdir_finish(j.out, what, &err))
             status = cli_report(&err);
     }
 done:
+    if (prepared && status != CLI_OK && status != CLI_UNCONVERGED)
+        lt_outdir_abandon(j.out);
     cJSON_Delete(json);
     for (size_t k = 0; k < nm; k++) {
         lt_nested_result_free(&runs[k].nr);

@@ -63,7 +63,7 @@ int cli_fit(int argc, char **argv)
 {
     cli_job j;
     cli_job_init(&j);
-    int status = CLI_OK, first = 1;
+    int status = CLI_OK, first = 1, prepared = 0;
     lt_survey *s = NULL;
     lt_like *l = NULL;
     cJSON *json = NULL;
@@ -100,11 +100,17 @@ int cli_fit(int argc, char **argv)
         status = cli_report(&err);
         goto done;
     }
+    prepared = j.out != NULL;
     cli_print_warnings(s);
-    lt_fit_opts fo = {j.seed, (size_t)j.starts};
+    volatile sig_atomic_t *stop = cli_catch_signals();
+    lt_fit_opts fo = {j.seed, (size_t)j.starts, stop};
     lt_fit_result r;
-    if (lt_fit_run(l, &fo, &r, &err)) {
-        status = cli_report(&err);
+    if (lt_fit_run(l, &fo, &r, &err) || (*stop && lt_error_set(&err, LT_EINTR, NULL, 0, "interrupted"))) {
+        if (err.code == LT_EINTR) {
+            fprintf(stderr, "lantern: interrupted during the best fit: nothing written\n");
+            status = CLI_FAILED;
+        } else
+            status = cli_report(&err);
         goto done;
     }
     if (!r.laplace_ok)
@@ -126,7 +132,7 @@ int cli_fit(int argc, char **argv)
         if (!rc)
             rc = lt_report_write_residuals(path, l, r.best, &err);
         if (!rc)
-            rc = lt_outdir_mark(j.out, what, &err);
+            rc = lt_outdir_finish(j.out, what, &err);
         if (rc) {
             status = cli_report(&err);
             goto done;
@@ -139,6 +145,8 @@ int cli_fit(int argc, char **argv)
         status = CLI_UNCONVERGED;
     }
 done:
+    if (prepared && status != CLI_OK && status != CLI_UNCONVERGED)
+        lt_outdir_abandon(j.out);
     cJSON_Delete(json);
     lt_like_free(l);
     lt_survey_free(s);

@@ -238,11 +238,14 @@ int cli_forecast(int argc, char **argv)
                                          lt_par_name(f.id[iy]), f.fiducial[ix], f.fiducial[iy],
                                          cov, &err);
         }
+        if (!rc && *cli_catch_signals())
+            rc = lt_error_set(&err, LT_EINTR, NULL, 0, "interrupted");
         if (!rc)
-            rc = lt_outdir_mark(out, what, &err);
+            rc = lt_outdir_finish(out, what, &err);
         if (rc) {
             cJSON_Delete(o);
             status = cli_report(&err);
+            lt_outdir_abandon(out);
             goto done;
         }
     }

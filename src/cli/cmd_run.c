@@ -236,6 +236,7 @@ int cli_run(int argc, char **argv)
         return CLI_USAGE;
     cli_job j;
     cli_job_init(&j);
+    int prepared = 0, hint = 0;
     int status = cli_job_load_sets(&j, argv[1], sets, nsets);
     lt_survey *s = NULL;
     if (status)
@@ -286,6 +287,7 @@ int cli_run(int argc, char **argv)
         status = cli_report(&err);
         goto done;
     }
+    prepared = !resume;
     if (resume && !exists(dir)) {
         status = cli_usage_error("--resume", "%s does not exist", dir);
         goto done;
@@ -372,9 +374,8 @@ int cli_run(int argc, char **argv)
                     free(mj.pool[i]);
                 lt_like_free(l);
                 if (rc == LT_EINTR) {
-                    fprintf(stderr, "lantern: interrupted; run stopped; continue with 'lantern run "
-                                    "%s --resume %s'\n",
-                            argv[1], dir);
+                    fputs("lantern: interrupted; run stopped\n", stderr);
+                    hint = 1;
                     status = CLI_FAILED;
                 } else {
                     status = cli_report(&err);
@@ -388,8 +389,7 @@ int cli_run(int argc, char **argv)
         if (st == CLI_FAILED || st == CLI_USAGE) {
             status = st;
             if (st == CLI_FAILED)
-                fprintf(stderr, "lantern: run stopped; continue with 'lantern run %s --resume %s'\n",
-                        argv[1], dir);
+                fputs("lantern: run stopped\n", stderr), hint = 1;
             goto done;
         }
         if (st == CLI_UNCONVERGED)
@@ -401,7 +401,7 @@ int cli_run(int argc, char **argv)
     status = write_report(dir, name, dirs, nm, labels, s);
     if (status == CLI_OK || status == CLI_UNCONVERGED) {
         snprintf(what, sizeof what, "lantern %s run %s", LT_VERSION, argv[1]);
-        if (lt_outdir_mark(dir, what, &err))
+        if (lt_outdir_finish(dir, what, &err))
             status = cli_report(&err);
         else
             print_constraints(dir);
@@ -409,6 +409,16 @@ int cli_run(int argc, char **argv)
     if (status == CLI_OK)
         status = worst;
 done:
+    /* a failed run leaves the earlier one (or no folder); a stopped one its
+     * checkpoints, to resume */
+    if (prepared && status != CLI_OK && status != CLI_UNCONVERGED)
+        lt_outdir_abandon(dir);
+    /* the way back, if there is one: a run stopped before it wrote
+     * anything leaves no folder */
+    if (hint && exists(dir))
+        fprintf(stderr, "lantern: continue with 'lantern run %s --resume %s'\n", argv[1], dir);
+    else if (hint)
+        fputs("lantern: nothing was saved; run it again\n", stderr);
     lt_survey_free(s);
     cli_job_free(&j);
     return status;
@@ -464,6 +474,7 @@ int cli_report_runs(int argc, char **argv)
     lt_error err;
     lt_error_clear(&err);
     lt_survey *s = NULL;
+    int prepared = 0;
     int status = CLI_OK;
     for (size_t r = 0; r < nr; r++) {
         char path[4200], *text = NULL;
@@ -531,16 +542,23 @@ int cli_report_runs(int argc, char **argv)
         status = cli_report(&err);
         goto done;
     }
+    prepared = out != NULL;
     status = write_report(dir, out ? "joint report" : first_name, dirs, n, labels, s);
+    if (*cli_catch_signals()) {
+        fputs("lantern: interrupted\n", stderr);
+        status = CLI_FAILED;
+    }
     if (status == CLI_OK || status == CLI_UNCONVERGED) {
         char what[128];
         snprintf(what, sizeof what, "lantern %s report", LT_VERSION);
-        if (lt_outdir_mark(dir, what, &err))
+        if (lt_outdir_finish(dir, what, &err))
             status = cli_report(&err);
         else
             print_constraints(dir);
     }
 done:
+    if (prepared && status != CLI_OK && status != CLI_UNCONVERGED)
+        lt_outdir_abandon(out);
     lt_survey_free(s);
     return status;
 }

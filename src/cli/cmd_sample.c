@@ -137,7 +137,7 @@ static int finish(const cli_job *j, lt_like *l, lt_mcmc *m, cli_format format, c
         snprintf(what, sizeof what, "lantern %s sample", LT_VERSION);
         if (lt_report_write_json(path, json, &err) ||
             lt_report_write_chains(out, l, &r, &j->data, j->seed, &err) ||
-            lt_outdir_mark(out, what, &err))
+            lt_outdir_finish(out, what, &err))
             status = cli_report(&err);
     }
     if (!status && !r.converged) {
@@ -163,7 +163,7 @@ static int finish(const cli_job *j, lt_like *l, lt_mcmc *m, cli_format format, c
 int cli_sample_model(cli_job *j, lt_like *l, const lt_like_spec *spec, const char *out,
                      int resume, int print, cli_format format)
 {
-    int status = CLI_OK;
+    int status = CLI_OK, prepared = 0;
     lt_mcmc *m = NULL;
     lt_like_chain *ctx = NULL;
     void **ctxp = NULL;
@@ -206,11 +206,16 @@ int cli_sample_model(cli_job *j, lt_like *l, const lt_like_spec *spec, const cha
             status = cli_report(&err);
             goto done;
         }
+        prepared = out != NULL;
         /* the chains' centre: the best fit and its Laplace covariance */
-        lt_fit_opts fo = {j->seed, (size_t)j->starts};
+        lt_fit_opts fo = {j->seed, (size_t)j->starts, cli_catch_signals()};
         lt_fit_result fr;
         if (lt_fit_run(l, &fo, &fr, &err)) {
-            status = cli_report(&err);
+            if (err.code == LT_EINTR) {
+                fputs("lantern: interrupted during the best fit, before sampling began\n", stderr);
+                status = CLI_FAILED;
+            } else
+                status = cli_report(&err);
             goto done;
         }
         double scale[LT_NPAR];
@@ -267,6 +272,10 @@ int cli_sample_model(cli_job *j, lt_like *l, const lt_like_spec *spec, const cha
     }
     status = finish(j, l, m, format, out, print);
 done:
+    /* a failure leaves the earlier run (or no folder) behind, a checkpoint
+     * to resume from stays */
+    if (prepared && status != CLI_OK && status != CLI_UNCONVERGED)
+        lt_outdir_abandon(out);
     lt_mcmc_free(m);
     for (long c = 0; ctx && c < j->chains; c++)
         lt_like_work_free(ctx[c].w);

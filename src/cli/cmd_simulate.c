@@ -83,14 +83,24 @@ int cli_simulate(int argc, char **argv)
     lt_sim sim;
     int status = CLI_OK;
     /* the folder first: refuse before the work, not after it */
-    if (lt_outdir_prepare(out, force, &err) || lt_simulate(&sc, &sim, &err)) {
+    if (lt_outdir_prepare(out, force, &err)) {
         lt_scenario_free(&sc);
+        return cli_report(&err);
+    }
+    if (lt_simulate(&sc, &sim, &err)) {
+        lt_scenario_free(&sc);
+        lt_outdir_abandon(out);
         return cli_report(&err);
     }
     char what[256];
     snprintf(what, sizeof what, "lantern %s simulate %s", LT_VERSION, scenario);
-    if (lt_sim_write(&sc, &sim, out, &err) || lt_outdir_mark(out, what, &err)) {
+    if (*cli_catch_signals()) {
+        fputs("lantern: interrupted: nothing written\n", stderr);
+        status = CLI_FAILED;
+        lt_outdir_abandon(out);
+    } else if (lt_sim_write(&sc, &sim, out, &err) || lt_outdir_finish(out, what, &err)) {
         status = cli_report(&err);
+        lt_outdir_abandon(out);
     } else {
         printf("simulated %zu objects of scenario %s (model %s, seed %lu) into %s/\n", sim.n,
                sc.name, sc.model->name, sc.seed, out);

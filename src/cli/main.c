@@ -14,22 +14,28 @@ typedef struct {
     const char *name;
     const char *summary;
     int (*run)(int argc, char **argv);
+    /* stops in order on SIGINT, SIGTERM and SIGHUP: the signals are caught
+     * before the command starts, so that no moment of a command that writes
+     * files (the best fit before a sampler, say) is left to the default
+     * action, which kills the process mid-write */
+    int catches;
 } cli_command;
 
 static const cli_command commands[] = {
     {"distance", "distances, times and H(z) for one model at given redshifts",
-     cli_distance},
+     cli_distance, 0},
     {"inspect", "read a survey and describe it: size, redshifts, errors, covariance",
-     cli_inspect},
-    {"simulate", "simulate a survey from a scenario file", cli_simulate},
-    {"fit", "the best fit of a model to a survey, with Laplace errors", cli_fit},
-    {"sample", "the posterior by MCMC, with convergence checks and chain files", cli_sample},
-    {"compare", "compare models: information criteria and Bayesian evidence", cli_compare},
-    {"run", "the whole job from a run file: fits, posteriors, comparison, report", cli_run},
-    {"report", "rebuild tables and figures from saved runs", cli_report_runs},
-    {"bench", "time the likelihood on given data: rate, set-up, memory, accuracy", cli_bench},
-    {"campaign", "many tasks over data sets, models and methods: bias and coverage", cli_campaign},
-    {"forecast", "Fisher forecast of a survey design: errors, figure of merit", cli_forecast},
+     cli_inspect, 0},
+    {"simulate", "simulate a survey from a scenario file", cli_simulate, 1},
+    {"fit", "the best fit of a model to a survey, with Laplace errors", cli_fit, 1},
+    {"sample", "the posterior by MCMC, with convergence checks and chain files", cli_sample, 1},
+    {"compare", "compare models: information criteria and Bayesian evidence", cli_compare, 1},
+    {"run", "the whole job from a run file: fits, posteriors, comparison, report", cli_run, 1},
+    {"report", "rebuild tables and figures from saved runs", cli_report_runs, 1},
+    {"bench", "time the likelihood on given data: rate, set-up, memory, accuracy", cli_bench, 0},
+    {"campaign", "many tasks over data sets, models and methods: bias and coverage", cli_campaign,
+     1},
+    {"forecast", "Fisher forecast of a survey design: errors, figure of merit", cli_forecast, 1},
 };
 #define NCOMMANDS (sizeof commands / sizeof commands[0])
 
@@ -78,8 +84,11 @@ int cli_main(int argc, char **argv)
         return CLI_OK;
     }
     for (size_t i = 0; i < NCOMMANDS; i++)
-        if (strcmp(argv[1], commands[i].name) == 0)
+        if (strcmp(argv[1], commands[i].name) == 0) {
+            if (commands[i].catches)
+                cli_catch_signals();
             return commands[i].run(argc - 1, argv + 1);
+        }
     return cli_usage_error("lantern", "unknown command '%s' (see 'lantern --help')",
                            argv[1]);
 }

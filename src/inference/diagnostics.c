@@ -339,3 +339,32 @@ double lt_diag_tau(const double *x, size_t n)
     free(a.fft);
     return a.failed ? NAN : tau;
 }
+
+int lt_dic_compute(const double *dev, const double *w, size_t n, lt_dic *out)
+{
+    /* two passes (mean, then centred squares): D is of the order of the
+     * number of data, var(D) of the number of parameters, so the one-pass
+     * E[D^2] - E[D]^2 would lose digits to cancellation */
+    double sw = 0.0, m = 0.0;
+    for (size_t i = 0; i < n; i++) {
+        double wi = w ? w[i] : 1.0;
+        if (wi > 0.0 && isfinite(dev[i]))
+            sw += wi, m += wi * dev[i];
+    }
+    if (!(sw > 0.0)) {
+        out->d_mean = out->p_v = out->dic = NAN;
+        return LT_EDOMAIN;
+    }
+    m /= sw;
+    double v = 0.0;
+    for (size_t i = 0; i < n; i++) {
+        double wi = w ? w[i] : 1.0;
+        if (wi > 0.0 && isfinite(dev[i]))
+            v += wi * (dev[i] - m) * (dev[i] - m);
+    }
+    v /= sw;
+    out->d_mean = m;
+    out->p_v = 0.5 * v;
+    out->dic = m + out->p_v;
+    return LT_OK;
+}

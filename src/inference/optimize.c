@@ -64,7 +64,8 @@ static void scaled_fdf(const gsl_vector *u, void *p, double *f, gsl_vector *g)
 
 /* One Nelder-Mead run from u (in place); returns f at the end and whether
  * the simplex shrank below tol. */
-static double simplex(scaled *s, gsl_vector *u, double tol, size_t max_evals, int *converged)
+static double simplex(scaled *s, gsl_vector *u, double tol, size_t max_evals, int *converged,
+                      volatile sig_atomic_t *stop)
 {
     gsl_multimin_fminimizer *m =
         gsl_multimin_fminimizer_alloc(gsl_multimin_fminimizer_nmsimplex2, s->dim);
@@ -74,7 +75,7 @@ static double simplex(scaled *s, gsl_vector *u, double tol, size_t max_evals, in
     gsl_multimin_fminimizer_set(m, &fn, u, step);
     size_t start = s->evals;
     *converged = 0;
-    while (s->evals - start < max_evals) {
+    while (s->evals - start < max_evals && !(stop && *stop)) {
         if (gsl_multimin_fminimizer_iterate(m) != GSL_SUCCESS)
             break;
         if (gsl_multimin_test_size(gsl_multimin_fminimizer_size(m), tol) == GSL_SUCCESS) {
@@ -140,16 +141,16 @@ int lt_optimize(lt_objective f, void *ctx, const lt_optim_opts *o, double *x_bes
         for (size_t i = 0; i < d; i++)
             gsl_vector_set(u, i, o->starts[k * d + i] / o->scale[i]);
         int conv = 0;
-        double fk = simplex(&s, u, o->tol, o->max_evals, &conv);
+        double fk = simplex(&s, u, o->tol, o->max_evals, &conv, o->stop);
         /* restart from the result until the restart no longer helps */
-        for (int r = 0; r < 5; r++) {
-            double again = simplex(&s, u, o->tol, o->max_evals, &conv);
+        for (int r = 0; r < 5 && !(o->stop && *o->stop); r++) {
+            double again = simplex(&s, u, o->tol, o->max_evals, &conv, o->stop);
             int better = again < fk - 1e-12 * (1 + fabs(fk));
             fk = fmin(fk, again);
             if (!better)
                 break;
         }
-        if (fk < PENALTY)
+        if (fk < PENALTY && !(o->stop && *o->stop))
             fk = polish(&s, u, fk);
         ends[k] = fk;
         if (fk < *f_best) {
@@ -170,6 +171,8 @@ int lt_optimize(lt_objective f, void *ctx, const lt_optim_opts *o, double *x_bes
     free(ends);
     free(s.x);
     gsl_vector_free(u);
+    if (o->stop && *o->stop)
+        return lt_error_set(err, LT_EINTR, NULL, 0, "interrupted during the best fit");
     if (!(*f_best < PENALTY))
         return lt_error_set(err, LT_ENUMERIC, NULL, 0,
                             "no start reached a possible point: every start lies outside the "

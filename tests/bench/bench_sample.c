@@ -41,7 +41,7 @@ int main(void)
         lt_like *l = lt_like_alloc(s, &ls, &err);
         size_t d = lt_like_dim(l);
         double t0 = now();
-        lt_fit_opts fo = {1, 8};
+        lt_fit_opts fo = {1, 8, NULL};
         lt_fit_result fr;
         lt_fit_run(l, &fo, &fr, &err);
         double t1 = now();

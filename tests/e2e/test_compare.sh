@@ -40,6 +40,43 @@ expect_stdout "the table names the priors beside it" 'wcdm-flat +omega_m U\(0, 1
 run "$LANTERN" compare "${DATA[@]}" --models lcdm-flat,wcdm-flat --prior w0=uniform:-1.2:0 --live-points 200 --quiet
 if [ "$STATUS" -eq 0 ] && grep -q "presses on the lower edge of its prior" "$ERR"; then pass "a prior edge is warned about"; else fail "a prior edge is warned about"; fi
 
+# DIC with p_V = var(D)/2 (Gelman et al. 2013, BDA3 sec. 7.2). With the offset
+# sampled and h0 free the two lie on a curved ridge whose posterior mean is off
+# the ridge: Spiegelhalter's p_D from the mean made DIC -191 to -321 there.
+# p_V cannot go negative, so DIC >= D_mean >= chi2_min (D is the chi2 when the
+# offset is sampled); p_V equals half the weighted variance of D = -2 ln L over
+# the nested draws (numpy, from nested_MODEL.csv); a Gaussian-like posterior
+# of k sampled parameters has p_V near k (chi2_k has variance 2k).
+ok=1
+for seed in 1 2; do
+    run "$LANTERN" compare "${DATA[@]}" --models lcdm-flat,w0wa-flat --prior offset=uniform:-21:-17 \
+        --prior h0=uniform:40:100 --seed $seed --live-points 400 --format json --quiet --out "$E2E_TMP/dic$seed"
+    [ "$STATUS" -eq 0 ] && /usr/bin/python3 - "$OUT" "$E2E_TMP/dic$seed" <<'PY' || ok=0
+import json, sys
+import numpy as np
+j = json.load(open(sys.argv[1]))
+for m in j["models"]:
+    assert m["p_d_definition"].startswith("p_V = var(D)/2"), m["p_d_definition"]
+    assert m["p_d"] >= 0 and m["dic"] >= m["chi2_min"] + m["p_d"] - 1e-9, (m["model"], m["dic"], m["p_d"])
+    t = np.genfromtxt(sys.argv[2] + "/nested_%s.csv" % m["model"], delimiter=",", names=True)
+    w = t["weight"] / t["weight"].sum()
+    d = -2 * t["loglike"]
+    var = np.sum(w * (d - np.sum(w * d)) ** 2)
+    assert abs(m["p_d"] - var / 2) < 1e-6 * max(1, var), (m["p_d"], var / 2)
+lcdm = j["models"][0]
+# three sampled (omega_m, h0, offset), h0 and offset degenerate: p_V near 2
+assert 1.5 < lcdm["p_d"] < 3.5, lcdm["p_d"]
+PY
+done
+[ "$ok" -eq 1 ] && pass "DIC: p_V = var(D)/2 >= 0 with a sampled offset and h0 free (numpy), near k" ||
+    fail "DIC: p_V = var(D)/2 >= 0 with a sampled offset and h0 free (numpy), near k"
+# A posterior cut hard by its prior is far from Gaussian: p_V strays from k and
+# the comparison says DIC is a poor guide there.
+run "$LANTERN" compare "${DATA[@]}" --models wcdm-flat --prior w0=uniform:-1.2:-1.1 --prior omega_m=uniform:0:0.05 \
+    --live-points 200 --format json --quiet
+if [ "$STATUS" -eq 0 ] && grep -q "DIC is a poor guide" "$ERR" &&
+   grep -q "DIC is a poor guide" "$OUT"; then pass "DIC: |p_V - k| > max(1, k/2) is warned about"; else fail "DIC: |p_V - k| > max(1, k/2) is warned about"; fi
+
 run "$LANTERN" compare "${DATA[@]}"
 expect_error "--models is required" 2 "--models M1,M2,... is required"
 run "$LANTERN" compare "${DATA[@]}" --models lcdm,foo

@@ -57,7 +57,7 @@ static void check_model(const lt_survey *s, const char *model, int posterior, do
     size_t K;
     double setdchi2;
     assert_true(lt_like_compression(lc, &K, &setdchi2));
-    lt_fit_opts fo = {1, 4};
+    lt_fit_opts fo = {1, 4, NULL};
     lt_fit_result fr;
     /* the best fit only centres the points and the chains: the compressed
      * one serves (its chi2_min is within the bound of the exact one) and

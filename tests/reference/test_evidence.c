@@ -109,7 +109,7 @@ static void test_savage_dickey(void **state)
     lt_nested_result r0 = nested(l0, 1500, 1), r1 = nested(l1, 1500, 2);
     double lnb = r0.logz - r1.logz, lnb_err = hypot(r0.logz_err, r1.logz_err);
     /* the MCMC of wCDM and the density at w0 = -1 */
-    lt_fit_opts fo = {3, 6};
+    lt_fit_opts fo = {3, 6, NULL};
     lt_fit_result fr;
     assert_int_equal(lt_fit_run(l1, &fo, &fr, &err), LT_OK);
     lt_like_chain c[8];

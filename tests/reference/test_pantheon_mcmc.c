@@ -44,7 +44,7 @@ static int teardown(void **state)
 static void sample(const lt_like *l, double target_ess, double *mean, double *sd)
 {
     size_t d = lt_like_dim(l);
-    lt_fit_opts fo = {1, 8};
+    lt_fit_opts fo = {1, 8, NULL};
     lt_fit_result fr;
     lt_error err;
     assert_int_equal(lt_fit_run(l, &fo, &fr, &err), LT_OK);

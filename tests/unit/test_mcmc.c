@@ -5,7 +5,7 @@
  * (correlated Gaussians in 2 and 5 dimensions, the banana of Haario,
  * Saksman & Tamminen 1999/2001), thread-count independence, and
  * checkpoints (interrupt and resume give the same draws; damaged or foreign
- * checkpoints are refused).
+ * checkpoints are refused), and DIC's p_V against the chi2_k closed form.
  */
 #include <setjmp.h>
 #include <stdarg.h>
@@ -455,6 +455,52 @@ static void test_rng(void **state)
     assert_abs(sn2 / 1e6, 1.0, 4 * sqrt(2 / 1e6));
 }
 
+
+/* DIC with p_V = var(D)/2 (Gelman et al. 2013, BDA3 sec. 7.2). */
+static void test_dic(void **state)
+{
+    (void)state;
+    /* by hand: D = 1, 3 with weights 1, 3: mean 2.5, var = (1*2.25 +
+     * 3*0.25)/4 = 0.75, p_V = 0.375; unnormalised weights give the same */
+    double dev[] = {1.0, 3.0, INFINITY}, w[] = {1.0, 3.0, 5.0}, w2[] = {10.0, 30.0, 0.0};
+    lt_dic a, b;
+    assert_int_equal(lt_dic_compute(dev, w, 3, &a), LT_OK);
+    assert_abs(a.d_mean, 2.5, 1e-15);
+    assert_abs(a.p_v, 0.375, 1e-15);
+    assert_abs(a.dic, 2.875, 1e-15);
+    assert_int_equal(lt_dic_compute(dev, w2, 3, &b), LT_OK);
+    assert_abs(b.p_v, a.p_v, 1e-15);
+    /* no usable draw */
+    double zero[] = {0.0, 0.0, 0.0};
+    assert_int_equal(lt_dic_compute(dev, zero, 3, &b), LT_EDOMAIN);
+    /* a Gaussian posterior of k parameters: D = D_min + |x|^2 follows
+     * chi2_k, variance 2k, so p_V = k (closed form); the D_min of 1000
+     * (a survey's chi2) must not cost digits. Equal weights (w NULL). */
+    for (size_t k = 1; k <= 5; k += 2) {
+        enum { N = 200000 };
+        double *d = malloc(N * sizeof *d);
+        assert_non_null(d);
+        lt_rng r;
+        lt_rng_seed(&r, 7, k);
+        for (size_t i = 0; i < N; i++) {
+            double q = 0;
+            for (size_t j = 0; j < k; j++) {
+                double g = lt_rng_normal(&r);
+                q += g * g;
+            }
+            d[i] = 1000.0 + q;
+        }
+        assert_int_equal(lt_dic_compute(d, NULL, N, &a), LT_OK);
+        /* sd of the sample variance of chi2_k: sqrt((mu4 - sigma^4)/N),
+         * mu4 = 12k(k+4) for chi2_k; 5 sd of p_V = var/2 */
+        double sd = 0.5 * sqrt((12.0 * (double)k * ((double)k + 4.0) - 4.0 * (double)(k * k)) / N);
+        assert_abs(a.p_v, (double)k, 5 * sd);
+        assert_abs(a.d_mean, 1000.0 + (double)k, 5 * sqrt(2.0 * (double)k / N));
+        assert_true(a.p_v >= 0);
+        free(d);
+    }
+}
+
 static int setup(void **state)
 {
     (void)state;
@@ -476,7 +522,7 @@ int main(void)
         cmocka_unit_test(test_banana),
         cmocka_unit_test(test_delayed_rejection),
         cmocka_unit_test(test_memory_limit),    cmocka_unit_test(test_threads),
-        cmocka_unit_test(test_resume),
+        cmocka_unit_test(test_resume),    cmocka_unit_test(test_dic),
     };
     return cmocka_run_group_tests_name("mcmc", tests, setup, teardown);
 }

@@ -68,7 +68,7 @@ static void test_straight_line(void **state)
     double va = Sxx / delta, vb = S / delta, cab = -Sx / delta;
 
     double starts[] = {0, 0, 5, -3, -2, 2}, scale[] = {1, 1}, best[2], f;
-    lt_optim_opts o = {2, 3, starts, scale, 1e-10, 20000};
+    lt_optim_opts o = {2, 3, starts, scale, 1e-10, 20000, NULL};
     lt_optim_info info;
     lt_error err;
     assert_int_equal(lt_optimize(line_chi2, NULL, &o, best, &f, &info, &err), LT_OK);
@@ -91,7 +91,7 @@ static void test_edges_and_failures(void **state)
 {
     (void)state;
     double starts[] = {0, 0}, scale[] = {1, 1}, best[2], f;
-    lt_optim_opts o = {2, 1, starts, scale, 1e-10, 20000};
+    lt_optim_opts o = {2, 1, starts, scale, 1e-10, 20000, NULL};
     lt_optim_info info;
     lt_error err;
     /* the optimum on the boundary b = 0.5 */
@@ -107,11 +107,47 @@ static void test_edges_and_failures(void **state)
     assert_non_null(strstr(err.msg, "no start"));
 }
 
+/* A stop request (a signal caught by the caller) ends the search with
+ * LT_EINTR instead of letting it run to the end: the counter objective sets
+ * the flag on its 50th call, and the search must end within one simplex
+ * iteration after it (a few calls), far short of a full search. */
+typedef struct {
+    volatile sig_atomic_t stop;
+    size_t calls;
+} stopper;
+
+static double stop_after_50(const double *x, void *ctx)
+{
+    stopper *s = ctx;
+    if (++s->calls == 50)
+        s->stop = 1;
+    return (x[0] - 1) * (x[0] - 1) + 100 * (x[1] - x[0] * x[0]) * (x[1] - x[0] * x[0]);
+}
+
+static void test_stop(void **state)
+{
+    (void)state;
+    double starts[] = {-1.2, 1, 0, 0, 2, 2}, scale[] = {1, 1}, best[2], f;
+    stopper s = {0, 0};
+    lt_optim_opts o = {2, 3, starts, scale, 1e-10, 20000, &s.stop};
+    lt_optim_info info;
+    lt_error err;
+    assert_int_equal(lt_optimize(stop_after_50, &s, &o, best, &f, &info, &err), LT_EINTR);
+    assert_true(s.calls < 60);
+    /* the same search without the flag runs to the Rosenbrock minimum (1, 1) */
+    stopper t = {0, 0};
+    o.stop = NULL;
+    assert_int_equal(lt_optimize(stop_after_50, &t, &o, best, &f, &info, &err), LT_OK);
+    assert_true(t.calls > 200);
+    assert_abs(best[0], 1.0, 1e-4);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_straight_line),
         cmocka_unit_test(test_edges_and_failures),
+        cmocka_unit_test(test_stop),
     };
     return cmocka_run_group_tests_name("optimize", tests, setup, NULL);
 }
