@@ -85,6 +85,24 @@ static cJSON *forecast_json(const lt_scenario *sc, const lt_like_spec *spec, con
     cJSON *fi = cJSON_AddObjectToObject(o, "fisher");
     cJSON_AddItemToObject(fi, "names", names);
     cJSON_AddItemToObject(fi, "matrix", matrix_json(f->fisher, d));
+    /* say what the matrix holds: the data's information plus 1/sd^2 on the
+     * diagonal of each Gaussian prior (a user adding the matrix to another
+     * probe's would count the prior twice); and give the data's alone */
+    cJSON *with = cJSON_AddArrayToObject(fi, "includes_gaussian_priors");
+    double data_only[LT_NPAR * LT_NPAR];
+    memcpy(data_only, f->fisher, d * d * sizeof *data_only);
+    for (size_t i = 0; i < d; i++) {
+        const lt_prior *p = &spec->prior[f->id[i]];
+        if (spec->has_prior[f->id[i]] && p->kind == LT_PRIOR_GAUSS) {
+            cJSON_AddItemToArray(with, cJSON_CreateString(lt_par_name(f->id[i])));
+            data_only[i * d + i] -= 1 / (p->b * p->b);
+        }
+    }
+    cJSON_AddStringToObject(fi, "note",
+                            "matrix = the data's Fisher matrix + 1/sd^2 on the diagonal for each "
+                            "parameter in includes_gaussian_priors (uniform priors add nothing); "
+                            "matrix_data_only leaves the priors out");
+    cJSON_AddItemToObject(fi, "matrix_data_only", matrix_json(data_only, d));
     cJSON *cov = cJSON_AddObjectToObject(o, "covariance");
     cJSON_AddItemToObject(cov, "names", cJSON_Duplicate(names, 1));
     cJSON_AddItemToObject(cov, "matrix", matrix_json(f->cov, d));

@@ -148,6 +148,18 @@ cJSON *lt_report_fit_json(const lt_like *l, const lt_fit_result *r, const lt_sur
     return o;
 }
 
+/* A Laplace sigma as printed: "-" where there is none (a best fit at a
+ * prior edge; the JSON has null there, and the note below the table says
+ * why), never "nan". */
+static const char *sigma_text(double sd, char *buf, size_t size)
+{
+    if (isfinite(sd))
+        snprintf(buf, size, "%.4g", sd);
+    else
+        snprintf(buf, size, "-");
+    return buf;
+}
+
 void lt_report_fit_table(FILE *f, const lt_like *l, const lt_fit_result *r,
                          const lt_survey_spec *data)
 {
@@ -156,19 +168,21 @@ void lt_report_fit_table(FILE *f, const lt_like *l, const lt_fit_result *r,
     fprintf(f, "best fit of %s (%s) to %s: %zu objects, observable %s\n\n", m->name, m->summary,
             data->data, s->n, lt_obs_name(s->kind));
     fprintf(f, "  %-12s %12s %12s   %s\n", "parameter", "best", "+-sigma", "prior");
+    char sd[32];
     for (size_t i = 0; i < r->dim; i++) {
         char prior[64];
         lt_prior_format(lt_like_prior(l, i), prior, sizeof prior);
-        fprintf(f, "  %-12s %12.6g %12.4g   %s\n", lt_par_name(r->id[i]), r->best[i], r->sd[i],
-                prior);
+        fprintf(f, "  %-12s %12.6g %12s   %s\n", lt_par_name(r->id[i]), r->best[i],
+                sigma_text(r->sd[i], sd, sizeof sd), prior);
     }
     fprintf(f, "\n  %-12s %12s %12s\n", "derived", "best", "+-sigma");
     for (int k = 0; k < LT_NDER; k++)
         if (r->has_der[k])
-            fprintf(f, "  %-12s %12.6g %12.4g\n", lt_derived_name(k), r->der_best[k],
-                    r->der_sd[k]);
+            fprintf(f, "  %-12s %12.6g %12s\n", lt_derived_name(k), r->der_best[k],
+                    sigma_text(r->der_sd[k], sd, sizeof sd));
     if (r->has_pivot) {
-        fprintf(f, "  %-12s %12.6g %12.4g\n", "w_pivot", r->w_pivot, r->w_pivot_sd);
+        fprintf(f, "  %-12s %12.6g %12s\n", "w_pivot", r->w_pivot,
+                sigma_text(r->w_pivot_sd, sd, sizeof sd));
         fprintf(f, "  %-12s %12.6g\n", "z_pivot", r->z_pivot);
     }
     lt_cosmo_params base = *lt_like_base(l);
@@ -196,12 +210,14 @@ void lt_report_fit_table(FILE *f, const lt_like *l, const lt_fit_result *r,
                 r->at_best.offset);
     fprintf(f, "\n  chi2_min %.4f for %ld degrees of freedom (p = %.3g)\n", r->at_best.chi2,
             r->dof, r->p_value);
-    fprintf(f, "  AIC %.3f, BIC %.3f (k = %zu parameters, the offset counted)\n", r->aic, r->bic,
-            r->k_counted);
+    fprintf(f, "  AIC %.3f, BIC %.3f (k = %zu parameter%s%s)\n", r->aic, r->bic, r->k_counted,
+            r->k_counted == 1 ? "" : "s",
+            om == LT_OFFSET_MARGINAL ? ", the marginalised offset counted" : "");
     fprintf(f, "  best fit reached by %zu of the starts (%zu evaluations)%s\n", r->info.agree,
             r->info.evals, r->info.converged ? "" : "; NOT CONVERGED");
     if (!r->laplace_ok)
-        fprintf(f, "  note: %s\n", r->laplace_note);
+        fprintf(f, "  note: %s%s\n", r->laplace_note,
+                r->dim ? " (the sigmas shown as -)" : "");
 }
 
 int lt_report_write_residuals(const char *path, const lt_like *l, const double *theta,

@@ -114,6 +114,29 @@ expect_error "run file: a line that is no key = value" 2 "noeq.ini:2: expected '
 run "$LANTERN" fit "$E2E_TMP/runs/huge.ini"
 expect_error "run file: over the 4 MiB limit" 2 "huge.ini: file is larger than the limit of 4194304 bytes"
 
+# At a prior edge the Laplace errors are undefined: the JSON has null, the
+# table "-" (never "nan") and a note saying why.
+run "$LANTERN" fit "${DATA[@]}" --model lcdm-flat --prior omega_m=uniform:0.35:0.5
+if [ "$STATUS" -eq 0 ] && ! grep -qi "nan" "$OUT" &&
+   grep -qE "^  omega_m +0\.35 +- +U\(0\.35, 0\.5\)" "$OUT" &&
+   grep -q "the sigmas shown as -" "$OUT"; then pass "fit at a prior edge prints - for the errors, not nan"; else fail "fit at a prior edge prints - for the errors, not nan"; fi
+# The offset is counted in k only where there is one (mag data, marginalised).
+/usr/bin/python3 - "$ROOT/data/lamplighter/survey.csv" "$E2E_TMP/mu.csv" <<'PY'
+import csv, sys
+# distance moduli from the demo's magnitudes with M = -19.3 (any M will do:
+# the check is about the words, not the numbers)
+rows = list(csv.DictReader(open(sys.argv[1])))
+with open(sys.argv[2], "w") as f:
+    f.write("z,mu,err\n")
+    for r in rows:
+        f.write("%s,%.6f,%s\n" % (r["z"], float(r["mag"]) + 19.3, r["err"]))
+PY
+run "$LANTERN" fit --data "$E2E_TMP/mu.csv" --columns z=z,mu=mu,err=err --model lcdm-flat
+if [ "$STATUS" -eq 0 ] && grep -q "k = 2 parameters)" "$OUT" && ! grep -q "offset counted" "$OUT"; then
+    pass "fit on mu data: k without an offset, and no word of one"; else fail "fit on mu data: k without an offset, and no word of one"; fi
+run "$LANTERN" fit "${DATA[@]}" --model lcdm-flat
+expect_stdout "fit on mag data: k counts the marginalised offset" "k = 2 parameters, the marginalised offset counted"
+
 # Usage errors: status 2 and a message.
 run "$LANTERN" fit "${DATA[@]}"
 expect_error "missing --model" 2 "--model is required"

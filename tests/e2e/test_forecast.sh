@@ -27,6 +27,13 @@ assert abs(c[1][2] + (1 - ap) * c[2][2]) < 1e-9 * c[2][2]
 assert abs(f["w_pivot_sd"] ** 2 - (c[1][1] - c[1][2] ** 2 / c[2][2])) < 1e-12
 # Gaussian priors enter as 1/sd^2: with the others fixed, sigma <= the prior's
 assert j["params"]["omega_m"]["sd"] < 0.01
+# ... and the JSON says so: the matrix holds the prior, matrix_data_only not
+fi = j["fisher"]
+assert fi["includes_gaussian_priors"] == ["omega_m"], fi["includes_gaussian_priors"]
+assert "1/sd^2" in fi["note"]
+m, m0 = fi["matrix"], fi["matrix_data_only"]
+assert abs(m[0][0] - m0[0][0] - 1 / 0.01 ** 2) < 1e-9 * m[0][0]
+assert all(m[a][b] == m0[a][b] for a in range(3) for b in range(3) if (a, b) != (0, 0))
 PY
 then pass "forecast JSON: fields, FoM and pivot from the covariance, prior, --out summary"
 else fail "forecast JSON: fields, FoM and pivot from the covariance, prior, --out summary"; fi
