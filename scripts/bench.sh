@@ -10,5 +10,8 @@ for b in build/tests/bench/bench_*; do
     "$b"
 done
 echo
+echo "== threads under load (scripts/bench_threads.sh; about a minute)"
+bash scripts/bench_threads.sh
+echo
 echo "== side by side with numpy/scipy (scripts/bench_table.py; a few minutes)"
 /usr/bin/python3 scripts/bench_table.py

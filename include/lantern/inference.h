@@ -218,9 +218,12 @@ lt_mcmc *lt_mcmc_load(const char *path, uint64_t fingerprint, lt_logdensity f, v
  * when the ellipsoid's acceptance falls below 5%, from a short constrained
  * random walk from a live point instead. The error of ln Z is sqrt(H/N)
  * with H the information (Skilling 2006). Candidates are generated in
- * fixed batches from one stream and their likelihoods computed in parallel;
- * the first acceptable one in batch order wins, so results do not depend on
- * the thread count.
+ * fixed batches of 8 from one stream; the first acceptable one in batch
+ * order wins, so results do not depend on the thread count. A batch is
+ * computed in parallel only when one thread takes at least 10 ms over it
+ * (timed on the first batches): a parallel region around microseconds of
+ * work stalls on a busy machine. Cheap likelihoods are parallelised by the
+ * caller instead, e.g. one model per thread.
  */
 typedef void (*lt_prior_transform)(const double *u, double *theta, void *ctx);
 /* ln L (not the prior) at theta; -inf where impossible; ctx per thread. */
@@ -232,7 +235,8 @@ typedef struct lt_nested_opts {
     double dlogz;     /* stop when the live points could add less than this to ln Z */
     double enlarge;   /* the ellipsoid's axes grow by this factor (1.25) */
     size_t max_iter;
-    int threads;      /* 0: all; ctx must hold this many contexts */
+    int threads;      /* 0: OpenMP's default (omp_get_max_threads); ctx must hold
+                       * this many contexts */
 } lt_nested_opts;
 
 typedef struct lt_nested_result {

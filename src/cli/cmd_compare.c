@@ -48,8 +48,13 @@ static void usage(FILE *f)
     fputs("\ncompare:\n"
           "  --models M1,M2,...  the models, the first being the reference\n"
           "  --live-points N     live points [1000]\n"
-          "  --seed S, --threads T, --format table|json, --out DIR (summary.json and\n"
-          "                      nested_MODEL.csv with the weighted posterior draws), --force\n"
+          "  --threads T         threads: the models run side by side, one per thread (a\n"
+          "                      model's nested run shares its batches of candidates out\n"
+          "                      only when its likelihood is slow, 10 ms a batch of 8); 0\n"
+          "                      (the default): OpenMP's choice, OMP_NUM_THREADS if set,\n"
+          "                      else one per core. Results do not depend on it\n"
+          "  --seed S, --format table|json, --out DIR (summary.json and nested_MODEL.csv\n"
+          "                      with the weighted posterior draws), --force\n"
           "  --resume DIR        continue a comparison stopped by Ctrl-C, SIGTERM or SIGHUP:\n"
           "                      give the same options again, with --resume DIR instead of\n"
           "                      --out DIR; each model's checkpoint in DIR/checkpoint/ is\n"
@@ -67,6 +72,7 @@ const char *cli_kass_raftery(double two_ln_b)
 
 typedef struct {
     const char *name;
+    lt_like_spec spec;
     lt_like *l;
     lt_fit_result fit;
     lt_nested_result nr;
@@ -74,6 +80,8 @@ typedef struct {
     double dic, p_d;
     char warning[512];
     char dic_warning[256];
+    int rc;      /* of the model's best fit and nested run */
+    lt_error err;
 } model_run;
 
 static int cmp_pair(const void *a, const void *b)
@@ -234,6 +242,29 @@ done:
     return rc;
 }
 
+/* One model of a comparison, in a thread of its own: the best fit, the
+ * nested run (continued from its checkpoint when there is one) and its
+ * posterior summary. The outcome goes into mr (rc, err), never to the
+ * terminal, except the one progress line, printed whole by one call. */
+static void run_model(model_run *mr, size_t k, size_t nm, const cli_job *j, long live,
+                      int threads, const char *ckdir, volatile sig_atomic_t *stop)
+{
+    lt_error_clear(&mr->err);
+    if (!j->quiet)
+        fprintf(stderr, "[%zu/%zu] %s: best fit, then nested sampling with %ld live points\n",
+                k + 1, nm, mr->name, live);
+    lt_fit_opts fo = {j->seed, (size_t)j->starts, stop};
+    if ((mr->rc = lt_fit_run(mr->l, &fo, &mr->fit, &mr->err)))
+        return;
+    char ck[4400];
+    snprintf(ck, sizeof ck, "%s/nested_%s.bin", ckdir, mr->name);
+    mr->rc = cli_nested_model(mr->l, &mr->spec, live, j->seed, threads, j->out ? ck : NULL, stop,
+                              &mr->nr, &mr->err);
+    if (mr->rc)
+        return;
+    posterior(mr, lt_like_lognorm(mr->l));
+}
+
 int cli_compare(int argc, char **argv)
 {
     cli_job j;
@@ -340,51 +371,54 @@ int cli_compare(int argc, char **argv)
         }
     }
     cli_print_warnings(s);
-    int threads = j.threads > 0 ? (int)j.threads : omp_get_max_threads();
+    /* the likelihoods, one after another: this may refuse the input */
     for (size_t k = 0; k < nm; k++) {
         model_run *mr = &runs[k];
         cli_job mj = j;
         mj.model = mr->name;
-        lt_like_spec spec;
-        if ((status = cli_job_model(&mj, "compare", &spec)))
+        if ((status = cli_job_model(&mj, "compare", &mr->spec)))
             goto done;
-        if (!(mr->l = lt_like_alloc(s, &spec, &err))) {
+        if (!(mr->l = lt_like_alloc(s, &mr->spec, &err))) {
             status = cli_report(&err);
             goto done;
         }
-        if (!j.quiet)
-            fprintf(stderr, "[%zu/%zu] %s: best fit, then nested sampling with %ld live points\n",
-                    k + 1, nm, mr->name, live);
-        lt_fit_opts fo = {j.seed, (size_t)j.starts, stop};
-        if (lt_fit_run(mr->l, &fo, &mr->fit, &err)) {
-            status = cli_report(&err);
+    }
+    /* Then the models side by side, one per thread, each with its own work
+     * spaces and random streams: that is where the work is. A model's nested
+     * run gets the threads left over only when models do not fill them (it
+     * shares a batch out only when the likelihood is slow; see
+     * lt_nested_iterate). The results do not depend on the thread count. */
+    int threads = j.threads > 0 ? (int)j.threads : omp_get_max_threads();
+    int outer = (size_t)threads < nm ? threads : (int)nm;
+    int inner = outer > 1 ? 1 : threads;
+#pragma omp parallel for schedule(dynamic, 1) num_threads(outer)
+    for (size_t k = 0; k < nm; k++)
+        run_model(&runs[k], k, nm, &j, live, inner, ckdir, stop);
+    /* in model order, so that the first failure is the one reported */
+    int interrupted = 0;
+    for (size_t k = 0; k < nm; k++)
+        interrupted |= runs[k].rc == LT_EINTR;
+    if (interrupted) {
+        if (j.out)
+            fprintf(stderr,
+                    "lantern: interrupted; %s/checkpoint holds the state of every model so "
+                    "far: continue with the same options and --resume %s\n",
+                    j.out, j.out);
+        else
+            fputs("lantern: interrupted (no --out folder, so nothing was saved)\n", stderr);
+        status = CLI_FAILED;
+        goto done;
+    }
+    for (size_t k = 0; k < nm; k++)
+        if (runs[k].rc) {
+            status = cli_report(&runs[k].err);
             goto done;
         }
-        char ck[4400];
-        snprintf(ck, sizeof ck, "%s/nested_%s.bin", ckdir, mr->name);
-        int rc = cli_nested_model(mr->l, &spec, live, j.seed, threads, j.out ? ck : NULL, stop,
-                                  &mr->nr, &err);
-        if (rc == LT_EINTR) {
-            if (j.out)
-                fprintf(stderr,
-                        "lantern: interrupted; %s/checkpoint holds the state of every model so "
-                        "far: continue with the same options and --resume %s\n",
-                        j.out, j.out);
-            else
-                fputs("lantern: interrupted (no --out folder, so nothing was saved)\n", stderr);
-            status = CLI_FAILED;
-            goto done;
-        }
-        if (!rc)
-            posterior(mr, lt_like_lognorm(mr->l));
-        if (rc) {
-            status = cli_report(&err);
-            goto done;
-        }
-        if (mr->warning[0])
-            fprintf(stderr, "lantern: warning: %s: %s\n", mr->name, mr->warning);
-        if (mr->dic_warning[0])
-            fprintf(stderr, "lantern: warning: %s: %s\n", mr->name, mr->dic_warning);
+    for (size_t k = 0; k < nm; k++) {
+        if (runs[k].warning[0])
+            fprintf(stderr, "lantern: warning: %s: %s\n", runs[k].name, runs[k].warning);
+        if (runs[k].dic_warning[0])
+            fprintf(stderr, "lantern: warning: %s: %s\n", runs[k].name, runs[k].dic_warning);
     }
     /* final files only once every model is done: an interrupted comparison
      * leaves nothing but its checkpoints */

@@ -19,7 +19,7 @@
 
 static void usage_run(FILE *f)
 {
-    fputs("usage: lantern run RUN.ini [--out DIR] [--force] [--resume DIR]\n"
+    fputs("usage: lantern run RUN.ini [--out DIR] [--force] [--resume DIR] [--threads T]\n"
           "                   [--set section.key=value]... [--quiet|--verbose]\n"
           "\n"
           "The whole job: reads the data once; for each model of [run] models, the best\n"
@@ -40,6 +40,10 @@ static void usage_run(FILE *f)
           "  --force         replace an earlier lantern output in DIR\n"
           "  --resume DIR    continue a stopped run: finished models are kept, a model\n"
           "                  with a checkpoint continues from it\n"
+          "  --threads T     OpenMP threads for the chains and the evidence; 0 (the\n"
+          "                  default) means OpenMP's choice: OMP_NUM_THREADS if set, else\n"
+          "                  one per core. Over [sampler] threads; results do not depend\n"
+          "                  on it\n"
           "  --set s.k=v     override a run-file key, e.g. --set sampler.target_ess=2000\n"
           "  --quiet, --verbose\n"
           "\n"
@@ -208,6 +212,7 @@ int cli_run(int argc, char **argv)
     const char *sets[64], *out = NULL, *resume = NULL;
     size_t nsets = 0;
     int force = 0, quiet = 0, verbose = 0;
+    long threads_flag = -1; /* -1: as the run file says */
     cli_args a = cli_args_start(argc, argv, 2);
     while (cli_args_more(&a)) {
         const char *v;
@@ -224,6 +229,9 @@ int cli_run(int argc, char **argv)
             quiet = 1;
         } else if (cli_flag(&a, "--verbose")) {
             verbose = 1;
+        } else if (cli_take(&a, "--threads", &v)) {
+            if (lt_parse_long(v, 0, 256, &threads_flag))
+                return cli_usage_error("--threads", "'%s' is not a whole number from 0 to 256", v);
         } else if (cli_take(&a, "--set", &v)) {
             if (nsets == 64)
                 return cli_usage_error("--set", "given more than 64 times");
@@ -243,6 +251,8 @@ int cli_run(int argc, char **argv)
         goto done;
     j.lenient = 1;
     j.quiet |= quiet, j.verbose |= verbose;
+    if (threads_flag >= 0)
+        j.threads = threads_flag;
     if (!j.models) {
         status = cli_usage_error(argv[1], "[run] needs models = M1, M2, ... (lcdm-flat, lcdm, "
                                           "wcdm-flat, wcdm, w0wa-flat, w0wa)");

@@ -10,8 +10,23 @@
 #include "internal.h"
 #include "lantern/inference.h"
 
-#define BATCH 8     /* candidates per parallel batch: fixed, for determinism */
+#define BATCH 8     /* candidates per batch: fixed, for determinism */
 #define DMAX 16
+/*
+ * A batch goes to the threads only when it is long enough to pay for a
+ * parallel region. A region costs little on an idle machine, but on a busy
+ * one its threads wait at the barrier for one of them to get a core (a
+ * scheduler time slice, milliseconds) and then spin, taking a core from the
+ * thread with the work: around a batch of eight 2-us likelihoods, every
+ * iteration, that made the default thread count 20-40 times slower than
+ * one thread (issue 16). So the first TIMED_BATCHES batches are evaluated
+ * on the calling thread and timed; if the fastest of them took at least
+ * PAR_BATCH_SECONDS (several time slices, so a stall costs a fraction of
+ * the batch), the rest are shared out. Where a batch is evaluated does not
+ * change the candidates or their order, so results do not depend on it.
+ */
+#define TIMED_BATCHES 8
+#define PAR_BATCH_SECONDS 10e-3
 
 void lt_nested_result_free(lt_nested_result *r)
 {
@@ -117,6 +132,10 @@ struct lt_nested {
     size_t accepted, proposed, evals;
     int walk, finished;
     double *theta, *loglike, *logw; /* the dead points (cap) */
+    /* where batches run (not part of the state: results do not depend on it) */
+    size_t timed;            /* batches timed on the calling thread so far */
+    double fastest;          /* the shortest of them, seconds */
+    int parallel;            /* 1: batches go to the threads */
 };
 
 void lt_nested_free(lt_nested *s)
@@ -295,9 +314,20 @@ int lt_nested_iterate(lt_nested *s, volatile sig_atomic_t *stop, lt_error *err)
             }
             for (size_t b = 0; b < nb; b++)
                 transform(bu + b * d, bt + b * d, tctx);
+            if (s->parallel) {
 #pragma omp parallel for schedule(static, 1) num_threads(threads)
-            for (size_t b = 0; b < nb; b++)
-                bl[b] = f(bt + b * d, ctx[omp_get_thread_num()]);
+                for (size_t b = 0; b < nb; b++)
+                    bl[b] = f(bt + b * d, ctx[omp_get_thread_num()]);
+            } else {
+                double t0 = omp_get_wtime();
+                for (size_t b = 0; b < nb; b++)
+                    bl[b] = f(bt + b * d, ctx[0]);
+                if (threads > 1 && nb == BATCH && s->timed < TIMED_BATCHES) {
+                    double t = omp_get_wtime() - t0;
+                    s->fastest = s->timed++ ? fmin(s->fastest, t) : t;
+                    s->parallel = s->timed == TIMED_BATCHES && s->fastest >= PAR_BATCH_SECONDS;
+                }
+            }
             s->evals += nb;
             for (size_t b = 0; b < nb && !found; b++) {
                 s->proposed++;

@@ -122,6 +122,36 @@ if [ "$STATUS" -eq 0 ] && [ "$kills" -ge 1 ] && [ "$same" -eq 1 ] && cmp -s "$OU
 else
     fail "compare killed at four points ($kills resumed runs killed) and resumed: byte-identical results"
 fi
+# The models run side by side, one per thread (issue 16): the same summary and
+# weighted draws with one thread, two threads and the default as above, and
+# the progress lines on stderr whole, one per model, never cut into.
+run "$LANTERN" compare "${DATA[@]}" "${CMP[@]}" --threads 1 --out "$E2E_TMP/t1"
+run "$LANTERN" compare "${DATA[@]}" --models lcdm-flat,wcdm-flat,w0wa-flat --live-points 400 --seed 5 \
+    --format json --threads 2 --out "$E2E_TMP/t2"
+same=1
+for t in t1 t2; do
+    for f in summary.json nested_lcdm-flat.csv nested_wcdm-flat.csv nested_w0wa-flat.csv; do
+        cmp -s "$E2E_TMP/whole/$f" "$E2E_TMP/$t/$f" || same=0
+    done
+done
+[ "$STATUS" -eq 0 ] && [ "$same" -eq 1 ] && cmp -s "$OUT" "$E2E_TMP/whole.json" &&
+    pass "compare with 1 thread, 2 threads and the default: byte-identical summary and draws" ||
+    fail "compare with 1 thread, 2 threads and the default: byte-identical summary and draws"
+if /usr/bin/python3 - "$ERR" <<'PY'
+import re, sys
+lines = open(sys.argv[1]).read().split("\n")
+assert lines[-1] == "", "stderr ends in a whole line"
+seen = []
+for l in lines[:-1]:
+    m = re.fullmatch(r"\[([123])/3\] (lcdm-flat|wcdm-flat|w0wa-flat): best fit, then nested sampling with 400 live points", l)
+    if m:
+        seen.append((m.group(1), m.group(2)))
+    else:
+        assert re.fullmatch(r"lantern: warning: .*lcparam_DS17f.txt:1: the header names 19 columns but rows have 18 fields.*", l), l
+assert sorted(seen) == [("1", "lcdm-flat"), ("2", "wcdm-flat"), ("3", "w0wa-flat")], seen
+PY
+then pass "compare on 2 threads: one whole progress line per model on stderr"; else fail "compare on 2 threads: one whole progress line per model on stderr"; fi
+
 run "$LANTERN" compare "${DATA[@]}" --models lcdm-flat,wcdm-flat,w0wa-flat --live-points 400 --seed 6 --resume "$E2E_TMP/cut"
 expect_error "compare --resume with another seed is refused" 2 "belongs to another run"
 run "$LANTERN" compare "${DATA[@]}" "${CMP[@]}" --resume "$E2E_TMP/nowhere"

@@ -104,16 +104,17 @@ if [ "$first" -eq 1 ] && grep -q "continue with 'lantern run .* --resume" "$ERR"
 else
     fail "run, SIGINT in the evidence step: status 1 and no run summary (status $first)"
 fi
-run "$LANTERN" run "$ROOT/configs/demo.ini" --resume "$R" --quiet
+# resumed on one thread (--threads, issue 16): the run above had the default
+run "$LANTERN" run "$ROOT/configs/demo.ini" --resume "$R" --quiet --threads 1
 same=1
 for f in summary.json constraints.md constraints.csv constraints.tex lcdm-flat/summary.json lcdm/summary.json \
     wcdm-flat/summary.json w0wa-flat/summary.json lcdm-flat/chains.csv; do
     cmp -s "$D/$f" "$R/$f" || same=0
 done
 if [ "$STATUS" -eq 0 ] && [ "$same" -eq 1 ]; then
-    pass "run --resume after it: byte-identical summaries, tables and chains"
+    pass "run --resume --threads 1 after it: byte-identical summaries, tables and chains"
 else
-    fail "run --resume after it: byte-identical summaries, tables and chains"
+    fail "run --resume --threads 1 after it: byte-identical summaries, tables and chains"
 fi
 
 # refusals
@@ -133,6 +134,10 @@ run "$LANTERN" run "$E2E_TMP/bad.ini"
 expect_error "an unknown model in [run] models" 2 "unknown model 'lcdm-flatt'"
 run "$LANTERN" run "$ROOT/configs/demo.ini" --set sampler
 expect_error "a malformed --set" 2 "--set: 'sampler' is not section.key=value"
+run "$LANTERN" run "$ROOT/configs/demo.ini" --threads -1
+expect_error "run --threads below 0 is refused" 2 "--threads: '-1' is not a whole number from 0 to 256"
+"$LANTERN" run --help | grep -q "0 (the" && pass "run --help says what --threads 0 means" ||
+    fail "run --help says what --threads 0 means"
 run "$LANTERN" report "$E2E_TMP"
 expect_error "report of a folder that is no run" 2 "summary.json: cannot open"
 run "$LANTERN" report "$D" "$D"

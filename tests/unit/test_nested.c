@@ -19,6 +19,7 @@
 
 #include <cmocka.h>
 #include <gsl/gsl_errno.h>
+#include <omp.h>
 
 #include "lantern/lantern.h"
 #include "../testutil.h"
@@ -164,6 +165,63 @@ static void test_threads(void **state)
     lt_nested_result_free(&c);
 }
 
+/*
+ * Where the batches run (issue 16). A parallel region around a batch of
+ * eight 2-us likelihoods, every iteration, stalled a loaded machine (threads
+ * waiting at the barrier for a core, then spinning): with 2 threads, a cheap
+ * likelihood must be called outside any parallel region once the live points
+ * are drawn. A likelihood of 2 ms a call (16 ms a batch, past the 10 ms the
+ * sampler asks of a batch before sharing it out) must reach the second
+ * thread. Counts are kept per thread context, so they need no locks.
+ */
+typedef struct {
+    box b;
+    double busy;           /* seconds each call takes */
+    long calls, in_parallel;
+} probe;
+
+static double probe_ll(const double *t, void *p)
+{
+    probe *q = p;
+    q->calls++;
+    q->in_parallel += omp_in_parallel() != 0;
+    for (double t0 = omp_get_wtime(); omp_get_wtime() - t0 < q->busy;)
+        ;
+    return gauss_ll(t, &q->b);
+}
+
+static void probe_iterate(double busy, size_t max_iter, probe q[2])
+{
+    void *ctx[2] = {&q[0], &q[1]};
+    for (int t = 0; t < 2; t++)
+        q[t] = (probe){{2, 10.0}, busy, 0, 0};
+    lt_nested_opts o = {2, 20, 3, 0.01, 1.25, max_iter, 2};
+    lt_error err;
+    lt_nested *s = lt_nested_alloc(&o, to_box, &q[0].b, probe_ll, ctx, &err);
+    assert_non_null(s);
+    for (int t = 0; t < 2; t++) /* count the iterations only */
+        q[t].calls = q[t].in_parallel = 0;
+    assert_int_equal(lt_nested_iterate(s, NULL, &err), LT_OK);
+    lt_nested_free(s);
+}
+
+static void test_where_batches_run(void **state)
+{
+    (void)state;
+    probe q[2];
+    probe_iterate(0.0, 100000, q);
+    print_message("cheap: %ld + %ld calls, %ld in a parallel region\n", q[0].calls, q[1].calls,
+                  q[0].in_parallel + q[1].in_parallel);
+    assert_true(q[0].calls > 1000);
+    assert_int_equal(q[1].calls, 0);
+    assert_int_equal(q[0].in_parallel, 0);
+    probe_iterate(2e-3, 30, q);
+    print_message("2 ms: %ld + %ld calls, %ld in a parallel region\n", q[0].calls, q[1].calls,
+                  q[0].in_parallel + q[1].in_parallel);
+    assert_true(q[1].calls > 0);
+    assert_true(q[0].in_parallel + q[1].in_parallel > 0);
+}
+
 /* Stop after K likelihood calls (one thread, so the point is exact), save,
  * load, finish: the result of a run without the stop, to the byte. Then a
  * foreign checkpoint (another fingerprint, another seed) and a damaged one
@@ -244,6 +302,7 @@ int main(void)
         cmocka_unit_test(test_error_is_honest),
         cmocka_unit_test(test_linear_gaussian),
         cmocka_unit_test(test_threads),
+        cmocka_unit_test(test_where_batches_run),
         cmocka_unit_test(test_resume),
     };
     return cmocka_run_group_tests_name("nested", tests, NULL, NULL);
