@@ -93,8 +93,12 @@ void lt_campaign_task_label(const lt_campaign *c, size_t index, char *buf, size_
  * status "ok", n_data, chi2_min, dof, converged and params.NAME.{truth (for
  * simulated data), estimate, sd, lo68, hi68, lo95, hi95} with estimate the
  * best fit (fit) or the posterior mean (sample, nested) and the intervals
- * best +- 1 and 1.96 sd (fit) or equal-tailed (sample, nested); sample adds
- * convergence, nested evidence. LT_EINTR if *stop was set.
+ * best +- 1 and +- 1.959964 sd (fit) or the equal-tailed 15.87-84.13% and
+ * 2.5-97.5% quantiles (sample, nested), which hold the truth with
+ * probability LT_NOMINAL68 and LT_NOMINAL95; sample adds convergence,
+ * nested evidence. A fit whose Laplace errors are undefined (a best fit at
+ * the edge of its prior) has null sd and intervals, converged false and a
+ * note. LT_EINTR if *stop was set.
  */
 int lt_campaign_task_run(const lt_campaign *c, size_t index, int threads,
                          volatile sig_atomic_t *stop, struct cJSON **result, lt_error *err);
@@ -127,11 +131,26 @@ int lt_campaign_queue_finished(const lt_campaign_queue *q);
  * The summary: the campaign, counts of tasks done and failed, each task's
  * result (in index order; results[i] may be NULL for a task not run), and
  * for each (data set, model, method) of simulated data, each parameter's
- * bias and coverage (lt_campaign_bias). The results are not taken over.
+ * bias and coverage (lt_bias_compute). A group's bias and coverage use the
+ * realizations whose record has every estimate, sd and interval (`used`);
+ * the others are `dropped`, counted by reason (`dropped_failed`: the task
+ * failed or did not run; `dropped_no_errors`: the method gave no errors,
+ * as a fit whose best fit lies at a prior edge) and listed with their
+ * reason, so that no realization leaves the numbers unsaid. The results
+ * are not taken over.
  */
 struct cJSON *lt_campaign_summary(const lt_campaign *c, struct cJSON *const *results);
 
 /* ---- bias and coverage over realizations ---- */
+
+/* The probability each interval of a task record is defined to hold: the
+ * 68% intervals (best +- 1 sd, or the 15.87-84.13% quantiles, Phi(-1) and
+ * Phi(1)) hold Phi(1) - Phi(-1) = erf(1/sqrt 2) of a Gaussian, not 0.68;
+ * the 95% ones (best +- 1.959964 sd, or the 2.5-97.5% quantiles) hold 0.95.
+ * Coverage is tested against these. */
+#define LT_NOMINAL68 0.6826894921370859
+#define LT_NOMINAL95 0.95
+#define LT_Z95 1.959963984540054 /* Phi^-1(0.975) */
 
 typedef struct lt_bias_stats {
     size_t n;                        /* realizations with an estimate and an error */
@@ -140,11 +159,15 @@ typedef struct lt_bias_stats {
     double pull_mean, pull_mean_err; /* pulls (estimate - truth)/sd */
     double pull_width, pull_width_err; /* their sd, and its error sd/sqrt(2(n-1)) */
     size_t in68, in95;               /* intervals that hold the truth */
-    double cover68, cover68_err, cover68_p; /* fraction, binomial error, exact test vs 0.68 */
+    double nominal68, nominal95;     /* LT_NOMINAL68, LT_NOMINAL95 */
+    /* fraction, binomial error at the nominal probability, exact test against it */
+    double cover68, cover68_err, cover68_p;
     double cover95, cover95_err, cover95_p;
 } lt_bias_stats;
 
-/* From n realizations: estimate, sd, and the 68% and 95% intervals. */
+/* From n realizations: estimate, sd, and the 68% and 95% intervals (tested
+ * against LT_NOMINAL68 and LT_NOMINAL95). A realization without a finite
+ * estimate and a positive sd is left out of every number. */
 void lt_bias_compute(double truth, size_t n, const double *est, const double *sd,
                      const double *lo68, const double *hi68, const double *lo95,
                      const double *hi95, lt_bias_stats *s);

@@ -155,11 +155,13 @@ typedef struct lt_bias_panel {
     const double *pulls;
     double pull_mean, pull_width;
     double cover68, cover68_err, cover95, cover95_err;
+    double nominal68, nominal95;     /* the probabilities the intervals are defined to hold */
 } lt_bias_panel;
 
 /* dir/name.{png,pdf}: a histogram of each parameter's pulls against the
  * N(0, 1) they should follow, and below, the coverage of the 68% and 95%
- * intervals with their binomial errors against the nominal values. */
+ * intervals with their binomial errors against the nominal values (those
+ * of the first panel, which every panel of a campaign group shares). */
 int lt_report_write_bias_figure(const char *dir, const char *name, const char *title,
                                 const lt_bias_panel *panels, size_t np, lt_error *err);
 

@@ -33,6 +33,7 @@ void lt_bias_compute(double truth, size_t n, const double *est, const double *sd
 {
     memset(s, 0, sizeof *s);
     s->truth = truth;
+    s->nominal68 = LT_NOMINAL68, s->nominal95 = LT_NOMINAL95;
     double sb = 0, sb2 = 0, sp = 0, sp2 = 0;
     for (size_t i = 0; i < n; i++) {
         if (!isfinite(est[i]) || !(sd[i] > 0))
@@ -65,12 +66,13 @@ void lt_bias_compute(double truth, size_t n, const double *est, const double *sd
         s->bias_err = s->pull_width = s->pull_mean_err = s->pull_width_err = NAN;
     /* errors at the nominal probability: the scatter the coverage would
      * show if the intervals were right */
+    double p68 = s->nominal68, p95 = s->nominal95;
     s->cover68 = (double)s->in68 / m;
-    s->cover68_err = sqrt(0.68 * 0.32 / m);
-    s->cover68_p = lt_binomial_test(s->in68, s->n, 0.68);
+    s->cover68_err = sqrt(p68 * (1 - p68) / m);
+    s->cover68_p = lt_binomial_test(s->in68, s->n, p68);
     s->cover95 = (double)s->in95 / m;
-    s->cover95_err = sqrt(0.95 * 0.05 / m);
-    s->cover95_p = lt_binomial_test(s->in95, s->n, 0.95);
+    s->cover95_err = sqrt(p95 * (1 - p95) / m);
+    s->cover95_p = lt_binomial_test(s->in95, s->n, p95);
 }
 
 static double get(const cJSON *o, const char *name)
@@ -97,6 +99,33 @@ static cJSON *coverage_json(size_t k, size_t n, double f, double e, double p, do
     return o;
 }
 
+/* Does record r have every estimate, sd and interval its group's numbers
+ * need? A fit whose Laplace errors are undefined has not. */
+static int has_errors(const cJSON *r)
+{
+    const char *keys[] = {"estimate", "lo68", "hi68", "lo95", "hi95"};
+    const cJSON *q;
+    cJSON_ArrayForEach(q, cJSON_GetObjectItemCaseSensitive(r, "params"))
+    {
+        if (!(get(q, "sd") > 0))
+            return 0;
+        for (size_t j = 0; j < sizeof keys / sizeof keys[0]; j++)
+            if (!isfinite(get(q, keys[j])))
+                return 0;
+    }
+    return 1;
+}
+
+/* Why a realization is left out of its group's numbers, from its record. */
+static const char *drop_reason(const cJSON *r)
+{
+    int ok = is(r, "status", "ok");
+    const cJSON *why = cJSON_GetObjectItemCaseSensitive(r, ok ? "note" : "error");
+    if (cJSON_IsString(why))
+        return why->valuestring;
+    return !r ? "not run" : ok ? "an estimate, error or interval is undefined" : "failed";
+}
+
 /* Bias and coverage of one (data set, model, method) group. */
 static cJSON *group_json(const lt_campaign *c, size_t d, size_t m, lt_method k,
                          cJSON *const *results)
@@ -110,23 +139,41 @@ static cJSON *group_json(const lt_campaign *c, size_t d, size_t m, lt_method k,
         free(buf);
         return NULL;
     }
-    size_t n = 0;
-    for (size_t i = 0; i < c->ntasks; i++) {
-        lt_campaign_task t;
-        lt_campaign_task_get(c, i, &t);
-        if (t.data != d || t.model != m || t.method != k || !results[i] ||
-            !is(results[i], "status", "ok"))
-            continue;
-        rec[n++] = results[i];
-        if (!first)
-            first = results[i];
-    }
     cJSON *o = cJSON_CreateObject();
     cJSON_AddStringToObject(o, "dataset", c->data[d].name);
     cJSON_AddStringToObject(o, "model", c->models[m]->name);
     cJSON_AddStringToObject(o, "method", lt_method_name(k));
     cJSON_AddItemToObject(o, "realizations", num((double)R));
+    cJSON *dropped = cJSON_CreateArray();
+    size_t n = 0, failed = 0, no_errors = 0;
+    for (size_t i = 0; i < c->ntasks; i++) {
+        lt_campaign_task t;
+        lt_campaign_task_get(c, i, &t);
+        if (t.data != d || t.model != m || t.method != k)
+            continue;
+        const cJSON *r = results[i];
+        int ok = r && is(r, "status", "ok");
+        if (ok && !first)
+            first = r; /* the parameters' names and truths */
+        if (ok && has_errors(r)) {
+            rec[n++] = r;
+            continue;
+        }
+        /* left out of bias and coverage: said here, not silently */
+        if (ok)
+            no_errors++;
+        else
+            failed++;
+        cJSON *x = cJSON_CreateObject();
+        cJSON_AddItemToObject(x, "realization", num((double)t.realization));
+        cJSON_AddStringToObject(x, "reason", drop_reason(r));
+        cJSON_AddItemToArray(dropped, x);
+    }
     cJSON_AddItemToObject(o, "used", num((double)n));
+    cJSON_AddItemToObject(o, "dropped", num((double)(failed + no_errors)));
+    cJSON_AddItemToObject(o, "dropped_failed", num((double)failed));
+    cJSON_AddItemToObject(o, "dropped_no_errors", num((double)no_errors));
+    cJSON_AddItemToObject(o, "dropped_realizations", dropped);
     size_t unconv = 0;
     for (size_t i = 0; i < n; i++)
         unconv += !cJSON_IsTrue(cJSON_GetObjectItemCaseSensitive(rec[i], "converged"));
@@ -157,9 +204,11 @@ static cJSON *group_json(const lt_campaign *c, size_t d, size_t m, lt_method k,
         cJSON_AddItemToObject(b, "pull_width", num(s.pull_width));
         cJSON_AddItemToObject(b, "pull_width_err", num(s.pull_width_err));
         cJSON_AddItemToObject(b, "coverage68", coverage_json(s.in68, s.n, s.cover68,
-                                                             s.cover68_err, s.cover68_p, 0.68));
+                                                             s.cover68_err, s.cover68_p,
+                                                             s.nominal68));
         cJSON_AddItemToObject(b, "coverage95", coverage_json(s.in95, s.n, s.cover95,
-                                                             s.cover95_err, s.cover95_p, 0.95));
+                                                             s.cover95_err, s.cover95_p,
+                                                             s.nominal95));
         cJSON *pulls = cJSON_AddArrayToObject(b, "pulls");
         for (size_t i = 0; i < n; i++)
             cJSON_AddItemToArray(pulls, num(sd[i] > 0 ? (est[i] - s.truth) / sd[i] : NAN));

@@ -64,6 +64,7 @@ static void weighted_param(const lt_nested_result *r, size_t d, size_t i, double
     }
     p->estimate = m, p->sd = sqrt(fmax(m2 - m * m, 0));
     qsort(pair, n, 2 * sizeof *pair, cmp_pair);
+    /* Phi(-1), Phi(1), 0.025, 0.975: probabilities LT_NOMINAL68 and LT_NOMINAL95 */
     const double q[4] = {0.158655253931457, 0.841344746068543, 0.025, 0.975};
     double *out[4] = {&p->lo68, &p->hi68, &p->lo95, &p->hi95};
     for (int k = 0; k < 4; k++)
@@ -87,8 +88,9 @@ static int run_fit(const lt_like *l, const lt_campaign *c, const lt_campaign_tas
         return rc;
     for (size_t i = 0; i < fr.dim; i++) {
         double b = fr.best[i], s = fr.sd[i];
-        p[i] = (task_param){b, s, b - s, b + s, b - 1.959963984540054 * s,
-                            b + 1.959963984540054 * s};
+        /* intervals of probability LT_NOMINAL68 and LT_NOMINAL95 under the
+         * Laplace (Gaussian) approximation */
+        p[i] = (task_param){b, s, b - s, b + s, b - LT_Z95 * s, b + LT_Z95 * s};
     }
     cJSON_AddItemToObject(o, "chi2_min", num(fr.at_best.chi2));
     cJSON_AddBoolToObject(o, "converged", fr.info.converged && fr.laplace_ok);

@@ -36,9 +36,13 @@ static void usage(FILE *f)
           "For each parameter with a known truth: the mean bias of the estimate (best\n"
           "fit for fit, posterior mean otherwise) with its error sd/sqrt(n); pulls\n"
           "(estimate - truth)/sd, their mean and width; the fraction of 68% and 95%\n"
-          "intervals (best +- 1 and 1.96 sd for fit, equal-tailed otherwise) that hold\n"
-          "the truth, its binomial error at the nominal probability, and the p-value of\n"
-          "the exact two-sided binomial test against it.\n"
+          "intervals that hold the truth, its binomial error at the nominal probability,\n"
+          "and the p-value of the exact two-sided binomial test against it. The nominal\n"
+          "probability is what each interval is defined to hold: 0.6827 for best +- 1 sd\n"
+          "(fit) and the 15.87-84.13% quantiles (sample, nested), 0.95 for best +- 1.96\n"
+          "sd and the 2.5-97.5% quantiles. A realization without an estimate, sd or\n"
+          "interval (its task failed, or a fit at a prior edge has no Laplace errors) is\n"
+          "dropped from its group's numbers, and counted and listed as dropped.\n"
           "\n"
           "options:\n"
           "  --out DIR        the output folder: new or empty (--force replaces an earlier one)\n"
@@ -305,17 +309,29 @@ static void print_table(FILE *f, const cJSON *summary)
     const cJSON *g;
     cJSON_ArrayForEach(g, cJSON_GetObjectItemCaseSensitive(summary, "bias"))
     {
-        fprintf(f, "\n%s / %s / %s: %d realizations used\n",
+#define V(o, k) cJSON_GetNumberValue(cJSON_GetObjectItemCaseSensitive(o, k))
+        fprintf(f, "\n%s / %s / %s: %d of %d realizations used, %d dropped",
                 cJSON_GetObjectItemCaseSensitive(g, "dataset")->valuestring,
                 cJSON_GetObjectItemCaseSensitive(g, "model")->valuestring,
-                cJSON_GetObjectItemCaseSensitive(g, "method")->valuestring,
-                (int)cJSON_GetNumberValue(cJSON_GetObjectItemCaseSensitive(g, "used")));
+                cJSON_GetObjectItemCaseSensitive(g, "method")->valuestring, (int)V(g, "used"),
+                (int)V(g, "realizations"), (int)V(g, "dropped"));
+        if (V(g, "dropped") > 0)
+            fprintf(f, " (%d without errors, %d failed; summary.json lists them)",
+                    (int)V(g, "dropped_no_errors"), (int)V(g, "dropped_failed"));
+        fputc('\n', f);
+        /* the headers name the probability each coverage is tested against */
+        const cJSON *p = cJSON_GetObjectItemCaseSensitive(g, "params")->child;
+        char h68[32] = "", h95[32] = "";
+        if (p) {
+            snprintf(h68, sizeof h68, "cover %.4g%% (p)",
+                     100 * V(cJSON_GetObjectItemCaseSensitive(p, "coverage68"), "nominal"));
+            snprintf(h95, sizeof h95, "cover %.4g%% (p)",
+                     100 * V(cJSON_GetObjectItemCaseSensitive(p, "coverage95"), "nominal"));
+        }
         fprintf(f, "  %-9s %9s %21s %15s %15s %17s %17s\n", "parameter", "truth", "bias",
-                "pull mean", "pull width", "coverage 68% (p)", "coverage 95% (p)");
-        const cJSON *p;
+                "pull mean", "pull width", h68, h95);
         cJSON_ArrayForEach(p, cJSON_GetObjectItemCaseSensitive(g, "params"))
         {
-#define V(o, k) cJSON_GetNumberValue(cJSON_GetObjectItemCaseSensitive(o, k))
             const cJSON *c68 = cJSON_GetObjectItemCaseSensitive(p, "coverage68");
             const cJSON *c95 = cJSON_GetObjectItemCaseSensitive(p, "coverage95");
             fprintf(f, "  %-9s %9.4g %10.3g +- %7.2g %6.3f +- %5.3f %6.3f +- %5.3f %6.3f (%6.2g) "
@@ -324,8 +340,8 @@ static void print_table(FILE *f, const cJSON *summary)
                     V(p, "pull_mean"), V(p, "pull_mean_err"), V(p, "pull_width"),
                     V(p, "pull_width_err"), V(c68, "fraction"), V(c68, "p_value"),
                     V(c95, "fraction"), V(c95, "p_value"));
-#undef V
         }
+#undef V
     }
     /* Data sets without a truth (survey files) have no bias to show: their
      * estimates are listed instead, one line per task; then every failure. */
@@ -377,7 +393,8 @@ static int write_bias_csv(const char *dir, const cJSON *summary, lt_error *err)
     len += (size_t)snprintf(s, cap,
                             "dataset,model,method,parameter,truth,n,bias_mean,bias_err,pull_mean,"
                             "pull_mean_err,pull_width,pull_width_err,coverage68,coverage68_err,"
-                            "coverage68_p,coverage95,coverage95_err,coverage95_p\n");
+                            "coverage68_p,coverage95,coverage95_err,coverage95_p,coverage68_nominal,"
+                            "coverage95_nominal,dropped\n");
     const cJSON *g, *p;
     cJSON_ArrayForEach(g, cJSON_GetObjectItemCaseSensitive(summary, "bias"))
     {
@@ -399,7 +416,10 @@ static int write_bias_csv(const char *dir, const cJSON *summary, lt_error *err)
                 cJSON_GetObjectItemCaseSensitive(c68, "p_value"),
                 cJSON_GetObjectItemCaseSensitive(c95, "fraction"),
                 cJSON_GetObjectItemCaseSensitive(c95, "err"),
-                cJSON_GetObjectItemCaseSensitive(c95, "p_value")};
+                cJSON_GetObjectItemCaseSensitive(c95, "p_value"),
+                cJSON_GetObjectItemCaseSensitive(c68, "nominal"),
+                cJSON_GetObjectItemCaseSensitive(c95, "nominal"),
+                cJSON_GetObjectItemCaseSensitive(g, "dropped")};
             if (cap - len < 1024) {
                 char *t = realloc(s, cap *= 2);
                 if (!t) {
@@ -452,11 +472,12 @@ static int write_figures(const char *dir, const cJSON *summary, lt_error *err)
                 break;
             cJSON_ArrayForEach(x, pl) pulls[np][i++] = cJSON_IsNumber(x) ? x->valuedouble : NAN;
 #define V(o, k) cJSON_GetNumberValue(cJSON_GetObjectItemCaseSensitive(o, k))
-            panels[np] = (lt_bias_panel){p->string,         n,
-                                         pulls[np],         V(p, "pull_mean"),
+            panels[np] = (lt_bias_panel){p->string,          n,
+                                         pulls[np],          V(p, "pull_mean"),
                                          V(p, "pull_width"), V(c68, "fraction"),
                                          V(c68, "err"),      V(c95, "fraction"),
-                                         V(c95, "err")};
+                                         V(c95, "err"),      V(c68, "nominal"),
+                                         V(c95, "nominal")};
 #undef V
             np++;
         }
@@ -465,8 +486,13 @@ static int write_figures(const char *dir, const cJSON *summary, lt_error *err)
         const char *me = cJSON_GetObjectItemCaseSensitive(g, "method")->valuestring;
         char name[600], title[700];
         snprintf(name, sizeof name, "bias_%s_%s_%s", ds, mo, me);
-        snprintf(title, sizeof title, "%s, %s by %s: %d realizations", ds, mo, me,
-                 (int)cJSON_GetNumberValue(cJSON_GetObjectItemCaseSensitive(g, "used")));
+        int used = (int)cJSON_GetNumberValue(cJSON_GetObjectItemCaseSensitive(g, "used"));
+        int dropped = (int)cJSON_GetNumberValue(cJSON_GetObjectItemCaseSensitive(g, "dropped"));
+        if (dropped > 0)
+            snprintf(title, sizeof title, "%s, %s by %s: %d realizations (%d dropped)", ds, mo,
+                     me, used, dropped);
+        else
+            snprintf(title, sizeof title, "%s, %s by %s: %d realizations", ds, mo, me, used);
         int rc = lt_report_write_bias_figure(dir, name, title, panels, np, err);
         for (size_t k = 0; k < np; k++)
             free(pulls[k]);

@@ -651,8 +651,9 @@ static void draw_bias(const void *ctx)
     plcol0(C_INK);
     plwind(0.5, (double)np + 0.5, 0.4, 1.02);
     plbox("bc", 0, 0, "bcnstv", 0, 0);
-    for (double nominal = 0.68; nominal < 1; nominal += 0.27) {
-        PLFLT hx[2] = {0.5, (double)np + 0.5}, hy[2] = {nominal, nominal};
+    const double nominal[2] = {b->p[0].nominal68, b->p[0].nominal95};
+    for (int s = 0; s < 2; s++) {
+        PLFLT hx[2] = {0.5, (double)np + 0.5}, hy[2] = {nominal[s], nominal[s]};
         plcol0(C_GREY);
         pllsty(2);
         plline(2, hx, hy);
@@ -675,9 +676,12 @@ static void draw_bias(const void *ctx)
     }
     plcol0(C_INK);
     plmtex("l", 3.5, 0.5, 0.5, "coverage");
-    plmtex("b", 3.2, 0.5, 0.5,
-           "68% (dot) and 95% (circle) intervals holding the truth; dashed: nominal; bars: "
-           "binomial errors");
+    char caption[200];
+    snprintf(caption, sizeof caption,
+             "68%% (dot), 95%% (circle) intervals holding the truth; dashed: nominal %.4g, "
+             "%.4g; bars: binomial errors",
+             nominal[0], nominal[1]);
+    plmtex("b", 3.2, 0.5, 0.5, caption);
     plschr(0, 0.9);
     plmtex("t", 2.2, 0.5, 0.5, ""); /* keeps PLplot's character state */
     plvpor(left, right, 0.93, 0.99);

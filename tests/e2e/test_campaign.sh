@@ -30,21 +30,26 @@ if [ "$STATUS" -eq 0 ] && [ -s "$E2E_TMP/one/summary.json" ] && [ -s "$E2E_TMP/o
     [ "$(ls "$E2E_TMP/one/tasks" | wc -l)" -eq 40 ]; then
     pass "a 20-realization campaign on one machine: 40 task records, summary, bias.csv, figures"
 else fail "a 20-realization campaign on one machine: 40 task records, summary, bias.csv, figures"; fi
-grep -qE "^lamplighter / lcdm-flat / sample: 20 realizations used" "$OUT" &&
+grep -qE "^lamplighter / lcdm-flat / sample: 20 of 20 realizations used, 0 dropped$" "$OUT" &&
+    grep -qE "^  parameter .* cover 68\.27% \(p\) +cover 95% \(p\)$" "$OUT" &&
     grep -qE "^  omega_m +0\.31 " "$OUT" && pass "the table shows each group and its truth" ||
     fail "the table shows each group and its truth"
 
 # The summary's numbers from the task records, recomputed by numpy, and the
-# exact binomial test by scipy.stats.binomtest (two-sided).
+# exact binomial test by scipy.stats.binomtest (two-sided) against the
+# probability each interval is defined to hold: best +- 1 sd and the
+# 15.87-84.13% quantiles hold Phi(1) - Phi(-1) = 0.6827 (scipy.stats.norm),
+# best +- 1.96 sd and the 2.5-97.5% quantiles 0.95.
 if /usr/bin/python3 - "$E2E_TMP/one/summary.json" <<'PY'
 import json, sys
 import numpy as np
-from scipy.stats import binomtest
+from scipy.stats import binomtest, norm
 s = json.load(open(sys.argv[1]))
 assert s["tasks"] == 40 and s["done"] == 40 and s["failed"] == 0 and s["converged"] is True
+p68 = norm.cdf(1) - norm.cdf(-1)
 for g in s["bias"]:
     recs = [r for r in s["results"] if r["method"] == g["method"] and r["model"] == g["model"]]
-    assert len(recs) == 20 == g["used"]
+    assert len(recs) == 20 == g["used"] and g["dropped"] == 0 and g["dropped_realizations"] == []
     b = g["params"]["omega_m"]
     p = [r["params"]["omega_m"] for r in recs]
     assert all(q["truth"] == 0.31 for q in p)
@@ -55,18 +60,76 @@ for g in s["bias"]:
     assert abs(b["pull_mean"] - pulls.mean()) < 1e-12
     assert abs(b["pull_width"] - pulls.std(ddof=1)) < 1e-12
     assert np.allclose(b["pulls"], pulls, rtol=0, atol=1e-12)
-    for lvl, lo, hi, nominal in ((68, "lo68", "hi68", 0.68), (95, "lo95", "hi95", 0.95)):
+    for lvl, lo, hi, nominal in ((68, "lo68", "hi68", p68), (95, "lo95", "hi95", 0.95)):
         k = sum(q[lo] <= 0.31 <= q[hi] for q in p)
         c = b["coverage%d" % lvl]
+        assert abs(c["nominal"] - nominal) < 1e-15, (c["nominal"], nominal)
         assert c["covered"] == k and c["of"] == 20 and abs(c["fraction"] - k / 20) < 1e-15
         assert abs(c["err"] - np.sqrt(nominal * (1 - nominal) / 20)) < 1e-15
         ref = binomtest(k, 20, nominal).pvalue
         assert abs(c["p_value"] - ref) < 1e-9 * max(ref, 1e-300), (c["p_value"], ref)
-    if g["method"] == "fit":  # intervals best +- 1 and 1.96 sd
+    if g["method"] == "fit":  # intervals best +- 1 and Phi^-1(0.975) = 1.96 sd
         assert all(abs(q["hi68"] - q["estimate"] - q["sd"]) < 1e-12 for q in p)
+        assert all(abs(q["hi95"] - q["estimate"] - norm.ppf(0.975) * q["sd"]) < 1e-12 for q in p)
 PY
 then pass "bias, pulls and coverage equal numpy's from the records; p-values equal scipy.stats.binomtest"
 else fail "bias, pulls and coverage equal numpy's from the records; p-values equal scipy.stats.binomtest"; fi
+
+# Fits at a prior edge have no Laplace errors: with omega_m's prior cut at
+# 0.30 (the truth is 0.31, sigma about 0.02) some realizations put the best
+# fit on the edge. They are dropped from bias and coverage, counted and
+# listed in summary.json and the table, and the numbers are those of numpy
+# over the realizations left; the summary is the same with 1 and 2 threads.
+cat >"$E2E_TMP/edge.ini" <<EOF
+[campaign]
+name = edge
+models = lcdm-flat
+methods = fit
+seed = 11
+[simulated.lamplighter]
+scenario = $ROOT/data/lamplighter.ini
+realizations = 10
+[priors]
+omega_m = uniform:0.3:0.5
+EOF
+run "$LANTERN" campaign "$E2E_TMP/edge.ini" --out "$E2E_TMP/edge1" --threads 1 --quiet
+cp "$OUT" "$E2E_TMP/edge.table"
+run "$LANTERN" campaign "$E2E_TMP/edge.ini" --out "$E2E_TMP/edge2" --threads 2 --quiet
+if [ "$STATUS" -eq 3 ] && cmp -s "$E2E_TMP/edge1/summary.json" "$E2E_TMP/edge2/summary.json" &&
+    cmp -s "$E2E_TMP/edge1/bias.csv" "$E2E_TMP/edge2/bias.csv" &&
+    /usr/bin/python3 - "$E2E_TMP/edge1/summary.json" "$E2E_TMP/edge.table" "$E2E_TMP/edge1/bias.csv" <<'PY'
+import csv, json, sys
+import numpy as np
+from scipy.stats import binomtest, norm
+s = json.load(open(sys.argv[1])); table = open(sys.argv[2]).read().splitlines()
+g = s["bias"][0]
+bad = [r for r in s["results"] if r["params"]["omega_m"]["sd"] is None]
+good = [r for r in s["results"] if r["params"]["omega_m"]["sd"] is not None]
+assert 0 < len(bad) < 10, len(bad)
+assert all("edge of its prior" in r["note"] for r in bad)
+assert g["dropped"] == g["dropped_no_errors"] == len(bad) and g["dropped_failed"] == 0
+assert g["used"] == len(good) and g["realizations"] == 10
+assert [d["realization"] for d in g["dropped_realizations"]] == [r["realization"] for r in bad]
+assert all("edge of its prior" in d["reason"] for d in g["dropped_realizations"])
+b = g["params"]["omega_m"]
+est = np.array([r["params"]["omega_m"]["estimate"] for r in good])
+assert b["n"] == len(good) and abs(b["bias_mean"] - (est - 0.31).mean()) < 1e-12
+assert len(b["pulls"]) == len(good)
+p68 = norm.cdf(1) - norm.cdf(-1)
+for lvl, nominal in ((68, p68), (95, 0.95)):
+    c = b["coverage%d" % lvl]
+    k = sum(r["params"]["omega_m"]["lo%d" % lvl] <= 0.31 <= r["params"]["omega_m"]["hi%d" % lvl]
+            for r in good)
+    assert c["of"] == len(good) and c["covered"] == k
+    assert abs(c["p_value"] - binomtest(k, len(good), nominal).pvalue) < 1e-9
+want = "lamplighter / lcdm-flat / fit: %d of 10 realizations used, %d dropped (%d without errors, " \
+       "0 failed; summary.json lists them)" % (len(good), len(bad), len(bad))
+assert want in table, (want, table)
+row = next(csv.DictReader(open(sys.argv[3])))
+assert int(row["dropped"]) == len(bad) and float(row["coverage68_nominal"]) == b["coverage68"]["nominal"]
+PY
+then pass "fits without Laplace errors (best fit at a prior edge) are dropped, counted and listed; the rest as numpy/scipy; 1 and 2 threads agree"
+else fail "fits without Laplace errors (best fit at a prior edge) are dropped, counted and listed; the rest as numpy/scipy; 1 and 2 threads agree"; fi
 
 # The same campaign over MPI ranks: the same summary, byte for byte.
 if [ -z "${LANTERN_SANITIZE:-}" ] && [ -x "$MPI_BIN" ] && command -v mpirun >/dev/null; then

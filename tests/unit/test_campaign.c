@@ -14,6 +14,7 @@
 
 #include <cjson/cJSON.h>
 #include <cmocka.h>
+#include <gsl/gsl_cdf.h>
 #include <gsl/gsl_errno.h>
 
 #include "lantern/lantern.h"
@@ -203,14 +204,110 @@ static void test_bias(void **state)
     assert_int_equal(s.in68, 3);
     assert_int_equal(s.in95, 4);
     assert_rel(s.cover68, 0.75, 1e-15);
-    assert_rel(s.cover68_err, sqrt(0.68 * 0.32 / 4), 1e-12);
-    assert_rel(s.cover68_p, lt_binomial_test(3, 4, 0.68), 1e-15);
+    /* tested against Phi(1) - Phi(-1) (GSL's gsl_cdf_ugaussian_P), which
+     * +-1 sd and the 15.87-84.13% quantiles hold */
+    double p68 = gsl_cdf_ugaussian_P(1) - gsl_cdf_ugaussian_P(-1);
+    assert_rel(s.nominal68, p68, 1e-15);
+    assert_rel(s.cover68_err, sqrt(p68 * (1 - p68) / 4), 1e-12);
+    assert_rel(s.cover68_p, lt_binomial_test(3, 4, p68), 1e-15);
+    assert_rel(s.cover95_p, lt_binomial_test(4, 4, 0.95), 1e-15);
     /* an estimate without an error is left out */
     const double sd0[4] = {0.1, 0.1, 0.2, 0};
     lt_bias_compute(1.0, 4, est, sd0, lo68, hi68, lo95, hi95, &s);
     assert_int_equal(s.n, 3);
     lt_bias_compute(1.0, 0, est, sd, lo68, hi68, lo95, hi95, &s);
     assert_true(s.n == 0 && isnan(s.bias_mean) && isnan(s.cover68));
+}
+
+/* The summary of a group with five realizations: three ok, one fit whose
+ * Laplace errors are undefined (a best fit at a prior edge: its sd and
+ * intervals are null), one task that failed. The two are dropped from
+ * bias and coverage and counted; the 68% intervals (best +- 1 sd) are
+ * tested against the probability they are defined to hold,
+ * Phi(1) - Phi(-1) = 0.6827, not 0.68. */
+static cJSON *fake_record(size_t task, const char *params)
+{
+    char text[512];
+    snprintf(text, sizeof text,
+             "{\"task\":%zu,\"status\":\"ok\",\"converged\":true,\"params\":{\"omega_m\":%s}}",
+             task, params);
+    cJSON *o = cJSON_Parse(text);
+    assert_non_null(o);
+    return o;
+}
+
+static void test_summary_nominal_dropped(void **state)
+{
+    (void)state;
+    lt_campaign c;
+    lt_error err;
+    const char *text = "[campaign]\nmodels = lcdm-flat\nmethods = fit\n"
+                       "[simulated.sim]\nscenario = scenario.ini\nrealizations = 5\n";
+    assert_int_equal(lt_campaign_read(write_text("five.ini", text), &c, &err), LT_OK);
+    assert_int_equal(c.ntasks, 5);
+    cJSON *results[5];
+    /* truth 0.3: inside every interval of the three */
+    results[0] = fake_record(0, "{\"truth\":0.3,\"estimate\":0.31,\"sd\":0.02,\"lo68\":0.29,"
+                                "\"hi68\":0.33,\"lo95\":0.27,\"hi95\":0.35}");
+    results[1] = fake_record(1, "{\"truth\":0.3,\"estimate\":0.29,\"sd\":0.02,\"lo68\":0.27,"
+                                "\"hi68\":0.31,\"lo95\":0.25,\"hi95\":0.33}");
+    results[2] = fake_record(2, "{\"truth\":0.3,\"estimate\":0.315,\"sd\":0.02,\"lo68\":0.295,"
+                                "\"hi68\":0.335,\"lo95\":0.275,\"hi95\":0.355}");
+    results[3] = fake_record(3, "{\"truth\":0.3,\"estimate\":0.3,\"sd\":null,\"lo68\":null,"
+                                "\"hi68\":null,\"lo95\":null,\"hi95\":null}");
+    cJSON_AddStringToObject(results[3], "note", "the best fit of omega_m lies at the edge");
+    cJSON_ReplaceItemInObject(results[3], "converged", cJSON_CreateFalse());
+    lt_error_set(&err, LT_EIO, "x.csv", 3, "gone");
+    results[4] = lt_campaign_task_failed(&c, 4, &err);
+    cJSON *s = lt_campaign_summary(&c, results);
+    char *printed = cJSON_PrintUnformatted(s);
+    cJSON *sum = cJSON_Parse(printed); /* numbers are raw text until parsed back */
+    const cJSON *g = cJSON_GetArrayItem(cJSON_GetObjectItem(sum, "bias"), 0);
+    assert_non_null(g);
+    const cJSON *om = cJSON_GetObjectItem(cJSON_GetObjectItem(g, "params"), "omega_m");
+    const cJSON *c68 = cJSON_GetObjectItem(om, "coverage68");
+    const cJSON *c95 = cJSON_GetObjectItem(om, "coverage95");
+    /* +-1 sd of a Gaussian holds Phi(1) - Phi(-1) (GSL's gsl_cdf_ugaussian_P) */
+    double p68 = gsl_cdf_ugaussian_P(1) - gsl_cdf_ugaussian_P(-1);
+    assert_rel(cJSON_GetObjectItem(c68, "nominal")->valuedouble, p68, 1e-15);
+    /* +-1.959963984540054 sd and the 2.5-97.5% quantiles hold 0.95 */
+    assert_rel(gsl_cdf_ugaussian_P(1.959963984540054) - gsl_cdf_ugaussian_P(-1.959963984540054),
+               0.95, 1e-15);
+    assert_rel(cJSON_GetObjectItem(c95, "nominal")->valuedouble, 0.95, 0);
+    assert_int_equal((int)cJSON_GetObjectItem(c68, "covered")->valuedouble, 3);
+    assert_int_equal((int)cJSON_GetObjectItem(c68, "of")->valuedouble, 3);
+    assert_int_equal((int)cJSON_GetObjectItem(c95, "covered")->valuedouble, 3);
+    /* binomial errors at the nominal p; the exact test of k = 3 of 3 at
+     * p = 0.6827 keeps outcomes 0, 1 and 3 (outcome 2 is the most likely),
+     * so its p-value is 1 - 3 p^2 (1 - p) (closed form: 0.556335, where
+     * 0.68 gives 0.556096); at 0.95, 3 of 3 is the most likely outcome */
+    assert_rel(cJSON_GetObjectItem(c68, "err")->valuedouble, sqrt(p68 * (1 - p68) / 3), 1e-12);
+    assert_rel(cJSON_GetObjectItem(c68, "p_value")->valuedouble, 1 - 3 * p68 * p68 * (1 - p68),
+               1e-9);
+    assert_rel(cJSON_GetObjectItem(c95, "err")->valuedouble, sqrt(0.95 * 0.05 / 3), 1e-12);
+    assert_rel(cJSON_GetObjectItem(c95, "p_value")->valuedouble, 1, 1e-12);
+    /* the dropped realizations: counted, by reason, and named */
+    assert_int_equal((int)cJSON_GetObjectItem(g, "realizations")->valuedouble, 5);
+    assert_int_equal((int)cJSON_GetObjectItem(g, "used")->valuedouble, 3);
+    assert_int_equal((int)cJSON_GetObjectItem(g, "dropped")->valuedouble, 2);
+    assert_int_equal((int)cJSON_GetObjectItem(g, "dropped_no_errors")->valuedouble, 1);
+    assert_int_equal((int)cJSON_GetObjectItem(g, "dropped_failed")->valuedouble, 1);
+    assert_int_equal((int)cJSON_GetObjectItem(g, "unconverged")->valuedouble, 0);
+    const cJSON *list = cJSON_GetObjectItem(g, "dropped_realizations");
+    assert_int_equal(cJSON_GetArraySize(list), 2);
+    const cJSON *d0 = cJSON_GetArrayItem(list, 0), *d1 = cJSON_GetArrayItem(list, 1);
+    assert_int_equal((int)cJSON_GetObjectItem(d0, "realization")->valuedouble, 4);
+    assert_non_null(strstr(cJSON_GetObjectItem(d0, "reason")->valuestring, "at the edge"));
+    assert_int_equal((int)cJSON_GetObjectItem(d1, "realization")->valuedouble, 5);
+    assert_non_null(strstr(cJSON_GetObjectItem(d1, "reason")->valuestring, "x.csv:3: gone"));
+    assert_int_equal(cJSON_GetArraySize(cJSON_GetObjectItem(om, "pulls")), 3);
+    assert_int_equal((int)cJSON_GetObjectItem(om, "n")->valuedouble, 3);
+    free(printed);
+    cJSON_Delete(sum);
+    cJSON_Delete(s);
+    for (int i = 0; i < 5; i++)
+        cJSON_Delete(results[i]);
+    lt_campaign_free(&c);
 }
 
 /* One task run twice gives the same record; it holds the truth and the
@@ -233,7 +330,12 @@ static void test_task_record(void **state)
     assert_rel(cJSON_GetObjectItem(om, "truth")->valuedouble, 0.3, 0);
     double e = cJSON_GetObjectItem(om, "estimate")->valuedouble;
     double sd = cJSON_GetObjectItem(om, "sd")->valuedouble;
-    assert_rel(cJSON_GetObjectItem(om, "hi95")->valuedouble, e + 1.959963984540054 * sd, 1e-12);
+    /* best +- 1 sd and +- Phi^-1(0.975) sd (GSL's gsl_cdf_ugaussian_Pinv):
+     * the intervals of probability 0.6827 and 0.95 the summary tests */
+    assert_rel(cJSON_GetObjectItem(om, "hi68")->valuedouble, e + sd, 1e-12);
+    assert_rel(cJSON_GetObjectItem(om, "lo68")->valuedouble, e - sd, 1e-12);
+    assert_rel(cJSON_GetObjectItem(om, "hi95")->valuedouble,
+               e + gsl_cdf_ugaussian_Pinv(0.975) * sd, 1e-12);
     free(ta);
     free(tb);
     cJSON_Delete(a);
@@ -256,7 +358,8 @@ int main(void)
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_task_order), cmocka_unit_test(test_errors),
         cmocka_unit_test(test_queue),      cmocka_unit_test(test_binomial),
-        cmocka_unit_test(test_bias),       cmocka_unit_test(test_task_record),
+        cmocka_unit_test(test_bias),       cmocka_unit_test(test_summary_nominal_dropped),
+        cmocka_unit_test(test_task_record),
     };
     return cmocka_run_group_tests(tests, setup, teardown);
 }
