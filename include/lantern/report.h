@@ -45,6 +45,32 @@ typedef struct lt_post_stats {
  * holding ceil(p n) of the sorted draws. */
 void lt_post_summarise(const double *x, size_t n, lt_post_stats *s);
 
+/*
+ * How much of a posterior lies at the edges of a uniform prior [a, b]: the
+ * density at a and at b relative to the density's peak, from the n draws x
+ * with weights w (NULL: equal; NaN draws and weights <= 0 are left out).
+ * The density is a Gaussian kernel estimate reflected at both edges
+ * (Silverman 1986, section 2.10), so it is not halved at a hard edge, with
+ * Silverman's rule-of-thumb bandwidth 0.9 min(sd, IQR/1.34) n^(-1/5)
+ * (eq. 3.31; n is Kish's effective size for weights). Its bias at an edge
+ * is about f'(a) h sqrt(2/pi), a few per cent of f(a) for 10^4 draws.
+ * A flat posterior gives ratios near 1, one far from both edges near 0.
+ * Returns LT_EINPUT for fewer than two draws or a bad interval (ratios NaN).
+ */
+int lt_post_edge_density(const double *x, const double *w, size_t n, double a, double b,
+                         double *lo_ratio, double *hi_ratio);
+
+/* The ratio above which a posterior is said to reach a prior edge: its
+ * density there above 10% of its peak (issue 16; a convention of ours). */
+#define LT_EDGE_DENSITY_WARN 0.1
+
+/* The warning for parameter name with prior p and the edge ratios lo, hi
+ * of lt_post_edge_density, into buf: "the posterior of NAME reaches the
+ * lower edge of its prior U(A, B) (density there L% and H% of its peak)".
+ * Returns 1 if a ratio is above LT_EDGE_DENSITY_WARN (buf written), else 0. */
+int lt_post_edge_note(const char *name, const lt_prior *p, double lo, double hi, char *buf,
+                      size_t size);
+
 /* ---- sampled posteriors ---- */
 
 /* Everything a sampled run reports: the draws with their derived columns,
@@ -62,12 +88,15 @@ typedef struct lt_sample_result {
     lt_post_stats *stats;    /* per column from first_param on */
     double *cov;             /* nparams x nparams posterior covariance */
     int converged;
+    double edge_lo[LT_NPAR], edge_hi[LT_NPAR]; /* lt_post_edge_density of each
+                                                * parameter with a uniform prior, else NaN */
     const lt_mcmc_diag *diag;
     size_t warmup, steps;
 } lt_sample_result;
 
 /* Gather m's draws, add derived columns (computed in parallel), polish the
- * best draw and summarise. */
+ * best draw and summarise. The summary's "warnings" (lt_report_sample_json)
+ * name each parameter whose posterior reaches a prior edge (lt_post_edge_note). */
 int lt_sample_collect(const lt_like *l, const lt_mcmc *m, lt_sample_result *r, lt_error *err);
 void lt_sample_result_free(lt_sample_result *r);
 
@@ -101,6 +130,8 @@ typedef struct lt_run_model {
     size_t k_params, n_data;
     int converged, offset_marginal;
     lt_cosmo_params best_params; /* the fixed values with the best fit applied */
+    char *data_file;            /* the summary's data.file, or NULL */
+    char *data_digest;          /* its data.digest, or NULL (older summaries) */
 } lt_run_model;
 
 /* Read dir/summary.json and dir/chains.csv. */
@@ -118,17 +149,38 @@ void lt_run_model_free(lt_run_model *m);
 void lt_pdg_round(double value, double minus, double plus, char *v, char *m, char *p,
                   size_t size);
 
-/* How a parameter is quoted: a two-sided interval, or a 95% upper or lower
- * limit when its posterior presses on a prior edge. */
+/* Whether two saved models were fitted to the same data: the same data
+ * digest where both summaries record one ("data.digest"), otherwise the
+ * same n_data and data file (summaries written before the digest). */
+int lt_run_model_same_data(const lt_run_model *a, const lt_run_model *b);
+
+/*
+ * How a parameter is quoted. edges flags (LT_EDGE_LOWER, LT_EDGE_UPPER)
+ * the edges of a uniform prior where the posterior's density is above
+ * LT_EDGE_DENSITY_WARN of its peak (lt_post_edge_density). A posterior
+ * that reaches one edge only, with its 2.5% (97.5%) quantile within 2% of
+ * the prior's width of that edge, is quoted as a 95% upper (lower) limit;
+ * any other is a two-sided interval, which the tables mark when an edge is
+ * flagged (the prior then sets part of the interval).
+ */
 typedef enum { LT_QUOTE_TWO_SIDED = 0, LT_QUOTE_UPPER, LT_QUOTE_LOWER } lt_quote_kind;
+enum { LT_EDGE_LOWER = 1, LT_EDGE_UPPER = 2 };
 typedef struct lt_quote {
     lt_quote_kind kind;
     double value, minus, plus; /* median and 68% equal-tailed; or the limit */
+    unsigned edges;            /* LT_EDGE_* flags */
+    double edge_lo, edge_hi;   /* density at each edge over the peak; NaN if no uniform prior */
 } lt_quote;
 lt_quote lt_quote_of(const lt_run_model *m, size_t col);
 
 /* constraints.md, constraints.tex (booktabs) and constraints.csv
- * (model,parameter,value,minus,plus,kind) for n models, into dir. */
+ * (model,parameter,value,minus,plus,kind,prior_edge,converged) for n
+ * models, into dir. Marks: a dagger on a two-sided interval whose
+ * posterior reaches a prior edge, a double dagger on a model whose chains
+ * did not converge, each with its footnote; Delta AIC, Delta BIC and ln B
+ * are left blank for a model fitted to other data than the first model
+ * (lt_run_model_same_data), with a footnote saying so. prior_edge is
+ * none, lower, upper or both; converged is true or false. */
 int lt_report_write_tables(const char *dir, const lt_run_model *models, size_t n,
                            lt_error *err);
 

@@ -36,7 +36,8 @@ static void usage(FILE *f)
           "positive, 6-10 strong, above 10 very strong).\n"
           "\n"
           "The evidence depends on the prior volume: the priors are printed with the table,\n"
-          "and a posterior that presses on a prior edge is warned about. A --prior or --fix\n"
+          "and a posterior whose density at an edge of a uniform prior is above 10% of its\n"
+          "peak (a kernel estimate reflected at the edge) is warned about. A --prior or --fix\n"
           "applies to every compared model that has the parameter. For mag data with the\n"
           "offset marginalised, ln Z is that of a flat offset prior of unit width (1 mag), the\n"
           "same for every model; do not mix it in one Bayes factor with a sampled offset.\n"
@@ -128,7 +129,6 @@ static void posterior(model_run *mr, double norm)
         lt_dic_compute(dev, wt, n, &dic);
     }
     free(dev);
-    free(wt);
     mr->p_d = dic.p_v;
     mr->dic = dic.dic;
     /* p_V near k is what a well-constrained Gaussian posterior gives; far
@@ -141,20 +141,27 @@ static void posterior(model_run *mr, double norm)
                  "p_V = %.2f effective parameters against %zu sampled: the posterior is far from "
                  "Gaussian or cut by its prior, so DIC is a poor guide for this model",
                  mr->p_d, d);
-    /* a posterior pressing on a prior edge makes ln Z depend on where the edge is */
+    /* a posterior reaching a prior edge (its density there above a tenth of
+     * its peak) makes ln Z depend on where the edge is */
     mr->warning[0] = '\0';
-    for (size_t i = 0; i < d; i++) {
+    double *col = malloc((n ? n : 1) * sizeof *col);
+    for (size_t i = 0; col && wt && i < d; i++) {
         const lt_prior *p = lt_like_prior(mr->l, i);
         if (p->kind != LT_PRIOR_UNIFORM)
             continue;
-        double w = p->b - p->a;
-        const char *edge = mr->q025[i] - p->a < 0.02 * w ? "lower" : p->b - mr->q975[i] < 0.02 * w ? "upper" : NULL;
-        if (edge)
+        for (size_t j = 0; j < n; j++)
+            col[j] = mr->nr.theta[j * d + i];
+        double lo, hi;
+        if (lt_post_edge_density(col, wt, n, p->a, p->b, &lo, &hi))
+            continue;
+        char note[256];
+        if (lt_post_edge_note(lt_par_name(lt_like_param_id(mr->l, i)), p, lo, hi, note,
+                              sizeof note))
             snprintf(mr->warning + strlen(mr->warning), sizeof mr->warning - strlen(mr->warning),
-                     "%sthe posterior of %s presses on the %s edge of its prior U(%g, %g); ln Z "
-                     "depends on that edge",
-                     mr->warning[0] ? "; " : "", lt_par_name(lt_like_param_id(mr->l, i)), edge, p->a, p->b);
+                     "%s%s; ln Z depends on that prior", mr->warning[0] ? "; " : "", note);
     }
+    free(col);
+    free(wt);
 }
 
 static int write_samples(const char *dir, const model_run *mr, lt_error *err)

@@ -28,7 +28,10 @@ static void usage_run(FILE *f)
           "run file's name):\n"
           "  summary.json                 every model and the comparison\n"
           "  constraints.md, .tex, .csv   medians and 68% intervals (PDG rounding), or 95%\n"
-          "                               limits where a posterior presses on a prior edge\n"
+          "                               limits where a posterior piles against a prior\n"
+          "                               edge; marked: an interval that reaches a prior edge\n"
+          "                               (density there > 10% of the peak), a model that did\n"
+          "                               not converge\n"
           "  hubble.png, .pdf             the data, each model's best fit, residuals\n"
           "  posterior_MODEL.png, .pdf    1-D marginals and 68/95% regions\n"
           "  plane_MODEL.png, .pdf        Omega_m-Omega_de (curved) or w0-wa (w0-wa) plane\n"
@@ -136,11 +139,15 @@ static int write_run_summary(const char *dir, const char *name, const lt_run_mod
         cJSON_AddItemToObject(c, "dof", lt_json_number((double)models[i].dof));
         cJSON_AddItemToObject(c, "aic", lt_json_number(models[i].aic));
         cJSON_AddItemToObject(c, "bic", lt_json_number(models[i].bic));
-        cJSON_AddItemToObject(c, "delta_aic", lt_json_number(models[i].aic - models[0].aic));
-        cJSON_AddItemToObject(c, "delta_bic", lt_json_number(models[i].bic - models[0].bic));
+        /* differences across other data compare nothing: null, and said so */
+        int same = lt_run_model_same_data(&models[0], &models[i]);
+        double other = same ? 0.0 : NAN;
+        cJSON_AddItemToObject(c, "delta_aic", lt_json_number(models[i].aic - models[0].aic + other));
+        cJSON_AddItemToObject(c, "delta_bic", lt_json_number(models[i].bic - models[0].bic + other));
+        cJSON_AddBoolToObject(c, "same_data_as_first", same);
         cJSON_AddBoolToObject(c, "converged", models[i].converged);
         if (isfinite(models[i].ln_z)) {
-            double lnb = models[i].ln_z - models[0].ln_z;
+            double lnb = models[i].ln_z - models[0].ln_z + other;
             cJSON_AddItemToObject(c, "ln_z", lt_json_number(models[i].ln_z));
             cJSON_AddItemToObject(c, "ln_z_err", lt_json_number(models[i].ln_z_err));
             cJSON_AddItemToObject(c, "ln_b", lt_json_number(lnb));
@@ -148,6 +155,8 @@ static int write_run_summary(const char *dir, const char *name, const lt_run_mod
             char rd[160];
             snprintf(rd, sizeof rd, i == 0 ? "reference" : "%s: %s", 2 * lnb >= 0 ? "for this model" : "for the reference",
                      cli_kass_raftery(2 * lnb));
+            if (!same)
+                snprintf(rd, sizeof rd, "not compared: fitted to other data than the first model");
             cJSON_AddStringToObject(c, "reading", rd);
         }
         cJSON_AddItemToArray(cmp, c);
@@ -182,9 +191,21 @@ static int write_report(const char *dir, const char *name, char dirs[][4200], si
         status = cli_report(&err);
         goto done;
     }
-    for (size_t i = 0; i < n; i++)
-        if (!models[i].converged)
+    /* what the tables mark, said where the user looks first */
+    for (size_t i = 0; i < n; i++) {
+        if (!models[i].converged) {
+            fprintf(stderr,
+                    "lantern: warning: %s did not converge (worst R-hat %.3g, smallest ESS %.0f): "
+                    "its numbers are provisional; the tables mark it with a double dagger\n",
+                    models[i].label, models[i].rhat_max, models[i].ess_min);
             status = CLI_UNCONVERGED;
+        }
+        if (!lt_run_model_same_data(&models[0], &models[i]))
+            fprintf(stderr,
+                    "lantern: note: %s was fitted to other data (%zu objects) than %s (%zu "
+                    "objects): the tables leave its AIC, BIC and ln B differences blank\n",
+                    models[i].label, models[i].n_data, models[0].label, models[0].n_data);
+    }
 done:
     for (size_t i = 0; i < loaded; i++)
         lt_run_model_free(&models[i]);
@@ -443,7 +464,10 @@ static void usage_report(FILE *f)
           "lantern run) from their chains. With one run the report is rebuilt in place\n"
           "unless --out says where; several runs (for example SN only and SN + a prior)\n"
           "go into one table and one set of figures in --out, each model labelled\n"
-          "'RUN: MODEL'. The Hubble diagram uses the first run's data.\n",
+          "'RUN: MODEL'; models of one name share a posterior and a plane figure, overlaid\n"
+          "with a legend naming the runs. AIC, BIC and ln B differences are left blank for\n"
+          "models fitted to other data than the first (a footnote says so). The Hubble\n"
+          "diagram uses the first run's data. Exit status 3 if a model did not converge.\n",
           f);
 }
 

@@ -59,6 +59,10 @@ static void usage(FILE *f)
           "RUN.ini as in 'lantern fit --help', plus [sampler] chains, seed, threads,\n"
           "target_ess, max_steps, warmup, check_every.\n"
           "\n"
+          "A parameter whose posterior density at an edge of its uniform prior is above 10%\n"
+          "of its peak (a kernel estimate reflected at the edges) is warned about, on stderr\n"
+          "and in the summary's warnings: the prior then sets part of its interval.\n"
+          "\n"
           "exit status: 0 converged, 1 interrupted or failed, 2 bad input, 3 not converged\n",
           f);
 }
@@ -123,6 +127,12 @@ static int finish(const cli_job *j, lt_like *l, lt_mcmc *m, cli_format format, c
     if (lt_sample_collect(l, m, &r, &err))
         return cli_report(&err);
     cJSON *json = lt_report_sample_json(l, &r, &j->data, j->seed);
+    for (size_t i = 0; i < r.nparams; i++) {
+        char note[256];
+        if (lt_post_edge_note(r.cols[r.first_param + i], lt_like_prior(l, i), r.edge_lo[i],
+                              r.edge_hi[i], note, sizeof note))
+            fprintf(stderr, "lantern: warning: %s: %s\n", lt_like_model(l)->name, note);
+    }
     if (!print) {
     } else if (format == CLI_JSON) {
         char *text = cJSON_Print(json);

@@ -244,25 +244,91 @@ static double tick_step(double lo, double hi, int labels)
     return (f < 1.5 ? 1.0 : f < 3.0 ? 2.0 : f < 7.0 ? 5.0 : 10.0) * mag;
 }
 
-/* ---- the posterior matrix ---- */
+static long find_col(const lt_run_model *m, const char *name)
+{
+    for (size_t c = 0; c < m->nparams + m->nderived; c++)
+        if (!strcmp(m->names[c], name))
+            return (long)c;
+    return -1;
+}
+
+/* The models one figure shows: those of one name. From several runs
+ * (lantern report RUN1 RUN2) they are overlaid, each in its colour with a
+ * legend naming it, where one file per model once let the last run's
+ * figure replace the others. */
+#define MAX_OVERLAY 16
 typedef struct {
-    const lt_run_model *m;
-    size_t index;
-} one_model;
+    const lt_run_model *models; /* all the report's models */
+    size_t idx[MAX_OVERLAY];    /* the members (colours follow the index) */
+    size_t k;
+} model_group;
+
+#define MEMBER(g, j) (&(g)->models[(g)->idx[j]])
+
+/* The plotting range of parameter name over the members that have it. */
+static void group_range(const model_group *g, const char *name, double *lo, double *hi)
+{
+    *lo = INFINITY, *hi = -INFINITY;
+    for (size_t j = 0; j < g->k; j++) {
+        long c = find_col(MEMBER(g, j), name);
+        double a, b;
+        if (c < 0)
+            continue;
+        range_of(MEMBER(g, j), (size_t)c, &a, &b);
+        *lo = fmin(*lo, a), *hi = fmax(*hi, b);
+    }
+    if (!(*lo < *hi))
+        *lo = 0, *hi = 1;
+}
+
+/* A legend of the members, one line each from the top of the current
+ * viewport (window 0-1 on both axes), starting at y and stepping dy down. */
+static void group_legend(const model_group *g, double y, double dy)
+{
+    for (size_t j = 0; j < g->k; j++, y -= dy) {
+        PLFLT lx[2] = {0.02, 0.14}, ly[2] = {y, y};
+        plcol0(model_colour(g->idx[j]));
+        plwidth(2.5);
+        plline(2, lx, ly);
+        plwidth(1);
+        plcol0(C_INK);
+        plptex(0.17, y, 1, 0, 0, MEMBER(g, j)->label);
+    }
+}
+
+/* ---- the posterior matrix ---- */
+/* The parameters of the members, in first-seen order (the same model may
+ * have other free parameters in another run); returns how many. */
+static size_t group_params(const model_group *g, const char **names)
+{
+    size_t d = 0;
+    for (size_t j = 0; j < g->k; j++)
+        for (size_t c = 0; c < MEMBER(g, j)->nparams; c++) {
+            size_t i = 0;
+            while (i < d && strcmp(names[i], MEMBER(g, j)->names[c]))
+                i++;
+            if (i == d && d < LT_NPAR)
+                names[d++] = MEMBER(g, j)->names[c];
+        }
+    return d;
+}
 
 static void draw_posterior(const void *p)
 {
-    const one_model *om = p;
-    const lt_run_model *m = om->m;
-    size_t d = m->nparams;
-    int col = model_colour(om->index);
+    const model_group *g = p;
+    const lt_run_model *m = MEMBER(g, 0);
+    const char *names[LT_NPAR];
+    size_t d = group_params(g, names);
     double lo[LT_NPAR], hi[LT_NPAR];
     for (size_t i = 0; i < d; i++)
-        range_of(m, i, &lo[i], &hi[i]);
+        group_range(g, names[i], &lo[i], &hi[i]);
     plschr(0, d > 3 ? 0.6 : 0.8);
     int nl = d >= 3 ? 3 : 5; /* about this many tick labels per panel */
+    /* the text lines of the legend: a title, two notes, and the runs */
+    size_t lines = 3 + (g->k > 1 ? g->k : 0);
     /* one parameter: leave the top for the legend */
-    double margin = 0.11, top = d == 1 ? 0.78 : 0.97, span = (top - margin) / (double)d;
+    double margin = 0.11, top = d == 1 ? 0.94 - 0.055 * (double)lines : 0.97;
+    double span = (top - margin) / (double)d;
     for (size_t r = 0; r < d; r++)
         for (size_t c = 0; c <= r; c++) {
             double vx0 = margin + c * span, vy1 = top - r * span;
@@ -272,44 +338,63 @@ static void draw_posterior(const void *p)
             if (r == c) {
                 plwind(lo[c], hi[c], 0, 1.1);
                 plbox(xo, tick_step(lo[c], hi[c], nl), 0, "bc", 0, 0);
-                marginal(m, c, lo[c], hi[c], col);
-                PLFLT bx[2] = {m->best[c], m->best[c]}, by[2] = {0, 1.1};
-                plcol0(C_INK);
-                pllsty(3);
-                plline(2, bx, by);
-                pllsty(1);
             } else {
                 plwind(lo[c], hi[c], lo[r], hi[r]);
                 plbox(xo, tick_step(lo[c], hi[c], nl), 0, yo, tick_step(lo[r], hi[r], nl), 0);
-                contours(m, c, r, lo[c], hi[c], lo[r], hi[r], col);
-                PLFLT bx = m->best[c], by = m->best[r];
-                plcol0(C_INK);
-                plpoin(1, &bx, &by, 5);
+            }
+            for (size_t j = 0; j < g->k; j++) {
+                const lt_run_model *mj = MEMBER(g, j);
+                long cx = find_col(mj, names[c]), cy = find_col(mj, names[r]);
+                int col = model_colour(g->idx[j]);
+                if (cx < 0 || cy < 0)
+                    continue;
+                /* the best fit in ink for one model, in its colour among several */
+                if (r == c) {
+                    marginal(mj, (size_t)cx, lo[c], hi[c], col);
+                    PLFLT bx[2] = {mj->best[cx], mj->best[cx]}, by[2] = {0, 1.1};
+                    plcol0(g->k > 1 ? col : C_INK);
+                    pllsty(3);
+                    plline(2, bx, by);
+                    pllsty(1);
+                } else {
+                    contours(mj, (size_t)cx, (size_t)cy, lo[c], hi[c], lo[r], hi[r], col);
+                    PLFLT bx = mj->best[cx], by = mj->best[cy];
+                    plcol0(g->k > 1 ? col : C_INK);
+                    plpoin(1, &bx, &by, 5);
+                }
             }
             plcol0(C_INK);
             if (r == d - 1)
-                plmtex("b", 3.2, 0.5, 0.5, axis_label(m->names[c]));
+                plmtex("b", 3.2, 0.5, 0.5, axis_label(names[c]));
             if (c == 0 && r > 0)
-                plmtex("l", 5.0, 0.5, 0.5, axis_label(m->names[r]));
+                plmtex("l", 5.0, 0.5, 0.5, axis_label(names[r]));
         }
     /* legend and title in the empty upper right */
-    plvpor(0.55, 0.97, 0.80, 0.97);
+    double dy = d == 1 ? 0.055 : 0.04; /* a line, as a fraction of the page */
+    double vtop = 0.97, vbot = vtop - dy * (double)lines;
+    plvpor(0.45, 0.97, vbot, vtop);
     plwind(0, 1, 0, 1);
+    double step = 1.0 / (double)lines; /* a line in the window */
     plschr(0, 0.9);
-    char title[128];
-    snprintf(title, sizeof title, "posterior of %s", m->label);
+    char title[160];
+    if (g->k > 1)
+        snprintf(title, sizeof title, "posterior of %s, %zu runs", m->name, g->k);
+    else
+        snprintf(title, sizeof title, "posterior of %s", m->label);
     plcol0(C_INK);
-    plptex(1.0, 0.85, 1, 0, 1.0, title);
+    plptex(1.0, 1 - 0.6 * step, 1, 0, 1.0, title);
     plschr(0, 0.7);
-    plptex(1.0, 0.55, 1, 0, 1.0, "68% (solid) and 95% (dashed) regions");
-    plptex(1.0, 0.3, 1, 0, 1.0, "x and long-dashed line: the best fit");
+    plptex(1.0, 1 - 1.6 * step, 1, 0, 1.0, "68% (solid) and 95% (dashed) regions");
+    plptex(1.0, 1 - 2.6 * step, 1, 0, 1.0,
+           g->k > 1 ? "x and long-dashed lines: each best fit" : "x and long-dashed line: the best fit");
+    if (g->k > 1)
+        group_legend(g, 1 - 3.6 * step, step);
 }
 
 /* ---- traces ---- */
 static void draw_traces(const void *p)
 {
-    const one_model *om = p;
-    const lt_run_model *m = om->m;
+    const lt_run_model *m = p;
     size_t d = m->nparams, nc = m->nparams + m->nderived, n = m->ndraws;
     plschr(0, 0.75);
     size_t stride = n > 4000 ? n / 4000 : 1; /* at most 4000 points per chain */
@@ -347,25 +432,18 @@ static void draw_traces(const void *p)
 }
 
 /* ---- the Omega_m - Omega_de or w0 - wa plane ---- */
-static long find_col(const lt_run_model *m, const char *name)
-{
-    for (size_t c = 0; c < m->nparams + m->nderived; c++)
-        if (!strcmp(m->names[c], name))
-            return (long)c;
-    return -1;
-}
 
 static void draw_plane(const void *p)
 {
-    const one_model *om = p;
-    const lt_run_model *m = om->m;
+    const model_group *g = p;
+    const lt_run_model *m = MEMBER(g, 0);
     long cx = find_col(m, "omega_m"), cy = find_col(m, "omega_de");
     int w0wa = m->model && m->model->de->w_early != NULL && find_col(m, "wa") >= 0;
     if (w0wa)
         cx = find_col(m, "w0"), cy = find_col(m, "wa");
     double x0, x1, y0, y1;
-    range_of(m, (size_t)cx, &x0, &x1);
-    range_of(m, (size_t)cy, &y0, &y1);
+    group_range(g, m->names[cx], &x0, &x1);
+    group_range(g, m->names[cy], &y0, &y1);
     if (w0wa) { /* make sure w = -1 is in view */
         x0 = fmin(x0, -1.1), x1 = fmax(x1, -0.9), y0 = fmin(y0, -0.2), y1 = fmax(y1, 0.2);
     }
@@ -375,10 +453,16 @@ static void draw_plane(const void *p)
     plcol0(C_INK);
     plbox("bcnst", 0, 0, "bcnstv", 0, 0);
     pllab(axis_label(m->names[cx]), axis_label(m->names[cy]), "");
-    contours(m, (size_t)cx, (size_t)cy, x0, x1, y0, y1, model_colour(om->index));
-    PLFLT bx = m->best[cx], by = m->best[cy];
-    plcol0(C_INK);
-    plpoin(1, &bx, &by, 5);
+    for (size_t j = 0; j < g->k; j++) {
+        const lt_run_model *mj = MEMBER(g, j);
+        long jx = find_col(mj, m->names[cx]), jy = find_col(mj, m->names[cy]);
+        if (jx < 0 || jy < 0)
+            continue;
+        contours(mj, (size_t)jx, (size_t)jy, x0, x1, y0, y1, model_colour(g->idx[j]));
+        PLFLT bx = mj->best[jx], by = mj->best[jy];
+        plcol0(g->k > 1 ? model_colour(g->idx[j]) : C_INK);
+        plpoin(1, &bx, &by, 5);
+    }
     char title[160];
     plcol0(C_GREY);
     if (w0wa) {
@@ -406,8 +490,18 @@ static void draw_plane(const void *p)
         plptex(tx, tx / 2, 1, 0.5, 0.5, "accelerating above, decelerating below");
         snprintf(title, sizeof title, "%s: #gW#dm#u - #gW#dDE#u plane (68%%, 95%%)", m->label);
     }
+    if (g->k > 1) /* the runs name themselves in the legend */
+        snprintf(title, sizeof title, "%s, %zu runs: %s plane (68%%, 95%%)", m->name, g->k,
+                 w0wa ? "w#d0#u - w#da#u" : "#gW#dm#u - #gW#dDE#u");
     plcol0(C_INK);
     plmtex("t", 1.5, 0.5, 0.5, title);
+    if (g->k > 1) {
+        plschr(0, 0.8);
+        double h = 0.045 * (double)g->k;
+        plvpor(0.55, 0.94, 0.89 - h, 0.89);
+        plwind(0, 1, 0, 1);
+        group_legend(g, 1 - 0.5 / (double)g->k, 1.0 / (double)g->k);
+    }
 }
 
 /* ---- the Hubble diagram ---- */
@@ -567,20 +661,37 @@ int lt_report_write_figures(const char *dir, const lt_run_model *models, size_t 
     hubble_ctx h = {models, n, s};
     int rc = figure(dir, "hubble", 1, 1100, 800, draw_hubble, &h, err);
     for (size_t i = 0; !rc && i < n; i++) {
-        one_model om = {&models[i], i};
+        /* the models of this name: the figures of the first one show them all */
+        model_group g = {models, {0}, 0};
+        size_t seen = 0; /* earlier models of the same name */
+        for (size_t j = 0; j < n; j++)
+            if (!strcmp(models[j].name, models[i].name)) {
+                if (j < i)
+                    seen++;
+                if (g.k < MAX_OVERLAY)
+                    g.idx[g.k++] = j;
+            }
         char name[256];
-        size_t d = models[i].nparams, side = d < 2 ? 500 : 260 * d + 80;
-        snprintf(name, sizeof name, "posterior_%s", models[i].name);
-        rc = figure(dir, name, 1, (int)side, (int)side, draw_posterior, &om, err);
-        int curved = models[i].model && !models[i].model->flat && find_col(&models[i], "omega_de") >= 0;
-        int w0wa = find_col(&models[i], "wa") >= 0 && find_col(&models[i], "w0") >= 0;
-        if (!rc && (curved || w0wa)) {
-            snprintf(name, sizeof name, "plane_%s", models[i].name);
-            rc = figure(dir, name, 1, 800, 700, draw_plane, &om, err);
+        const char *pnames[LT_NPAR];
+        size_t d = models[i].nparams, dg = group_params(&g, pnames);
+        size_t side = dg < 2 ? 500 : 260 * dg + 80;
+        if (!seen) {
+            snprintf(name, sizeof name, "posterior_%s", models[i].name);
+            rc = figure(dir, name, 1, (int)side, (int)side, draw_posterior, &g, err);
+            int curved = models[i].model && !models[i].model->flat && find_col(&models[i], "omega_de") >= 0;
+            int w0wa = find_col(&models[i], "wa") >= 0 && find_col(&models[i], "w0") >= 0;
+            if (!rc && (curved || w0wa)) {
+                snprintf(name, sizeof name, "plane_%s", models[i].name);
+                rc = figure(dir, name, 1, 800, 700, draw_plane, &g, err);
+            }
         }
+        /* traces are not overlaid: the second model of a name gets _2, and so on */
         if (!rc) {
-            snprintf(name, sizeof name, "traces_%s", models[i].name);
-            rc = figure(dir, name, 0, 1000, 200 * (int)(d < 2 ? 2 : d), draw_traces, &om, err);
+            if (seen)
+                snprintf(name, sizeof name, "traces_%s_%zu", models[i].name, seen + 1);
+            else
+                snprintf(name, sizeof name, "traces_%s", models[i].name);
+            rc = figure(dir, name, 0, 1000, 200 * (int)(d < 2 ? 2 : d), draw_traces, &models[i], err);
         }
     }
     return rc;

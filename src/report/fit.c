@@ -3,6 +3,8 @@
  */
 #include <errno.h>
 #include <math.h>
+#include <stdint.h>
+#include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 
@@ -32,10 +34,43 @@ int lt_report_write_json(const char *path, const cJSON *o, lt_error *err)
 
 static cJSON *num(double v) { return lt_json_number(v); }
 
+/* FNV-1a, 64 bits (Fowler, Noll and Vo; the offset basis and prime of its
+ * published definition), over n bytes, continuing from *h. */
+static void fnv1a(uint64_t *h, const void *p, size_t n)
+{
+    const unsigned char *b = p;
+    for (size_t i = 0; i < n; i++)
+        *h = (*h ^ b[i]) * 0x100000001B3ull;
+}
+
+/* A digest of the data a model was fitted to, after cuts: the size, the
+ * observable, z, zhel, the observations and the covariance's diagonal.
+ * lantern report compares it to tell runs on other data apart. */
+static void survey_digest(const lt_survey *s, char *out, size_t size)
+{
+    uint64_t h = 0xCBF29CE484222325ull;
+    int kind = (int)s->kind;
+    fnv1a(&h, &s->n, sizeof s->n);
+    fnv1a(&h, &kind, sizeof kind);
+    fnv1a(&h, s->z, s->n * sizeof *s->z);
+    fnv1a(&h, s->zhel, s->n * sizeof *s->zhel);
+    fnv1a(&h, s->obs, s->n * sizeof *s->obs);
+    double *diag = malloc((s->n ? s->n : 1) * sizeof *diag);
+    if (diag && s->cov) {
+        lt_cov_diagonal(s->cov, diag);
+        fnv1a(&h, diag, s->n * sizeof *diag);
+    }
+    free(diag);
+    snprintf(out, size, "fnv1a64:%016llx", (unsigned long long)h);
+}
+
 cJSON *lt_report_add_data(cJSON *o, const lt_survey_spec *data, const lt_survey *s)
 {
     cJSON *files = cJSON_AddObjectToObject(o, "data");
     cJSON_AddStringToObject(files, "file", data->data ? data->data : "");
+    char digest[64];
+    survey_digest(s, digest, sizeof digest);
+    cJSON_AddStringToObject(files, "digest", digest);
     cJSON_AddStringToObject(files, "columns", data->columns ? data->columns : "");
     cJSON *covs = cJSON_AddArrayToObject(files, "cov");
     for (size_t i = 0; i < data->ncov; i++)

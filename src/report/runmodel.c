@@ -15,6 +15,8 @@ void lt_run_model_free(lt_run_model *m)
     free(m->names);
     free(m->name);
     free(m->label);
+    free(m->data_file);
+    free(m->data_digest);
     free(m->priors);
     free(m->best);
     free(m->stats);
@@ -98,6 +100,19 @@ int lt_run_model_load(const char *dir, lt_run_model *m, lt_error *err)
     m->k_params = (size_t)jnum(j, "k_params");
     m->aic = jnum(j, "aic"), m->bic = jnum(j, "bic");
     m->n_data = (size_t)jnum(j, "n_data");
+    const cJSON *data = cJSON_GetObjectItemCaseSensitive(j, "data");
+    const cJSON *dfile = cJSON_GetObjectItemCaseSensitive(data, "file");
+    const cJSON *ddig = cJSON_GetObjectItemCaseSensitive(data, "digest");
+    if (cJSON_IsString(dfile) && !(m->data_file = strdup(dfile->valuestring))) {
+        cJSON_Delete(j);
+        lt_run_model_free(m);
+        return lt_error_set(err, LT_ENOMEM, path, 0, "out of memory");
+    }
+    if (cJSON_IsString(ddig) && !(m->data_digest = strdup(ddig->valuestring))) {
+        cJSON_Delete(j);
+        lt_run_model_free(m);
+        return lt_error_set(err, LT_ENOMEM, path, 0, "out of memory");
+    }
     const cJSON *ev = cJSON_GetObjectItemCaseSensitive(j, "evidence");
     m->ln_z = jnum(ev, "ln_z"), m->ln_z_err = jnum(ev, "ln_z_err");
     m->converged = cJSON_IsTrue(cJSON_GetObjectItemCaseSensitive(j, "converged"));
@@ -176,4 +191,13 @@ int lt_run_model_load(const char *dir, lt_run_model *m, lt_error *err)
     }
     m->ndraws = per_chain;
     return LT_OK;
+}
+
+int lt_run_model_same_data(const lt_run_model *a, const lt_run_model *b)
+{
+    if (a->data_digest && b->data_digest)
+        return !strcmp(a->data_digest, b->data_digest);
+    /* a summary written before the digest: the size and the file decide */
+    return a->n_data == b->n_data && (a->data_file == NULL) == (b->data_file == NULL) &&
+           (!a->data_file || !strcmp(a->data_file, b->data_file));
 }

@@ -155,6 +155,20 @@ int lt_sample_collect(const lt_like *l, const lt_mcmc *m, lt_sample_result *r, l
         r->best_derived[k] = lt_like_derived(l, r->best, der[k]);
     if (pivot)
         r->best_derived[nder] = r->best[iw0] + r->best[iwa] * one_minus_ap;
+    /* how much of each posterior lies at the edges of a uniform prior */
+    double *x = malloc((total ? total : 1) * sizeof *x);
+    if (!x)
+        goto nomem;
+    for (size_t i = 0; i < d; i++) {
+        const lt_prior *p = lt_like_prior(l, i);
+        r->edge_lo[i] = r->edge_hi[i] = NAN;
+        if (p->kind != LT_PRIOR_UNIFORM)
+            continue;
+        for (size_t j = 0; j < total; j++)
+            x[j] = r->rows[j * r->ncols + 2 + i];
+        lt_post_edge_density(x, NULL, total, p->a, p->b, &r->edge_lo[i], &r->edge_hi[i]);
+    }
+    free(x);
     r->converged = lt_mcmc_converged(m);
     r->diag = lt_mcmc_diagnostics(m);
     r->warmup = o->warmup;
@@ -271,6 +285,12 @@ cJSON *lt_report_sample_json(const lt_like *l, const lt_sample_result *r,
     cJSON *w = lt_report_add_data(o, data, s);
     if (!r->converged)
         cJSON_AddItemToArray(w, cJSON_CreateString("the chains did not converge within the step cap"));
+    for (size_t i = 0; i < d; i++) {
+        char note[256];
+        if (lt_post_edge_note(r->cols[r->first_param + i], lt_like_prior(l, i), r->edge_lo[i],
+                              r->edge_hi[i], note, sizeof note))
+            cJSON_AddItemToArray(w, cJSON_CreateString(note));
+    }
     return o;
 }
 

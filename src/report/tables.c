@@ -56,43 +56,75 @@ static int cmp_double(const void *a, const void *b)
     return (x > y) - (x < y);
 }
 
-/* The q-quantile of column col of m's draws. */
-static double draw_quantile(const lt_run_model *m, size_t col, double q)
+/* Column col of m's draws, gathered (NaN kept: the callers skip it). */
+static double *draw_column(const lt_run_model *m, size_t col, size_t *n)
 {
-    size_t n = m->nchains * m->ndraws, nc = m->nparams + m->nderived, k = 0;
-    double *x = malloc((n ? n : 1) * sizeof *x);
-    if (!x)
+    size_t nc = m->nparams + m->nderived;
+    *n = m->nchains * m->ndraws;
+    double *x = malloc((*n ? *n : 1) * sizeof *x);
+    for (size_t i = 0; x && i < *n; i++)
+        x[i] = m->draws[i * nc + col];
+    return x;
+}
+
+/* The q-quantile of draws x (NaN left out), as lt_post_summarise takes it
+ * (Hyndman & Fan definition 7). */
+static double draw_quantile(const double *x, size_t n, double q)
+{
+    double *s = malloc((n ? n : 1) * sizeof *s);
+    if (!s)
         return NAN;
+    size_t k = 0;
     for (size_t i = 0; i < n; i++)
-        if (!isnan(m->draws[i * nc + col]))
-            x[k++] = m->draws[i * nc + col];
+        if (!isnan(x[i]))
+            s[k++] = x[i];
     double v = NAN;
     if (k) {
-        qsort(x, k, sizeof *x, cmp_double);
+        qsort(s, k, sizeof *s, cmp_double);
         double h = q * (double)(k - 1);
         size_t lo = (size_t)floor(h);
-        v = lo + 1 < k ? x[lo] + (h - (double)lo) * (x[lo + 1] - x[lo]) : x[k - 1];
+        v = lo + 1 < k ? s[lo] + (h - (double)lo) * (s[lo + 1] - s[lo]) : s[k - 1];
     }
-    free(x);
+    free(s);
     return v;
 }
 
 lt_quote lt_quote_of(const lt_run_model *m, size_t col)
 {
     const lt_post_stats *s = &m->stats[col];
-    lt_quote q = {LT_QUOTE_TWO_SIDED, s->median, s->median - s->lo68, s->hi68 - s->median};
+    lt_quote q = {LT_QUOTE_TWO_SIDED, s->median, s->median - s->lo68, s->hi68 - s->median, 0,
+                  NAN, NAN};
     if (col >= m->nparams || m->priors[col].kind != LT_PRIOR_UNIFORM)
         return q;
-    /* A posterior that presses on a prior edge: its 2.5% (97.5%) quantile
-     * lies within 2% of the prior's width of the lower (upper) edge. Then a
-     * one-sided 95% limit says more than an interval cut by the prior. */
     double a = m->priors[col].a, b = m->priors[col].b, w = b - a;
-    int at_lo = s->lo95 - a < 0.02 * w, at_hi = b - s->hi95 < 0.02 * w;
-    if (at_lo && !at_hi)
-        q = (lt_quote){LT_QUOTE_UPPER, draw_quantile(m, col, 0.95), NAN, NAN};
-    else if (at_hi && !at_lo)
-        q = (lt_quote){LT_QUOTE_LOWER, draw_quantile(m, col, 0.05), NAN, NAN};
+    size_t n;
+    double *x = draw_column(m, col, &n);
+    if (!x || lt_post_edge_density(x, NULL, n, a, b, &q.edge_lo, &q.edge_hi)) {
+        free(x);
+        return q;
+    }
+    /* the posterior reaches an edge where its density there is above a
+     * tenth of its peak: the prior then cuts it */
+    q.edges = (q.edge_lo > LT_EDGE_DENSITY_WARN ? LT_EDGE_LOWER : 0) |
+              (q.edge_hi > LT_EDGE_DENSITY_WARN ? LT_EDGE_UPPER : 0);
+    /* A posterior piled against one edge, its 2.5% (97.5%) quantile within
+     * 2% of the prior's width of it: a one-sided 95% limit says more than an
+     * interval cut by the prior. A posterior that fills its prior (both
+     * edges) has no limit to give: its interval is quoted and marked. */
+    if (q.edges == LT_EDGE_LOWER && s->lo95 - a < 0.02 * w)
+        q = (lt_quote){LT_QUOTE_UPPER, draw_quantile(x, n, 0.95), NAN, NAN, q.edges, q.edge_lo,
+                       q.edge_hi};
+    else if (q.edges == LT_EDGE_UPPER && b - s->hi95 < 0.02 * w)
+        q = (lt_quote){LT_QUOTE_LOWER, draw_quantile(x, n, 0.05), NAN, NAN, q.edges, q.edge_lo,
+                       q.edge_hi};
+    free(x);
     return q;
+}
+
+/* A two-sided quote whose posterior reaches a prior edge gets the dagger. */
+static int edge_marked(const lt_quote *q)
+{
+    return q->kind == LT_QUOTE_TWO_SIDED && q->edges;
 }
 
 /* The quoted value as text, in Markdown (tex = 0) or LaTeX (tex = 1). */
@@ -107,10 +139,11 @@ static void quote_text(const lt_quote *q, int tex, char *buf, size_t size)
         return;
     }
     lt_pdg_round(q->value, q->minus, q->plus, v, mi, pl, sizeof v);
+    const char *mark = !edge_marked(q) ? "" : tex ? "{}^\\dagger" : " †";
     if (!strcmp(mi, pl))
-        snprintf(buf, size, tex ? "$%s \\pm %s$" : "%s ± %s", v, mi);
+        snprintf(buf, size, tex ? "$%s \\pm %s%s$" : "%s ± %s%s", v, mi, mark);
     else
-        snprintf(buf, size, tex ? "$%s^{+%s}_{-%s}$" : "%s +%s/-%s", v, pl, mi);
+        snprintf(buf, size, tex ? "$%s^{+%s}_{-%s}%s$" : "%s +%s/-%s%s", v, pl, mi, mark);
 }
 
 /* The columns of all models, in first-seen order. */
@@ -191,6 +224,54 @@ static int close_commit(FILE *f, const char *final, const char *tmp, lt_error *e
     return lt_file_commit(final, err);
 }
 
+/* What the tables need of each model, worked out once: the quotes (each a
+ * kernel density estimate at the prior's edges) and whether the model's
+ * data are those of the first model. */
+typedef struct {
+    lt_quote **q; /* q[i][c] */
+    int *same;    /* same[i]: model i was fitted to the first model's data */
+    int any_edge, any_unconverged, any_other_data;
+} table_facts;
+
+static void facts_free(table_facts *t, size_t n)
+{
+    for (size_t i = 0; t->q && i < n; i++)
+        free(t->q[i]);
+    free(t->q);
+    free(t->same);
+}
+
+static int facts_of(const lt_run_model *models, size_t n, table_facts *t, lt_error *err)
+{
+    memset(t, 0, sizeof *t);
+    t->q = calloc(n, sizeof *t->q);
+    t->same = calloc(n, sizeof *t->same);
+    if (!t->q || !t->same)
+        goto nomem;
+    for (size_t i = 0; i < n; i++) {
+        size_t nc = models[i].nparams + models[i].nderived;
+        if (!(t->q[i] = malloc((nc ? nc : 1) * sizeof *t->q[i])))
+            goto nomem;
+        for (size_t c = 0; c < nc; c++) {
+            t->q[i][c] = lt_quote_of(&models[i], c);
+            t->any_edge |= edge_marked(&t->q[i][c]);
+        }
+        t->same[i] = lt_run_model_same_data(&models[0], &models[i]);
+        t->any_other_data |= !t->same[i];
+        t->any_unconverged |= !models[i].converged;
+    }
+    return LT_OK;
+nomem:
+    facts_free(t, n);
+    return lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory writing the tables");
+}
+
+static const char *base_name(const char *path)
+{
+    const char *b = path ? strrchr(path, '/') : NULL;
+    return b ? b + 1 : path ? path : "file not recorded";
+}
+
 int lt_report_write_tables(const char *dir, const lt_run_model *models, size_t n,
                            lt_error *err)
 {
@@ -198,14 +279,17 @@ int lt_report_write_tables(const char *dir, const lt_run_model *models, size_t n
     size_t nn = union_names(models, n, names, 64);
     char final[4096], tmp[4200], cell[160];
     FILE *f;
-    int rc;
+    table_facts t;
+    int rc = facts_of(models, n, &t, err);
+    if (rc)
+        return rc;
 
     /* Markdown */
     if ((rc = open_tmp(dir, "constraints.md", final, tmp, &f, err)))
-        return rc;
+        goto done;
     fputs("| parameter |", f);
     for (size_t i = 0; i < n; i++)
-        fprintf(f, " %s |", models[i].label);
+        fprintf(f, " %s%s |", models[i].label, models[i].converged ? "" : " ‡");
     fputs("\n| --- |", f);
     for (size_t i = 0; i < n; i++)
         fputs(" --- |", f);
@@ -218,8 +302,7 @@ int lt_report_write_tables(const char *dir, const lt_run_model *models, size_t n
                 fputs(" - |", f);
                 continue;
             }
-            lt_quote q = lt_quote_of(&models[i], (size_t)c);
-            quote_text(&q, 0, cell, sizeof cell);
+            quote_text(&t.q[i][c], 0, cell, sizeof cell);
             fprintf(f, " %s |", cell);
         }
         fputc('\n', f);
@@ -227,12 +310,17 @@ int lt_report_write_tables(const char *dir, const lt_run_model *models, size_t n
     fputs("| chi2_min / dof |", f);
     for (size_t i = 0; i < n; i++)
         fprintf(f, " %.2f / %ld |", models[i].chi2_min, models[i].dof);
+    /* differences across other data compare nothing: those cells stay blank */
+#define ROW(fmt, blank, expr)                                                                \
+    for (size_t i = 0; i < n; i++)                                                           \
+        if (t.same[i])                                                                       \
+            fprintf(f, fmt, expr);                                                           \
+        else                                                                                 \
+            fputs(blank, f);
     fputs("\n| AIC - AIC(first) |", f);
-    for (size_t i = 0; i < n; i++)
-        fprintf(f, " %+.2f |", models[i].aic - models[0].aic);
+    ROW(" %+.2f |", " |", models[i].aic - models[0].aic)
     fputs("\n| BIC - BIC(first) |", f);
-    for (size_t i = 0; i < n; i++)
-        fprintf(f, " %+.2f |", models[i].bic - models[0].bic);
+    ROW(" %+.2f |", " |", models[i].bic - models[0].bic)
     int have_z = 0;
     for (size_t i = 0; i < n; i++)
         have_z |= isfinite(models[i].ln_z);
@@ -241,25 +329,45 @@ int lt_report_write_tables(const char *dir, const lt_run_model *models, size_t n
         for (size_t i = 0; i < n; i++)
             fprintf(f, " %.2f ± %.2f |", models[i].ln_z, models[i].ln_z_err);
         fputs("\n| ln B vs first |", f);
-        for (size_t i = 0; i < n; i++)
-            fprintf(f, " %+.2f |", models[i].ln_z - models[0].ln_z);
+        ROW(" %+.2f |", " |", models[i].ln_z - models[0].ln_z)
     }
     fputs("\n\nValues are posterior medians with 68% equal-tailed intervals, rounded by the "
           "Particle Data Group's rule; a parameter whose posterior presses on a prior edge is "
           "given as a 95% limit.\n",
           f);
+    if (t.any_edge)
+        fputs("\n† The posterior reaches an edge of its uniform prior (its density there is "
+              "above 10% of its peak, by a kernel estimate reflected at the edge): the prior "
+              "sets part of this interval.\n",
+              f);
+    for (size_t i = 0; i < n; i++)
+        if (!models[i].converged)
+            fprintf(f, "\n‡ %s did not converge: its sampler stopped at the step cap with worst "
+                       "R-hat %.3g and smallest ESS %.0f; its numbers are provisional (sample "
+                       "longer: a larger max_steps).\n",
+                    models[i].label, models[i].rhat_max, models[i].ess_min);
+    if (t.any_other_data) {
+        fprintf(f, "\nAIC, BIC and ln B differences compare models fitted to the same data, "
+                   "here that of %s (%zu objects, %s); they are left blank for",
+                models[0].label, models[0].n_data, base_name(models[0].data_file));
+        for (size_t i = 0, k = 0; i < n; i++)
+            if (!t.same[i])
+                fprintf(f, "%s %s (%zu objects, %s)", k++ ? "," : "", models[i].label,
+                        models[i].n_data, base_name(models[i].data_file));
+        fputs(", fitted to other data.\n", f);
+    }
     if ((rc = close_commit(f, final, tmp, err)))
-        return rc;
+        goto done;
 
     /* LaTeX (booktabs) */
     if ((rc = open_tmp(dir, "constraints.tex", final, tmp, &f, err)))
-        return rc;
+        goto done;
     fputs("% lantern constraint table; needs \\usepackage{booktabs}\n\\begin{tabular}{l", f);
     for (size_t i = 0; i < n; i++)
         fputc('c', f);
     fputs("}\n\\toprule\nParameter", f);
     for (size_t i = 0; i < n; i++)
-        fprintf(f, " & %s", tex_model(models[i].name));
+        fprintf(f, " & %s%s", tex_model(models[i].name), models[i].converged ? "" : "$^\\ddagger$");
     fputs(" \\\\\n\\midrule\n", f);
     for (size_t p = 0; p < nn; p++) {
         fprintf(f, "%s", tex_name(names[p]));
@@ -269,8 +377,7 @@ int lt_report_write_tables(const char *dir, const lt_run_model *models, size_t n
                 fputs(" & ---", f);
                 continue;
             }
-            lt_quote q = lt_quote_of(&models[i], (size_t)c);
-            quote_text(&q, 1, cell, sizeof cell);
+            quote_text(&t.q[i][c], 1, cell, sizeof cell);
             fprintf(f, " & %s", cell);
         }
         fputs(" \\\\\n", f);
@@ -279,37 +386,55 @@ int lt_report_write_tables(const char *dir, const lt_run_model *models, size_t n
     for (size_t i = 0; i < n; i++)
         fprintf(f, " & %.2f / %ld", models[i].chi2_min, models[i].dof);
     fputs(" \\\\\n$\\Delta$AIC", f);
-    for (size_t i = 0; i < n; i++)
-        fprintf(f, " & %+.2f", models[i].aic - models[0].aic);
+    ROW(" & %+.2f", " &", models[i].aic - models[0].aic)
     fputs(" \\\\\n$\\Delta$BIC", f);
-    for (size_t i = 0; i < n; i++)
-        fprintf(f, " & %+.2f", models[i].bic - models[0].bic);
+    ROW(" & %+.2f", " &", models[i].bic - models[0].bic)
     if (have_z) {
         fputs(" \\\\\n$\\ln Z$", f);
         for (size_t i = 0; i < n; i++)
             fprintf(f, " & $%.2f \\pm %.2f$", models[i].ln_z, models[i].ln_z_err);
         fputs(" \\\\\n$\\ln B$", f);
-        for (size_t i = 0; i < n; i++)
-            fprintf(f, " & %+.2f", models[i].ln_z - models[0].ln_z);
+        ROW(" & %+.2f", " &", models[i].ln_z - models[0].ln_z)
     }
-    fputs(" \\\\\n\\bottomrule\n\\end{tabular}\n", f);
+#undef ROW
+    fputs(" \\\\\n\\bottomrule\n", f);
+    /* the footnotes as rows of the tabular, so that \input brings them along */
+    if (t.any_edge)
+        fprintf(f, "\\multicolumn{%zu}{l}{\\footnotesize $^\\dagger$ the posterior reaches a "
+                   "prior edge (density there $>10\\%%$ of its peak)} \\\\\n",
+                n + 1);
+    for (size_t i = 0; i < n; i++)
+        if (!models[i].converged)
+            fprintf(f, "\\multicolumn{%zu}{l}{\\footnotesize $^\\ddagger$ %s: not converged "
+                       "(step cap reached; smallest ESS %.0f)} \\\\\n",
+                    n + 1, tex_model(models[i].name), models[i].ess_min);
+    if (t.any_other_data)
+        fprintf(f, "\\multicolumn{%zu}{l}{\\footnotesize blank $\\Delta$: fitted to other data "
+                   "than the first column} \\\\\n",
+                n + 1);
+    fputs("\\end{tabular}\n", f);
     if ((rc = close_commit(f, final, tmp, err)))
-        return rc;
+        goto done;
 
-    /* CSV: unrounded numbers */
+    /* CSV: unrounded numbers; prior_edge and converged carry the marks */
     if ((rc = open_tmp(dir, "constraints.csv", final, tmp, &f, err)))
-        return rc;
-    fputs("model,parameter,value,minus,plus,kind\n", f);
+        goto done;
+    fputs("model,parameter,value,minus,plus,kind,prior_edge,converged\n", f);
     static const char *kinds[] = {"two-sided", "upper", "lower"};
+    static const char *edges[] = {"none", "lower", "upper", "both"};
     for (size_t i = 0; i < n; i++)
         for (size_t c = 0; c < models[i].nparams + models[i].nderived; c++) {
-            lt_quote q = lt_quote_of(&models[i], c);
+            const lt_quote *q = &t.q[i][c];
             char v[32], mi[32], pl[32];
-            lt_format_double(q.value, v, sizeof v);
-            lt_format_double(q.minus, mi, sizeof mi);
-            lt_format_double(q.plus, pl, sizeof pl);
-            fprintf(f, "%s,%s,%s,%s,%s,%s\n", models[i].label, models[i].names[c], v,
-                    q.kind ? "" : mi, q.kind ? "" : pl, kinds[q.kind]);
+            lt_format_double(q->value, v, sizeof v);
+            lt_format_double(q->minus, mi, sizeof mi);
+            lt_format_double(q->plus, pl, sizeof pl);
+            fprintf(f, "%s,%s,%s,%s,%s,%s,%s,%s\n", models[i].label, models[i].names[c], v,
+                    q->kind ? "" : mi, q->kind ? "" : pl, kinds[q->kind], edges[q->edges & 3],
+                    models[i].converged ? "true" : "false");
         }
-    return close_commit(f, final, tmp, err);
+    rc = close_commit(f, final, tmp, err);
+done:
+    facts_free(&t, n);
+    return rc;
 }

@@ -8,7 +8,9 @@ import sys
 import zlib
 
 
-def png_ink_fraction(path):
+def png_rows(path):
+    """The PNG's width, height, bytes per pixel and its rows of pixels,
+    unfiltered."""
     data = open(path, "rb").read()
     assert data[:8] == b"\x89PNG\r\n\x1a\n", "not a PNG signature"
     pos, idat, width = 8, b"", None
@@ -25,7 +27,7 @@ def png_ink_fraction(path):
     raw = zlib.decompress(idat)
     stride = width * bpp
     assert len(raw) == height * (stride + 1), "IDAT does not match IHDR"
-    prev, ink = bytearray(stride), 0
+    prev, rows = bytearray(stride), []
     for y in range(height):  # undo the PNG filters (RFC 2083, section 6)
         f, line = raw[y * (stride + 1)], bytearray(raw[y * (stride + 1) + 1:(y + 1) * (stride + 1)])
         for i in range(stride):
@@ -41,9 +43,22 @@ def png_ink_fraction(path):
                 p = a + b - c
                 pa, pb, pc = abs(p - a), abs(p - b), abs(p - c)
                 line[i] = (line[i] + (a if pa <= pb and pa <= pc else b if pb <= pc else c)) & 255
-        ink += sum(1 for x in range(0, stride, bpp) if line[x:x + 3] != b"\xff\xff\xff")
+        rows.append(line)
         prev = line
+    return width, height, bpp, rows
+
+
+def png_ink_fraction(path):
+    width, height, bpp, rows = png_rows(path)
+    ink = sum(1 for line in rows for x in range(0, width * bpp, bpp) if line[x:x + 3] != b"\xff\xff\xff")
     return ink / (width * height)
+
+
+def png_colour_count(path, rgb):
+    """How many pixels have exactly the colour rgb (a tuple of three)."""
+    width, height, bpp, rows = png_rows(path)
+    want = bytes(rgb)
+    return sum(1 for line in rows for x in range(0, width * bpp, bpp) if line[x:x + 3] == want)
 
 
 def main():

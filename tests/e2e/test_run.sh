@@ -59,8 +59,11 @@ for m in j["models"]:
         assert abs(pull) < 3, (m["model"], name, p["mean"], p["sd"], t[name])
 # the table's CSV has the contract's columns and a row per model and quantity
 rows = list(csv.DictReader(open(d + "/constraints.csv")))
-assert list(rows[0]) == ["model", "parameter", "value", "minus", "plus", "kind"]
+# DESIGN.md's columns first; prior_edge and converged added at the end (issue 16)
+assert list(rows[0]) == ["model", "parameter", "value", "minus", "plus", "kind", "prior_edge", "converged"]
 assert {r["kind"] for r in rows} <= {"two-sided", "upper", "lower"}
+assert {r["prior_edge"] for r in rows} <= {"none", "lower", "upper", "both"}
+assert {r["converged"] for r in rows} == {"true"}
 assert {r["model"] for r in rows} == {"lcdm-flat", "lcdm", "wcdm-flat", "w0wa-flat"}
 md = open(d + "/constraints.md").read()
 assert md.startswith("| parameter | lcdm-flat | lcdm | wcdm-flat | w0wa-flat |")
@@ -85,6 +88,80 @@ if [ "$STATUS" -eq 0 ] && head -1 "$E2E_TMP/joint/constraints.md" | grep -q "dem
 else
     fail "several runs go into one table and one set of figures"
 fi
+
+# Issue 16, items 3, 6 and 7: a run on other data (the Pantheon 2018 binned
+# table, 40 bins) whose model stops at a tiny step cap, with h0 free beside a
+# sampled offset (a --prior on offset frees h0: the two are degenerate, so
+# h0 fills its prior U(40, 100)).
+P="${LANTERN_SHARED:-$ROOT/../shared}/data/pantheon2018"
+cat >"$E2E_TMP/pbins.ini" <<EOF
+[run]
+name = pbins
+models = lcdm-flat
+[data]
+file = $P/lcparam_DS17f.txt
+columns = z=zcmb,zhel=zhel,mag=mb,err=dmb
+cov = $P/sys_DS17f.txt
+[priors]
+offset = uniform:-21:-17
+[sampler]
+chains = 4
+seed = 5
+max_steps = 300
+check_every = 100
+EOF
+PB="$E2E_TMP/pbins"
+run "$LANTERN" run "$E2E_TMP/pbins.ini" --out "$PB" --quiet
+if [ "$STATUS" -eq 3 ] && grep -q "lantern: warning: lcdm-flat did not converge (worst R-hat .*, smallest ESS [0-9]*): its numbers are provisional; the tables mark it" "$ERR" &&
+   grep -q "lantern: warning: lcdm-flat: the posterior of h0 reaches" "$ERR" &&
+   /usr/bin/python3 - "$PB" <<'PY'
+import csv, sys
+d = sys.argv[1]
+md, tex = open(d + "/constraints.md").read(), open(d + "/constraints.tex").read()
+rows = {r["parameter"]: r for r in csv.DictReader(open(d + "/constraints.csv"))}
+# item 6: the unconverged model is marked in every table
+assert md.startswith("| parameter | lcdm-flat ‡ |"), md
+assert "‡ lcdm-flat did not converge: its sampler stopped at the step cap" in md
+assert "$^\\ddagger$" in tex and all(r["converged"] == "false" for r in rows.values())
+# item 3: h0 reaches an edge of its prior: a limit, or an interval with a dagger
+h0 = rows["h0"]
+assert h0["prior_edge"] != "none", h0
+line = next(l for l in md.splitlines() if l.startswith("| h0 |"))
+assert ("†" in line) == (h0["kind"] == "two-sided") and ("95%" in line) == (h0["kind"] != "two-sided"), line
+PY
+then pass "an unconverged model and a prior-filling h0 are marked in the tables, and run says so"
+else fail "an unconverged model and a prior-filling h0 are marked in the tables, and run says so"; fi
+# report across runs of different data (800 objects, 40 bins): no Delta AIC,
+# Delta BIC or ln B across them, and one figure per model name for both runs
+run "$LANTERN" report "$D" "$PB" --out "$E2E_TMP/across"
+if [ "$STATUS" -eq 3 ] && grep -q "lantern: note: pbins: lcdm-flat was fitted to other data (40 objects) than demo: lcdm-flat (800 objects)" "$ERR" &&
+   grep -q "lantern: warning: pbins: lcdm-flat did not converge" "$ERR" &&
+   /usr/bin/python3 - "$E2E_TMP/across" "$ROOT/tests/e2e" <<'PY'
+import json, sys
+d = sys.argv[1]
+sys.path.insert(0, sys.argv[2])
+import figures
+md = open(d + "/constraints.md").read().splitlines()
+head = md[0].split("|")[1:-1]
+assert [h.strip() for h in head][-1] == "pbins: lcdm-flat ‡", head
+for name in ("AIC - AIC(first)", "BIC - BIC(first)", "ln B vs first"):
+    cells = next(l for l in md if l.startswith("| " + name + " |")).split("|")[2:-1]
+    assert cells[-1].strip() == "" and all(c.strip() for c in cells[:-1]), (name, cells)
+assert any("left blank for pbins: lcdm-flat (40 objects, lcparam_DS17f.txt)" in l for l in md)
+cmp = json.load(open(d + "/summary.json"))["comparison"]
+assert cmp[-1]["delta_aic"] is None and cmp[-1]["ln_b"] is None and not cmp[-1]["same_data_as_first"]
+assert cmp[1]["delta_aic"] is not None and cmp[1]["same_data_as_first"]
+# both runs' lcdm-flat in posterior_lcdm-flat.png: the first model's colour
+# (31, 119, 180) and the fifth's (148, 103, 189), as figures.c's palette has them
+png = d + "/posterior_lcdm-flat.png"
+blue, purple = figures.png_colour_count(png, (31, 119, 180)), figures.png_colour_count(png, (148, 103, 189))
+assert blue > 100 and purple > 100, (blue, purple)
+PY
+then pass "report across runs of other data: comparison cells blank with a footnote, same-named models overlaid"
+else fail "report across runs of other data: comparison cells blank with a footnote, same-named models overlaid"; fi
+[ -s "$E2E_TMP/across/traces_lcdm-flat.png" ] && [ -s "$E2E_TMP/across/traces_lcdm-flat_2.png" ] &&
+    pass "report across runs keeps each run's traces" || fail "report across runs keeps each run's traces"
+/usr/bin/python3 "$ROOT/tests/e2e/figures.py" "$E2E_TMP/across/posterior_lcdm-flat.png"
 
 # Interrupted in its first evidence step (the progress line says when it
 # starts) and resumed: the same summaries and tables as the run above.

@@ -130,6 +130,30 @@ else
     fail "the step cap: the suggested --max-steps ($want) follows from the ESS rate: $(cat "$ERR")"
 fi
 
+# Issue 16 item 3: a posterior that fills its prior went unwarned (its 2.5%
+# and 97.5% quantiles lie more than 2% of the width from the edges). On
+# these data omega_m = 0.298 +- 0.022 (Scolnic et al. 2018, abstract; from
+# memory); as a Gaussian on U(0.3, 0.32) its density is highest at 0.3 and
+# exp(-(0.022^2 - 0.002^2) / (2 0.022^2)) = 0.61 of that at 0.32. The real
+# posterior is skewed (lantern fit: 0.296 +- 0.022, giving 0.56), so the
+# upper ratio may lie anywhere in 0.3-0.75; the lower must be near 1.
+run "$LANTERN" sample "${DATA[@]}" --model lcdm-flat --prior omega_m=uniform:0.3:0.32 --target-ess 400 \
+    --seed 4 --out "$E2E_TMP/fill" --quiet
+if [ "$STATUS" -eq 0 ] && grep -q "lantern: warning: lcdm-flat: the posterior of omega_m reaches both edges of its prior U(0.3, 0.32)" "$ERR" &&
+   /usr/bin/python3 - "$E2E_TMP/fill/summary.json" <<'PY'
+import json, re, sys
+w = [x for x in json.load(open(sys.argv[1]))["warnings"] if "omega_m reaches both edges" in x]
+assert len(w) == 1, w
+lo, hi = map(int, re.search(r"density there (\d+)% and (\d+)% of its peak", w[0]).groups())
+assert lo >= 95 and 30 <= hi <= 75, (lo, hi)
+PY
+then pass "a posterior that fills its prior is warned about, on stderr and in the summary"
+else fail "a posterior that fills its prior is warned about, on stderr and in the summary"; fi
+run "$LANTERN" sample "${DATA[@]}" --model lcdm-flat --target-ess 400 --seed 4 --out "$E2E_TMP/inside" --quiet
+if [ "$STATUS" -eq 0 ] && ! grep -q "reaches" "$ERR"; then
+    pass "a posterior well inside its prior draws no edge warning"
+else fail "a posterior well inside its prior draws no edge warning"; fi
+
 # Refusals.
 run "$LANTERN" sample --resume "$E2E_TMP/nowhere"
 expect_error "--resume without a checkpoint" 2 "no checkpoint here"

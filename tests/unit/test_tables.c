@@ -77,11 +77,11 @@ static void fake_models(lt_run_model *m)
     m[0] = (lt_run_model){.name = "lcdm-flat", .label = "lcdm-flat", .nparams = 1, .nderived = 1,
                           .names = na, .priors = pa, .best = ba, .nchains = 2, .ndraws = 200,
                           .draws = draws_a, .chi2_min = 39.3, .aic = 43.3, .bic = 46.7, .dof = 38,
-                          .ln_z = NAN, .ln_z_err = NAN};
+                          .ln_z = NAN, .ln_z_err = NAN, .converged = 1};
     m[1] = (lt_run_model){.name = "lcdm", .label = "lcdm", .nparams = 2, .nderived = 1,
                           .names = nb, .priors = pb, .best = bb, .nchains = 2, .ndraws = 200,
                           .draws = draws_b, .chi2_min = 39.1, .aic = 45.1, .bic = 50.2, .dof = 37,
-                          .ln_z = NAN, .ln_z_err = NAN};
+                          .ln_z = NAN, .ln_z_err = NAN, .converged = 1};
     static lt_post_stats sa[2], sb[3];
     for (int c = 0; c < 2; c++) {
         double x[400];
@@ -165,6 +165,209 @@ static void test_quotes_and_files(void **state)
     assert_int_equal(system(cmd), 0);
 }
 
+/* ---- the density at a prior's edges against closed forms ---- */
+
+/* n draws of a standard normal truncated to [lo, hi] (rejection), seeded. */
+static double *truncated_normal(size_t n, double lo, double hi, uint64_t seed)
+{
+    double *x = malloc(n * sizeof *x);
+    lt_rng r;
+    lt_rng_seed(&r, seed, 0);
+    for (size_t i = 0; x && i < n;) {
+        double v = lt_rng_normal(&r);
+        if (v >= lo && v <= hi)
+            x[i++] = v;
+    }
+    return x;
+}
+
+static void test_edge_density(void **state)
+{
+    (void)state;
+    enum { N = 100000 };
+    double lo, hi;
+    lt_rng r;
+    lt_rng_seed(&r, 16, 0);
+    /* uniform on its prior: the density is the same everywhere, ratio 1 at
+     * both edges (closed form). The peak of a noisy estimate sits a few per
+     * cent above the mean density; an estimate not reflected at the edges
+     * would give 0.5. */
+    double *x = malloc(N * sizeof *x);
+    for (size_t i = 0; i < N; i++)
+        x[i] = 40.0 + 60.0 * lt_rng_uniform(&r);
+    assert_int_equal(lt_post_edge_density(x, NULL, N, 40.0, 100.0, &lo, &hi), LT_OK);
+    print_message("uniform U(40, 100): edge ratios %.3f %.3f (closed form 1)\n", lo, hi);
+    assert_true(lo > 0.9 && lo <= 1.0 && hi > 0.9 && hi <= 1.0);
+    free(x);
+    /* N(0, 1) truncated to [-1, 1.5]: the peak is at 0, so the ratios are
+     * exp(-x^2/2) at the edges (closed form): 0.6065 and 0.3247. Reflection
+     * leaves a bias of about |f'/f| h sqrt(2/pi) at an edge (Silverman 1986,
+     * section 2.10; h = 0.054 here): +4% and +6.5% of those values, and
+     * the estimate at an edge has a noise of about 2.5% (some 1800 draws
+     * within a bandwidth of it); we allow 15%. */
+    x = truncated_normal(N, -1.0, 1.5, 7);
+    assert_int_equal(lt_post_edge_density(x, NULL, N, -1.0, 1.5, &lo, &hi), LT_OK);
+    print_message("N(0,1) on [-1, 1.5]: %.4f %.4f (closed form %.4f %.4f)\n", lo, hi,
+                  exp(-0.5), exp(-1.125));
+    assert_rel(lo, exp(-0.5), 0.15);
+    assert_rel(hi, exp(-1.125), 0.15);
+    free(x);
+    /* the same density from weighted draws: uniform draws on [-1, 1.5]
+     * weighted by the normal density (as nested sampling weights them) */
+    x = malloc(N * sizeof *x);
+    double *w = malloc(N * sizeof *w);
+    for (size_t i = 0; i < N; i++) {
+        x[i] = -1.0 + 2.5 * lt_rng_uniform(&r);
+        w[i] = exp(-0.5 * x[i] * x[i]);
+    }
+    assert_int_equal(lt_post_edge_density(x, w, N, -1.0, 1.5, &lo, &hi), LT_OK);
+    print_message("weighted, the same: %.4f %.4f\n", lo, hi);
+    assert_rel(lo, exp(-0.5), 0.15);
+    assert_rel(hi, exp(-1.125), 0.15);
+    free(w);
+    free(x);
+    /* a half-normal, |N(0, 1)| on [0, 4]: the peak is the lower edge (ratio
+     * 1); at 4 the density is exp(-8) = 3e-4 of it (closed form) */
+    x = truncated_normal(N, 0.0, 4.0, 9);
+    assert_int_equal(lt_post_edge_density(x, NULL, N, 0.0, 4.0, &lo, &hi), LT_OK);
+    print_message("half-normal on [0, 4]: %.4f %.2g\n", lo, hi);
+    assert_rel(lo, 1.0, 0.02);
+    assert_true(hi < 0.01);
+    free(x);
+    /* a normal far from both edges of U(-10, 10): ~0 at both */
+    x = truncated_normal(N, -10.0, 10.0, 11);
+    assert_int_equal(lt_post_edge_density(x, NULL, N, -10.0, 10.0, &lo, &hi), LT_OK);
+    assert_true(lo < 1e-6 && hi < 1e-6);
+    free(x);
+    /* bad input */
+    double two[2] = {0.1, 0.2};
+    assert_int_equal(lt_post_edge_density(two, NULL, 1, 0.0, 1.0, &lo, &hi), LT_EINPUT);
+    assert_int_equal(lt_post_edge_density(two, NULL, 2, 1.0, 1.0, &lo, &hi), LT_EINPUT);
+}
+
+/* One model whose only parameter has draws x (n, one chain) under prior
+ * U(a, b). */
+static lt_run_model one_model(const char *name, char **names, lt_prior *prior, double *x,
+                              size_t n, lt_post_stats *st, double *best)
+{
+    lt_post_summarise(x, n, st);
+    *best = st->median;
+    return (lt_run_model){.name = (char *)name, .label = (char *)name, .nparams = 1,
+                          .names = names, .priors = prior, .best = best, .stats = st,
+                          .nchains = 1, .ndraws = n, .draws = x, .chi2_min = 30.0, .aic = 34.0,
+                          .bic = 37.0, .dof = 38, .ln_z = NAN, .ln_z_err = NAN, .converged = 1,
+                          .n_data = 40};
+}
+
+static char *read_out(const char *name)
+{
+    char path[512], *text = NULL;
+    size_t len;
+    snprintf(path, sizeof path, "%s/%s", dir, name);
+    assert_int_equal(lt_file_read(path, 1 << 20, &text, &len, NULL), LT_OK);
+    return text;
+}
+
+/* Issue 16 item 3: a posterior that fills its prior (h0 free beside a
+ * marginalised offset) has its 2.5% and 97.5% quantiles 1.5 from the edges
+ * of U(40, 100), more than 2% of the width, and once went unmarked. */
+static void test_flat_posterior_marked(void **state)
+{
+    (void)state;
+    enum { N = 4000 };
+    static double x[N];
+    lt_rng r;
+    lt_rng_seed(&r, 3, 0);
+    for (size_t i = 0; i < N; i++)
+        x[i] = 40.0 + 60.0 * lt_rng_uniform(&r);
+    static char *names[] = {"h0"};
+    lt_prior prior = {LT_PRIOR_UNIFORM, 40, 100};
+    lt_post_stats st;
+    double best;
+    lt_run_model m = one_model("lcdm-flat", names, &prior, x, N, &st, &best);
+    lt_error err;
+    assert_int_equal(lt_report_write_tables(dir, &m, 1, &err), LT_OK);
+    char *md = read_out("constraints.md"), *tex = read_out("constraints.tex"),
+         *csv = read_out("constraints.csv");
+    print_message("%s", md);
+    /* the interval, marked, and the mark explained */
+    assert_non_null(strstr(md, "| h0 | 69 +21/-20 † |")); /* U(40, 100): 70 +- 20.2 */
+    assert_non_null(strstr(md, "† The posterior reaches an edge of its uniform prior"));
+    assert_non_null(strstr(tex, "{}^\\dagger$"));
+    assert_non_null(strstr(tex, "$^\\dagger$ the posterior reaches a prior edge"));
+    assert_non_null(strstr(csv, "model,parameter,value,minus,plus,kind,prior_edge,converged\n"));
+    assert_non_null(strstr(csv, ",two-sided,both,true\n"));
+    free(md), free(tex), free(csv);
+    /* a posterior well inside the prior: no mark, no footnote */
+    for (size_t i = 0; i < N; i++)
+        x[i] = 70.0 + 2.0 * lt_rng_normal(&r);
+    m = one_model("lcdm-flat", names, &prior, x, N, &st, &best);
+    assert_int_equal(lt_report_write_tables(dir, &m, 1, &err), LT_OK);
+    md = read_out("constraints.md"), csv = read_out("constraints.csv");
+    assert_null(strstr(md, "†"));
+    assert_non_null(strstr(csv, ",two-sided,none,true\n"));
+    free(md), free(csv);
+}
+
+/* Issue 16 item 6: a model that stopped at its step cap looked like any other. */
+static void test_unconverged_marked(void **state)
+{
+    (void)state;
+    lt_run_model m[2];
+    fake_models(m);
+    m[1].converged = 0, m[1].rhat_max = 1.31, m[1].ess_min = 16;
+    lt_error err;
+    assert_int_equal(lt_report_write_tables(dir, m, 2, &err), LT_OK);
+    char *md = read_out("constraints.md"), *tex = read_out("constraints.tex"),
+         *csv = read_out("constraints.csv");
+    assert_non_null(strstr(md, "| parameter | lcdm-flat | lcdm ‡ |"));
+    assert_non_null(strstr(md, "‡ lcdm did not converge: its sampler stopped at the step cap with "
+                               "worst R-hat 1.31 and smallest ESS 16"));
+    assert_non_null(strstr(tex, "$\\Lambda$CDM$^\\ddagger$"));
+    assert_non_null(strstr(tex, "$^\\ddagger$ $\\Lambda$CDM: not converged"));
+    assert_non_null(strstr(csv, "lcdm-flat,omega_m,0.3,"));
+    assert_non_null(strstr(csv, ",two-sided,none,true\nlcdm,omega_m,"));
+    assert_non_null(strstr(csv, "lcdm,omega_de,0.2701092187499999,,,upper,lower,false\n"));
+    free(md), free(tex), free(csv);
+}
+
+/* Issue 16 item 7: report RUN1 RUN2 on 40 bins and 1048 objects gave
+ * "ln B vs first +505.74". */
+static void test_other_data_blank(void **state)
+{
+    (void)state;
+    lt_run_model m[2];
+    fake_models(m);
+    m[0].ln_z = 10.0, m[0].ln_z_err = 0.05, m[1].ln_z = 9.0, m[1].ln_z_err = 0.06;
+    m[0].n_data = 40, m[1].n_data = 1048;
+    m[0].label = "bins: lcdm-flat", m[1].label = "full: lcdm";
+    lt_error err;
+    assert_int_equal(lt_report_write_tables(dir, m, 2, &err), LT_OK);
+    char *md = read_out("constraints.md"), *tex = read_out("constraints.tex");
+    print_message("%s", md);
+    assert_non_null(strstr(md, "| AIC - AIC(first) | +0.00 | |\n"));
+    assert_non_null(strstr(md, "| BIC - BIC(first) | +0.00 | |\n"));
+    assert_non_null(strstr(md, "| ln B vs first | +0.00 | |\n"));
+    assert_non_null(strstr(md, "| ln Z (nested sampling) | 10.00 ± 0.05 | 9.00 ± 0.06 |"));
+    assert_non_null(strstr(md, "left blank for full: lcdm (1048 objects"));
+    assert_non_null(strstr(tex, "$\\Delta$AIC & +0.00 & \\\\"));
+    assert_non_null(strstr(tex, "blank $\\Delta$: fitted to other data"));
+    free(md), free(tex);
+    /* summaries with digests: the digest decides, even at equal n_data */
+    m[1].n_data = 40;
+    m[0].data_digest = "fnv1a64:0000000000000001", m[1].data_digest = "fnv1a64:0000000000000002";
+    assert_int_equal(lt_report_write_tables(dir, m, 2, &err), LT_OK);
+    md = read_out("constraints.md");
+    assert_non_null(strstr(md, "| ln B vs first | +0.00 | |\n"));
+    free(md);
+    m[1].data_digest = "fnv1a64:0000000000000001";
+    assert_int_equal(lt_report_write_tables(dir, m, 2, &err), LT_OK);
+    md = read_out("constraints.md");
+    assert_non_null(strstr(md, "| ln B vs first | +0.00 | -1.00 |\n"));
+    assert_null(strstr(md, "left blank"));
+    free(md);
+}
+
 static int setup(void **state)
 {
     (void)state;
@@ -182,6 +385,10 @@ int main(void)
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_pdg_rule),
         cmocka_unit_test(test_quotes_and_files),
+        cmocka_unit_test(test_edge_density),
+        cmocka_unit_test(test_flat_posterior_marked),
+        cmocka_unit_test(test_unconverged_marked),
+        cmocka_unit_test(test_other_data_blank),
     };
     return cmocka_run_group_tests_name("tables", tests, setup, teardown);
 }
