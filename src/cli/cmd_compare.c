@@ -123,9 +123,11 @@ static void posterior(model_run *mr, double norm)
      * normalisation, i.e. the chi2 that enters the likelihood */
     double *dev = malloc((n ? n : 1) * sizeof *dev), *wt = malloc((n ? n : 1) * sizeof *wt);
     lt_dic dic = {NAN, NAN, NAN};
+    for (size_t j = 0; wt && j < n; j++)
+        wt[j] = exp(mr->nr.logw[j]);
     if (dev && wt) {
         for (size_t j = 0; j < n; j++)
-            dev[j] = -2.0 * (mr->nr.loglike[j] - norm), wt[j] = exp(mr->nr.logw[j]);
+            dev[j] = -2.0 * (mr->nr.loglike[j] - norm);
         lt_dic_compute(dev, wt, n, &dic);
     }
     free(dev);
@@ -375,6 +377,14 @@ int cli_compare(int argc, char **argv)
         if (mkdir(ckdir, 0777) != 0 && errno != EEXIST) {
             status = cli_usage_error(ckdir, "cannot make the checkpoint folder: %s", strerror(errno));
             goto done;
+        }
+        /* --force over an earlier comparison: its checkpoints belong to it,
+         * and a new run must not continue them (they are refused as another
+         * run's, or, with the same settings, would skip the work) */
+        for (size_t k = 0; k < nm; k++) {
+            char ck[4400];
+            snprintf(ck, sizeof ck, "%s/nested_%s.bin", ckdir, runs[k].name);
+            remove(ck);
         }
     }
     cli_print_warnings(s);

@@ -395,6 +395,8 @@ int cli_run(int argc, char **argv)
             lt_nested_result nr;
             char nck[4400];
             snprintf(nck, sizeof nck, "%.4000s/checkpoint/nested.bin", dirs[k]);
+            if (!resume) /* an earlier run's, left in a folder given with --force */
+                remove(nck);
             int rc = cli_nested_model(l, &spec, 1000, j.seed, threads, nck, cli_catch_signals(),
                                       &nr, &err);
             if (rc == LT_OK)

@@ -118,3 +118,26 @@ if [ "$STATUS" -eq 1 ] && grep -q "interrupted during the best fit" "$ERR" && [ 
 else
     fail "fit: SIGINT during the best fit stops in order, no folder"
 fi
+
+# --- --force over an earlier comparison with other settings: its nested
+# checkpoints are not continued (they were refused as another run's) ---
+PB=(--data "$P/lcparam_DS17f.txt" --columns z=zcmb,zhel=zhel,mag=mb,err=dmb)
+C="$E2E_TMP/cmp"
+"$LANTERN" compare "${PB[@]}" --models lcdm-flat --live-points 100 --seed 1 --out "$C" --quiet >/dev/null 2>&1
+run "$LANTERN" compare "${PB[@]}" --models lcdm-flat --live-points 100 --seed 2 --out "$C" --force --quiet
+expect_status "compare --force with another seed starts afresh (no 'another run' refusal)" 0
+# and run: a second run with another seed into the same folder
+cat >"$E2E_TMP/small.ini" <<INI
+[run]
+name = small
+models = lcdm-flat
+[data]
+file = $P/lcparam_DS17f.txt
+columns = z=zcmb,zhel=zhel,mag=mb,err=dmb
+[sampler]
+target_ess = 200
+INI
+R2="$E2E_TMP/small-run"
+"$LANTERN" run "$E2E_TMP/small.ini" --out "$R2" --quiet >/dev/null 2>&1
+run "$LANTERN" run "$E2E_TMP/small.ini" --out "$R2" --force --set sampler.seed=9 --quiet
+expect_status "run --force with another seed starts afresh (no stale nested checkpoint)" 0
