@@ -175,6 +175,11 @@ typedef struct lt_like_chain {
     lt_like_work *w;
 } lt_like_chain;
 double lt_like_logdensity(const double *x, void *ctx, double *extra);
+struct lt_compression_check;
+/* lt_like_check_posterior on m's kept draws (chain after chain, each cut
+ * to the shortest chain's length, as lt_sample_collect keeps them). */
+int lt_mcmc_check_compression(lt_like *l, const lt_mcmc *m, struct lt_compression_check *out,
+                              lt_error *err);
 
 /* Called after every convergence check (from the calling thread). */
 typedef void (*lt_mcmc_progress)(const lt_mcmc *m, void *ctx);

@@ -73,6 +73,16 @@ int lt_post_edge_note(const char *name, const lt_prior *p, double lo, double hi,
 
 /* ---- sampled posteriors ---- */
 
+/* The compression's check on the draws (lt_like_check_posterior), as
+ * summary.json "compression" reports it; knots 0 means the exact path. */
+typedef struct lt_sample_compression {
+    size_t knots_setup, knots, checked;
+    double setup_dchi2;     /* the set-up's own check */
+    double first_dchi2;     /* the check on the first draws, before refining */
+    double posterior_dchi2; /* on the draws reported */
+    int checked_ok;         /* the check ran (0: no "compression" field) */
+} lt_sample_compression;
+
 /* Everything a sampled run reports: the draws with their derived columns,
  * the polished best fit and the diagnostics. */
 typedef struct lt_sample_result {
@@ -92,6 +102,7 @@ typedef struct lt_sample_result {
                                                 * parameter with a uniform prior, else NaN */
     const lt_mcmc_diag *diag;
     size_t warmup, steps;
+    lt_sample_compression compression; /* filled by the caller, who ran the check */
 } lt_sample_result;
 
 /* Gather m's draws, add derived columns (computed in parallel), polish the
@@ -102,6 +113,9 @@ void lt_sample_result_free(lt_sample_result *r);
 
 struct cJSON *lt_report_sample_json(const lt_like *l, const lt_sample_result *r,
                                     const lt_survey_spec *data, unsigned long seed);
+/* The warning for a compression that the posterior check found off and
+ * could not refine (summary.json and stderr say the same). */
+const char *lt_report_compression_warning(const lt_sample_result *r);
 void lt_report_sample_table(FILE *f, const lt_like *l, const lt_sample_result *r,
                             const lt_survey_spec *data);
 /* chains.csv and chains.fits: one row per draw (chain, step, then the

@@ -119,13 +119,16 @@ static void on_check(const lt_mcmc *m, void *p)
 }
 
 static int finish(const cli_job *j, lt_like *l, lt_mcmc *m, cli_format format, const char *out,
-                  int print)
+                  int print, const lt_sample_compression *cmp)
 {
     lt_sample_result r;
     lt_error err;
     lt_error_clear(&err);
     if (lt_sample_collect(l, m, &r, &err))
         return cli_report(&err);
+    r.compression = *cmp;
+    if (cmp->posterior_dchi2 > LT_CHECK_BOUND)
+        fprintf(stderr, "lantern: warning: %s\n", lt_report_compression_warning(&r));
     cJSON *json = lt_report_sample_json(l, &r, &j->data, j->seed);
     for (size_t i = 0; i < r.nparams; i++) {
         char note[256];
@@ -171,6 +174,62 @@ static int finish(const cli_job *j, lt_like *l, lt_mcmc *m, cli_format format, c
     return status;
 }
 
+/* The chains' start: the best fit and its Laplace covariance as centre. */
+static int start_chains(const cli_job *j, const lt_like *l, void **ctxp, lt_mcmc **m,
+                        lt_error *err)
+{
+    size_t d = lt_like_dim(l);
+    lt_fit_opts fo = {j->seed, (size_t)j->starts, cli_catch_signals()};
+    lt_fit_result fr;
+    if (lt_fit_run(l, &fo, &fr, err))
+        return err->code;
+    double scale[LT_NPAR];
+    for (size_t i = 0; i < d; i++) {
+        const lt_prior *p = lt_like_prior(l, i);
+        scale[i] = p->kind == LT_PRIOR_UNIFORM ? p->b - p->a : 4 * p->b;
+    }
+    lt_mcmc_opts mo = {d, 1, (size_t)j->chains, j->seed, fr.best, fr.laplace_ok ? fr.cov : NULL,
+                       scale, (size_t)j->warmup, (size_t)j->check_every, (size_t)j->max_steps,
+                       j->target_ess, 0.01, (int)j->threads, 0};
+    *m = lt_mcmc_alloc(&mo, lt_like_logdensity, ctxp, err);
+    return *m ? LT_OK : err->code;
+}
+
+/*
+ * checkpoint/compression.txt: the knots a refined run samples with and the
+ * check that asked for them, so that a resumed run samples with the same
+ * knots and reports the same numbers. Absent: the set-up's knots.
+ */
+static int save_knots(const char *out, size_t K, double first, lt_error *err)
+{
+    char path[4200], tmp[4300], buf[32];
+    snprintf(path, sizeof path, "%s/checkpoint/compression.txt", out);
+    lt_tmp_name(path, tmp, sizeof tmp);
+    FILE *f = fopen(tmp, "w");
+    if (!f)
+        return lt_error_set(err, LT_EIO, tmp, 0, "cannot write: %s", strerror(errno));
+    lt_format_double(first, buf, sizeof buf);
+    fprintf(f, "%zu %s\n", K, buf);
+    if (fclose(f) != 0)
+        return lt_error_set(err, LT_EIO, tmp, 0, "write failed (disk full?)");
+    return lt_file_commit(path, err);
+}
+
+static int load_knots(const char *out, lt_like *l, lt_sample_compression *cmp, lt_error *err)
+{
+    char path[4200], text[64] = "";
+    snprintf(path, sizeof path, "%s/checkpoint/compression.txt", out);
+    FILE *f = fopen(path, "r");
+    if (!f)
+        return LT_OK;
+    size_t K;
+    char *sp = fgets(text, sizeof text, f) ? strchr(text, ' ') : NULL;
+    fclose(f);
+    if (!sp || sscanf(text, "%zu", &K) != 1 || lt_parse_double(strtok(sp + 1, "\n"), &cmp->first_dchi2))
+        return lt_error_set(err, LT_EINPUT, path, 1, "not 'KNOTS MAX_ABS_DCHI2'");
+    return lt_like_compression_set(l, K, err);
+}
+
 int cli_sample_model(cli_job *j, lt_like *l, const lt_like_spec *spec, const char *out,
                      int resume, int print, cli_format format)
 {
@@ -182,8 +241,15 @@ int cli_sample_model(cli_job *j, lt_like *l, const lt_like_spec *spec, const cha
     lt_error err;
     lt_error_clear(&err);
     size_t d = lt_like_dim(l);
+    lt_sample_compression cmp = {0};
+    lt_like_compression(l, &cmp.knots_setup, &cmp.setup_dchi2);
+    cmp.first_dchi2 = NAN;
     if (d == 0) {
         status = cli_usage_error("sample", "every parameter is fixed: nothing to sample");
+        goto done;
+    }
+    if (resume && load_knots(out, l, &cmp, &err)) {
+        status = cli_report(&err);
         goto done;
     }
     if (j->warmup == 0)
@@ -218,26 +284,12 @@ int cli_sample_model(cli_job *j, lt_like *l, const lt_like_spec *spec, const cha
             goto done;
         }
         prepared = out != NULL;
-        /* the chains' centre: the best fit and its Laplace covariance */
-        lt_fit_opts fo = {j->seed, (size_t)j->starts, cli_catch_signals()};
-        lt_fit_result fr;
-        if (lt_fit_run(l, &fo, &fr, &err)) {
+        if (start_chains(j, l, ctxp, &m, &err)) {
             if (err.code == LT_EINTR) {
                 fputs("lantern: interrupted during the best fit, before sampling began\n", stderr);
                 status = CLI_FAILED;
-            } else
-                status = cli_report(&err);
-            goto done;
-        }
-        double scale[LT_NPAR];
-        for (size_t i = 0; i < d; i++) {
-            const lt_prior *p = lt_like_prior(l, i);
-            scale[i] = p->kind == LT_PRIOR_UNIFORM ? p->b - p->a : 4 * p->b;
-        }
-        lt_mcmc_opts mo = {d, 1, (size_t)j->chains, j->seed, fr.best, fr.laplace_ok ? fr.cov : NULL,
-                           scale, (size_t)j->warmup, (size_t)j->check_every, (size_t)j->max_steps,
-                           j->target_ess, 0.01, (int)j->threads, 0};
-        if (!(m = lt_mcmc_alloc(&mo, lt_like_logdensity, ctxp, &err))) {
+                goto done;
+            }
             status = cli_report(&err);
             goto done;
         }
@@ -254,34 +306,73 @@ int cli_sample_model(cli_job *j, lt_like *l, const lt_like_spec *spec, const cha
             }
         }
     }
-    /* threads may be set differently on resume: the draws do not depend on it */
-    progress pr = {{0, 0}, isatty(2), j->quiet, j->verbose, j->target_ess, out ? state : NULL, fp,
-                   {0, 0, "", ""}, 0, 0};
-    clock_gettime(CLOCK_MONOTONIC, &pr.start);
-    int rc = lt_mcmc_run(m, cli_catch_signals(), on_check, &pr, &err);
-    if (pr.printed && pr.tty && !pr.verbose)
-        fputc('\n', stderr);
-    if (pr.save_failed) {
-        status = cli_report(&pr.err);
-        goto done;
+    for (;;) {
+        /* threads may be set differently on resume: the draws do not depend on it */
+        progress pr = {{0, 0}, isatty(2), j->quiet, j->verbose, j->target_ess,
+                       out ? state : NULL, fp, {0, 0, "", ""}, 0, 0};
+        clock_gettime(CLOCK_MONOTONIC, &pr.start);
+        int rc = lt_mcmc_run(m, cli_catch_signals(), on_check, &pr, &err);
+        if (pr.printed && pr.tty && !pr.verbose)
+            fputc('\n', stderr);
+        if (pr.save_failed) {
+            status = cli_report(&pr.err);
+            goto done;
+        }
+        if (rc == LT_EINTR) {
+            if (out && lt_mcmc_save(m, state, fp, &err) == LT_OK)
+                fprintf(stderr, "lantern: interrupted; the checkpoint in %s/checkpoint holds every "
+                                "draw so far: continue with 'lantern sample --resume %s'\n",
+                        out, out);
+            else if (out)
+                cli_report(&err);
+            else
+                fputs("lantern: interrupted (no --out folder, so nothing was saved)\n", stderr);
+            status = CLI_FAILED;
+            goto done;
+        }
+        if (rc) {
+            status = cli_report(&err);
+            goto done;
+        }
+        /* the compression checked on the draws by the exact path; where
+         * more knots (or the exact path) fix it, sample again with them */
+        lt_compression_check chk;
+        if (lt_mcmc_check_compression(l, m, &chk, &err)) {
+            status = cli_report(&err);
+            goto done;
+        }
+        if (!chk.refined) {
+            cmp.knots = chk.knots, cmp.checked = chk.checked;
+            cmp.posterior_dchi2 = chk.max_after, cmp.checked_ok = 1;
+            break;
+        }
+        if (isnan(cmp.first_dchi2))
+            cmp.first_dchi2 = chk.max_before;
+        char how[64] = "the exact path";
+        if (chk.knots)
+            snprintf(how, sizeof how, "%zu knots", chk.knots);
+        fprintf(stderr, "lantern: the compressed likelihood is off by %.2g in chi2 on the posterior "
+                        "draws (more than %g; its set-up saw %.2g): sampling again with %s\n",
+                chk.max_before, LT_CHECK_BOUND, cmp.setup_dchi2, how);
+        if (out && save_knots(out, chk.knots, cmp.first_dchi2, &err)) {
+            status = cli_report(&err);
+            goto done;
+        }
+        lt_mcmc_free(m);
+        m = NULL;
+        for (long c = 0; c < j->chains; c++) {
+            lt_like_work_free(ctx[c].w);
+            if (!(ctx[c].w = lt_like_work_alloc(l))) {
+                status = cli_usage_error("sample", "out of memory");
+                goto done;
+            }
+        }
+        if (start_chains(j, l, ctxp, &m, &err)) {
+            status = cli_report(&err);
+            goto done;
+        }
     }
-    if (rc == LT_EINTR) {
-        if (out && lt_mcmc_save(m, state, fp, &err) == LT_OK)
-            fprintf(stderr, "lantern: interrupted; the checkpoint in %s/checkpoint holds every "
-                            "draw so far: continue with 'lantern sample --resume %s'\n",
-                    out, out);
-        else if (out)
-            cli_report(&err);
-        else
-            fputs("lantern: interrupted (no --out folder, so nothing was saved)\n", stderr);
-        status = CLI_FAILED;
-        goto done;
-    }
-    if (rc) {
-        status = cli_report(&err);
-        goto done;
-    }
-    status = finish(j, l, m, format, out, print);
+    status = finish(j, l, m, format, out, print, &cmp);
 done:
     /* a failure leaves the earlier run (or no folder) behind, a checkpoint
      * to resume from stays */

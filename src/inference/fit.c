@@ -12,6 +12,7 @@
 #include <gsl/gsl_rng.h>
 
 #include "lantern/inference.h"
+#include "lantern/likelihood.h"
 
 typedef struct {
     const lt_like *l;
@@ -34,6 +35,28 @@ double lt_like_logdensity(const double *x, void *ctx, double *extra)
     lt_like_eval(c->l, c->w, x, &pt);
     extra[0] = pt.chi2;
     return pt.logpost;
+}
+
+int lt_mcmc_check_compression(lt_like *l, const lt_mcmc *m, struct lt_compression_check *out,
+                              lt_error *err)
+{
+    const lt_mcmc_opts *o = lt_mcmc_options(m);
+    size_t row = lt_mcmc_row_size(m), n = SIZE_MAX;
+    for (size_t c = 0; c < o->nchains; c++) {
+        size_t k;
+        lt_mcmc_draws(m, c, &k);
+        n = k < n ? k : n;
+    }
+    double *all = malloc((o->nchains * n * row + 1) * sizeof *all);
+    if (!all)
+        return lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory checking the compression");
+    for (size_t c = 0; c < o->nchains; c++) {
+        size_t k;
+        memcpy(all + c * n * row, lt_mcmc_draws(m, c, &k), n * row * sizeof *all);
+    }
+    int rc = lt_like_check_posterior(l, all, o->nchains * n, row, LT_CHECK_BOUND, out, err);
+    free(all);
+    return rc;
 }
 
 void lt_like_prior_transform(const double *u, double *theta, void *tctx)

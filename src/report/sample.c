@@ -282,7 +282,23 @@ cJSON *lt_report_sample_json(const lt_like *l, const lt_sample_result *r,
     cJSON *sm = cJSON_AddObjectToObject(o, "sampler");
     cJSON_AddStringToObject(sm, "method", "adaptive Metropolis (Haario et al. 2001)");
     cJSON_AddItemToObject(sm, "seed", num((double)seed));
+    if (r->compression.checked_ok) {
+        cJSON *cp = cJSON_AddObjectToObject(o, "compression");
+        const size_t K = r->compression.knots;
+        cJSON_AddStringToObject(cp, "path", K ? "compressed" : "exact");
+        cJSON_AddItemToObject(cp, "knots", num((double)K));
+        cJSON_AddItemToObject(cp, "knots_setup", num((double)r->compression.knots_setup));
+        cJSON_AddItemToObject(cp, "max_abs_dchi2_setup", num(r->compression.setup_dchi2));
+        cJSON_AddItemToObject(cp, "checked_draws", num((double)r->compression.checked));
+        cJSON_AddItemToObject(cp, "max_abs_dchi2_posterior", num(r->compression.posterior_dchi2));
+        cJSON_AddItemToObject(cp, "bound", num(LT_CHECK_BOUND));
+        cJSON_AddBoolToObject(cp, "resampled", K != r->compression.knots_setup);
+        if (K != r->compression.knots_setup)
+            cJSON_AddItemToObject(cp, "max_abs_dchi2_first_draws", num(r->compression.first_dchi2));
+    }
     cJSON *w = lt_report_add_data(o, data, s);
+    if (r->compression.checked_ok && r->compression.posterior_dchi2 > LT_CHECK_BOUND)
+        cJSON_AddItemToArray(w, cJSON_CreateString(lt_report_compression_warning(r)));
     if (!r->converged)
         cJSON_AddItemToArray(w, cJSON_CreateString("the chains did not converge within the step cap"));
     for (size_t i = 0; i < d; i++) {
@@ -322,6 +338,14 @@ void lt_report_sample_table(FILE *f, const lt_like *l, const lt_sample_result *r
     fprintf(f, "  %zu chains x %zu draws after %zu warm-up steps; worst R-hat %.4f, smallest ESS %.0f%s\n",
             r->nchains, r->ndraws, r->warmup, r->diag->rhat_max, r->diag->ess_min,
             r->converged ? "" : "; NOT CONVERGED");
+}
+
+const char *lt_report_compression_warning(const lt_sample_result *r)
+{
+    (void)r;
+    return "the compressed likelihood differs from the exact one by more than 1e-3 in chi2 on "
+           "the posterior draws (compression.max_abs_dchi2_posterior) and more knots did not "
+           "help: the results are those of the compressed likelihood";
 }
 
 static int csv_write(const char *path, const lt_sample_result *r, lt_error *err)
