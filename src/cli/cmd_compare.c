@@ -191,13 +191,7 @@ static int write_samples(const char *dir, const model_run *mr, lt_error *err)
         }
         fputc('\n', f);
     }
-    int bad = ferror(f);
-    bad |= fclose(f) != 0;
-    if (bad) {
-        remove(tmp);
-        return lt_error_set(err, LT_EIO, tmp, 0, "write failed");
-    }
-    return lt_file_commit(path, err);
+    return lt_file_close_commit(f, path, err);
 }
 
 int cli_nested_model(const lt_like *l, const lt_like_spec *spec, long live, uint64_t seed,

@@ -370,13 +370,7 @@ static int csv_write(const char *path, const lt_sample_result *r, lt_error *err)
             }
             fputc('\n', f);
         }
-    int bad = ferror(f);
-    bad |= fclose(f) != 0;
-    if (bad) {
-        remove(tmp);
-        return lt_error_set(err, LT_EIO, tmp, 0, "write failed (disk full?)");
-    }
-    return lt_file_commit(path, err);
+    return lt_file_close_commit(f, path, err);
 }
 
 static int fits_write(const char *path, const lt_like *l, const lt_sample_result *r,

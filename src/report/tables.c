@@ -213,17 +213,6 @@ static int open_tmp(const char *dir, const char *name, char *final, char *tmp, F
     return LT_OK;
 }
 
-static int close_commit(FILE *f, const char *final, const char *tmp, lt_error *err)
-{
-    int bad = ferror(f);
-    bad |= fclose(f) != 0;
-    if (bad) {
-        remove(tmp);
-        return lt_error_set(err, LT_EIO, tmp, 0, "write failed (disk full?)");
-    }
-    return lt_file_commit(final, err);
-}
-
 /* What the tables need of each model, worked out once: the quotes (each a
  * kernel density estimate at the prior's edges) and whether the model's
  * data are those of the first model. */
@@ -356,7 +345,7 @@ int lt_report_write_tables(const char *dir, const lt_run_model *models, size_t n
                         models[i].n_data, base_name(models[i].data_file));
         fputs(", fitted to other data.\n", f);
     }
-    if ((rc = close_commit(f, final, tmp, err)))
+    if ((rc = lt_file_close_commit(f, final, err)))
         goto done;
 
     /* LaTeX (booktabs) */
@@ -413,7 +402,7 @@ int lt_report_write_tables(const char *dir, const lt_run_model *models, size_t n
                    "than the first column} \\\\\n",
                 n + 1);
     fputs("\\end{tabular}\n", f);
-    if ((rc = close_commit(f, final, tmp, err)))
+    if ((rc = lt_file_close_commit(f, final, err)))
         goto done;
 
     /* CSV: unrounded numbers; prior_edge and converged carry the marks */
@@ -433,7 +422,7 @@ int lt_report_write_tables(const char *dir, const lt_run_model *models, size_t n
                     q->kind ? "" : mi, q->kind ? "" : pl, kinds[q->kind], edges[q->edges & 3],
                     models[i].converged ? "true" : "false");
         }
-    rc = close_commit(f, final, tmp, err);
+    rc = lt_file_close_commit(f, final, err);
 done:
     facts_free(&t, n);
     return rc;

@@ -216,13 +216,7 @@ static int marker_write(const char *dir, const char *first, const marker *m, con
                     e->mark == 'r' ? "replace" : "foreign", e->ino, e->mtime_ns, e->size, e->path);
         }
     }
-    int bad = ferror(f);
-    bad |= fclose(f) != 0;
-    if (bad) {
-        remove(tmp);
-        return lt_error_set(err, LT_EIO, tmp, 0, "write failed (disk full?)");
-    }
-    return lt_file_commit(path, err);
+    return lt_file_close_commit(f, path, err);
 }
 
 /* Make dir and its missing parents; *made counts the folders made. */
