@@ -77,7 +77,7 @@ typedef struct {
     lt_like *l;
     lt_fit_result fit;
     lt_nested_result nr;
-    double mean[LT_NPAR], sd[LT_NPAR], q025[LT_NPAR], q975[LT_NPAR];
+    double mean[LT_NPAR], sd[LT_NPAR];
     double dic, p_d;
     char warning[512];
     char dic_warning[256];
@@ -85,17 +85,10 @@ typedef struct {
     lt_error err;
 } model_run;
 
-static int cmp_pair(const void *a, const void *b)
-{
-    const double *x = a, *y = b;
-    return (x[0] > y[0]) - (x[0] < y[0]);
-}
-
-/* Weighted moments and quantiles of the nested posterior, and DIC. */
+/* Weighted moments of the nested posterior, DIC, and the prior edges. */
 static void posterior(model_run *mr, double norm)
 {
     size_t d = lt_like_dim(mr->l), n = mr->nr.nsamples;
-    double *pair = malloc(2 * n * sizeof *pair);
     for (size_t i = 0; i < d; i++) {
         double m = 0, m2 = 0;
         for (size_t j = 0; j < n; j++) {
@@ -103,22 +96,7 @@ static void posterior(model_run *mr, double norm)
             m += w * x, m2 += w * x * x;
         }
         mr->mean[i] = m, mr->sd[i] = sqrt(fmax(m2 - m * m, 0));
-        mr->q025[i] = mr->q975[i] = NAN;
-        if (!pair)
-            continue;
-        for (size_t j = 0; j < n; j++)
-            pair[2 * j] = mr->nr.theta[j * d + i], pair[2 * j + 1] = exp(mr->nr.logw[j]);
-        qsort(pair, n, 2 * sizeof *pair, cmp_pair);
-        double cum = 0;
-        for (size_t j = 0; j < n; j++) {
-            cum += pair[2 * j + 1];
-            if (isnan(mr->q025[i]) && cum >= 0.025)
-                mr->q025[i] = pair[2 * j];
-            if (isnan(mr->q975[i]) && cum >= 0.975)
-                mr->q975[i] = pair[2 * j];
-        }
     }
-    free(pair);
     /* the deviance on the chi2 scale of AIC and BIC: D = -2 ln L less the
      * normalisation, i.e. the chi2 that enters the likelihood */
     double *dev = malloc((n ? n : 1) * sizeof *dev), *wt = malloc((n ? n : 1) * sizeof *wt);

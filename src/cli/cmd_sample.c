@@ -202,17 +202,11 @@ static int start_chains(const cli_job *j, const lt_like *l, void **ctxp, lt_mcmc
  */
 static int save_knots(const char *out, size_t K, double first, lt_error *err)
 {
-    char path[4200], tmp[4300], buf[32];
+    char path[4200], buf[32], text[64];
     snprintf(path, sizeof path, "%s/checkpoint/compression.txt", out);
-    lt_tmp_name(path, tmp, sizeof tmp);
-    FILE *f = fopen(tmp, "w");
-    if (!f)
-        return lt_error_set(err, LT_EIO, tmp, 0, "cannot write: %s", strerror(errno));
     lt_format_double(first, buf, sizeof buf);
-    fprintf(f, "%zu %s\n", K, buf);
-    if (fclose(f) != 0)
-        return lt_error_set(err, LT_EIO, tmp, 0, "write failed (disk full?)");
-    return lt_file_commit(path, err);
+    snprintf(text, sizeof text, "%zu %s\n", K, buf);
+    return lt_file_write_text(path, text, err);
 }
 
 static int load_knots(const char *out, lt_like *l, lt_sample_compression *cmp, lt_error *err)
