@@ -73,12 +73,30 @@ static void entries_add(entries *l, const char *path, uint64_t ino, uint64_t mti
     l->e[l->n++] = (entry){p, ino, mtime, size, mark};
 }
 
+static int cmp_entry(const void *a, const void *b)
+{
+    return strcmp(((const entry *)a)->path, ((const entry *)b)->path);
+}
+
+/* The entry of path in l, sorted by entries_sort (a campaign's folder holds
+ * a file a task, so a linear search per file would be quadratic). */
 static const entry *entries_find(const entries *l, const char *path)
 {
-    for (size_t i = 0; i < l->n; i++)
-        if (!strcmp(l->e[i].path, path))
-            return &l->e[i];
-    return NULL;
+    entry key = {(char *)path, 0, 0, 0, 0};
+    return l->n ? bsearch(&key, l->e, l->n, sizeof *l->e, cmp_entry) : NULL;
+}
+
+static void entries_sort(entries *l)
+{
+    if (l->n)
+        qsort(l->e, l->n, sizeof *l->e, cmp_entry);
+}
+
+/* x is the version of the file that o recorded: not rewritten since (every
+ * write is a new file renamed into place, a new inode). */
+static int unchanged(const entry *o, const entry *x)
+{
+    return o && o->ino == x->ino && o->mtime_ns == x->mtime_ns && o->size == x->size;
 }
 
 static uint64_t mtime_ns(const struct stat *st)
@@ -182,6 +200,7 @@ static int marker_read(const char *dir, marker *m, lt_error *err)
     free(text);
     if (m->listed.failed)
         return lt_error_set(err, LT_ENOMEM, path, 0, "out of memory");
+    entries_sort(&m->listed);
     return LT_OK;
 }
 
@@ -351,7 +370,7 @@ int lt_outdir_finish(const char *dir, const char *what, lt_error *err)
     int rc = LT_OK;
     for (size_t i = 0; i < now.n && !now.failed; i++) {
         const entry *x = &now.e[i], *o = entries_find(&m.listed, x->path);
-        int same = o && o->ino == x->ino && o->mtime_ns == x->mtime_ns && o->size == x->size;
+        int same = unchanged(o, x);
         if (m.present && m.done) {
             /* finished before (a report rebuilt in place): its files and
              * those written since the marker */
@@ -399,7 +418,7 @@ void lt_outdir_abandon(const char *dir)
     int wrote = now.failed;
     for (size_t i = 0; i < now.n; i++) {
         const entry *x = &now.e[i], *o = entries_find(&m.listed, x->path);
-        if (!(o && o->ino == x->ino && o->mtime_ns == x->mtime_ns && o->size == x->size))
+        if (!unchanged(o, x))
             wrote = 1;
     }
     char path[4096];
@@ -454,6 +473,7 @@ int lt_outdir_command(const char *dir, char *command, size_t size, lt_error *err
     snprintf(command, size, "%s", word);
     return LT_OK;
 }
+
 void lt_tmp_name(const char *final, char *buf, size_t size)
 {
     snprintf(buf, size, "%s.tmp", final);
