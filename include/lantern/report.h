@@ -45,6 +45,28 @@ typedef struct lt_post_stats {
  * holding ceil(p n) of the sorted draws. */
 void lt_post_summarise(const double *x, size_t n, lt_post_stats *s);
 
+/* The probabilities of the intervals: Phi(-1), Phi(1) and their span. */
+#define LT_POST_P_LO68 0.15865525393145707
+#define LT_POST_P_HI68 0.84134474606854293
+#define LT_POST_P68 0.6826894921370859
+
+/*
+ * The same for draws with weights w (importance weights, or a nested
+ * sampler's posterior weights; need not be normalised). NaN draws and
+ * weights that are not positive and finite are left out; w NULL is
+ * lt_post_summarise. The mean and sd are weighted (sd with the unbiased
+ * divisor W - sum w^2 / W of reliability weights, k - 1 for equal ones).
+ * Sorted, a draw sits at the cumulative weight up to its middle, rescaled
+ * so that the smallest draw is at 0 and the largest at 1, and quantiles
+ * interpolate between draws: with equal weights this is definition 7. The HPD
+ * interval is the shortest run of sorted draws holding p of the weight.
+ */
+void lt_post_summarise_weighted(const double *x, const double *w, size_t n, lt_post_stats *s);
+
+/* One q-quantile of draws x with weights w (NULL: equal) by those rules;
+ * NaN if no draw counts. */
+double lt_post_quantile(const double *x, const double *w, size_t n, double q);
+
 /*
  * How much of a posterior lies at the edges of a uniform prior [a, b]: the
  * density at a and at b relative to the density's peak, from the n draws x

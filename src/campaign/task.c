@@ -43,39 +43,17 @@ void campaign_like_spec(const lt_cosmo_model *m, lt_offset_mode offset,
     }
 }
 
-static int cmp_pair(const void *a, const void *b)
-{
-    const double *x = a, *y = b;
-    return (x[0] > y[0]) - (x[0] < y[0]);
-}
-
 /* Weighted mean, sd and equal-tailed intervals of column i of nested
- * samples: the quantile q is the first sample, in order, whose cumulative
- * weight reaches q. */
-static void weighted_param(const lt_nested_result *r, size_t d, size_t i, double *pair,
+ * samples (lt_post_summarise_weighted; x and w: room for nsamples each). */
+static void weighted_param(const lt_nested_result *r, size_t d, size_t i, double *x, double *w,
                            task_param *p)
 {
-    size_t n = r->nsamples;
-    double m = 0, m2 = 0;
-    for (size_t j = 0; j < n; j++) {
-        double w = exp(r->logw[j]), x = r->theta[j * d + i];
-        m += w * x, m2 += w * x * x;
-        pair[2 * j] = x, pair[2 * j + 1] = w;
-    }
-    p->estimate = m, p->sd = sqrt(fmax(m2 - m * m, 0));
-    qsort(pair, n, 2 * sizeof *pair, cmp_pair);
-    /* Phi(-1), Phi(1), 0.025, 0.975: probabilities LT_NOMINAL68 and LT_NOMINAL95 */
-    const double q[4] = {0.158655253931457, 0.841344746068543, 0.025, 0.975};
-    double *out[4] = {&p->lo68, &p->hi68, &p->lo95, &p->hi95};
-    for (int k = 0; k < 4; k++)
-        *out[k] = NAN;
-    double cum = 0;
-    for (size_t j = 0; j < n; j++) {
-        cum += pair[2 * j + 1];
-        for (int k = 0; k < 4; k++)
-            if (isnan(*out[k]) && cum >= q[k])
-                *out[k] = pair[2 * j];
-    }
+    for (size_t j = 0; j < r->nsamples; j++)
+        x[j] = r->theta[j * d + i], w[j] = exp(r->logw[j]);
+    lt_post_stats st;
+    lt_post_summarise_weighted(x, w, r->nsamples, &st);
+    p->estimate = st.mean, p->sd = st.sd;
+    p->lo68 = st.lo68, p->hi68 = st.hi68, p->lo95 = st.lo95, p->hi95 = st.hi95;
 }
 
 static int run_fit(const lt_like *l, const lt_campaign *c, const lt_campaign_task *t,
@@ -198,7 +176,7 @@ static int run_nested(const lt_like *l, const lt_campaign *c, const lt_campaign_
         goto done;
     }
     for (size_t i = 0; i < d; i++)
-        weighted_param(&r, d, i, pair, &p[i]);
+        weighted_param(&r, d, i, pair, pair + r.nsamples, &p[i]);
     /* chi2 at the best sample: the largest ln L, less the normalisation */
     size_t best = 0;
     for (size_t j = 1; j < r.nsamples; j++)

@@ -41,6 +41,12 @@ static void hpd(const double *s, size_t n, double p, double *lo, double *hi)
     *hi = s[best + k - 1];
 }
 
+static void stats_nan(lt_post_stats *st)
+{
+    double nan = NAN;
+    *st = (lt_post_stats){nan, nan, nan, nan, nan, nan, nan, nan, nan, nan, nan};
+}
+
 void lt_post_summarise(const double *x, size_t n, lt_post_stats *st)
 {
     double *s = malloc((n ? n : 1) * sizeof *s);
@@ -49,8 +55,7 @@ void lt_post_summarise(const double *x, size_t n, lt_post_stats *st)
         if (!isnan(x[i]))
             s[k++] = x[i];
     if (!s || k == 0) {
-        double nan = NAN;
-        *st = (lt_post_stats){nan, nan, nan, nan, nan, nan, nan, nan, nan, nan, nan};
+        stats_nan(st);
         free(s);
         return;
     }
@@ -64,16 +69,16 @@ void lt_post_summarise(const double *x, size_t n, lt_post_stats *st)
     st->mean = mean;
     st->sd = k > 1 ? sqrt(ss / (double)(k - 1)) : NAN;
     st->median = q7(s, k, 0.5);
-    st->lo68 = q7(s, k, 0.15865525393145707); /* Phi(-1) */
-    st->hi68 = q7(s, k, 0.84134474606854293);
+    st->lo68 = q7(s, k, LT_POST_P_LO68);
+    st->hi68 = q7(s, k, LT_POST_P_HI68);
     st->lo95 = q7(s, k, 0.025);
     st->hi95 = q7(s, k, 0.975);
-    hpd(s, k, 0.6826894921370859, &st->hpd68_lo, &st->hpd68_hi);
+    hpd(s, k, LT_POST_P68, &st->hpd68_lo, &st->hpd68_hi);
     hpd(s, k, 0.95, &st->hpd95_lo, &st->hpd95_hi);
     free(s);
 }
 
-/* ---- the density of a posterior at the edges of its prior ---- */
+/* ---- weighted draws ---- */
 
 typedef struct {
     double x, w;
@@ -84,6 +89,120 @@ static int cmp_wdraw(const void *a, const void *b)
     double x = ((const wdraw *)a)->x, y = ((const wdraw *)b)->x;
     return (x > y) - (x < y);
 }
+
+/* The draws with a number and a positive weight, sorted; *total their
+ * weight. NULL (with *k = 0) when out of memory. */
+static wdraw *wsorted(const double *x, const double *w, size_t n, size_t *k, double *total)
+{
+    wdraw *s = malloc((n ? n : 1) * sizeof *s);
+    *k = 0, *total = 0.0;
+    for (size_t i = 0; s && i < n; i++) {
+        double wi = w ? w[i] : 1.0;
+        if (!isnan(x[i]) && wi > 0.0 && isfinite(wi))
+            s[(*k)++] = (wdraw){x[i], wi}, *total += wi;
+    }
+    if (s)
+        qsort(s, *k, sizeof *s, cmp_wdraw);
+    return s;
+}
+
+/*
+ * The weighted q-quantile of k sorted draws of total weight W: draw i sits
+ * at the cumulative weight c_i - w_i / 2 (the middle of its own weight),
+ * the first draw at probability 0 and the last at 1, and the quantile
+ * interpolates linearly between neighbours. With equal weights draw i sits
+ * at (i - 1) / (k - 1): Hyndman & Fan's definition 7 (what the unweighted
+ * summaries use), so the two agree there.
+ */
+static double wq(const wdraw *s, size_t k, double total, double q)
+{
+    if (k == 1)
+        return s[0].x;
+    double first = 0.5 * s[0].w, span = total - 0.5 * (s[0].w + s[k - 1].w);
+    double t = first + q * span, c = 0.0; /* c: the weight below draw i */
+    for (size_t i = 0; i + 1 < k; i++) {
+        double here = c + 0.5 * s[i].w, next = c + s[i].w + 0.5 * s[i + 1].w;
+        if (t <= next) {
+            double f = next > here ? (t - here) / (next - here) : 0.0;
+            return s[i].x + fmin(fmax(f, 0.0), 1.0) * (s[i + 1].x - s[i].x);
+        }
+        c += s[i].w;
+    }
+    return s[k - 1].x;
+}
+
+/* The shortest interval [s_i, s_j] holding at least p of the weight (with
+ * equal weights: ceil(p k) draws, as hpd above). */
+static void whpd(const wdraw *s, size_t k, double total, double p, double *lo, double *hi)
+{
+    double need = p * total, in = 0.0, width = INFINITY;
+    *lo = s[0].x, *hi = s[k - 1].x;
+    for (size_t i = 0, j = 0; i < k; i++) { /* [i, j) holds weight in */
+        while (j < k && in < need)
+            in += s[j++].w;
+        if (in < need)
+            break;
+        if (s[j - 1].x - s[i].x < width)
+            width = s[j - 1].x - s[i].x, *lo = s[i].x, *hi = s[j - 1].x;
+        in -= s[i].w;
+    }
+}
+
+void lt_post_summarise_weighted(const double *x, const double *w, size_t n, lt_post_stats *st)
+{
+    if (!w) {
+        lt_post_summarise(x, n, st);
+        return;
+    }
+    size_t k;
+    double total;
+    wdraw *s = wsorted(x, w, n, &k, &total);
+    if (!s || k == 0) {
+        stats_nan(st);
+        free(s);
+        return;
+    }
+    double mean = 0.0, ss = 0.0, w2 = 0.0;
+    for (size_t i = 0; i < k; i++)
+        mean += s[i].w * s[i].x;
+    mean /= total;
+    for (size_t i = 0; i < k; i++)
+        ss += s[i].w * (s[i].x - mean) * (s[i].x - mean), w2 += s[i].w * s[i].w;
+    st->mean = mean;
+    /* the unbiased weighted variance for weights that count draws'
+     * reliability: divide by W - sum w^2 / W (k - 1 for equal weights) */
+    double denom = total - w2 / total;
+    st->sd = k > 1 && denom > 0.0 ? sqrt(ss / denom) : NAN;
+    st->median = wq(s, k, total, 0.5);
+    st->lo68 = wq(s, k, total, LT_POST_P_LO68);
+    st->hi68 = wq(s, k, total, LT_POST_P_HI68);
+    st->lo95 = wq(s, k, total, 0.025);
+    st->hi95 = wq(s, k, total, 0.975);
+    whpd(s, k, total, LT_POST_P68, &st->hpd68_lo, &st->hpd68_hi);
+    whpd(s, k, total, 0.95, &st->hpd95_lo, &st->hpd95_hi);
+    free(s);
+}
+
+double lt_post_quantile(const double *x, const double *w, size_t n, double q)
+{
+    size_t k;
+    double total;
+    wdraw *s = wsorted(x, w, n, &k, &total);
+    double v = NAN;
+    if (s && k && !w) { /* definition 7 itself, as lt_post_summarise */
+        double *y = malloc(k * sizeof *y);
+        for (size_t i = 0; y && i < k; i++)
+            y[i] = s[i].x;
+        v = y ? q7(y, k, q) : NAN;
+        free(y);
+    } else if (s && k) {
+        v = wq(s, k, total, q);
+    }
+    free(s);
+    return v;
+}
+
+/* ---- the density of a posterior at the edges of its prior ---- */
 
 /* The first index of s[0..n) with s[i].x >= v (s sorted). */
 static size_t lower_bound(const wdraw *s, size_t n, double v)
@@ -111,19 +230,6 @@ static double kernel_sum(const wdraw *s, size_t n, double t, double h, int mirro
         sum += s[i].w * exp(-0.5 * u * u);
     }
     return sum;
-}
-
-/* The weighted q-quantile of sorted draws (the first draw whose cumulative
- * weight reaches q of the total). */
-static double wquantile(const wdraw *s, size_t n, double total, double q)
-{
-    double cum = 0.0;
-    for (size_t i = 0; i < n; i++) {
-        cum += s[i].w;
-        if (cum >= q * total)
-            return s[i].x;
-    }
-    return s[n - 1].x;
 }
 
 int lt_post_edge_density(const double *x, const double *w, size_t n, double a, double b,
@@ -155,7 +261,7 @@ int lt_post_edge_density(const double *x, const double *w, size_t n, double a, d
     for (size_t i = 0; i < k; i++)
         var += s[i].w * (s[i].x - m) * (s[i].x - m);
     double sd = sqrt(var / sw);
-    double iqr = wquantile(s, k, sw, 0.75) - wquantile(s, k, sw, 0.25);
+    double iqr = wq(s, k, sw, 0.75) - wq(s, k, sw, 0.25);
     /* Silverman's rule of thumb (Density Estimation, 1986, eq. 3.31),
      * h = 0.9 min(sd, IQR / 1.34) n^(-1/5), with Kish's effective sample
      * size (sum w)^2 / sum w^2 for n when the draws are weighted */

@@ -50,12 +50,6 @@ void lt_pdg_round(double value, double minus, double plus, char *v, char *m, cha
         memmove(v, v + 1, strlen(v));
 }
 
-static int cmp_double(const void *a, const void *b)
-{
-    double x = *(const double *)a, y = *(const double *)b;
-    return (x > y) - (x < y);
-}
-
 /* Column col of m's draws, gathered (NaN kept: the callers skip it). */
 static double *draw_column(const lt_run_model *m, size_t col, size_t *n)
 {
@@ -65,28 +59,6 @@ static double *draw_column(const lt_run_model *m, size_t col, size_t *n)
     for (size_t i = 0; x && i < *n; i++)
         x[i] = m->draws[i * nc + col];
     return x;
-}
-
-/* The q-quantile of draws x (NaN left out), as lt_post_summarise takes it
- * (Hyndman & Fan definition 7). */
-static double draw_quantile(const double *x, size_t n, double q)
-{
-    double *s = malloc((n ? n : 1) * sizeof *s);
-    if (!s)
-        return NAN;
-    size_t k = 0;
-    for (size_t i = 0; i < n; i++)
-        if (!isnan(x[i]))
-            s[k++] = x[i];
-    double v = NAN;
-    if (k) {
-        qsort(s, k, sizeof *s, cmp_double);
-        double h = q * (double)(k - 1);
-        size_t lo = (size_t)floor(h);
-        v = lo + 1 < k ? s[lo] + (h - (double)lo) * (s[lo + 1] - s[lo]) : s[k - 1];
-    }
-    free(s);
-    return v;
 }
 
 lt_quote lt_quote_of(const lt_run_model *m, size_t col)
@@ -112,10 +84,10 @@ lt_quote lt_quote_of(const lt_run_model *m, size_t col)
      * interval cut by the prior. A posterior that fills its prior (both
      * edges) has no limit to give: its interval is quoted and marked. */
     if (q.edges == LT_EDGE_LOWER && s->lo95 - a < 0.02 * w)
-        q = (lt_quote){LT_QUOTE_UPPER, draw_quantile(x, n, 0.95), NAN, NAN, q.edges, q.edge_lo,
+        q = (lt_quote){LT_QUOTE_UPPER, lt_post_quantile(x, NULL, n, 0.95), NAN, NAN, q.edges, q.edge_lo,
                        q.edge_hi};
     else if (q.edges == LT_EDGE_UPPER && b - s->hi95 < 0.02 * w)
-        q = (lt_quote){LT_QUOTE_LOWER, draw_quantile(x, n, 0.05), NAN, NAN, q.edges, q.edge_lo,
+        q = (lt_quote){LT_QUOTE_LOWER, lt_post_quantile(x, NULL, n, 0.05), NAN, NAN, q.edges, q.edge_lo,
                        q.edge_hi};
     free(x);
     return q;
