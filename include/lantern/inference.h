@@ -98,6 +98,22 @@ double lt_diag_ess_tail(const double *x, size_t m, size_t n);
 /* All three at once, sharing the sorting (what the sampler calls). */
 void lt_diag_all(const double *x, size_t m, size_t n, double *rhat, double *ess_bulk,
                  double *ess_tail);
+/*
+ * The ESS of the weighted mean of f over m chains of n draws with weights
+ * w (importance weights on a Markov chain's draws; not normalised). The
+ * self-normalised estimate mu = sum w f / sum w has, to first order (the
+ * delta method: Owen 2013, Monte Carlo theory, methods and examples,
+ * sec. 9.2, from memory), the error of the plain mean of
+ * g = (w / mean w)(f - mu), so its variance is var(g) / ESS(g), ESS(g)
+ * being lt_diag_ess of g (its autocorrelation over the chains), and
+ * ESS_f = var_w(f) ESS(g) / var(g). For independent draws this is
+ * sum w (f - mu)^2 sum w / sum w^2 (f - mu)^2, an f-specific form of
+ * Kish's (sum w)^2 / sum w^2; for equal weights it is lt_diag_ess of f.
+ * Draws with a NaN f or a weight <= 0 count as draws that add nothing.
+ * The summaries' ess_min of weighted draws is the smallest of this for
+ * the mean and for the indicators of the weighted 5% and 95% quantiles.
+ */
+double lt_diag_ess_weighted(const double *f, const double *w, size_t m, size_t n);
 /* The integrated autocorrelation time of one chain with Sokal's automatic
  * window: the smallest W with W >= 5 tau(W) (Sokal 1997, in Functional
  * Integration, Plenum, 131). */

@@ -159,6 +159,17 @@ typedef struct lt_compression_check {
 } lt_compression_check;
 int lt_like_check_posterior(lt_like *l, const double *draws, size_t n, size_t stride, double bound,
                             lt_compression_check *out, lt_error *err);
+/* The exact path at n points (rows of stride doubles, parameters first),
+ * in parallel, into out[n]; the same with any thread count. LT_ENOMEM. */
+int lt_like_eval_exact_many(const lt_like *l, const double *pts, size_t n, size_t stride,
+                            lt_like_point *out, lt_error *err);
+/* How many draws a run may re-evaluate by the exact path to weight them
+ * where the compression misses its bound and more knots do not help:
+ * 4000 up to 10^4 objects, 1000 up to 10^5, 250 above (an exact evaluation
+ * costs N, N^2 for a dense covariance; above 10^5 objects it runs at about
+ * 11 a second, so all draws, or sampling again by the exact path, would
+ * take hours). */
+size_t lt_like_reweight_draws(const lt_like *l);
 /* Rebuild the compressed path with K knots (0: the exact path), as a
  * resumed run does to sample with the knots its first part used. */
 int lt_like_compression_set(lt_like *l, size_t K, lt_error *err);

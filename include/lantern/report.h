@@ -122,22 +122,42 @@ typedef struct lt_sample_result {
     int converged;
     double edge_lo[LT_NPAR], edge_hi[LT_NPAR]; /* lt_post_edge_density of each
                                                 * parameter with a uniform prior, else NaN */
-    const lt_mcmc_diag *diag;
+    const lt_mcmc_diag *diag; /* of the chains as sampled (every draw, no weights) */
     size_t warmup, steps;
     lt_sample_compression compression; /* filled by the caller, who ran the check */
+    /* importance weights (lt_sample_collect with reweight): NULL when the
+     * draws are unweighted */
+    double *weights;          /* nchains * ndraws, mean 1; 0 outside the exact domain */
+    size_t thin;              /* rows are every thin-th draw of each chain (1: all) */
+    double ess_weighted[LT_NPAR]; /* lt_diag_ess_weighted, smallest of mean, 5% and 95% */
+    double ess_min_weighted;  /* the smallest of those */
+    double kish_ess;          /* (sum w)^2 / sum w^2 */
+    double max_abs_dchi2;     /* largest |chi2_compressed - chi2_exact| of the rows */
 } lt_sample_result;
 
-/* Gather m's draws, add derived columns (computed in parallel), polish the
+/*
+ * Gather m's draws, add derived columns (computed in parallel), polish the
  * best draw and summarise. The summary's "warnings" (lt_report_sample_json)
- * name each parameter whose posterior reaches a prior edge (lt_post_edge_note). */
-int lt_sample_collect(const lt_like *l, const lt_mcmc *m, lt_sample_result *r, lt_error *err);
+ * name each parameter whose posterior reaches a prior edge (lt_post_edge_note).
+ *
+ * reweight > 0 corrects draws of a compressed likelihood that missed its
+ * bound (lt_like_check_posterior could not refine it): every thin-th draw
+ * of each chain is kept, thin the smallest that leaves at most reweight
+ * draws, each is evaluated by the exact path, its logpost and chi2 become
+ * the exact ones and its weight exp(logpost_exact - logpost_compressed)
+ * (normalised to mean 1). Summaries, covariance, edge densities and the
+ * weighted ESS then use the weights, and chi2_min is the exact chi2 at the
+ * polished best draw. reweight 0: every draw, unweighted.
+ */
+int lt_sample_collect(const lt_like *l, const lt_mcmc *m, size_t reweight, lt_sample_result *r,
+                      lt_error *err);
 void lt_sample_result_free(lt_sample_result *r);
 
 struct cJSON *lt_report_sample_json(const lt_like *l, const lt_sample_result *r,
                                     const lt_survey_spec *data, unsigned long seed);
 /* The warning for a compression that the posterior check found off and
- * could not refine (summary.json and stderr say the same). */
-const char *lt_report_compression_warning(const lt_sample_result *r);
+ * could not refine (summary.json and stderr say the same), into buf. */
+void lt_report_compression_warning(const lt_sample_result *r, char *buf, size_t size);
 void lt_report_sample_table(FILE *f, const lt_like *l, const lt_sample_result *r,
                             const lt_survey_spec *data);
 /* chains.csv and chains.fits: one row per draw (chain, step, then the

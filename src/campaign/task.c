@@ -117,7 +117,7 @@ static int run_sample(const lt_like *l, const lt_campaign *c, const lt_campaign_
     if ((rc = lt_mcmc_run(m, stop, NULL, NULL, err)))
         goto done;
     lt_sample_result sr;
-    if ((rc = lt_sample_collect(l, m, &sr, err)))
+    if ((rc = lt_sample_collect(l, m, 0, &sr, err)))
         goto done;
     for (size_t i = 0; i < d; i++) {
         const lt_post_stats *s = &sr.stats[sr.first_param + i];

@@ -124,11 +124,23 @@ static int finish(const cli_job *j, lt_like *l, lt_mcmc *m, cli_format format, c
     lt_sample_result r;
     lt_error err;
     lt_error_clear(&err);
-    if (lt_sample_collect(l, m, &r, &err))
+    /* the compression still off where more knots did not help: weight a
+     * thinned set of the draws by the exact likelihood */
+    int off = cmp->checked_ok && cmp->posterior_dchi2 > LT_CHECK_BOUND;
+    if (off)
+        fprintf(stderr, "lantern: weighting the draws by the exact likelihood (at most %zu of "
+                        "them evaluated)\n", lt_like_reweight_draws(l));
+    if (lt_sample_collect(l, m, off ? lt_like_reweight_draws(l) : 0, &r, &err))
         return cli_report(&err);
     r.compression = *cmp;
-    if (cmp->posterior_dchi2 > LT_CHECK_BOUND)
-        fprintf(stderr, "lantern: warning: %s\n", lt_report_compression_warning(&r));
+    if (off) {
+        char text[512];
+        lt_report_compression_warning(&r, text, sizeof text);
+        fprintf(stderr, "lantern: warning: %s\n", text);
+        if (r.ess_min_weighted < j->target_ess)
+            fprintf(stderr, "lantern: warning: the weighted draws' effective sample size %.0f is "
+                            "below --target-ess %g\n", r.ess_min_weighted, j->target_ess);
+    }
     cJSON *json = lt_report_sample_json(l, &r, &j->data, j->seed);
     for (size_t i = 0; i < r.nparams; i++) {
         char note[256];
@@ -165,7 +177,7 @@ static int finish(const cli_job *j, lt_like *l, lt_mcmc *m, cli_format format, c
             fprintf(stderr,
                     "lantern: the smallest ESS is %.0f after %zu draws per chain; at that rate "
                     "--max-steps %.0f should reach %g\n",
-                    e, r.ndraws, ceil(1.1 * (double)r.ndraws * j->target_ess / e / 1000.0) * 1000.0,
+                    e, r.steps, ceil(1.1 * (double)r.steps * j->target_ess / e / 1000.0) * 1000.0,
                     j->target_ess);
         status = CLI_UNCONVERGED;
     }

@@ -203,6 +203,38 @@ done:
     return ess;
 }
 
+double lt_diag_ess_weighted(const double *f, const double *w, size_t m, size_t n)
+{
+    size_t total = m * n;
+    if (m < 1 || n < 4)
+        return NAN;
+    double sw = 0.0, mu = 0.0;
+    for (size_t i = 0; i < total; i++)
+        if (w[i] > 0.0 && !isnan(f[i]))
+            sw += w[i], mu += w[i] * f[i];
+    if (!(sw > 0.0))
+        return NAN;
+    mu /= sw;
+    double *g = malloc(total * sizeof *g);
+    if (!g)
+        return NAN;
+    /* g_i = (w_i / mean w) (f_i - mu): the self-normalised estimate's error
+     * is, to first order, the plain mean of g; a draw without a value or
+     * weight contributes nothing */
+    double mean_w = sw / (double)total, var_f = 0.0, var_g = 0.0;
+    for (size_t i = 0; i < total; i++) {
+        int counts = w[i] > 0.0 && !isnan(f[i]);
+        g[i] = counts ? w[i] / mean_w * (f[i] - mu) : 0.0;
+        if (counts)
+            var_f += w[i] * (f[i] - mu) * (f[i] - mu);
+        var_g += g[i] * g[i];
+    }
+    var_f /= sw, var_g /= (double)total;
+    double ess = var_g > 0.0 ? var_f * lt_diag_ess(g, m, n) / var_g : NAN;
+    free(g);
+    return ess;
+}
+
 /* Split each chain in halves (dropping a middle draw when n is odd):
  * 2m chains of n/2. */
 static double *split(const double *x, size_t m, size_t n, size_t *half)

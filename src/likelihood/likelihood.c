@@ -711,6 +711,33 @@ static int pick_draws(const lt_like *l, const double *draws, size_t n, size_t st
     return failed ? -1 : 0;
 }
 
+int lt_like_eval_exact_many(const lt_like *l, const double *pts, size_t n, size_t stride,
+                            lt_like_point *out, lt_error *err)
+{
+    int failed = 0;
+    /* shared out over the threads, one point at a time (an exact evaluation
+     * costs N to N^2): each writes its own slot, so the answer does not
+     * depend on their number */
+#pragma omp parallel reduction(| : failed)
+    {
+        lt_like_work *w = lt_like_work_alloc(l);
+        failed |= !w;
+#pragma omp for schedule(dynamic, 1)
+        for (size_t k = 0; k < n; k++)
+            if (w)
+                lt_like_eval_exact(l, w, pts + k * stride, &out[k]);
+        lt_like_work_free(w);
+    }
+    return failed ? lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory evaluating the exact likelihood")
+                  : LT_OK;
+}
+
+size_t lt_like_reweight_draws(const lt_like *l)
+{
+    size_t N = l->s->n;
+    return N <= 10000 ? 4000 : N <= 100000 ? 1000 : 250;
+}
+
 int lt_like_check_posterior(lt_like *l, const double *draws, size_t n, size_t stride, double bound,
                             lt_compression_check *out, lt_error *err)
 {
@@ -728,22 +755,11 @@ int lt_like_check_posterior(lt_like *l, const double *draws, size_t n, size_t st
     for (size_t k = 0; !failed && k < m; k++)
         memcpy(pts + k * d, draws + pick[k] * stride, d * sizeof *pts);
     free(pick);
-    /* the exact path at each point, shared out over the threads: each
-     * writes its own slot, so the answer does not depend on their number */
-#pragma omp parallel reduction(| : failed)
-    {
-        lt_like_work *w = failed ? NULL : lt_like_work_alloc(l);
-        failed |= !w;
-#pragma omp for schedule(dynamic, 1)
-        for (size_t k = 0; k < m; k++) {
-            if (!w)
-                continue;
-            lt_like_point pt;
-            lt_like_eval_exact(l, w, pts + k * d, &pt);
-            exact[k] = pt.domain_ok ? pt.chi2 : INFINITY;
-        }
-        lt_like_work_free(w);
-    }
+    lt_like_point *pt = failed ? NULL : malloc(m * sizeof *pt);
+    failed = failed || !pt || lt_like_eval_exact_many(l, pts, m, d, pt, err);
+    for (size_t k = 0; !failed && k < m; k++)
+        exact[k] = pt[k].domain_ok ? pt[k].chi2 : INFINITY;
+    free(pt);
     lt_like_work *w = failed ? NULL : lt_like_work_alloc(l);
     if (!w) {
         free(pts);

@@ -23,6 +23,7 @@ void lt_sample_result_free(lt_sample_result *r)
     free(r->rows);
     free(r->stats);
     free(r->cov);
+    free(r->weights);
     memset(r, 0, sizeof *r);
 }
 
@@ -39,7 +40,84 @@ static double neg2logpost(const double *x, void *p)
     return -2.0 * pt.logpost;
 }
 
-int lt_sample_collect(const lt_like *l, const lt_mcmc *m, lt_sample_result *r, lt_error *err)
+/*
+ * The importance weights of the rows (see lt_sample_collect): each row's
+ * exact logpost and chi2 replace the compressed ones, and its weight is
+ * their ratio, normalised to mean 1 (the largest log-ratio taken out first
+ * so that no exponential overflows).
+ */
+static int weigh_rows(const lt_like *l, lt_sample_result *r, lt_error *err)
+{
+    size_t total = r->nchains * r->ndraws;
+    lt_like_point *pt = malloc((total ? total : 1) * sizeof *pt);
+    r->weights = malloc((total ? total : 1) * sizeof *r->weights);
+    if (!pt || !r->weights) {
+        free(pt);
+        return lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory weighting the draws");
+    }
+    int rc = lt_like_eval_exact_many(l, r->rows + r->first_param, total, r->ncols, pt, err);
+    double top = -INFINITY, sum = 0.0;
+    r->max_abs_dchi2 = 0.0;
+    for (size_t j = 0; !rc && j < total; j++) {
+        double *row = r->rows + j * r->ncols;
+        int ok = pt[j].domain_ok && isfinite(pt[j].logpost) && isfinite(row[LOGPOST]);
+        r->weights[j] = ok ? pt[j].logpost - row[LOGPOST] : -INFINITY;
+        if (ok)
+            r->max_abs_dchi2 = fmax(r->max_abs_dchi2, fabs(pt[j].chi2 - row[CHI2]));
+        row[LOGPOST] = pt[j].domain_ok ? pt[j].logpost : -INFINITY;
+        row[CHI2] = pt[j].domain_ok ? pt[j].chi2 : NAN;
+        top = fmax(top, r->weights[j]);
+    }
+    free(pt);
+    if (rc)
+        return rc;
+    if (!isfinite(top))
+        return lt_error_set(err, LT_EDOMAIN, NULL, 0,
+                            "no posterior draw lies inside the exact likelihood's domain");
+    for (size_t j = 0; j < total; j++)
+        sum += r->weights[j] = exp(r->weights[j] - top);
+    double sum2 = 0.0;
+    for (size_t j = 0; j < total; j++) {
+        r->weights[j] *= (double)total / sum;
+        sum2 += r->weights[j] * r->weights[j];
+    }
+    r->kish_ess = (double)total * (double)total / sum2;
+    return LT_OK;
+}
+
+/* The weighted ESS of each parameter: the smallest of those of its mean
+ * and of the indicators of its weighted 5% and 95% quantiles (DESIGN.md's
+ * ess_min for weighted draws). */
+static int weighted_ess(lt_sample_result *r)
+{
+    size_t total = r->nchains * r->ndraws;
+    double *x = malloc((total ? total : 1) * sizeof *x), *f = malloc((total ? total : 1) * sizeof *f);
+    if (!x || !f) {
+        free(x);
+        free(f);
+        return -1;
+    }
+    r->ess_min_weighted = INFINITY;
+    for (size_t i = 0; i < r->nparams; i++) {
+        for (size_t j = 0; j < total; j++)
+            x[j] = r->rows[j * r->ncols + r->first_param + i];
+        double e = lt_diag_ess_weighted(x, r->weights, r->nchains, r->ndraws);
+        for (int t = 0; t < 2; t++) {
+            double q = lt_post_quantile(x, r->weights, total, t ? 0.95 : 0.05);
+            for (size_t j = 0; j < total; j++)
+                f[j] = isnan(x[j]) ? NAN : x[j] <= q;
+            e = fmin(e, lt_diag_ess_weighted(f, r->weights, r->nchains, r->ndraws));
+        }
+        r->ess_weighted[i] = e;
+        r->ess_min_weighted = fmin(r->ess_min_weighted, e);
+    }
+    free(x);
+    free(f);
+    return 0;
+}
+
+int lt_sample_collect(const lt_like *l, const lt_mcmc *m, size_t reweight, lt_sample_result *r,
+                      lt_error *err)
 {
     memset(r, 0, sizeof *r);
     const lt_mcmc_opts *o = lt_mcmc_options(m);
@@ -61,7 +139,11 @@ int lt_sample_collect(const lt_like *l, const lt_mcmc *m, lt_sample_result *r, l
             iwa = (int)i;
     }
     int pivot = iw0 >= 0 && iwa >= 0;
-    r->nchains = nc, r->ndraws = n;
+    /* to weigh the draws, keep every thin-th of each chain: at most reweight */
+    size_t thin = reweight ? (nc * n + reweight - 1) / reweight : 1, steps = n;
+    thin = thin ? thin : 1;
+    n = (n + thin - 1) / thin;
+    r->nchains = nc, r->ndraws = n, r->thin = thin;
     r->first_param = 2, r->nparams = d;
     r->first_derived = 2 + d, r->nderived = (size_t)nder + (pivot ? 1 : 0);
     r->ncols = 2 + d + r->nderived;
@@ -87,24 +169,35 @@ int lt_sample_collect(const lt_like *l, const lt_mcmc *m, lt_sample_result *r, l
         const double *dr = lt_mcmc_draws(m, c, &k);
         for (size_t i = 0; i < n; i++) {
             double *out = r->rows + (c * n + i) * r->ncols;
-            const double *in = dr + i * row;
+            const double *in = dr + i * thin * row;
             out[LOGPOST] = in[d];
             out[CHI2] = o->nextra ? in[d + 1] : NAN;
             memcpy(out + 2, in, d * sizeof *out);
         }
     }
     size_t total = nc * n;
-    /* the posterior covariance of the parameters */
-    double mean[LT_NPAR] = {0};
+    if (reweight) {
+        int rc = weigh_rows(l, r, err);
+        if (rc) {
+            lt_sample_result_free(r);
+            return rc;
+        }
+    }
+    const double *wt = r->weights;
+    /* the posterior covariance of the parameters (weighted: the unbiased
+     * divisor W - sum w^2 / W of reliability weights, total - 1 unweighted) */
+    double mean[LT_NPAR] = {0}, W = 0.0, W2 = 0.0;
+    for (size_t j = 0; j < total; j++)
+        W += wt ? wt[j] : 1.0, W2 += wt ? wt[j] * wt[j] : 1.0;
+    double denom = wt ? W - W2 / W : (double)(total > 1 ? total - 1 : 1);
     for (size_t j = 0; j < total; j++)
         for (size_t i = 0; i < d; i++)
-            mean[i] += r->rows[j * r->ncols + 2 + i] / (double)total;
+            mean[i] += (wt ? wt[j] : 1.0) * r->rows[j * r->ncols + 2 + i] / W;
     for (size_t j = 0; j < total; j++)
         for (size_t a = 0; a < d; a++)
             for (size_t b = 0; b < d; b++)
-                r->cov[a * d + b] += (r->rows[j * r->ncols + 2 + a] - mean[a]) *
-                                     (r->rows[j * r->ncols + 2 + b] - mean[b]) /
-                                     (double)(total > 1 ? total - 1 : 1);
+                r->cov[a * d + b] += (wt ? wt[j] : 1.0) * (r->rows[j * r->ncols + 2 + a] - mean[a]) *
+                                     (r->rows[j * r->ncols + 2 + b] - mean[b]) / denom;
     r->z_pivot = NAN;
     double one_minus_ap = NAN;
     if (pivot) {
@@ -126,7 +219,7 @@ int lt_sample_collect(const lt_like *l, const lt_mcmc *m, lt_sample_result *r, l
             goto nomem;
         for (size_t j = 0; j < total; j++)
             x[j] = r->rows[j * r->ncols + col];
-        lt_post_summarise(x, total, &r->stats[col]);
+        lt_post_summarise_weighted(x, wt, total, &r->stats[col]);
         free(x);
     }
     /* the best draw, polished: chi2_min */
@@ -149,7 +242,9 @@ int lt_sample_collect(const lt_like *l, const lt_mcmc *m, lt_sample_result *r, l
         lt_like_work_free(pc.w);
         return err ? err->code : LT_ENUMERIC;
     }
-    lt_like_eval(l, pc.w, r->best, &r->at_best);
+    /* weighted draws report the exact chi2 at the point the compressed
+     * path found best (off by the square of a tiny shift) */
+    (wt ? lt_like_eval_exact : lt_like_eval)(l, pc.w, r->best, &r->at_best);
     lt_like_work_free(pc.w);
     for (int k = 0; k < nder; k++)
         r->best_derived[k] = lt_like_derived(l, r->best, der[k]);
@@ -166,13 +261,15 @@ int lt_sample_collect(const lt_like *l, const lt_mcmc *m, lt_sample_result *r, l
             continue;
         for (size_t j = 0; j < total; j++)
             x[j] = r->rows[j * r->ncols + 2 + i];
-        lt_post_edge_density(x, NULL, total, p->a, p->b, &r->edge_lo[i], &r->edge_hi[i]);
+        lt_post_edge_density(x, wt, total, p->a, p->b, &r->edge_lo[i], &r->edge_hi[i]);
     }
     free(x);
+    if (wt && weighted_ess(r))
+        goto nomem;
     r->converged = lt_mcmc_converged(m);
     r->diag = lt_mcmc_diagnostics(m);
     r->warmup = o->warmup;
-    r->steps = n;
+    r->steps = steps;
     return LT_OK;
 nomem:
     lt_sample_result_free(r);
@@ -245,12 +342,22 @@ cJSON *lt_report_sample_json(const lt_like *l, const lt_sample_result *r,
         cJSON_AddItemToObject(off, "best", num(r->at_best.offset));
 
     const lt_mcmc_diag *dg = r->diag;
+    cJSON_AddBoolToObject(o, "weighted", r->weights != NULL);
     cJSON *cv = cJSON_AddObjectToObject(o, "convergence");
-    cJSON_AddItemToObject(cv, "rhat_max", num(dg->rhat_max));
-    cJSON_AddItemToObject(cv, "ess_min", num(dg->ess_min));
+    /* weighted draws (DESIGN.md): R-hat null, ess_min the weighted one; the
+     * chains' own numbers stay beside them */
+    cJSON_AddItemToObject(cv, "rhat_max", r->weights ? cJSON_CreateNull() : num(dg->rhat_max));
+    cJSON_AddItemToObject(cv, "ess_min", num(r->weights ? r->ess_min_weighted : dg->ess_min));
+    if (r->weights) {
+        cJSON_AddItemToObject(cv, "rhat_max_unweighted", num(dg->rhat_max));
+        cJSON_AddItemToObject(cv, "ess_min_unweighted", num(dg->ess_min));
+        cJSON_AddItemToObject(cv, "kish_ess", num(r->kish_ess));
+    }
     cJSON_AddItemToObject(cv, "chains", num((double)r->nchains));
     cJSON_AddItemToObject(cv, "draws", num((double)(r->nchains * r->ndraws)));
     cJSON_AddItemToObject(cv, "draws_per_chain", num((double)r->ndraws));
+    cJSON_AddItemToObject(cv, "thin", num((double)r->thin));
+    cJSON_AddItemToObject(cv, "steps_per_chain", num((double)r->steps));
     cJSON_AddItemToObject(cv, "warmup_per_chain", num((double)r->warmup));
     cJSON *acc = cJSON_AddArrayToObject(cv, "acceptance");
     for (size_t c = 0; c < r->nchains; c++)
@@ -265,6 +372,8 @@ cJSON *lt_report_sample_json(const lt_like *l, const lt_sample_result *r,
         cJSON_AddItemToObject(p, "ess_bulk", num(dg->ess_bulk[i]));
         cJSON_AddItemToObject(p, "ess_tail", num(dg->ess_tail[i]));
         cJSON_AddItemToObject(p, "tau", num(dg->tau[i]));
+        if (r->weights)
+            cJSON_AddItemToObject(p, "ess_weighted", num(r->ess_weighted[i]));
     }
     cJSON *cov = cJSON_AddObjectToObject(o, "covariance");
     cJSON *names = cJSON_AddArrayToObject(cov, "names");
@@ -295,10 +404,18 @@ cJSON *lt_report_sample_json(const lt_like *l, const lt_sample_result *r,
         cJSON_AddBoolToObject(cp, "resampled", K != r->compression.knots_setup);
         if (K != r->compression.knots_setup)
             cJSON_AddItemToObject(cp, "max_abs_dchi2_first_draws", num(r->compression.first_dchi2));
+        cJSON_AddBoolToObject(cp, "importance_weights", r->weights != NULL);
+        if (r->weights) {
+            cJSON_AddItemToObject(cp, "weighted_draws", num((double)(r->nchains * r->ndraws)));
+            cJSON_AddItemToObject(cp, "max_abs_dchi2_weighted_draws", num(r->max_abs_dchi2));
+        }
     }
     cJSON *w = lt_report_add_data(o, data, s);
-    if (r->compression.checked_ok && r->compression.posterior_dchi2 > LT_CHECK_BOUND)
-        cJSON_AddItemToArray(w, cJSON_CreateString(lt_report_compression_warning(r)));
+    if (r->compression.checked_ok && r->compression.posterior_dchi2 > LT_CHECK_BOUND) {
+        char text[512];
+        lt_report_compression_warning(r, text, sizeof text);
+        cJSON_AddItemToArray(w, cJSON_CreateString(text));
+    }
     if (!r->converged)
         cJSON_AddItemToArray(w, cJSON_CreateString("the chains did not converge within the step cap"));
     for (size_t i = 0; i < d; i++) {
@@ -328,24 +445,45 @@ void lt_report_sample_table(FILE *f, const lt_like *l, const lt_sample_result *r
                 st->mean, st->sd, best, st->lo68, st->hi68, st->lo95, st->hi95);
         if (k < r->nparams)
             fprintf(f, " %7.4f %7.0f", r->diag->rhat[k],
-                    fmin(r->diag->ess_bulk[k], r->diag->ess_tail[k]));
+                    r->weights ? r->ess_weighted[k] : fmin(r->diag->ess_bulk[k], r->diag->ess_tail[k]));
         fputc('\n', f);
     }
     if (!isnan(r->z_pivot))
         fprintf(f, "  z_pivot    %11.5g (from the posterior covariance of w0 and wa)\n", r->z_pivot);
     fprintf(f, "\n  chi2_min %.4f for %ld degrees of freedom (the best draw, polished)\n",
             r->at_best.chi2, lt_like_dof(l));
-    fprintf(f, "  %zu chains x %zu draws after %zu warm-up steps; worst R-hat %.4f, smallest ESS %.0f%s\n",
-            r->nchains, r->ndraws, r->warmup, r->diag->rhat_max, r->diag->ess_min,
-            r->converged ? "" : "; NOT CONVERGED");
+    if (r->weights)
+        fprintf(f, "  %zu chains x %zu draws after %zu warm-up steps, worst R-hat %.4f; weighted by the "
+                   "exact likelihood: %zu chains x %zu draws (one in %zu), smallest weighted ESS %.0f%s\n",
+                r->nchains, r->steps, r->warmup, r->diag->rhat_max, r->nchains, r->ndraws, r->thin,
+                r->ess_min_weighted, r->converged ? "" : "; NOT CONVERGED");
+    else
+        fprintf(f, "  %zu chains x %zu draws after %zu warm-up steps; worst R-hat %.4f, smallest ESS %.0f%s\n",
+                r->nchains, r->ndraws, r->warmup, r->diag->rhat_max, r->diag->ess_min,
+                r->converged ? "" : "; NOT CONVERGED");
 }
 
-const char *lt_report_compression_warning(const lt_sample_result *r)
+void lt_report_compression_warning(const lt_sample_result *r, char *buf, size_t size)
 {
-    (void)r;
-    return "the compressed likelihood differs from the exact one by more than 1e-3 in chi2 on "
-           "the posterior draws (compression.max_abs_dchi2_posterior) and more knots did not "
-           "help: the results are those of the compressed likelihood";
+    if (!r->weights) {
+        snprintf(buf, size,
+                 "the compressed likelihood differs from the exact one by %.2g in chi2 on the "
+                 "posterior draws (more than %g; compression.max_abs_dchi2_posterior) and more "
+                 "knots did not help: the results are those of the compressed likelihood",
+                 r->compression.posterior_dchi2, LT_CHECK_BOUND);
+        return;
+    }
+    char which[64] = "every draw";
+    if (r->thin > 1)
+        snprintf(which, sizeof which, "one in %zu of each chain", r->thin);
+    snprintf(buf, size,
+             "the compressed likelihood differs from the exact one by %.2g in chi2 on the "
+             "posterior draws (more than %g) and more knots did not help: %zu draws (%s) "
+             "were evaluated by the exact likelihood and are weighted by exp(-delta chi2 / 2); "
+             "their effective sample size is %.0f (smallest over the parameters) and the "
+             "chain files' column 'weight' holds the weights",
+             r->compression.posterior_dchi2, LT_CHECK_BOUND, r->nchains * r->ndraws, which,
+             r->ess_min_weighted);
 }
 
 static int csv_write(const char *path, const lt_sample_result *r, lt_error *err)
@@ -355,14 +493,19 @@ static int csv_write(const char *path, const lt_sample_result *r, lt_error *err)
     FILE *f = fopen(tmp, "w");
     if (!f)
         return lt_error_set(err, LT_EIO, tmp, 0, "cannot write: %s", strerror(errno));
-    fputs("chain,step", f);
+    fputs(r->weights ? "chain,step,weight" : "chain,step", f);
     for (size_t k = 0; k < r->ncols; k++)
         fprintf(f, ",%s", r->cols[k]);
     fputc('\n', f);
     char buf[32];
     for (size_t c = 0; c < r->nchains; c++)
         for (size_t i = 0; i < r->ndraws; i++) {
-            fprintf(f, "%zu,%zu", c + 1, i + 1);
+            /* step: the draw's place in its chain before any thinning */
+            fprintf(f, "%zu,%zu", c + 1, i * r->thin + 1);
+            if (r->weights) {
+                lt_format_double(r->weights[c * r->ndraws + i], buf, sizeof buf);
+                fprintf(f, ",%s", buf);
+            }
             const double *row = r->rows + (c * r->ndraws + i) * r->ncols;
             for (size_t k = 0; k < r->ncols; k++) {
                 lt_format_double(row[k], buf, sizeof buf);
@@ -379,7 +522,8 @@ static int fits_write(const char *path, const lt_like *l, const lt_sample_result
     char tmp[4200];
     lt_tmp_name(path, tmp, sizeof tmp);
     remove(tmp);
-    size_t nc = r->ncols + 2, total = r->nchains * r->ndraws;
+    /* chain, step, [weight,] the columns */
+    size_t lead = r->weights ? 3 : 2, nc = r->ncols + lead, total = r->nchains * r->ndraws;
     char **ttype = malloc(nc * sizeof *ttype), **tform = malloc(nc * sizeof *tform);
     double *col = malloc((total ? total : 1) * sizeof *col);
     long *ichain = malloc((total ? total : 1) * sizeof *ichain), *istep = malloc((total ? total : 1) * sizeof *istep);
@@ -390,8 +534,10 @@ static int fits_write(const char *path, const lt_like *l, const lt_sample_result
         goto done;
     }
     ttype[0] = "chain", ttype[1] = "step", tform[0] = tform[1] = "1J";
+    if (r->weights)
+        ttype[2] = "weight", tform[2] = "1D";
     for (size_t k = 0; k < r->ncols; k++)
-        ttype[k + 2] = r->cols[k], tform[k + 2] = "1D";
+        ttype[k + lead] = r->cols[k], tform[k + lead] = "1D";
     if (fits_create_file(&f, tmp, &status))
         goto fitserr;
     fits_create_tbl(f, BINARY_TBL, (LONGLONG)total, (int)nc, ttype, tform, NULL, "CHAINS", &status);
@@ -399,7 +545,8 @@ static int fits_write(const char *path, const lt_like *l, const lt_sample_result
     snprintf(model, sizeof model, "%s", lt_like_model(l)->name);
     long lseed = (long)seed, lchains = (long)r->nchains;
     int conv = r->converged;
-    double rhat = r->diag->rhat_max, ess = r->diag->ess_min;
+    double rhat = r->weights ? NAN : r->diag->rhat_max;
+    double ess = r->weights ? r->ess_min_weighted : r->diag->ess_min;
     fits_update_key(f, TSTRING, "CREATOR", version, "program that wrote this file", &status);
     fits_update_key(f, TSTRING, "MODEL", model, "cosmological model", &status);
     fits_update_key_longstr(f, "DATAFILE", (char *)(data->data ? data->data : ""), "survey table", &status);
@@ -409,16 +556,22 @@ static int fits_write(const char *path, const lt_like *l, const lt_sample_result
     if (isfinite(rhat))
         fits_update_key(f, TDOUBLE, "RHATMAX", &rhat, "worst R-hat", &status);
     if (isfinite(ess))
-        fits_update_key(f, TDOUBLE, "ESSMIN", &ess, "smallest ESS (bulk and tail)", &status);
+        fits_update_key(f, TDOUBLE, "ESSMIN", &ess,
+                        r->weights ? "smallest weighted ESS (mean, 5% and 95%)"
+                                   : "smallest ESS (bulk and tail)", &status);
+    int weighted = r->weights != NULL;
+    fits_update_key(f, TLOGICAL, "WEIGHTED", &weighted, "draws carry importance weights", &status);
     for (size_t c = 0, j = 0; c < r->nchains; c++)
         for (size_t i = 0; i < r->ndraws; i++, j++)
-            ichain[j] = (long)c + 1, istep[j] = (long)i + 1;
+            ichain[j] = (long)c + 1, istep[j] = (long)(i * r->thin) + 1;
     fits_write_col(f, TLONG, 1, 1, 1, (LONGLONG)total, ichain, &status);
     fits_write_col(f, TLONG, 2, 1, 1, (LONGLONG)total, istep, &status);
+    if (r->weights)
+        fits_write_col(f, TDOUBLE, 3, 1, 1, (LONGLONG)total, r->weights, &status);
     for (size_t k = 0; k < r->ncols && !status; k++) {
         for (size_t j = 0; j < total; j++)
             col[j] = r->rows[j * r->ncols + k];
-        fits_write_col(f, TDOUBLE, (int)k + 3, 1, 1, (LONGLONG)total, col, &status);
+        fits_write_col(f, TDOUBLE, (int)(k + lead) + 1, 1, 1, (LONGLONG)total, col, &status);
     }
     if (status)
         goto fitserr;

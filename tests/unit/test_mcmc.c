@@ -5,7 +5,9 @@
  * (correlated Gaussians in 2 and 5 dimensions, the banana of Haario,
  * Saksman & Tamminen 1999/2001), thread-count independence, and
  * checkpoints (interrupt and resume give the same draws; damaged or foreign
- * checkpoints are refused), and DIC's p_V against the chi2_k closed form.
+ * checkpoints are refused), DIC's p_V against the chi2_k closed form, and
+ * the ESS of importance-weighted draws against its asymptotic closed form
+ * and the spread of repeated runs.
  */
 #include <setjmp.h>
 #include <stdarg.h>
@@ -120,6 +122,71 @@ static void test_ess_and_tau(void **state)
     for (int i = 0; i < 100; i++)
         k[i] = 1.0;
     assert_true(isnan(lt_diag_ess(k, 2, 50)));
+}
+
+/* The importance weight of N(0.3, 0.8^2) against the N(0, 1) draws. */
+static double is_weight(double x)
+{
+    double u = (x - 0.3) / 0.8;
+    return exp(-0.5 * u * u + 0.5 * x * x) / 0.8;
+}
+
+/* q(x) w(x)^2 (x - 0.3)^2 for q = N(0, 1): E_q[w^2 (x - mu)^2]. */
+static double is_integrand(double x, void *p)
+{
+    (void)p;
+    double w = is_weight(x);
+    return exp(-0.5 * x * x) / sqrt(2 * M_PI) * w * w * (x - 0.3) * (x - 0.3);
+}
+
+static void test_ess_weighted(void **state)
+{
+    (void)state;
+    enum { M = 4, N = 2000, R = 300 };
+    static double x[M * N], w[M * N], one[M * N];
+    /* equal weights: the plain multi-chain ESS */
+    ar1(x, M, N, 0.5, 3);
+    for (size_t i = 0; i < M * N; i++)
+        one[i] = 3.0;
+    assert_rel(lt_diag_ess_weighted(x, one, M, N), lt_diag_ess(x, M, N), 1e-9);
+    /* independent draws: the ESS of the mean tends to n var_p / E_q[w^2 (x -
+     * mu)^2] (the self-normalised estimator's asymptotic variance, Owen
+     * 2013, Monte Carlo theory, methods and examples, sec. 9.2, from
+     * memory), the integral by GSL's QAGI */
+    gsl_integration_workspace *ws = gsl_integration_workspace_alloc(200);
+    double integral, abserr;
+    gsl_integration_qagi(&(gsl_function){is_integrand, NULL}, 0, 1e-10, 200, ws, &integral, &abserr);
+    gsl_integration_workspace_free(ws);
+    double want = M * N * 0.64 / integral;
+    ar1(x, M, N, 0.0, 4);
+    for (size_t i = 0; i < M * N; i++)
+        w[i] = is_weight(x[i]);
+    double got = lt_diag_ess_weighted(x, w, M, N);
+    print_message("iid, weighted: ESS %.0f, asymptotic %.0f of %d draws\n", got, want, M * N);
+    assert_rel(got, want, 0.15);
+    /* correlated draws, AR(1) with rho 0.5, weighted: the spread of the
+     * weighted mean over R independent runs (its own Monte Carlo truth)
+     * against var_p / ESS, the average ESS; the variance of R = 300 runs is
+     * itself uncertain by sqrt(2 / R) = 8%, so 25% */
+    double s = 0, s2 = 0, ess_mean = 0;
+    for (int rep = 0; rep < R; rep++) {
+        ar1(x, M, N, 0.5, 100 + (uint64_t)rep);
+        double sw = 0, swx = 0;
+        for (size_t i = 0; i < M * N; i++)
+            w[i] = is_weight(x[i]), sw += w[i], swx += w[i] * x[i];
+        s += swx / sw, s2 += (swx / sw) * (swx / sw);
+        ess_mean += lt_diag_ess_weighted(x, w, M, N) / R;
+    }
+    double var = s2 / R - (s / R) * (s / R);
+    print_message("AR(1) 0.5, weighted: ESS %.0f, from the spread of %d runs %.0f\n", ess_mean, R,
+                  0.64 / var);
+    assert_rel(ess_mean, 0.64 / var, 0.25);
+    /* and the autocorrelation counts: about (1 - rho) / (1 + rho) of the iid value */
+    assert_true(ess_mean < 0.5 * want);
+    /* no weight anywhere: no estimate */
+    for (size_t i = 0; i < M * N; i++)
+        w[i] = 0.0;
+    assert_true(isnan(lt_diag_ess_weighted(x, w, M, N)));
 }
 
 /* ---- targets with known moments ---- */
@@ -518,7 +585,8 @@ int main(void)
 {
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_rng),       cmocka_unit_test(test_rhat_by_hand),
-        cmocka_unit_test(test_ess_and_tau), cmocka_unit_test(test_gaussians),
+        cmocka_unit_test(test_ess_and_tau), cmocka_unit_test(test_ess_weighted),
+        cmocka_unit_test(test_gaussians),
         cmocka_unit_test(test_banana),
         cmocka_unit_test(test_delayed_rejection),
         cmocka_unit_test(test_memory_limit),    cmocka_unit_test(test_threads),
