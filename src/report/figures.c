@@ -77,23 +77,40 @@ static int cmp_double(const void *a, const void *b)
     return (x > y) - (x < y);
 }
 
-/* A plotting range for column c: the 0.5% to 99.5% span of the draws,
- * widened by 15%, clipped to the prior where there is one. */
-static void range_of(const lt_run_model *m, size_t c, double *lo, double *hi)
+/* A plotting range for column c: the 0.5% to 99.5% span of the draws (of
+ * their weight, for weighted draws unless as_sampled), widened by 15%,
+ * clipped to the prior where there is one. */
+static void range_of(const lt_run_model *m, size_t c, int as_sampled, double *lo, double *hi)
 {
     size_t n = m->nchains * m->ndraws, nc = m->nparams + m->nderived, k = 0;
+    int weighted = m->weights && !as_sampled;
     double *x = malloc((n ? n : 1) * sizeof *x);
+    double *w = weighted ? malloc((n ? n : 1) * sizeof *w) : NULL;
     for (size_t i = 0; x && i < n; i++)
-        if (isfinite(m->draws[i * nc + c]))
+        if (isfinite(m->draws[i * nc + c])) {
+            if (w)
+                w[k] = m->weights[i];
             x[k++] = m->draws[i * nc + c];
-    if (!x || k < 2) {
+        }
+    if (!x || k < 2 || (weighted && !w)) {
         *lo = 0, *hi = 1;
         free(x);
+        free(w);
         return;
     }
-    qsort(x, k, sizeof *x, cmp_double);
-    double a = x[(size_t)(0.005 * (double)(k - 1))], b = x[(size_t)(0.995 * (double)(k - 1))];
+    double a, b;
+    if (w) { /* weighted quantiles; zero weights drop out */
+        a = lt_post_quantile(x, w, k, 0.005), b = lt_post_quantile(x, w, k, 0.995);
+    } else { /* the order statistics below those points, as before weights */
+        qsort(x, k, sizeof *x, cmp_double);
+        a = x[(size_t)(0.005 * (double)(k - 1))], b = x[(size_t)(0.995 * (double)(k - 1))];
+    }
     free(x);
+    free(w);
+    if (!isfinite(a) || !isfinite(b)) { /* no draw with weight */
+        *lo = 0, *hi = 1;
+        return;
+    }
     double pad = 0.15 * (b - a > 0 ? b - a : 1.0);
     *lo = a - pad, *hi = b + pad;
     if (c < m->nparams && m->priors[c].kind == LT_PRIOR_UNIFORM && isfinite(m->priors[c].a)) {
@@ -161,14 +178,7 @@ static void contours(const lt_run_model *m, size_t cx, size_t cy, double x0, dou
                      double y0, double y1, int colour)
 {
     static double g[NB * NB];
-    memset(g, 0, sizeof g);
-    size_t n = m->nchains * m->ndraws, nc = m->nparams + m->nderived;
-    for (size_t i = 0; i < n; i++) {
-        double x = m->draws[i * nc + cx], y = m->draws[i * nc + cy];
-        int ix = (int)floor((x - x0) / (x1 - x0) * NB), iy = (int)floor((y - y0) / (y1 - y0) * NB);
-        if (ix >= 0 && ix < NB && iy >= 0 && iy < NB)
-            g[ix * NB + iy] += 1.0;
-    }
+    lt_run_model_histogram(m, cx, cy, x0, x1, y0, y1, NB, NB, g);
     smooth(g, NB, NB, 1.2);
     double l68 = 0, l95 = 0;
     hpd_levels(g, NB * NB, &l68, &l95);
@@ -197,13 +207,8 @@ static void contours(const lt_run_model *m, size_t cx, size_t cy, double x0, dou
 /* The 1-D marginal of column c as a smoothed histogram scaled to peak 1. */
 static void marginal(const lt_run_model *m, size_t c, double x0, double x1, int colour)
 {
-    double h[NB] = {0};
-    size_t n = m->nchains * m->ndraws, nc = m->nparams + m->nderived;
-    for (size_t i = 0; i < n; i++) {
-        int ix = (int)floor((m->draws[i * nc + c] - x0) / (x1 - x0) * NB);
-        if (ix >= 0 && ix < NB)
-            h[ix] += 1.0;
-    }
+    double h[NB];
+    lt_run_model_histogram(m, c, c, x0, x1, x0, x1, NB, 1, h);
     smooth(h, NB, 1, 1.2);
     double peak = 0;
     for (int i = 0; i < NB; i++)
@@ -274,7 +279,7 @@ static void group_range(const model_group *g, const char *name, double *lo, doub
         double a, b;
         if (c < 0)
             continue;
-        range_of(MEMBER(g, j), (size_t)c, &a, &b);
+        range_of(MEMBER(g, j), (size_t)c, 0, &a, &b);
         *lo = fmin(*lo, a), *hi = fmax(*hi, b);
     }
     if (!(*lo < *hi))
@@ -377,10 +382,15 @@ static void draw_posterior(const void *p)
     double step = 1.0 / (double)lines; /* a line in the window */
     plschr(0, 0.9);
     char title[160];
+    int weighted = 0; /* the densities and regions then hold the weight */
+    for (size_t j = 0; j < g->k; j++)
+        weighted |= MEMBER(g, j)->weighted;
     if (g->k > 1)
-        snprintf(title, sizeof title, "posterior of %s, %zu runs", m->name, g->k);
+        snprintf(title, sizeof title, "posterior of %s, %zu runs%s", m->name, g->k,
+                 weighted ? " (weighted draws)" : "");
     else
-        snprintf(title, sizeof title, "posterior of %s", m->label);
+        snprintf(title, sizeof title, "posterior of %s%s", m->label,
+                 weighted ? " (weighted draws)" : "");
     plcol0(C_INK);
     plptex(1.0, 1 - 0.6 * step, 1, 0, 1.0, title);
     plschr(0, 0.7);
@@ -401,7 +411,7 @@ static void draw_traces(const void *p)
     PLFLT *x = malloc((n / stride + 1) * sizeof *x), *y = malloc((n / stride + 1) * sizeof *y);
     for (size_t k = 0; x && y && k < d; k++) {
         double lo, hi;
-        range_of(m, k, &lo, &hi);
+        range_of(m, k, 1, &lo, &hi); /* the span of the draws as sampled */
         double top = 0.95 - k * (0.87 / (double)d);
         plvpor(0.1, 0.97, top - 0.87 / (double)d + 0.03, top);
         plwind(1, (double)n, lo, hi);
@@ -418,15 +428,22 @@ static void draw_traces(const void *p)
             plline((PLINT)j, x, y);
         }
         if (k == 0) {
-            char t[160];
-            snprintf(t, sizeof t, "traces of %s: %zu chains (colours) x %zu draws after warm-up",
-                     m->label, m->nchains, n);
+            /* the draws as sampled: a trace shows how a chain moved, which
+             * importance weights do not change, so it leaves them out */
+            char t[200];
+            if (m->weighted)
+                snprintf(t, sizeof t, "traces of %s: %zu chains (colours) x %zu draws as sampled "
+                         "(importance weights not shown)", m->label, m->nchains, n);
+            else
+                snprintf(t, sizeof t, "traces of %s: %zu chains (colours) x %zu draws after warm-up",
+                         m->label, m->nchains, n);
             plcol0(C_INK);
             plmtex("t", 1.0, 0.5, 0.5, t);
         }
     }
     plcol0(C_INK);
-    plmtex("b", 3.0, 0.5, 0.5, "step after warm-up");
+    /* weighted draws may be thinned: their index is not the sampler's step */
+    plmtex("b", 3.0, 0.5, 0.5, m->weighted ? "draw after warm-up" : "step after warm-up");
     free(x);
     free(y);
 }
