@@ -194,10 +194,12 @@ static int write_report(const char *dir, const char *name, char dirs[][4200], si
     /* what the tables mark, said where the user looks first */
     for (size_t i = 0; i < n; i++) {
         if (!models[i].converged) {
+            char rhat[64];
             fprintf(stderr,
-                    "lantern: warning: %s did not converge (worst R-hat %.3g, smallest ESS %.0f): "
+                    "lantern: warning: %s did not converge (worst R-hat %s, smallest ESS %.0f): "
                     "its numbers are provisional; the tables mark it with a double dagger\n",
-                    models[i].label, models[i].rhat_max, models[i].ess_min);
+                    models[i].label, lt_run_model_rhat_text(&models[i], rhat, sizeof rhat),
+                    models[i].ess_min);
             status = CLI_UNCONVERGED;
         }
         if (!lt_run_model_same_data(&models[0], &models[i]))
