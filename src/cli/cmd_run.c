@@ -471,7 +471,9 @@ static void usage_report(FILE *f)
           "'RUN: MODEL'; models of one name share a posterior and a plane figure, overlaid\n"
           "with a legend naming the runs. AIC, BIC and ln B differences are left blank for\n"
           "models fitted to other data than the first (a footnote says so). The Hubble\n"
-          "diagram uses the first run's data. Exit status 3 if a model did not converge.\n",
+          "diagram uses the first run's data. Importance-weighted chains (a weight column)\n"
+          "are quoted, drawn and contoured with their weights. Exit status 3 if a model did\n"
+          "not converge.\n",
           f);
 }
 

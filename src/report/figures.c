@@ -297,7 +297,10 @@ static void group_legend(const model_group *g, double y, double dy)
         plline(2, lx, ly);
         plwidth(1);
         plcol0(C_INK);
-        plptex(0.17, y, 1, 0, 0, MEMBER(g, j)->label);
+        char lab[320];
+        snprintf(lab, sizeof lab, "%s%s", MEMBER(g, j)->label,
+                 MEMBER(g, j)->weighted ? " (weighted draws)" : "");
+        plptex(0.17, y, 1, 0, 0, lab);
     }
 }
 
@@ -382,15 +385,13 @@ static void draw_posterior(const void *p)
     double step = 1.0 / (double)lines; /* a line in the window */
     plschr(0, 0.9);
     char title[160];
-    int weighted = 0; /* the densities and regions then hold the weight */
-    for (size_t j = 0; j < g->k; j++)
-        weighted |= MEMBER(g, j)->weighted;
+    /* weighted draws: the densities and regions hold the weight; among
+     * several runs the legend says which */
     if (g->k > 1)
-        snprintf(title, sizeof title, "posterior of %s, %zu runs%s", m->name, g->k,
-                 weighted ? " (weighted draws)" : "");
+        snprintf(title, sizeof title, "posterior of %s, %zu runs", m->name, g->k);
     else
         snprintf(title, sizeof title, "posterior of %s%s", m->label,
-                 weighted ? " (weighted draws)" : "");
+                 m->weighted ? " (weighted draws)" : "");
     plcol0(C_INK);
     plptex(1.0, 1 - 0.6 * step, 1, 0, 1.0, title);
     plschr(0, 0.7);
@@ -480,7 +481,10 @@ static void draw_plane(const void *p)
         plcol0(g->k > 1 ? model_colour(g->idx[j]) : C_INK);
         plpoin(1, &bx, &by, 5);
     }
-    char title[160];
+    char title[200];
+    /* weighted draws: the regions hold that much of the weight (among
+     * several runs, the legend says which are weighted) */
+    const char *of = g->k == 1 && m->weighted ? " of the weight" : "";
     plcol0(C_GREY);
     if (w0wa) {
         PLFLT lx[2] = {-1, -1}, ly[2] = {y0, y1}, hx[2] = {x0, x1}, hy[2] = {0, 0};
@@ -492,7 +496,7 @@ static void draw_plane(const void *p)
         plcol0(C_INK);
         plpoin(1, &px, &py, 17);
         plptex(-1, 0, 1, 0, -0.1, "w = -1");
-        snprintf(title, sizeof title, "%s: w#d0#u - w#da#u plane (68%%, 95%%)", m->label);
+        snprintf(title, sizeof title, "%s: w#d0#u - w#da#u plane (68%%, 95%%%s)", m->label, of);
     } else {
         /* flat: Omega_de = 1 - Omega_m; q0 = 0: Omega_de = Omega_m / 2 (q0 = Om/2 - OL,
          * for a cosmological constant; the line is drawn for w = -1) */
@@ -505,11 +509,12 @@ static void draw_plane(const void *p)
         double tx = x0 + 0.75 * (x1 - x0);
         plptex(tx, 1 - tx, 1, -1, 0.5, "flat");
         plptex(tx, tx / 2, 1, 0.5, 0.5, "accelerating above, decelerating below");
-        snprintf(title, sizeof title, "%s: #gW#dm#u - #gW#dDE#u plane (68%%, 95%%)", m->label);
+        snprintf(title, sizeof title, "%s: #gW#dm#u - #gW#dDE#u plane (68%%, 95%%%s)", m->label,
+                 of);
     }
     if (g->k > 1) /* the runs name themselves in the legend */
-        snprintf(title, sizeof title, "%s, %zu runs: %s plane (68%%, 95%%)", m->name, g->k,
-                 w0wa ? "w#d0#u - w#da#u" : "#gW#dm#u - #gW#dDE#u");
+        snprintf(title, sizeof title, "%s, %zu runs: %s plane (68%%, 95%%%s)", m->name, g->k,
+                 w0wa ? "w#d0#u - w#da#u" : "#gW#dm#u - #gW#dDE#u", of);
     plcol0(C_INK);
     plmtex("t", 1.5, 0.5, 0.5, title);
     if (g->k > 1) {
