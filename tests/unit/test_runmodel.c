@@ -232,6 +232,13 @@ static void test_weighted_folder(void **state)
             assert_non_null(strstr(md, "worst R-hat - (importance-weighted draws) and smallest "
                                        "ESS 30000"));
         free(md);
+        snprintf(path, sizeof path, "%s/constraints.tex", out);
+        assert_int_equal(lt_file_read(path, 1 << 20, &md, &len, NULL), LT_OK);
+        assert_null(strstr(md, "nan"));
+        assert_non_null(strstr(md, "$\\Lambda$CDM: importance-weighted draws (effective sample "
+                                   "size 30000)"));
+        free(md);
+        snprintf(path, sizeof path, "%s/constraints.md", out);
     }
     lt_run_model_free(&m);
     assert_null(m.weights);
