@@ -180,6 +180,13 @@ typedef struct lt_run_model {
     lt_post_stats *stats;       /* nparams + nderived */
     size_t nchains, ndraws;     /* draws per chain */
     double *draws;              /* nchains * ndraws rows of nparams + nderived */
+    double *weights;            /* one per row of draws (chains.csv's "weight" column:
+                                 * importance weights, mean 1, >= 0), NULL when the draws
+                                 * are unweighted; everything that turns draws into a
+                                 * quantile, density or contour uses them */
+    int weighted;               /* weights present (summary.json "weighted": true must
+                                 * come with them); rhat_max is then NaN (null) and
+                                 * ess_min the importance-sampling ESS */
     double chi2_min, aic, bic, offset_best, rhat_max, ess_min;
     double ln_z, ln_z_err;      /* NaN where no evidence was computed */
     long dof;
@@ -190,9 +197,19 @@ typedef struct lt_run_model {
     char *data_digest;          /* its data.digest, or NULL (older summaries) */
 } lt_run_model;
 
-/* Read dir/summary.json and dir/chains.csv. */
+/*
+ * Read dir/summary.json and dir/chains.csv. The csv's header must be
+ * chain,step[,weight],logpost,chi2 and then the summary's parameters and
+ * derived quantities in its order; another header, a row with another
+ * number of fields, or a weight that is negative or not finite is an input
+ * error naming the file and line.
+ */
 int lt_run_model_load(const char *dir, lt_run_model *m, lt_error *err);
 void lt_run_model_free(lt_run_model *m);
+
+/* m's worst R-hat as text for a note: "1.31", or "- (importance-weighted
+ * draws)" where there is none (weighted draws have no R-hat). Returns buf. */
+const char *lt_run_model_rhat_text(const lt_run_model *m, char *buf, size_t size);
 
 /*
  * Rounding by the rule of the Particle Data Group (Review of Particle
@@ -239,6 +256,17 @@ lt_quote lt_quote_of(const lt_run_model *m, size_t col);
  * none, lower, upper or both; converged is true or false. */
 int lt_report_write_tables(const char *dir, const lt_run_model *models, size_t n,
                            lt_error *err);
+
+/*
+ * The histogram the figures draw m's densities and contours from: columns
+ * cx, cy binned on [x0, x1) x [y0, y1) into nx x ny cells, g[ix * ny + iy]
+ * the sum of the weights of the draws in a cell (1 a draw when unweighted);
+ * draws outside are left out. ny = 1 bins cx alone (y ignored). Returns the
+ * weight binned. The 68% and 95% contours are the levels of this histogram
+ * (smoothed) above which it holds those fractions of its weight.
+ */
+double lt_run_model_histogram(const lt_run_model *m, size_t cx, size_t cy, double x0, double x1,
+                              double y0, double y1, int nx, int ny, double *g);
 
 /* Figures (PLplot, cairo drivers), PNG and PDF: hubble.*, and per model
  * posterior_<model>.*, plane_<model>.* (curved and w0-wa models) and

@@ -194,10 +194,12 @@ static int write_report(const char *dir, const char *name, char dirs[][4200], si
     /* what the tables mark, said where the user looks first */
     for (size_t i = 0; i < n; i++) {
         if (!models[i].converged) {
+            char rhat[64];
             fprintf(stderr,
-                    "lantern: warning: %s did not converge (worst R-hat %.3g, smallest ESS %.0f): "
+                    "lantern: warning: %s did not converge (worst R-hat %s, smallest ESS %.0f): "
                     "its numbers are provisional; the tables mark it with a double dagger\n",
-                    models[i].label, models[i].rhat_max, models[i].ess_min);
+                    models[i].label, lt_run_model_rhat_text(&models[i], rhat, sizeof rhat),
+                    models[i].ess_min);
             status = CLI_UNCONVERGED;
         }
         if (!lt_run_model_same_data(&models[0], &models[i]))
@@ -469,7 +471,9 @@ static void usage_report(FILE *f)
           "'RUN: MODEL'; models of one name share a posterior and a plane figure, overlaid\n"
           "with a legend naming the runs. AIC, BIC and ln B differences are left blank for\n"
           "models fitted to other data than the first (a footnote says so). The Hubble\n"
-          "diagram uses the first run's data. Exit status 3 if a model did not converge.\n",
+          "diagram uses the first run's data. Importance-weighted chains (a weight column)\n"
+          "are quoted, drawn and contoured with their weights. Exit status 3 if a model did\n"
+          "not converge.\n",
           f);
 }
 

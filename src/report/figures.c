@@ -77,23 +77,40 @@ static int cmp_double(const void *a, const void *b)
     return (x > y) - (x < y);
 }
 
-/* A plotting range for column c: the 0.5% to 99.5% span of the draws,
- * widened by 15%, clipped to the prior where there is one. */
-static void range_of(const lt_run_model *m, size_t c, double *lo, double *hi)
+/* A plotting range for column c: the 0.5% to 99.5% span of the draws (of
+ * their weight, for weighted draws unless as_sampled), widened by 15%,
+ * clipped to the prior where there is one. */
+static void range_of(const lt_run_model *m, size_t c, int as_sampled, double *lo, double *hi)
 {
     size_t n = m->nchains * m->ndraws, nc = m->nparams + m->nderived, k = 0;
+    int weighted = m->weights && !as_sampled;
     double *x = malloc((n ? n : 1) * sizeof *x);
+    double *w = weighted ? malloc((n ? n : 1) * sizeof *w) : NULL;
     for (size_t i = 0; x && i < n; i++)
-        if (isfinite(m->draws[i * nc + c]))
+        if (isfinite(m->draws[i * nc + c])) {
+            if (w)
+                w[k] = m->weights[i];
             x[k++] = m->draws[i * nc + c];
-    if (!x || k < 2) {
+        }
+    if (!x || k < 2 || (weighted && !w)) {
         *lo = 0, *hi = 1;
         free(x);
+        free(w);
         return;
     }
-    qsort(x, k, sizeof *x, cmp_double);
-    double a = x[(size_t)(0.005 * (double)(k - 1))], b = x[(size_t)(0.995 * (double)(k - 1))];
+    double a, b;
+    if (w) { /* weighted quantiles; zero weights drop out */
+        a = lt_post_quantile(x, w, k, 0.005), b = lt_post_quantile(x, w, k, 0.995);
+    } else { /* the order statistics below those points, as before weights */
+        qsort(x, k, sizeof *x, cmp_double);
+        a = x[(size_t)(0.005 * (double)(k - 1))], b = x[(size_t)(0.995 * (double)(k - 1))];
+    }
     free(x);
+    free(w);
+    if (!isfinite(a) || !isfinite(b)) { /* no draw with weight */
+        *lo = 0, *hi = 1;
+        return;
+    }
     double pad = 0.15 * (b - a > 0 ? b - a : 1.0);
     *lo = a - pad, *hi = b + pad;
     if (c < m->nparams && m->priors[c].kind == LT_PRIOR_UNIFORM && isfinite(m->priors[c].a)) {
@@ -161,14 +178,7 @@ static void contours(const lt_run_model *m, size_t cx, size_t cy, double x0, dou
                      double y0, double y1, int colour)
 {
     static double g[NB * NB];
-    memset(g, 0, sizeof g);
-    size_t n = m->nchains * m->ndraws, nc = m->nparams + m->nderived;
-    for (size_t i = 0; i < n; i++) {
-        double x = m->draws[i * nc + cx], y = m->draws[i * nc + cy];
-        int ix = (int)floor((x - x0) / (x1 - x0) * NB), iy = (int)floor((y - y0) / (y1 - y0) * NB);
-        if (ix >= 0 && ix < NB && iy >= 0 && iy < NB)
-            g[ix * NB + iy] += 1.0;
-    }
+    lt_run_model_histogram(m, cx, cy, x0, x1, y0, y1, NB, NB, g);
     smooth(g, NB, NB, 1.2);
     double l68 = 0, l95 = 0;
     hpd_levels(g, NB * NB, &l68, &l95);
@@ -197,13 +207,8 @@ static void contours(const lt_run_model *m, size_t cx, size_t cy, double x0, dou
 /* The 1-D marginal of column c as a smoothed histogram scaled to peak 1. */
 static void marginal(const lt_run_model *m, size_t c, double x0, double x1, int colour)
 {
-    double h[NB] = {0};
-    size_t n = m->nchains * m->ndraws, nc = m->nparams + m->nderived;
-    for (size_t i = 0; i < n; i++) {
-        int ix = (int)floor((m->draws[i * nc + c] - x0) / (x1 - x0) * NB);
-        if (ix >= 0 && ix < NB)
-            h[ix] += 1.0;
-    }
+    double h[NB];
+    lt_run_model_histogram(m, c, c, x0, x1, x0, x1, NB, 1, h);
     smooth(h, NB, 1, 1.2);
     double peak = 0;
     for (int i = 0; i < NB; i++)
@@ -274,7 +279,7 @@ static void group_range(const model_group *g, const char *name, double *lo, doub
         double a, b;
         if (c < 0)
             continue;
-        range_of(MEMBER(g, j), (size_t)c, &a, &b);
+        range_of(MEMBER(g, j), (size_t)c, 0, &a, &b);
         *lo = fmin(*lo, a), *hi = fmax(*hi, b);
     }
     if (!(*lo < *hi))
@@ -292,7 +297,10 @@ static void group_legend(const model_group *g, double y, double dy)
         plline(2, lx, ly);
         plwidth(1);
         plcol0(C_INK);
-        plptex(0.17, y, 1, 0, 0, MEMBER(g, j)->label);
+        char lab[320];
+        snprintf(lab, sizeof lab, "%s%s", MEMBER(g, j)->label,
+                 MEMBER(g, j)->weighted ? " (weighted draws)" : "");
+        plptex(0.17, y, 1, 0, 0, lab);
     }
 }
 
@@ -377,10 +385,13 @@ static void draw_posterior(const void *p)
     double step = 1.0 / (double)lines; /* a line in the window */
     plschr(0, 0.9);
     char title[160];
+    /* weighted draws: the densities and regions hold the weight; among
+     * several runs the legend says which */
     if (g->k > 1)
         snprintf(title, sizeof title, "posterior of %s, %zu runs", m->name, g->k);
     else
-        snprintf(title, sizeof title, "posterior of %s", m->label);
+        snprintf(title, sizeof title, "posterior of %s%s", m->label,
+                 m->weighted ? " (weighted draws)" : "");
     plcol0(C_INK);
     plptex(1.0, 1 - 0.6 * step, 1, 0, 1.0, title);
     plschr(0, 0.7);
@@ -401,7 +412,7 @@ static void draw_traces(const void *p)
     PLFLT *x = malloc((n / stride + 1) * sizeof *x), *y = malloc((n / stride + 1) * sizeof *y);
     for (size_t k = 0; x && y && k < d; k++) {
         double lo, hi;
-        range_of(m, k, &lo, &hi);
+        range_of(m, k, 1, &lo, &hi); /* the span of the draws as sampled */
         double top = 0.95 - k * (0.87 / (double)d);
         plvpor(0.1, 0.97, top - 0.87 / (double)d + 0.03, top);
         plwind(1, (double)n, lo, hi);
@@ -418,15 +429,22 @@ static void draw_traces(const void *p)
             plline((PLINT)j, x, y);
         }
         if (k == 0) {
-            char t[160];
-            snprintf(t, sizeof t, "traces of %s: %zu chains (colours) x %zu draws after warm-up",
-                     m->label, m->nchains, n);
+            /* the draws as sampled: a trace shows how a chain moved, which
+             * importance weights do not change, so it leaves them out */
+            char t[200];
+            if (m->weighted)
+                snprintf(t, sizeof t, "traces of %s: %zu chains (colours) x %zu draws as sampled "
+                         "(importance weights not shown)", m->label, m->nchains, n);
+            else
+                snprintf(t, sizeof t, "traces of %s: %zu chains (colours) x %zu draws after warm-up",
+                         m->label, m->nchains, n);
             plcol0(C_INK);
             plmtex("t", 1.0, 0.5, 0.5, t);
         }
     }
     plcol0(C_INK);
-    plmtex("b", 3.0, 0.5, 0.5, "step after warm-up");
+    /* weighted draws may be thinned: their index is not the sampler's step */
+    plmtex("b", 3.0, 0.5, 0.5, m->weighted ? "draw after warm-up" : "step after warm-up");
     free(x);
     free(y);
 }
@@ -463,7 +481,10 @@ static void draw_plane(const void *p)
         plcol0(g->k > 1 ? model_colour(g->idx[j]) : C_INK);
         plpoin(1, &bx, &by, 5);
     }
-    char title[160];
+    char title[200];
+    /* weighted draws: the regions hold that much of the weight (among
+     * several runs, the legend says which are weighted) */
+    const char *of = g->k == 1 && m->weighted ? " of the weight" : "";
     plcol0(C_GREY);
     if (w0wa) {
         PLFLT lx[2] = {-1, -1}, ly[2] = {y0, y1}, hx[2] = {x0, x1}, hy[2] = {0, 0};
@@ -475,7 +496,7 @@ static void draw_plane(const void *p)
         plcol0(C_INK);
         plpoin(1, &px, &py, 17);
         plptex(-1, 0, 1, 0, -0.1, "w = -1");
-        snprintf(title, sizeof title, "%s: w#d0#u - w#da#u plane (68%%, 95%%)", m->label);
+        snprintf(title, sizeof title, "%s: w#d0#u - w#da#u plane (68%%, 95%%%s)", m->label, of);
     } else {
         /* flat: Omega_de = 1 - Omega_m; q0 = 0: Omega_de = Omega_m / 2 (q0 = Om/2 - OL,
          * for a cosmological constant; the line is drawn for w = -1) */
@@ -488,11 +509,12 @@ static void draw_plane(const void *p)
         double tx = x0 + 0.75 * (x1 - x0);
         plptex(tx, 1 - tx, 1, -1, 0.5, "flat");
         plptex(tx, tx / 2, 1, 0.5, 0.5, "accelerating above, decelerating below");
-        snprintf(title, sizeof title, "%s: #gW#dm#u - #gW#dDE#u plane (68%%, 95%%)", m->label);
+        snprintf(title, sizeof title, "%s: #gW#dm#u - #gW#dDE#u plane (68%%, 95%%%s)", m->label,
+                 of);
     }
     if (g->k > 1) /* the runs name themselves in the legend */
-        snprintf(title, sizeof title, "%s, %zu runs: %s plane (68%%, 95%%)", m->name, g->k,
-                 w0wa ? "w#d0#u - w#da#u" : "#gW#dm#u - #gW#dDE#u");
+        snprintf(title, sizeof title, "%s, %zu runs: %s plane (68%%, 95%%%s)", m->name, g->k,
+                 w0wa ? "w#d0#u - w#da#u" : "#gW#dm#u - #gW#dDE#u", of);
     plcol0(C_INK);
     plmtex("t", 1.5, 0.5, 0.5, title);
     if (g->k > 1) {

@@ -21,6 +21,7 @@ void lt_run_model_free(lt_run_model *m)
     free(m->best);
     free(m->stats);
     free(m->draws);
+    free(m->weights);
     memset(m, 0, sizeof *m);
 }
 
@@ -38,6 +39,129 @@ static void stats_from(const cJSON *o, lt_post_stats *s, double *best)
     s->lo95 = jnum(o, "lo95"), s->hi95 = jnum(o, "hi95");
     s->hpd68_lo = jnum(o, "hpd68_lo"), s->hpd68_hi = jnum(o, "hpd68_hi");
     s->hpd95_lo = jnum(o, "hpd95_lo"), s->hpd95_hi = jnum(o, "hpd95_hi");
+}
+
+/* The next field of a csv line from *p (cut at the comma), or NULL at its end. */
+static char *next_field(char **p)
+{
+    if (!*p)
+        return NULL;
+    char *f = *p, *c = strchr(f, ',');
+    if (c)
+        *c = '\0', *p = c + 1;
+    else
+        *p = NULL;
+    return f;
+}
+
+/* Check chains.csv's header (line 1) against the summary's names: chain,
+ * step, an optional weight, logpost, chi2, then m's columns in order. A
+ * column read by position from another layout would be silently wrong. */
+static int header_check(const char *path, char *line, const lt_run_model *m, int *weighted,
+                        size_t *nfields, lt_error *err)
+{
+    static const char *fixed[] = {"chain", "step", "logpost", "chi2"};
+    size_t nc = m->nparams + m->nderived, k = 0;
+    *weighted = 0;
+    char *p = line, *f;
+    while ((f = next_field(&p))) {
+        if (k == 2 && !*weighted && !strcmp(f, "weight")) {
+            *weighted = 1;
+            continue;
+        }
+        if (k >= 4 + nc)
+            return lt_error_set(err, LT_EINPUT, path, 1,
+                                "column '%s' is more than the summary's %zu parameters and "
+                                "derived quantities",
+                                f, nc);
+        const char *want = k < 4 ? fixed[k] : m->names[k - 4];
+        if (strcmp(f, want))
+            return lt_error_set(err, LT_EINPUT, path, 1,
+                                "column %zu is '%s' where '%s' was expected (chain,step"
+                                "[,weight],logpost,chi2, then the summary's columns in order)",
+                                k + 1 + (size_t)*weighted, f, want);
+        k++;
+    }
+    if (k < 4 + nc)
+        return lt_error_set(err, LT_EINPUT, path, 1,
+                            "the header ends after %zu columns where '%s' was expected",
+                            k + (size_t)*weighted, k < 4 ? fixed[k] : m->names[k - 4]);
+    *nfields = k + (size_t)*weighted;
+    return LT_OK;
+}
+
+/* chains.csv into m->draws (and m->weights where it has a weight column). */
+static int chains_parse(const char *path, char *text, lt_run_model *m, lt_error *err)
+{
+    size_t nc = m->nparams + m->nderived, nfields = 0, lines = 0;
+    for (char *c = text; *c; c++)
+        lines += *c == '\n';
+    char *line = text, *eol = strchr(line, '\n');
+    if (eol)
+        *eol = '\0';
+    line[strcspn(line, "\r")] = '\0';
+    int weighted;
+    int rc = header_check(path, line, m, &weighted, &nfields, err);
+    if (rc)
+        return rc;
+    m->draws = malloc((lines + 1) * nc * sizeof *m->draws);
+    if (weighted)
+        m->weights = malloc((lines + 1) * sizeof *m->weights);
+    if (!m->draws || (weighted && !m->weights))
+        return lt_error_set(err, LT_ENOMEM, path, 0, "out of memory");
+    m->weighted |= weighted;
+    size_t rows = 0, per_chain = 0;
+    long last_chain = 0, lineno = 1;
+    while (eol) {
+        line = eol + 1, lineno++;
+        if ((eol = strchr(line, '\n')))
+            *eol = '\0';
+        line[strcspn(line, "\r")] = '\0';
+        if (!*line)
+            continue; /* the end of the file, or a blank line */
+        size_t fields = 1;
+        for (char *c = line; *c; c++)
+            fields += *c == ',';
+        if (fields != nfields)
+            return lt_error_set(err, LT_EINPUT, path, lineno,
+                                "%zu fields where the header has %zu", fields, nfields);
+        char *p = line, *end, *cf = next_field(&p);
+        long chain = strtol(cf, &end, 10);
+        if (end == cf || *end)
+            return lt_error_set(err, LT_EINPUT, path, lineno, "the chain is not a whole number");
+        next_field(&p); /* step: thinned draws may skip steps */
+        if (weighted) {
+            char *f = next_field(&p);
+            double w = strtod(f, &end);
+            if (*end || end == f || !isfinite(w) || w < 0)
+                return lt_error_set(err, LT_EINPUT, path, lineno,
+                                    "weight '%s' is not a finite number >= 0", f);
+            m->weights[rows] = w;
+        }
+        next_field(&p); /* logpost */
+        next_field(&p); /* chi2 */
+        /* strtod: a derived quantity may be nan (an age without a big bang) */
+        for (size_t c = 0; c < nc; c++)
+            m->draws[rows * nc + c] = strtod(next_field(&p), NULL);
+        if (chain != last_chain)
+            per_chain = 0, last_chain = chain;
+        per_chain++;
+        rows++;
+    }
+    if (rows == 0 || m->nchains == 0 || rows != m->nchains * per_chain)
+        return lt_error_set(err, LT_EINPUT, path, 0,
+                            "the chains do not match the summary (rows and chains differ)");
+    m->ndraws = per_chain;
+    return LT_OK;
+}
+
+const char *lt_run_model_rhat_text(const lt_run_model *m, char *buf, size_t size)
+{
+    if (isfinite(m->rhat_max))
+        snprintf(buf, size, "%.3g", m->rhat_max);
+    else
+        snprintf(buf, size, "- (%s)", m->weighted ? "importance-weighted draws" : "not recorded");
+    return buf;
 }
 
 int lt_run_model_load(const char *dir, lt_run_model *m, lt_error *err)
@@ -116,6 +240,7 @@ int lt_run_model_load(const char *dir, lt_run_model *m, lt_error *err)
     const cJSON *ev = cJSON_GetObjectItemCaseSensitive(j, "evidence");
     m->ln_z = jnum(ev, "ln_z"), m->ln_z_err = jnum(ev, "ln_z_err");
     m->converged = cJSON_IsTrue(cJSON_GetObjectItemCaseSensitive(j, "converged"));
+    m->weighted = cJSON_IsTrue(cJSON_GetObjectItemCaseSensitive(j, "weighted"));
     const cJSON *cv = cJSON_GetObjectItemCaseSensitive(j, "convergence");
     m->rhat_max = jnum(cv, "rhat_max"), m->ess_min = jnum(cv, "ess_min");
     m->nchains = (size_t)jnum(cv, "chains");
@@ -145,52 +270,41 @@ int lt_run_model_load(const char *dir, lt_run_model *m, lt_error *err)
             return lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
         }
 
-    /* chains.csv: chain,step,logpost,chi2, then the columns above in order */
+    int says_weighted = m->weighted;
     snprintf(path, sizeof path, "%s/chains.csv", dir);
     if ((rc = lt_file_read(path, (size_t)4 << 30, &text, &size, err))) {
         lt_run_model_free(m);
         return rc;
     }
-    size_t lines = 0;
-    for (size_t i = 0; i < size; i++)
-        lines += text[i] == '\n';
-    m->draws = malloc((lines + 1) * nc * sizeof *m->draws);
-    if (!m->draws) {
-        free(text);
-        lt_run_model_free(m);
-        return lt_error_set(err, LT_ENOMEM, path, 0, "out of memory");
-    }
-    char *save = NULL, *line = strtok_r(text, "\n", &save);
-    size_t rows = 0, per_chain = 0;
-    long last_chain = 0;
-    for (line = strtok_r(NULL, "\n", &save); line; line = strtok_r(NULL, "\n", &save)) {
-        char *f = line, *end;
-        long chain = strtol(f, &end, 10);
-        if (*end != ',')
-            break;
-        f = end + 1;
-        strtod(f, &end); /* step */
-        f = end + 1;
-        strtod(f, &end); /* logpost */
-        f = end + 1;
-        strtod(f, &end); /* chi2 */
-        for (size_t c = 0; c < nc; c++) {
-            f = end + 1;
-            m->draws[rows * nc + c] = strtod(f, &end);
-        }
-        if (chain != last_chain)
-            per_chain = 0, last_chain = chain;
-        per_chain++;
-        rows++;
-    }
+    rc = chains_parse(path, text, m, err);
     free(text);
-    if (rows == 0 || m->nchains == 0 || rows != m->nchains * per_chain) {
+    if (!rc && says_weighted && !m->weights)
+        rc = lt_error_set(err, LT_EINPUT, path, 1,
+                          "summary.json says the draws are weighted, but there is no weight "
+                          "column");
+    if (rc)
         lt_run_model_free(m);
-        return lt_error_set(err, LT_EINPUT, path, 0,
-                            "the chains do not match the summary (rows and chains differ)");
+    return rc;
+}
+
+double lt_run_model_histogram(const lt_run_model *m, size_t cx, size_t cy, double x0, double x1,
+                              double y0, double y1, int nx, int ny, double *g)
+{
+    size_t n = m->nchains * m->ndraws, nc = m->nparams + m->nderived;
+    double total = 0;
+    memset(g, 0, (size_t)nx * (size_t)ny * sizeof *g);
+    for (size_t i = 0; i < n; i++) {
+        double x = m->draws[i * nc + cx], y = m->draws[i * nc + cy];
+        int ix = (int)floor((x - x0) / (x1 - x0) * nx);
+        int iy = ny == 1 ? 0 : (int)floor((y - y0) / (y1 - y0) * ny);
+        if (ix >= 0 && ix < nx && iy >= 0 && iy < ny) {
+            /* weighted: the 68% and 95% levels then hold that much of the weight */
+            double w = m->weights ? m->weights[i] : 1.0;
+            g[ix * ny + iy] += w;
+            total += w;
+        }
     }
-    m->ndraws = per_chain;
-    return LT_OK;
+    return total;
 }
 
 int lt_run_model_same_data(const lt_run_model *a, const lt_run_model *b)

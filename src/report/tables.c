@@ -50,7 +50,8 @@ void lt_pdg_round(double value, double minus, double plus, char *v, char *m, cha
         memmove(v, v + 1, strlen(v));
 }
 
-/* Column col of m's draws, gathered (NaN kept: the callers skip it). */
+/* Column col of m's draws, gathered (NaN kept: the callers skip it); its
+ * weights, where it has them, are m->weights as they stand (one per row). */
 static double *draw_column(const lt_run_model *m, size_t col, size_t *n)
 {
     size_t nc = m->nparams + m->nderived;
@@ -71,7 +72,7 @@ lt_quote lt_quote_of(const lt_run_model *m, size_t col)
     double a = m->priors[col].a, b = m->priors[col].b, w = b - a;
     size_t n;
     double *x = draw_column(m, col, &n);
-    if (!x || lt_post_edge_density(x, NULL, n, a, b, &q.edge_lo, &q.edge_hi)) {
+    if (!x || lt_post_edge_density(x, m->weights, n, a, b, &q.edge_lo, &q.edge_hi)) {
         free(x);
         return q;
     }
@@ -84,10 +85,10 @@ lt_quote lt_quote_of(const lt_run_model *m, size_t col)
      * interval cut by the prior. A posterior that fills its prior (both
      * edges) has no limit to give: its interval is quoted and marked. */
     if (q.edges == LT_EDGE_LOWER && s->lo95 - a < 0.02 * w)
-        q = (lt_quote){LT_QUOTE_UPPER, lt_post_quantile(x, NULL, n, 0.95), NAN, NAN, q.edges, q.edge_lo,
+        q = (lt_quote){LT_QUOTE_UPPER, lt_post_quantile(x, m->weights, n, 0.95), NAN, NAN, q.edges, q.edge_lo,
                        q.edge_hi};
     else if (q.edges == LT_EDGE_UPPER && b - s->hi95 < 0.02 * w)
-        q = (lt_quote){LT_QUOTE_LOWER, lt_post_quantile(x, NULL, n, 0.05), NAN, NAN, q.edges, q.edge_lo,
+        q = (lt_quote){LT_QUOTE_LOWER, lt_post_quantile(x, m->weights, n, 0.05), NAN, NAN, q.edges, q.edge_lo,
                        q.edge_hi};
     free(x);
     return q;
@@ -302,11 +303,21 @@ int lt_report_write_tables(const char *dir, const lt_run_model *models, size_t n
               "sets part of this interval.\n",
               f);
     for (size_t i = 0; i < n; i++)
-        if (!models[i].converged)
+        if (!models[i].converged) {
+            char rhat[64];
             fprintf(f, "\n‡ %s did not converge: its sampler stopped at the step cap with worst "
-                       "R-hat %.3g and smallest ESS %.0f; its numbers are provisional (sample "
+                       "R-hat %s and smallest ESS %.0f; its numbers are provisional (sample "
                        "longer: a larger max_steps).\n",
-                    models[i].label, models[i].rhat_max, models[i].ess_min);
+                    models[i].label, lt_run_model_rhat_text(&models[i], rhat, sizeof rhat),
+                    models[i].ess_min);
+        }
+    /* said of every weighted model, converged or not: its quotes come from
+     * weighted draws and its ESS is not the chains' */
+    for (size_t i = 0; i < n; i++)
+        if (models[i].weighted)
+            fprintf(f, "\n%s: importance-weighted draws (effective sample size %.0f); its "
+                       "values are weighted quantiles.\n",
+                    models[i].label, models[i].ess_min);
     if (t.any_other_data) {
         fprintf(f, "\nAIC, BIC and ln B differences compare models fitted to the same data, "
                    "here that of %s (%zu objects, %s); they are left blank for",
@@ -368,6 +379,11 @@ int lt_report_write_tables(const char *dir, const lt_run_model *models, size_t n
         if (!models[i].converged)
             fprintf(f, "\\multicolumn{%zu}{l}{\\footnotesize $^\\ddagger$ %s: not converged "
                        "(step cap reached; smallest ESS %.0f)} \\\\\n",
+                    n + 1, tex_model(models[i].name), models[i].ess_min);
+    for (size_t i = 0; i < n; i++)
+        if (models[i].weighted)
+            fprintf(f, "\\multicolumn{%zu}{l}{\\footnotesize %s: importance-weighted draws "
+                       "(effective sample size %.0f)} \\\\\n",
                     n + 1, tex_model(models[i].name), models[i].ess_min);
     if (t.any_other_data)
         fprintf(f, "\\multicolumn{%zu}{l}{\\footnotesize blank $\\Delta$: fitted to other data "
