@@ -32,6 +32,12 @@ static void usage(FILE *f)
           "parameter needs rank-normalised split R-hat - 1 < 0.01 and bulk and tail ESS\n"
           "of at least --target-ess (Vehtari et al. 2021). The same seed gives the same\n"
           "chains with any number of threads and after a resume.\n"
+          "\n"
+          "After sampling, some kept draws are evaluated by the exact likelihood: where\n"
+          "the compressed one is off by more than 1e-3 in chi2 there, it gets more knots\n"
+          "and the chains are drawn again; where more knots do not help, a thinned set of\n"
+          "the draws is weighted by exp(-delta chi2 / 2) from the exact likelihood (a\n"
+          "'weight' column in the chain files, R-hat null, an importance-sampling ESS).\n"
           "\n",
           f);
     fputs(cli_data_help, f);
