@@ -43,7 +43,7 @@ typedef struct lt_campaign_data {
 /* A prior or fixed value as written, applied to every model that has the
  * parameter. */
 typedef struct lt_campaign_kv {
-    int id;                   /* LT_P_* or LT_PAR_OFFSET */
+    char name[LT_NAME_MAX];   /* the parameter */
     int prior;                /* 1 prior, 0 fixed */
     lt_prior p;
     double value;
@@ -60,7 +60,7 @@ typedef struct lt_campaign {
     lt_method methods[LT_NMETHODS];
     lt_offset_mode offset;
     size_t nkv;
-    lt_campaign_kv kv[2 * LT_NPAR];
+    lt_campaign_kv kv[LT_MAX_PARAMS];
     unsigned long seed;       /* the samplers' base seed */
     long starts;              /* fit: optimiser starts */
     long chains, warmup, check_every, max_steps; /* sample */
@@ -193,12 +193,12 @@ double lt_binomial_test(size_t k, size_t n, double p);
  */
 typedef struct lt_forecast {
     size_t dim, n_data;
-    int id[LT_NPAR];
-    double fiducial[LT_NPAR];
-    double fisher[LT_NPAR * LT_NPAR];
-    double cov[LT_NPAR * LT_NPAR];   /* F^-1 */
-    double sd[LT_NPAR];              /* marginal: sqrt of cov's diagonal */
-    double sd_cond[LT_NPAR];         /* the others fixed: 1/sqrt(F_ii) */
+    char names[LT_MAX_FREE][LT_NAME_MAX]; /* by free position */
+    double fiducial[LT_MAX_FREE];
+    double fisher[LT_MAX_FREE * LT_MAX_FREE];
+    double cov[LT_MAX_FREE * LT_MAX_FREE]; /* F^-1 */
+    double sd[LT_MAX_FREE];          /* marginal: sqrt of cov's diagonal */
+    double sd_cond[LT_MAX_FREE];     /* the others fixed: 1/sqrt(F_ii) */
     int has_w0wa;
     double fom;                      /* 1/sqrt(det Cov(w0, wa)) */
     double z_pivot, w_pivot_sd;

@@ -305,8 +305,6 @@ typedef struct lt_like_nested {
     double norm; /* lt_like_lognorm */
 } lt_like_nested;
 double lt_like_nested_loglike(const double *theta, void *ctx);
-/* -ln det(2 pi C)/2 for l's survey. */
-double lt_like_lognorm(const lt_like *l);
 
 /* ---------------------------------------------------------------------- */
 /* Best fit of a likelihood                                                */
@@ -321,11 +319,10 @@ typedef struct lt_fit_opts {
 } lt_fit_opts;
 
 typedef struct lt_fit_result {
-    size_t dim;
-    int id[LT_NPAR];
-    double best[LT_NPAR];
-    double sd[LT_NPAR];               /* Laplace sigma; NaN without one */
-    double cov[LT_NPAR * LT_NPAR];    /* Laplace covariance */
+    size_t dim;                       /* arrays by free position (lt_like_param_name) */
+    double best[LT_MAX_FREE];
+    double sd[LT_MAX_FREE];           /* Laplace sigma; NaN without one */
+    double cov[LT_MAX_FREE * LT_MAX_FREE]; /* Laplace covariance */
     int laplace_ok;
     char laplace_note[LT_ERROR_MSG_MAX]; /* why not, if not */
     lt_like_point at_best;

@@ -24,19 +24,48 @@
  *
  * The evaluation allocates nothing: each thread owns an lt_like_work.
  */
+/*
+ * lantern/likelihood.h - parameters by name, priors, and the likelihood as
+ * a sum of terms.
+ *
+ * A likelihood joins a cosmological model and terms, each bringing its
+ * own data and perhaps parameters of its own:
+ *   - supernovae: a survey, whose model prediction is
+ *         mu_i = 5 log10( (1 + zhel_i) D_M(z_i) / 10 pc )  [+ offset]
+ *     and chi2 = r^T C^-1 r with r = observed - predicted, using the
+ *     survey's factored covariance; for dl data, r = dl_observed - (1 + zhel) D_M;
+ *   - measurements: a Gaussian measurement of any parameter or derived
+ *     quantity, chi2 = ((x - mean) / sd)^2.
+ * chi2 and the log-likelihood are the sums over the terms.
+ *
+ * Parameters live in a table built at set-up: the model's cosmological
+ * parameters and every term's own, each with a name, a LaTeX label, a
+ * unit, a prior, and free or fixed. Everything addresses them by name;
+ * arrays of values are indexed by free-parameter position (0 .. dim - 1,
+ * in the table's order: the cosmological ones in the model's order, then
+ * the terms').
+ *
+ * The supernova offset (the absolute magnitude M of mag = mu + M) can be
+ *   - marginal: integrated out analytically with a flat prior (Goliath et
+ *     al. 2001, A&A 380, 6; Conley et al. 2011, ApJS 192, 1, appendix C):
+ *         chi2_marg = A - B^2/C + ln(C / 2 pi),
+ *     A = r^T C^-1 r, B = 1^T C^-1 r, C = 1^T C^-1 1 with r = observed - mu.
+ *     The reported chi2 is A - B^2/C (chi2 at the best offset B/C); the
+ *     ln(C/2pi) term is a constant of the data, kept so that ln Z is that
+ *     of a flat offset prior of unit width (1 mag). h0 is then degenerate
+ *     with the offset and held at its fixed value (70 unless fixed
+ *     otherwise) unless another term depends on h0.
+ *   - sampled: a parameter like any other, with a prior (for example an H0
+ *     calibration); h0 is then free.
+ *   - none: no offset (the default for mu and dl data); h0 is free.
+ *
+ * The evaluation allocates nothing: each thread owns an lt_like_work.
+ */
 #ifndef LANTERN_LIKELIHOOD_H
 #define LANTERN_LIKELIHOOD_H
 
 #include "lantern/cosmology.h"
 #include "lantern/survey.h"
-
-/* Parameter ids: the cosmology's (LT_P_*) and the offset. */
-#define LT_PAR_OFFSET LT_P_COUNT
-#define LT_NPAR (LT_P_COUNT + 1)
-
-/* "h0", ..., "n_eff", "offset"; and back (-1 if unknown). */
-const char *lt_par_name(int id);
-int lt_par_find(const char *name);
 
 typedef enum { LT_PRIOR_UNIFORM = 0, LT_PRIOR_GAUSS } lt_prior_kind;
 
@@ -52,56 +81,130 @@ double lt_prior_logpdf(const lt_prior *p, double x);
 /* Print "U(0, 1)" or "N(-19.3, 0.1)" into buf. */
 void lt_prior_format(const lt_prior *p, char *buf, size_t size);
 
+/* ---- parameters ---- */
+
+#define LT_NAME_MAX 32   /* a parameter's name, with its terminating NUL */
+#define LT_MAX_PARAMS 32 /* parameters of one likelihood, free and fixed */
+#define LT_MAX_FREE 24   /* free parameters of one likelihood: the length of
+                          * arrays indexed by free-parameter position */
+
+typedef struct lt_param {
+    char name[LT_NAME_MAX]; /* "omega_m", "offset" */
+    const char *label;      /* LaTeX, without $: "\\Omega_m" */
+    const char *unit;       /* "" (none), "km/s/Mpc", "mag", "K" */
+    lt_prior prior;         /* of a free parameter */
+    int free;
+    double value;           /* of a fixed parameter */
+} lt_param;
+
+/* Whether name is a parameter some model or term can have: the
+ * cosmological ones and offset. */
+int lt_param_known(const char *name);
+/* Whether a likelihood of model m can have parameter name: offset always
+ * (where the data need one); omega_de not in a flat model, where it is
+ * derived; the model's cosmological parameters. */
+int lt_param_of_model(const lt_cosmo_model *m, const char *name);
+/* The names lt_param_known accepts, for messages: "h0, omega_m, ...". */
+const char *lt_param_known_list(void);
+/* The default prior of a parameter for an observable (DESIGN.md):
+ * omega_m U(0,1), omega_de U(0,1.6), w0 U(-2,0), wa U(-3,2), h0 U(40,100),
+ * offset U(-21,-17) for mag data and U(-2,2) otherwise; U(0, 0) for a name
+ * without one. */
+lt_prior lt_param_default_prior(const char *name, lt_obs kind);
+
 typedef enum { LT_OFFSET_DEFAULT = -1, LT_OFFSET_NONE = 0, LT_OFFSET_MARGINAL,
                LT_OFFSET_SAMPLED } lt_offset_mode;
 const char *lt_offset_name(lt_offset_mode m); /* "none", "marginal", "sampled" */
 /* "none", "marginal" or "sampled"; -1 if none of them. */
 int lt_offset_parse(const char *text);
 
-/* What the user asked for. Start with lt_like_spec_init. */
+/* ---- what the user asked for ---- */
+
+/* A prior on a parameter, or its fixed value, by name. */
+typedef struct lt_param_setting {
+    char name[LT_NAME_MAX];
+    int fixed;
+    lt_prior prior; /* unless fixed */
+    double value;   /* if fixed */
+} lt_param_setting;
+
+/* A Gaussian measurement of a parameter or derived quantity by name. */
+typedef struct lt_measurement {
+    char name[LT_NAME_MAX];
+    double mean, sd;
+} lt_measurement;
+
+#define LT_MAX_MEASUREMENTS 16
+
+/* Start with lt_like_spec_init; a plain value (copies are independent). */
 typedef struct lt_like_spec {
     const lt_cosmo_model *model;
     lt_offset_mode offset;      /* LT_OFFSET_DEFAULT: marginal for mag, else none */
-    int has_prior[LT_NPAR];
-    lt_prior prior[LT_NPAR];
-    int has_fix[LT_NPAR];
-    double fix[LT_NPAR];
     int exact; /* 1: always the exact N-object path (the compressed one is the default
                 * for mu and mag data) */
+    size_t nsettings;
+    lt_param_setting settings[LT_MAX_PARAMS];
+    size_t nmeasurements;
+    lt_measurement measurements[LT_MAX_MEASUREMENTS];
 } lt_like_spec;
 
 void lt_like_spec_init(lt_like_spec *s, const lt_cosmo_model *m);
-/* The default prior of a parameter for an observable (DESIGN.md):
- * omega_m U(0,1), omega_de U(0,1.6), w0 U(-2,0), wa U(-3,2), h0 U(40,100),
- * offset U(-21,-17) for mag data and U(-2,2) otherwise. */
-lt_prior lt_prior_default(int id, lt_obs kind);
+/* A prior on name, or its fixed value, replacing any earlier setting of
+ * name. LT_EINPUT for a name too long or a full list. Whether the
+ * likelihood has that parameter is checked by lt_like_alloc. */
+int lt_like_spec_prior(lt_like_spec *s, const char *name, lt_prior p, lt_error *err);
+int lt_like_spec_fix(lt_like_spec *s, const char *name, double value, lt_error *err);
+/* The setting of name, or NULL. */
+const lt_param_setting *lt_like_spec_setting(const lt_like_spec *s, const char *name);
+/* Add a measurement name = mean +- sd (sd > 0). LT_EINPUT for a bad sd, a
+ * name too long or a full list. */
+int lt_like_spec_measure(lt_like_spec *s, const char *name, double mean, double sd,
+                         lt_error *err);
 
 typedef struct lt_like lt_like;
 typedef struct lt_like_work lt_like_work;
 
 /*
- * Join survey s (which must outlive the likelihood) and spec. Fails with
- * LT_EINPUT for a prior or fix on a parameter the model lacks, a derived
- * parameter, both a prior and a fix on one parameter, impossible bounds,
- * an offset with dl data, or h0 free against a marginalised offset.
+ * Join survey s (NULL: no supernovae; it must outlive the likelihood) and
+ * spec's terms. Fails with LT_EINPUT for a prior or fix on a parameter the
+ * likelihood lacks, a derived parameter, impossible bounds, an offset with
+ * dl data, h0 given a prior while only a marginalised offset depends on it,
+ * a measurement of an unknown quantity, or no term at all.
  */
 lt_like *lt_like_alloc(const lt_survey *s, const lt_like_spec *spec, lt_error *err);
 void lt_like_free(lt_like *l);
 
 size_t lt_like_dim(const lt_like *l);
-int lt_like_param_id(const lt_like *l, size_t i);   /* LT_P_* or LT_PAR_OFFSET */
+/* Free parameter i (0 <= i < dim): its name, label, unit and prior. */
+const lt_param *lt_like_param(const lt_like *l, size_t i);
+const char *lt_like_param_name(const lt_like *l, size_t i);
 const lt_prior *lt_like_prior(const lt_like *l, size_t i);
+/* The free position of the parameter called name, or -1. */
+int lt_like_param_index(const lt_like *l, const char *name);
+/* The fixed parameters, in the table's order (value holds each). */
+size_t lt_like_nfixed(const lt_like *l);
+const lt_param *lt_like_fixed(const lt_like *l, size_t k);
 lt_offset_mode lt_like_offset_mode(const lt_like *l);
+/* The supernova survey, or NULL when there is no supernova term. */
 const lt_survey *lt_like_survey(const lt_like *l);
 const lt_cosmo_model *lt_like_model(const lt_like *l);
 /* Parameters other than the free ones: fixed values and defaults. */
 const lt_cosmo_params *lt_like_base(const lt_like *l);
 /* Is h0 known (free or fixed by the user), so that an age means something? */
 int lt_like_h0_known(const lt_like *l);
-/* Degrees of freedom: N - free parameters - 1 for a marginalised offset. */
+/* Data points over all terms: the survey's objects and one a measurement. */
+size_t lt_like_ndata(const lt_like *l);
+/* Degrees of freedom: data points - free parameters - 1 for a marginalised offset. */
 long lt_like_dof(const lt_like *l);
 /* Parameters counted by information criteria: free + marginalised offset. */
 size_t lt_like_nparams_counted(const lt_like *l);
+/* The measurements, in the order given. */
+size_t lt_like_nmeasurements(const lt_like *l);
+const lt_measurement *lt_like_measurement(const lt_like *l, size_t k);
+/* ln of the likelihood's normalisation, summed over the terms:
+ * -(N ln 2 pi + ln det C) / 2 for a survey, -ln(2 pi sd^2) / 2 a
+ * measurement; what turns exp(-chi2_eff / 2) into a density (ln Z). */
+double lt_like_lognorm(const lt_like *l);
 
 lt_like_work *lt_like_work_alloc(const lt_like *l);
 void lt_like_work_free(lt_like_work *w);
@@ -116,8 +219,8 @@ typedef struct lt_like_point {
     int domain_ok;   /* 0 if the parameters are unphysical for the data */
 } lt_like_point;
 
-/* Evaluate at theta (lt_like_dim values, in lt_like_param_id order), by the
- * compressed path where it is set up, else the exact one. */
+/* Evaluate at theta (lt_like_dim values, in free-parameter order), by the
+ * supernova term's compressed path where it is set up, else the exact one. */
 void lt_like_eval(const lt_like *l, lt_like_work *w, const double *theta, lt_like_point *out);
 /* The exact path always: residuals of every object against C. */
 void lt_like_eval_exact(const lt_like *l, lt_like_work *w, const double *theta, lt_like_point *out);
@@ -185,12 +288,51 @@ int lt_like_predict(const lt_like *l, lt_like_work *w, const double *theta, doub
 /* ---- derived parameters ---- */
 enum { LT_DER_OMEGA_K = 0, LT_DER_OMEGA_DE, LT_DER_Q0, LT_DER_Z_T, LT_DER_AGE, LT_NDER };
 const char *lt_derived_name(int d); /* "omega_k", "omega_de", "q0", "z_t", "age_gyr" */
+int lt_derived_find(const char *name); /* LT_DER_*, or -1 */
 /* Which derived parameters l reports: omega_k (curved) or omega_de (flat),
  * q0, z_t, and age_gyr when h0 is known. */
 int lt_like_has_derived(const lt_like *l, int d);
 /* The value at theta (NaN where undefined: z_t with no acceleration, an
  * age with no big bang). */
 double lt_like_derived(const lt_like *l, const double *theta, int d);
+
+/* The value of derived quantity d for cosmology c (as lt_like_derived). */
+double lt_derived_of(const lt_cosmo *c, int d);
+
+/* ---- terms ---- */
+
+/*
+ * A term of the likelihood, as a table of functions in the manner of GSL's
+ * gsl_rng_type: set up once from its configuration, a work space per
+ * thread, and an evaluation that adds its chi2 and allocates nothing.
+ * The built-in terms are the supernova survey and the measurements; the
+ * likelihood makes them from lt_like_alloc's survey and spec.
+ */
+typedef struct lt_term_in {
+    const lt_cosmo *cosmo;  /* at the parameters */
+    const double *values;   /* every table entry's value, free or fixed */
+    int exact;              /* the exact path where a term has a faster one */
+} lt_term_in;
+
+typedef struct lt_term_out {
+    double chi2;     /* the term's chi2 (at the best offset when marginalised) */
+    double chi2_eff; /* what enters the likelihood: chi2 plus any marginalisation term */
+    double offset;   /* the supernova offset, best or sampled; else untouched */
+} lt_term_out;
+
+typedef struct lt_term_type {
+    const char *name;
+    /* Set up from config with the parameter table final (lt_like_param
+     * etc. work on l); NULL and err on failure. */
+    void *(*setup)(const void *config, const lt_like *l, lt_error *err);
+    void *(*work_alloc)(const void *state);
+    void (*work_free)(void *work);
+    /* Add nothing anywhere: fill out; return -1 outside the term's domain. */
+    int (*eval)(const void *state, void *work, const lt_term_in *in, lt_term_out *out);
+    size_t (*ndata)(const void *state);
+    double (*lognorm)(const void *state);
+    void (*free)(void *state);
+} lt_term_type;
 
 /*
  * The pivot of w0-wa: the scale factor a_p at which w_p = w0 + wa (1 - a_p)

@@ -113,14 +113,14 @@ typedef struct lt_sample_result {
     char **cols;             /* names: logpost, chi2, params..., derived... */
     size_t first_param, nparams, first_derived, nderived;
     double *rows;            /* nchains * ndraws rows of ncols, chain after chain */
-    double best[LT_NPAR];    /* the best draw, polished by the optimiser */
+    double best[LT_MAX_FREE];    /* the best draw, polished by the optimiser */
     lt_like_point at_best;
     double best_derived[LT_NDER + 2];
     double z_pivot;          /* NaN unless w0-wa */
     lt_post_stats *stats;    /* per column from first_param on */
     double *cov;             /* nparams x nparams posterior covariance */
     int converged;
-    double edge_lo[LT_NPAR], edge_hi[LT_NPAR]; /* lt_post_edge_density of each
+    double edge_lo[LT_MAX_FREE], edge_hi[LT_MAX_FREE]; /* lt_post_edge_density of each
                                                 * parameter with a uniform prior, else NaN */
     const lt_mcmc_diag *diag; /* of the chains as sampled (every draw, no weights) */
     size_t warmup, steps;
@@ -129,7 +129,7 @@ typedef struct lt_sample_result {
      * draws are unweighted */
     double *weights;          /* nchains * ndraws, mean 1; 0 outside the exact domain */
     size_t thin;              /* rows are every thin-th draw of each chain (1: all) */
-    double ess_weighted[LT_NPAR]; /* lt_diag_ess_weighted, smallest of mean, 5% and 95% */
+    double ess_weighted[LT_MAX_FREE]; /* lt_diag_ess_weighted, smallest of mean, 5% and 95% */
     double ess_min_weighted;  /* the smallest of those */
     double kish_ess;          /* (sum w)^2 / sum w^2 */
     double max_abs_dchi2;     /* largest |chi2_compressed - chi2_exact| of the rows */
@@ -278,6 +278,10 @@ int lt_report_write_figures(const char *dir, const lt_run_model *models, size_t 
  * returns the warnings array for the caller to extend. */
 struct cJSON *lt_report_add_data(struct cJSON *o, const lt_survey_spec *data,
                                  const lt_survey *s);
+
+/* Add "fixed" (every parameter of l that is not free, with its value) and,
+ * where l has measurements, "measurements" ([{name, mean, sd}]) to o. */
+void lt_report_add_fixed(struct cJSON *o, const lt_like *l);
 
 /* Write a JSON object to path atomically (pretty-printed). */
 int lt_report_write_json(const char *path, const struct cJSON *o, lt_error *err);

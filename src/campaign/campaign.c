@@ -141,18 +141,18 @@ int campaign_read_kv(lt_ini *ini, lt_campaign_kv *list, size_t *nlist, int prior
         if (strcmp(e->section, section))
             continue;
         e->used = 1;
-        int id = lt_par_find(e->key);
-        if (id < 0)
+        if (!lt_param_known(e->key))
             return lt_error_set(err, LT_EINPUT, ini->path, e->line,
-                                "unknown parameter '%s' (h0, omega_m, omega_de, w0, wa, t_cmb, "
-                                "n_eff, offset)",
-                                e->key);
+                                "unknown parameter '%s' (%s)", e->key, lt_param_known_list());
+        if (*nlist == LT_MAX_PARAMS)
+            return lt_error_set(err, LT_EINPUT, ini->path, e->line, "too many parameters");
         for (size_t k = 0; k < *nlist; k++)
-            if (list[k].id == id)
+            if (!strcmp(list[k].name, e->key))
                 return lt_error_set(err, LT_EINPUT, ini->path, e->line,
                                     "%s has both a prior and a fixed value; give one", e->key);
         lt_campaign_kv *kv = &list[*nlist];
-        kv->id = id, kv->prior = prior;
+        snprintf(kv->name, sizeof kv->name, "%s", e->key);
+        kv->prior = prior;
         if (prior ? lt_prior_parse(e->value, &kv->p, err) != LT_OK
                   : lt_parse_double(e->value, &kv->value) != LT_OK) {
             if (!prior)

@@ -12,7 +12,7 @@ int lt_forecast_read(const char *path, lt_scenario *sc, lt_like_spec *spec, lt_e
     lt_ini *ini = lt_ini_read(path, err);
     if (!ini)
         return err->code;
-    lt_campaign_kv kv[2 * LT_NPAR];
+    lt_campaign_kv kv[LT_MAX_PARAMS];
     size_t nkv = 0;
     const char *model = NULL;
     lt_offset_mode offset = LT_OFFSET_DEFAULT;
@@ -53,7 +53,7 @@ done:
 typedef struct {
     const lt_like *l;
     lt_like_work *w;
-    double x[LT_NPAR];
+    double x[LT_MAX_FREE];
     size_t dim;
     int bad; /* a step left the physical domain */
 } fisher_ctx;
@@ -61,7 +61,7 @@ typedef struct {
 /* chi2_eff at x0 + a e_i + b e_j (the likelihood alone: no prior). */
 static double chi2_at(fisher_ctx *c, size_t i, double a, size_t j, double b)
 {
-    double x[LT_NPAR];
+    double x[LT_MAX_FREE];
     memcpy(x, c->x, c->dim * sizeof *x);
     x[i] += a;
     x[j] += b;
@@ -123,10 +123,10 @@ int lt_forecast_run(const lt_scenario *sc, const lt_like_spec *spec, lt_forecast
     if (!lt_like_compression(l, &f->K, &dchi2))
         f->K = 0;
     fisher_ctx c = {l, w, {0}, d, 0};
-    double h[LT_NPAR], H[LT_NPAR * LT_NPAR];
+    double h[LT_MAX_FREE], H[LT_MAX_FREE * LT_MAX_FREE];
     for (size_t i = 0; i < d; i++) {
-        f->id[i] = lt_like_param_id(l, i);
-        f->fiducial[i] = c.x[i] = campaign_truth(sc, f->id[i]);
+        snprintf(f->names[i], sizeof f->names[i], "%s", lt_like_param_name(l, i));
+        f->fiducial[i] = c.x[i] = campaign_truth(sc, f->names[i]);
         const lt_prior *p = lt_like_prior(l, i);
         h[i] = 1e-4 * (p->kind == LT_PRIOR_UNIFORM ? p->b - p->a : 4 * p->b);
     }
@@ -143,12 +143,12 @@ int lt_forecast_run(const lt_scenario *sc, const lt_like_spec *spec, lt_forecast
             rc = lt_error_set(err, LT_ENUMERIC, sc->path, 0,
                               "the data do not constrain %s at the fiducial (zero curvature): "
                               "fix it or give it a Gaussian prior",
-                              lt_par_name(f->id[i]));
+                              f->names[i]);
             goto done;
         }
         h[i] = 0.2 * sqrt(2 / H[i * d + i]);
     }
-    double H2[LT_NPAR * LT_NPAR];
+    double H2[LT_MAX_FREE * LT_MAX_FREE];
     if (!c.bad) {
         hessian(&c, h, H);
         for (size_t i = 0; i < d; i++)
@@ -179,12 +179,9 @@ int lt_forecast_run(const lt_scenario *sc, const lt_like_spec *spec, lt_forecast
                           "this design; fix one or give it a Gaussian prior");
         goto done;
     }
-    int iw0 = -1, iwa = -1;
-    for (size_t i = 0; i < d; i++) {
+    int iw0 = lt_like_param_index(l, "w0"), iwa = lt_like_param_index(l, "wa");
+    for (size_t i = 0; i < d; i++)
         f->sd[i] = sqrt(f->cov[i * d + i]);
-        iw0 = f->id[i] == LT_P_W0 ? (int)i : iw0;
-        iwa = f->id[i] == LT_P_WA ? (int)i : iwa;
-    }
     f->fom = f->z_pivot = f->w_pivot_sd = NAN;
     if (iw0 >= 0 && iwa >= 0) {
         double a = f->cov[iw0 * d + iw0], b = f->cov[iw0 * d + iwa], cc = f->cov[iwa * d + iwa];

@@ -14,6 +14,6 @@ void campaign_like_spec(const lt_cosmo_model *m, lt_offset_mode offset,
 
 /* The true value of parameter id in scenario sc (the offset: M for mag
  * data, none otherwise). */
-double campaign_truth(const lt_scenario *sc, int id);
+double campaign_truth(const lt_scenario *sc, const char *name);
 
 #endif

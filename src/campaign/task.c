@@ -18,28 +18,19 @@ typedef struct {
     double estimate, sd, lo68, hi68, lo95, hi95;
 } task_param;
 
-/* Does model m take parameter id (the offset: where the data need one)? */
-static int model_has(const lt_cosmo_model *m, int id)
-{
-    if (id == LT_PAR_OFFSET)
-        return 1;
-    if (id == LT_P_OMEGA_DE && m->flat)
-        return 0;
-    return lt_cosmo_model_uses(m, id);
-}
-
 void campaign_like_spec(const lt_cosmo_model *m, lt_offset_mode offset,
                         const lt_campaign_kv *kv, size_t nkv, lt_like_spec *spec)
 {
     lt_like_spec_init(spec, m);
     spec->offset = offset;
     for (size_t i = 0; i < nkv; i++) {
-        if (!model_has(m, kv[i].id))
+        if (!lt_param_of_model(m, kv[i].name))
             continue;
+        /* names were checked on reading and the list fits: no error here */
         if (kv[i].prior)
-            spec->has_prior[kv[i].id] = 1, spec->prior[kv[i].id] = kv[i].p;
+            lt_like_spec_prior(spec, kv[i].name, kv[i].p, NULL);
         else
-            spec->has_fix[kv[i].id] = 1, spec->fix[kv[i].id] = kv[i].value;
+            lt_like_spec_fix(spec, kv[i].name, kv[i].value, NULL);
     }
 }
 
@@ -101,7 +92,7 @@ static int run_sample(const lt_like *l, const lt_campaign *c, const lt_campaign_
     lt_fit_result fr;
     if ((rc = lt_fit_run(l, &fo, &fr, err)))
         goto done;
-    double scale[LT_NPAR];
+    double scale[LT_MAX_FREE];
     for (size_t i = 0; i < d; i++) {
         const lt_prior *pr = lt_like_prior(l, i);
         scale[i] = pr->kind == LT_PRIOR_UNIFORM ? pr->b - pr->a : 4 * pr->b;
@@ -232,12 +223,13 @@ cJSON *lt_campaign_task_failed(const lt_campaign *c, size_t index, const lt_erro
     return o;
 }
 
-double campaign_truth(const lt_scenario *sc, int id)
+double campaign_truth(const lt_scenario *sc, const char *name)
 {
-    if (id == LT_PAR_OFFSET)
+    if (!strcmp(name, "offset"))
         return sc->kind == LT_OBS_MAG ? sc->offset : 0.0;
     lt_cosmo_params p = sc->params;
-    return *lt_cosmo_params_slot(&p, id);
+    int id = lt_cosmo_param_find(name);
+    return id >= 0 ? *lt_cosmo_params_slot(&p, id) : NAN;
 }
 
 int lt_campaign_task_run(const lt_campaign *c, size_t index, int threads,
@@ -286,7 +278,7 @@ int lt_campaign_task_run(const lt_campaign *c, size_t index, int threads,
     cJSON_AddStringToObject(o, "status", "ok");
     cJSON_AddItemToObject(o, "n_data", num((double)s->n));
     cJSON_AddItemToObject(o, "dof", num((double)lt_like_dof(l)));
-    task_param p[LT_NPAR];
+    task_param p[LT_MAX_FREE];
     rc = t.method == LT_METHOD_FIT      ? run_fit(l, c, &t, p, o, err)
          : t.method == LT_METHOD_SAMPLE ? run_sample(l, c, &t, threads, stop, p, o, err)
                                         : run_nested(l, c, &t, threads, stop, p, o, err);
@@ -294,10 +286,10 @@ int lt_campaign_task_run(const lt_campaign *c, size_t index, int threads,
         goto done;
     cJSON *params = cJSON_AddObjectToObject(o, "params");
     for (size_t i = 0; i < dim; i++) {
-        int id = lt_like_param_id(l, i);
-        cJSON *q = cJSON_AddObjectToObject(params, lt_par_name(id));
+        const char *name = lt_like_param_name(l, i);
+        cJSON *q = cJSON_AddObjectToObject(params, name);
         if (d->simulated)
-            cJSON_AddItemToObject(q, "truth", num(campaign_truth(&d->scenario, id)));
+            cJSON_AddItemToObject(q, "truth", num(campaign_truth(&d->scenario, name)));
         cJSON_AddItemToObject(q, "estimate", num(p[i].estimate));
         cJSON_AddItemToObject(q, "sd", num(p[i].sd));
         cJSON_AddItemToObject(q, "lo68", num(p[i].lo68));

@@ -86,8 +86,8 @@ typedef struct cli_job {
     lt_survey_spec data;
     int cov_from_flags;
     const char *model, *offset;
-    cli_kv priors[CLI_MAX_PAR], fixes[CLI_MAX_PAR];
-    size_t npriors, nfixes;
+    cli_kv priors[CLI_MAX_PAR], fixes[CLI_MAX_PAR], measures[CLI_MAX_PAR];
+    size_t npriors, nfixes, nmeasures;
     unsigned long seed;
     long starts;
     const char *out, *format;
@@ -115,7 +115,7 @@ int cli_sample_model(cli_job *j, lt_like *l, const lt_like_spec *spec, const cha
                      int resume, int print, cli_format format);
 /* If the current argument is a DATA, MODEL or output option, take it. */
 int cli_take_job(cli_args *a, cli_job *j);
-/* The likelihood spec for model m from j's priors, fixes and offset;
+/* The likelihood spec for model m from j's priors, fixes, measurements and offset;
  * prints any error and returns the exit status. */
 int cli_job_like_spec(const cli_job *j, const lt_cosmo_model *m, lt_like_spec *spec);
 /* The model of j (required) and its likelihood spec; prints any error and

@@ -104,7 +104,7 @@ int cli_bench(int argc, char **argv)
     }
     size_t d = lt_like_dim(l);
     enum { NP = 200 };
-    static double pts[NP][LT_NPAR];
+    static double pts[NP][LT_MAX_FREE];
     lt_rng r;
     lt_rng_seed(&r, j.seed, 7);
     for (int k = 0; k < NP; k++)

@@ -455,13 +455,13 @@ static int write_figures(const char *dir, const cJSON *summary, lt_error *err)
     const cJSON *g;
     cJSON_ArrayForEach(g, cJSON_GetObjectItemCaseSensitive(summary, "bias"))
     {
-        lt_bias_panel panels[LT_NPAR];
-        double *pulls[LT_NPAR];
+        lt_bias_panel panels[LT_MAX_FREE];
+        double *pulls[LT_MAX_FREE];
         size_t np = 0;
         const cJSON *p;
         cJSON_ArrayForEach(p, cJSON_GetObjectItemCaseSensitive(g, "params"))
         {
-            if (np == LT_NPAR)
+            if (np == LT_MAX_FREE)
                 break;
             const cJSON *pl = cJSON_GetObjectItemCaseSensitive(p, "pulls"), *x;
             const cJSON *c68 = cJSON_GetObjectItemCaseSensitive(p, "coverage68");

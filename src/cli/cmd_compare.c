@@ -77,7 +77,7 @@ typedef struct {
     lt_like *l;
     lt_fit_result fit;
     lt_nested_result nr;
-    double mean[LT_NPAR], sd[LT_NPAR];
+    double mean[LT_MAX_FREE], sd[LT_MAX_FREE];
     double dic, p_d;
     char warning[512];
     char dic_warning[256];
@@ -135,7 +135,7 @@ static void posterior(model_run *mr, double norm)
         if (lt_post_edge_density(col, wt, n, p->a, p->b, &lo, &hi))
             continue;
         char note[256];
-        if (lt_post_edge_note(lt_par_name(lt_like_param_id(mr->l, i)), p, lo, hi, note,
+        if (lt_post_edge_note(lt_like_param_name(mr->l, i), p, lo, hi, note,
                               sizeof note))
             snprintf(mr->warning + strlen(mr->warning), sizeof mr->warning - strlen(mr->warning),
                      "%s%s; ln Z depends on that prior", mr->warning[0] ? "; " : "", note);
@@ -155,7 +155,7 @@ static int write_samples(const char *dir, const model_run *mr, lt_error *err)
     size_t d = lt_like_dim(mr->l);
     fputs("weight,loglike", f);
     for (size_t i = 0; i < d; i++)
-        fprintf(f, ",%s", lt_par_name(lt_like_param_id(mr->l, i)));
+        fprintf(f, ",%s", lt_like_param_name(mr->l, i));
     fputc('\n', f);
     char b[32];
     for (size_t j = 0; j < mr->nr.nsamples; j++) {
@@ -458,7 +458,7 @@ int cli_compare(int argc, char **argv)
         cJSON_AddStringToObject(o, "reading", rd);
         cJSON *params = cJSON_AddObjectToObject(o, "params");
         for (size_t i = 0; i < d; i++) {
-            cJSON *p = cJSON_AddObjectToObject(params, lt_par_name(lt_like_param_id(mr->l, i)));
+            cJSON *p = cJSON_AddObjectToObject(params, lt_like_param_name(mr->l, i));
             cJSON_AddItemToObject(p, "best", lt_json_number(mr->fit.best[i]));
             cJSON_AddItemToObject(p, "mean", lt_json_number(mr->mean[i]));
             cJSON_AddItemToObject(p, "sd", lt_json_number(mr->sd[i]));
@@ -504,7 +504,7 @@ int cli_compare(int argc, char **argv)
             for (size_t i = 0; i < lt_like_dim(runs[k].l); i++) {
                 char pr[64];
                 lt_prior_format(lt_like_prior(runs[k].l, i), pr, sizeof pr);
-                printf(" %s %s%s", lt_par_name(lt_like_param_id(runs[k].l, i)), pr,
+                printf(" %s %s%s", lt_like_param_name(runs[k].l, i), pr,
                        i + 1 < lt_like_dim(runs[k].l) ? "," : "");
             }
             if (lt_like_offset_mode(runs[k].l) == LT_OFFSET_MARGINAL)

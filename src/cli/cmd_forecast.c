@@ -44,6 +44,13 @@ static void usage(FILE *f)
           f);
 }
 
+/* The prior the user gave name, or NULL. */
+static const lt_prior *user_prior(const lt_like_spec *spec, const char *name)
+{
+    const lt_param_setting *st = lt_like_spec_setting(spec, name);
+    return st && !st->fixed ? &st->prior : NULL;
+}
+
 static cJSON *num(double v) { return lt_json_number(v); }
 
 static cJSON *matrix_json(const double *m, size_t d)
@@ -71,16 +78,16 @@ static cJSON *forecast_json(const lt_scenario *sc, const lt_like_spec *spec, con
     cJSON *params = cJSON_AddObjectToObject(o, "params");
     cJSON *names = cJSON_CreateArray();
     for (size_t i = 0; i < d; i++) {
-        cJSON *p = cJSON_AddObjectToObject(params, lt_par_name(f->id[i]));
+        cJSON *p = cJSON_AddObjectToObject(params, f->names[i]);
         cJSON_AddItemToObject(p, "fiducial", num(f->fiducial[i]));
         cJSON_AddItemToObject(p, "sd", num(f->sd[i]));
         cJSON_AddItemToObject(p, "sd_fixed_others", num(f->sd_cond[i]));
-        if (spec->has_prior[f->id[i]]) {
+        if (user_prior(spec, f->names[i])) {
             char buf[64];
-            lt_prior_format(&spec->prior[f->id[i]], buf, sizeof buf);
+            lt_prior_format(user_prior(spec, f->names[i]), buf, sizeof buf);
             cJSON_AddStringToObject(p, "prior", buf);
         }
-        cJSON_AddItemToArray(names, cJSON_CreateString(lt_par_name(f->id[i])));
+        cJSON_AddItemToArray(names, cJSON_CreateString(f->names[i]));
     }
     cJSON *fi = cJSON_AddObjectToObject(o, "fisher");
     cJSON_AddItemToObject(fi, "names", names);
@@ -89,12 +96,12 @@ static cJSON *forecast_json(const lt_scenario *sc, const lt_like_spec *spec, con
      * diagonal of each Gaussian prior (a user adding the matrix to another
      * probe's would count the prior twice); and give the data's alone */
     cJSON *with = cJSON_AddArrayToObject(fi, "includes_gaussian_priors");
-    double data_only[LT_NPAR * LT_NPAR];
+    double data_only[LT_MAX_FREE * LT_MAX_FREE];
     memcpy(data_only, f->fisher, d * d * sizeof *data_only);
     for (size_t i = 0; i < d; i++) {
-        const lt_prior *p = &spec->prior[f->id[i]];
-        if (spec->has_prior[f->id[i]] && p->kind == LT_PRIOR_GAUSS) {
-            cJSON_AddItemToArray(with, cJSON_CreateString(lt_par_name(f->id[i])));
+        const lt_prior *p = user_prior(spec, f->names[i]);
+        if (p && p->kind == LT_PRIOR_GAUSS) {
+            cJSON_AddItemToArray(with, cJSON_CreateString(f->names[i]));
             data_only[i * d + i] -= 1 / (p->b * p->b);
         }
     }
@@ -106,7 +113,7 @@ static cJSON *forecast_json(const lt_scenario *sc, const lt_like_spec *spec, con
     cJSON *cov = cJSON_AddObjectToObject(o, "covariance");
     cJSON_AddItemToObject(cov, "names", cJSON_Duplicate(names, 1));
     cJSON_AddItemToObject(cov, "matrix", matrix_json(f->cov, d));
-    double cor[LT_NPAR * LT_NPAR];
+    double cor[LT_MAX_FREE * LT_MAX_FREE];
     for (size_t i = 0; i < d; i++)
         for (size_t j = 0; j < d; j++)
             cor[i * d + j] = f->cov[i * d + j] / (f->sd[i] * f->sd[j]);
@@ -142,19 +149,20 @@ static void print_table(FILE *out, const lt_scenario *sc, const lt_like_spec *sp
             "sigma (fixed)", "prior");
     for (size_t i = 0; i < d; i++) {
         char pr[64] = "-";
-        if (spec->has_prior[f->id[i]] && spec->prior[f->id[i]].kind == LT_PRIOR_GAUSS)
-            lt_prior_format(&spec->prior[f->id[i]], pr, sizeof pr);
-        fprintf(out, "  %-10s %12.6g %12.4g %14.4g  %s\n", lt_par_name(f->id[i]), f->fiducial[i],
+        const lt_prior *p = user_prior(spec, f->names[i]);
+        if (p && p->kind == LT_PRIOR_GAUSS)
+            lt_prior_format(p, pr, sizeof pr);
+        fprintf(out, "  %-10s %12.6g %12.4g %14.4g  %s\n", f->names[i], f->fiducial[i],
                 f->sd[i], f->sd_cond[i], pr);
     }
     fputs("  (only Gaussian priors enter a Fisher matrix; uniform ones add nothing)\n", out);
     if (d > 1) {
         fprintf(out, "\ncorrelations:\n  %-10s", "");
         for (size_t j = 0; j < d; j++)
-            fprintf(out, " %8s", lt_par_name(f->id[j]));
+            fprintf(out, " %8s", f->names[j]);
         fputc('\n', out);
         for (size_t i = 0; i < d; i++) {
-            fprintf(out, "  %-10s", lt_par_name(f->id[i]));
+            fprintf(out, "  %-10s", f->names[i]);
             for (size_t j = 0; j < d; j++)
                 fprintf(out, " %8.3f", f->cov[i * d + j] / (f->sd[i] * f->sd[j]));
             fputc('\n', out);
@@ -236,9 +244,9 @@ int cli_forecast(int argc, char **argv)
         /* the ellipse of w0-wa, else of the first two parameters */
         size_t ix = 0, iy = 1;
         for (size_t i = 0; i < f.dim; i++) {
-            if (f.has_w0wa && f.id[i] == LT_P_W0)
+            if (f.has_w0wa && !strcmp(f.names[i], "w0"))
                 ix = i;
-            if (f.has_w0wa && f.id[i] == LT_P_WA)
+            if (f.has_w0wa && !strcmp(f.names[i], "wa"))
                 iy = i;
         }
         if (!rc && f.dim >= 2) {
@@ -246,14 +254,14 @@ int cli_forecast(int argc, char **argv)
             double cov[4] = {f.cov[ix * d + ix], f.cov[ix * d + iy], f.cov[iy * d + ix],
                              f.cov[iy * d + iy]};
             char name[128], title[256];
-            snprintf(name, sizeof name, "ellipse_%s_%s", lt_par_name(f.id[ix]), lt_par_name(f.id[iy]));
+            snprintf(name, sizeof name, "ellipse_%s_%s", f.names[ix], f.names[iy]);
             if (f.has_w0wa)
                 snprintf(title, sizeof title, "%s, %s: FoM = %.3g", sc.name ? sc.name : "",
                          spec.model->name, f.fom);
             else
                 snprintf(title, sizeof title, "%s, %s", sc.name ? sc.name : "", spec.model->name);
-            rc = lt_report_write_ellipse(out, name, title, lt_par_name(f.id[ix]),
-                                         lt_par_name(f.id[iy]), f.fiducial[ix], f.fiducial[iy],
+            rc = lt_report_write_ellipse(out, name, title, f.names[ix],
+                                         f.names[iy], f.fiducial[ix], f.fiducial[iy],
                                          cov, &err);
         }
         if (!rc && *cli_catch_signals())

@@ -201,7 +201,7 @@ static int start_chains(const cli_job *j, const lt_like *l, void **ctxp, lt_mcmc
     lt_fit_result fr;
     if (lt_fit_run(l, &fo, &fr, err))
         return err->code;
-    double scale[LT_NPAR];
+    double scale[LT_MAX_FREE];
     for (size_t i = 0; i < d; i++) {
         const lt_prior *p = lt_like_prior(l, i);
         scale[i] = p->kind == LT_PRIOR_UNIFORM ? p->b - p->a : 4 * p->b;

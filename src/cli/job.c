@@ -10,6 +10,8 @@
  *   [model]   name, offset (none | marginal | sampled)
  *   [priors]  PARAM = uniform:LO:HI | gauss:MEAN:SD
  *   [fixed]   PARAM = VALUE
+ *   [measurements]  NAME = MEAN:SD  (a Gaussian measurement of a parameter
+ *             or derived quantity)
  *   [fit]     starts, seed
  *   [output]  dir, format
  * Unknown sections and keys, over-long lines and bad values are errors
@@ -84,6 +86,17 @@ static int file_error(const cli_job *j, const lt_ini_entry *e, const char *fmt, 
     lt_error err;
     lt_error_set(&err, LT_EINPUT, j->ini->path, e->line, "%s", msg);
     return cli_report(&err);
+}
+
+/* The job's three lists of NAME = VALUE entries. */
+enum { KV_FIX = 0, KV_PRIOR = 1, KV_MEASURE = 2 };
+static cli_kv *kv_list(cli_job *j, int kind)
+{
+    return kind == KV_PRIOR ? j->priors : kind == KV_FIX ? j->fixes : j->measures;
+}
+static size_t *kv_count(cli_job *j, int kind)
+{
+    return kind == KV_PRIOR ? &j->npriors : kind == KV_FIX ? &j->nfixes : &j->nmeasures;
 }
 
 static int add_kv(cli_kv *list, size_t *n, const char *name, const char *value,
@@ -210,21 +223,24 @@ int cli_job_load_sets(cli_job *j, const char *path, const char *const *sets, siz
     if ((e = lt_ini_get(ini, "data", "drop_ids")))
         j->data.drop_ids = resolve(j, e->value);
 
-    /* [model], [priors], [fixed] */
+    /* [model], [priors], [fixed], [measurements] */
     if ((e = lt_ini_get(ini, "model", "name")))
         j->model = e->value;
     if ((e = lt_ini_get(ini, "model", "offset")))
         j->offset = e->value;
     lt_ini_has_section(ini, "priors");
     lt_ini_has_section(ini, "fixed");
+    lt_ini_has_section(ini, "measurements");
     for (size_t i = 0; i < ini->n; i++) {
         lt_ini_entry *x = &ini->entries[i];
-        int is_prior = !strcmp(x->section, "priors"), is_fix = !strcmp(x->section, "fixed");
-        if (!is_prior && !is_fix)
+        int kind = !strcmp(x->section, "priors")         ? KV_PRIOR
+                   : !strcmp(x->section, "fixed")        ? KV_FIX
+                   : !strcmp(x->section, "measurements") ? KV_MEASURE
+                                                         : -1;
+        if (kind < 0)
             continue;
         x->used = 1;
-        if (add_kv(is_prior ? j->priors : j->fixes, is_prior ? &j->npriors : &j->nfixes, x->key,
-                   x->value, ini->path, x->line))
+        if (add_kv(kv_list(j, kind), kv_count(j, kind), x->key, x->value, ini->path, x->line))
             return file_error(j, x, "too many entries (%s%s)", "");
     }
 
@@ -276,22 +292,23 @@ int cli_job_load_sets(cli_job *j, const char *path, const char *const *sets, siz
     return CLI_OK;
 }
 
-/* "--prior NAME=SPEC" or "--fix NAME=VALUE" into the job's lists. */
-static void take_entry(cli_args *a, cli_job *j, int prior, const char *v)
+/* "--prior NAME=SPEC", "--fix NAME=VALUE" or "--measure NAME=MEAN:SD"
+ * into the job's lists. */
+static void take_entry(cli_args *a, cli_job *j, int kind, const char *v)
 {
-    const char *flag = prior ? "--prior" : "--fix";
+    static const char *const flags[] = {"--fix", "--prior", "--measure"};
+    static const char *const forms[] = {"VALUE", "uniform:LO:HI or NAME=gauss:MEAN:SD",
+                                        "MEAN:SD"};
     char *copy = (char *)keep(j, strdup(v));
     char *eq = copy ? strchr(copy, '=') : NULL;
     if (!eq || eq == copy) {
-        cli_usage_error(flag, "'%s' is not NAME=%s", v,
-                        prior ? "uniform:LO:HI or NAME=gauss:MEAN:SD" : "VALUE");
+        cli_usage_error(flags[kind], "'%s' is not NAME=%s", v, forms[kind]);
         a->failed = 1;
         return;
     }
     *eq = '\0';
-    if (add_kv(prior ? j->priors : j->fixes, prior ? &j->npriors : &j->nfixes, copy, eq + 1,
-               NULL, 0)) {
-        cli_usage_error(flag, "given too many times");
+    if (add_kv(kv_list(j, kind), kv_count(j, kind), copy, eq + 1, NULL, 0)) {
+        cli_usage_error(flags[kind], "given too many times");
         a->failed = 1;
     }
 }
@@ -322,9 +339,11 @@ int cli_take_job(cli_args *a, cli_job *j)
     } else if (cli_take(a, "--offset", &v)) {
         j->offset = v;
     } else if (cli_take(a, "--prior", &v)) {
-        take_entry(a, j, 1, v);
+        take_entry(a, j, KV_PRIOR, v);
     } else if (cli_take(a, "--fix", &v)) {
-        take_entry(a, j, 0, v);
+        take_entry(a, j, KV_FIX, v);
+    } else if (cli_take(a, "--measure", &v)) {
+        take_entry(a, j, KV_MEASURE, v);
     } else if (cli_take(a, "--seed", &v)) {
         long s;
         if (lt_parse_long(v, 0, 4294967295L, &s)) {
@@ -371,8 +390,10 @@ int cli_take_job(cli_args *a, cli_job *j)
 /* Where each parameter's prior or fix came from, to tell an override (a
  * flag after the run file) from a mistake (two from the same place). */
 typedef struct {
-    const char *src[LT_NPAR]; /* "file" or "flag", NULL if none yet */
-    int prior[LT_NPAR];       /* 1 prior, 0 fix */
+    size_t n;
+    const char *name[2 * CLI_MAX_PAR];
+    const char *src[2 * CLI_MAX_PAR]; /* "file" or "flag" */
+    int prior[2 * CLI_MAX_PAR];       /* 1 prior, 0 fix */
 } kv_seen;
 
 /* One prior or fix entry into spec; prints the error. */
@@ -380,54 +401,67 @@ static int apply_kv(const cli_kv *kv, int prior, lt_like_spec *spec, kv_seen *se
 {
     const char *where = kv->file ? kv->file : prior ? "--prior" : "--fix";
     lt_error err;
-    int id = lt_par_find(kv->name);
-    if (id < 0) {
-        lt_error_set(&err, LT_EINPUT, where, kv->line,
-                     "unknown parameter '%s' (parameters: h0, omega_m, omega_de, w0, wa, "
-                     "t_cmb, n_eff, offset)",
-                     kv->name);
+    if (!lt_param_known(kv->name)) {
+        lt_error_set(&err, LT_EINPUT, where, kv->line, "unknown parameter '%s' (parameters: %s)",
+                     kv->name, lt_param_known_list());
         return cli_report(&err);
     }
     const char *src = kv->file ? "file" : "flag";
-    if (seen->src[id] && !strcmp(seen->src[id], src)) {
-        if (seen->prior[id] == prior)
+    size_t k = 0;
+    while (k < seen->n && strcmp(seen->name[k], kv->name))
+        k++;
+    if (k < seen->n && !strcmp(seen->src[k], src)) {
+        if (seen->prior[k] == prior)
             lt_error_set(&err, LT_EINPUT, where, kv->line, "%s is given twice", kv->name);
         else
             lt_error_set(&err, LT_EINPUT, where, kv->line,
                          "%s has both a prior and a fixed value; give one", kv->name);
         return cli_report(&err);
     }
-    seen->src[id] = src;
-    seen->prior[id] = prior;
+    if (k == seen->n)
+        seen->n++;
+    seen->name[k] = kv->name, seen->src[k] = src, seen->prior[k] = prior;
+    int rc;
     if (prior) {
-        if (lt_prior_parse(kv->value, &spec->prior[id], &err)) {
-            lt_error_locate(&err, LT_EINPUT, where, kv->line);
-            return cli_report(&err);
-        }
-        spec->has_prior[id] = 1;
-        spec->has_fix[id] = 0;
+        lt_prior p;
+        rc = lt_prior_parse(kv->value, &p, &err) || lt_like_spec_prior(spec, kv->name, p, &err);
     } else {
-        if (lt_parse_double(kv->value, &spec->fix[id])) {
+        double v;
+        if (lt_parse_double(kv->value, &v)) {
             lt_error_set(&err, LT_EINPUT, where, kv->line, "%s = '%s' is not a finite number",
                          kv->name, kv->value);
             return cli_report(&err);
         }
-        spec->has_fix[id] = 1;
-        spec->has_prior[id] = 0;
+        rc = lt_like_spec_fix(spec, kv->name, v, &err);
+    }
+    if (rc) {
+        lt_error_locate(&err, LT_EINPUT, where, kv->line);
+        return cli_report(&err);
     }
     return CLI_OK;
 }
 
-/* Does model m have parameter name (the offset counts: every model has
- * one where the data need it)? */
-static int model_has(const lt_cosmo_model *m, const char *name)
+/* One measurement NAME = MEAN:SD into spec; prints the error. */
+static int apply_measure(const cli_kv *kv, lt_like_spec *spec)
 {
-    int id = lt_par_find(name);
-    if (id < 0 || id == LT_PAR_OFFSET)
-        return 1; /* unknown names are reported by apply_kv */
-    if (id == LT_P_OMEGA_DE && m->flat)
-        return 0;
-    return lt_cosmo_model_uses(m, id);
+    const char *where = kv->file ? kv->file : "--measure";
+    lt_error err;
+    char buf[128];
+    snprintf(buf, sizeof buf, "%s", kv->value);
+    char *colon = strchr(buf, ':');
+    double mean, sd;
+    if (colon)
+        *colon = '\0';
+    if (!colon || lt_parse_double(buf, &mean) || lt_parse_double(colon + 1, &sd)) {
+        lt_error_set(&err, LT_EINPUT, where, kv->line, "%s = '%s' is not MEAN:SD", kv->name,
+                     kv->value);
+        return cli_report(&err);
+    }
+    if (lt_like_spec_measure(spec, kv->name, mean, sd, &err)) {
+        lt_error_locate(&err, LT_EINPUT, where, kv->line);
+        return cli_report(&err);
+    }
+    return CLI_OK;
 }
 
 int cli_job_like_spec(const cli_job *j, const lt_cosmo_model *m, lt_like_spec *spec)
@@ -445,15 +479,22 @@ int cli_job_like_spec(const cli_job *j, const lt_cosmo_model *m, lt_like_spec *s
     for (int pass = 0; pass < 2; pass++) {
         for (size_t i = 0; i < j->npriors; i++)
             if ((j->priors[i].file != NULL) == (pass == 0) &&
-                (!j->lenient || model_has(m, j->priors[i].name)) &&
+                (!j->lenient || !lt_param_known(j->priors[i].name) ||
+                 lt_param_of_model(m, j->priors[i].name)) &&
                 apply_kv(&j->priors[i], 1, spec, &seen))
                 return CLI_USAGE;
         for (size_t i = 0; i < j->nfixes; i++)
             if ((j->fixes[i].file != NULL) == (pass == 0) &&
-                (!j->lenient || model_has(m, j->fixes[i].name)) &&
+                (!j->lenient || !lt_param_known(j->fixes[i].name) ||
+                 lt_param_of_model(m, j->fixes[i].name)) &&
                 apply_kv(&j->fixes[i], 0, spec, &seen))
                 return CLI_USAGE;
     }
+    /* every measurement counts, the run file's and the flags' (two
+     * measurements of one quantity are two terms) */
+    for (size_t i = 0; i < j->nmeasures; i++)
+        if (apply_measure(&j->measures[i], spec))
+            return CLI_USAGE;
     return CLI_OK;
 }
 
@@ -506,21 +547,29 @@ int cli_job_write(const cli_job *j, const lt_like_spec *spec, const char *path, 
         ADD("offset = %s\n", j->offset);
     /* priors and fixes as they finally stand (flags over the file) */
     ADD("[priors]\n");
-    for (int id = 0; id < LT_NPAR; id++)
-        if (spec->has_prior[id]) {
-            char a[32], b[32];
-            lt_format_double(spec->prior[id].a, a, sizeof a);
-            lt_format_double(spec->prior[id].b, b, sizeof b);
-            ADD("%s = %s:%s:%s\n", lt_par_name(id),
-                spec->prior[id].kind == LT_PRIOR_UNIFORM ? "uniform" : "gauss", a, b);
-        }
+    for (size_t k = 0; k < spec->nsettings; k++) {
+        const lt_param_setting *st = &spec->settings[k];
+        char a[32], b[32];
+        lt_format_double(st->prior.a, a, sizeof a);
+        lt_format_double(st->prior.b, b, sizeof b);
+        if (!st->fixed)
+            ADD("%s = %s:%s:%s\n", st->name,
+                st->prior.kind == LT_PRIOR_UNIFORM ? "uniform" : "gauss", a, b);
+    }
     ADD("[fixed]\n");
-    for (int id = 0; id < LT_NPAR; id++)
-        if (spec->has_fix[id]) {
-            char a[32];
-            lt_format_double(spec->fix[id], a, sizeof a);
-            ADD("%s = %s\n", lt_par_name(id), a);
-        }
+    for (size_t k = 0; k < spec->nsettings; k++) {
+        char a[32];
+        lt_format_double(spec->settings[k].value, a, sizeof a);
+        if (spec->settings[k].fixed)
+            ADD("%s = %s\n", spec->settings[k].name, a);
+    }
+    ADD("[measurements]\n");
+    for (size_t k = 0; k < spec->nmeasurements; k++) {
+        char a[32], b[32];
+        lt_format_double(spec->measurements[k].mean, a, sizeof a);
+        lt_format_double(spec->measurements[k].sd, b, sizeof b);
+        ADD("%s = %s:%s\n", spec->measurements[k].name, a, b);
+    }
     ADD("[fit]\nstarts = %ld\n", j->starts);
     ADD("[sampler]\nseed = %lu\nchains = %ld\nthreads = %ld\nwarmup = %ld\ncheck_every = %ld\n"
         "max_steps = %ld\n",
@@ -612,10 +661,23 @@ uint64_t cli_like_fingerprint(const lt_like *l, const lt_like_spec *spec)
         free(diag);
     }
     cli_fnv(&h, lt_like_model(l)->name, strlen(lt_like_model(l)->name));
-    cli_fnv(&h, spec->has_prior, sizeof spec->has_prior);
-    cli_fnv(&h, spec->prior, sizeof spec->prior);
-    cli_fnv(&h, spec->has_fix, sizeof spec->has_fix);
-    cli_fnv(&h, spec->fix, sizeof spec->fix);
+    /* settings and measurements field by field (struct padding holds no
+     * defined bytes) */
+    for (size_t k = 0; k < spec->nsettings; k++) {
+        const lt_param_setting *st = &spec->settings[k];
+        int kind = st->prior.kind;
+        double v[3] = {st->prior.a, st->prior.b, st->value};
+        cli_fnv(&h, st->name, strlen(st->name) + 1);
+        cli_fnv(&h, &st->fixed, sizeof st->fixed);
+        cli_fnv(&h, &kind, sizeof kind);
+        cli_fnv(&h, v, sizeof v);
+    }
+    for (size_t k = 0; k < spec->nmeasurements; k++) {
+        const lt_measurement *m = &spec->measurements[k];
+        double v[2] = {m->mean, m->sd};
+        cli_fnv(&h, m->name, strlen(m->name) + 1);
+        cli_fnv(&h, v, sizeof v);
+    }
     int offset = lt_like_offset_mode(l);
     cli_fnv(&h, &offset, sizeof offset);
     return h;

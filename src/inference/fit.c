@@ -69,12 +69,6 @@ void lt_like_prior_transform(const double *u, double *theta, void *tctx)
     }
 }
 
-double lt_like_lognorm(const lt_like *l)
-{
-    const lt_survey *s = lt_like_survey(l);
-    return -0.5 * ((double)s->n * log(2.0 * M_PI) + lt_cov_logdet(s->cov));
-}
-
 double lt_like_nested_loglike(const double *theta, void *ctx)
 {
     lt_like_nested *c = ctx;
@@ -102,12 +96,10 @@ int lt_fit_run(const lt_like *l, const lt_fit_opts *o, lt_fit_result *r, lt_erro
     memset(r, 0, sizeof *r);
     size_t d = lt_like_dim(l);
     r->dim = d;
-    for (size_t i = 0; i < d; i++)
-        r->id[i] = lt_like_param_id(l, i);
     fit_ctx ctx = {l, lt_like_work_alloc(l)};
     size_t nstarts = o->starts ? o->starts : 1;
     double *starts = malloc((nstarts * d + 1) * sizeof *starts);
-    double scale[LT_NPAR];
+    double scale[LT_MAX_FREE];
     gsl_rng *rng = gsl_rng_alloc(gsl_rng_mt19937);
     int rc = LT_OK;
     if (!ctx.w || !starts || !rng) {
@@ -141,21 +133,21 @@ int lt_fit_run(const lt_like *l, const lt_fit_opts *o, lt_fit_result *r, lt_erro
             snprintf(r->laplace_note, sizeof r->laplace_note,
                      "the best fit of %s lies at the edge of its prior or of the physical "
                      "domain: no Laplace errors",
-                     lt_par_name(r->id[bad]));
+                     lt_like_param_name(l, bad));
     }
     for (size_t i = 0; i < d; i++)
         r->sd[i] = r->laplace_ok ? sqrt(r->cov[i * d + i]) : NAN;
 
     r->dof = lt_like_dof(l);
     r->k_counted = lt_like_nparams_counted(l);
-    double chi2 = r->at_best.chi2, n = (double)lt_like_survey(l)->n;
+    double chi2 = r->at_best.chi2, n = (double)lt_like_ndata(l);
     r->p_value = r->dof > 0 ? gsl_cdf_chisq_Q(chi2, (double)r->dof) : NAN;
     r->aic = chi2 + 2.0 * (double)r->k_counted;
     r->bic = chi2 + (double)r->k_counted * log(n);
 
     /* Derived parameters: value at the best fit, sigma by the delta method
      * (gradient by central differences with steps of sigma/100). */
-    double y[LT_NPAR];
+    double y[LT_MAX_FREE];
     for (int k = 0; k < LT_NDER; k++) {
         if (!(r->has_der[k] = lt_like_has_derived(l, k)))
             continue;
@@ -163,7 +155,7 @@ int lt_fit_run(const lt_like *l, const lt_fit_opts *o, lt_fit_result *r, lt_erro
         r->der_sd[k] = NAN;
         if (!r->laplace_ok || !isfinite(r->der_best[k]))
             continue;
-        double g[LT_NPAR];
+        double g[LT_MAX_FREE];
         int ok = 1;
         for (size_t i = 0; i < d && ok; i++) {
             double h = 0.01 * r->sd[i];
@@ -184,13 +176,7 @@ int lt_fit_run(const lt_like *l, const lt_fit_opts *o, lt_fit_result *r, lt_erro
         r->der_sd[k] = sqrt(fmax(var, 0.0));
     }
     /* The w0-wa pivot. */
-    int iw0 = -1, iwa = -1;
-    for (size_t i = 0; i < d; i++) {
-        if (r->id[i] == LT_P_W0)
-            iw0 = (int)i;
-        if (r->id[i] == LT_P_WA)
-            iwa = (int)i;
-    }
+    int iw0 = lt_like_param_index(l, "w0"), iwa = lt_like_param_index(l, "wa");
     if (iw0 >= 0 && iwa >= 0 && r->laplace_ok) {
         double c01 = r->cov[iw0 * d + iwa], v1 = r->cov[iwa * d + iwa], v0 = r->cov[iw0 * d + iw0];
         r->z_pivot = lt_pivot_redshift(c01, v1);

@@ -315,7 +315,7 @@ static size_t group_params(const model_group *g, const char **names)
             size_t i = 0;
             while (i < d && strcmp(names[i], MEMBER(g, j)->names[c]))
                 i++;
-            if (i == d && d < LT_NPAR)
+            if (i == d && d < LT_MAX_FREE)
                 names[d++] = MEMBER(g, j)->names[c];
         }
     return d;
@@ -325,9 +325,9 @@ static void draw_posterior(const void *p)
 {
     const model_group *g = p;
     const lt_run_model *m = MEMBER(g, 0);
-    const char *names[LT_NPAR];
+    const char *names[LT_MAX_FREE];
     size_t d = group_params(g, names);
-    double lo[LT_NPAR], hi[LT_NPAR];
+    double lo[LT_MAX_FREE], hi[LT_MAX_FREE];
     for (size_t i = 0; i < d; i++)
         group_range(g, names[i], &lo[i], &hi[i]);
     plschr(0, d > 3 ? 0.6 : 0.8);
@@ -694,7 +694,7 @@ int lt_report_write_figures(const char *dir, const lt_run_model *models, size_t 
                     g.idx[g.k++] = j;
             }
         char name[256];
-        const char *pnames[LT_NPAR];
+        const char *pnames[LT_MAX_FREE];
         size_t d = models[i].nparams, dg = group_params(&g, pnames);
         size_t side = dg < 2 ? 500 : 260 * dg + 80;
         if (!seen) {

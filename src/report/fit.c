@@ -83,6 +83,24 @@ cJSON *lt_report_add_data(cJSON *o, const lt_survey_spec *data, const lt_survey 
     return w;
 }
 
+void lt_report_add_fixed(cJSON *o, const lt_like *l)
+{
+    cJSON *fixed = cJSON_AddObjectToObject(o, "fixed");
+    for (size_t k = 0; k < lt_like_nfixed(l); k++)
+        cJSON_AddItemToObject(fixed, lt_like_fixed(l, k)->name, num(lt_like_fixed(l, k)->value));
+    if (lt_like_nmeasurements(l) == 0)
+        return;
+    cJSON *ms = cJSON_AddArrayToObject(o, "measurements");
+    for (size_t k = 0; k < lt_like_nmeasurements(l); k++) {
+        const lt_measurement *m = lt_like_measurement(l, k);
+        cJSON *e = cJSON_CreateObject();
+        cJSON_AddStringToObject(e, "name", m->name);
+        cJSON_AddItemToObject(e, "mean", num(m->mean));
+        cJSON_AddItemToObject(e, "sd", num(m->sd));
+        cJSON_AddItemToArray(ms, e);
+    }
+}
+
 /* A note on h0 when it is not a free parameter. */
 static const char *h0_note(const lt_like *l)
 {
@@ -99,8 +117,8 @@ cJSON *lt_report_fit_json(const lt_like *l, const lt_fit_result *r, const lt_sur
     cJSON *o = cJSON_CreateObject();
     cJSON_AddStringToObject(o, "command", "fit");
     cJSON_AddStringToObject(o, "model", lt_like_model(l)->name);
-    cJSON_AddItemToObject(o, "n_data", num((double)s->n));
-    cJSON_AddStringToObject(o, "observable", lt_obs_name(s->kind));
+    cJSON_AddItemToObject(o, "n_data", num((double)lt_like_ndata(l)));
+    cJSON_AddStringToObject(o, "observable", s ? lt_obs_name(s->kind) : "none");
     cJSON_AddItemToObject(o, "chi2_min", num(r->at_best.chi2));
     cJSON_AddItemToObject(o, "dof", num((double)r->dof));
     cJSON_AddItemToObject(o, "p_value", num(r->p_value));
@@ -114,7 +132,7 @@ cJSON *lt_report_fit_json(const lt_like *l, const lt_fit_result *r, const lt_sur
 
     cJSON *params = cJSON_AddObjectToObject(o, "params");
     for (size_t i = 0; i < d; i++) {
-        cJSON *p = cJSON_AddObjectToObject(params, lt_par_name(r->id[i]));
+        cJSON *p = cJSON_AddObjectToObject(params, lt_like_param_name(l, i));
         cJSON_AddItemToObject(p, "best", num(r->best[i]));
         cJSON_AddItemToObject(p, "sd", num(r->sd[i]));
         char buf[64];
@@ -142,17 +160,7 @@ cJSON *lt_report_fit_json(const lt_like *l, const lt_fit_result *r, const lt_sur
     if (lt_like_offset_mode(l) != LT_OFFSET_NONE)
         cJSON_AddItemToObject(off, "best", num(r->at_best.offset));
 
-    /* fixed values: every parameter the model reads that is not free */
-    cJSON *fixed = cJSON_AddObjectToObject(o, "fixed");
-    lt_cosmo_params base = *lt_like_base(l);
-    for (int id = 0; id < LT_P_COUNT; id++) {
-        int is_free = 0;
-        for (size_t i = 0; i < d; i++)
-            is_free |= r->id[i] == id;
-        if (is_free || !lt_cosmo_model_uses(lt_like_model(l), id))
-            continue;
-        cJSON_AddItemToObject(fixed, lt_par_name(id), num(*lt_cosmo_params_slot(&base, id)));
-    }
+    lt_report_add_fixed(o, l);
     const char *note = h0_note(l);
     if (note)
         cJSON_AddStringToObject(o, "h0_note", note);
@@ -162,7 +170,7 @@ cJSON *lt_report_fit_json(const lt_like *l, const lt_fit_result *r, const lt_sur
     cJSON *mat = cJSON_AddArrayToObject(cov, "matrix");
     cJSON *cor = cJSON_AddArrayToObject(cov, "correlation");
     for (size_t i = 0; i < d; i++) {
-        cJSON_AddItemToArray(names, cJSON_CreateString(lt_par_name(r->id[i])));
+        cJSON_AddItemToArray(names, cJSON_CreateString(lt_like_param_name(l, i)));
         cJSON *row = cJSON_CreateArray(), *crow = cJSON_CreateArray();
         for (size_t j = 0; j < d; j++) {
             cJSON_AddItemToArray(row, num(r->cov[i * d + j]));
@@ -207,7 +215,7 @@ void lt_report_fit_table(FILE *f, const lt_like *l, const lt_fit_result *r,
     for (size_t i = 0; i < r->dim; i++) {
         char prior[64];
         lt_prior_format(lt_like_prior(l, i), prior, sizeof prior);
-        fprintf(f, "  %-12s %12.6g %12s   %s\n", lt_par_name(r->id[i]), r->best[i],
+        fprintf(f, "  %-12s %12.6g %12s   %s\n", lt_like_param_name(l, i), r->best[i],
                 sigma_text(r->sd[i], sd, sizeof sd), prior);
     }
     fprintf(f, "\n  %-12s %12s %12s\n", "derived", "best", "+-sigma");
@@ -222,17 +230,12 @@ void lt_report_fit_table(FILE *f, const lt_like *l, const lt_fit_result *r,
     }
     lt_cosmo_params base = *lt_like_base(l);
     int first = 1;
-    for (int id = 0; id < LT_P_COUNT; id++) {
-        int is_free = 0;
-        for (size_t i = 0; i < r->dim; i++)
-            is_free |= r->id[i] == id;
-        if (is_free || !lt_cosmo_model_uses(m, id) || id == LT_P_N_EFF)
+    for (size_t k = 0; k < lt_like_nfixed(l); k++) {
+        const lt_param *p = lt_like_fixed(l, k);
+        if (!strcmp(p->name, "n_eff") || (!strcmp(p->name, "t_cmb") && p->value == 0.0))
             continue;
-        if (id == LT_P_T_CMB && base.t_cmb == 0.0)
-            continue;
-        fprintf(f, "%s%s = %g", first ? "\n  fixed: " : ", ", lt_par_name(id),
-                *lt_cosmo_params_slot(&base, id));
-        if (id == LT_P_H0 && h0_note(l))
+        fprintf(f, "%s%s = %g", first ? "\n  fixed: " : ", ", p->name, p->value);
+        if (!strcmp(p->name, "h0") && h0_note(l))
             fprintf(f, " (%s)", h0_note(l));
         first = 0;
     }

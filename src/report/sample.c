@@ -128,16 +128,11 @@ int lt_sample_collect(const lt_like *l, const lt_mcmc *m, size_t reweight, lt_sa
         lt_mcmc_draws(m, c, &k);
         n = k < n ? k : n;
     }
-    int der[LT_NDER + 1], nder = 0, iw0 = -1, iwa = -1;
+    int der[LT_NDER + 1], nder = 0;
+    int iw0 = lt_like_param_index(l, "w0"), iwa = lt_like_param_index(l, "wa");
     for (int k = 0; k < LT_NDER; k++)
         if (lt_like_has_derived(l, k))
             der[nder++] = k;
-    for (size_t i = 0; i < d; i++) {
-        if (lt_like_param_id(l, i) == LT_P_W0)
-            iw0 = (int)i;
-        if (lt_like_param_id(l, i) == LT_P_WA)
-            iwa = (int)i;
-    }
     int pivot = iw0 >= 0 && iwa >= 0;
     /* to weigh the draws, keep every thin-th of each chain: at most reweight */
     size_t thin = reweight ? (nc * n + reweight - 1) / reweight : 1, steps = n;
@@ -156,7 +151,7 @@ int lt_sample_collect(const lt_like *l, const lt_mcmc *m, size_t reweight, lt_sa
     r->cols[0] = strdup("logpost");
     r->cols[1] = strdup("chi2");
     for (size_t i = 0; i < d; i++)
-        r->cols[2 + i] = strdup(lt_par_name(lt_like_param_id(l, i)));
+        r->cols[2 + i] = strdup(lt_like_param_name(l, i));
     for (int k = 0; k < nder; k++)
         r->cols[2 + d + k] = strdup(lt_derived_name(der[k]));
     if (pivot)
@@ -186,7 +181,7 @@ int lt_sample_collect(const lt_like *l, const lt_mcmc *m, size_t reweight, lt_sa
     const double *wt = r->weights;
     /* the posterior covariance of the parameters (weighted: the unbiased
      * divisor W - sum w^2 / W of reliability weights, total - 1 unweighted) */
-    double mean[LT_NPAR] = {0}, W = 0.0, W2 = 0.0;
+    double mean[LT_MAX_FREE] = {0}, W = 0.0, W2 = 0.0;
     for (size_t j = 0; j < total; j++)
         W += wt ? wt[j] : 1.0, W2 += wt ? wt[j] * wt[j] : 1.0;
     double denom = wt ? W - W2 / W : (double)(total > 1 ? total - 1 : 1);
@@ -230,7 +225,7 @@ int lt_sample_collect(const lt_like *l, const lt_mcmc *m, size_t reweight, lt_sa
     polish_ctx pc = {l, lt_like_work_alloc(l)};
     if (!pc.w)
         goto nomem;
-    double scale[LT_NPAR], x0[LT_NPAR];
+    double scale[LT_MAX_FREE], x0[LT_MAX_FREE];
     for (size_t i = 0; i < d; i++) {
         scale[i] = isfinite(r->stats[2 + i].sd) && r->stats[2 + i].sd > 0 ? r->stats[2 + i].sd : 1.0;
         x0[i] = total ? r->rows[jbest * r->ncols + 2 + i] : 0.0;
@@ -304,24 +299,16 @@ cJSON *lt_report_sample_json(const lt_like *l, const lt_sample_result *r,
     cJSON *o = cJSON_CreateObject();
     cJSON_AddStringToObject(o, "command", "sample");
     cJSON_AddStringToObject(o, "model", lt_like_model(l)->name);
-    cJSON_AddItemToObject(o, "n_data", num((double)s->n));
-    cJSON_AddStringToObject(o, "observable", lt_obs_name(s->kind));
+    cJSON_AddItemToObject(o, "n_data", num((double)lt_like_ndata(l)));
+    cJSON_AddStringToObject(o, "observable", s ? lt_obs_name(s->kind) : "none");
     cJSON_AddItemToObject(o, "chi2_min", num(r->at_best.chi2));
     cJSON_AddItemToObject(o, "dof", num((double)lt_like_dof(l)));
     size_t kp = lt_like_nparams_counted(l);
     cJSON_AddItemToObject(o, "k_params", num((double)kp));
     cJSON_AddItemToObject(o, "aic", num(r->at_best.chi2 + 2.0 * (double)kp));
-    cJSON_AddItemToObject(o, "bic", num(r->at_best.chi2 + (double)kp * log((double)s->n)));
+    cJSON_AddItemToObject(o, "bic", num(r->at_best.chi2 + (double)kp * log((double)lt_like_ndata(l))));
     cJSON_AddBoolToObject(o, "converged", r->converged);
-    cJSON *fixed = cJSON_AddObjectToObject(o, "fixed");
-    lt_cosmo_params base = *lt_like_base(l);
-    for (int id = 0; id < LT_P_COUNT; id++) {
-        int is_free = 0;
-        for (size_t i = 0; i < d; i++)
-            is_free |= lt_like_param_id(l, i) == id;
-        if (!is_free && lt_cosmo_model_uses(lt_like_model(l), id))
-            cJSON_AddItemToObject(fixed, lt_par_name(id), num(*lt_cosmo_params_slot(&base, id)));
-    }
+    lt_report_add_fixed(o, l);
     cJSON *params = cJSON_AddObjectToObject(o, "params");
     for (size_t i = 0; i < d; i++) {
         cJSON *p = stats_json(&r->stats[r->first_param + i], r->best[i]);

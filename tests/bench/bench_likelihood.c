@@ -21,7 +21,7 @@ static double now(void)
 static double rate(const lt_like *l)
 {
     lt_like_work *w = lt_like_work_alloc(l);
-    double theta[LT_NPAR];
+    double theta[LT_MAX_FREE];
     for (size_t i = 0; i < lt_like_dim(l); i++) {
         const lt_prior *p = lt_like_prior(l, i);
         theta[i] = p->kind == LT_PRIOR_UNIFORM ? 0.5 * (p->a + p->b) : p->a;

@@ -49,7 +49,7 @@ int main(void)
         void *cp[4];
         for (int i = 0; i < 4; i++)
             c[i] = (lt_like_chain){l, lt_like_work_alloc(l)}, cp[i] = &c[i];
-        double scale[LT_NPAR];
+        double scale[LT_MAX_FREE];
         for (size_t i = 0; i < d; i++)
             scale[i] = lt_like_prior(l, i)->b - lt_like_prior(l, i)->a;
         lt_mcmc_opts o = {d, 1, 4, 1, fr.best, fr.laplace_ok ? fr.cov : NULL, scale,

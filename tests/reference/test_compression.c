@@ -74,7 +74,7 @@ static void check_model(const lt_survey *s, const char *model, int posterior, do
     double worst = 0;
     int used = 0;
     for (int k = 0; k < 600 && used < 200; k++) { /* 200 points inside, 600 tries at most */
-        double x[LT_NPAR];
+        double x[LT_MAX_FREE];
         for (size_t i = 0; i < d; i++) {
             double sd = fr.laplace_ok ? sqrt(fr.cov[i * d + i]) : 0.05;
             x[i] = fr.best[i] + (k % 3 == 0 ? 0.3 : k % 3 == 1 ? 1.0 : 2.0) * sd * lt_rng_normal(&r);
@@ -96,7 +96,7 @@ static void check_model(const lt_survey *s, const char *model, int posterior, do
         void *cp[4];
         for (int k = 0; k < 4; k++)
             c[k] = (lt_like_chain){lc, lt_like_work_alloc(lc)}, cp[k] = &c[k];
-        double scale[LT_NPAR];
+        double scale[LT_MAX_FREE];
         for (size_t i = 0; i < d; i++)
             scale[i] = lt_like_prior(lc, i)->b - lt_like_prior(lc, i)->a;
         lt_mcmc_opts o = {d, 1, 4, 5, fr.best, fr.laplace_ok ? fr.cov : NULL, scale,
@@ -237,7 +237,7 @@ static void sample(lt_like *l, lt_like_chain c[4], lt_mcmc **m)
         lt_like_work_free(c[k].w);
         c[k] = (lt_like_chain){l, lt_like_work_alloc(l)}, cp[k] = &c[k];
     }
-    double scale[LT_NPAR];
+    double scale[LT_MAX_FREE];
     for (size_t i = 0; i < d; i++)
         scale[i] = lt_like_prior(l, i)->b - lt_like_prior(l, i)->a;
     lt_mcmc_opts o = {d, 1, 4, 1, fr.best, fr.laplace_ok ? fr.cov : NULL, scale, 4000, 1000,
@@ -362,7 +362,7 @@ static void test_pantheon_weighted(void **state)
      * the weighted means must be sum w x / sum w of those to rounding, and
      * differ from the unweighted means of the same draws. */
     lt_like_work *wc = lt_like_work_alloc(lc), *wx = lt_like_work_alloc(lx);
-    double sw = 0.0, swx[LT_NPAR] = {0}, sx[LT_NPAR] = {0};
+    double sw = 0.0, swx[LT_MAX_FREE] = {0}, sx[LT_MAX_FREE] = {0};
     size_t kept = 0, row = lt_mcmc_row_size(mc), d = lt_like_dim(lc);
     for (size_t c = 0; c < 4; c++) {
         const double *dr = lt_mcmc_draws(mc, c, &(size_t){0});

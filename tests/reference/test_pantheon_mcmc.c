@@ -52,7 +52,7 @@ static void sample(const lt_like *l, double target_ess, double *mean, double *sd
     void *cp[4];
     for (int k = 0; k < 4; k++)
         c[k] = (lt_like_chain){l, lt_like_work_alloc(l)}, cp[k] = &c[k];
-    double scale[LT_NPAR];
+    double scale[LT_MAX_FREE];
     for (size_t i = 0; i < d; i++)
         scale[i] = lt_like_prior(l, i)->b - lt_like_prior(l, i)->a;
     lt_mcmc_opts o = {d, 1, 4, 2026, fr.best, fr.cov, scale, 1000, 1000, 2000000, target_ess,
@@ -130,7 +130,7 @@ static void check(const char *model, const double *published, const double *publ
     for (size_t i = 0; i < d; i++) {
         print_message("%s %s: mcmc %.4f +- %.4f (ESS 1e4: %.4f +- %.4f), grid %.4f +- %.4f, "
                       "published %.3f +- %.3f\n",
-                      model, lt_par_name(lt_like_param_id(l, i)), mean[i], sd[i], m4[i], s4[i],
+                      model, lt_like_param_name(l, i), mean[i], sd[i], m4[i], s4[i],
                       gm[i], gs[i], published[i], published_sd[i]);
         assert_abs(mean[i], published[i], 0.2 * published_sd[i]);
         assert_abs(m4[i], published[i], 0.2 * published_sd[i]);

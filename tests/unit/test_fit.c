@@ -57,7 +57,7 @@ static void test_pivot_and_derived(void **state)
     (void)state;
     lt_like_spec spec;
     lt_like_spec_init(&spec, lt_cosmo_model_find("w0wa-flat"));
-    spec.has_fix[LT_P_OMEGA_M] = 1, spec.fix[LT_P_OMEGA_M] = 0.3; /* keep it Gaussian */
+    lt_like_spec_fix(&spec, "omega_m", 0.3, NULL); /* keep it Gaussian */
     lt_error err;
     lt_like *l = lt_like_alloc(survey, &spec, &err);
     assert_non_null(l);

@@ -98,7 +98,7 @@ static long count_allocations(const lt_survey *s, lt_like_spec *spec)
     assert_non_null(l);
     lt_like_work *w = lt_like_work_alloc(l);
     size_t d = lt_like_dim(l);
-    double theta[LT_NPAR];
+    double theta[LT_MAX_FREE];
     lt_like_point pt;
     unsigned long long seed = 5;
     for (size_t i = 0; i < d; i++) {
@@ -135,8 +135,7 @@ static void test_no_allocation(void **state)
     assert_int_equal(count_allocations(mag, &spec), 0);
     /* sampled offset */
     lt_like_spec_init(&spec, flat);
-    spec.has_prior[LT_PAR_OFFSET] = 1;
-    spec.prior[LT_PAR_OFFSET] = (lt_prior){LT_PRIOR_GAUSS, -19.3, 0.1};
+    lt_like_spec_prior(&spec, "offset", (lt_prior){LT_PRIOR_GAUSS, -19.3, 0.1}, NULL);
     assert_int_equal(count_allocations(mag, &spec), 0);
     /* dl data */
     lt_like_spec_init(&spec, flat);

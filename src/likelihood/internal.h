@@ -1,0 +1,65 @@
+/* Internal to the likelihood module: the likelihood's layout, and the
+ * built-in terms (sn.c, measure.c) as likelihood.c sees them. */
+#ifndef LANTERN_LIKELIHOOD_INTERNAL_H
+#define LANTERN_LIKELIHOOD_INTERNAL_H
+
+#include "compress.h"
+#include "lantern/likelihood.h"
+
+#define LT_MAX_TERMS (1 + LT_MAX_MEASUREMENTS)
+
+typedef struct lt_term {
+    const lt_term_type *type;
+    void *state;
+} lt_term;
+
+struct lt_like {
+    const lt_cosmo_model *model;
+    size_t npar;                   /* table entries, free and fixed */
+    lt_param par[LT_MAX_PARAMS];
+    int cosmo_id[LT_MAX_PARAMS];   /* LT_P_* of a cosmological entry, else -1 */
+    size_t dim;
+    size_t free_at[LT_MAX_FREE];   /* table index of free parameter i */
+    size_t nfixed;
+    size_t fixed_at[LT_MAX_PARAMS];
+    lt_cosmo_params base;          /* fixed cosmological values and defaults */
+    int h0_known;
+    lt_offset_mode offset;         /* of the supernova term (NONE without one) */
+    int offset_at;                 /* table index of a sampled offset, or -1 */
+    size_t nterms;
+    lt_term term[LT_MAX_TERMS];
+    struct lt_sn *sn;              /* the supernova term's state, or NULL */
+    size_t sn_term;                /* its index in term[] */
+    const lt_survey *s_survey;     /* its survey */
+    size_t nmeas;
+    lt_measurement meas[LT_MAX_MEASUREMENTS];
+};
+
+struct lt_like_work {
+    size_t nterms;
+    const lt_term_type *type[LT_MAX_TERMS]; /* whose work each is (freed by it) */
+    void *term[LT_MAX_TERMS];
+};
+
+/* Every table entry's value at theta (free ones from theta, fixed ones
+ * their value; offset 0 where it is not an entry) and the cosmological
+ * parameters. */
+void lt_like_values(const lt_like *l, const double *theta, double *values, lt_cosmo_params *p);
+
+/* ---- the supernova term (sn.c) ---- */
+typedef struct lt_sn_config {
+    const lt_survey *s;
+    lt_offset_mode offset; /* resolved: none, marginal or sampled */
+    int exact;             /* never set up the compressed path */
+} lt_sn_config;
+
+extern const lt_term_type lt_term_sn;
+
+/* Set up the compressed path once the whole likelihood exists (its test
+ * points are drawn from the priors of every free parameter). */
+int lt_sn_compress(lt_like *l, lt_error *err);
+
+/* ---- measurements (measure.c) ---- */
+extern const lt_term_type lt_term_measure;
+
+#endif

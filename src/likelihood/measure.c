@@ -1,0 +1,96 @@
+/*
+ * The measurement term: a Gaussian measurement x = mean +- sd of one
+ * parameter of the table or one derived quantity, chi2 = ((x - mean)/sd)^2,
+ * its normalisation -ln(2 pi sd^2)/2. A derived quantity is computed from
+ * the cosmology at the parameters (lt_derived_of), so on a flat model a
+ * measurement of omega_k sees 0; a parameter the model does not vary sees
+ * the value the model holds it at (w0 = -1, wa = 0 in LCDM), so that every
+ * model of a comparison meets the same measurement. Undefined values (an age without a big
+ * bang, no deceleration for z_t) are outside the term's domain.
+ */
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "internal.h"
+
+typedef struct {
+    lt_measurement m;
+    int at;      /* table index of the parameter, or -1 */
+    int derived; /* LT_DER_* when at < 0, or -1 */
+    int cosmo;   /* else LT_P_* of a parameter the model holds at its
+                  * default (w0 = -1 in LCDM): the measurement sees that */
+} measure;
+
+static void *measure_setup(const void *config, const lt_like *l, lt_error *err)
+{
+    const lt_measurement *m = config;
+    measure *t = calloc(1, sizeof *t);
+    if (!t) {
+        lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
+        return NULL;
+    }
+    t->m = *m;
+    t->at = -1;
+    for (size_t k = 0; k < l->npar; k++)
+        if (!strcmp(l->par[k].name, m->name))
+            t->at = (int)k;
+    t->derived = t->at < 0 ? lt_derived_find(m->name) : -1;
+    t->cosmo = t->at < 0 && t->derived < 0 ? lt_cosmo_param_find(m->name) : -1;
+    if (t->at < 0 && t->derived < 0 && t->cosmo < 0) {
+        lt_error_set(err, LT_EINPUT, "--measure", 0,
+                     "nothing called '%s' to measure in model %s (parameters: %s; derived: "
+                     "omega_k, omega_de, q0, z_t, age_gyr)",
+                     m->name, l->model->name, lt_param_known_list());
+        free(t);
+        return NULL;
+    }
+    if (t->at < 0 && t->derived == LT_DER_AGE && !l->h0_known) {
+        lt_error_set(err, LT_EINPUT, "--measure", 0,
+                     "age_gyr needs h0, which a marginalised offset leaves unknown");
+        free(t);
+        return NULL;
+    }
+    return t;
+}
+
+static void *measure_work_alloc(const void *state)
+{
+    (void)state;
+    return malloc(1); /* nothing to hold, but a work space all the same */
+}
+
+static void measure_work_free(void *work) { free(work); }
+
+static int measure_eval(const void *state, void *work, const lt_term_in *in, lt_term_out *out)
+{
+    (void)work;
+    const measure *t = state;
+    lt_cosmo_params p = in->cosmo->p;
+    double x = t->at >= 0        ? in->values[t->at]
+               : t->derived >= 0 ? lt_derived_of(in->cosmo, t->derived)
+                                 : *lt_cosmo_params_slot(&p, t->cosmo);
+    if (!isfinite(x))
+        return -1;
+    double u = (x - t->m.mean) / t->m.sd;
+    out->chi2 = out->chi2_eff = u * u;
+    return 0;
+}
+
+static size_t measure_ndata(const void *state)
+{
+    (void)state;
+    return 1;
+}
+
+static double measure_lognorm(const void *state)
+{
+    const measure *t = state;
+    return -0.5 * log(2.0 * M_PI * t->m.sd * t->m.sd);
+}
+
+static void measure_free(void *state) { free(state); }
+
+const lt_term_type lt_term_measure = {"measurement", measure_setup, measure_work_alloc,
+                                      measure_work_free, measure_eval, measure_ndata,
+                                      measure_lognorm, measure_free};

@@ -1,0 +1,193 @@
+/*
+ * Priors, the parameters lantern knows by name, and the likelihood's
+ * specification (settings and measurements by name): see
+ * include/lantern/likelihood.h.
+ */
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "lantern/likelihood.h"
+
+/* ---- priors ---- */
+int lt_prior_parse(const char *text, lt_prior *p, lt_error *err)
+{
+    char buf[256];
+    if (strlen(text) >= sizeof buf)
+        return lt_error_set(err, LT_EINPUT, NULL, 0, "prior '%.40s...' is too long", text);
+    strcpy(buf, text);
+    char *f[4] = {0};
+    int n = 0;
+    for (char *s = buf; n < 4;) {
+        f[n++] = s;
+        char *c = strchr(s, ':');
+        if (!c)
+            break;
+        *c = '\0';
+        s = c + 1;
+    }
+    double a, b;
+    if (n != 3 || lt_parse_double(f[1], &a) || lt_parse_double(f[2], &b))
+        return lt_error_set(err, LT_EINPUT, NULL, 0,
+                            "prior '%s' is not uniform:LO:HI or gauss:MEAN:SD", text);
+    if (!strcmp(f[0], "uniform")) {
+        if (!(a < b))
+            return lt_error_set(err, LT_EINPUT, NULL, 0,
+                                "prior '%s': impossible bounds, need LO < HI", text);
+        *p = (lt_prior){LT_PRIOR_UNIFORM, a, b};
+    } else if (!strcmp(f[0], "gauss")) {
+        if (!(b > 0))
+            return lt_error_set(err, LT_EINPUT, NULL, 0,
+                                "prior '%s': the standard deviation must be > 0", text);
+        *p = (lt_prior){LT_PRIOR_GAUSS, a, b};
+    } else {
+        return lt_error_set(err, LT_EINPUT, NULL, 0,
+                            "prior '%s': the kind must be uniform or gauss", text);
+    }
+    return LT_OK;
+}
+
+double lt_prior_logpdf(const lt_prior *p, double x)
+{
+    if (p->kind == LT_PRIOR_UNIFORM)
+        return x >= p->a && x <= p->b ? -log(p->b - p->a) : -INFINITY;
+    double u = (x - p->a) / p->b;
+    return -0.5 * u * u - log(p->b) - 0.5 * log(2.0 * M_PI);
+}
+
+void lt_prior_format(const lt_prior *p, char *buf, size_t size)
+{
+    snprintf(buf, size, p->kind == LT_PRIOR_UNIFORM ? "U(%g, %g)" : "N(%g, %g)", p->a, p->b);
+}
+
+/* ---- the parameters lantern knows ---- */
+int lt_param_known(const char *name)
+{
+    return name && (!strcmp(name, "offset") || lt_cosmo_param_find(name) >= 0);
+}
+
+int lt_param_of_model(const lt_cosmo_model *m, const char *name)
+{
+    if (!strcmp(name, "offset"))
+        return 1;
+    int id = lt_cosmo_param_find(name);
+    if (id < 0 || (id == LT_P_OMEGA_DE && m->flat))
+        return 0;
+    return lt_cosmo_model_uses(m, id);
+}
+
+const char *lt_param_known_list(void)
+{
+    return "h0, omega_m, omega_de, w0, wa, t_cmb, n_eff, offset";
+}
+
+lt_prior lt_param_default_prior(const char *name, lt_obs kind)
+{
+    static const struct {
+        const char *name;
+        lt_prior p;
+    } t[] = {{"h0", {LT_PRIOR_UNIFORM, 40, 100}}, {"omega_m", {LT_PRIOR_UNIFORM, 0, 1}},
+             {"omega_de", {LT_PRIOR_UNIFORM, 0, 1.6}}, {"w0", {LT_PRIOR_UNIFORM, -2, 0}},
+             {"wa", {LT_PRIOR_UNIFORM, -3, 2}}};
+    if (!strcmp(name, "offset"))
+        return kind == LT_OBS_MAG ? (lt_prior){LT_PRIOR_UNIFORM, -21, -17}
+                                  : (lt_prior){LT_PRIOR_UNIFORM, -2, 2};
+    for (size_t i = 0; i < sizeof t / sizeof t[0]; i++)
+        if (!strcmp(t[i].name, name))
+            return t[i].p;
+    return (lt_prior){LT_PRIOR_UNIFORM, 0, 0};
+}
+
+const char *lt_offset_name(lt_offset_mode m)
+{
+    switch (m) {
+    case LT_OFFSET_NONE: return "none";
+    case LT_OFFSET_MARGINAL: return "marginal";
+    case LT_OFFSET_SAMPLED: return "sampled";
+    default: return "default";
+    }
+}
+
+int lt_offset_parse(const char *text)
+{
+    if (!strcmp(text, "none"))
+        return LT_OFFSET_NONE;
+    if (!strcmp(text, "marginal"))
+        return LT_OFFSET_MARGINAL;
+    if (!strcmp(text, "sampled"))
+        return LT_OFFSET_SAMPLED;
+    return -1;
+}
+
+/* ---- the specification ---- */
+void lt_like_spec_init(lt_like_spec *s, const lt_cosmo_model *m)
+{
+    memset(s, 0, sizeof *s);
+    s->model = m;
+    s->offset = LT_OFFSET_DEFAULT;
+}
+
+const lt_param_setting *lt_like_spec_setting(const lt_like_spec *s, const char *name)
+{
+    for (size_t i = 0; i < s->nsettings; i++)
+        if (!strcmp(s->settings[i].name, name))
+            return &s->settings[i];
+    return NULL;
+}
+
+/* The slot for name's setting: its earlier one, or a new one. */
+static lt_param_setting *setting_slot(lt_like_spec *s, const char *name, lt_error *err)
+{
+    if (strlen(name) >= LT_NAME_MAX) {
+        lt_error_set(err, LT_EINPUT, NULL, 0, "parameter name '%.40s' is too long", name);
+        return NULL;
+    }
+    lt_param_setting *p = (lt_param_setting *)lt_like_spec_setting(s, name);
+    if (p)
+        return p;
+    if (s->nsettings == LT_MAX_PARAMS) {
+        lt_error_set(err, LT_EINPUT, NULL, 0, "more than %d parameter settings", LT_MAX_PARAMS);
+        return NULL;
+    }
+    p = &s->settings[s->nsettings++];
+    memset(p, 0, sizeof *p);
+    strcpy(p->name, name);
+    return p;
+}
+
+int lt_like_spec_prior(lt_like_spec *s, const char *name, lt_prior prior, lt_error *err)
+{
+    lt_param_setting *p = setting_slot(s, name, err);
+    if (!p)
+        return LT_EINPUT;
+    p->fixed = 0, p->prior = prior, p->value = 0.0;
+    return LT_OK;
+}
+
+int lt_like_spec_fix(lt_like_spec *s, const char *name, double value, lt_error *err)
+{
+    lt_param_setting *p = setting_slot(s, name, err);
+    if (!p)
+        return LT_EINPUT;
+    p->fixed = 1, p->prior = (lt_prior){LT_PRIOR_UNIFORM, 0, 0}, p->value = value;
+    return LT_OK;
+}
+
+int lt_like_spec_measure(lt_like_spec *s, const char *name, double mean, double sd,
+                         lt_error *err)
+{
+    if (strlen(name) >= LT_NAME_MAX)
+        return lt_error_set(err, LT_EINPUT, NULL, 0, "quantity name '%.40s' is too long", name);
+    if (!(sd > 0.0) || !isfinite(sd) || !isfinite(mean))
+        return lt_error_set(err, LT_EINPUT, NULL, 0,
+                            "the measurement of %s needs a finite mean and an sd > 0", name);
+    if (s->nmeasurements == LT_MAX_MEASUREMENTS)
+        return lt_error_set(err, LT_EINPUT, NULL, 0, "more than %d measurements",
+                            LT_MAX_MEASUREMENTS);
+    lt_measurement *m = &s->measurements[s->nmeasurements++];
+    memset(m, 0, sizeof *m);
+    strcpy(m->name, name);
+    m->mean = mean, m->sd = sd;
+    return LT_OK;
+}
