@@ -296,6 +296,12 @@ int lt_like_has_derived(const lt_like *l, int d);
  * age with no big bang). */
 double lt_like_derived(const lt_like *l, const double *theta, int d);
 
+/* The value at theta of the quantity called name: a parameter (free or
+ * fixed), a derived quantity, or a cosmological parameter the model holds
+ * at its default (w0 in LCDM); NaN if there is no such quantity or it is
+ * undefined there. What a measurement of name compares with. */
+double lt_like_quantity(const lt_like *l, const double *theta, const char *name);
+
 /* The value of derived quantity d for cosmology c (as lt_like_derived). */
 double lt_derived_of(const lt_cosmo *c, int d);
 

@@ -274,14 +274,22 @@ double lt_run_model_histogram(const lt_run_model *m, size_t cx, size_t cy, doubl
 int lt_report_write_figures(const char *dir, const lt_run_model *models, size_t n,
                             const lt_survey *s, lt_error *err);
 
-/* Add the "data" block (files, columns) and the "warnings" list of s to o;
- * returns the warnings array for the caller to extend. */
+/* Add the "data" block (files, columns, a digest of the survey and the
+ * measurements) and the "warnings" list of l's survey to o; returns the
+ * warnings array for the caller to extend. */
 struct cJSON *lt_report_add_data(struct cJSON *o, const lt_survey_spec *data,
-                                 const lt_survey *s);
+                                 const lt_like *l);
+/* "FILE: N objects, observable mag; 1 measurement" (the parts there are). */
+void lt_report_describe_data(const lt_like *l, const lt_survey_spec *data, char *buf,
+                             size_t size);
 
 /* Add "fixed" (every parameter of l that is not free, with its value) and,
- * where l has measurements, "measurements" ([{name, mean, sd}]) to o. */
-void lt_report_add_fixed(struct cJSON *o, const lt_like *l);
+ * where l has measurements, "measurements" ([{name, mean, sd, at_best,
+ * pull}], pull = (at_best - mean) / sd at the free parameters best) to o. */
+void lt_report_add_fixed(struct cJSON *o, const lt_like *l, const double *best);
+/* The measurements and their pulls at best as table lines ("  measured h0 =
+ * 73.04 +- 1.04: 72.9 at the best fit, pull -0.13"), if any. */
+void lt_report_print_measurements(FILE *f, const lt_like *l, const double *best);
 
 /* Write a JSON object to path atomically (pretty-printed). */
 int lt_report_write_json(const char *path, const struct cJSON *o, lt_error *err);

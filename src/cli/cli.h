@@ -115,6 +115,9 @@ int cli_sample_model(cli_job *j, lt_like *l, const lt_like_spec *spec, const cha
                      int resume, int print, cli_format format);
 /* If the current argument is a DATA, MODEL or output option, take it. */
 int cli_take_job(cli_args *a, cli_job *j);
+/* j's survey into *s; none (NULL) when no --data is given but spec has a
+ * measurement (the likelihood then has other terms). LT_OK or err's code. */
+int cli_job_survey(const cli_job *j, const lt_like_spec *spec, lt_survey **s, lt_error *err);
 /* The likelihood spec for model m from j's priors, fixes, measurements and offset;
  * prints any error and returns the exit status. */
 int cli_job_like_spec(const cli_job *j, const lt_cosmo_model *m, lt_like_spec *spec);

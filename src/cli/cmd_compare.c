@@ -330,7 +330,8 @@ int cli_compare(int argc, char **argv)
     volatile sig_atomic_t *stop = cli_catch_signals();
     lt_error err;
     lt_error_clear(&err);
-    if (!(s = lt_survey_read(&j.data, &err))) {
+    /* no survey where measurements alone are compared */
+    if ((j.data.data || !j.nmeasures) && !(s = lt_survey_read(&j.data, &err))) {
         status = cli_report(&err);
         goto done;
     }
@@ -419,7 +420,7 @@ int cli_compare(int argc, char **argv)
     /* the JSON summary */
     json = cJSON_CreateObject();
     cJSON_AddStringToObject(json, "command", "compare");
-    cJSON_AddItemToObject(json, "n_data", lt_json_number((double)s->n));
+    cJSON_AddItemToObject(json, "n_data", lt_json_number((double)lt_like_ndata(runs[0].l)));
     cJSON_AddStringToObject(json, "reference", runs[0].name);
     cJSON_AddStringToObject(json, "evidence_convention",
                             "ln Z of the normalised Gaussian likelihood; a marginalised offset "
@@ -430,7 +431,7 @@ int cli_compare(int argc, char **argv)
         cJSON *o = cJSON_CreateObject();
         size_t d = lt_like_dim(mr->l);
         cJSON_AddStringToObject(o, "model", mr->name);
-        cJSON_AddItemToObject(o, "n_data", lt_json_number((double)s->n));
+        cJSON_AddItemToObject(o, "n_data", lt_json_number((double)lt_like_ndata(mr->l)));
         cJSON_AddItemToObject(o, "k_params", lt_json_number((double)mr->fit.k_counted));
         cJSON_AddItemToObject(o, "chi2_min", lt_json_number(mr->fit.at_best.chi2));
         cJSON_AddItemToObject(o, "delta_chi2", lt_json_number(mr->fit.at_best.chi2 - runs[0].fit.at_best.chi2));
@@ -478,8 +479,9 @@ int cli_compare(int argc, char **argv)
         printf("%s\n", text ? text : "{}");
         free(text);
     } else {
-        printf("model comparison on %s: %zu objects, observable %s\n\n", j.data.data, s->n,
-               lt_obs_name(s->kind));
+        char what[4400];
+        lt_report_describe_data(runs[0].l, &j.data, what, sizeof what);
+        printf("model comparison on %s\n\n", what);
         printf("  %-10s %2s %9s %7s %9s %9s %9s %17s %15s  %s\n", "model", "k", "chi2_min", "dchi2",
                "AIC", "BIC", "DIC", "ln Z", "ln B", "reading (Kass & Raftery 1995, on 2 ln B)");
         for (size_t k = 0; k < nm; k++) {

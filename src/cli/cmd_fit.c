@@ -95,7 +95,7 @@ int cli_fit(int argc, char **argv)
         goto done;
     lt_error err;
     lt_error_clear(&err);
-    if (!(s = lt_survey_read(&j.data, &err)) || !(l = lt_like_alloc(s, &spec, &err)) ||
+    if (cli_job_survey(&j, &spec, &s, &err) || !(l = lt_like_alloc(s, &spec, &err)) ||
         (j.out && lt_outdir_prepare(j.out, j.force, &err))) {
         status = cli_report(&err);
         goto done;
@@ -129,7 +129,7 @@ int cli_fit(int argc, char **argv)
         snprintf(path, sizeof path, "%s/summary.json", j.out);
         int rc = lt_report_write_json(path, json, &err);
         snprintf(path, sizeof path, "%s/residuals.csv", j.out);
-        if (!rc)
+        if (!rc && s) /* residuals of the survey, where there is one */
             rc = lt_report_write_residuals(path, l, r.best, &err);
         if (!rc)
             rc = lt_outdir_finish(j.out, what, &err);

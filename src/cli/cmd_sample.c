@@ -476,7 +476,7 @@ int cli_sample(int argc, char **argv)
         goto done;
     lt_error err;
     lt_error_clear(&err);
-    if (!(s = lt_survey_read(&j.data, &err)) || !(l = lt_like_alloc(s, &spec, &err))) {
+    if (cli_job_survey(&j, &spec, &s, &err) || !(l = lt_like_alloc(s, &spec, &err))) {
         status = cli_report(&err);
         goto done;
     }

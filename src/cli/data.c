@@ -67,6 +67,6 @@ const char *cli_data_help =
 
 void cli_print_warnings(const lt_survey *s)
 {
-    for (size_t i = 0; i < s->nwarnings; i++)
+    for (size_t i = 0; s && i < s->nwarnings; i++)
         fprintf(stderr, "lantern: warning: %s\n", s->warnings[i]);
 }

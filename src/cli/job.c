@@ -583,6 +583,14 @@ int cli_job_write(const cli_job *j, const lt_like_spec *spec, const char *path, 
     return rc;
 }
 
+int cli_job_survey(const cli_job *j, const lt_like_spec *spec, lt_survey **s, lt_error *err)
+{
+    *s = NULL;
+    if (!j->data.data && spec->nmeasurements)
+        return LT_OK;
+    return (*s = lt_survey_read(&j->data, err)) ? LT_OK : err->code;
+}
+
 int cli_job_model(const cli_job *j, const char *command, lt_like_spec *spec)
 {
     if (!j->model)
@@ -650,15 +658,17 @@ uint64_t cli_like_fingerprint(const lt_like *l, const lt_like_spec *spec)
 {
     uint64_t h = 0xCBF29CE484222325ull;
     const lt_survey *s = lt_like_survey(l);
-    cli_fnv(&h, &s->n, sizeof s->n);
-    cli_fnv(&h, s->z, s->n * sizeof *s->z);
-    cli_fnv(&h, s->zhel, s->n * sizeof *s->zhel);
-    cli_fnv(&h, s->obs, s->n * sizeof *s->obs);
-    double *diag = malloc(s->n * sizeof *diag);
-    if (diag) {
-        lt_cov_diagonal(s->cov, diag);
-        cli_fnv(&h, diag, s->n * sizeof *diag);
-        free(diag);
+    if (s) {
+        cli_fnv(&h, &s->n, sizeof s->n);
+        cli_fnv(&h, s->z, s->n * sizeof *s->z);
+        cli_fnv(&h, s->zhel, s->n * sizeof *s->zhel);
+        cli_fnv(&h, s->obs, s->n * sizeof *s->obs);
+        double *diag = malloc(s->n * sizeof *diag);
+        if (diag) {
+            lt_cov_diagonal(s->cov, diag);
+            cli_fnv(&h, diag, s->n * sizeof *diag);
+            free(diag);
+        }
     }
     cli_fnv(&h, lt_like_model(l)->name, strlen(lt_like_model(l)->name));
     /* settings and measurements field by field (struct padding holds no

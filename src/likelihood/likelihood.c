@@ -463,6 +463,23 @@ double lt_like_derived(const lt_like *l, const double *theta, int d)
     return lt_derived_of(&c, d);
 }
 
+double lt_like_quantity(const lt_like *l, const double *theta, const char *name)
+{
+    double values[LT_MAX_PARAMS];
+    lt_cosmo_params p;
+    lt_like_values(l, theta, values, &p);
+    for (size_t k = 0; k < l->npar; k++)
+        if (!strcmp(l->par[k].name, name))
+            return values[k];
+    int d = lt_derived_find(name), id = lt_cosmo_param_find(name);
+    if (d < 0 && id < 0)
+        return NAN;
+    lt_cosmo c;
+    if (lt_cosmo_init(&c, l->model, &p, NULL) != LT_OK)
+        return NAN;
+    return d >= 0 ? lt_derived_of(&c, d) : *lt_cosmo_params_slot(&c.p, id);
+}
+
 double lt_pivot_redshift(double cov_w0_wa, double var_wa)
 {
     if (!(var_wa > 0.0))

@@ -44,32 +44,43 @@ static void fnv1a(uint64_t *h, const void *p, size_t n)
 }
 
 /* A digest of the data a model was fitted to, after cuts: the size, the
- * observable, z, zhel, the observations and the covariance's diagonal.
- * lantern report compares it to tell runs on other data apart. */
-static void survey_digest(const lt_survey *s, char *out, size_t size)
+ * observable, z, zhel, the observations and the covariance's diagonal, and
+ * each measurement's name, mean and sd. lantern report compares it to tell
+ * runs on other data apart. */
+static void data_digest(const lt_like *l, char *out, size_t size)
 {
     uint64_t h = 0xCBF29CE484222325ull;
-    int kind = (int)s->kind;
-    fnv1a(&h, &s->n, sizeof s->n);
-    fnv1a(&h, &kind, sizeof kind);
-    fnv1a(&h, s->z, s->n * sizeof *s->z);
-    fnv1a(&h, s->zhel, s->n * sizeof *s->zhel);
-    fnv1a(&h, s->obs, s->n * sizeof *s->obs);
-    double *diag = malloc((s->n ? s->n : 1) * sizeof *diag);
-    if (diag && s->cov) {
-        lt_cov_diagonal(s->cov, diag);
-        fnv1a(&h, diag, s->n * sizeof *diag);
+    const lt_survey *s = lt_like_survey(l);
+    if (s) {
+        int kind = (int)s->kind;
+        fnv1a(&h, &s->n, sizeof s->n);
+        fnv1a(&h, &kind, sizeof kind);
+        fnv1a(&h, s->z, s->n * sizeof *s->z);
+        fnv1a(&h, s->zhel, s->n * sizeof *s->zhel);
+        fnv1a(&h, s->obs, s->n * sizeof *s->obs);
+        double *diag = malloc((s->n ? s->n : 1) * sizeof *diag);
+        if (diag && s->cov) {
+            lt_cov_diagonal(s->cov, diag);
+            fnv1a(&h, diag, s->n * sizeof *diag);
+        }
+        free(diag);
     }
-    free(diag);
+    for (size_t k = 0; k < lt_like_nmeasurements(l); k++) {
+        const lt_measurement *m = lt_like_measurement(l, k);
+        double v[2] = {m->mean, m->sd};
+        fnv1a(&h, m->name, strlen(m->name) + 1);
+        fnv1a(&h, v, sizeof v);
+    }
     snprintf(out, size, "fnv1a64:%016llx", (unsigned long long)h);
 }
 
-cJSON *lt_report_add_data(cJSON *o, const lt_survey_spec *data, const lt_survey *s)
+cJSON *lt_report_add_data(cJSON *o, const lt_survey_spec *data, const lt_like *l)
 {
+    const lt_survey *s = lt_like_survey(l);
     cJSON *files = cJSON_AddObjectToObject(o, "data");
     cJSON_AddStringToObject(files, "file", data->data ? data->data : "");
     char digest[64];
-    survey_digest(s, digest, sizeof digest);
+    data_digest(l, digest, sizeof digest);
     cJSON_AddStringToObject(files, "digest", digest);
     cJSON_AddStringToObject(files, "columns", data->columns ? data->columns : "");
     cJSON *covs = cJSON_AddArrayToObject(files, "cov");
@@ -78,12 +89,26 @@ cJSON *lt_report_add_data(cJSON *o, const lt_survey_spec *data, const lt_survey 
     if (data->modes)
         cJSON_AddStringToObject(files, "modes", data->modes);
     cJSON *w = cJSON_AddArrayToObject(o, "warnings");
-    for (size_t i = 0; i < s->nwarnings; i++)
+    for (size_t i = 0; s && i < s->nwarnings; i++)
         cJSON_AddItemToArray(w, cJSON_CreateString(s->warnings[i]));
     return w;
 }
 
-void lt_report_add_fixed(cJSON *o, const lt_like *l)
+void lt_report_describe_data(const lt_like *l, const lt_survey_spec *data, char *buf,
+                             size_t size)
+{
+    const lt_survey *s = lt_like_survey(l);
+    size_t nm = lt_like_nmeasurements(l), len = 0;
+    buf[0] = '\0';
+    if (s)
+        len = (size_t)snprintf(buf, size, "%s: %zu objects, observable %s", data->data, s->n,
+                               lt_obs_name(s->kind));
+    if (nm && len < size)
+        snprintf(buf + len, size - len, "%s%zu measurement%s", s ? "; " : "", nm,
+                 nm == 1 ? "" : "s");
+}
+
+void lt_report_add_fixed(cJSON *o, const lt_like *l, const double *best)
 {
     cJSON *fixed = cJSON_AddObjectToObject(o, "fixed");
     for (size_t k = 0; k < lt_like_nfixed(l); k++)
@@ -97,7 +122,20 @@ void lt_report_add_fixed(cJSON *o, const lt_like *l)
         cJSON_AddStringToObject(e, "name", m->name);
         cJSON_AddItemToObject(e, "mean", num(m->mean));
         cJSON_AddItemToObject(e, "sd", num(m->sd));
+        double x = lt_like_quantity(l, best, m->name);
+        cJSON_AddItemToObject(e, "at_best", num(x));
+        cJSON_AddItemToObject(e, "pull", num((x - m->mean) / m->sd));
         cJSON_AddItemToArray(ms, e);
+    }
+}
+
+void lt_report_print_measurements(FILE *f, const lt_like *l, const double *best)
+{
+    for (size_t k = 0; k < lt_like_nmeasurements(l); k++) {
+        const lt_measurement *m = lt_like_measurement(l, k);
+        double x = lt_like_quantity(l, best, m->name);
+        fprintf(f, "  measured %s = %g +- %g: %.6g at the best fit, pull %+.2f\n", m->name,
+                m->mean, m->sd, x, (x - m->mean) / m->sd);
     }
 }
 
@@ -160,7 +198,7 @@ cJSON *lt_report_fit_json(const lt_like *l, const lt_fit_result *r, const lt_sur
     if (lt_like_offset_mode(l) != LT_OFFSET_NONE)
         cJSON_AddItemToObject(off, "best", num(r->at_best.offset));
 
-    lt_report_add_fixed(o, l);
+    lt_report_add_fixed(o, l, r->best);
     const char *note = h0_note(l);
     if (note)
         cJSON_AddStringToObject(o, "h0_note", note);
@@ -185,7 +223,7 @@ cJSON *lt_report_fit_json(const lt_like *l, const lt_fit_result *r, const lt_sur
     cJSON_AddItemToObject(opt, "best_start", num((double)r->info.best_start));
     cJSON_AddItemToObject(opt, "starts_agreeing", num((double)r->info.agree));
 
-    cJSON *w = lt_report_add_data(o, data, s);
+    cJSON *w = lt_report_add_data(o, data, l);
     if (!r->laplace_ok)
         cJSON_AddItemToArray(w, cJSON_CreateString(r->laplace_note));
     return o;
@@ -206,10 +244,10 @@ static const char *sigma_text(double sd, char *buf, size_t size)
 void lt_report_fit_table(FILE *f, const lt_like *l, const lt_fit_result *r,
                          const lt_survey_spec *data)
 {
-    const lt_survey *s = lt_like_survey(l);
     const lt_cosmo_model *m = lt_like_model(l);
-    fprintf(f, "best fit of %s (%s) to %s: %zu objects, observable %s\n\n", m->name, m->summary,
-            data->data, s->n, lt_obs_name(s->kind));
+    char what[4400];
+    lt_report_describe_data(l, data, what, sizeof what);
+    fprintf(f, "best fit of %s (%s) to %s\n\n", m->name, m->summary, what);
     fprintf(f, "  %-12s %12s %12s   %s\n", "parameter", "best", "+-sigma", "prior");
     char sd[32];
     for (size_t i = 0; i < r->dim; i++) {
@@ -242,12 +280,16 @@ void lt_report_fit_table(FILE *f, const lt_like *l, const lt_fit_result *r,
     if (base.t_cmb > 0.0)
         fprintf(f, ", n_eff = %g", base.n_eff);
     fputs(first ? "\n" : "\n", f);
+    lt_report_print_measurements(f, l, r->best);
     lt_offset_mode om = lt_like_offset_mode(l);
     if (om == LT_OFFSET_MARGINAL)
         fprintf(f, "  offset: marginalised analytically (flat prior); best value %.5g\n",
                 r->at_best.offset);
-    fprintf(f, "\n  chi2_min %.4f for %ld degrees of freedom (p = %.3g)\n", r->at_best.chi2,
-            r->dof, r->p_value);
+    char pv[32] = "-: no degrees of freedom left";
+    if (isfinite(r->p_value))
+        snprintf(pv, sizeof pv, "%.3g", r->p_value);
+    fprintf(f, "\n  chi2_min %.4f for %ld degrees of freedom (p = %s)\n", r->at_best.chi2,
+            r->dof, pv);
     fprintf(f, "  AIC %.3f, BIC %.3f (k = %zu parameter%s%s)\n", r->aic, r->bic, r->k_counted,
             r->k_counted == 1 ? "" : "s",
             om == LT_OFFSET_MARGINAL ? ", the marginalised offset counted" : "");

@@ -308,7 +308,7 @@ cJSON *lt_report_sample_json(const lt_like *l, const lt_sample_result *r,
     cJSON_AddItemToObject(o, "aic", num(r->at_best.chi2 + 2.0 * (double)kp));
     cJSON_AddItemToObject(o, "bic", num(r->at_best.chi2 + (double)kp * log((double)lt_like_ndata(l))));
     cJSON_AddBoolToObject(o, "converged", r->converged);
-    lt_report_add_fixed(o, l);
+    lt_report_add_fixed(o, l, r->best);
     cJSON *params = cJSON_AddObjectToObject(o, "params");
     for (size_t i = 0; i < d; i++) {
         cJSON *p = stats_json(&r->stats[r->first_param + i], r->best[i]);
@@ -397,7 +397,7 @@ cJSON *lt_report_sample_json(const lt_like *l, const lt_sample_result *r,
             cJSON_AddItemToObject(cp, "max_abs_dchi2_weighted_draws", num(r->max_abs_dchi2));
         }
     }
-    cJSON *w = lt_report_add_data(o, data, s);
+    cJSON *w = lt_report_add_data(o, data, l);
     if (r->compression.checked_ok && r->compression.posterior_dchi2 > LT_CHECK_BOUND) {
         char text[512];
         lt_report_compression_warning(r, text, sizeof text);
@@ -417,9 +417,10 @@ cJSON *lt_report_sample_json(const lt_like *l, const lt_sample_result *r,
 void lt_report_sample_table(FILE *f, const lt_like *l, const lt_sample_result *r,
                             const lt_survey_spec *data)
 {
-    const lt_survey *s = lt_like_survey(l);
-    fprintf(f, "posterior of %s (%s) given %s: %zu objects, observable %s\n\n",
-            lt_like_model(l)->name, lt_like_model(l)->summary, data->data, s->n, lt_obs_name(s->kind));
+    char what[4400];
+    lt_report_describe_data(l, data, what, sizeof what);
+    fprintf(f, "posterior of %s (%s) given %s\n\n", lt_like_model(l)->name,
+            lt_like_model(l)->summary, what);
     fprintf(f, "  %-10s %11s %10s %11s %23s %23s %7s %7s\n", "parameter", "mean", "sd", "best",
             "68% interval", "95% interval", "R-hat", "ESS");
     for (size_t k = 0; k < r->nparams + r->nderived; k++) {
@@ -437,6 +438,9 @@ void lt_report_sample_table(FILE *f, const lt_like *l, const lt_sample_result *r
     }
     if (!isnan(r->z_pivot))
         fprintf(f, "  z_pivot    %11.5g (from the posterior covariance of w0 and wa)\n", r->z_pivot);
+    if (lt_like_nmeasurements(l))
+        fputc('\n', f);
+    lt_report_print_measurements(f, l, r->best);
     fprintf(f, "\n  chi2_min %.4f for %ld degrees of freedom (the best draw, polished)\n",
             r->at_best.chi2, lt_like_dof(l));
     if (r->weights)
