@@ -270,7 +270,8 @@ double lt_run_model_histogram(const lt_run_model *m, size_t cx, size_t cy, doubl
 
 /* Figures (PLplot, cairo drivers), PNG and PDF: hubble.*, and per model
  * posterior_<model>.*, plane_<model>.* (curved and w0-wa models) and
- * traces_<model>.png. The survey s gives the Hubble diagram's data. */
+ * traces_<model>.png. The survey s gives the Hubble diagram's data (NULL:
+ * no Hubble diagram, for measurements alone). */
 int lt_report_write_figures(const char *dir, const lt_run_model *models, size_t n,
                             const lt_survey *s, lt_error *err);
 

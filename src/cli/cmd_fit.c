@@ -22,6 +22,13 @@ const char *cli_model_help =
     "                      is integrated out with a flat prior and h0 is held at 70),\n"
     "                      sampled (a fitted parameter; a --prior on offset implies it,\n"
     "                      and frees h0), or none (the default for mu and dl data)\n"
+    "  --measure NAME=MEAN:SD  a Gaussian measurement of a parameter or derived\n"
+    "                      quantity (omega_k, omega_de, q0, z_t, age_gyr), added to\n"
+    "                      chi2 (repeatable; run file: [measurements] NAME = MEAN:SD),\n"
+    "                      e.g. h0=73.04:1.04 or omega_k=0.001:0.002. --data may then be\n"
+    "                      left out. h0 is free whenever a measurement depends on it;\n"
+    "                      a model without the quantity shows it its fixed value\n"
+    "                      (omega_k = 0 when flat, w0 = -1 in LCDM)\n"
     "omega_* are density fractions today (Omega_m, not Omega_m h^2).\n";
 
 static void usage(FILE *f)

@@ -342,8 +342,9 @@ int cli_run(int argc, char **argv)
     cli_job_absolute(&j);
     /* the data, once */
     if (!j.quiet)
-        fprintf(stderr, "lantern run %s: reading %s\n", name, j.data.data ? j.data.data : "?");
-    if (!(s = lt_survey_read(&j.data, &err))) {
+        fprintf(stderr, "lantern run %s: reading %s\n", name,
+                j.data.data ? j.data.data : "no survey (measurements only)");
+    if ((j.data.data || !j.nmeasures) && !(s = lt_survey_read(&j.data, &err))) {
         status = cli_report(&err);
         goto done;
     }
@@ -548,8 +549,9 @@ int cli_report_runs(int argc, char **argv)
                      cJSON_IsString(rname) ? rname->valuestring : runs[r], folder->valuestring);
             labels[n] = nr > 1 ? label_text[n] : NULL;
             /* the data of the first model of the first run, for the Hubble diagram */
-            if (!s) {
-                const cJSON *data = cJSON_GetObjectItemCaseSensitive(m, "data");
+            const cJSON *data = cJSON_GetObjectItemCaseSensitive(m, "data");
+            const cJSON *dfile = cJSON_GetObjectItemCaseSensitive(data, "file");
+            if (!s && cJSON_IsString(dfile) && dfile->valuestring[0]) {
                 lt_survey_spec spec;
                 lt_survey_spec_init(&spec);
                 const cJSON *f = cJSON_GetObjectItemCaseSensitive(data, "file");

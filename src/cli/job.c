@@ -520,8 +520,12 @@ int cli_job_write(const cli_job *j, const lt_like_spec *spec, const char *path, 
 #define ADD(...) (len += (size_t)snprintf(t + len, len < cap ? cap - len : 0, __VA_ARGS__))
     ADD("# written by lantern %s: the settings of this run, read by --resume\n", LT_VERSION);
     ADD("[run]\nname = %s\n[data]\n", j->name ? j->name : "sample");
-    absolute(j->data.data, p, sizeof p);
-    ADD("file = %s\ncolumns = %s\n", p, j->data.columns);
+    if (j->data.data) { /* none for measurements alone */
+        absolute(j->data.data, p, sizeof p);
+        ADD("file = %s\n", p);
+    }
+    if (j->data.columns)
+        ADD("columns = %s\n", j->data.columns);
     if (j->data.ncov) {
         ADD("cov = ");
         for (size_t i = 0; i < j->data.ncov; i++) {

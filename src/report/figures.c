@@ -678,10 +678,11 @@ done:
 int lt_report_write_figures(const char *dir, const lt_run_model *models, size_t n,
                             const lt_survey *s, lt_error *err)
 {
-    if (n == 0 || !models || !s)
-        return lt_error_set(err, LT_EINPUT, dir, 0, "a report needs at least one model and its data");
+    if (n == 0 || !models)
+        return lt_error_set(err, LT_EINPUT, dir, 0, "a report needs at least one model");
+    /* the Hubble diagram where there is a survey (measurements alone have none) */
     hubble_ctx h = {models, n, s};
-    int rc = figure(dir, "hubble", 1, 1100, 800, draw_hubble, &h, err);
+    int rc = s ? figure(dir, "hubble", 1, 1100, 800, draw_hubble, &h, err) : LT_OK;
     for (size_t i = 0; !rc && i < n; i++) {
         /* the models of this name: the figures of the first one show them all */
         model_group g = {models, {0}, 0};

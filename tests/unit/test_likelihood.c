@@ -305,12 +305,99 @@ static void test_offset_marginalisation(void **state)
         lt_like_eval(samp, w2, off, &p2);
         assert_rel(p1.chi2, pm.chi2, 1e-10);
         assert_true(p2.chi2 > p1.chi2);
+        /* a fixed offset (--fix offset=X) enters the likelihood as that value:
+         * chi2 at om equals the sampled chi2 at (om, X); before issue 17 it was
+         * taken as 0 (chi2 of order 10^7 on this survey) */
+        lt_like_spec fs;
+        lt_like_spec_init(&fs, m);
+        fs.exact = 1;
+        lt_like_spec_fix(&fs, "offset", pm.offset, NULL);
+        lt_like_spec_fix(&fs, "h0", 70, NULL);
+        lt_like *fixed = like_for(mag_survey, NULL, &fs);
+        assert_int_equal(lt_like_dim(fixed), 1);
+        assert_int_equal(lt_like_offset_mode(fixed), LT_OFFSET_SAMPLED);
+        lt_like_work *w3 = lt_like_work_alloc(fixed);
+        lt_like_point p3;
+        lt_like_eval(fixed, w3, &om, &p3);
+        assert_rel(p3.chi2, p1.chi2, 1e-12);
+        lt_like_work_free(w3);
+        lt_like_free(fixed);
     }
     gsl_integration_workspace_free(ws);
     lt_like_work_free(w);
     lt_like_work_free(w2);
     lt_like_free(marg);
     lt_like_free(samp);
+}
+
+/* ---- measurements ---- */
+
+/* A measurement term adds ((x - mean)/sd)^2 to chi2 and -ln(2 pi sd^2)/2
+ * to the normalisation (the Gaussian density, closed form); x is a
+ * parameter, a derived quantity from the cosmology (omega_k = 1 - omega_m
+ * - omega_de with radiation off), or a parameter the model holds fixed. */
+static void test_measurements(void **state)
+{
+    (void)state;
+    lt_error err;
+    lt_like_spec spec;
+    /* h0 measured on mag data with a marginalised offset: h0 becomes free */
+    lt_like_spec_init(&spec, lt_cosmo_model_find("lcdm"));
+    spec.exact = 1;
+    lt_like *plain = like_for(mag_survey, NULL, &spec);
+    assert_int_equal(lt_like_spec_measure(&spec, "h0", 73.0, 1.0, &err), LT_OK);
+    assert_int_equal(lt_like_spec_measure(&spec, "omega_k", 0.01, 0.02, &err), LT_OK);
+    lt_like *l = like_for(mag_survey, NULL, &spec);
+    assert_int_equal(lt_like_dim(l), 3);
+    assert_string_equal(lt_like_param_name(l, 0), "h0");
+    assert_true(lt_like_h0_known(l));
+    assert_int_equal(lt_like_ndata(l), 62);
+    assert_int_equal(lt_like_dof(l), 62 - 3 - 1);
+    lt_like_work *w = lt_like_work_alloc(l), *wp = lt_like_work_alloc(plain);
+    double th[3] = {71.5, 0.28, 0.75}, th_plain[2] = {0.28, 0.75};
+    lt_like_point a, b;
+    lt_like_eval(l, w, th, &a);
+    lt_like_eval(plain, wp, th_plain, &b);
+    double ok = 1.0 - 0.28 - 0.75;
+    double want = b.chi2 + pow((71.5 - 73.0) / 1.0, 2) + pow((ok - 0.01) / 0.02, 2);
+    assert_true(fabs(a.chi2 - want) < 1e-9);
+    assert_true(fabs(a.chi2_eff - (b.chi2_eff + want - b.chi2)) < 1e-9);
+    double norm = lt_like_lognorm(plain) - 0.5 * log(2 * M_PI * 1.0) - 0.5 * log(2 * M_PI * 4e-4);
+    assert_true(fabs(lt_like_lognorm(l) - norm) < 1e-12);
+    assert_true(fabs(lt_like_quantity(l, th, "omega_k") - ok) < 1e-15);
+    lt_like_work_free(w);
+    lt_like_work_free(wp);
+    lt_like_free(l);
+    lt_like_free(plain);
+    /* no survey: measurements alone; omega_k on a flat model is 0 and w0 in
+     * LCDM is -1 */
+    lt_like_spec_init(&spec, lt_cosmo_model_find("lcdm-flat"));
+    lt_like_spec_measure(&spec, "omega_k", 0.002, 0.001, &err);
+    lt_like_spec_measure(&spec, "w0", -0.9, 0.05, &err);
+    lt_like_spec_measure(&spec, "omega_m", 0.31, 0.01, &err);
+    l = like_for(NULL, NULL, &spec);
+    assert_null(lt_like_survey(l));
+    assert_int_equal(lt_like_dim(l), 1);
+    assert_false(lt_like_h0_known(l));
+    w = lt_like_work_alloc(l);
+    double om = 0.3;
+    lt_like_eval(l, w, &om, &a);
+    want = 4.0 + 4.0 + 1.0; /* (0 - 0.002)/0.001, (-1 + 0.9)/0.05, (0.3 - 0.31)/0.01 */
+    assert_true(fabs(a.chi2 - want) < 1e-9);
+    lt_like_work_free(w);
+    lt_like_free(l);
+    /* errors: an unknown quantity, a bad sd, an age without h0, nothing at all */
+    lt_like_spec_init(&spec, lt_cosmo_model_find("lcdm"));
+    assert_int_equal(lt_like_spec_measure(&spec, "h0", 70, 0, &err), LT_EINPUT);
+    lt_like_spec_measure(&spec, "nope", 1, 1, &err);
+    expect_spec_error(mag_survey, &spec, "nothing called 'nope'");
+    lt_like_spec_init(&spec, lt_cosmo_model_find("lcdm"));
+    expect_spec_error(NULL, &spec, "nothing to fit");
+    lt_like_spec_init(&spec, lt_cosmo_model_find("lcdm"));
+    lt_prior pr = {LT_PRIOR_UNIFORM, 60, 80};
+    lt_like_spec_prior(&spec, "h0", pr, &err);
+    lt_like_spec_measure(&spec, "omega_k", 0, 0.1, &err);
+    expect_spec_error(mag_survey, &spec, "h0 is degenerate");
 }
 
 /* ---- derived parameters ---- */
@@ -381,7 +468,8 @@ int main(void)
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_priors),           cmocka_unit_test(test_free_parameters),
         cmocka_unit_test(test_spec_errors),      cmocka_unit_test(test_bounds),
-        cmocka_unit_test(test_offset_marginalisation), cmocka_unit_test(test_derived),
+        cmocka_unit_test(test_offset_marginalisation),
+        cmocka_unit_test(test_measurements), cmocka_unit_test(test_derived),
         cmocka_unit_test(test_distance_data),
     };
     return cmocka_run_group_tests_name("likelihood", tests, setup, teardown);
