@@ -7,6 +7,7 @@
 #define LT_VERSION "0.1.0"
 
 #include "lantern/util.h"
+#include "lantern/text.h"
 #include "lantern/cosmology.h"
 #include "lantern/survey.h"
 #include "lantern/simulate.h"

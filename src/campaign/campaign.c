@@ -6,6 +6,7 @@
 #include <unistd.h>
 
 #include "lantern/campaign.h"
+#include "lantern/text.h"
 #include "internal.h"
 
 const char *lt_method_name(lt_method m)
@@ -61,11 +62,7 @@ static size_t split_list(char *s, char **items, size_t max)
 {
     size_t n = 0;
     for (char *tok = strtok(s, ","); tok; tok = strtok(NULL, ",")) {
-        while (*tok == ' ' || *tok == '\t')
-            tok++;
-        size_t len = strlen(tok);
-        while (len && (tok[len - 1] == ' ' || tok[len - 1] == '\t'))
-            tok[--len] = '\0';
+        tok = lt_text_trim(tok);
         if (n == max)
             return max + 1;
         items[n++] = tok;

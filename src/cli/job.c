@@ -183,11 +183,7 @@ int cli_job_load_sets(cli_job *j, const char *path, const char *const *sets, siz
         char *list = strdup(e->value), *save = NULL;
         keep(j, list);
         for (char *p = list ? strtok_r(list, ",", &save) : NULL; p; p = strtok_r(NULL, ",", &save)) {
-            while (*p == ' ' || *p == '\t')
-                p++;
-            size_t n = strlen(p);
-            while (n && (p[n - 1] == ' ' || p[n - 1] == '\t'))
-                p[--n] = '\0';
+            p = lt_text_trim(p);
             if (!*p)
                 continue;
             if (j->data.ncov == LT_SURVEY_MAX_COV)

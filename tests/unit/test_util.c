@@ -96,6 +96,41 @@ static void test_outdir_command(void **state)
     assert_int_equal(lt_test_rmtree(dir), 0);
 }
 
+/* Lines, fields and trimming (lantern/text.h). The expected values follow
+ * from the header's contracts: a byte-order mark is skipped, "\r\n" ends a
+ * line like "\n", CSV fields are trimmed, blank-separated fields are runs
+ * of non-blanks. */
+static void test_text(void **state)
+{
+    (void)state;
+    char buf[] = "\xEF\xBB\xBFz, mu ,err\r\n\n  0.1\t35.2  0.1\nlast";
+    lt_lines it;
+    size_t len;
+    lt_lines_start(&it, buf);
+    char *s = lt_lines_next(&it, &len), *f[4];
+    assert_string_equal(s, "z, mu ,err");
+    assert_int_equal(len, 10);
+    assert_int_equal(it.line, 1);
+    assert_int_equal(lt_line_split(s, 1, f, 4), 3);
+    assert_string_equal(f[1], "mu");
+    assert_string_equal(f[2], "err");
+    s = lt_lines_next(&it, &len);
+    assert_true(lt_line_blank(s));
+    s = lt_lines_next(&it, &len);
+    assert_int_equal(it.line, 3);
+    assert_false(lt_line_blank(s));
+    assert_int_equal(lt_line_split(s, 0, f, 2), -1); /* three fields, room for two */
+    s = lt_lines_next(&it, &len);
+    assert_string_equal(s, "last");
+    assert_null(lt_lines_next(&it, &len));
+    assert_int_equal(it.line, 4);
+
+    char t[] = " \t a b\t \t";
+    assert_string_equal(lt_text_trim(t), "a b");
+    char e[] = " \t";
+    assert_string_equal(lt_text_trim(e), "");
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -103,6 +138,7 @@ int main(void)
         cmocka_unit_test(test_parse_double),
         cmocka_unit_test(test_parse_long),
         cmocka_unit_test(test_outdir_command),
+        cmocka_unit_test(test_text),
     };
     return cmocka_run_group_tests_name("util", tests, NULL, NULL);
 }

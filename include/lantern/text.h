@@ -1,0 +1,42 @@
+/*
+ * lantern/text.h - scanning text: lines of a buffer, fields of a line,
+ * trimming.
+ *
+ * Every reader of text files (survey tables, covariance matrices, mode
+ * tables, id lists, run files) walks its buffer with lt_lines, so that all
+ * of them count lines alike (the numbers their error messages name) and
+ * treat a UTF-8 byte-order mark and "\r\n" line ends alike. Everything
+ * here edits the caller's buffer in place and allocates nothing. Blanks
+ * are spaces and tabs only: a line's other bytes are the reader's to judge.
+ */
+#ifndef LANTERN_TEXT_H
+#define LANTERN_TEXT_H
+
+#include <stddef.h>
+
+/* Lines of a NUL-terminated buffer, cut in place. */
+typedef struct lt_lines {
+    char *p;   /* the rest of the buffer */
+    long line; /* the 1-based number of the line last returned */
+} lt_lines;
+
+/* Start at buf, skipping a UTF-8 byte-order mark. */
+void lt_lines_start(lt_lines *it, char *buf);
+
+/* The next line, NUL-terminated and without its "\n" or "\r\n", or NULL at
+ * the end; *len gets its length. */
+char *lt_lines_next(lt_lines *it, size_t *len);
+
+/* Is the line empty or only blanks and tabs? */
+int lt_line_blank(const char *s);
+
+/* Split line in place into fields: at commas (csv, fields trimmed of blanks
+ * and tabs) or at runs of blanks and tabs. Returns the count, or -1 if
+ * there are more than max. */
+long lt_line_split(char *line, int csv, char **fields, long max);
+
+/* s without its leading and trailing blanks and tabs: the trailing ones are
+ * cut in place, and the result points into s. */
+char *lt_text_trim(char *s);
+
+#endif
