@@ -9,6 +9,7 @@
 #include <signal.h>
 #include <stddef.h>
 
+#include "lantern/rng.h"
 #include "lantern/util.h"
 
 /* The function to minimise: -2 ln(posterior) up to a constant, or +inf
@@ -54,27 +55,6 @@ int lt_optimize(lt_objective f, void *ctx, const lt_optim_opts *o, double *x_bes
  */
 int lt_laplace(lt_objective f, void *ctx, size_t dim, const double *x, const double *scale,
                double *cov, size_t *bad, lt_error *err);
-
-/* ---------------------------------------------------------------------- */
-/* Random numbers                                                          */
-/* ---------------------------------------------------------------------- */
-
-#include <stdint.h>
-
-/*
- * xoshiro256** (Blackman & Vigna 2021, ACM TOMS 47, 36), seeded through
- * splitmix64 from (seed, stream): every chain's stream comes from the run's
- * seed and the chain's index only. The state is four words, so a checkpoint
- * can hold it exactly.
- */
-typedef struct lt_rng {
-    uint64_t s[4];
-} lt_rng;
-
-void lt_rng_seed(lt_rng *r, uint64_t seed, uint64_t stream);
-uint64_t lt_rng_next(lt_rng *r);
-double lt_rng_uniform(lt_rng *r); /* in [0, 1), 53 random bits */
-double lt_rng_normal(lt_rng *r);  /* standard normal (Box-Muller, one of the pair) */
 
 /* ---------------------------------------------------------------------- */
 /* Convergence diagnostics                                                 */

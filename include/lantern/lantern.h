@@ -8,6 +8,7 @@
 
 #include "lantern/util.h"
 #include "lantern/text.h"
+#include "lantern/rng.h"
 #include "lantern/cosmology.h"
 #include "lantern/survey.h"
 #include "lantern/simulate.h"

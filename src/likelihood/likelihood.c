@@ -7,7 +7,7 @@
 #include <string.h>
 
 #include "compress.h"
-#include "lantern/inference.h"
+#include "lantern/rng.h"
 #include "lantern/likelihood.h"
 
 /* ---- parameter names ---- */
