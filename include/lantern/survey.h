@@ -22,7 +22,7 @@
 #include <stddef.h>
 #include <stdint.h>
 
-#include "lantern/util.h"
+#include "lantern/error.h"
 
 /* ---------------------------------------------------------------------- */
 /* Covariance matrices                                                     */

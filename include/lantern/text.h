@@ -1,6 +1,6 @@
 /*
  * lantern/text.h - scanning text: lines of a buffer, fields of a line,
- * trimming.
+ * trimming, and strict numbers (parsing and exact formatting).
  *
  * Every reader of text files (survey tables, covariance matrices, mode
  * tables, id lists, run files) walks its buffer with lt_lines, so that all
@@ -13,6 +13,8 @@
 #define LANTERN_TEXT_H
 
 #include <stddef.h>
+
+#include "lantern/error.h" /* the status codes of the parsers */
 
 /* Lines of a NUL-terminated buffer, cut in place. */
 typedef struct lt_lines {
@@ -34,6 +36,24 @@ int lt_line_blank(const char *s);
  * and tabs) or at runs of blanks and tabs. Returns the count, or -1 if
  * there are more than max. */
 long lt_line_split(char *line, int csv, char **fields, long max);
+
+/*
+ * Strict parsing of one number: the whole of text (no leading or trailing
+ * junk, no empty string) must be a finite decimal number. Returns LT_OK and
+ * stores the value, or LT_EINPUT without touching *out.
+ */
+int lt_parse_double(const char *text, double *out);
+
+/* The same for a base-10 integer in [lo, hi]. */
+int lt_parse_long(const char *text, long lo, long hi, long *out);
+
+/*
+ * Format v in the fewest significant digits (15 to 17) that read back as
+ * exactly v, so that text output loses nothing ("0.1", not
+ * "0.10000000000000001"). Non-finite values give "inf", "-inf" or "nan".
+ * size of 32 is always enough.
+ */
+void lt_format_double(double v, char *buf, size_t size);
 
 /* s without its leading and trailing blanks and tabs: the trailing ones are
  * cut in place, and the result points into s. */

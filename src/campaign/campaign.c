@@ -5,6 +5,8 @@
 #include <string.h>
 #include <unistd.h>
 
+#include "lantern/ini.h"
+#include "lantern/file.h"
 #include "lantern/campaign.h"
 #include "lantern/text.h"
 #include "internal.h"

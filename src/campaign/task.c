@@ -6,6 +6,7 @@
 
 #include <cjson/cJSON.h>
 
+#include "lantern/json.h"
 #include "lantern/campaign.h"
 #include "lantern/inference.h"
 #include "lantern/report.h"

@@ -8,6 +8,7 @@
 #include <errno.h>
 #include <string.h>
 
+#include "lantern/file.h"
 #include "internal.h"
 
 #define FNV_START 0xCBF29CE484222325ull

@@ -6,6 +6,7 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "lantern/text.h"
 #include "compress.h"
 #include "lantern/rng.h"
 #include "lantern/likelihood.h"

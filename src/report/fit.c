@@ -10,6 +10,9 @@
 
 #include <cjson/cJSON.h>
 
+#include "lantern/text.h"
+#include "lantern/file.h"
+#include "lantern/json.h"
 #include "lantern/report.h"
 
 int lt_report_write_json(const char *path, const cJSON *o, lt_error *err)

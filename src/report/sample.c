@@ -10,7 +10,11 @@
 #include <cjson/cJSON.h>
 #include <fitsio.h>
 
-#include "lantern/lantern.h"
+#include "lantern/text.h"
+#include "lantern/file.h"
+#include "lantern/json.h"
+#include "lantern/report.h"
+#include "lantern/version.h"
 
 #define LOGPOST 0
 #define CHI2 1

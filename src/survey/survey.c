@@ -8,6 +8,8 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "lantern/text.h"
+#include "lantern/file.h"
 #include "internal.h"
 
 void lt_survey_spec_init(lt_survey_spec *s)

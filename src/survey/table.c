@@ -9,6 +9,8 @@
 
 #include <fitsio.h>
 
+#include "lantern/text.h"
+#include "lantern/file.h"
 #include "internal.h"
 
 /* ---- column roles ---- */

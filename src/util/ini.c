@@ -4,7 +4,8 @@
 #include <string.h>
 
 #include "lantern/text.h"
-#include "lantern/util.h"
+#include "lantern/file.h"
+#include "lantern/ini.h"
 
 /* Run files are small; anything larger is a mistake (a data file passed
  * where a run file was meant). */

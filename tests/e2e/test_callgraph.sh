@@ -30,3 +30,30 @@ if [ "$STATUS" -eq 1 ] &&
 else
     fail "callgraph: finds a loop and a likelihood -> inference call"
 fi
+
+# Headers: library sources include the util headers they use, not the
+# umbrellas (lantern/util.h, lantern/lantern.h); and every public header
+# includes at its top, before its first declaration (issue 17: inference.h
+# included likelihood.h in mid-file).
+STATUS=0
+umbrella=$(cd "$ROOT" && grep -ln '#include "lantern/\(util\|lantern\)\.h"' \
+    $(ls src/*/*.[ch] include/lantern/*.h | grep -v '^src/cli/\|/util\.h$\|/lantern\.h$'))
+if [ -z "$umbrella" ]; then
+    pass "headers: no library file includes an umbrella header"
+else
+    echo "not ok - headers: no library file includes an umbrella header"
+    echo "  found in: $umbrella"
+fi
+late=$(cd "$ROOT" && awk '
+    FNR == 1 { code = 0; incomment = 0 }
+    /^[ \t]*\/\*/ { incomment = 1 }
+    incomment { if ($0 ~ /\*\//) incomment = 0; next }
+    /^#include/ { if (code) print FILENAME ":" FNR; next }
+    /^#/ || /^[ \t]*$/ || /^[ \t]*\/\// { next }
+    { code = 1 }' include/lantern/*.h)
+if [ -z "$late" ]; then
+    pass "headers: every include at the top"
+else
+    echo "not ok - headers: every include at the top"
+    echo "  late includes: $late"
+fi
