@@ -12,6 +12,7 @@
 #include "lantern/outdir.h"
 #include "lantern/json.h"
 #include "lantern/rng.h"
+#include "lantern/digest.h"
 #include "lantern/cosmology.h"
 #include "lantern/survey.h"
 #include "lantern/simulate.h"

@@ -8,6 +8,7 @@
  *   lantern/outdir.h  output folders
  *   lantern/json.h    exact JSON numbers
  *   lantern/rng.h     random streams
+ *   lantern/digest.h  FNV-1a digests
  */
 #ifndef LANTERN_UTIL_H
 #define LANTERN_UTIL_H
@@ -19,5 +20,6 @@
 #include "lantern/outdir.h"
 #include "lantern/json.h"
 #include "lantern/rng.h"
+#include "lantern/digest.h"
 
 #endif

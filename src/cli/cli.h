@@ -154,9 +154,8 @@ int cli_nested_model(const lt_like *l, const lt_like_spec *spec, long live, uint
  * stop at their next safe point (job.c). */
 volatile sig_atomic_t *cli_catch_signals(void);
 
-/* FNV-1a digests for checkpoints: of the data, model, priors and offset
- * mode; cli_fnv adds more bytes. */
-void cli_fnv(uint64_t *h, const void *p, size_t n);
+/* FNV-1a digests (lt_digest_add) for checkpoints: of the data, model,
+ * priors and offset mode. */
 uint64_t cli_like_fingerprint(const lt_like *l, const lt_like_spec *spec);
 /* Kass & Raftery 1995's words for |2 ln B|: bare mention, positive, strong, very strong. */
 const char *cli_kass_raftery(double two_ln_b);

@@ -179,7 +179,7 @@ int cli_nested_model(const lt_like *l, const lt_like_spec *spec, long live, uint
     memset(r, 0, sizeof *r);
     uint64_t fp = cli_like_fingerprint(l, spec);
     uint64_t settings[] = {seed, (uint64_t)live};
-    cli_fnv(&fp, settings, sizeof settings);
+    lt_digest_add(&fp, settings, sizeof settings);
     lt_like_nested *ctx = calloc((size_t)threads, sizeof *ctx);
     void **cp = calloc((size_t)threads, sizeof *cp);
     int ok = ctx && cp, rc;

@@ -80,8 +80,8 @@ static uint64_t fingerprint(const lt_like *l, const lt_like_spec *spec, const cl
 {
     uint64_t h = cli_like_fingerprint(l, spec);
     long settings[] = {(long)j->seed, j->chains, j->warmup, j->check_every, j->max_steps};
-    cli_fnv(&h, settings, sizeof settings);
-    cli_fnv(&h, &j->target_ess, sizeof j->target_ess);
+    lt_digest_add(&h, settings, sizeof settings);
+    lt_digest_add(&h, &j->target_ess, sizeof j->target_ess);
     return h;
 }
 

@@ -586,33 +586,26 @@ volatile sig_atomic_t *cli_catch_signals(void)
     return &stop_requested;
 }
 
-void cli_fnv(uint64_t *h, const void *p, size_t n)
-{
-    const unsigned char *b = p;
-    for (size_t i = 0; i < n; i++)
-        *h = (*h ^ b[i]) * 0x100000001B3ull;
-}
-
 uint64_t cli_like_fingerprint(const lt_like *l, const lt_like_spec *spec)
 {
-    uint64_t h = 0xCBF29CE484222325ull;
+    uint64_t h = LT_DIGEST_START;
     const lt_survey *s = lt_like_survey(l);
-    cli_fnv(&h, &s->n, sizeof s->n);
-    cli_fnv(&h, s->z, s->n * sizeof *s->z);
-    cli_fnv(&h, s->zhel, s->n * sizeof *s->zhel);
-    cli_fnv(&h, s->obs, s->n * sizeof *s->obs);
+    lt_digest_add(&h, &s->n, sizeof s->n);
+    lt_digest_add(&h, s->z, s->n * sizeof *s->z);
+    lt_digest_add(&h, s->zhel, s->n * sizeof *s->zhel);
+    lt_digest_add(&h, s->obs, s->n * sizeof *s->obs);
     double *diag = malloc(s->n * sizeof *diag);
     if (diag) {
         lt_cov_diagonal(s->cov, diag);
-        cli_fnv(&h, diag, s->n * sizeof *diag);
+        lt_digest_add(&h, diag, s->n * sizeof *diag);
         free(diag);
     }
-    cli_fnv(&h, lt_like_model(l)->name, strlen(lt_like_model(l)->name));
-    cli_fnv(&h, spec->has_prior, sizeof spec->has_prior);
-    cli_fnv(&h, spec->prior, sizeof spec->prior);
-    cli_fnv(&h, spec->has_fix, sizeof spec->has_fix);
-    cli_fnv(&h, spec->fix, sizeof spec->fix);
+    lt_digest_add(&h, lt_like_model(l)->name, strlen(lt_like_model(l)->name));
+    lt_digest_add(&h, spec->has_prior, sizeof spec->has_prior);
+    lt_digest_add(&h, spec->prior, sizeof spec->prior);
+    lt_digest_add(&h, spec->has_fix, sizeof spec->has_fix);
+    lt_digest_add(&h, spec->fix, sizeof spec->fix);
     int offset = lt_like_offset_mode(l);
-    cli_fnv(&h, &offset, sizeof offset);
+    lt_digest_add(&h, &offset, sizeof offset);
     return h;
 }
