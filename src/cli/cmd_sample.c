@@ -56,7 +56,9 @@ static void usage(FILE *f)
           "\noutput:\n"
           "  --out DIR           DIR/summary.json, chains.csv, chains.fits, and checkpoint/\n"
           "                      (written at every check; Ctrl-C or SIGTERM saves it and\n"
-          "                      stops with status 1, and --resume DIR continues)\n"
+          "                      stops with status 1, and --resume DIR continues; it\n"
+          "                      refuses a checkpoint whose data, covariance, model,\n"
+          "                      priors or settings changed, naming which)\n"
           "  --force             replace an earlier lantern output in DIR\n"
           "  --format F          table (default) or json\n"
           "  --quiet, --verbose  no progress line; a line per check even without a terminal\n"
@@ -73,16 +75,17 @@ static void usage(FILE *f)
           f);
 }
 
-/* FNV-1a over what makes a run what it is: the data as read, the model,
- * the priors and fixed values (cli_like_fingerprint), then the seed and the
- * sampler settings (not the thread count, which does not change the draws). */
-static uint64_t fingerprint(const lt_like *l, const lt_like_spec *spec, const cli_job *j)
+/* FNV-1a over what makes a run what it is: the data as read, the whole
+ * covariance, the model, the priors and fixed values (cli_fingerprint_like),
+ * then the seed and the sampler settings (not the thread count, which does
+ * not change the draws). */
+static void fingerprint(const lt_like *l, const lt_like_spec *spec, const cli_job *j,
+                        cli_fingerprint *fp)
 {
-    uint64_t h = cli_like_fingerprint(l, spec);
+    cli_fingerprint_like(l, spec, fp);
     long settings[] = {(long)j->seed, j->chains, j->warmup, j->check_every, j->max_steps};
-    lt_digest_add(&h, settings, sizeof settings);
-    lt_digest_add(&h, &j->target_ess, sizeof j->target_ess);
-    return h;
+    lt_digest_add(&fp->part[CLI_FP_SETTINGS], settings, sizeof settings);
+    lt_digest_add(&fp->part[CLI_FP_SETTINGS], &j->target_ess, sizeof j->target_ess);
 }
 
 typedef struct {
@@ -280,13 +283,16 @@ int cli_sample_model(cli_job *j, lt_like *l, const lt_like_spec *spec, const cha
             goto done;
         }
     }
-    uint64_t fp = fingerprint(l, spec, j);
+    cli_fingerprint parts;
+    fingerprint(l, spec, j, &parts);
+    uint64_t fp = cli_fingerprint_value(&parts);
     if (out) {
         snprintf(state, sizeof state, "%s/checkpoint/state.bin", out);
         snprintf(settings, sizeof settings, "%s/checkpoint/settings.ini", out);
     }
     if (resume) {
-        if (!(m = lt_mcmc_load(state, fp, lt_like_logdensity, ctxp, &err))) {
+        if (cli_fingerprint_check(settings, &parts, &err) ||
+            !(m = lt_mcmc_load(state, fp, lt_like_logdensity, ctxp, &err))) {
             status = cli_report(&err);
             goto done;
         }
@@ -311,7 +317,8 @@ int cli_sample_model(cli_job *j, lt_like *l, const lt_like_spec *spec, const cha
             char what[128];
             snprintf(what, sizeof what, "lantern %s sample (running)", LT_VERSION);
             if ((mkdir(dir, 0777) != 0 && errno != EEXIST) ||
-                cli_job_write(j, spec, settings, &err) || lt_outdir_mark(out, what, &err)) {
+                cli_job_write(j, spec, settings, &err) ||
+                cli_fingerprint_write(settings, &parts, &err) || lt_outdir_mark(out, what, &err)) {
                 status = err.code ? cli_report(&err)
                                   : cli_usage_error(dir, "cannot make the checkpoint folder");
                 goto done;

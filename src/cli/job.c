@@ -585,27 +585,3 @@ volatile sig_atomic_t *cli_catch_signals(void)
     sigaction(SIGHUP, &sa, NULL);
     return &stop_requested;
 }
-
-uint64_t cli_like_fingerprint(const lt_like *l, const lt_like_spec *spec)
-{
-    uint64_t h = LT_DIGEST_START;
-    const lt_survey *s = lt_like_survey(l);
-    lt_digest_add(&h, &s->n, sizeof s->n);
-    lt_digest_add(&h, s->z, s->n * sizeof *s->z);
-    lt_digest_add(&h, s->zhel, s->n * sizeof *s->zhel);
-    lt_digest_add(&h, s->obs, s->n * sizeof *s->obs);
-    double *diag = malloc(s->n * sizeof *diag);
-    if (diag) {
-        lt_cov_diagonal(s->cov, diag);
-        lt_digest_add(&h, diag, s->n * sizeof *diag);
-        free(diag);
-    }
-    lt_digest_add(&h, lt_like_model(l)->name, strlen(lt_like_model(l)->name));
-    lt_digest_add(&h, spec->has_prior, sizeof spec->has_prior);
-    lt_digest_add(&h, spec->prior, sizeof spec->prior);
-    lt_digest_add(&h, spec->has_fix, sizeof spec->has_fix);
-    lt_digest_add(&h, spec->fix, sizeof spec->fix);
-    int offset = lt_like_offset_mode(l);
-    lt_digest_add(&h, &offset, sizeof offset);
-    return h;
-}
