@@ -200,7 +200,7 @@ static int start_chains(const cli_job *j, const lt_like *l, void **ctxp, lt_mcmc
                         lt_error *err)
 {
     size_t d = lt_like_dim(l);
-    lt_fit_opts fo = {j->seed, (size_t)j->starts, cli_catch_signals()};
+    lt_fit_opts fo = {.seed = j->seed, .starts = (size_t)j->starts, .stop = cli_catch_signals()};
     lt_fit_result fr;
     if (lt_fit_run(l, &fo, &fr, err))
         return err->code;
@@ -209,9 +209,11 @@ static int start_chains(const cli_job *j, const lt_like *l, void **ctxp, lt_mcmc
         const lt_prior *p = lt_like_prior(l, i);
         scale[i] = p->kind == LT_PRIOR_UNIFORM ? p->b - p->a : 4 * p->b;
     }
-    lt_mcmc_opts mo = {d, 1, (size_t)j->chains, j->seed, fr.best, fr.laplace_ok ? fr.cov : NULL,
-                       scale, (size_t)j->warmup, (size_t)j->check_every, (size_t)j->max_steps,
-                       j->target_ess, 0.01, (int)j->threads, 0};
+    lt_mcmc_opts mo = {.dim = d, .nextra = 1, .nchains = (size_t)j->chains, .seed = j->seed,
+                       .center = fr.best, .cov = fr.laplace_ok ? fr.cov : NULL, .scale = scale,
+                       .warmup = (size_t)j->warmup, .check_every = (size_t)j->check_every,
+                       .max_steps = (size_t)j->max_steps, .target_ess = j->target_ess,
+                       .rhat_tol = 0.01, .threads = (int)j->threads, .memory_limit = 0};
     *m = lt_mcmc_alloc(&mo, lt_like_logdensity, ctxp, err);
     return *m ? LT_OK : err->code;
 }
