@@ -20,7 +20,7 @@
 
 #include <stddef.h>
 
-#include "lantern/util.h"
+#include "lantern/error.h"
 
 /* Speed of light in km/s (exact, SI definition of the metre). */
 #define LT_C_KM_S 299792.458

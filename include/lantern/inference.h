@@ -1,15 +1,20 @@
 /*
- * lantern/inference.h - best fits and their errors (and, as they land,
- * samplers). Nothing here knows about files or cosmology: it works on an
- * objective function of a parameter vector.
+ * lantern/inference.h - best fits and their errors, samplers, nested
+ * sampling and convergence diagnostics. The methods know nothing about
+ * files or cosmology: they work on an objective function or a log-density
+ * of a parameter vector. Small adapters (lt_like_chain, lt_like_nested,
+ * lt_fit_run) join them to a likelihood (lantern/likelihood.h), which in
+ * turn knows nothing of inference.
  */
 #ifndef LANTERN_INFERENCE_H
 #define LANTERN_INFERENCE_H
 
 #include <signal.h>
 #include <stddef.h>
+#include <stdint.h>
 
-#include "lantern/util.h"
+#include "lantern/error.h"
+#include "lantern/likelihood.h" /* the adapters below sample and fit an lt_like */
 
 /* The function to minimise: -2 ln(posterior) up to a constant, or +inf
  * where the parameters are impossible. */
@@ -54,27 +59,6 @@ int lt_optimize(lt_objective f, void *ctx, const lt_optim_opts *o, double *x_bes
  */
 int lt_laplace(lt_objective f, void *ctx, size_t dim, const double *x, const double *scale,
                double *cov, size_t *bad, lt_error *err);
-
-/* ---------------------------------------------------------------------- */
-/* Random numbers                                                          */
-/* ---------------------------------------------------------------------- */
-
-#include <stdint.h>
-
-/*
- * xoshiro256** (Blackman & Vigna 2021, ACM TOMS 47, 36), seeded through
- * splitmix64 from (seed, stream): every chain's stream comes from the run's
- * seed and the chain's index only. The state is four words, so a checkpoint
- * can hold it exactly.
- */
-typedef struct lt_rng {
-    uint64_t s[4];
-} lt_rng;
-
-void lt_rng_seed(lt_rng *r, uint64_t seed, uint64_t stream);
-uint64_t lt_rng_next(lt_rng *r);
-double lt_rng_uniform(lt_rng *r); /* in [0, 1), 53 random bits */
-double lt_rng_normal(lt_rng *r);  /* standard normal (Box-Muller, one of the pair) */
 
 /* ---------------------------------------------------------------------- */
 /* Convergence diagnostics                                                 */
@@ -184,17 +168,14 @@ void lt_mcmc_free(lt_mcmc *m);
 
 /* A likelihood as a sampler's log-density: give each chain an
  * lt_like_chain (its own work space) as ctx; extra[0] receives chi2. */
-typedef struct lt_like lt_like;
-typedef struct lt_like_work lt_like_work;
 typedef struct lt_like_chain {
     const lt_like *l;
     lt_like_work *w;
 } lt_like_chain;
 double lt_like_logdensity(const double *x, void *ctx, double *extra);
-struct lt_compression_check;
 /* lt_like_check_posterior on m's kept draws (chain after chain, each cut
  * to the shortest chain's length, as lt_sample_collect keeps them). */
-int lt_mcmc_check_compression(lt_like *l, const lt_mcmc *m, struct lt_compression_check *out,
+int lt_mcmc_check_compression(lt_like *l, const lt_mcmc *m, lt_compression_check *out,
                               lt_error *err);
 
 /* Called after every convergence check (from the calling thread). */
@@ -309,8 +290,6 @@ double lt_like_nested_loglike(const double *theta, void *ctx);
 /* ---------------------------------------------------------------------- */
 /* Best fit of a likelihood                                                */
 /* ---------------------------------------------------------------------- */
-
-#include "lantern/likelihood.h"
 
 typedef struct lt_fit_opts {
     unsigned long seed; /* for the random starts */

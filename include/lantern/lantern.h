@@ -4,9 +4,15 @@
 #ifndef LANTERN_LANTERN_H
 #define LANTERN_LANTERN_H
 
-#define LT_VERSION "0.1.0"
-
-#include "lantern/util.h"
+#include "lantern/version.h"
+#include "lantern/error.h"
+#include "lantern/text.h"
+#include "lantern/ini.h"
+#include "lantern/file.h"
+#include "lantern/outdir.h"
+#include "lantern/json.h"
+#include "lantern/rng.h"
+#include "lantern/digest.h"
 #include "lantern/cosmology.h"
 #include "lantern/survey.h"
 #include "lantern/simulate.h"

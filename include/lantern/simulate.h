@@ -32,6 +32,7 @@
 #ifndef LANTERN_SIMULATE_H
 #define LANTERN_SIMULATE_H
 
+#include "lantern/ini.h"
 #include "lantern/cosmology.h"
 #include "lantern/survey.h"
 

@@ -22,7 +22,7 @@
 #include <stddef.h>
 #include <stdint.h>
 
-#include "lantern/util.h"
+#include "lantern/error.h"
 
 /* ---------------------------------------------------------------------- */
 /* Covariance matrices                                                     */
@@ -82,6 +82,13 @@ void lt_cov_diagonal(const lt_cov *c, double *out);
 
 /* The whole matrix, row-major N x N into out (for tests and small N). */
 void lt_cov_to_dense(const lt_cov *c, double *out);
+
+/* Add the covariance as given to the FNV-1a digest *h (lantern/digest.h):
+ * its size, every element of the base on and above the diagonal (the
+ * values read, also after factoring) and the scaled modes, so that a
+ * change of any element, off the diagonal too, changes the digest.
+ * Allocates nothing; O(N^2) for a dense base. */
+void lt_cov_digest(const lt_cov *c, uint64_t *h);
 
 /* What lt_cov_inspect reports. */
 typedef struct lt_cov_info {

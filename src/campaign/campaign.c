@@ -5,20 +5,17 @@
 #include <string.h>
 #include <unistd.h>
 
+#include "lantern/digest.h"
+#include "lantern/ini.h"
+#include "lantern/file.h"
 #include "lantern/campaign.h"
+#include "lantern/text.h"
 #include "internal.h"
 
 const char *lt_method_name(lt_method m)
 {
     static const char *names[LT_NMETHODS] = {"fit", "sample", "nested"};
     return m < LT_NMETHODS ? names[m] : "?";
-}
-
-static void fnv(uint64_t *h, const void *p, size_t n)
-{
-    const unsigned char *b = p;
-    for (size_t i = 0; i < n; i++)
-        *h = (*h ^ b[i]) * 0x100000001B3ull;
 }
 
 /* The digest of a file's bytes into h. */
@@ -28,7 +25,7 @@ static int digest_file(uint64_t *h, const char *path, lt_error *err)
     size_t size = 0;
     if (lt_file_read(path, 16u << 20, &text, &size, err))
         return err->code;
-    fnv(h, text, size);
+    lt_digest_add(h, text, size);
     free(text);
     return LT_OK;
 }
@@ -61,11 +58,7 @@ static size_t split_list(char *s, char **items, size_t max)
 {
     size_t n = 0;
     for (char *tok = strtok(s, ","); tok; tok = strtok(NULL, ",")) {
-        while (*tok == ' ' || *tok == '\t')
-            tok++;
-        size_t len = strlen(tok);
-        while (len && (tok[len - 1] == ' ' || tok[len - 1] == '\t'))
-            tok[--len] = '\0';
+        tok = lt_text_trim(tok);
         if (n == max)
             return max + 1;
         items[n++] = tok;
@@ -254,7 +247,7 @@ int lt_campaign_read(const char *path, lt_campaign *c, lt_error *err)
     c->target_ess = 1000;
     c->live_points = 1000;
     c->offset = LT_OFFSET_DEFAULT;
-    c->digest = 0xcbf29ce484222325ull;
+    c->digest = LT_DIGEST_START;
     lt_ini *ini = lt_ini_read(path, err);
     if (!ini)
         return err->code;

@@ -4,6 +4,7 @@
 
 #include <gsl/gsl_linalg.h>
 
+#include "lantern/ini.h"
 #include "internal.h"
 
 int lt_forecast_read(const char *path, lt_scenario *sc, lt_like_spec *spec, lt_error *err)

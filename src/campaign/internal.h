@@ -2,6 +2,7 @@
 #ifndef LANTERN_CAMPAIGN_INTERNAL_H
 #define LANTERN_CAMPAIGN_INTERNAL_H
 
+#include "lantern/ini.h"
 #include "lantern/campaign.h"
 
 /* The [priors] (prior = 1) or [fixed] section of ini, appended to list. */

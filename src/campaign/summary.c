@@ -7,6 +7,7 @@
 #include <cjson/cJSON.h>
 #include <gsl/gsl_randist.h>
 
+#include "lantern/json.h"
 #include "lantern/campaign.h"
 
 static cJSON *num(double v) { return lt_json_number(v); }

@@ -6,6 +6,7 @@
 
 #include <cjson/cJSON.h>
 
+#include "lantern/json.h"
 #include "lantern/campaign.h"
 #include "lantern/inference.h"
 #include "lantern/report.h"
@@ -50,7 +51,7 @@ static void weighted_param(const lt_nested_result *r, size_t d, size_t i, double
 static int run_fit(const lt_like *l, const lt_campaign *c, const lt_campaign_task *t,
                    task_param *p, cJSON *o, lt_error *err)
 {
-    lt_fit_opts fo = {(unsigned long)t->seed, (size_t)c->starts, NULL};
+    lt_fit_opts fo = {.seed = (unsigned long)t->seed, .starts = (size_t)c->starts, .stop = NULL};
     lt_fit_result fr;
     int rc = lt_fit_run(l, &fo, &fr, err);
     if (rc)
@@ -88,7 +89,7 @@ static int run_sample(const lt_like *l, const lt_campaign *c, const lt_campaign_
         goto done;
     }
     /* the chains' centre: the best fit and its Laplace covariance */
-    lt_fit_opts fo = {(unsigned long)t->seed, (size_t)c->starts, NULL};
+    lt_fit_opts fo = {.seed = (unsigned long)t->seed, .starts = (size_t)c->starts, .stop = NULL};
     lt_fit_result fr;
     if ((rc = lt_fit_run(l, &fo, &fr, err)))
         goto done;
@@ -98,9 +99,11 @@ static int run_sample(const lt_like *l, const lt_campaign *c, const lt_campaign_
         scale[i] = pr->kind == LT_PRIOR_UNIFORM ? pr->b - pr->a : 4 * pr->b;
     }
     long warmup = c->warmup ? c->warmup : (long)(d * 1000 > 2000 ? d * 1000 : 2000);
-    lt_mcmc_opts mo = {d, 1, nc, t->seed, fr.best, fr.laplace_ok ? fr.cov : NULL, scale,
-                       (size_t)warmup, (size_t)c->check_every, (size_t)c->max_steps,
-                       c->target_ess, 0.01, threads, 0};
+    lt_mcmc_opts mo = {.dim = d, .nextra = 1, .nchains = nc, .seed = t->seed, .center = fr.best,
+                       .cov = fr.laplace_ok ? fr.cov : NULL, .scale = scale,
+                       .warmup = (size_t)warmup, .check_every = (size_t)c->check_every,
+                       .max_steps = (size_t)c->max_steps, .target_ess = c->target_ess,
+                       .rhat_tol = 0.01, .threads = threads, .memory_limit = 0};
     if (!(m = lt_mcmc_alloc(&mo, lt_like_logdensity, cp, err))) {
         rc = err->code;
         goto done;
@@ -154,7 +157,8 @@ static int run_nested(const lt_like *l, const lt_campaign *c, const lt_campaign_
         rc = lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
         goto done;
     }
-    lt_nested_opts no = {d, (size_t)c->live_points, t->seed, 0.01, 1.25, 10000000, nt};
+    lt_nested_opts no = {.dim = d, .nlive = (size_t)c->live_points, .seed = t->seed, .dlogz = 0.01,
+                         .enlarge = 1.25, .max_iter = 10000000, .threads = nt};
     if (!(ns = lt_nested_alloc(&no, lt_like_prior_transform, (void *)l, lt_like_nested_loglike,
                                cp, err))) {
         rc = err->code;

@@ -157,10 +157,28 @@ int cli_nested_model(const lt_like *l, const lt_like_spec *spec, long live, uint
  * stop at their next safe point (job.c). */
 volatile sig_atomic_t *cli_catch_signals(void);
 
-/* FNV-1a digests for checkpoints: of the data, model, priors and offset
- * mode; cli_fnv adds more bytes. */
-void cli_fnv(uint64_t *h, const void *p, size_t n);
+/* Checkpoint fingerprints (fingerprint.c): FNV-1a digests, in parts, of
+ * the data as read (n, z, zhel, observations), the whole covariance
+ * (lt_cov_digest), the model with its priors, fixed values and offset
+ * mode, and the caller's settings (seed, sampler options). */
+enum { CLI_FP_DATA, CLI_FP_COV, CLI_FP_MODEL, CLI_FP_SETTINGS, CLI_FP_NPARTS };
+typedef struct cli_fingerprint {
+    uint64_t part[CLI_FP_NPARTS];
+} cli_fingerprint;
+/* The data, covariance and model parts; settings left at the empty digest
+ * for the caller to add to. */
+void cli_fingerprint_like(const lt_like *l, const lt_like_spec *spec, cli_fingerprint *fp);
+/* The one number the samplers store: the digest of the parts. */
+uint64_t cli_fingerprint_value(const cli_fingerprint *fp);
+/* cli_fingerprint_value of cli_fingerprint_like, for callers with no parts file. */
 uint64_t cli_like_fingerprint(const lt_like *l, const lt_like_spec *spec);
+/* Append the parts to a checkpoint's settings.ini (cli_job_write's file) as
+ * a comment line, rewriting it atomically; and check them on --resume:
+ * LT_OK if the file has no such line (an older checkpoint) or every part
+ * matches, else LT_EINPUT naming the parts that differ ("the checkpoint
+ * belongs to another run: the covariance differs ..."). */
+int cli_fingerprint_write(const char *settings, const cli_fingerprint *fp, lt_error *err);
+int cli_fingerprint_check(const char *settings, const cli_fingerprint *fp, lt_error *err);
 /* Kass & Raftery 1995's words for |2 ln B|: bare mention, positive, strong, very strong. */
 const char *cli_kass_raftery(double two_ln_b);
 int cli_report_runs(int argc, char **argv);

@@ -96,7 +96,7 @@ int cli_bench(int argc, char **argv)
         goto done;
     }
     /* points near the best fit, for the timing and the comparison */
-    lt_fit_opts fo = {j.seed, 4, NULL};
+    lt_fit_opts fo = {.seed = j.seed, .starts = 4, .stop = NULL};
     lt_fit_result fr;
     if (lt_fit_run(exact ? lx : l, &fo, &fr, &err)) {
         status = cli_report(&err);

@@ -179,7 +179,7 @@ int cli_nested_model(const lt_like *l, const lt_like_spec *spec, long live, uint
     memset(r, 0, sizeof *r);
     uint64_t fp = cli_like_fingerprint(l, spec);
     uint64_t settings[] = {seed, (uint64_t)live};
-    cli_fnv(&fp, settings, sizeof settings);
+    lt_digest_add(&fp, settings, sizeof settings);
     lt_like_nested *ctx = calloc((size_t)threads, sizeof *ctx);
     void **cp = calloc((size_t)threads, sizeof *cp);
     int ok = ctx && cp, rc;
@@ -188,7 +188,8 @@ int cli_nested_model(const lt_like *l, const lt_like_spec *spec, long live, uint
         cp[t] = &ctx[t];
         ok = ctx[t].c.w != NULL;
     }
-    lt_nested_opts no = {lt_like_dim(l), (size_t)live, seed, 0.01, 1.25, 10000000, threads};
+    lt_nested_opts no = {.dim = lt_like_dim(l), .nlive = (size_t)live, .seed = seed, .dlogz = 0.01,
+                         .enlarge = 1.25, .max_iter = 10000000, .threads = threads};
     lt_nested *ns = NULL;
     if (!ok) {
         rc = lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
@@ -234,7 +235,7 @@ static void run_model(model_run *mr, size_t k, size_t nm, const cli_job *j, long
     if (!j->quiet)
         fprintf(stderr, "[%zu/%zu] %s: best fit, then nested sampling with %ld live points\n",
                 k + 1, nm, mr->name, live);
-    lt_fit_opts fo = {j->seed, (size_t)j->starts, stop};
+    lt_fit_opts fo = {.seed = j->seed, .starts = (size_t)j->starts, .stop = stop};
     if ((mr->rc = lt_fit_run(mr->l, &fo, &mr->fit, &mr->err)))
         return;
     char ck[4400];

@@ -110,7 +110,7 @@ int cli_fit(int argc, char **argv)
     prepared = j.out != NULL;
     cli_print_warnings(s);
     volatile sig_atomic_t *stop = cli_catch_signals();
-    lt_fit_opts fo = {j.seed, (size_t)j.starts, stop};
+    lt_fit_opts fo = {.seed = j.seed, .starts = (size_t)j.starts, .stop = stop};
     lt_fit_result r;
     if (lt_fit_run(l, &fo, &r, &err) || (*stop && lt_error_set(&err, LT_EINTR, NULL, 0, "interrupted"))) {
         if (err.code == LT_EINTR) {

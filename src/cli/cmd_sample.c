@@ -56,7 +56,9 @@ static void usage(FILE *f)
           "\noutput:\n"
           "  --out DIR           DIR/summary.json, chains.csv, chains.fits, and checkpoint/\n"
           "                      (written at every check; Ctrl-C or SIGTERM saves it and\n"
-          "                      stops with status 1, and --resume DIR continues)\n"
+          "                      stops with status 1, and --resume DIR continues; it\n"
+          "                      refuses a checkpoint whose data, covariance, model,\n"
+          "                      priors or settings changed, naming which)\n"
           "  --force             replace an earlier lantern output in DIR\n"
           "  --format F          table (default) or json\n"
           "  --quiet, --verbose  no progress line; a line per check even without a terminal\n"
@@ -73,16 +75,17 @@ static void usage(FILE *f)
           f);
 }
 
-/* FNV-1a over what makes a run what it is: the data as read, the model,
- * the priors and fixed values (cli_like_fingerprint), then the seed and the
- * sampler settings (not the thread count, which does not change the draws). */
-static uint64_t fingerprint(const lt_like *l, const lt_like_spec *spec, const cli_job *j)
+/* FNV-1a over what makes a run what it is: the data as read, the whole
+ * covariance, the model, the priors and fixed values (cli_fingerprint_like),
+ * then the seed and the sampler settings (not the thread count, which does
+ * not change the draws). */
+static void fingerprint(const lt_like *l, const lt_like_spec *spec, const cli_job *j,
+                        cli_fingerprint *fp)
 {
-    uint64_t h = cli_like_fingerprint(l, spec);
+    cli_fingerprint_like(l, spec, fp);
     long settings[] = {(long)j->seed, j->chains, j->warmup, j->check_every, j->max_steps};
-    cli_fnv(&h, settings, sizeof settings);
-    cli_fnv(&h, &j->target_ess, sizeof j->target_ess);
-    return h;
+    lt_digest_add(&fp->part[CLI_FP_SETTINGS], settings, sizeof settings);
+    lt_digest_add(&fp->part[CLI_FP_SETTINGS], &j->target_ess, sizeof j->target_ess);
 }
 
 typedef struct {
@@ -197,7 +200,7 @@ static int start_chains(const cli_job *j, const lt_like *l, void **ctxp, lt_mcmc
                         lt_error *err)
 {
     size_t d = lt_like_dim(l);
-    lt_fit_opts fo = {j->seed, (size_t)j->starts, cli_catch_signals()};
+    lt_fit_opts fo = {.seed = j->seed, .starts = (size_t)j->starts, .stop = cli_catch_signals()};
     lt_fit_result fr;
     if (lt_fit_run(l, &fo, &fr, err))
         return err->code;
@@ -206,9 +209,11 @@ static int start_chains(const cli_job *j, const lt_like *l, void **ctxp, lt_mcmc
         const lt_prior *p = lt_like_prior(l, i);
         scale[i] = p->kind == LT_PRIOR_UNIFORM ? p->b - p->a : 4 * p->b;
     }
-    lt_mcmc_opts mo = {d, 1, (size_t)j->chains, j->seed, fr.best, fr.laplace_ok ? fr.cov : NULL,
-                       scale, (size_t)j->warmup, (size_t)j->check_every, (size_t)j->max_steps,
-                       j->target_ess, 0.01, (int)j->threads, 0};
+    lt_mcmc_opts mo = {.dim = d, .nextra = 1, .nchains = (size_t)j->chains, .seed = j->seed,
+                       .center = fr.best, .cov = fr.laplace_ok ? fr.cov : NULL, .scale = scale,
+                       .warmup = (size_t)j->warmup, .check_every = (size_t)j->check_every,
+                       .max_steps = (size_t)j->max_steps, .target_ess = j->target_ess,
+                       .rhat_tol = 0.01, .threads = (int)j->threads, .memory_limit = 0};
     *m = lt_mcmc_alloc(&mo, lt_like_logdensity, ctxp, err);
     return *m ? LT_OK : err->code;
 }
@@ -280,13 +285,16 @@ int cli_sample_model(cli_job *j, lt_like *l, const lt_like_spec *spec, const cha
             goto done;
         }
     }
-    uint64_t fp = fingerprint(l, spec, j);
+    cli_fingerprint parts;
+    fingerprint(l, spec, j, &parts);
+    uint64_t fp = cli_fingerprint_value(&parts);
     if (out) {
         snprintf(state, sizeof state, "%s/checkpoint/state.bin", out);
         snprintf(settings, sizeof settings, "%s/checkpoint/settings.ini", out);
     }
     if (resume) {
-        if (!(m = lt_mcmc_load(state, fp, lt_like_logdensity, ctxp, &err))) {
+        if (cli_fingerprint_check(settings, &parts, &err) ||
+            !(m = lt_mcmc_load(state, fp, lt_like_logdensity, ctxp, &err))) {
             status = cli_report(&err);
             goto done;
         }
@@ -311,7 +319,8 @@ int cli_sample_model(cli_job *j, lt_like *l, const lt_like_spec *spec, const cha
             char what[128];
             snprintf(what, sizeof what, "lantern %s sample (running)", LT_VERSION);
             if ((mkdir(dir, 0777) != 0 && errno != EEXIST) ||
-                cli_job_write(j, spec, settings, &err) || lt_outdir_mark(out, what, &err)) {
+                cli_job_write(j, spec, settings, &err) ||
+                cli_fingerprint_write(settings, &parts, &err) || lt_outdir_mark(out, what, &err)) {
                 status = err.code ? cli_report(&err)
                                   : cli_usage_error(dir, "cannot make the checkpoint folder");
                 goto done;

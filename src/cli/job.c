@@ -196,11 +196,7 @@ int cli_job_load_sets(cli_job *j, const char *path, const char *const *sets, siz
         char *list = strdup(e->value), *save = NULL;
         keep(j, list);
         for (char *p = list ? strtok_r(list, ",", &save) : NULL; p; p = strtok_r(NULL, ",", &save)) {
-            while (*p == ' ' || *p == '\t')
-                p++;
-            size_t n = strlen(p);
-            while (n && (p[n - 1] == ' ' || p[n - 1] == '\t'))
-                p[--n] = '\0';
+            p = lt_text_trim(p);
             if (!*p)
                 continue;
             if (j->data.ncov == LT_SURVEY_MAX_COV)
@@ -649,50 +645,4 @@ volatile sig_atomic_t *cli_catch_signals(void)
     sigaction(SIGTERM, &sa, NULL);
     sigaction(SIGHUP, &sa, NULL);
     return &stop_requested;
-}
-
-void cli_fnv(uint64_t *h, const void *p, size_t n)
-{
-    const unsigned char *b = p;
-    for (size_t i = 0; i < n; i++)
-        *h = (*h ^ b[i]) * 0x100000001B3ull;
-}
-
-uint64_t cli_like_fingerprint(const lt_like *l, const lt_like_spec *spec)
-{
-    uint64_t h = 0xCBF29CE484222325ull;
-    const lt_survey *s = lt_like_survey(l);
-    if (s) {
-        cli_fnv(&h, &s->n, sizeof s->n);
-        cli_fnv(&h, s->z, s->n * sizeof *s->z);
-        cli_fnv(&h, s->zhel, s->n * sizeof *s->zhel);
-        cli_fnv(&h, s->obs, s->n * sizeof *s->obs);
-        double *diag = malloc(s->n * sizeof *diag);
-        if (diag) {
-            lt_cov_diagonal(s->cov, diag);
-            cli_fnv(&h, diag, s->n * sizeof *diag);
-            free(diag);
-        }
-    }
-    cli_fnv(&h, lt_like_model(l)->name, strlen(lt_like_model(l)->name));
-    /* settings and measurements field by field (struct padding holds no
-     * defined bytes) */
-    for (size_t k = 0; k < spec->nsettings; k++) {
-        const lt_param_setting *st = &spec->settings[k];
-        int kind = st->prior.kind;
-        double v[3] = {st->prior.a, st->prior.b, st->value};
-        cli_fnv(&h, st->name, strlen(st->name) + 1);
-        cli_fnv(&h, &st->fixed, sizeof st->fixed);
-        cli_fnv(&h, &kind, sizeof kind);
-        cli_fnv(&h, v, sizeof v);
-    }
-    for (size_t k = 0; k < spec->nmeasurements; k++) {
-        const lt_measurement *m = &spec->measurements[k];
-        double v[2] = {m->mean, m->sd};
-        cli_fnv(&h, m->name, strlen(m->name) + 1);
-        cli_fnv(&h, v, sizeof v);
-    }
-    int offset = lt_like_offset_mode(l);
-    cli_fnv(&h, &offset, sizeof offset);
-    return h;
 }

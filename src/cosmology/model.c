@@ -14,6 +14,7 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "lantern/text.h"
 #include "internal.h"
 
 /* ---- cosmological constant ---- */

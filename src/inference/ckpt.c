@@ -8,24 +8,16 @@
 #include <errno.h>
 #include <string.h>
 
+#include "lantern/digest.h"
+#include "lantern/file.h"
 #include "internal.h"
-
-#define FNV_START 0xCBF29CE484222325ull
-#define FNV_PRIME 0x100000001B3ull
-
-static void hash(lt_ckpt *s, const void *p, size_t n)
-{
-    const unsigned char *b = p;
-    for (size_t i = 0; i < n; i++)
-        s->h = (s->h ^ b[i]) * FNV_PRIME;
-}
 
 int lt_ckpt_create(lt_ckpt *s, const char *path, lt_error *err)
 {
     lt_tmp_name(path, s->tmp, sizeof s->tmp);
     snprintf(s->path, sizeof s->path, "%s", path);
     s->f = fopen(s->tmp, "wb");
-    s->h = FNV_START;
+    s->h = LT_DIGEST_START;
     s->bad = 0;
     if (!s->f)
         return lt_error_set(err, LT_EIO, s->tmp, 0, "cannot write the checkpoint: %s",
@@ -35,7 +27,7 @@ int lt_ckpt_create(lt_ckpt *s, const char *path, lt_error *err)
 
 void lt_ckpt_put(lt_ckpt *s, const void *p, size_t n)
 {
-    hash(s, p, n);
+    lt_digest_add(&s->h, p, n);
     if (n && fwrite(p, 1, n, s->f) != n)
         s->bad = 1;
 }
@@ -57,7 +49,7 @@ int lt_ckpt_open(lt_ckpt *s, const char *path, lt_error *err)
 {
     snprintf(s->path, sizeof s->path, "%s", path);
     s->f = fopen(path, "rb");
-    s->h = FNV_START;
+    s->h = LT_DIGEST_START;
     s->bad = 0;
     if (!s->f)
         return lt_error_set(err, LT_EINPUT, path, 0, "cannot open the checkpoint: %s",
@@ -69,7 +61,7 @@ int lt_ckpt_get(lt_ckpt *s, void *p, size_t n)
 {
     if (n && fread(p, 1, n, s->f) != n)
         return (s->bad = 1), -1;
-    hash(s, p, n);
+    lt_digest_add(&s->h, p, n);
     return 0;
 }
 

@@ -119,7 +119,8 @@ int lt_fit_run(const lt_like *l, const lt_fit_opts *o, lt_fit_result *r, lt_erro
                 prior_point(lt_like_prior(l, i), rng, k == 0 && tries == 0, &x[i]);
         } while (!isfinite(objective(x, &ctx)) && ++tries < 10000);
     }
-    lt_optim_opts oo = {d, nstarts, starts, scale, 1e-8, 2000 * (d + 1), o->stop};
+    lt_optim_opts oo = {.dim = d, .nstarts = nstarts, .starts = starts, .scale = scale,
+                        .tol = 1e-8, .max_evals = 2000 * (d + 1), .stop = o->stop};
     if ((rc = lt_optimize(objective, &ctx, &oo, r->best, &r->f_best, &r->info, err)))
         goto done;
     lt_like_eval(l, ctx.w, r->best, &r->at_best);

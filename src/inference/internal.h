@@ -6,7 +6,7 @@
 #include <stdint.h>
 #include <stdio.h>
 
-#include "lantern/util.h"
+#include "lantern/error.h"
 
 /* Cholesky factor l (lower, row-major) of a small symmetric d x d matrix a;
  * -1 if a is not positive definite. For the proposal and bounding-ellipsoid

@@ -30,6 +30,7 @@
 
 #include <omp.h>
 
+#include "lantern/rng.h"
 #include "internal.h"
 #include "lantern/inference.h"
 

@@ -7,6 +7,7 @@
 
 #include <omp.h>
 
+#include "lantern/rng.h"
 #include "internal.h"
 #include "lantern/inference.h"
 

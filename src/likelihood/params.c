@@ -9,6 +9,7 @@
 #include <string.h>
 
 #include "lantern/likelihood.h"
+#include "lantern/text.h"
 
 /* ---- priors ---- */
 int lt_prior_parse(const char *text, lt_prior *p, lt_error *err)

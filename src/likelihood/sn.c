@@ -12,7 +12,7 @@
 #include <string.h>
 
 #include "internal.h"
-#include "lantern/inference.h"
+#include "lantern/rng.h"
 
 typedef struct lt_sn {
     const lt_survey *s;
@@ -224,6 +224,29 @@ const lt_term_type lt_term_sn = {"supernovae", sn_setup, sn_work_alloc, sn_work_
 
 /* ---- the compressed path: set-up, check and refinement ---- */
 
+/*
+ * The supernova chi2 at theta by compression cm, or by the exact path
+ * (cm NULL), in work w (sized for cm); 0 outside the domain. The set-up
+ * and the check compare this term alone: the other terms are the same by
+ * either path, and evaluating the whole likelihood from here would make
+ * the terms call the sum that calls them.
+ */
+static int chi2_by(const lt_like *l, const lt_compress *cm, lt_sn_work *w, const double *theta,
+                   double *chi2)
+{
+    double values[LT_MAX_PARAMS];
+    lt_cosmo_params p;
+    lt_like_values(l, theta, values, &p);
+    double offset = l->offset_at >= 0 ? values[l->offset_at] : 0.0;
+    lt_cosmo c;
+    lt_term_out o;
+    if (lt_cosmo_init(&c, l->model, &p, NULL) != LT_OK ||
+        (cm ? eval_compressed(l->sn, cm, w, &c, offset, &o) : eval_exact(l->sn, w, &c, offset, &o)))
+        return 0;
+    *chi2 = o.chi2;
+    return 1;
+}
+
 /* A test point for the compression: inside the prior and the domain. */
 static int test_point(const lt_like *l, lt_rng *r, double *x)
 {
@@ -275,29 +298,24 @@ int lt_sn_compress(lt_like *l, lt_error *err)
     double pts[NT][LT_MAX_FREE], exact[NT];
     lt_rng r;
     lt_rng_seed(&r, 20261202, 0);
-    lt_like_work *w = lt_like_work_alloc(l);
+    lt_sn_work *w = work_alloc(sn, 1);
     if (!w)
         return lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
     size_t best = 0;
     int have = 0;
-    lt_like_point pt;
     for (int k = 0; k < NT / 2; k++) {
-        if (test_point(l, &r, pts[k]) == 0) {
-            lt_like_eval_exact(l, w, pts[k], &pt);
-            exact[k] = pt.domain_ok ? pt.chi2 : INFINITY;
-        } else {
+        if (test_point(l, &r, pts[k]) != 0 || !chi2_by(l, NULL, w, pts[k], &exact[k]))
             exact[k] = INFINITY;
-        }
         if (exact[k] < exact[best] || !have)
             best = (size_t)k, have = isfinite(exact[k]);
     }
     for (int k = NT / 2; k < NT; k++) {
         for (size_t i = 0; i < l->dim; i++)
             pts[k][i] = pts[best][i] + 0.05 * (pts[k - NT / 2][i] - pts[best][i]);
-        lt_like_eval_exact(l, w, pts[k], &pt);
-        exact[k] = pt.domain_ok ? pt.chi2 : INFINITY;
+        if (!chi2_by(l, NULL, w, pts[k], &exact[k]))
+            exact[k] = INFINITY;
     }
-    lt_like_work_free(w);
+    sn_work_free(w);
     double chi2_best = INFINITY;
     for (int k = 0; k < NT; k++)
         chi2_best = fmin(chi2_best, exact[k]);
@@ -305,17 +323,18 @@ int lt_sn_compress(lt_like *l, lt_error *err)
         lt_compress_free(sn->cmp);
         if (!(sn->cmp = lt_compress_alloc(s, &fid, K, err)))
             return err ? err->code : LT_ENOMEM;
-        lt_like_work *wc = lt_like_work_alloc(l);
+        lt_sn_work *wc = work_alloc(sn, K);
         if (!wc)
             return lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
         double worst = 0.0;
         for (int k = 0; k < NT; k++) {
+            double chi2;
             if (!(exact[k] < chi2_best + 50.0))
                 continue;
-            lt_like_eval(l, wc, pts[k], &pt);
-            worst = fmax(worst, pt.domain_ok ? fabs(pt.chi2 - exact[k]) : INFINITY);
+            worst = fmax(worst, chi2_by(l, sn->cmp, wc, pts[k], &chi2) ? fabs(chi2 - exact[k])
+                                                                       : INFINITY);
         }
-        lt_like_work_free(wc);
+        sn_work_free(wc);
         /* Stop when accurate enough, when K is large, or when doubling K no
          * longer helps fourfold: then the interpolation no longer sets the
          * difference (seen at 10^6 objects; rounding in long sums is the
@@ -363,18 +382,19 @@ int lt_like_compression_set(lt_like *l, size_t K, lt_error *err)
     return LT_OK;
 }
 
-/* The largest |chi2 - exact[k]| over n points by l's current path; the
- * points are few, so one thread. */
+/* The largest |chi2 - exact[k]| over n points by the current compression;
+ * the points are few, so one thread. */
 static double worst_dchi2(const lt_like *l, const double *pts, size_t n, const double *exact,
-                          lt_like_work *w)
+                          lt_sn_work *w)
 {
     double worst = 0.0;
     for (size_t k = 0; k < n; k++) {
         if (!isfinite(exact[k]))
             continue; /* outside the domain by the exact path: no chi2 to compare */
-        lt_like_point pt;
-        lt_like_eval(l, w, pts + k * l->dim, &pt);
-        worst = fmax(worst, pt.domain_ok ? fabs(pt.chi2 - exact[k]) : INFINITY);
+        double chi2;
+        worst = fmax(worst, chi2_by(l, l->sn->cmp, w, pts + k * l->dim, &chi2)
+                                ? fabs(chi2 - exact[k])
+                                : INFINITY);
     }
     return worst;
 }
@@ -383,22 +403,6 @@ static int cmp_rank(const void *a, const void *b)
 {
     const double *x = a, *y = b; /* {estimate, index}: largest first, then by index */
     return x[0] != y[0] ? (x[0] < y[0]) - (x[0] > y[0]) : (x[1] > y[1]) - (x[1] < y[1]);
-}
-
-/* The supernova chi2 at theta by compression cm; 0 outside the domain. */
-static int chi2_by(const lt_like *l, const lt_compress *cm, lt_sn_work *w, const double *theta,
-                   double *chi2)
-{
-    double values[LT_MAX_PARAMS];
-    lt_cosmo_params p;
-    lt_like_values(l, theta, values, &p);
-    lt_cosmo c;
-    lt_term_out o;
-    if (lt_cosmo_init(&c, l->model, &p, NULL) != LT_OK ||
-        eval_compressed(l->sn, cm, w, &c, l->offset_at >= 0 ? values[l->offset_at] : 0.0, &o))
-        return 0;
-    *chi2 = o.chi2;
-    return 1;
 }
 
 /*
@@ -481,12 +485,20 @@ int lt_like_check_posterior(lt_like *l, const double *draws, size_t n, size_t st
     for (size_t k = 0; !failed && k < m; k++)
         memcpy(pts + k * d, draws + pick[k] * stride, d * sizeof *pts);
     free(pick);
-    lt_like_point *pt = failed ? NULL : malloc(m * sizeof *pt);
-    failed = failed || !pt || lt_like_eval_exact_many(l, pts, m, d, pt, err);
-    for (size_t k = 0; !failed && k < m; k++)
-        exact[k] = pt[k].domain_ok ? pt[k].chi2 : INFINITY;
-    free(pt);
-    lt_like_work *w = failed ? NULL : lt_like_work_alloc(l);
+    /* the exact path at each point, shared out over the threads (an exact
+     * evaluation costs N, N^2 for a dense covariance): each writes its own
+     * slot, so the answer does not depend on their number */
+#pragma omp parallel reduction(| : failed)
+    {
+        lt_sn_work *we = failed ? NULL : work_alloc(l->sn, 1);
+        failed |= !we;
+#pragma omp for schedule(dynamic, 1)
+        for (size_t k = 0; k < m; k++)
+            if (we && !chi2_by(l, NULL, we, pts + k * d, &exact[k]))
+                exact[k] = INFINITY;
+        sn_work_free(we);
+    }
+    lt_sn_work *w = failed ? NULL : work_alloc(l->sn, cmp->K);
     if (!w) {
         free(pts);
         free(exact);
@@ -494,7 +506,7 @@ int lt_like_check_posterior(lt_like *l, const double *draws, size_t n, size_t st
     }
     out->checked = m;
     out->max_before = out->max_after = worst_dchi2(l, pts, m, exact, w);
-    lt_like_work_free(w);
+    sn_work_free(w);
     int rc = LT_OK;
     size_t K0 = cmp->K, K = K0;
     double prev = out->max_before;
@@ -510,12 +522,12 @@ int lt_like_check_posterior(lt_like *l, const double *draws, size_t n, size_t st
         }
         if ((rc = lt_like_compression_set(l, K, err)))
             break;
-        if (!(w = lt_like_work_alloc(l))) {
+        if (!(w = work_alloc(l->sn, K))) {
             rc = lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory checking the compression");
             break;
         }
         double now = worst_dchi2(l, pts, m, exact, w);
-        lt_like_work_free(w);
+        sn_work_free(w);
         if (now <= bound) {
             out->max_after = now, out->knots = K, out->refined = 1;
             break;
@@ -536,14 +548,20 @@ int lt_like_predict(const lt_like *l, lt_like_work *w, const double *theta, doub
 {
     if (!l->sn)
         return lt_error_set(err, LT_EINPUT, NULL, 0, "no survey to predict");
-    lt_like_point pt;
-    lt_like_eval_exact(l, w, theta, &pt);
-    if (!pt.domain_ok)
+    double logprior = 0.0, values[LT_MAX_PARAMS];
+    for (size_t i = 0; i < l->dim; i++)
+        logprior += lt_prior_logpdf(lt_like_prior(l, i), theta[i]);
+    lt_cosmo_params p;
+    lt_like_values(l, theta, values, &p);
+    lt_cosmo c;
+    lt_term_out o;
+    lt_sn_work *sw = w->term[l->sn_term];
+    if (!isfinite(logprior) || lt_cosmo_init(&c, l->model, &p, NULL) != LT_OK ||
+        eval_exact(l->sn, sw, &c, l->offset_at >= 0 ? values[l->offset_at] : 0.0, &o))
         return lt_error_set(err, LT_EDOMAIN, NULL, 0,
                             "the parameters are outside the prior or the physical domain");
     /* the exact path left observed - prediction (with a sampled offset) in r */
-    const lt_sn_work *sw = w->term[l->sn_term];
-    double shift = l->offset == LT_OFFSET_MARGINAL ? pt.offset : 0.0;
+    double shift = l->offset == LT_OFFSET_MARGINAL ? o.offset : 0.0;
     for (size_t i = 0; i < l->sn->s->n; i++)
         model[i] = l->sn->s->obs[i] - sw->r[i] + shift;
     return LT_OK;

@@ -10,6 +10,10 @@
 
 #include <cjson/cJSON.h>
 
+#include "lantern/digest.h"
+#include "lantern/text.h"
+#include "lantern/file.h"
+#include "lantern/json.h"
 #include "lantern/report.h"
 
 int lt_report_write_json(const char *path, const cJSON *o, lt_error *err)
@@ -34,42 +38,33 @@ int lt_report_write_json(const char *path, const cJSON *o, lt_error *err)
 
 static cJSON *num(double v) { return lt_json_number(v); }
 
-/* FNV-1a, 64 bits (Fowler, Noll and Vo; the offset basis and prime of its
- * published definition), over n bytes, continuing from *h. */
-static void fnv1a(uint64_t *h, const void *p, size_t n)
-{
-    const unsigned char *b = p;
-    for (size_t i = 0; i < n; i++)
-        *h = (*h ^ b[i]) * 0x100000001B3ull;
-}
-
 /* A digest of the data a model was fitted to, after cuts: the size, the
  * observable, z, zhel, the observations and the covariance's diagonal, and
  * each measurement's name, mean and sd. lantern report compares it to tell
  * runs on other data apart. */
 static void data_digest(const lt_like *l, char *out, size_t size)
 {
-    uint64_t h = 0xCBF29CE484222325ull;
+    uint64_t h = LT_DIGEST_START;
     const lt_survey *s = lt_like_survey(l);
     if (s) {
         int kind = (int)s->kind;
-        fnv1a(&h, &s->n, sizeof s->n);
-        fnv1a(&h, &kind, sizeof kind);
-        fnv1a(&h, s->z, s->n * sizeof *s->z);
-        fnv1a(&h, s->zhel, s->n * sizeof *s->zhel);
-        fnv1a(&h, s->obs, s->n * sizeof *s->obs);
+        lt_digest_add(&h, &s->n, sizeof s->n);
+        lt_digest_add(&h, &kind, sizeof kind);
+        lt_digest_add(&h, s->z, s->n * sizeof *s->z);
+        lt_digest_add(&h, s->zhel, s->n * sizeof *s->zhel);
+        lt_digest_add(&h, s->obs, s->n * sizeof *s->obs);
         double *diag = malloc((s->n ? s->n : 1) * sizeof *diag);
         if (diag && s->cov) {
             lt_cov_diagonal(s->cov, diag);
-            fnv1a(&h, diag, s->n * sizeof *diag);
+            lt_digest_add(&h, diag, s->n * sizeof *diag);
         }
         free(diag);
     }
     for (size_t k = 0; k < lt_like_nmeasurements(l); k++) {
         const lt_measurement *m = lt_like_measurement(l, k);
         double v[2] = {m->mean, m->sd};
-        fnv1a(&h, m->name, strlen(m->name) + 1);
-        fnv1a(&h, v, sizeof v);
+        lt_digest_add(&h, m->name, strlen(m->name) + 1);
+        lt_digest_add(&h, v, sizeof v);
     }
     snprintf(out, size, "fnv1a64:%016llx", (unsigned long long)h);
 }

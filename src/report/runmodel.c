@@ -6,6 +6,7 @@
 
 #include <cjson/cJSON.h>
 
+#include "lantern/file.h"
 #include "lantern/report.h"
 
 void lt_run_model_free(lt_run_model *m)

@@ -10,7 +10,11 @@
 #include <cjson/cJSON.h>
 #include <fitsio.h>
 
-#include "lantern/lantern.h"
+#include "lantern/text.h"
+#include "lantern/file.h"
+#include "lantern/json.h"
+#include "lantern/report.h"
+#include "lantern/version.h"
 
 #define LOGPOST 0
 #define CHI2 1
@@ -230,7 +234,8 @@ int lt_sample_collect(const lt_like *l, const lt_mcmc *m, size_t reweight, lt_sa
         scale[i] = isfinite(r->stats[2 + i].sd) && r->stats[2 + i].sd > 0 ? r->stats[2 + i].sd : 1.0;
         x0[i] = total ? r->rows[jbest * r->ncols + 2 + i] : 0.0;
     }
-    lt_optim_opts oo = {d, 1, x0, scale, 1e-10, 4000 * (d + 1), NULL};
+    lt_optim_opts oo = {.dim = d, .nstarts = 1, .starts = x0, .scale = scale, .tol = 1e-10,
+                        .max_evals = 4000 * (d + 1), .stop = NULL};
     lt_optim_info info;
     double f;
     if (lt_optimize(neg2logpost, &pc, &oo, r->best, &f, &info, err)) {

@@ -8,6 +8,8 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "lantern/text.h"
+#include "lantern/file.h"
 #include "lantern/report.h"
 
 void lt_pdg_round(double value, double minus, double plus, char *v, char *m, char *p,

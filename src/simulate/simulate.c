@@ -9,6 +9,8 @@
 #include <gsl/gsl_randist.h>
 #include <gsl/gsl_rng.h>
 
+#include "lantern/text.h"
+#include "lantern/ini.h"
 #include "lantern/simulate.h"
 
 #define MAX_OBJECTS 10000000L

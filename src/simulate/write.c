@@ -11,7 +11,10 @@
 #include <cjson/cJSON.h>
 #include <fitsio.h>
 
-#include "lantern/lantern.h"
+#include "lantern/text.h"
+#include "lantern/file.h"
+#include "lantern/json.h"
+#include "lantern/version.h"
 #include "lantern/simulate.h"
 
 enum { F_CSV, F_FITS, F_COV, F_MODES, F_TRUTH, NFILES };

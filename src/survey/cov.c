@@ -18,6 +18,7 @@
 #include <cblas.h>
 #include <lapacke.h>
 
+#include "lantern/digest.h"
 #include "lantern/survey.h"
 
 /* malloc(0) may return NULL; ask for at least one element. */
@@ -368,6 +369,22 @@ void lt_cov_diagonal(const lt_cov *c, double *out)
             v += c->u[i * c->k + m] * c->u[i * c->k + m];
         out[i] = v;
     }
+}
+
+void lt_cov_digest(const lt_cov *c, uint64_t *h)
+{
+    size_t n = c->n, k = c->k;
+    int dense = c->dense != NULL;
+    lt_digest_add(h, &n, sizeof n);
+    lt_digest_add(h, &k, sizeof k);
+    lt_digest_add(h, &dense, sizeof dense);
+    for (size_t i = 0; i < n; i++)
+        for (size_t j = i; j < (dense ? n : i + 1); j++) { /* a diagonal base: C_ii only */
+            double v = base_at(c, i, j);
+            lt_digest_add(h, &v, sizeof v);
+        }
+    if (k)
+        lt_digest_add(h, c->u, n * k * sizeof *c->u);
 }
 
 void lt_cov_to_dense(const lt_cov *c, double *out)

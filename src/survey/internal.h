@@ -8,37 +8,18 @@
 #include <fitsio.h>
 
 #include "lantern/survey.h"
+#include "lantern/text.h"
 
 /* Limits that turn absurd input into a clear error instead of a crash. */
 #define LT_TABLE_FILE_MAX ((size_t)8 << 30) /* 8 GiB of text */
 #define LT_TABLE_LINE_MAX (1u << 20)        /* 1 MiB in one line */
 #define LT_TABLE_FIELDS_MAX 100000          /* fields in one line */
 
-/* ---- lines of a text buffer, edited in place ---- */
-typedef struct lt_lines {
-    char *p;   /* the rest of the buffer */
-    long line; /* the number of the line last returned */
-} lt_lines;
-
-/* Start at buf, skipping a UTF-8 byte-order mark. */
-void lt_lines_start(lt_lines *it, char *buf);
-
+/* Close a FITS handle that a failed open left allocated (fitscheck.c). */
 void lt_fits_close_failed(fitsfile *f);
 
 /* Scan a FITS file's headers (fitscheck.c) before CFITSIO reads them. */
 int lt_fits_check(const char *path, lt_error *err);
-/* The next line, NUL-terminated and without its "\n" or "\r\n", or NULL at
- * the end; *len gets its length. */
-char *lt_lines_next(lt_lines *it, size_t *len);
-
-/* Is the line empty or only blanks and tabs? */
-int lt_line_blank(const char *s);
-
-/* Split line in place into fields: at commas (csv, fields trimmed of blanks
- * and tabs) or at runs of blanks and tabs. Returns the count, or -1 if
- * there are more than max. */
-long lt_line_split(char *line, int csv, char **fields, long max);
-
 /* ---- roles of table columns ---- */
 enum { LT_ROLE_Z, LT_ROLE_ZHEL, LT_ROLE_OBS, LT_ROLE_ERR, LT_ROLE_ID, LT_ROLE_COUNT };
 

@@ -8,6 +8,8 @@
 
 #include <fitsio.h>
 
+#include "lantern/text.h"
+#include "lantern/file.h"
 #include "internal.h"
 
 /* A dense matrix beyond this many bytes is refused with advice to use

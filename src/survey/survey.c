@@ -8,17 +8,9 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "lantern/text.h"
+#include "lantern/file.h"
 #include "internal.h"
-
-const char *lt_obs_name(lt_obs k)
-{
-    switch (k) {
-    case LT_OBS_MU: return "mu";
-    case LT_OBS_MAG: return "mag";
-    case LT_OBS_DL: return "dl";
-    default: return "?";
-    }
-}
 
 void lt_survey_spec_init(lt_survey_spec *s)
 {
@@ -95,11 +87,7 @@ static int idlist_read(const char *path, idlist *l, lt_error *err)
     char *s;
     size_t len, cap = 0;
     while ((s = lt_lines_next(&it, &len))) {
-        while (*s == ' ' || *s == '\t')
-            s++;
-        size_t m = strlen(s);
-        while (m && (s[m - 1] == ' ' || s[m - 1] == '\t'))
-            s[--m] = '\0';
+        s = lt_text_trim(s);
         if (!*s || *s == '#')
             continue;
         if (l->n == cap) {

@@ -9,103 +9,21 @@
 
 #include <fitsio.h>
 
+#include "lantern/text.h"
+#include "lantern/file.h"
 #include "internal.h"
 
-/* ---- lines and fields ---- */
-/* A FITS open that fails after CFITSIO opened the file (not an image, no
- * table HDU) leaves the handle allocated (found by fuzzing: 16 bytes per
- * refused file); close it, keeping the first error. */
-void lt_fits_close_failed(fitsfile *f)
-{
-    int status = 0;
-    if (f)
-        fits_close_file(f, &status);
-    fits_clear_errmsg();
-}
-
-void lt_lines_start(lt_lines *it, char *buf)
-{
-    /* strncmp, not memcmp: the buffer may be shorter than three bytes
-     * (found by fuzzing) */
-    if (strncmp(buf, "\xEF\xBB\xBF", 3) == 0)
-        buf += 3;
-    it->p = buf;
-    it->line = 0;
-}
-
-char *lt_lines_next(lt_lines *it, size_t *len)
-{
-    if (!*it->p)
-        return NULL;
-    char *s = it->p, *end = strchr(s, '\n');
-    if (end) {
-        *end = '\0';
-        it->p = end + 1;
-    } else {
-        it->p = s + strlen(s);
-    }
-    size_t n = end ? (size_t)(end - s) : strlen(s);
-    if (n && s[n - 1] == '\r')
-        s[--n] = '\0';
-    it->line++;
-    *len = n;
-    return s;
-}
-
-int lt_line_blank(const char *s)
-{
-    for (; *s; s++)
-        if (*s != ' ' && *s != '\t')
-            return 0;
-    return 1;
-}
-
-static char *trim(char *s)
-{
-    while (*s == ' ' || *s == '\t')
-        s++;
-    size_t n = strlen(s);
-    while (n && (s[n - 1] == ' ' || s[n - 1] == '\t'))
-        s[--n] = '\0';
-    return s;
-}
-
-long lt_line_split(char *line, int csv, char **fields, long max)
-{
-    long n = 0;
-    if (csv) {
-        char *p = line;
-        for (;;) {
-            char *comma = strchr(p, ',');
-            if (comma)
-                *comma = '\0';
-            if (n == max)
-                return -1;
-            fields[n++] = trim(p);
-            if (!comma)
-                break;
-            p = comma + 1;
-        }
-        return n;
-    }
-    char *p = line;
-    for (;;) {
-        while (*p == ' ' || *p == '\t')
-            p++;
-        if (!*p)
-            break;
-        if (n == max)
-            return -1;
-        fields[n++] = p;
-        while (*p && *p != ' ' && *p != '\t')
-            p++;
-        if (*p)
-            *p++ = '\0';
-    }
-    return n;
-}
-
 /* ---- column roles ---- */
+const char *lt_obs_name(lt_obs k)
+{
+    switch (k) {
+    case LT_OBS_MU: return "mu";
+    case LT_OBS_MAG: return "mag";
+    case LT_OBS_DL: return "dl";
+    default: return "?";
+    }
+}
+
 const char *lt_role_name(int role, lt_obs kind)
 {
     switch (role) {

@@ -1,5 +1,5 @@
 /* Error records: see include/lantern/util.h. */
-#include "lantern/util.h"
+#include "lantern/error.h"
 
 #include <stdarg.h>
 #include <stdio.h>

@@ -5,7 +5,7 @@
 #include <string.h>
 #include <sys/stat.h>
 
-#include "lantern/util.h"
+#include "lantern/file.h"
 
 int lt_file_read(const char *path, size_t max_bytes, char **data, size_t *size,
                  lt_error *err)

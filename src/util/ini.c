@@ -3,23 +3,15 @@
 #include <stdlib.h>
 #include <string.h>
 
-#include "lantern/util.h"
+#include "lantern/text.h"
+#include "lantern/file.h"
+#include "lantern/ini.h"
 
 /* Run files are small; anything larger is a mistake (a data file passed
  * where a run file was meant). */
 #define INI_FILE_MAX (4u << 20)
 
 static int is_name_char(int c) { return isalnum(c) || c == '_' || c == '.' || c == '-'; }
-
-static char *trim(char *s)
-{
-    while (*s == ' ' || *s == '\t')
-        s++;
-    size_t n = strlen(s);
-    while (n && (s[n - 1] == ' ' || s[n - 1] == '\t'))
-        s[--n] = '\0';
-    return s;
-}
 
 static int valid_name(const char *s)
 {
@@ -109,7 +101,7 @@ static int add_entry(lt_ini *ini, const char *key, const char *value, long line,
 /* Parse one line (already without its line end) into ini. */
 static int parse_line(lt_ini *ini, char *raw, long line, lt_error *err)
 {
-    char *s = trim(raw);
+    char *s = lt_text_trim(raw);
     if (!*s || *s == '#' || *s == ';')
         return LT_OK;
     if (*s == '[') {
@@ -117,12 +109,12 @@ static int parse_line(lt_ini *ini, char *raw, long line, lt_error *err)
         if (!close)
             return lt_error_set(err, LT_EINPUT, ini->path, line,
                                 "section header without ']': %s", s);
-        char *rest = trim(close + 1);
+        char *rest = lt_text_trim(close + 1);
         if (*rest && *rest != '#' && *rest != ';')
             return lt_error_set(err, LT_EINPUT, ini->path, line,
                                 "unexpected text after the section header: %s", rest);
         *close = '\0';
-        char *name = trim(s + 1);
+        char *name = lt_text_trim(s + 1);
         if (!valid_name(name))
             return lt_error_set(err, LT_EINPUT, ini->path, line,
                                 "section name '%s' may hold only letters, digits, '_', "
@@ -135,7 +127,7 @@ static int parse_line(lt_ini *ini, char *raw, long line, lt_error *err)
         return lt_error_set(err, LT_EINPUT, ini->path, line,
                             "expected 'key = value', '[section]' or a comment, got: %s", s);
     *eq = '\0';
-    char *key = trim(s), *value = eq + 1;
+    char *key = lt_text_trim(s), *value = eq + 1;
     if (!valid_name(key))
         return lt_error_set(err, LT_EINPUT, ini->path, line,
                             "key '%s' may hold only letters, digits, '_', '.' and '-'", key);
@@ -146,7 +138,7 @@ static int parse_line(lt_ini *ini, char *raw, long line, lt_error *err)
             break;
         }
     }
-    value = trim(value);
+    value = lt_text_trim(value);
     if (ini->nsections == 0)
         return lt_error_set(err, LT_EINPUT, ini->path, line,
                             "key '%s' comes before any [section]", key);
@@ -170,28 +162,19 @@ lt_ini *lt_ini_read(const char *path, lt_error *err)
         lt_error_set(err, LT_EINPUT, path, 0, "holds a NUL byte: not a text file");
         goto fail;
     }
-    char *p = data;
-    if (size >= 3 && memcmp(p, "\xEF\xBB\xBF", 3) == 0)
-        p += 3; /* UTF-8 byte-order mark */
-    long line = 0;
-    while (*p) {
-        line++;
-        char *end = strchr(p, '\n');
-        char *next = end ? end + 1 : p + strlen(p);
-        if (end)
-            *end = '\0';
-        size_t len = strlen(p);
-        if (len && p[len - 1] == '\r')
-            p[--len] = '\0';
+    lt_lines it;
+    lt_lines_start(&it, data);
+    char *p;
+    size_t len;
+    while ((p = lt_lines_next(&it, &len))) {
         if (len > LT_INI_LINE_MAX) {
-            lt_error_set(err, LT_EINPUT, path, line,
+            lt_error_set(err, LT_EINPUT, path, it.line,
                          "line is %zu bytes long, over the limit of %d", len,
                          LT_INI_LINE_MAX);
             goto fail;
         }
-        if (parse_line(ini, p, line, err))
+        if (parse_line(ini, p, it.line, err))
             goto fail;
-        p = next;
     }
     free(data);
     return ini;

@@ -3,7 +3,8 @@
 
 #include <cjson/cJSON.h>
 
-#include "lantern/util.h"
+#include "lantern/json.h"
+#include "lantern/text.h"
 
 cJSON *lt_json_number(double v)
 {

@@ -20,7 +20,8 @@
 #include <sys/stat.h>
 #include <unistd.h>
 
-#include "lantern/util.h"
+#include "lantern/file.h"
+#include "lantern/outdir.h"
 
 #define MARKER_MAX (64u << 20) /* a campaign of many tasks lists many files */
 

@@ -1,5 +1,5 @@
 /* Strict number parsing: see include/lantern/util.h. */
-#include "lantern/util.h"
+#include "lantern/text.h"
 
 #include <ctype.h>
 #include <errno.h>

@@ -41,7 +41,7 @@ int main(void)
         lt_like *l = lt_like_alloc(s, &ls, &err);
         size_t d = lt_like_dim(l);
         double t0 = now();
-        lt_fit_opts fo = {1, 8, NULL};
+        lt_fit_opts fo = {.seed = 1, .starts = 8, .stop = NULL};
         lt_fit_result fr;
         lt_fit_run(l, &fo, &fr, &err);
         double t1 = now();
@@ -52,8 +52,11 @@ int main(void)
         double scale[LT_MAX_FREE];
         for (size_t i = 0; i < d; i++)
             scale[i] = lt_like_prior(l, i)->b - lt_like_prior(l, i)->a;
-        lt_mcmc_opts o = {d, 1, 4, 1, fr.best, fr.laplace_ok ? fr.cov : NULL, scale,
-                          d * 1000 > 2000 ? d * 1000 : 2000, 1000, 200000, 1000, 0.01, 0, 0};
+        lt_mcmc_opts o = {.dim = d, .nextra = 1, .nchains = 4, .seed = 1, .center = fr.best,
+                          .cov = fr.laplace_ok ? fr.cov : NULL, .scale = scale,
+                          .warmup = d * 1000 > 2000 ? d * 1000 : 2000, .check_every = 1000,
+                          .max_steps = 200000, .target_ess = 1000, .rhat_tol = 0.01, .threads = 0,
+                          .memory_limit = 0};
         lt_mcmc *m = lt_mcmc_alloc(&o, lt_like_logdensity, cp, &err);
         lt_mcmc_run(m, NULL, NULL, NULL, &err);
         double t2 = now();

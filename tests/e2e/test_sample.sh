@@ -176,6 +176,21 @@ awk 'NR == 5 { $5 = $5 + 0.01 } { print }' "$(sed -n 's/^file = //p' "$E2E_TMP/a
 sed -i "s|^file = .*|file = $E2E_TMP/changed.txt|" "$E2E_TMP/otherdata/checkpoint/settings.ini"
 run "$LANTERN" sample --resume "$E2E_TMP/otherdata"
 expect_error "a checkpoint of other data (one magnitude changed) is refused" 2 "belongs to another run"
+# Issue 17: the fingerprint covers the whole covariance, not only its
+# diagonal. One off-diagonal pair of the systematic covariance changes
+# (element (1,2) and (2,1), lines 3 and 42 of the file: "40", then the
+# 40 x 40 values row after row), staying symmetric and, at 4% of the pair,
+# positive definite; resuming on it is refused, naming the covariance.
+cp -r "$E2E_TMP/a" "$E2E_TMP/othercov"
+awk 'NR == 3 || NR == 42 { $1 = $1 * 1.04 } { print }' "$P/sys_DS17f.txt" >"$E2E_TMP/cov_offdiag.txt"
+sed -i "s|^cov = .*|cov = $E2E_TMP/cov_offdiag.txt|" "$E2E_TMP/othercov/checkpoint/settings.ini"
+run "$LANTERN" inspect "${DATA[@]/$P\/sys_DS17f.txt/$E2E_TMP/cov_offdiag.txt}" --format json
+if [ "$STATUS" -eq 0 ] && grep -q '"positive_definite":[[:space:]]*true' "$OUT"; then
+    pass "the changed covariance is still positive definite"
+else fail "the changed covariance is still positive definite"; fi
+run "$LANTERN" sample --resume "$E2E_TMP/othercov"
+expect_error "a checkpoint whose covariance differs only off the diagonal is refused" 2 \
+    "belongs to another run: the covariance differs"
 run "$LANTERN" sample "${DATA[@]}" --model lcdm --chains 0
 expect_error "bad --chains" 2 "--chains: '0' is not a whole number from 1 to 256"
 run "$LANTERN" sample "${DATA[@]}" --model lcdm --target-ess x

@@ -59,7 +59,7 @@ static void check_model(const lt_survey *s, const char *model, int posterior, do
     size_t K;
     double setdchi2;
     assert_true(lt_like_compression(lc, &K, &setdchi2));
-    lt_fit_opts fo = {1, 4, NULL};
+    lt_fit_opts fo = {.seed = 1, .starts = 4, .stop = NULL};
     lt_fit_result fr;
     /* the best fit only centres the points and the chains: the compressed
      * one serves (its chi2_min is within the bound of the exact one) and
@@ -99,8 +99,11 @@ static void check_model(const lt_survey *s, const char *model, int posterior, do
         double scale[LT_MAX_FREE];
         for (size_t i = 0; i < d; i++)
             scale[i] = lt_like_prior(lc, i)->b - lt_like_prior(lc, i)->a;
-        lt_mcmc_opts o = {d, 1, 4, 5, fr.best, fr.laplace_ok ? fr.cov : NULL, scale,
-                          d * 1000 > 2000 ? d * 1000 : 2000, 1000, 30000, 1000, 0.01, 0, 0};
+        lt_mcmc_opts o = {.dim = d, .nextra = 1, .nchains = 4, .seed = 5, .center = fr.best,
+                          .cov = fr.laplace_ok ? fr.cov : NULL, .scale = scale,
+                          .warmup = d * 1000 > 2000 ? d * 1000 : 2000, .check_every = 1000,
+                          .max_steps = 30000, .target_ess = 1000, .rhat_tol = 0.01, .threads = 0,
+                          .memory_limit = 0};
         lt_mcmc *m = lt_mcmc_alloc(&o, lt_like_logdensity, cp, &err);
         assert_int_equal(lt_mcmc_run(m, NULL, NULL, NULL, &err), LT_OK);
         size_t row = lt_mcmc_row_size(m);
@@ -228,7 +231,7 @@ static void test_pantheon_1048(void **state)
 static void sample(lt_like *l, lt_like_chain c[4], lt_mcmc **m)
 {
     size_t d = lt_like_dim(l);
-    lt_fit_opts fo = {1, 4, NULL};
+    lt_fit_opts fo = {.seed = 1, .starts = 4, .stop = NULL};
     lt_fit_result fr;
     lt_error err;
     assert_int_equal(lt_fit_run(l, &fo, &fr, &err), LT_OK);
@@ -240,8 +243,10 @@ static void sample(lt_like *l, lt_like_chain c[4], lt_mcmc **m)
     double scale[LT_MAX_FREE];
     for (size_t i = 0; i < d; i++)
         scale[i] = lt_like_prior(l, i)->b - lt_like_prior(l, i)->a;
-    lt_mcmc_opts o = {d, 1, 4, 1, fr.best, fr.laplace_ok ? fr.cov : NULL, scale, 4000, 1000,
-                      30000, 1000, 0.01, 0, 0};
+    lt_mcmc_opts o = {.dim = d, .nextra = 1, .nchains = 4, .seed = 1, .center = fr.best,
+                      .cov = fr.laplace_ok ? fr.cov : NULL, .scale = scale, .warmup = 4000,
+                      .check_every = 1000, .max_steps = 30000, .target_ess = 1000,
+                      .rhat_tol = 0.01, .threads = 0, .memory_limit = 0};
     *m = lt_mcmc_alloc(&o, lt_like_logdensity, cp, &err);
     assert_int_equal(lt_mcmc_run(*m, NULL, NULL, NULL, &err), LT_OK);
 }

@@ -34,7 +34,8 @@ static lt_nested_result nested(const lt_like *l, size_t nlive, uint64_t seed)
     void *cp[2];
     for (int t = 0; t < 2; t++)
         c[t] = (lt_like_nested){{l, lt_like_work_alloc(l)}, lt_like_lognorm(l)}, cp[t] = &c[t];
-    lt_nested_opts o = {lt_like_dim(l), nlive, seed, 0.01, 1.25, 10000000, 2};
+    lt_nested_opts o = {.dim = lt_like_dim(l), .nlive = nlive, .seed = seed, .dlogz = 0.01,
+                        .enlarge = 1.25, .max_iter = 10000000, .threads = 2};
     lt_nested_result r;
     lt_error err;
     assert_int_equal(lt_nested_run(&o, lt_like_prior_transform, (void *)l, lt_like_nested_loglike,
@@ -109,7 +110,7 @@ static void test_savage_dickey(void **state)
     lt_nested_result r0 = nested(l0, 1500, 1), r1 = nested(l1, 1500, 2);
     double lnb = r0.logz - r1.logz, lnb_err = hypot(r0.logz_err, r1.logz_err);
     /* the MCMC of wCDM and the density at w0 = -1 */
-    lt_fit_opts fo = {3, 6, NULL};
+    lt_fit_opts fo = {.seed = 3, .starts = 6, .stop = NULL};
     lt_fit_result fr;
     assert_int_equal(lt_fit_run(l1, &fo, &fr, &err), LT_OK);
     lt_like_chain c[8];
@@ -117,7 +118,10 @@ static void test_savage_dickey(void **state)
     for (int k = 0; k < 8; k++)
         c[k] = (lt_like_chain){l1, lt_like_work_alloc(l1)}, cp[k] = &c[k];
     double scale[2] = {1, 2};
-    lt_mcmc_opts o = {2, 1, 8, 99, fr.best, fr.cov, scale, 2000, 1000, 400000, 8000, 0.01, 0, 0};
+    lt_mcmc_opts o = {.dim = 2, .nextra = 1, .nchains = 8, .seed = 99, .center = fr.best,
+                      .cov = fr.cov, .scale = scale, .warmup = 2000, .check_every = 1000,
+                      .max_steps = 400000, .target_ess = 8000, .rhat_tol = 0.01, .threads = 0,
+                      .memory_limit = 0};
     lt_mcmc *m = lt_mcmc_alloc(&o, lt_like_logdensity, cp, &err);
     assert_non_null(m);
     assert_int_equal(lt_mcmc_run(m, NULL, NULL, NULL, &err), LT_OK);

@@ -113,7 +113,7 @@ static void check(int with_sys, double published, double published_sd)
     lt_like_spec_init(&ls, lt_cosmo_model_find("lcdm-flat"));
     lt_like *l = lt_like_alloc(s, &ls, &err);
     assert_non_null(l);
-    lt_fit_opts fo = {1, 8, NULL};
+    lt_fit_opts fo = {.seed = 1, .starts = 8, .stop = NULL};
     lt_fit_result r;
     assert_int_equal(lt_fit_run(l, &fo, &r, &err), LT_OK);
     assert_true(r.info.converged && r.laplace_ok);

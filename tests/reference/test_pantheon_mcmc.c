@@ -44,7 +44,7 @@ static int teardown(void **state)
 static void sample(const lt_like *l, double target_ess, double *mean, double *sd)
 {
     size_t d = lt_like_dim(l);
-    lt_fit_opts fo = {1, 8, NULL};
+    lt_fit_opts fo = {.seed = 1, .starts = 8, .stop = NULL};
     lt_fit_result fr;
     lt_error err;
     assert_int_equal(lt_fit_run(l, &fo, &fr, &err), LT_OK);
@@ -55,8 +55,10 @@ static void sample(const lt_like *l, double target_ess, double *mean, double *sd
     double scale[LT_MAX_FREE];
     for (size_t i = 0; i < d; i++)
         scale[i] = lt_like_prior(l, i)->b - lt_like_prior(l, i)->a;
-    lt_mcmc_opts o = {d, 1, 4, 2026, fr.best, fr.cov, scale, 1000, 1000, 2000000, target_ess,
-                      0.01, 0, 0};
+    lt_mcmc_opts o = {.dim = d, .nextra = 1, .nchains = 4, .seed = 2026, .center = fr.best,
+                      .cov = fr.cov, .scale = scale, .warmup = 1000, .check_every = 1000,
+                      .max_steps = 2000000, .target_ess = target_ess, .rhat_tol = 0.01,
+                      .threads = 0, .memory_limit = 0};
     lt_mcmc *m = lt_mcmc_alloc(&o, lt_like_logdensity, cp, &err);
     assert_non_null(m);
     assert_int_equal(lt_mcmc_run(m, NULL, NULL, NULL, &err), LT_OK);

@@ -61,7 +61,7 @@ static void test_pivot_and_derived(void **state)
     lt_error err;
     lt_like *l = lt_like_alloc(survey, &spec, &err);
     assert_non_null(l);
-    lt_fit_opts o = {7, 4, NULL};
+    lt_fit_opts o = {.seed = 7, .starts = 4, .stop = NULL};
     lt_fit_result r, r2;
     assert_int_equal(lt_fit_run(l, &o, &r, &err), LT_OK);
     assert_true(r.laplace_ok && r.info.converged);
@@ -99,7 +99,7 @@ static void test_delta_method(void **state)
     lt_like_spec_init(&spec, lt_cosmo_model_find("wcdm-flat"));
     lt_error err;
     lt_like *l = lt_like_alloc(survey, &spec, &err);
-    lt_fit_opts o = {3, 4, NULL};
+    lt_fit_opts o = {.seed = 3, .starts = 4, .stop = NULL};
     lt_fit_result r;
     assert_int_equal(lt_fit_run(l, &o, &r, &err), LT_OK);
     size_t d = r.dim; /* h0, omega_m, w0 */

@@ -249,8 +249,10 @@ static void four_chains(const target *t, target ts[4], void *ctx[4])
 static lt_mcmc *sample(target *t, void **ctx, size_t nchains, const double *center,
                        const double *scale, int threads, double target_ess)
 {
-    lt_mcmc_opts o = {t->d, 1, nchains, 12345, center, NULL, scale, 2000, 1000, 400000,
-                      target_ess, 0.01, threads, 0};
+    lt_mcmc_opts o = {.dim = t->d, .nextra = 1, .nchains = nchains, .seed = 12345,
+                      .center = center, .cov = NULL, .scale = scale, .warmup = 2000,
+                      .check_every = 1000, .max_steps = 400000, .target_ess = target_ess,
+                      .rhat_tol = 0.01, .threads = threads, .memory_limit = 0};
     lt_error err;
     lt_mcmc *m = lt_mcmc_alloc(&o, gauss_logp, ctx, &err);
     assert_non_null(m);
@@ -361,7 +363,10 @@ static void test_delayed_rejection(void **state)
     /* proposal covariance = 2.38^2/d * start_cov: start_cov = 2^2 d / 2.38^2 */
     double wide = 4.0 * 2.0 / (2.38 * 2.38);
     double start_cov[4] = {wide, 0, 0, wide};
-    lt_mcmc_opts o = {2, 1, 4, 99, center, start_cov, scale, 0, 1000, 2000000, 100000, 0.01, 0, 0};
+    lt_mcmc_opts o = {.dim = 2, .nextra = 1, .nchains = 4, .seed = 99, .center = center,
+                      .cov = start_cov, .scale = scale, .warmup = 0, .check_every = 1000,
+                      .max_steps = 2000000, .target_ess = 100000, .rhat_tol = 0.01, .threads = 0,
+                      .memory_limit = 0};
     lt_error err;
     lt_mcmc *m = lt_mcmc_alloc(&o, gauss_logp, ctx, &err);
     assert_non_null(m);
@@ -406,7 +411,10 @@ static void test_memory_limit(void **state)
     void *ctx[4];
     four_chains(&t, ts, ctx);
     /* an ESS target it cannot reach: the run would go to max_steps */
-    lt_mcmc_opts o = {2, 1, 4, 7, center, NULL, scale, 2000, 1000, 1000000, 1e12, 0.01, 0, 1e6};
+    lt_mcmc_opts o = {.dim = 2, .nextra = 1, .nchains = 4, .seed = 7, .center = center,
+                      .cov = NULL, .scale = scale, .warmup = 2000, .check_every = 1000,
+                      .max_steps = 1000000, .target_ess = 1e12, .rhat_tol = 0.01, .threads = 0,
+                      .memory_limit = 1e6};
     lt_error err;
     lt_mcmc *m = lt_mcmc_alloc(&o, gauss_logp, ctx, &err);
     assert_non_null(m);

@@ -55,7 +55,8 @@ static lt_nested_result run(size_t d, size_t nlive, uint64_t seed, box *b, lt_lo
     void *ctx[64];
     for (int i = 0; i < 64; i++)
         ctx[i] = b;
-    lt_nested_opts o = {d, nlive, seed, 0.01, 1.25, 1000000, 0};
+    lt_nested_opts o = {.dim = d, .nlive = nlive, .seed = seed, .dlogz = 0.01, .enlarge = 1.25,
+                        .max_iter = 1000000, .threads = 0};
     lt_nested_result r;
     lt_error err;
     assert_int_equal(lt_nested_run(&o, to_box, b, f, ctx, &r, &err), LT_OK);
@@ -153,7 +154,8 @@ static void test_threads(void **state)
     (void)state;
     box b = {2, 10.0};
     void *ctx[2] = {&b, &b};
-    lt_nested_opts o1 = {2, 100, 5, 0.01, 1.25, 100000, 1}, o2 = o1;
+    lt_nested_opts o1 = {.dim = 2, .nlive = 100, .seed = 5, .dlogz = 0.01, .enlarge = 1.25,
+                         .max_iter = 100000, .threads = 1}, o2 = o1;
     o2.threads = 2;
     lt_nested_result a, c;
     lt_error err;
@@ -195,7 +197,8 @@ static void probe_iterate(double busy, size_t max_iter, probe q[2])
     void *ctx[2] = {&q[0], &q[1]};
     for (int t = 0; t < 2; t++)
         q[t] = (probe){{2, 10.0}, busy, 0, 0};
-    lt_nested_opts o = {2, 20, 3, 0.01, 1.25, max_iter, 2};
+    lt_nested_opts o = {.dim = 2, .nlive = 20, .seed = 3, .dlogz = 0.01, .enlarge = 1.25,
+                        .max_iter = max_iter, .threads = 2};
     lt_error err;
     lt_nested *s = lt_nested_alloc(&o, to_box, &q[0].b, probe_ll, ctx, &err);
     assert_non_null(s);
@@ -241,7 +244,8 @@ static void test_resume(void **state)
     (void)state;
     box b = {2, 10.0};
     void *ctx[1] = {&b};
-    lt_nested_opts o = {2, 100, 9, 0.01, 1.25, 100000, 1};
+    lt_nested_opts o = {.dim = 2, .nlive = 100, .seed = 9, .dlogz = 0.01, .enlarge = 1.25,
+                        .max_iter = 100000, .threads = 1};
     lt_nested_result whole, again;
     lt_error err;
     calls_left = -1;

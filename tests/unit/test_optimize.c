@@ -68,7 +68,8 @@ static void test_straight_line(void **state)
     double va = Sxx / delta, vb = S / delta, cab = -Sx / delta;
 
     double starts[] = {0, 0, 5, -3, -2, 2}, scale[] = {1, 1}, best[2], f;
-    lt_optim_opts o = {2, 3, starts, scale, 1e-10, 20000, NULL};
+    lt_optim_opts o = {.dim = 2, .nstarts = 3, .starts = starts, .scale = scale, .tol = 1e-10,
+                       .max_evals = 20000, .stop = NULL};
     lt_optim_info info;
     lt_error err;
     assert_int_equal(lt_optimize(line_chi2, NULL, &o, best, &f, &info, &err), LT_OK);
@@ -91,7 +92,8 @@ static void test_edges_and_failures(void **state)
 {
     (void)state;
     double starts[] = {0, 0}, scale[] = {1, 1}, best[2], f;
-    lt_optim_opts o = {2, 1, starts, scale, 1e-10, 20000, NULL};
+    lt_optim_opts o = {.dim = 2, .nstarts = 1, .starts = starts, .scale = scale, .tol = 1e-10,
+                       .max_evals = 20000, .stop = NULL};
     lt_optim_info info;
     lt_error err;
     /* the optimum on the boundary b = 0.5 */
@@ -129,7 +131,8 @@ static void test_stop(void **state)
     (void)state;
     double starts[] = {-1.2, 1, 0, 0, 2, 2}, scale[] = {1, 1}, best[2], f;
     stopper s = {0, 0};
-    lt_optim_opts o = {2, 3, starts, scale, 1e-10, 20000, &s.stop};
+    lt_optim_opts o = {.dim = 2, .nstarts = 3, .starts = starts, .scale = scale, .tol = 1e-10,
+                       .max_evals = 20000, .stop = &s.stop};
     lt_optim_info info;
     lt_error err;
     assert_int_equal(lt_optimize(stop_after_50, &s, &o, best, &f, &info, &err), LT_EINTR);

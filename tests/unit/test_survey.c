@@ -400,6 +400,41 @@ static int teardown(void **state)
     return lt_test_rmtree(dir);
 }
 
+/* lt_cov_digest sees every element: two 3 x 3 covariances that differ only
+ * in one off-diagonal pair digest differently; factoring (which overwrites
+ * the lower triangle with the Cholesky factor) leaves the digest alone; a
+ * diagonal base digests apart from the same matrix given dense. */
+static uint64_t cov_digest_of(const double *m, int factor)
+{
+    lt_error err;
+    lt_cov *c = lt_cov_alloc(3, &err);
+    assert_non_null(c);
+    assert_int_equal(lt_cov_add_dense(c, m, &err), LT_OK);
+    if (factor)
+        assert_int_equal(lt_cov_factor(c, &err), LT_OK);
+    uint64_t h = LT_DIGEST_START;
+    lt_cov_digest(c, &h);
+    lt_cov_free(c);
+    return h;
+}
+
+static void test_cov_digest(void **state)
+{
+    (void)state;
+    double a[9] = {4, 1, 0.5, 1, 3, 0.2, 0.5, 0.2, 2};
+    double b[9] = {4, 1, 0.5, 1, 3, 0.25, 0.5, 0.25, 2};
+    assert_true(cov_digest_of(a, 0) == cov_digest_of(a, 1));
+    assert_true(cov_digest_of(a, 1) != cov_digest_of(b, 1));
+    double d[9] = {4, 0, 0, 0, 3, 0, 0, 0, 2}, var[3] = {4, 3, 2};
+    lt_error err;
+    lt_cov *c = lt_cov_alloc(3, &err);
+    assert_int_equal(lt_cov_add_diag(c, var, &err), LT_OK);
+    uint64_t h = LT_DIGEST_START;
+    lt_cov_digest(c, &h);
+    lt_cov_free(c);
+    assert_true(h != cov_digest_of(d, 0));
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -408,6 +443,7 @@ int main(void)
         cmocka_unit_test(test_dense_vs_structured), cmocka_unit_test(test_select),
         cmocka_unit_test(test_not_positive_definite), cmocka_unit_test(test_matrix_forms),
         cmocka_unit_test(test_stats),             cmocka_unit_test(test_cuts),
+        cmocka_unit_test(test_cov_digest),
     };
     return cmocka_run_group_tests_name("survey", tests, setup, teardown);
 }

@@ -1,7 +1,7 @@
-/* Random streams: see include/lantern/inference.h. */
+/* Random streams: see include/lantern/rng.h. */
 #include <math.h>
 
-#include "lantern/inference.h"
+#include "lantern/rng.h"
 
 /* splitmix64 (Steele, Lea & Flood 2014): a good mixer for seeding. */
 static uint64_t splitmix64(uint64_t *x)

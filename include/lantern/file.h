@@ -1,0 +1,35 @@
+/*
+ * lantern/file.h - whole files: reading them with a size limit, and writing
+ * them atomically (a temporary name, then rename), so that a failure or an
+ * interruption never leaves a half-written final file.
+ */
+#ifndef LANTERN_FILE_H
+#define LANTERN_FILE_H
+
+#include <stddef.h>
+#include <stdio.h>
+
+#include "lantern/error.h"
+
+/*
+ * Reading whole files: the bytes of path, NUL-terminated, in *data (free
+ * it). Refuses a directory, a missing or unreadable file, and files over
+ * max_bytes, with messages that name the file.
+ */
+int lt_file_read(const char *path, size_t max_bytes, char **data, size_t *size,
+                 lt_error *err);
+
+/*
+ * Atomic files: write to lt_tmp_name(final) and then lt_file_commit it into
+ * place with rename(2), so a failure or an interruption never leaves a
+ * half-written final file.
+ */
+void lt_tmp_name(const char *final, char *buf, size_t size);
+int lt_file_commit(const char *final, lt_error *err);
+/* Close f, the temporary file of final, and commit it; a write error or a
+ * failed close removes the temporary file and is reported (disk full). */
+int lt_file_close_commit(FILE *f, const char *final, lt_error *err);
+/* Write text (NUL-terminated) atomically. */
+int lt_file_write_text(const char *path, const char *text, lt_error *err);
+
+#endif
