@@ -137,6 +137,16 @@ static void test_no_allocation(void **state)
     lt_like_spec_init(&spec, flat);
     lt_like_spec_prior(&spec, "offset", (lt_prior){LT_PRIOR_GAUSS, -19.3, 0.1}, NULL);
     assert_int_equal(count_allocations(mag, &spec), 0);
+    /* measurement terms: of a parameter (h0, which they free), a derived
+     * quantity (the age integrates E(z)), and one the model holds fixed */
+    lt_like_spec_init(&spec, w0wa);
+    lt_like_spec_measure(&spec, "h0", 73.0, 1.0, NULL);
+    lt_like_spec_measure(&spec, "age_gyr", 13.8, 0.2, NULL);
+    lt_like_spec_measure(&spec, "omega_k", 0.0, 0.01, NULL);
+    assert_int_equal(count_allocations(mag, &spec), 0);
+    lt_like_spec_init(&spec, flat);
+    lt_like_spec_measure(&spec, "w0", -1.0, 0.1, NULL);
+    assert_int_equal(count_allocations(NULL, &spec), 0); /* measurements alone */
     /* dl data */
     lt_like_spec_init(&spec, flat);
     assert_int_equal(count_allocations(dl, &spec), 0);
