@@ -233,7 +233,7 @@ lt_like *lt_like_alloc(const lt_survey *s, const lt_like_spec *spec, lt_error *e
         l->meas[l->nmeas++] = spec->measurements[k];
     /* the supernova term first: lt_like_predict reads its residuals */
     if (s) {
-        lt_sn_config cf = {s, l->offset, spec->exact};
+        lt_sn_config cf = {.s = s, .offset = l->offset, .exact = spec->exact};
         l->sn_term = l->nterms;
         if (add_term(l, &lt_term_sn, &cf, err))
             goto fail;
@@ -295,10 +295,10 @@ static void eval(const lt_like *l, lt_like_work *w, const double *theta, int exa
     lt_cosmo c;
     if (lt_cosmo_init(&c, l->model, &p, NULL) != LT_OK)
         return;
-    lt_term_in in = {&c, values, exact};
+    lt_term_in in = {.cosmo = &c, .values = values, .exact = exact};
     double chi2 = 0.0, chi2_eff = 0.0, offset = 0.0;
     for (size_t t = 0; t < l->nterms; t++) {
-        lt_term_out o = {0.0, 0.0, offset};
+        lt_term_out o = {.chi2 = 0.0, .chi2_eff = 0.0, .offset = offset};
         if (l->term[t].type->eval(l->term[t].state, w->term[t], &in, &o))
             return;
         chi2 += o.chi2, chi2_eff += o.chi2_eff, offset = o.offset;

@@ -91,6 +91,11 @@ static double measure_lognorm(const void *state)
 
 static void measure_free(void *state) { free(state); }
 
-const lt_term_type lt_term_measure = {"measurement", measure_setup, measure_work_alloc,
-                                      measure_work_free, measure_eval, measure_ndata,
-                                      measure_lognorm, measure_free};
+const lt_term_type lt_term_measure = {.name = "measurement",
+                                      .setup = measure_setup,
+                                      .work_alloc = measure_work_alloc,
+                                      .work_free = measure_work_free,
+                                      .eval = measure_eval,
+                                      .ndata = measure_ndata,
+                                      .lognorm = measure_lognorm,
+                                      .free = measure_free};

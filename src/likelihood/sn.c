@@ -219,8 +219,14 @@ static double sn_lognorm(const void *state)
     return -0.5 * ((double)s->n * log(2.0 * M_PI) + lt_cov_logdet(s->cov));
 }
 
-const lt_term_type lt_term_sn = {"supernovae", sn_setup, sn_work_alloc, sn_work_free,
-                                 sn_eval, sn_ndata, sn_lognorm, sn_free};
+const lt_term_type lt_term_sn = {.name = "supernovae",
+                                 .setup = sn_setup,
+                                 .work_alloc = sn_work_alloc,
+                                 .work_free = sn_work_free,
+                                 .eval = sn_eval,
+                                 .ndata = sn_ndata,
+                                 .lognorm = sn_lognorm,
+                                 .free = sn_free};
 
 /* ---- the compressed path: set-up, check and refinement ---- */
 
