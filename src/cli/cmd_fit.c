@@ -22,6 +22,11 @@ const char *cli_model_help =
     "                      is integrated out with a flat prior and h0 is held at 70),\n"
     "                      sampled (a fitted parameter; a --prior on offset implies it,\n"
     "                      and frees h0), or none (the default for mu and dl data)\n"
+    "  --measure NAME=MEAN:SD   (repeatable)\n"
+    "                      a Gaussian measurement, chi2 += ((x - MEAN)/SD)^2, of a\n"
+    "                      parameter or a derived quantity (omega_k, omega_de of a\n"
+    "                      flat model, q0, z_t, age_gyr); --data is then optional,\n"
+    "                      and a measurement that depends on h0 frees it\n"
     "omega_* are density fractions today (Omega_m, not Omega_m h^2).\n";
 
 static void usage(FILE *f)
@@ -52,7 +57,8 @@ static void usage(FILE *f)
           "RUN.ini, if given first, supplies any of these; flags override it. Sections:\n"
           "  [run] name; [data] file, columns, cov (comma-separated), modes,\n"
           "  no_err_diag, zmin, zmax, keep_ids, drop_ids; [model] name, offset;\n"
-          "  [priors] NAME = uniform:LO:HI; [fixed] NAME = VALUE; [fit] starts, seed;\n"
+          "  [priors] NAME = uniform:LO:HI; [fixed] NAME = VALUE; [measurements]\n"
+          "  NAME = MEAN:SD; [fit] starts, seed;\n"
           "  [output] dir, format. Paths are relative to the run file's folder.\n"
           "\n"
           "exit status: 0 done, 2 bad input, 3 the optimiser did not converge\n",
