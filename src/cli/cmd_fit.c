@@ -59,7 +59,8 @@ static void usage(FILE *f)
           "RUN.ini, if given first, supplies any of these; flags override it. Sections:\n"
           "  [run] name; [data] file, columns, cov (comma-separated), modes,\n"
           "  no_err_diag, zmin, zmax, keep_ids, drop_ids; [model] name, offset;\n"
-          "  [priors] NAME = uniform:LO:HI; [fixed] NAME = VALUE; [fit] starts, seed;\n"
+          "  [priors] NAME = uniform:LO:HI; [fixed] NAME = VALUE; [measurements]\n"
+          "  NAME = MEAN:SD; [fit] starts, seed;\n"
           "  [output] dir, format. Paths are relative to the run file's folder.\n"
           "\n"
           "exit status: 0 done, 2 bad input, 3 the optimiser did not converge\n",

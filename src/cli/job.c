@@ -453,6 +453,15 @@ static int apply_measure(const cli_kv *kv, lt_like_spec *spec)
                      kv->value);
         return cli_report(&err);
     }
+    /* a name nothing can have is the file's (or the flag's) mistake: say
+     * where; the likelihood checks the rest against the model */
+    if (!lt_param_known(kv->name) && lt_derived_find(kv->name) < 0) {
+        lt_error_set(&err, LT_EINPUT, where, kv->line,
+                     "nothing called '%s' to measure (parameters: %s; derived: omega_k, "
+                     "omega_de, q0, z_t, age_gyr)",
+                     kv->name, lt_param_known_list());
+        return cli_report(&err);
+    }
     if (lt_like_spec_measure(spec, kv->name, mean, sd, &err)) {
         lt_error_locate(&err, LT_EINPUT, where, kv->line);
         return cli_report(&err);
