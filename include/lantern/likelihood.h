@@ -1,30 +1,4 @@
 /*
- * lantern/likelihood.h - parameters, priors and the supernova likelihood.
- *
- * A likelihood joins a survey and a cosmological model. Its free parameters
- * are the model's (h0, omega_m, omega_de, w0, wa as the model has them) less
- * those fixed, plus the offset when it is sampled. For distance-modulus or
- * magnitude data the model prediction is
- *     mu_i = 5 log10( (1 + zhel_i) D_M(z_i) / 10 pc )  [+ offset]
- * and chi2 = r^T C^-1 r with r = observed - predicted, using the survey's
- * factored covariance. For dl data, r = dl_observed - (1 + zhel) D_M.
- *
- * The offset (the absolute magnitude M of mag = mu + M) can be
- *   - marginal: integrated out analytically with a flat prior (Goliath et
- *     al. 2001, A&A 380, 6; Conley et al. 2011, ApJS 192, 1, appendix C):
- *         chi2_marg = A - B^2/C + ln(C / 2 pi),
- *     A = r^T C^-1 r, B = 1^T C^-1 r, C = 1^T C^-1 1 with r = observed - mu.
- *     The reported chi2 is A - B^2/C (chi2 at the best offset B/C); the
- *     ln(C/2pi) term is a constant of the data, kept so that ln Z is that
- *     of a flat offset prior of unit width (1 mag). h0 is then degenerate
- *     with the offset and held at its fixed value (70 unless --fix).
- *   - sampled: a parameter like any other, with a prior (for example an H0
- *     calibration); h0 is then free.
- *   - none: no offset (the default for mu and dl data); h0 is free.
- *
- * The evaluation allocates nothing: each thread owns an lt_like_work.
- */
-/*
  * lantern/likelihood.h - parameters by name, priors, and the likelihood as
  * a sum of terms.
  *
@@ -126,12 +100,18 @@ typedef struct lt_param_setting {
     int fixed;
     lt_prior prior; /* unless fixed */
     double value;   /* if fixed */
+    /* where it was given, for error messages: a run file and its line, or
+     * NULL (then "--prior" or "--fix"); the string must outlive the spec */
+    const char *origin;
+    long line;
 } lt_param_setting;
 
 /* A Gaussian measurement of a parameter or derived quantity by name. */
 typedef struct lt_measurement {
     char name[LT_NAME_MAX];
     double mean, sd;
+    const char *origin; /* as in lt_param_setting; NULL: "--measure" */
+    long line;
 } lt_measurement;
 
 #define LT_MAX_MEASUREMENTS 16
@@ -157,7 +137,9 @@ int lt_like_spec_fix(lt_like_spec *s, const char *name, double value, lt_error *
 /* The setting of name, or NULL. */
 const lt_param_setting *lt_like_spec_setting(const lt_like_spec *s, const char *name);
 /* Add a measurement name = mean +- sd (sd > 0). LT_EINPUT for a bad sd, a
- * name too long or a full list. */
+ * name too long or a full list. Two measurements of one quantity are two
+ * terms. The likelihood orders them by name (stably), so that the same
+ * measurements in any order make the same likelihood, to the last bit. */
 int lt_like_spec_measure(lt_like_spec *s, const char *name, double mean, double sd,
                          lt_error *err);
 
@@ -198,7 +180,7 @@ size_t lt_like_ndata(const lt_like *l);
 long lt_like_dof(const lt_like *l);
 /* Parameters counted by information criteria: free + marginalised offset. */
 size_t lt_like_nparams_counted(const lt_like *l);
-/* The measurements, in the order given. */
+/* The measurements, by name (two of one name in the order given). */
 size_t lt_like_nmeasurements(const lt_like *l);
 const lt_measurement *lt_like_measurement(const lt_like *l, size_t k);
 /* ln of the likelihood's normalisation, summed over the terms:
@@ -333,7 +315,8 @@ typedef struct lt_term_type {
     void *(*setup)(const void *config, const lt_like *l, lt_error *err);
     void *(*work_alloc)(const void *state);
     void (*work_free)(void *work);
-    /* Add nothing anywhere: fill out; return -1 outside the term's domain. */
+    /* Evaluate at in, writing only out (and the work space): no allocation,
+     * nothing shared written. Returns 0, or -1 outside the term's domain. */
     int (*eval)(const void *state, void *work, const lt_term_in *in, lt_term_out *out);
     size_t (*ndata)(const void *state);
     double (*lognorm)(const void *state);

@@ -115,9 +115,10 @@ int cli_sample_model(cli_job *j, lt_like *l, const lt_like_spec *spec, const cha
                      int resume, int print, cli_format format);
 /* If the current argument is a DATA, MODEL or output option, take it. */
 int cli_take_job(cli_args *a, cli_job *j);
-/* j's survey into *s; none (NULL) when no --data is given but spec has a
- * measurement (the likelihood then has other terms). LT_OK or err's code. */
-int cli_job_survey(const cli_job *j, const lt_like_spec *spec, lt_survey **s, lt_error *err);
+/* j's survey into *s; none (NULL) when no --data is given but j has a
+ * measurement (the likelihood then has other terms; other survey options
+ * are then an error). LT_OK or err's code. */
+int cli_job_survey(const cli_job *j, lt_survey **s, lt_error *err);
 /* The likelihood spec for model m from j's priors, fixes, measurements and offset;
  * prints any error and returns the exit status. */
 int cli_job_like_spec(const cli_job *j, const lt_cosmo_model *m, lt_like_spec *spec);
@@ -149,7 +150,7 @@ int cli_forecast(int argc, char **argv);
  * matches and refused if not, an interruption (*stop set) saves the state
  * there and returns LT_EINTR, and a finished run saves its final state there
  * too, so that a resumed comparison does not redo it. */
-int cli_nested_model(const lt_like *l, const lt_like_spec *spec, long live, uint64_t seed,
+int cli_nested_model(const lt_like *l, long live, uint64_t seed,
                      int threads, const char *checkpoint, volatile sig_atomic_t *stop,
                      lt_nested_result *r, lt_error *err);
 
@@ -167,11 +168,11 @@ typedef struct cli_fingerprint {
 } cli_fingerprint;
 /* The data, covariance and model parts; settings left at the empty digest
  * for the caller to add to. */
-void cli_fingerprint_like(const lt_like *l, const lt_like_spec *spec, cli_fingerprint *fp);
+void cli_fingerprint_like(const lt_like *l, cli_fingerprint *fp);
 /* The one number the samplers store: the digest of the parts. */
 uint64_t cli_fingerprint_value(const cli_fingerprint *fp);
 /* cli_fingerprint_value of cli_fingerprint_like, for callers with no parts file. */
-uint64_t cli_like_fingerprint(const lt_like *l, const lt_like_spec *spec);
+uint64_t cli_like_fingerprint(const lt_like *l);
 /* Append the parts to a checkpoint's settings.ini (cli_job_write's file) as
  * a comment line, rewriting it atomically; and check them on --resume:
  * LT_OK if the file has no such line (an older checkpoint) or every part

@@ -172,12 +172,12 @@ static int write_samples(const char *dir, const model_run *mr, lt_error *err)
     return lt_file_close_commit(f, path, err);
 }
 
-int cli_nested_model(const lt_like *l, const lt_like_spec *spec, long live, uint64_t seed,
+int cli_nested_model(const lt_like *l, long live, uint64_t seed,
                      int threads, const char *checkpoint, volatile sig_atomic_t *stop,
                      lt_nested_result *r, lt_error *err)
 {
     memset(r, 0, sizeof *r);
-    uint64_t fp = cli_like_fingerprint(l, spec);
+    uint64_t fp = cli_like_fingerprint(l);
     uint64_t settings[] = {seed, (uint64_t)live};
     lt_digest_add(&fp, settings, sizeof settings);
     lt_like_nested *ctx = calloc((size_t)threads, sizeof *ctx);
@@ -240,7 +240,7 @@ static void run_model(model_run *mr, size_t k, size_t nm, const cli_job *j, long
         return;
     char ck[4400];
     snprintf(ck, sizeof ck, "%s/nested_%s.bin", ckdir, mr->name);
-    mr->rc = cli_nested_model(mr->l, &mr->spec, live, j->seed, threads, j->out ? ck : NULL, stop,
+    mr->rc = cli_nested_model(mr->l, live, j->seed, threads, j->out ? ck : NULL, stop,
                               &mr->nr, &mr->err);
     if (mr->rc)
         return;
@@ -332,7 +332,7 @@ int cli_compare(int argc, char **argv)
     lt_error err;
     lt_error_clear(&err);
     /* no survey where measurements alone are compared */
-    if ((j.data.data || !j.nmeasures) && !(s = lt_survey_read(&j.data, &err))) {
+    if (cli_job_survey(&j, &s, &err)) {
         status = cli_report(&err);
         goto done;
     }
@@ -513,7 +513,15 @@ int cli_compare(int argc, char **argv)
             if (lt_like_offset_mode(runs[k].l) == LT_OFFSET_MARGINAL)
                 printf("; offset marginalised (flat, unit width)");
         }
-        printf("\n  ln Z depends on these prior volumes; k counts a marginalised offset.\n");
+        const lt_like *l0 = runs[0].l;
+        for (size_t k = 0; k < lt_like_nmeasurements(l0); k++) {
+            const lt_measurement *m = lt_like_measurement(l0, k);
+            printf("%s%s = %g +- %g", k ? ", " : "\n  measured (every model): ", m->name, m->mean,
+                   m->sd);
+        }
+        printf("\n  ln Z depends on these prior volumes%s.\n",
+               lt_like_offset_mode(l0) == LT_OFFSET_MARGINAL ? "; k counts a marginalised offset"
+                                                             : "");
     }
     if (j.out) {
         char path[4200], what[128];

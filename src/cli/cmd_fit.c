@@ -103,7 +103,7 @@ int cli_fit(int argc, char **argv)
         goto done;
     lt_error err;
     lt_error_clear(&err);
-    if (cli_job_survey(&j, &spec, &s, &err) || !(l = lt_like_alloc(s, &spec, &err)) ||
+    if (cli_job_survey(&j, &s, &err) || !(l = lt_like_alloc(s, &spec, &err)) ||
         (j.out && lt_outdir_prepare(j.out, j.force, &err))) {
         status = cli_report(&err);
         goto done;

@@ -52,7 +52,8 @@ static void usage_run(FILE *f)
           "\n"
           "The run file is that of 'lantern fit --help' and 'lantern sample --help', with\n"
           "[run] models = M1, M2, ... A prior or fixed value applies to every model that\n"
-          "has the parameter.\n"
+          "has the parameter; a measurement ([measurements] NAME = MEAN:SD) applies to\n"
+          "every model, and a run file with measurements may leave out [data] file.\n"
           "\n"
           "exit status: 0 done, 1 interrupted or failed, 2 bad input, 3 a model did not\n"
           "converge\n",
@@ -344,7 +345,7 @@ int cli_run(int argc, char **argv)
     if (!j.quiet)
         fprintf(stderr, "lantern run %s: reading %s\n", name,
                 j.data.data ? j.data.data : "no survey (measurements only)");
-    if ((j.data.data || !j.nmeasures) && !(s = lt_survey_read(&j.data, &err))) {
+    if (cli_job_survey(&j, &s, &err)) {
         status = cli_report(&err);
         goto done;
     }
@@ -400,7 +401,7 @@ int cli_run(int argc, char **argv)
             snprintf(nck, sizeof nck, "%.4000s/checkpoint/nested.bin", dirs[k]);
             if (!resume) /* an earlier run's, left in a folder given with --force */
                 remove(nck);
-            int rc = cli_nested_model(l, &spec, 1000, j.seed, threads, nck, cli_catch_signals(),
+            int rc = cli_nested_model(l, 1000, j.seed, threads, nck, cli_catch_signals(),
                                       &nr, &err);
             if (rc == LT_OK)
                 rc = add_evidence(dirs[k], &nr, &err);

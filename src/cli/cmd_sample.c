@@ -79,10 +79,10 @@ static void usage(FILE *f)
  * covariance, the model, the priors and fixed values (cli_fingerprint_like),
  * then the seed and the sampler settings (not the thread count, which does
  * not change the draws). */
-static void fingerprint(const lt_like *l, const lt_like_spec *spec, const cli_job *j,
+static void fingerprint(const lt_like *l, const cli_job *j,
                         cli_fingerprint *fp)
 {
-    cli_fingerprint_like(l, spec, fp);
+    cli_fingerprint_like(l, fp);
     long settings[] = {(long)j->seed, j->chains, j->warmup, j->check_every, j->max_steps};
     lt_digest_add(&fp->part[CLI_FP_SETTINGS], settings, sizeof settings);
     lt_digest_add(&fp->part[CLI_FP_SETTINGS], &j->target_ess, sizeof j->target_ess);
@@ -286,7 +286,7 @@ int cli_sample_model(cli_job *j, lt_like *l, const lt_like_spec *spec, const cha
         }
     }
     cli_fingerprint parts;
-    fingerprint(l, spec, j, &parts);
+    fingerprint(l, j, &parts);
     uint64_t fp = cli_fingerprint_value(&parts);
     if (out) {
         snprintf(state, sizeof state, "%s/checkpoint/state.bin", out);
@@ -485,7 +485,7 @@ int cli_sample(int argc, char **argv)
         goto done;
     lt_error err;
     lt_error_clear(&err);
-    if (cli_job_survey(&j, &spec, &s, &err) || !(l = lt_like_alloc(s, &spec, &err))) {
+    if (cli_job_survey(&j, &s, &err) || !(l = lt_like_alloc(s, &spec, &err))) {
         status = cli_report(&err);
         goto done;
     }

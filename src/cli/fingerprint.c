@@ -16,21 +16,24 @@ static const char *part_name[CLI_FP_NPARTS] = {"data", "covariance", "model", "s
 /* What each part covers, as the refusal names it. */
 static const char *part_words[CLI_FP_NPARTS] = {
     "the data (redshifts, observations or measurements)", "the covariance",
-    "the model, priors or fixed values", "the seed or sampler settings"};
+    "the model's settings (model, priors, fixed values)", "the seed or sampler settings"};
 
-void cli_fingerprint_like(const lt_like *l, const lt_like_spec *spec, cli_fingerprint *fp)
+void cli_fingerprint_like(const lt_like *l, cli_fingerprint *fp)
 {
     const lt_survey *s = lt_like_survey(l);
     uint64_t h = LT_DIGEST_START;
     if (s) { /* none for measurements alone */
+        int kind = (int)s->kind;
+        lt_digest_add(&h, &kind, sizeof kind);
         lt_digest_add(&h, &s->n, sizeof s->n);
         lt_digest_add(&h, s->z, s->n * sizeof *s->z);
         lt_digest_add(&h, s->zhel, s->n * sizeof *s->zhel);
         lt_digest_add(&h, s->obs, s->n * sizeof *s->obs);
     }
-    /* the measurements are data too */
-    for (size_t k = 0; k < spec->nmeasurements; k++) {
-        const lt_measurement *m = &spec->measurements[k];
+    /* the measurements are data too (the likelihood holds them by name, so
+     * their order as given does not matter) */
+    for (size_t k = 0; k < lt_like_nmeasurements(l); k++) {
+        const lt_measurement *m = lt_like_measurement(l, k);
         double v[2] = {m->mean, m->sd};
         lt_digest_add(&h, m->name, strlen(m->name) + 1);
         lt_digest_add(&h, v, sizeof v);
@@ -42,15 +45,22 @@ void cli_fingerprint_like(const lt_like *l, const lt_like_spec *spec, cli_finger
     fp->part[CLI_FP_COV] = h;
     h = LT_DIGEST_START;
     lt_digest_add(&h, lt_like_model(l)->name, strlen(lt_like_model(l)->name));
-    /* settings field by field (struct padding holds no defined bytes) */
-    for (size_t k = 0; k < spec->nsettings; k++) {
-        const lt_param_setting *st = &spec->settings[k];
-        int kind = st->prior.kind;
-        double v[3] = {st->prior.a, st->prior.b, st->value};
-        lt_digest_add(&h, st->name, strlen(st->name) + 1);
-        lt_digest_add(&h, &st->fixed, sizeof st->fixed);
+    /* the parameter table as it stands, in its own order (not the order
+     * the settings were given in, which a settings file written back for
+     * --resume does not keep), field by field (struct padding holds no
+     * defined bytes) */
+    for (size_t i = 0; i < lt_like_dim(l); i++) {
+        const lt_param *p = lt_like_param(l, i);
+        int kind = p->prior.kind;
+        double v[2] = {p->prior.a, p->prior.b};
+        lt_digest_add(&h, p->name, strlen(p->name) + 1);
         lt_digest_add(&h, &kind, sizeof kind);
         lt_digest_add(&h, v, sizeof v);
+    }
+    for (size_t k = 0; k < lt_like_nfixed(l); k++) {
+        const lt_param *p = lt_like_fixed(l, k);
+        lt_digest_add(&h, p->name, strlen(p->name) + 1);
+        lt_digest_add(&h, &p->value, sizeof p->value);
     }
     int offset = lt_like_offset_mode(l);
     lt_digest_add(&h, &offset, sizeof offset);
@@ -65,10 +75,10 @@ uint64_t cli_fingerprint_value(const cli_fingerprint *fp)
     return h;
 }
 
-uint64_t cli_like_fingerprint(const lt_like *l, const lt_like_spec *spec)
+uint64_t cli_like_fingerprint(const lt_like *l)
 {
     cli_fingerprint fp;
-    cli_fingerprint_like(l, spec, &fp);
+    cli_fingerprint_like(l, &fp);
     return cli_fingerprint_value(&fp);
 }
 

@@ -434,25 +434,17 @@ static int apply_kv(const cli_kv *kv, int prior, lt_like_spec *spec, kv_seen *se
         lt_error_locate(&err, LT_EINPUT, where, kv->line);
         return cli_report(&err);
     }
+    /* where it came from, for the likelihood's own checks */
+    lt_param_setting *st = (lt_param_setting *)lt_like_spec_setting(spec, kv->name);
+    st->origin = kv->file, st->line = kv->line;
     return CLI_OK;
 }
 
-/* One measurement NAME = MEAN:SD into spec; prints the error. */
-static int apply_measure(const cli_kv *kv, lt_like_spec *spec)
+/* One measurement into spec; prints the error. */
+static int measure_one(const cli_kv *kv, const char *where, double mean, double sd,
+                       lt_like_spec *spec)
 {
-    const char *where = kv->file ? kv->file : "--measure";
     lt_error err;
-    char buf[128];
-    snprintf(buf, sizeof buf, "%s", kv->value);
-    char *colon = strchr(buf, ':');
-    double mean, sd;
-    if (colon)
-        *colon = '\0';
-    if (!colon || lt_parse_double(buf, &mean) || lt_parse_double(colon + 1, &sd)) {
-        lt_error_set(&err, LT_EINPUT, where, kv->line, "%s = '%s' is not MEAN:SD", kv->name,
-                     kv->value);
-        return cli_report(&err);
-    }
     /* a name nothing can have is the file's (or the flag's) mistake: say
      * where; the likelihood checks the rest against the model */
     if (!lt_param_known(kv->name) && lt_derived_find(kv->name) < 0) {
@@ -466,8 +458,41 @@ static int apply_measure(const cli_kv *kv, lt_like_spec *spec)
         lt_error_locate(&err, LT_EINPUT, where, kv->line);
         return cli_report(&err);
     }
+    lt_measurement *m = &spec->measurements[spec->nmeasurements - 1];
+    m->origin = kv->file, m->line = kv->line;
     return CLI_OK;
 }
+
+/* One entry NAME = MEAN:SD[, MEAN:SD...] (several measurements of one
+ * quantity, as a run file must give them: a key appears once) into spec;
+ * prints the error. */
+static int apply_measure(const cli_kv *kv, lt_like_spec *spec)
+{
+    const char *where = kv->file ? kv->file : "--measure";
+    lt_error err;
+    char buf[1024];
+    snprintf(buf, sizeof buf, "%s", kv->value);
+    for (char *item = buf, *next; item; item = next) {
+        next = strchr(item, ',');
+        if (next)
+            *next++ = '\0';
+        char *colon = strchr(item, ':');
+        double mean, sd;
+        if (colon)
+            *colon = '\0';
+        if (!colon || lt_parse_double(lt_text_trim(item), &mean) ||
+            lt_parse_double(lt_text_trim(colon + 1), &sd)) {
+            lt_error_set(&err, LT_EINPUT, where, kv->line,
+                         "%s = '%s' is not MEAN:SD (or MEAN:SD, MEAN:SD...)", kv->name, kv->value);
+            return cli_report(&err);
+        }
+        int rc = measure_one(kv, where, mean, sd, spec);
+        if (rc)
+            return rc;
+    }
+    return CLI_OK;
+}
+
 
 int cli_job_like_spec(const cli_job *j, const lt_cosmo_model *m, lt_like_spec *spec)
 {
@@ -572,12 +597,26 @@ int cli_job_write(const cli_job *j, const lt_like_spec *spec, const char *path, 
         if (spec->settings[k].fixed)
             ADD("%s = %s\n", spec->settings[k].name, a);
     }
+    /* one line a quantity (a key appears once in a run file), its
+     * measurements in the order given */
     ADD("[measurements]\n");
     for (size_t k = 0; k < spec->nmeasurements; k++) {
-        char a[32], b[32];
-        lt_format_double(spec->measurements[k].mean, a, sizeof a);
-        lt_format_double(spec->measurements[k].sd, b, sizeof b);
-        ADD("%s = %s:%s\n", spec->measurements[k].name, a, b);
+        const char *name = spec->measurements[k].name;
+        size_t first = 0;
+        while (strcmp(spec->measurements[first].name, name))
+            first++;
+        if (first < k)
+            continue; /* written with the first of its name */
+        ADD("%s = ", name);
+        for (size_t q = k; q < spec->nmeasurements; q++) {
+            char a[32], b[32];
+            if (strcmp(spec->measurements[q].name, name))
+                continue;
+            lt_format_double(spec->measurements[q].mean, a, sizeof a);
+            lt_format_double(spec->measurements[q].sd, b, sizeof b);
+            ADD("%s%s:%s", q == k ? "" : ", ", a, b);
+        }
+        ADD("\n");
     }
     ADD("[fit]\nstarts = %ld\n", j->starts);
     ADD("[sampler]\nseed = %lu\nchains = %ld\nthreads = %ld\nwarmup = %ld\ncheck_every = %ld\n"
@@ -592,11 +631,18 @@ int cli_job_write(const cli_job *j, const lt_like_spec *spec, const char *path, 
     return rc;
 }
 
-int cli_job_survey(const cli_job *j, const lt_like_spec *spec, lt_survey **s, lt_error *err)
+int cli_job_survey(const cli_job *j, lt_survey **s, lt_error *err)
 {
     *s = NULL;
-    if (!j->data.data && spec->nmeasurements)
+    if (!j->data.data && j->nmeasures) {
+        /* measurements alone: survey options would be silently lost */
+        const lt_survey_spec *d = &j->data;
+        if (d->columns || d->ncov || d->modes || d->keep_ids || d->drop_ids)
+            return lt_error_set(err, LT_EINPUT, "--data", 0,
+                                "--columns, --cov, --modes and the id lists need a --data "
+                                "file");
         return LT_OK;
+    }
     return (*s = lt_survey_read(&j->data, err)) ? LT_OK : err->code;
 }
 

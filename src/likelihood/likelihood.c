@@ -68,6 +68,10 @@ static int offset_mode(const lt_survey *s, const lt_like_spec *spec, lt_error *e
     const lt_param_setting *o = lt_like_spec_setting(spec, "offset");
     int prior = o && !o->fixed, fixed = o && o->fixed;
     lt_offset_mode offset = spec->offset;
+    if (!s && offset != LT_OFFSET_DEFAULT && offset != LT_OFFSET_NONE)
+        return lt_error_set(err, LT_EINPUT, "--offset", 0,
+                            "there is no survey, so no offset to treat as %s",
+                            lt_offset_name(offset)), -1;
     if (!s)
         return LT_OFFSET_NONE;
     if (offset == LT_OFFSET_DEFAULT)
@@ -80,11 +84,15 @@ static int offset_mode(const lt_survey *s, const lt_like_spec *spec, lt_error *e
                             "mag data need an offset (the absolute magnitude): marginal or "
                             "sampled"), -1;
     if (prior && offset == LT_OFFSET_MARGINAL)
-        return lt_error_set(err, LT_EINPUT, "--prior", 0,
+        return lt_error_set(err, LT_EINPUT, o->origin ? o->origin : "--prior", o->line,
                             "a prior on offset makes it sampled; it cannot also be "
                             "marginalised"), -1;
+    if (prior && offset == LT_OFFSET_NONE && s->kind != LT_OBS_DL)
+        return lt_error_set(err, LT_EINPUT, o->origin ? o->origin : "--prior", o->line,
+                            "a prior on offset needs the offset mode 'sampled' (or no "
+                            "--offset), not 'none'"), -1;
     if (fixed && offset != LT_OFFSET_SAMPLED && spec->offset != LT_OFFSET_DEFAULT)
-        return lt_error_set(err, LT_EINPUT, "--fix", 0,
+        return lt_error_set(err, LT_EINPUT, o->origin ? o->origin : "--fix", o->line,
                             "a fixed offset needs the offset mode 'sampled' (or no --offset)"),
                -1;
     if (fixed)
@@ -113,34 +121,35 @@ static int check_settings(const lt_survey *s, const lt_like_spec *spec, lt_offse
     const lt_cosmo_model *m = spec->model;
     for (size_t k = 0; k < spec->nsettings; k++) {
         const lt_param_setting *st = &spec->settings[k];
-        const char *name = st->name, *what = st->fixed ? "--fix" : "--prior";
+        const char *name = st->name, *what = st->origin ? st->origin : st->fixed ? "--fix" : "--prior";
+        long line = st->line;
         if (!lt_param_known(name))
-            return lt_error_set(err, LT_EINPUT, what, 0, "unknown parameter '%s' (parameters: %s)",
+            return lt_error_set(err, LT_EINPUT, what, line, "unknown parameter '%s' (parameters: %s)",
                                 name, lt_param_known_list());
         if (!strcmp(name, "offset")) {
             if (!s)
-                return lt_error_set(err, LT_EINPUT, what, 0,
+                return lt_error_set(err, LT_EINPUT, what, line,
                                     "there is no survey, so no offset; drop the %s on offset",
                                     what);
             if (s->kind == LT_OBS_DL)
-                return lt_error_set(err, LT_EINPUT, what, 0,
+                return lt_error_set(err, LT_EINPUT, what, line,
                                     "dl data have no offset; drop the %s on offset", what);
             continue;
         }
         int id = lt_cosmo_param_find(name);
         if (id == LT_P_OMEGA_DE && m->flat)
-            return lt_error_set(err, LT_EINPUT, what, 0,
+            return lt_error_set(err, LT_EINPUT, what, line,
                                 "omega_de is derived in the flat model %s (1 - omega_m - "
                                 "omega_r); use a curved model to constrain it",
                                 m->name);
         if (!lt_cosmo_model_uses(m, id))
-            return lt_error_set(err, LT_EINPUT, what, 0, "model %s has no parameter %s",
+            return lt_error_set(err, LT_EINPUT, what, line, "model %s has no parameter %s",
                                 m->name, name);
         if ((id == LT_P_T_CMB || id == LT_P_N_EFF) && !st->fixed)
-            return lt_error_set(err, LT_EINPUT, "--prior", 0,
+            return lt_error_set(err, LT_EINPUT, st->origin ? st->origin : "--prior", line,
                                 "%s can be fixed (--fix %s=...) but not fitted", name, name);
         if (id == LT_P_H0 && !st->fixed && !h0_free)
-            return lt_error_set(err, LT_EINPUT, "--prior", 0,
+            return lt_error_set(err, LT_EINPUT, st->origin ? st->origin : "--prior", line,
                                 offset == LT_OFFSET_MARGINAL
                                     ? "h0 is degenerate with the marginalised offset of mag "
                                       "data; give a prior on offset (an absolute-magnitude "
@@ -152,15 +161,19 @@ static int check_settings(const lt_survey *s, const lt_like_spec *spec, lt_offse
 
 /* Add table entry name: free with its prior (the setting's or the default),
  * or fixed at value (the setting's, else dflt). */
-static void add_entry(lt_like *l, const char *name, int cosmo_id, int can_be_free, double dflt,
-                      const lt_like_spec *spec, lt_obs kind)
+static int add_entry(lt_like *l, const char *name, int cosmo_id, int can_be_free, double dflt,
+                     const lt_like_spec *spec, lt_obs kind, lt_error *err)
 {
     const lt_param_setting *st = lt_like_spec_setting(spec, name);
+    int free_par = can_be_free && !(st && st->fixed);
+    if (l->npar == LT_MAX_PARAMS || (free_par && l->dim == LT_MAX_FREE))
+        return lt_error_set(err, LT_EINPUT, NULL, 0, "more than %d parameters, or %d free ones",
+                            LT_MAX_PARAMS, LT_MAX_FREE);
     lt_param *p = &l->par[l->npar];
     memset(p, 0, sizeof *p);
     snprintf(p->name, sizeof p->name, "%s", name);
     label_of(name, &p->label, &p->unit);
-    p->free = can_be_free && !(st && st->fixed);
+    p->free = free_par;
     p->prior = st && !st->fixed ? st->prior : lt_param_default_prior(name, kind);
     p->value = st && st->fixed ? st->value : dflt;
     l->cosmo_id[l->npar] = cosmo_id;
@@ -169,6 +182,7 @@ static void add_entry(lt_like *l, const char *name, int cosmo_id, int can_be_fre
     else
         l->fixed_at[l->nfixed++] = l->npar;
     l->npar++;
+    return LT_OK;
 }
 
 static int add_term(lt_like *l, const lt_term_type *type, const void *config, lt_error *err)
@@ -212,25 +226,32 @@ lt_like *lt_like_alloc(const lt_survey *s, const lt_like_spec *spec, lt_error *e
         if (!lt_cosmo_model_uses(l->model, id) || (id == LT_P_OMEGA_DE && l->model->flat))
             continue;
         int can_be_free = id == LT_P_H0 ? h0_free : id != LT_P_T_CMB && id != LT_P_N_EFF;
-        add_entry(l, lt_cosmo_param_name(id), id, can_be_free,
-                  *lt_cosmo_params_slot(&l->base, id), spec, kind);
+        if (add_entry(l, lt_cosmo_param_name(id), id, can_be_free,
+                      *lt_cosmo_params_slot(&l->base, id), spec, kind, err))
+            goto fail;
         *lt_cosmo_params_slot(&l->base, id) = l->par[l->npar - 1].value;
     }
     if (l->offset == LT_OFFSET_SAMPLED) {
         l->offset_at = (int)l->npar;
-        add_entry(l, "offset", -1, 1, 0.0, spec, kind);
-    }
-    if (l->dim > LT_MAX_FREE) {
-        lt_error_set(err, LT_EINPUT, NULL, 0, "more than %d free parameters", LT_MAX_FREE);
-        goto fail;
+        if (add_entry(l, "offset", -1, 1, 0.0, spec, kind, err))
+            goto fail;
     }
     const lt_param_setting *h0 = lt_like_spec_setting(spec, "h0");
     l->h0_known = h0_free || (h0 && h0->fixed);
     lt_cosmo c;
     if (lt_cosmo_init(&c, l->model, &l->base, err))
         goto fail;
-    for (size_t k = 0; k < spec->nmeasurements; k++)
-        l->meas[l->nmeas++] = spec->measurements[k];
+    /* the measurements by name, stably (insertion sort: they are few), so
+     * that their order on the command line or in a settings file written
+     * back for --resume makes no difference to the sum */
+    for (size_t k = 0; k < spec->nmeasurements; k++) {
+        size_t at = l->nmeas++;
+        while (at > 0 && strcmp(l->meas[at - 1].name, spec->measurements[k].name) > 0) {
+            l->meas[at] = l->meas[at - 1];
+            at--;
+        }
+        l->meas[at] = spec->measurements[k];
+    }
     /* the supernova term first: lt_like_predict reads its residuals */
     if (s) {
         lt_sn_config cf = {.s = s, .offset = l->offset, .exact = spec->exact};

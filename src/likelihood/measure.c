@@ -37,20 +37,24 @@ static void *measure_setup(const void *config, const lt_like *l, lt_error *err)
             t->at = (int)k;
     t->derived = t->at < 0 ? lt_derived_find(m->name) : -1;
     t->cosmo = t->at < 0 && t->derived < 0 ? lt_cosmo_param_find(m->name) : -1;
+    const char *where = m->origin ? m->origin : "--measure";
+    if (t->at < 0 && !strcmp(m->name, "offset")) {
+        lt_error_set(err, LT_EINPUT, where, m->line,
+                     l->sn ? "the offset is marginalised here, so it has no value to measure: "
+                             "sample it (--offset sampled) to measure it"
+                           : "there is no survey, so no offset to measure");
+        free(t);
+        return NULL;
+    }
     if (t->at < 0 && t->derived < 0 && t->cosmo < 0) {
-        lt_error_set(err, LT_EINPUT, "--measure", 0,
+        lt_error_set(err, LT_EINPUT, where, m->line,
                      "nothing called '%s' to measure in model %s (parameters: %s; derived: "
                      "omega_k, omega_de, q0, z_t, age_gyr)",
                      m->name, l->model->name, lt_param_known_list());
         free(t);
         return NULL;
     }
-    if (t->at < 0 && t->derived == LT_DER_AGE && !l->h0_known) {
-        lt_error_set(err, LT_EINPUT, "--measure", 0,
-                     "age_gyr needs h0, which a marginalised offset leaves unknown");
-        free(t);
-        return NULL;
-    }
+    /* an age measurement freed h0 (h0_needed), so the age is defined */
     return t;
 }
 

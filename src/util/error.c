@@ -1,4 +1,4 @@
-/* Error records: see include/lantern/util.h. */
+/* Error records: see include/lantern/error.h. */
 #include "lantern/error.h"
 
 #include <stdarg.h>

@@ -1,4 +1,4 @@
-/* Whole-file reading: see include/lantern/util.h. */
+/* Whole-file reading: see include/lantern/file.h. */
 #include <errno.h>
 #include <stdio.h>
 #include <stdlib.h>

@@ -1,4 +1,4 @@
-/* The INI reader: see include/lantern/util.h for the rules. */
+/* The INI reader: see include/lantern/ini.h for the rules. */
 #include <ctype.h>
 #include <stdlib.h>
 #include <string.h>

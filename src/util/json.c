@@ -1,4 +1,4 @@
-/* Exact JSON numbers: see include/lantern/util.h. */
+/* Exact JSON numbers: see include/lantern/json.h. */
 #include <math.h>
 
 #include <cjson/cJSON.h>

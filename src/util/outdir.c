@@ -1,5 +1,5 @@
 /*
- * Output folders and atomic file writes: see include/lantern/util.h.
+ * Output folders and atomic file writes: see include/lantern/outdir.h and file.h.
  *
  * The marker file is the folder's memory between commands, so that no
  * state lives in the process: its first line names the command, and the

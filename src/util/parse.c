@@ -1,4 +1,4 @@
-/* Strict number parsing: see include/lantern/util.h. */
+/* Strict number parsing: see include/lantern/text.h. */
 #include "lantern/text.h"
 
 #include <ctype.h>

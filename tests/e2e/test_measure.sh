@@ -383,3 +383,66 @@ for cmd in fit sample compare; do
 done
 run "$LANTERN" fit --help
 expect_stdout "fit --help lists the run file's [measurements] section" '\[measurements\]'
+
+# ---- 6. Review findings (issue 17): resume and where errors point.
+# A checkpoint's fingerprint does not depend on the order the settings were
+# given in: a run file's [fixed] with a flag's --prior resumes (the settings
+# file written for --resume lists priors before fixed values).
+printf '[model]\nname = wcdm-flat\n[fixed]\nomega_m = 0.3\n' >"$E2E_TMP/ord.ini"
+run "$LANTERN" sample "$E2E_TMP/ord.ini" "${DATA[@]}" --prior w0=uniform:-1.5:-0.5 \
+    --max-steps 1000 --target-ess 100000 --quiet --out "$E2E_TMP/ord"
+first=$STATUS
+run "$LANTERN" sample --resume "$E2E_TMP/ord" --quiet
+if [ "$first" -eq 3 ] && { [ "$STATUS" -eq 0 ] || [ "$STATUS" -eq 3 ]; }; then
+    pass "a fixed value from the run file and a flag's prior: --resume accepts the checkpoint"
+else
+    fail "a fixed value from the run file and a flag's prior: --resume accepts the checkpoint (status $first then $STATUS: $(cat "$ERR"))"
+fi
+# Two measurements of one quantity are two terms; they survive --resume
+# (one run-file line, NAME = MEAN:SD, MEAN:SD), and the run-file form gives the
+# same fit as the flags.
+run "$LANTERN" sample --model lcdm-flat --measure h0=73:1 --measure omega_m=0.3:0.02 \
+    --measure h0=67.4:0.5 --max-steps 1000 --target-ess 100000 --quiet --out "$E2E_TMP/two"
+first=$STATUS
+run "$LANTERN" sample --resume "$E2E_TMP/two" --quiet
+if [ "$first" -eq 3 ] && { [ "$STATUS" -eq 0 ] || [ "$STATUS" -eq 3 ]; } &&
+   grep -q '^h0 = 73:1, 67.4:0.5$' "$E2E_TMP/two/checkpoint/settings.ini"; then
+    pass "two measurements of h0: the settings file holds both on one line and --resume works"
+else
+    fail "two measurements of h0: the settings file holds both on one line and --resume works (status $first then $STATUS: $(cat "$ERR"))"
+fi
+run "$LANTERN" fit --model lcdm-flat --measure h0=73:1 --measure omega_m=0.3:0.02 \
+    --measure h0=67.4:0.5 --format json
+cp "$OUT" "$E2E_TMP/twoflags.json"
+printf '[model]\nname = lcdm-flat\n[measurements]\nh0 = 67.4:0.5, 73:1\nomega_m = 0.3:0.02\n' >"$E2E_TMP/two.ini"
+run "$LANTERN" fit "$E2E_TMP/two.ini" --format json
+# two Gaussians in h0 combine to the inverse-variance mean (closed form), in
+# either order
+if [ "$STATUS" -eq 0 ] && $PY - "$OUT" "$E2E_TMP/twoflags.json" <<'PY'
+import json, sys
+a, b = (json.load(open(f)) for f in sys.argv[1:])
+assert a["params"] == b["params"] and a["chi2_min"] == b["chi2_min"], (a["params"], b["params"])
+w1, w2 = 1 / 1.0**2, 1 / 0.5**2
+mean = (73 * w1 + 67.4 * w2) / (w1 + w2)
+assert abs(a["params"]["h0"]["best"] - mean) < 1e-3, a["params"]["h0"]
+assert abs(a["params"]["h0"]["sd"] - (w1 + w2) ** -0.5) < 1e-3 * (w1 + w2) ** -0.5
+PY
+then pass "[measurements] h0 = 67.4:0.5, 73:1 = the flags in the other order = inverse-variance mean"
+else fail "[measurements] h0 = 67.4:0.5, 73:1 = the flags in the other order = inverse-variance mean"; fi
+# Errors the likelihood finds name the run file and line.
+printf '[model]\nname = lcdm-flat\n[measurements]\noffset = -19.3:0.1\n' >"$E2E_TMP/moff.ini"
+run "$LANTERN" fit "$E2E_TMP/moff.ini" "${DATA[@]}"
+expect_error "[measurements] offset with a marginalised offset names the file and line" 2 \
+    "moff.ini:4: the offset is marginalised here"
+printf '[model]\nname = lcdm-flat\n[priors]\nh0 = uniform:60:80\n' >"$E2E_TMP/ph0.ini"
+run "$LANTERN" fit "$E2E_TMP/ph0.ini" "${DATA[@]}"
+expect_error "[priors] h0 against a marginalised offset names the file and line" 2 \
+    "ph0.ini:4: h0 is degenerate"
+# Options that would be lost are refused.
+run "$LANTERN" fit --data "$P/lcparam_DS17f.txt" --columns z=zcmb,zhel=zhel,mu=mb,err=dmb \
+    --model lcdm-flat --offset none --prior offset=gauss:-19.3:0.1
+expect_error "--offset none with a prior on offset" 2 "needs the offset mode 'sampled'"
+run "$LANTERN" fit --model lcdm --measure omega_k=0:0.1 --cov "$P/sys_DS17f.txt"
+expect_error "--cov without --data (measurements alone)" 2 "need a --data file"
+run "$LANTERN" fit --model lcdm --measure omega_k=0:0.1 --offset sampled
+expect_error "--offset sampled without a survey" 2 "there is no survey, so no offset"
