@@ -104,8 +104,10 @@ void cli_job_init(cli_job *j);
 void cli_job_free(cli_job *j);
 /* Read RUN.ini into j; prints any error and returns the exit status. */
 int cli_job_load(cli_job *j, const char *path);
-/* The same, with "section.key=value" overrides applied first (--set). */
-int cli_job_load_sets(cli_job *j, const char *path, const char *const *sets, size_t nsets);
+/* The same, with "section.key=value" overrides applied first (run's
+ * --override; flags[i] names the flag each came from, for errors). */
+int cli_job_load_sets(cli_job *j, const char *path, const char *const *sets,
+                      const char *const *flags, size_t nsets);
 /* Make the data paths absolute, so that summaries name them from anywhere. */
 void cli_job_absolute(cli_job *j);
 /* Sample one model into out (a folder: summary.json, chains, checkpoint);

@@ -20,7 +20,7 @@
 static void usage_run(FILE *f)
 {
     fputs("usage: lantern run RUN.ini [--out DIR] [--force] [--resume DIR] [--threads T]\n"
-          "                   [--set section.key=value]... [--quiet|--verbose]\n"
+          "                   [--override section.key=value]... [--quiet|--verbose]\n"
           "\n"
           "The whole job: reads the data once; for each model of [run] models, the best\n"
           "fit and the posterior (as lantern sample); then the comparison (chi2_min, dof,\n"
@@ -47,7 +47,9 @@ static void usage_run(FILE *f)
           "                  default) means OpenMP's choice: OMP_NUM_THREADS if set, else\n"
           "                  one per core. Over [sampler] threads; results do not depend\n"
           "                  on it\n"
-          "  --set s.k=v     override a run-file key, e.g. --set sampler.target_ess=2000\n"
+          "  --override s.k=v  replace (or add) a run-file key, e.g.\n"
+          "                  --override sampler.target_ess=2000 (--set, its old name, is\n"
+          "                  accepted for one release, with a warning)\n"
           "  --quiet, --verbose\n"
           "\n"
           "The run file is that of 'lantern fit --help' and 'lantern sample --help', with\n"
@@ -233,7 +235,8 @@ int cli_run(int argc, char **argv)
     }
     if (argc < 2 || !strncmp(argv[1], "--", 2))
         return cli_usage_error("run", "give the run file first (see 'lantern run --help')");
-    const char *sets[64], *out = NULL, *resume = NULL;
+    const char *sets[64], *set_flags[64], *out = NULL, *resume = NULL;
+    int warned_set = 0, over = 0;
     size_t nsets = 0;
     int force = 0, quiet = 0, verbose = 0;
     long threads_flag = -1; /* -1: as the run file says */
@@ -256,9 +259,17 @@ int cli_run(int argc, char **argv)
         } else if (cli_take(&a, "--threads", &v)) {
             if (lt_parse_long(v, 0, 256, &threads_flag))
                 return cli_usage_error("--threads", "'%s' is not a whole number from 0 to 256", v);
-        } else if (cli_take(&a, "--set", &v)) {
+        } else if ((over = cli_take(&a, "--override", &v)) || cli_take(&a, "--set", &v)) {
+            /* --set is --override's old name, kept for one release: elsewhere
+             * (distance) --set sets parameter values, and it will only mean that */
+            const char *flag = over ? "--override" : "--set";
+            if (!strcmp(flag, "--set") && !warned_set++)
+                fputs("lantern: warning: 'run --set section.key=value' is now 'run --override "
+                      "section.key=value'; --set will be refused here in a later release\n",
+                      stderr);
             if (nsets == 64)
-                return cli_usage_error("--set", "given more than 64 times");
+                return cli_usage_error(flag, "given more than 64 times");
+            set_flags[nsets] = flag;
             sets[nsets++] = v;
         } else {
             return cli_args_unknown(&a, "run");
@@ -269,7 +280,7 @@ int cli_run(int argc, char **argv)
     cli_job j;
     cli_job_init(&j);
     int prepared = 0, hint = 0;
-    int status = cli_job_load_sets(&j, argv[1], sets, nsets);
+    int status = cli_job_load_sets(&j, argv[1], sets, set_flags, nsets);
     lt_survey *s = NULL;
     if (status)
         goto done;

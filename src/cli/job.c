@@ -108,12 +108,13 @@ static int add_kv(cli_kv *list, size_t *n, const char *name, const char *value,
     return 0;
 }
 
-/* "--set section.key=value": replace the key's value, or add the key. */
-static int apply_set(cli_job *j, const char *text)
+/* "--override section.key=value" (flag: what the user typed, for errors):
+ * replace the key's value, or add the key. */
+static int apply_set(cli_job *j, const char *flag, const char *text)
 {
     const char *dot = strchr(text, '.'), *eq = strchr(text, '=');
     if (!dot || !eq || dot > eq || dot == text || eq == dot + 1)
-        return cli_usage_error("--set", "'%s' is not section.key=value", text);
+        return cli_usage_error(flag, "'%s' is not section.key=value", text);
     char section[128], key[128];
     snprintf(section, sizeof section, "%.*s", (int)(dot - text), text);
     snprintf(key, sizeof key, "%.*s", (int)(eq - dot - 1), dot + 1);
@@ -122,7 +123,7 @@ static int apply_set(cli_job *j, const char *text)
         if (!strcmp(ini->entries[i].section, section) && !strcmp(ini->entries[i].key, key)) {
             char *v = strdup(eq + 1);
             if (!v)
-                return cli_usage_error("--set", "out of memory");
+                return cli_usage_error(flag, "out of memory");
             free(ini->entries[i].value);
             ini->entries[i].value = v;
             ini->entries[i].line = 0;
@@ -146,7 +147,7 @@ static int apply_set(cli_job *j, const char *text)
         char *copy = strdup(section);
         if (!ns || !nl || !nu || !copy) {
             free(copy);
-            return cli_usage_error("--set", "out of memory");
+            return cli_usage_error(flag, "out of memory");
         }
         ini->sections[ini->nsections] = copy;
         ini->section_lines[ini->nsections] = 0;
@@ -155,21 +156,22 @@ static int apply_set(cli_job *j, const char *text)
     }
     lt_ini_entry *ne = realloc(ini->entries, (ini->n + 1) * sizeof *ne);
     if (!ne)
-        return cli_usage_error("--set", "out of memory");
+        return cli_usage_error(flag, "out of memory");
     ini->entries = ne;
     ne[ini->n] = (lt_ini_entry){(char *)sec, strdup(key), strdup(eq + 1), 0, 0};
     if (!ne[ini->n].key || !ne[ini->n].value)
-        return cli_usage_error("--set", "out of memory");
+        return cli_usage_error(flag, "out of memory");
     ini->n++;
     return CLI_OK;
 }
 
 int cli_job_load(cli_job *j, const char *path)
 {
-    return cli_job_load_sets(j, path, NULL, 0);
+    return cli_job_load_sets(j, path, NULL, NULL, 0);
 }
 
-int cli_job_load_sets(cli_job *j, const char *path, const char *const *sets, size_t nsets)
+int cli_job_load_sets(cli_job *j, const char *path, const char *const *sets,
+                      const char *const *flags, size_t nsets)
 {
     lt_error err;
     lt_error_clear(&err);
@@ -177,7 +179,7 @@ int cli_job_load_sets(cli_job *j, const char *path, const char *const *sets, siz
     if (!j->ini)
         return cli_report(&err);
     for (size_t i = 0; i < nsets; i++)
-        if (apply_set(j, sets[i]))
+        if (apply_set(j, flags[i], sets[i]))
             return CLI_USAGE;
     lt_ini *ini = j->ini;
     lt_ini_entry *e;
