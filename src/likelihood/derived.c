@@ -87,21 +87,39 @@ double lt_like_derived(const lt_like *l, const double *theta, int d)
     return lt_derived_of(&c, d);
 }
 
+int lt_quantity_find(const lt_like *l, const char *name, lt_quantity *q)
+{
+    q->at = -1;
+    for (size_t k = 0; k < l->npar; k++)
+        if (!strcmp(l->par[k].name, name))
+            q->at = (int)k;
+    q->derived = q->at < 0 ? lt_derived_find(name) : -1;
+    q->cosmo = q->at < 0 && q->derived < 0 ? lt_cosmo_param_find(name) : -1;
+    return q->at >= 0 || q->derived >= 0 || q->cosmo >= 0;
+}
+
+double lt_quantity_value(const lt_quantity *q, const double *values, const lt_cosmo *c)
+{
+    if (q->at >= 0)
+        return values[q->at];
+    if (q->derived >= 0)
+        return lt_derived_of(c, q->derived);
+    lt_cosmo_params p = c->p;
+    return *lt_cosmo_params_slot(&p, q->cosmo);
+}
+
 double lt_like_quantity(const lt_like *l, const double *theta, const char *name)
 {
     double values[LT_MAX_PARAMS];
     lt_cosmo_params p;
+    lt_quantity q;
+    if (!lt_quantity_find(l, name, &q))
+        return NAN;
     lt_like_values(l, theta, values, &p);
-    for (size_t k = 0; k < l->npar; k++)
-        if (!strcmp(l->par[k].name, name))
-            return values[k];
-    int d = lt_derived_find(name), id = lt_cosmo_param_find(name);
-    if (d < 0 && id < 0)
-        return NAN;
     lt_cosmo c;
-    if (lt_cosmo_init(&c, l->model, &p, NULL) != LT_OK)
+    if (q.at < 0 && lt_cosmo_init(&c, l->model, &p, NULL) != LT_OK)
         return NAN;
-    return d >= 0 ? lt_derived_of(&c, d) : *lt_cosmo_params_slot(&c.p, id);
+    return lt_quantity_value(&q, values, &c);
 }
 
 double lt_pivot_redshift(double cov_w0_wa, double var_wa)

@@ -46,6 +46,20 @@ struct lt_like_work {
  * parameters. */
 void lt_like_values(const lt_like *l, const double *theta, double *values, lt_cosmo_params *p);
 
+/* A quantity by name, resolved once (derived.c): a table entry, else a
+ * derived quantity, else a cosmological parameter the model holds at its
+ * default (w0 = -1 in LCDM). What lt_like_quantity and a measurement read. */
+typedef struct lt_quantity {
+    int at;      /* table index, or -1 */
+    int derived; /* LT_DER_*, or -1 */
+    int cosmo;   /* LT_P_*, or -1 */
+} lt_quantity;
+/* 0 if nothing is called name, else 1 with *q filled. */
+int lt_quantity_find(const lt_like *l, const char *name, lt_quantity *q);
+/* Its value for the table's values and the cosmology c (c is read only
+ * when q is not a table entry). */
+double lt_quantity_value(const lt_quantity *q, const double *values, const lt_cosmo *c);
+
 /* ---- the supernova term (sn.c) ---- */
 typedef struct lt_sn_config {
     const lt_survey *s;

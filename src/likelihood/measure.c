@@ -16,10 +16,7 @@
 
 typedef struct {
     lt_measurement m;
-    int at;      /* table index of the parameter, or -1 */
-    int derived; /* LT_DER_* when at < 0, or -1 */
-    int cosmo;   /* else LT_P_* of a parameter the model holds at its
-                  * default (w0 = -1 in LCDM): the measurement sees that */
+    lt_quantity q; /* what it measures */
 } measure;
 
 static void *measure_setup(const void *config, const lt_like *l, lt_error *err)
@@ -31,14 +28,9 @@ static void *measure_setup(const void *config, const lt_like *l, lt_error *err)
         return NULL;
     }
     t->m = *m;
-    t->at = -1;
-    for (size_t k = 0; k < l->npar; k++)
-        if (!strcmp(l->par[k].name, m->name))
-            t->at = (int)k;
-    t->derived = t->at < 0 ? lt_derived_find(m->name) : -1;
-    t->cosmo = t->at < 0 && t->derived < 0 ? lt_cosmo_param_find(m->name) : -1;
+    int found = lt_quantity_find(l, m->name, &t->q);
     const char *where = m->origin ? m->origin : "--measure";
-    if (t->at < 0 && !strcmp(m->name, "offset")) {
+    if (t->q.at < 0 && !strcmp(m->name, "offset")) {
         lt_error_set(err, LT_EINPUT, where, m->line,
                      l->sn ? "the offset is marginalised here, so it has no value to measure: "
                              "sample it (--offset sampled) to measure it"
@@ -46,7 +38,7 @@ static void *measure_setup(const void *config, const lt_like *l, lt_error *err)
         free(t);
         return NULL;
     }
-    if (t->at < 0 && t->derived < 0 && t->cosmo < 0) {
+    if (!found) {
         lt_error_set(err, LT_EINPUT, where, m->line,
                      "nothing called '%s' to measure in model %s (parameters: %s; derived: "
                      "omega_k, omega_de, q0, z_t, age_gyr)",
@@ -70,10 +62,7 @@ static int measure_eval(const void *state, void *work, const lt_term_in *in, lt_
 {
     (void)work;
     const measure *t = state;
-    lt_cosmo_params p = in->cosmo->p;
-    double x = t->at >= 0        ? in->values[t->at]
-               : t->derived >= 0 ? lt_derived_of(in->cosmo, t->derived)
-                                 : *lt_cosmo_params_slot(&p, t->cosmo);
+    double x = lt_quantity_value(&t->q, in->values, in->cosmo);
     if (!isfinite(x))
         return -1;
     double u = (x - t->m.mean) / t->m.sd;
