@@ -442,29 +442,6 @@ static int apply_kv(const cli_kv *kv, int prior, lt_like_spec *spec, kv_seen *se
     return CLI_OK;
 }
 
-/* One measurement into spec; prints the error. */
-static int measure_one(const cli_kv *kv, const char *where, double mean, double sd,
-                       lt_like_spec *spec)
-{
-    lt_error err;
-    /* a name nothing can have is the file's (or the flag's) mistake: say
-     * where; the likelihood checks the rest against the model */
-    if (!lt_param_known(kv->name) && lt_derived_find(kv->name) < 0) {
-        lt_error_set(&err, LT_EINPUT, where, kv->line,
-                     "nothing called '%s' to measure (parameters: %s; derived: omega_k, "
-                     "omega_de, q0, z_t, age_gyr)",
-                     kv->name, lt_param_known_list());
-        return cli_report(&err);
-    }
-    if (lt_like_spec_measure(spec, kv->name, mean, sd, &err)) {
-        lt_error_locate(&err, LT_EINPUT, where, kv->line);
-        return cli_report(&err);
-    }
-    lt_measurement *m = &spec->measurements[spec->nmeasurements - 1];
-    m->origin = kv->file, m->line = kv->line;
-    return CLI_OK;
-}
-
 /* One entry NAME = MEAN:SD[, MEAN:SD...] (several measurements of one
  * quantity, as a run file must give them: a key appears once) into spec;
  * prints the error. */
@@ -488,9 +465,14 @@ static int apply_measure(const cli_kv *kv, lt_like_spec *spec)
                          "%s = '%s' is not MEAN:SD (or MEAN:SD, MEAN:SD...)", kv->name, kv->value);
             return cli_report(&err);
         }
-        int rc = measure_one(kv, where, mean, sd, spec);
-        if (rc)
-            return rc;
+        /* whether the likelihood has the quantity is its check; the
+         * origin lets its error name the file and line */
+        if (lt_like_spec_measure(spec, kv->name, mean, sd, &err)) {
+            lt_error_locate(&err, LT_EINPUT, where, kv->line);
+            return cli_report(&err);
+        }
+        lt_measurement *m = &spec->measurements[spec->nmeasurements - 1];
+        m->origin = kv->file, m->line = kv->line;
     }
     return CLI_OK;
 }
