@@ -64,13 +64,13 @@ double lt_quantity_value(const lt_quantity *q, const double *values, const lt_co
 typedef struct lt_sn_config {
     const lt_survey *s;
     lt_offset_mode offset; /* resolved: none, marginal or sampled */
-    int exact;             /* never set up the compressed path */
 } lt_sn_config;
 
 extern const lt_term_type lt_term_sn;
 
 /* Set up the compressed path once the whole likelihood exists (its test
- * points are drawn from the priors of every free parameter). */
+ * points are drawn from the priors of every free parameter); lt_like_alloc
+ * calls it unless the spec asks for the exact path. */
 int lt_sn_compress(lt_like *l, lt_error *err);
 
 /* ---- measurements (measure.c) ---- */

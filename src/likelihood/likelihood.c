@@ -252,9 +252,9 @@ lt_like *lt_like_alloc(const lt_survey *s, const lt_like_spec *spec, lt_error *e
         }
         l->meas[at] = spec->measurements[k];
     }
-    /* the supernova term first: lt_like_predict reads its residuals */
+    /* the supernova term first: the sum then adds the measurements to its chi2 */
     if (s) {
-        lt_sn_config cf = {.s = s, .offset = l->offset, .exact = spec->exact};
+        lt_sn_config cf = {.s = s, .offset = l->offset};
         l->sn_term = l->nterms;
         if (add_term(l, &lt_term_sn, &cf, err))
             goto fail;
