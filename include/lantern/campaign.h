@@ -24,6 +24,7 @@
 #include <stdint.h>
 
 #include "lantern/likelihood.h"
+#include "lantern/pipeline.h"
 #include "lantern/simulate.h"
 
 struct cJSON;
@@ -35,19 +36,9 @@ typedef struct lt_campaign_data {
     char *name;               /* from the section name: [data.NAME], [simulated.NAME] */
     int simulated;
     lt_survey_spec spec;      /* real data: the files (paths absolute) */
-    char *strings[8 + LT_SURVEY_MAX_COV]; /* what spec points to */
     lt_scenario scenario;     /* simulated data */
     long first_seed, realizations;
 } lt_campaign_data;
-
-/* A prior or fixed value as written, applied to every model that has the
- * parameter. */
-typedef struct lt_campaign_kv {
-    char name[LT_NAME_MAX];   /* the parameter */
-    int prior;                /* 1 prior, 0 fixed */
-    lt_prior p;
-    double value;
-} lt_campaign_kv;
 
 typedef struct lt_campaign {
     char *path, *name;
@@ -58,14 +49,13 @@ typedef struct lt_campaign {
     const lt_cosmo_model *models[16];
     size_t nmethods;
     lt_method methods[LT_NMETHODS];
-    lt_offset_mode offset;
-    size_t nkv;
-    lt_campaign_kv kv[LT_MAX_PARAMS];
-    unsigned long seed;       /* the samplers' base seed */
-    long starts;              /* fit: optimiser starts */
-    long chains, warmup, check_every, max_steps; /* sample */
-    double target_ess;
-    long live_points;         /* nested */
+    /* what every task shares, read by the run description's rules:
+     * [priors], [fixed], [measurements] (each applied to the models that
+     * have the parameter), [fit] starts, [sampler] chains, warmup,
+     * check_every, max_steps, target_ess, [nested] live_points; [campaign]
+     * seed (the base of every task's seed) and offset go into seed and
+     * offset. The data sets' strings are kept here too. */
+    lt_job job;
     size_t ntasks;
 } lt_campaign;
 

@@ -18,6 +18,7 @@
 #include "lantern/simulate.h"
 #include "lantern/likelihood.h"
 #include "lantern/inference.h"
+#include "lantern/pipeline.h"
 #include "lantern/report.h"
 #include "lantern/campaign.h"
 

@@ -242,6 +242,16 @@ typedef struct lt_compression_check {
     double max_after;    /* the same with knots (= max_before unless refined) */
     int refined;
 } lt_compression_check;
+/* The compression's check on the draws (lt_like_check_posterior), across a run, as
+ * summary.json "compression" reports it; knots 0 means the exact path. */
+typedef struct lt_sample_compression {
+    size_t knots_setup, knots, checked;
+    double setup_dchi2;     /* the set-up's own check */
+    double first_dchi2;     /* the check on the first draws, before refining */
+    double posterior_dchi2; /* on the draws reported */
+    int checked_ok;         /* the check ran (0: no "compression" field) */
+} lt_sample_compression;
+
 int lt_like_check_posterior(lt_like *l, const double *draws, size_t n, size_t stride, double bound,
                             lt_compression_check *out, lt_error *err);
 /* The exact path at n points (rows of stride doubles, parameters first),

@@ -95,16 +95,6 @@ int lt_post_edge_note(const char *name, const lt_prior *p, double lo, double hi,
 
 /* ---- sampled posteriors ---- */
 
-/* The compression's check on the draws (lt_like_check_posterior), as
- * summary.json "compression" reports it; knots 0 means the exact path. */
-typedef struct lt_sample_compression {
-    size_t knots_setup, knots, checked;
-    double setup_dchi2;     /* the set-up's own check */
-    double first_dchi2;     /* the check on the first draws, before refining */
-    double posterior_dchi2; /* on the draws reported */
-    int checked_ok;         /* the check ran (0: no "compression" field) */
-} lt_sample_compression;
-
 /* Everything a sampled run reports: the draws with their derived columns,
  * the polished best fit and the diagnostics. */
 typedef struct lt_sample_result {

@@ -124,88 +124,18 @@ static int read_methods(lt_ini *ini, lt_campaign *c, lt_error *err)
     return LT_OK;
 }
 
-/* [priors] and [fixed]: every key names a parameter. */
-int campaign_read_kv(lt_ini *ini, lt_campaign_kv *list, size_t *nlist, int prior, lt_error *err)
+/* [data.NAME]: the keys of a run file's [data] section, by its rules;
+ * file and columns are required, and paths made absolute so that task
+ * records name them from anywhere. */
+static int read_real(lt_job *job, lt_ini *ini, const char *section, lt_campaign_data *d,
+                     lt_error *err)
 {
-    const char *section = prior ? "priors" : "fixed";
-    lt_ini_has_section(ini, section);
-    for (size_t i = 0; i < ini->n; i++) {
-        lt_ini_entry *e = &ini->entries[i];
-        if (strcmp(e->section, section))
-            continue;
-        e->used = 1;
-        if (!lt_param_known(e->key))
-            return lt_error_set(err, LT_EINPUT, ini->path, e->line,
-                                "unknown parameter '%s' (%s)", e->key, lt_param_known_list());
-        if (*nlist == LT_MAX_PARAMS)
-            return lt_error_set(err, LT_EINPUT, ini->path, e->line, "too many parameters");
-        for (size_t k = 0; k < *nlist; k++)
-            if (!strcmp(list[k].name, e->key))
-                return lt_error_set(err, LT_EINPUT, ini->path, e->line,
-                                    "%s has both a prior and a fixed value; give one", e->key);
-        lt_campaign_kv *kv = &list[*nlist];
-        snprintf(kv->name, sizeof kv->name, "%s", e->key);
-        kv->prior = prior;
-        if (prior ? lt_prior_parse(e->value, &kv->p, err) != LT_OK
-                  : lt_parse_double(e->value, &kv->value) != LT_OK) {
-            if (!prior)
-                lt_error_set(err, LT_EINPUT, NULL, 0, "%s = '%s' is not a finite number", e->key,
-                             e->value);
-            return lt_error_locate(err, LT_EINPUT, ini->path, e->line);
-        }
-        ++*nlist;
-    }
-    return LT_OK;
-}
-
-static int keep(lt_campaign_data *d, size_t *n, char *s, const char **slot, lt_error *err)
-{
-    if (!s)
-        return lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
-    d->strings[(*n)++] = s;
-    *slot = s;
-    return LT_OK;
-}
-
-/* [data.NAME]: the keys of a run file's [data] section. */
-static int read_real(lt_ini *ini, const char *section, lt_campaign_data *d, lt_error *err)
-{
-    lt_survey_spec_init(&d->spec);
-    size_t ns = 0;
     const char *v;
     int rc;
     if ((rc = lt_ini_string(ini, section, "file", 1, &v, err)) ||
-        (rc = keep(d, &ns, resolve(ini->path, v), &d->spec.data, err)))
-        return rc;
-    if ((rc = lt_ini_string(ini, section, "columns", 1, &v, err)) ||
-        (rc = keep(d, &ns, strdup(v), &d->spec.columns, err)))
-        return rc;
-    v = NULL;
-    if ((rc = lt_ini_string(ini, section, "modes", 0, &v, err)) ||
-        (v && (rc = keep(d, &ns, resolve(ini->path, v), &d->spec.modes, err))))
-        return rc;
-    lt_ini_entry *e = lt_ini_get(ini, section, "cov");
-    if (e) {
-        char buf[LT_INI_LINE_MAX + 1], *items[LT_SURVEY_MAX_COV + 1];
-        snprintf(buf, sizeof buf, "%s", e->value);
-        size_t n = split_list(buf, items, LT_SURVEY_MAX_COV);
-        if (n == 0 || n > LT_SURVEY_MAX_COV)
-            return lt_error_set(err, LT_EINPUT, ini->path, e->line,
-                                "cov: give 1 to %d files, separated by commas",
-                                LT_SURVEY_MAX_COV);
-        for (size_t i = 0; i < n; i++)
-            if ((rc = keep(d, &ns, resolve(ini->path, items[i]), &d->spec.cov[i], err)))
-                return rc;
-        d->spec.ncov = n;
-    }
-    if ((e = lt_ini_get(ini, section, "no_err_diag"))) {
-        if (strcmp(e->value, "true") && strcmp(e->value, "false"))
-            return lt_error_set(err, LT_EINPUT, ini->path, e->line,
-                                "no_err_diag = '%s': give true or false", e->value);
-        d->spec.no_err_diag = !strcmp(e->value, "true");
-    }
-    if ((rc = lt_ini_double(ini, section, "zmin", 0, &d->spec.zmin, err)) ||
-        (rc = lt_ini_double(ini, section, "zmax", 0, &d->spec.zmax, err)))
+        (rc = lt_ini_string(ini, section, "columns", 1, &v, err)) ||
+        (rc = lt_job_data_section(job, ini, section, &d->spec, err)) ||
+        (rc = lt_job_absolute(job, &d->spec, err)))
         return rc;
     d->realizations = 1;
     return LT_OK;
@@ -239,14 +169,8 @@ static int read_simulated(lt_ini *ini, const char *section, lt_campaign_data *d,
 int lt_campaign_read(const char *path, lt_campaign *c, lt_error *err)
 {
     memset(c, 0, sizeof *c);
-    c->seed = 1;
-    c->starts = 8;
-    c->chains = 4;
-    c->check_every = 1000;
-    c->max_steps = 200000;
-    c->target_ess = 1000;
-    c->live_points = 1000;
-    c->offset = LT_OFFSET_DEFAULT;
+    lt_job_init(&c->job);
+    c->job.lenient = 1; /* a prior or fixed value applies to the models that have it */
     c->digest = LT_DIGEST_START;
     lt_ini *ini = lt_ini_read(path, err);
     if (!ini)
@@ -268,36 +192,44 @@ int lt_campaign_read(const char *path, lt_campaign *c, lt_error *err)
         c->name = strndup(base, len);
     } else
         c->name = strdup(v);
-    long seed = (long)c->seed;
+    /* a task runs with the campaign's --threads, and its seed comes from
+     * [campaign] seed: run-file keys that would say otherwise are refused */
+    static const char *const not_here[][2] = {{"sampler", "threads"}, {"sampler", "seed"},
+                                              {"fit", "seed"}};
+    for (size_t k = 0; k < sizeof not_here / sizeof not_here[0]; k++)
+        for (size_t i = 0; i < ini->n; i++)
+            if (!strcmp(ini->entries[i].section, not_here[k][0]) &&
+                !strcmp(ini->entries[i].key, not_here[k][1])) {
+                rc = lt_error_set(err, LT_EINPUT, ini->path, ini->entries[i].line,
+                                  "[%s] %s has no place in a campaign (%s)", not_here[k][0],
+                                  not_here[k][1],
+                                  k == 0 ? "give lantern campaign --threads"
+                                         : "[campaign] seed seeds every task");
+                goto done;
+            }
     if ((rc = read_models(ini, c, err)) || (rc = read_methods(ini, c, err)) ||
-        (rc = lt_ini_long(ini, "campaign", "seed", 0, 0, LONG_MAX, &seed, err)))
+        (rc = lt_job_apply_ini(&c->job, ini,
+                               LT_JOB_PARAMS | LT_JOB_FIT | LT_JOB_SAMPLER | LT_JOB_NESTED, err)))
         goto done;
-    c->seed = (unsigned long)seed;
     lt_ini_entry *e;
+    if ((e = lt_ini_get(ini, "campaign", "seed")) &&
+        (rc = lt_job_set(&c->job, "sampler", "seed", e->value, ini->path, e->line, 1, err)))
+        goto done;
     if ((e = lt_ini_get(ini, "campaign", "offset"))) {
-        int m = lt_offset_parse(e->value);
-        if (m < 0) {
+        if (lt_offset_parse(e->value) < 0) {
             rc = lt_error_set(err, LT_EINPUT, ini->path, e->line,
                               "offset = '%s': give none, marginal or sampled", e->value);
             goto done;
         }
-        c->offset = (lt_offset_mode)m;
+        if ((rc = lt_job_set(&c->job, "model", "offset", e->value, ini->path, e->line, 1, err)))
+            goto done;
     }
-    if ((rc = campaign_read_kv(ini, c->kv, &c->nkv, 1, err)) ||
-        (rc = campaign_read_kv(ini, c->kv, &c->nkv, 0, err)) ||
-        (rc = lt_ini_long(ini, "fit", "starts", 0, 1, 1000, &c->starts, err)) ||
-        (rc = lt_ini_long(ini, "sampler", "chains", 0, 2, 256, &c->chains, err)) ||
-        (rc = lt_ini_long(ini, "sampler", "warmup", 0, 0, 100000000, &c->warmup, err)) ||
-        (rc = lt_ini_long(ini, "sampler", "check_every", 0, 10, 100000000, &c->check_every,
-                          err)) ||
-        (rc = lt_ini_long(ini, "sampler", "max_steps", 0, 10, 1000000000, &c->max_steps, err)) ||
-        (rc = lt_ini_double(ini, "sampler", "target_ess", 0, &c->target_ess, err)) ||
-        (rc = lt_ini_long(ini, "nested", "live_points", 0, 20, 100000, &c->live_points, err)))
-        goto done;
-    if (!(c->target_ess >= 1)) {
-        rc = lt_error_set(err, LT_EINPUT, ini->path, lt_ini_get(ini, "sampler", "target_ess")->line,
-                          "target_ess must be at least 1");
-        goto done;
+    /* every model's priors and fixed values, checked now rather than in
+     * the middle of the campaign */
+    for (size_t k = 0; k < c->nmodels; k++) {
+        lt_like_spec spec;
+        if ((rc = lt_job_like_spec(&c->job, c->models[k], &spec, err)))
+            goto done;
     }
     /* data sets, in file order */
     for (size_t i = 0; i < ini->nsections; i++) {
@@ -327,7 +259,8 @@ int lt_campaign_read(const char *path, lt_campaign *c, lt_error *err)
                 goto done;
             }
         lt_ini_has_section(ini, s);
-        if ((rc = real ? read_real(ini, s, d, err) : read_simulated(ini, s, d, &c->digest, err)))
+        if ((rc = real ? read_real(&c->job, ini, s, d, err)
+                       : read_simulated(ini, s, d, &c->digest, err)))
             goto done;
     }
     if (c->ndata == 0) {
@@ -355,14 +288,13 @@ void lt_campaign_free(lt_campaign *c)
     for (size_t i = 0; i < c->ndata; i++) {
         lt_campaign_data *d = &c->data[i];
         free(d->name);
-        for (size_t k = 0; k < sizeof d->strings / sizeof d->strings[0]; k++)
-            free(d->strings[k]);
         if (d->simulated)
             lt_scenario_free(&d->scenario);
     }
     free(c->data);
     free(c->path);
     free(c->name);
+    lt_job_free(&c->job);
     memset(c, 0, sizeof *c);
 }
 
@@ -391,7 +323,7 @@ void lt_campaign_task_get(const lt_campaign *c, size_t index, lt_campaign_task *
         }
         rest -= r;
     }
-    t->seed = mix(mix(mix(c->seed) ^ t->data) ^ (uint64_t)t->realization) >> 1;
+    t->seed = mix(mix(mix(c->job.seed) ^ t->data) ^ (uint64_t)t->realization) >> 1;
 }
 
 void lt_campaign_task_label(const lt_campaign *c, size_t index, char *buf, size_t size)

@@ -13,10 +13,10 @@ int lt_forecast_read(const char *path, lt_scenario *sc, lt_like_spec *spec, lt_e
     lt_ini *ini = lt_ini_read(path, err);
     if (!ini)
         return err->code;
-    lt_campaign_kv kv[LT_MAX_PARAMS];
-    size_t nkv = 0;
+    /* [priors], [fixed] and [measurements] by the run description's rules */
+    lt_job job;
+    lt_job_init(&job);
     const char *model = NULL;
-    lt_offset_mode offset = LT_OFFSET_DEFAULT;
     lt_ini_entry *e;
     int rc = lt_scenario_from_ini(ini, sc, err);
     if (rc)
@@ -32,19 +32,28 @@ int lt_forecast_read(const char *path, lt_scenario *sc, lt_like_spec *spec, lt_e
         goto done;
     }
     if ((e = lt_ini_get(ini, "forecast", "offset"))) {
-        int o = lt_offset_parse(e->value);
-        if (o < 0) {
+        if (lt_offset_parse(e->value) < 0) {
             rc = lt_error_set(err, LT_EINPUT, path, e->line,
                               "offset = '%s': give none, marginal or sampled", e->value);
             goto done;
         }
-        offset = (lt_offset_mode)o;
+        if ((rc = lt_job_set(&job, "model", "offset", e->value, path, e->line, 1, err)))
+            goto done;
     }
-    if ((rc = campaign_read_kv(ini, kv, &nkv, 1, err)) ||
-        (rc = campaign_read_kv(ini, kv, &nkv, 0, err)) || (rc = lt_ini_check_used(ini, err)))
+    job.lenient = 1;
+    if ((rc = lt_job_apply_ini(&job, ini, LT_JOB_PARAMS, err)) ||
+        (rc = lt_ini_check_used(ini, err)) || (rc = lt_job_like_spec(&job, m, spec, err)))
         goto done;
-    campaign_like_spec(m, offset, kv, nkv, spec);
+    /* the spec outlives job, whose copy of the file name its entries point
+     * to: point them to the caller's, the same file */
+    for (size_t k = 0; k < spec->nsettings; k++)
+        if (spec->settings[k].origin)
+            spec->settings[k].origin = path;
+    for (size_t k = 0; k < spec->nmeasurements; k++)
+        if (spec->measurements[k].origin)
+            spec->measurements[k].origin = path;
 done:
+    lt_job_free(&job);
     lt_ini_free(ini);
     if (rc)
         lt_scenario_free(sc);

@@ -9,6 +9,7 @@
 #include "lantern/json.h"
 #include "lantern/campaign.h"
 #include "lantern/inference.h"
+#include "lantern/pipeline.h"
 #include "lantern/report.h"
 #include "internal.h"
 
@@ -18,22 +19,6 @@ static cJSON *num(double v) { return lt_json_number(v); }
 typedef struct {
     double estimate, sd, lo68, hi68, lo95, hi95;
 } task_param;
-
-void campaign_like_spec(const lt_cosmo_model *m, lt_offset_mode offset,
-                        const lt_campaign_kv *kv, size_t nkv, lt_like_spec *spec)
-{
-    lt_like_spec_init(spec, m);
-    spec->offset = offset;
-    for (size_t i = 0; i < nkv; i++) {
-        if (!lt_param_of_model(m, kv[i].name))
-            continue;
-        /* names were checked on reading and the list fits: no error here */
-        if (kv[i].prior)
-            lt_like_spec_prior(spec, kv[i].name, kv[i].p, NULL);
-        else
-            lt_like_spec_fix(spec, kv[i].name, kv[i].value, NULL);
-    }
-}
 
 /* Weighted mean, sd and equal-tailed intervals of column i of nested
  * samples (lt_post_summarise_weighted; x and w: room for nsamples each). */
@@ -51,7 +36,7 @@ static void weighted_param(const lt_nested_result *r, size_t d, size_t i, double
 static int run_fit(const lt_like *l, const lt_campaign *c, const lt_campaign_task *t,
                    task_param *p, cJSON *o, lt_error *err)
 {
-    lt_fit_opts fo = {.seed = (unsigned long)t->seed, .starts = (size_t)c->starts, .stop = NULL};
+    lt_fit_opts fo = {.seed = (unsigned long)t->seed, .starts = (size_t)c->job.starts, .stop = NULL};
     lt_fit_result fr;
     int rc = lt_fit_run(l, &fo, &fr, err);
     if (rc)
@@ -69,50 +54,30 @@ static int run_fit(const lt_like *l, const lt_campaign *c, const lt_campaign_tas
     return LT_OK;
 }
 
-static int run_sample(const lt_like *l, const lt_campaign *c, const lt_campaign_task *t,
+static int run_sample(lt_like *l, const lt_campaign *c, const lt_campaign_task *t,
                       int threads, volatile sig_atomic_t *stop, task_param *p, cJSON *o,
                       lt_error *err)
 {
-    size_t d = lt_like_dim(l), nc = (size_t)c->chains;
-    lt_like_chain *ctx = calloc(nc, sizeof *ctx);
-    void **cp = calloc(nc, sizeof *cp);
-    lt_mcmc *m = NULL;
-    int rc = LT_OK;
-    for (size_t k = 0; ctx && cp && k < nc; k++) {
-        ctx[k] = (lt_like_chain){l, lt_like_work_alloc(l)};
-        cp[k] = &ctx[k];
-        if (!ctx[k].w)
-            rc = LT_ENOMEM;
-    }
-    if (!ctx || !cp || rc) {
-        rc = lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
-        goto done;
-    }
-    /* the chains' centre: the best fit and its Laplace covariance */
-    lt_fit_opts fo = {.seed = (unsigned long)t->seed, .starts = (size_t)c->starts, .stop = NULL};
-    lt_fit_result fr;
-    if ((rc = lt_fit_run(l, &fo, &fr, err)))
-        goto done;
-    double scale[LT_MAX_FREE];
-    for (size_t i = 0; i < d; i++) {
-        const lt_prior *pr = lt_like_prior(l, i);
-        scale[i] = pr->kind == LT_PRIOR_UNIFORM ? pr->b - pr->a : 4 * pr->b;
-    }
-    long warmup = c->warmup ? c->warmup : (long)(d * 1000 > 2000 ? d * 1000 : 2000);
-    lt_mcmc_opts mo = {.dim = d, .nextra = 1, .nchains = nc, .seed = t->seed, .center = fr.best,
-                       .cov = fr.laplace_ok ? fr.cov : NULL, .scale = scale,
-                       .warmup = (size_t)warmup, .check_every = (size_t)c->check_every,
-                       .max_steps = (size_t)c->max_steps, .target_ess = c->target_ess,
-                       .rhat_tol = 0.01, .threads = threads, .memory_limit = 0};
-    if (!(m = lt_mcmc_alloc(&mo, lt_like_logdensity, cp, err))) {
-        rc = err->code;
-        goto done;
-    }
-    if ((rc = lt_mcmc_run(m, stop, NULL, NULL, err)))
-        goto done;
+    /* the campaign's settings with the task's seed and the campaign's threads */
+    lt_job job = c->job;
+    job.seed = (unsigned long)t->seed;
+    job.threads = threads;
+    lt_pipeline_mcmc pm;
+    lt_like_spec spec;
+    int rc = lt_job_like_spec(&job, c->models[t->model], &spec, err);
+    if (!rc)
+        rc = lt_pipeline_mcmc_run(l, &job, &spec, NULL, 0, stop, NULL, &pm, err);
     lt_sample_result sr;
-    if ((rc = lt_sample_collect(l, m, 0, &sr, err)))
-        goto done;
+    memset(&sr, 0, sizeof sr);
+    /* where more knots did not bring the compression within its bound,
+     * the draws are weighted by the exact likelihood, as lantern sample does */
+    int off = !rc && pm.cmp.checked_ok && pm.cmp.posterior_dchi2 > LT_CHECK_BOUND;
+    if (!rc)
+        rc = lt_sample_collect(l, pm.m, off ? lt_like_reweight_draws(l) : 0, &sr, err);
+    lt_pipeline_mcmc_free(&pm);
+    if (rc)
+        return rc;
+    size_t d = lt_like_dim(l);
     for (size_t i = 0; i < d; i++) {
         const lt_post_stats *s = &sr.stats[sr.first_param + i];
         p[i] = (task_param){s->mean, s->sd, s->lo68, s->hi68, s->lo95, s->hi95};
@@ -120,18 +85,12 @@ static int run_sample(const lt_like *l, const lt_campaign *c, const lt_campaign_
     cJSON_AddItemToObject(o, "chi2_min", num(sr.at_best.chi2));
     cJSON_AddBoolToObject(o, "converged", sr.converged);
     cJSON *cv = cJSON_AddObjectToObject(o, "convergence");
-    cJSON_AddItemToObject(cv, "rhat_max", num(sr.diag->rhat_max));
-    cJSON_AddItemToObject(cv, "ess_min", num(sr.diag->ess_min));
+    cJSON_AddItemToObject(cv, "rhat_max", num(sr.weights ? NAN : sr.diag->rhat_max));
+    cJSON_AddItemToObject(cv, "ess_min", num(sr.weights ? sr.ess_min_weighted : sr.diag->ess_min));
     cJSON_AddItemToObject(cv, "chains", num((double)sr.nchains));
     cJSON_AddItemToObject(cv, "draws", num((double)(sr.nchains * sr.ndraws)));
     lt_sample_result_free(&sr);
-done:
-    lt_mcmc_free(m);
-    for (size_t k = 0; ctx && k < nc; k++)
-        lt_like_work_free(ctx[k].w);
-    free(ctx);
-    free(cp);
-    return rc;
+    return LT_OK;
 }
 
 static int run_nested(const lt_like *l, const lt_campaign *c, const lt_campaign_task *t,
@@ -140,33 +99,13 @@ static int run_nested(const lt_like *l, const lt_campaign *c, const lt_campaign_
 {
     size_t d = lt_like_dim(l);
     int nt = threads > 0 ? threads : omp_get_max_threads();
-    lt_like_nested *ctx = calloc((size_t)nt, sizeof *ctx);
-    void **cp = calloc((size_t)nt, sizeof *cp);
-    lt_nested *ns = NULL;
     lt_nested_result r;
-    memset(&r, 0, sizeof r);
     double *pair = NULL;
-    int rc = LT_OK;
-    for (int k = 0; ctx && cp && k < nt; k++) {
-        ctx[k] = (lt_like_nested){{l, lt_like_work_alloc(l)}, lt_like_lognorm(l)};
-        cp[k] = &ctx[k];
-        if (!ctx[k].c.w)
-            rc = LT_ENOMEM;
-    }
-    if (!ctx || !cp || rc) {
-        rc = lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
+    lt_like_work *w = NULL;
+    int rc = lt_pipeline_nested_run(l, c->job.live_points, t->seed, nt, NULL, stop, &r, err);
+    if (rc)
         goto done;
-    }
-    lt_nested_opts no = {.dim = d, .nlive = (size_t)c->live_points, .seed = t->seed, .dlogz = 0.01,
-                         .enlarge = 1.25, .max_iter = 10000000, .threads = nt};
-    if (!(ns = lt_nested_alloc(&no, lt_like_prior_transform, (void *)l, lt_like_nested_loglike,
-                               cp, err))) {
-        rc = err->code;
-        goto done;
-    }
-    if ((rc = lt_nested_iterate(ns, stop, err)) || (rc = lt_nested_result_get(ns, &r, err)))
-        goto done;
-    if (!(pair = malloc(2 * r.nsamples * sizeof *pair + 1))) {
+    if (!(pair = malloc(2 * r.nsamples * sizeof *pair + 1)) || !(w = lt_like_work_alloc(l))) {
         rc = lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
         goto done;
     }
@@ -177,7 +116,6 @@ static int run_nested(const lt_like *l, const lt_campaign *c, const lt_campaign_
     for (size_t j = 1; j < r.nsamples; j++)
         if (r.loglike[j] > r.loglike[best])
             best = j;
-    lt_like_work *w = ctx[0].c.w;
     lt_like_point pt;
     lt_like_eval(l, w, &r.theta[best * d], &pt);
     cJSON_AddItemToObject(o, "chi2_min", num(pt.chi2));
@@ -187,13 +125,9 @@ static int run_nested(const lt_like *l, const lt_campaign *c, const lt_campaign_
     cJSON_AddItemToObject(ev, "ln_z_err", num(r.logz_err));
     cJSON_AddItemToObject(ev, "information", num(r.info));
 done:
+    lt_like_work_free(w);
     free(pair);
     lt_nested_result_free(&r);
-    lt_nested_free(ns);
-    for (int k = 0; ctx && k < nt; k++)
-        lt_like_work_free(ctx[k].c.w);
-    free(ctx);
-    free(cp);
     return rc;
 }
 
@@ -267,7 +201,8 @@ int lt_campaign_task_run(const lt_campaign *c, size_t index, int threads,
         s = own;
     }
     lt_like_spec spec;
-    campaign_like_spec(c->models[t.model], c->offset, c->kv, c->nkv, &spec);
+    if ((rc = lt_job_like_spec(&c->job, c->models[t.model], &spec, err)))
+        goto done;
     if (!(l = lt_like_alloc(s, &spec, err))) {
         rc = err->code;
         goto done;

@@ -40,8 +40,8 @@ static void usage(FILE *f)
 
 int cli_bench(int argc, char **argv)
 {
-    cli_job j;
-    cli_job_init(&j);
+    lt_job j;
+    lt_job_init(&j);
     long evals = 20000;
     int exact = 0, status = CLI_OK;
     lt_survey *s = NULL;
@@ -60,7 +60,7 @@ int cli_bench(int argc, char **argv)
             }
         } else if (cli_flag(&a, "--exact")) {
             exact = 1;
-        } else if (!cli_take_job(&a, &j)) {
+        } else if (!cli_take_job(&a, &j, LT_JOB_DATA | LT_JOB_MODEL | LT_JOB_PARAMS | LT_JOB_FIT | LT_JOB_OUTPUT)) {
             status = cli_args_unknown(&a, "bench");
             goto done;
         }
@@ -73,7 +73,7 @@ int cli_bench(int argc, char **argv)
     if ((status = cli_parse_format(j.format, (1u << CLI_TABLE) | (1u << CLI_JSON), &format)))
         goto done;
     lt_like_spec spec;
-    if ((status = cli_job_model(&j, "bench", &spec)))
+    if ((status = cli_job_model(&j, &spec)))
         goto done;
     spec.exact = exact;
     lt_error err;
@@ -168,6 +168,6 @@ done:
     lt_like_free(l);
     lt_like_free(lx);
     lt_survey_free(s);
-    cli_job_free(&j);
+    lt_job_free(&j);
     return status;
 }

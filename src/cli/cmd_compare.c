@@ -172,63 +172,11 @@ static int write_samples(const char *dir, const model_run *mr, lt_error *err)
     return lt_file_close_commit(f, path, err);
 }
 
-int cli_nested_model(const lt_like *l, long live, uint64_t seed,
-                     int threads, const char *checkpoint, volatile sig_atomic_t *stop,
-                     lt_nested_result *r, lt_error *err)
-{
-    memset(r, 0, sizeof *r);
-    uint64_t fp = cli_like_fingerprint(l);
-    uint64_t settings[] = {seed, (uint64_t)live};
-    lt_digest_add(&fp, settings, sizeof settings);
-    lt_like_nested *ctx = calloc((size_t)threads, sizeof *ctx);
-    void **cp = calloc((size_t)threads, sizeof *cp);
-    int ok = ctx && cp, rc;
-    for (int t = 0; ok && t < threads; t++) {
-        ctx[t] = (lt_like_nested){{l, lt_like_work_alloc(l)}, lt_like_lognorm(l)};
-        cp[t] = &ctx[t];
-        ok = ctx[t].c.w != NULL;
-    }
-    lt_nested_opts no = {.dim = lt_like_dim(l), .nlive = (size_t)live, .seed = seed, .dlogz = 0.01,
-                         .enlarge = 1.25, .max_iter = 10000000, .threads = threads};
-    lt_nested *ns = NULL;
-    if (!ok) {
-        rc = lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
-        goto done;
-    }
-    if (checkpoint && access(checkpoint, F_OK) == 0)
-        ns = lt_nested_load(checkpoint, fp, &no, lt_like_prior_transform, (void *)l,
-                            lt_like_nested_loglike, cp, err);
-    else
-        ns = lt_nested_alloc(&no, lt_like_prior_transform, (void *)l, lt_like_nested_loglike, cp,
-                             err);
-    if (!ns) {
-        rc = err->code;
-        goto done;
-    }
-    rc = lt_nested_iterate(ns, stop, err);
-    if (checkpoint && (rc == LT_OK || rc == LT_EINTR)) {
-        lt_error serr;
-        if (lt_nested_save(ns, checkpoint, fp, &serr)) {
-            *err = serr;
-            rc = serr.code;
-        }
-    }
-    if (rc == LT_OK)
-        rc = lt_nested_result_get(ns, r, err);
-done:
-    lt_nested_free(ns);
-    for (int t = 0; ctx && t < threads; t++)
-        lt_like_work_free(ctx[t].c.w);
-    free(ctx);
-    free(cp);
-    return rc;
-}
-
 /* One model of a comparison, in a thread of its own: the best fit, the
  * nested run (continued from its checkpoint when there is one) and its
  * posterior summary. The outcome goes into mr (rc, err), never to the
  * terminal, except the one progress line, printed whole by one call. */
-static void run_model(model_run *mr, size_t k, size_t nm, const cli_job *j, long live,
+static void run_model(model_run *mr, size_t k, size_t nm, const lt_job *j, long live,
                       int threads, const char *ckdir, volatile sig_atomic_t *stop)
 {
     lt_error_clear(&mr->err);
@@ -240,7 +188,7 @@ static void run_model(model_run *mr, size_t k, size_t nm, const cli_job *j, long
         return;
     char ck[4400];
     snprintf(ck, sizeof ck, "%s/nested_%s.bin", ckdir, mr->name);
-    mr->rc = cli_nested_model(mr->l, live, j->seed, threads, j->out ? ck : NULL, stop,
+    mr->rc = lt_pipeline_nested_run(mr->l, live, j->seed, threads, j->out ? ck : NULL, stop,
                               &mr->nr, &mr->err);
     if (mr->rc)
         return;
@@ -249,20 +197,20 @@ static void run_model(model_run *mr, size_t k, size_t nm, const cli_job *j, long
 
 int cli_compare(int argc, char **argv)
 {
-    cli_job j;
-    cli_job_init(&j);
-    const char *models_flag = NULL, *resume = NULL;
-    long live = 1000;
-    int status = CLI_OK, first = 1, prepared = 0;
+    lt_job j;
+    lt_job_init(&j);
+    const char *resume = NULL, *format_flag = NULL, *threads_flag = NULL;
+    int status = CLI_OK, first = 1, prepared = 0, options = 0, quiet = 0, verbose = 0;
     lt_survey *s = NULL;
     model_run runs[MAX_MODELS];
     size_t nm = 0;
     memset(runs, 0, sizeof runs);
     cJSON *json = NULL;
+    char *settings = NULL;
     if (argc > 1 && strncmp(argv[1], "--", 2) != 0) {
-        if ((status = cli_job_load(&j, argv[1])))
+        if ((status = cli_job_load(&j, argv[1], NULL, NULL, 0)))
             goto done;
-        first = 2;
+        first = 2, options = 1;
     }
     cli_args a = cli_args_start(argc, argv, first);
     while (cli_args_more(&a)) {
@@ -270,16 +218,24 @@ int cli_compare(int argc, char **argv)
         if (cli_flag(&a, "--help")) {
             usage(stdout);
             goto done;
-        } else if (cli_take(&a, "--models", &v)) {
-            models_flag = v;
         } else if (cli_take(&a, "--resume", &v)) {
             resume = v;
-        } else if (cli_take(&a, "--live-points", &v)) {
-            if (lt_parse_long(v, 20, 100000, &live)) {
-                status = cli_usage_error("--live-points", "'%s' is not a whole number from 20 to 100000", v);
-                goto done;
-            }
-        } else if (!cli_take_job(&a, &j)) {
+        } else if (cli_take(&a, "--format", &v)) {
+            format_flag = v;
+        } else if (cli_take(&a, "--threads", &v)) {
+            threads_flag = v;
+        } else if (cli_flag(&a, "--quiet")) {
+            quiet = 1;
+        } else if (cli_flag(&a, "--verbose")) {
+            verbose = 1;
+        } else if (!strcmp(a.argv[a.i], "--model") || !strncmp(a.argv[a.i], "--model=", 8)) {
+            status = cli_usage_error("--model", "compare takes --models M1,M2,...");
+            goto done;
+        } else if (cli_take_job(&a, &j,
+                                LT_JOB_RUN | LT_JOB_DATA | LT_JOB_MODEL | LT_JOB_PARAMS |
+                                    LT_JOB_FIT | LT_JOB_NESTED | LT_JOB_OUTPUT)) {
+            options = 1;
+        } else {
             status = cli_args_unknown(&a, "compare");
             goto done;
         }
@@ -288,16 +244,46 @@ int cli_compare(int argc, char **argv)
         status = CLI_USAGE;
         goto done;
     }
+    /* --resume DIR alone: the settings are in DIR/checkpoint/settings.ini
+     * (a comparison that wrote none, or a resume given the options again,
+     * takes them from the options, and each model's checkpoint refuses
+     * other ones) */
+    if (resume && !options) {
+        struct stat st;
+        if (!(settings = malloc(strlen(resume) + 32))) {
+            status = cli_usage_error("compare", "out of memory");
+            goto done;
+        }
+        sprintf(settings, "%s/checkpoint/settings.ini", resume);
+        if (stat(settings, &st) != 0) {
+            status = cli_usage_error(resume, "no checkpoint here (checkpoint/settings.ini is "
+                                             "missing): give the comparison's options again "
+                                             "with --resume, or the folder of a stopped lantern "
+                                             "compare run");
+            goto done;
+        }
+        if ((status = cli_job_load(&j, settings, NULL, NULL, 0)))
+            goto done;
+    }
+    lt_error err;
+    lt_error_clear(&err);
+    if (threads_flag && lt_job_flag(&j, "--threads", threads_flag, &err)) {
+        status = cli_report(&err);
+        goto done;
+    }
+    if (format_flag)
+        j.format = format_flag;
+    j.quiet |= quiet, j.verbose |= verbose;
+    long live = j.live_points;
     cli_format format;
     if ((status = cli_parse_format(j.format, (1u << CLI_TABLE) | (1u << CLI_JSON), &format)))
         goto done;
-    const char *list_text = models_flag ? models_flag : j.models;
-    if (!list_text) {
+    if (!j.models) {
         status = cli_usage_error("compare", "--models M1,M2,... is required");
         goto done;
     }
     char list[1024], *save = NULL;
-    snprintf(list, sizeof list, "%s", list_text);
+    snprintf(list, sizeof list, "%s", j.models);
     for (char *p = strtok_r(list, ", \t", &save); p; p = strtok_r(NULL, ", \t", &save)) {
         if (!lt_cosmo_model_find(p)) {
             status = cli_usage_error("--models", "unknown model '%s'", p);
@@ -329,10 +315,8 @@ int cli_compare(int argc, char **argv)
         goto done;
     }
     volatile sig_atomic_t *stop = cli_catch_signals();
-    lt_error err;
-    lt_error_clear(&err);
     /* no survey where measurements alone are compared */
-    if (cli_job_survey(&j, &s, &err)) {
+    if (lt_job_survey(&j, &s, &err)) {
         status = cli_report(&err);
         goto done;
     }
@@ -352,6 +336,12 @@ int cli_compare(int argc, char **argv)
             status = cli_usage_error(ckdir, "cannot make the checkpoint folder: %s", strerror(errno));
             goto done;
         }
+        char path[4300];
+        snprintf(path, sizeof path, "%s/settings.ini", ckdir);
+        if (lt_job_write(&j, NULL, path, &err)) {
+            status = cli_report(&err);
+            goto done;
+        }
         /* --force over an earlier comparison: its checkpoints belong to it,
          * and a new run must not continue them (they are refused as another
          * run's, or, with the same settings, would skip the work) */
@@ -365,9 +355,9 @@ int cli_compare(int argc, char **argv)
     /* the likelihoods, one after another: this may refuse the input */
     for (size_t k = 0; k < nm; k++) {
         model_run *mr = &runs[k];
-        cli_job mj = j;
+        lt_job mj = j;
         mj.model = mr->name;
-        if ((status = cli_job_model(&mj, "compare", &mr->spec)))
+        if ((status = cli_job_model(&mj, &mr->spec)))
             goto done;
         if (!(mr->l = lt_like_alloc(s, &mr->spec, &err))) {
             status = cli_report(&err);
@@ -393,8 +383,9 @@ int cli_compare(int argc, char **argv)
         if (j.out)
             fprintf(stderr,
                     "lantern: interrupted; %s/checkpoint holds the state of every model so "
-                    "far: continue with the same options and --resume %s\n",
-                    j.out, j.out);
+                    "far: continue with the same options and --resume %s, or with "
+                    "'lantern compare --resume %s' alone\n",
+                    j.out, j.out, j.out);
         else
             fputs("lantern: interrupted (no --out folder, so nothing was saved)\n", stderr);
         status = CLI_FAILED;
@@ -539,6 +530,7 @@ done:
         lt_like_free(runs[k].l);
     }
     lt_survey_free(s);
-    cli_job_free(&j);
+    lt_job_free(&j);
+    free(settings);
     return status;
 }

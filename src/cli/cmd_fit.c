@@ -69,14 +69,14 @@ static void usage(FILE *f)
 
 int cli_fit(int argc, char **argv)
 {
-    cli_job j;
-    cli_job_init(&j);
+    lt_job j;
+    lt_job_init(&j);
     int status = CLI_OK, first = 1, prepared = 0;
     lt_survey *s = NULL;
     lt_like *l = NULL;
     cJSON *json = NULL;
     if (argc > 1 && strncmp(argv[1], "--", 2) != 0) {
-        if ((status = cli_job_load(&j, argv[1])))
+        if ((status = cli_job_load(&j, argv[1], NULL, NULL, 0)))
             goto done;
         first = 2;
     }
@@ -86,7 +86,7 @@ int cli_fit(int argc, char **argv)
             usage(stdout);
             goto done;
         }
-        if (!cli_take_job(&a, &j)) {
+        if (!cli_take_job(&a, &j, LT_JOB_DATA | LT_JOB_MODEL | LT_JOB_PARAMS | LT_JOB_FIT | LT_JOB_OUTPUT)) {
             status = cli_args_unknown(&a, "fit");
             goto done;
         }
@@ -99,11 +99,11 @@ int cli_fit(int argc, char **argv)
     if ((status = cli_parse_format(j.format, (1u << CLI_TABLE) | (1u << CLI_JSON), &format)))
         goto done;
     lt_like_spec spec;
-    if ((status = cli_job_model(&j, "fit", &spec)))
+    if ((status = cli_job_model(&j, &spec)))
         goto done;
     lt_error err;
     lt_error_clear(&err);
-    if (cli_job_survey(&j, &s, &err) || !(l = lt_like_alloc(s, &spec, &err)) ||
+    if (lt_job_survey(&j, &s, &err) || !(l = lt_like_alloc(s, &spec, &err)) ||
         (j.out && lt_outdir_prepare(j.out, j.force, &err))) {
         status = cli_report(&err);
         goto done;
@@ -158,6 +158,6 @@ done:
     cJSON_Delete(json);
     lt_like_free(l);
     lt_survey_free(s);
-    cli_job_free(&j);
+    lt_job_free(&j);
     return status;
 }

@@ -140,46 +140,52 @@ static void print_table(const lt_survey_spec *spec, const lt_survey *s,
 
 int cli_inspect(int argc, char **argv)
 {
-    lt_survey_spec spec;
-    lt_survey_spec_init(&spec);
+    lt_job j;
+    lt_job_init(&j);
     const char *format_text = "table";
+    int status = CLI_OK;
+    lt_survey *s = NULL;
     cli_args a = cli_args_start(argc, argv, 1);
     while (cli_args_more(&a)) {
         const char *v;
         if (cli_flag(&a, "--help")) {
             usage(stdout);
-            return CLI_OK;
-        } else if (cli_take_data(&a, &spec)) {
+            goto done;
+        } else if (cli_take_job(&a, &j, LT_JOB_DATA)) {
             continue;
         } else if (cli_take(&a, "--format", &v)) {
             format_text = v;
         } else {
-            return cli_args_unknown(&a, "inspect");
+            status = cli_args_unknown(&a, "inspect");
+            goto done;
         }
     }
-    if (a.failed)
-        return CLI_USAGE;
     cli_format format;
-    int status = cli_parse_format(format_text, (1u << CLI_TABLE) | (1u << CLI_JSON), &format);
+    if (a.failed)
+        status = CLI_USAGE;
+    else
+        status = cli_parse_format(format_text, (1u << CLI_TABLE) | (1u << CLI_JSON), &format);
     if (status)
-        return status;
+        goto done;
     lt_error err;
     lt_error_clear(&err);
-    lt_survey *s = lt_survey_read(&spec, &err);
-    if (!s)
-        return cli_report(&err);
+    if (!(s = lt_survey_read(&j.data, &err))) {
+        status = cli_report(&err);
+        goto done;
+    }
     lt_survey_stats st;
     lt_cov_info ci;
-    status = CLI_OK;
     if (lt_survey_stats_compute(s, NBINS, &st, &err) || lt_cov_inspect(s->cov, &ci, &err)) {
         status = cli_report(&err);
     } else {
         cli_print_warnings(s);
         if (format == CLI_JSON)
-            print_json(&spec, s, &st, &ci);
+            print_json(&j.data, s, &st, &ci);
         else
-            print_table(&spec, s, &st, &ci);
+            print_table(&j.data, s, &st, &ci);
     }
+done:
     lt_survey_free(s);
+    lt_job_free(&j);
     return status;
 }

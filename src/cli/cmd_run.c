@@ -277,10 +277,10 @@ int cli_run(int argc, char **argv)
     }
     if (a.failed)
         return CLI_USAGE;
-    cli_job j;
-    cli_job_init(&j);
+    lt_job j;
+    lt_job_init(&j);
     int prepared = 0, hint = 0;
-    int status = cli_job_load_sets(&j, argv[1], sets, set_flags, nsets);
+    int status = cli_job_load(&j, argv[1], sets, set_flags, nsets);
     lt_survey *s = NULL;
     if (status)
         goto done;
@@ -351,12 +351,15 @@ int cli_run(int argc, char **argv)
             goto done;
         }
     }
-    cli_job_absolute(&j);
+    if (lt_job_absolute(&j, &j.data, &err)) {
+        status = cli_report(&err);
+        goto done;
+    }
     /* the data, once */
     if (!j.quiet)
         fprintf(stderr, "lantern run %s: reading %s\n", name,
                 j.data.data ? j.data.data : "no survey (measurements only)");
-    if (cli_job_survey(&j, &s, &err)) {
+    if (lt_job_survey(&j, &s, &err)) {
         status = cli_report(&err);
         goto done;
     }
@@ -386,14 +389,14 @@ int cli_run(int argc, char **argv)
         if (!j.quiet && !done_before)
             fprintf(stderr, "[%zu/%zu] %s: %s\n", k + 1, nm, names[k],
                     again ? "resuming the sampler" : "best fit, then sampling");
-        cli_job mj = j; /* the model's own copy of the settings */
+        lt_job mj = j; /* the model's own copy of the settings */
         mj.model = names[k];
         mj.force = 1;
-        mj.ini = NULL; /* owned by j */
-        mj.npool = 0;
+        mj.ini = NULL; /* owned by j, as are its strings */
+        mj.pool = NULL, mj.npool = mj.cap = 0;
         lt_like_spec spec;
         lt_like *l = NULL;
-        if ((status = cli_job_model(&mj, "run", &spec)))
+        if ((status = cli_job_model(&mj, &spec)))
             goto done;
         if (!(l = lt_like_alloc(s, &spec, &err))) {
             status = cli_report(&err);
@@ -412,14 +415,12 @@ int cli_run(int argc, char **argv)
             snprintf(nck, sizeof nck, "%.4000s/checkpoint/nested.bin", dirs[k]);
             if (!resume) /* an earlier run's, left in a folder given with --force */
                 remove(nck);
-            int rc = cli_nested_model(l, 1000, j.seed, threads, nck, cli_catch_signals(),
+            int rc = lt_pipeline_nested_run(l, 1000, j.seed, threads, nck, cli_catch_signals(),
                                       &nr, &err);
             if (rc == LT_OK)
                 rc = add_evidence(dirs[k], &nr, &err);
             lt_nested_result_free(&nr);
             if (rc) {
-                for (size_t i = 0; i < mj.npool; i++)
-                    free(mj.pool[i]);
                 lt_like_free(l);
                 if (rc == LT_EINTR) {
                     fputs("lantern: interrupted; run stopped\n", stderr);
@@ -431,8 +432,6 @@ int cli_run(int argc, char **argv)
                 goto done;
             }
         }
-        for (size_t i = 0; i < mj.npool; i++) /* strings the model's copy made */
-            free(mj.pool[i]);
         lt_like_free(l);
         if (st == CLI_FAILED || st == CLI_USAGE) {
             status = st;
@@ -468,7 +467,7 @@ done:
     else if (hint)
         fputs("lantern: nothing was saved; run it again\n", stderr);
     lt_survey_free(s);
-    cli_job_free(&j);
+    lt_job_free(&j);
     return status;
 }
 

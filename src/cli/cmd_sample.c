@@ -75,27 +75,10 @@ static void usage(FILE *f)
           f);
 }
 
-/* FNV-1a over what makes a run what it is: the data as read, the whole
- * covariance, the model, the priors and fixed values (cli_fingerprint_like),
- * then the seed and the sampler settings (not the thread count, which does
- * not change the draws). */
-static void fingerprint(const lt_like *l, const cli_job *j,
-                        cli_fingerprint *fp)
-{
-    cli_fingerprint_like(l, fp);
-    long settings[] = {(long)j->seed, j->chains, j->warmup, j->check_every, j->max_steps};
-    lt_digest_add(&fp->part[CLI_FP_SETTINGS], settings, sizeof settings);
-    lt_digest_add(&fp->part[CLI_FP_SETTINGS], &j->target_ess, sizeof j->target_ess);
-}
-
 typedef struct {
     struct timespec start;
     int tty, quiet, verbose;
     double target;
-    const char *state_path;
-    uint64_t fp;
-    lt_error err;
-    int save_failed;
     int printed;
 } progress;
 
@@ -109,9 +92,6 @@ static double elapsed(const struct timespec *t0)
 static void on_check(const lt_mcmc *m, void *p)
 {
     progress *pr = p;
-    if (pr->state_path && !pr->save_failed &&
-        lt_mcmc_save(m, pr->state_path, pr->fp, &pr->err) != LT_OK)
-        pr->save_failed = 1;
     if (pr->quiet || (!pr->tty && !pr->verbose))
         return;
     const lt_mcmc_diag *d = lt_mcmc_diagnostics(m);
@@ -127,7 +107,19 @@ static void on_check(const lt_mcmc *m, void *p)
     pr->printed = 1;
 }
 
-static int finish(const cli_job *j, lt_like *l, lt_mcmc *m, cli_format format, const char *out,
+/* A refinement of the compression: sampling starts again, so the progress
+ * clock does too. */
+static void on_note(const char *text, void *p)
+{
+    progress *pr = p;
+    if (pr->printed && pr->tty && !pr->verbose)
+        fputc('\n', stderr);
+    pr->printed = 0;
+    fprintf(stderr, "lantern: %s\n", text);
+    clock_gettime(CLOCK_MONOTONIC, &pr->start);
+}
+
+static int finish(const lt_job *j, lt_like *l, lt_mcmc *m, cli_format format, const char *out,
                   int print, const lt_sample_compression *cmp)
 {
     lt_sample_result r;
@@ -195,222 +187,59 @@ static int finish(const cli_job *j, lt_like *l, lt_mcmc *m, cli_format format, c
     return status;
 }
 
-/* The chains' start: the best fit and its Laplace covariance as centre. */
-static int start_chains(const cli_job *j, const lt_like *l, void **ctxp, lt_mcmc **m,
-                        lt_error *err)
-{
-    size_t d = lt_like_dim(l);
-    lt_fit_opts fo = {.seed = j->seed, .starts = (size_t)j->starts, .stop = cli_catch_signals()};
-    lt_fit_result fr;
-    if (lt_fit_run(l, &fo, &fr, err))
-        return err->code;
-    double scale[LT_MAX_FREE];
-    for (size_t i = 0; i < d; i++) {
-        const lt_prior *p = lt_like_prior(l, i);
-        scale[i] = p->kind == LT_PRIOR_UNIFORM ? p->b - p->a : 4 * p->b;
-    }
-    lt_mcmc_opts mo = {.dim = d, .nextra = 1, .nchains = (size_t)j->chains, .seed = j->seed,
-                       .center = fr.best, .cov = fr.laplace_ok ? fr.cov : NULL, .scale = scale,
-                       .warmup = (size_t)j->warmup, .check_every = (size_t)j->check_every,
-                       .max_steps = (size_t)j->max_steps, .target_ess = j->target_ess,
-                       .rhat_tol = 0.01, .threads = (int)j->threads, .memory_limit = 0};
-    *m = lt_mcmc_alloc(&mo, lt_like_logdensity, ctxp, err);
-    return *m ? LT_OK : err->code;
-}
-
-/*
- * checkpoint/compression.txt: the knots a refined run samples with and the
- * check that asked for them, so that a resumed run samples with the same
- * knots and reports the same numbers. Absent: the set-up's knots.
- */
-static int save_knots(const char *out, size_t K, double first, lt_error *err)
-{
-    char path[4200], buf[32], text[64];
-    snprintf(path, sizeof path, "%s/checkpoint/compression.txt", out);
-    lt_format_double(first, buf, sizeof buf);
-    snprintf(text, sizeof text, "%zu %s\n", K, buf);
-    return lt_file_write_text(path, text, err);
-}
-
-static int load_knots(const char *out, lt_like *l, lt_sample_compression *cmp, lt_error *err)
-{
-    char path[4200], text[64] = "";
-    snprintf(path, sizeof path, "%s/checkpoint/compression.txt", out);
-    FILE *f = fopen(path, "r");
-    if (!f)
-        return LT_OK;
-    size_t K;
-    char *sp = fgets(text, sizeof text, f) ? strchr(text, ' ') : NULL;
-    fclose(f);
-    if (!sp || sscanf(text, "%zu", &K) != 1 || lt_parse_double(strtok(sp + 1, "\n"), &cmp->first_dchi2))
-        return lt_error_set(err, LT_EINPUT, path, 1, "not 'KNOTS MAX_ABS_DCHI2'");
-    return lt_like_compression_set(l, K, err);
-}
-
-int cli_sample_model(cli_job *j, lt_like *l, const lt_like_spec *spec, const char *out,
+int cli_sample_model(lt_job *j, lt_like *l, const lt_like_spec *spec, const char *out,
                      int resume, int print, cli_format format)
 {
     int status = CLI_OK, prepared = 0;
-    lt_mcmc *m = NULL;
-    lt_like_chain *ctx = NULL;
-    void **ctxp = NULL;
-    char state[4200] = "", settings[4200] = "";
     lt_error err;
     lt_error_clear(&err);
-    size_t d = lt_like_dim(l);
-    lt_sample_compression cmp = {0};
-    lt_like_compression(l, &cmp.knots_setup, &cmp.setup_dchi2);
-    cmp.first_dchi2 = NAN;
-    if (d == 0) {
-        status = cli_usage_error("sample", "every parameter is fixed: nothing to sample");
-        goto done;
+    lt_pipeline_mcmc p;
+    memset(&p, 0, sizeof p);
+    if (out && !resume) {
+        char what[128];
+        snprintf(what, sizeof what, "lantern %s sample (running)", LT_VERSION);
+        if (lt_outdir_prepare(out, j->force, &err) || (prepared = 1, 0) ||
+            lt_outdir_mark(out, what, &err)) {
+            status = cli_report(&err);
+            goto done;
+        }
     }
-    if (resume && load_knots(out, l, &cmp, &err)) {
+    /* threads may be set differently on resume: the draws do not depend on it */
+    progress pr = {{0, 0}, isatty(2), j->quiet, j->verbose, j->target_ess, 0};
+    clock_gettime(CLOCK_MONOTONIC, &pr.start);
+    lt_pipeline_hooks hooks = {on_check, on_note, &pr};
+    int rc = lt_pipeline_mcmc_run(l, j, spec, out, resume, cli_catch_signals(), &hooks, &p, &err);
+    if (pr.printed && pr.tty && !pr.verbose)
+        fputc('\n', stderr);
+    if (rc == LT_EINTR && p.stopped_in_fit) {
+        fputs("lantern: interrupted during the best fit, before sampling began\n", stderr);
+        status = CLI_FAILED;
+    } else if (rc == LT_EINTR && out) {
+        fprintf(stderr, "lantern: interrupted; the checkpoint in %s/checkpoint holds every "
+                        "draw so far: continue with 'lantern sample --resume %s'\n",
+                out, out);
+        status = CLI_FAILED;
+    } else if (rc == LT_EINTR) {
+        fputs("lantern: interrupted (no --out folder, so nothing was saved)\n", stderr);
+        status = CLI_FAILED;
+    } else if (rc) {
         status = cli_report(&err);
-        goto done;
-    }
-    if (j->warmup == 0)
-        j->warmup = d * 1000 > 2000 ? (long)d * 1000 : 2000;
-    ctx = calloc((size_t)j->chains, sizeof *ctx);
-    ctxp = calloc((size_t)j->chains, sizeof *ctxp);
-    if (!ctx || !ctxp) {
-        status = cli_usage_error("sample", "out of memory");
-        goto done;
-    }
-    for (long c = 0; c < j->chains; c++) {
-        ctx[c] = (lt_like_chain){l, lt_like_work_alloc(l)};
-        ctxp[c] = &ctx[c];
-        if (!ctx[c].w) {
-            status = cli_usage_error("sample", "out of memory");
-            goto done;
-        }
-    }
-    cli_fingerprint parts;
-    fingerprint(l, j, &parts);
-    uint64_t fp = cli_fingerprint_value(&parts);
-    if (out) {
-        snprintf(state, sizeof state, "%s/checkpoint/state.bin", out);
-        snprintf(settings, sizeof settings, "%s/checkpoint/settings.ini", out);
-    }
-    if (resume) {
-        if (cli_fingerprint_check(settings, &parts, &err) ||
-            !(m = lt_mcmc_load(state, fp, lt_like_logdensity, ctxp, &err))) {
-            status = cli_report(&err);
-            goto done;
-        }
     } else {
-        if (out && lt_outdir_prepare(out, j->force, &err)) {
-            status = cli_report(&err);
-            goto done;
-        }
-        prepared = out != NULL;
-        if (start_chains(j, l, ctxp, &m, &err)) {
-            if (err.code == LT_EINTR) {
-                fputs("lantern: interrupted during the best fit, before sampling began\n", stderr);
-                status = CLI_FAILED;
-                goto done;
-            }
-            status = cli_report(&err);
-            goto done;
-        }
-        if (out) {
-            char dir[4200];
-            snprintf(dir, sizeof dir, "%s/checkpoint", out);
-            char what[128];
-            snprintf(what, sizeof what, "lantern %s sample (running)", LT_VERSION);
-            if ((mkdir(dir, 0777) != 0 && errno != EEXIST) ||
-                cli_job_write(j, spec, settings, &err) ||
-                cli_fingerprint_write(settings, &parts, &err) || lt_outdir_mark(out, what, &err)) {
-                status = err.code ? cli_report(&err)
-                                  : cli_usage_error(dir, "cannot make the checkpoint folder");
-                goto done;
-            }
-        }
+        status = finish(j, l, p.m, format, out, print, &p.cmp);
     }
-    for (;;) {
-        /* threads may be set differently on resume: the draws do not depend on it */
-        progress pr = {{0, 0}, isatty(2), j->quiet, j->verbose, j->target_ess,
-                       out ? state : NULL, fp, {0, 0, "", ""}, 0, 0};
-        clock_gettime(CLOCK_MONOTONIC, &pr.start);
-        int rc = lt_mcmc_run(m, cli_catch_signals(), on_check, &pr, &err);
-        if (pr.printed && pr.tty && !pr.verbose)
-            fputc('\n', stderr);
-        if (pr.save_failed) {
-            status = cli_report(&pr.err);
-            goto done;
-        }
-        if (rc == LT_EINTR) {
-            if (out && lt_mcmc_save(m, state, fp, &err) == LT_OK)
-                fprintf(stderr, "lantern: interrupted; the checkpoint in %s/checkpoint holds every "
-                                "draw so far: continue with 'lantern sample --resume %s'\n",
-                        out, out);
-            else if (out)
-                cli_report(&err);
-            else
-                fputs("lantern: interrupted (no --out folder, so nothing was saved)\n", stderr);
-            status = CLI_FAILED;
-            goto done;
-        }
-        if (rc) {
-            status = cli_report(&err);
-            goto done;
-        }
-        /* the compression checked on the draws by the exact path; where
-         * more knots (or the exact path) fix it, sample again with them */
-        lt_compression_check chk;
-        if (lt_mcmc_check_compression(l, m, &chk, &err)) {
-            status = cli_report(&err);
-            goto done;
-        }
-        if (!chk.refined) {
-            cmp.knots = chk.knots, cmp.checked = chk.checked;
-            cmp.posterior_dchi2 = chk.max_after, cmp.checked_ok = 1;
-            break;
-        }
-        if (isnan(cmp.first_dchi2))
-            cmp.first_dchi2 = chk.max_before;
-        char how[64] = "the exact path";
-        if (chk.knots)
-            snprintf(how, sizeof how, "%zu knots", chk.knots);
-        fprintf(stderr, "lantern: the compressed likelihood is off by %.2g in chi2 on the posterior "
-                        "draws (more than %g; its set-up saw %.2g): sampling again with %s\n",
-                chk.max_before, LT_CHECK_BOUND, cmp.setup_dchi2, how);
-        if (out && save_knots(out, chk.knots, cmp.first_dchi2, &err)) {
-            status = cli_report(&err);
-            goto done;
-        }
-        lt_mcmc_free(m);
-        m = NULL;
-        for (long c = 0; c < j->chains; c++) {
-            lt_like_work_free(ctx[c].w);
-            if (!(ctx[c].w = lt_like_work_alloc(l))) {
-                status = cli_usage_error("sample", "out of memory");
-                goto done;
-            }
-        }
-        if (start_chains(j, l, ctxp, &m, &err)) {
-            status = cli_report(&err);
-            goto done;
-        }
-    }
-    status = finish(j, l, m, format, out, print, &cmp);
 done:
     /* a failure leaves the earlier run (or no folder) behind, a checkpoint
      * to resume from stays */
     if (prepared && status != CLI_OK && status != CLI_UNCONVERGED)
         lt_outdir_abandon(out);
-    lt_mcmc_free(m);
-    for (long c = 0; ctx && c < j->chains; c++)
-        lt_like_work_free(ctx[c].w);
-    free(ctx);
-    free(ctxp);
+    lt_pipeline_mcmc_free(&p);
     return status;
 }
 
 int cli_sample(int argc, char **argv)
 {
-    cli_job j;
-    cli_job_init(&j);
+    lt_job j;
+    lt_job_init(&j);
     int status = CLI_OK, first = 1;
     const char *resume = NULL, *format_flag = NULL;
     int quiet = 0, verbose = 0;
@@ -418,7 +247,7 @@ int cli_sample(int argc, char **argv)
     lt_like *l = NULL;
     char settings[4200] = "";
     if (argc > 1 && strncmp(argv[1], "--", 2) != 0) {
-        if ((status = cli_job_load(&j, argv[1])))
+        if ((status = cli_job_load(&j, argv[1], NULL, NULL, 0)))
             goto done;
         first = 2;
     }
@@ -445,7 +274,7 @@ int cli_sample(int argc, char **argv)
             verbose = 1;
             continue;
         }
-        if (resume || !cli_take_job(&a, &j)) {
+        if (resume || !cli_take_job(&a, &j, LT_JOB_DATA | LT_JOB_MODEL | LT_JOB_PARAMS | LT_JOB_FIT | LT_JOB_SAMPLER | LT_JOB_OUTPUT)) {
             status = resume ? cli_usage_error("--resume",
                                               "takes no other options than --format, --quiet "
                                               "and --verbose: the run's settings are in its "
@@ -470,7 +299,7 @@ int cli_sample(int argc, char **argv)
                                              "missing): not a stopped lantern sample run");
             goto done;
         }
-        if ((status = cli_job_load(&j, settings)))
+        if ((status = cli_job_load(&j, settings, NULL, NULL, 0)))
             goto done;
         j.out = resume;
     }
@@ -481,11 +310,11 @@ int cli_sample(int argc, char **argv)
     if ((status = cli_parse_format(j.format, (1u << CLI_TABLE) | (1u << CLI_JSON), &format)))
         goto done;
     lt_like_spec spec;
-    if ((status = cli_job_model(&j, "sample", &spec)))
+    if ((status = cli_job_model(&j, &spec)))
         goto done;
     lt_error err;
     lt_error_clear(&err);
-    if (cli_job_survey(&j, &s, &err) || !(l = lt_like_alloc(s, &spec, &err))) {
+    if (lt_job_survey(&j, &s, &err) || !(l = lt_like_alloc(s, &spec, &err))) {
         status = cli_report(&err);
         goto done;
     }
@@ -494,6 +323,6 @@ int cli_sample(int argc, char **argv)
 done:
     lt_like_free(l);
     lt_survey_free(s);
-    cli_job_free(&j);
+    lt_job_free(&j);
     return status;
 }

@@ -131,6 +131,31 @@ if [ "$STATUS" -eq 0 ] && [ "$kills" -ge 1 ] && [ "$same" -eq 1 ] && cmp -s "$OU
 else
     fail "compare killed at four points ($kills resumed runs killed) and resumed: byte-identical results"
 fi
+# --resume DIR alone (issue 18): the comparison's settings are in
+# DIR/checkpoint/settings.ini, so the folder is all a resume needs; the same
+# results as the uninterrupted comparison, byte for byte.
+"$LANTERN" compare "${DATA[@]}" "${CMP[@]}" --out "$E2E_TMP/alone" >/dev/null 2>"$ERR" &
+pid=$!
+wait_for "$E2E_TMP/alone/checkpoint/settings.ini"
+sleep 0.3
+kill -INT $pid
+wait $pid
+first=$?
+grep -q "or with 'lantern compare --resume $E2E_TMP/alone' alone" "$ERR" || first=99
+run "$LANTERN" compare --resume "$E2E_TMP/alone" --format json --quiet
+same=1
+for f in summary.json nested_lcdm-flat.csv nested_wcdm-flat.csv nested_w0wa-flat.csv; do
+    cmp -s "$E2E_TMP/whole/$f" "$E2E_TMP/alone/$f" || same=0
+done
+if [ "$first" -eq 1 ] && [ "$STATUS" -eq 0 ] && [ "$same" -eq 1 ] && cmp -s "$OUT" "$E2E_TMP/whole.json"; then
+    pass "compare --resume DIR alone: byte-identical to the uninterrupted comparison"
+else
+    fail "compare --resume DIR alone: byte-identical to the uninterrupted comparison (first status $first)"
+fi
+mkdir -p "$E2E_TMP/bare"
+run "$LANTERN" compare --resume "$E2E_TMP/bare"
+expect_error "compare --resume DIR alone without settings" 2 "checkpoint/settings.ini is missing"
+
 # The models run side by side, one per thread (issue 16): the same summary and
 # weighted draws with one thread, two threads and the default as above, and
 # the progress lines on stderr whole, one per model, never cut into.

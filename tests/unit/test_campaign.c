@@ -87,8 +87,8 @@ static void test_task_order(void **state)
     assert_string_equal(label, "real/wcdm-flat/sample");
     lt_campaign_task_label(&c, 5, label, sizeof label);
     assert_string_equal(label, "sim/r11/lcdm-flat/sample");
-    assert_int_equal(c.nkv, 2);
-    assert_true(c.target_ess == 200 && c.chains == 4 && c.live_points == 1000);
+    assert_int_equal(c.job.npriors + c.job.nfixes, 2);
+    assert_true(c.job.target_ess == 200 && c.job.chains == 4 && c.job.live_points == 1000);
     lt_campaign_free(&c);
 }
 

@@ -10,15 +10,18 @@
 #include <stdlib.h>
 #include <string.h>
 
-#include "cli.h"
+#include "lantern/digest.h"
+#include "lantern/file.h"
+#include "lantern/pipeline.h"
+#include "lantern/text.h"
 
-static const char *part_name[CLI_FP_NPARTS] = {"data", "covariance", "model", "settings"};
+static const char *part_name[LT_FP_NPARTS] = {"data", "covariance", "model", "settings"};
 /* What each part covers, as the refusal names it. */
-static const char *part_words[CLI_FP_NPARTS] = {
+static const char *part_words[LT_FP_NPARTS] = {
     "the data (redshifts, observations or measurements)", "the covariance",
     "the model's settings (model, priors, fixed values)", "the seed or sampler settings"};
 
-void cli_fingerprint_like(const lt_like *l, cli_fingerprint *fp)
+void lt_fingerprint_like(const lt_like *l, lt_fingerprint *fp)
 {
     const lt_survey *s = lt_like_survey(l);
     uint64_t h = LT_DIGEST_START;
@@ -38,11 +41,11 @@ void cli_fingerprint_like(const lt_like *l, cli_fingerprint *fp)
         lt_digest_add(&h, m->name, strlen(m->name) + 1);
         lt_digest_add(&h, v, sizeof v);
     }
-    fp->part[CLI_FP_DATA] = h;
+    fp->part[LT_FP_DATA] = h;
     h = LT_DIGEST_START;
     if (s)
         lt_cov_digest(s->cov, &h);
-    fp->part[CLI_FP_COV] = h;
+    fp->part[LT_FP_COV] = h;
     h = LT_DIGEST_START;
     lt_digest_add(&h, lt_like_model(l)->name, strlen(lt_like_model(l)->name));
     /* the parameter table as it stands, in its own order (not the order
@@ -64,29 +67,22 @@ void cli_fingerprint_like(const lt_like *l, cli_fingerprint *fp)
     }
     int offset = lt_like_offset_mode(l);
     lt_digest_add(&h, &offset, sizeof offset);
-    fp->part[CLI_FP_MODEL] = h;
-    fp->part[CLI_FP_SETTINGS] = LT_DIGEST_START;
+    fp->part[LT_FP_MODEL] = h;
+    fp->part[LT_FP_SETTINGS] = LT_DIGEST_START;
 }
 
-uint64_t cli_fingerprint_value(const cli_fingerprint *fp)
+uint64_t lt_fingerprint_value(const lt_fingerprint *fp)
 {
     uint64_t h = LT_DIGEST_START;
     lt_digest_add(&h, fp->part, sizeof fp->part);
     return h;
 }
 
-uint64_t cli_like_fingerprint(const lt_like *l)
-{
-    cli_fingerprint fp;
-    cli_fingerprint_like(l, &fp);
-    return cli_fingerprint_value(&fp);
-}
-
 /* The line in settings.ini that holds the parts: a comment, which the INI
  * reader skips, so the file stays a plain run file. */
 #define FP_LINE "# fingerprint"
 
-int cli_fingerprint_write(const char *settings, const cli_fingerprint *fp, lt_error *err)
+int lt_fingerprint_write(const char *settings, const lt_fingerprint *fp, lt_error *err)
 {
     char *text = NULL;
     size_t size = 0;
@@ -95,7 +91,7 @@ int cli_fingerprint_write(const char *settings, const cli_fingerprint *fp, lt_er
         return rc;
     char line[256];
     size_t used = (size_t)snprintf(line, sizeof line, FP_LINE);
-    for (int i = 0; i < CLI_FP_NPARTS; i++)
+    for (int i = 0; i < LT_FP_NPARTS; i++)
         used += (size_t)snprintf(line + used, sizeof line - used, " %s=%016llx", part_name[i],
                                  (unsigned long long)fp->part[i]);
     char *all = malloc(size + sizeof line + 64);
@@ -113,22 +109,22 @@ int cli_fingerprint_write(const char *settings, const cli_fingerprint *fp, lt_er
     return rc;
 }
 
-int cli_fingerprint_check(const char *settings, const cli_fingerprint *fp, lt_error *err)
+int lt_fingerprint_check(const char *settings, const lt_fingerprint *fp, lt_error *err)
 {
     char *text = NULL;
     size_t size = 0;
     int rc = lt_file_read(settings, 1u << 20, &text, &size, err);
     if (rc)
         return rc;
-    int differs[CLI_FP_NPARTS] = {0}, seen[CLI_FP_NPARTS] = {0}, ndiff = 0;
+    int differs[LT_FP_NPARTS] = {0}, seen[LT_FP_NPARTS] = {0}, ndiff = 0;
     lt_lines it;
     lt_lines_start(&it, text);
-    char *s, *f[CLI_FP_NPARTS + 3];
+    char *s, *f[LT_FP_NPARTS + 3];
     size_t len;
     long nf = -1;
     while ((s = lt_lines_next(&it, &len)))
         if (strncmp(s, FP_LINE " ", strlen(FP_LINE) + 1) == 0) {
-            nf = lt_line_split(s + strlen(FP_LINE), 0, f, CLI_FP_NPARTS + 1);
+            nf = lt_line_split(s + strlen(FP_LINE), 0, f, LT_FP_NPARTS + 1);
             break;
         }
     for (long n = 0; n < nf; n++) {
@@ -136,10 +132,10 @@ int cli_fingerprint_check(const char *settings, const cli_fingerprint *fp, lt_er
         int i = 0;
         if (eq)
             *eq = '\0';
-        while (eq && i < CLI_FP_NPARTS && strcmp(f[n], part_name[i]) != 0)
+        while (eq && i < LT_FP_NPARTS && strcmp(f[n], part_name[i]) != 0)
             i++;
         unsigned long long v = eq ? strtoull(eq + 1, &end, 16) : 0;
-        if (!eq || i == CLI_FP_NPARTS || seen[i] || strlen(eq + 1) != 16 || *end) {
+        if (!eq || i == LT_FP_NPARTS || seen[i] || strlen(eq + 1) != 16 || *end) {
             free(text);
             return lt_error_set(err, LT_EINPUT, settings, it.line,
                                 "not a fingerprint: data=, covariance=, model= and settings=, "
@@ -152,13 +148,13 @@ int cli_fingerprint_check(const char *settings, const cli_fingerprint *fp, lt_er
     free(text);
     if (nf < 0)
         return LT_OK; /* an older checkpoint: the samplers check the number alone */
-    if (nf != CLI_FP_NPARTS)
+    if (nf != LT_FP_NPARTS)
         return lt_error_set(err, LT_EINPUT, settings, it.line,
                             "the fingerprint must give data=, covariance=, model= and settings=");
     if (!ndiff)
         return LT_OK;
     char what[256] = "";
-    for (int i = 0, k = 0; i < CLI_FP_NPARTS; i++)
+    for (int i = 0, k = 0; i < LT_FP_NPARTS; i++)
         if (differs[i]) {
             size_t used = strlen(what);
             snprintf(what + used, sizeof what - used, "%s%s",

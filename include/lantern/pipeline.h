@@ -1,0 +1,225 @@
+/*
+ * lantern/pipeline.h - what a run is asked to do, read once.
+ *
+ * A run description (lt_job) gathers a run file (RUN.ini) and the flags
+ * that override it under one set of rules: every setting is a run-file key
+ * (section.key) and most have a flag of the command-line contract
+ * (DESIGN.md); both go through lt_job_set, so a value means the same and is
+ * refused with the same words whichever way it came. fit, sample, compare,
+ * run, bench and campaign read their settings this way; campaign and
+ * forecast read the shared sections of their own files with
+ * lt_job_apply_ini.
+ *
+ * Run files (our own layout; paths are relative to the run file's folder):
+ *   [run]          name, models (M1, M2, ...)
+ *   [data]         file, columns, cov (comma-separated), modes,
+ *                  no_err_diag, zmin, zmax, keep_ids, drop_ids
+ *   [model]        name, offset (none | marginal | sampled)
+ *   [priors]       PARAM = uniform:LO:HI | gauss:MEAN:SD
+ *   [fixed]        PARAM = VALUE
+ *   [measurements] NAME = MEAN:SD[, MEAN:SD...]
+ *   [fit]          starts, seed
+ *   [sampler]      seed, chains, threads, warmup, check_every, max_steps,
+ *                  target_ess
+ *   [nested]       live_points
+ *   [output]       dir, format
+ * Unknown sections and keys, over-long lines and bad values are errors
+ * naming the file and line (or the flag).
+ *
+ * Contracts: nothing here prints; errors are returned in lt_error with the
+ * file and line (or the flag) they came from. Strings an lt_job hands out
+ * live as long as the job (or, for flag values, as long as the caller's
+ * argv).
+ */
+#ifndef LANTERN_PIPELINE_H
+#define LANTERN_PIPELINE_H
+
+#include <signal.h>
+#include <stddef.h>
+#include <stdint.h>
+
+#include "lantern/error.h"
+#include "lantern/ini.h"
+#include "lantern/inference.h"
+#include "lantern/likelihood.h"
+#include "lantern/survey.h"
+
+/* A NAME = VALUE entry of [priors], [fixed] or [measurements]. */
+typedef struct lt_job_entry {
+    const char *name, *value;
+    const char *origin; /* the run file, or the flag ("--prior") */
+    long line;          /* in the run file; 0 for a flag */
+    int from_file;
+} lt_job_entry;
+
+#define LT_JOB_MAX_ENTRIES 32
+
+typedef struct lt_job {
+    lt_ini *ini;         /* the run file, or NULL */
+    char **pool;         /* strings made while reading */
+    size_t npool, cap;
+    const char *name;    /* [run] name */
+    const char *models;  /* [run] models: a comma-separated list */
+    lt_survey_spec data;
+    int cov_from_flags;  /* a --cov flag replaced the run file's list */
+    const char *model, *offset;
+    lt_job_entry priors[LT_JOB_MAX_ENTRIES], fixes[LT_JOB_MAX_ENTRIES],
+        measures[LT_JOB_MAX_ENTRIES];
+    size_t npriors, nfixes, nmeasures;
+    unsigned long seed;
+    long starts;
+    long chains, threads, warmup, check_every, max_steps;
+    double target_ess;
+    long live_points;
+    const char *out, *format;
+    int force, quiet, verbose;
+    int lenient;         /* priors and fixes apply to the models that have them */
+} lt_job;
+
+/* The defaults: seed 1, 8 starts, 4 chains, warm-up 0 (max(2000, 1000 d)),
+ * checks every 1000 steps, 200000 steps at most, target ESS 1000, 1000 live
+ * points, format "table". */
+void lt_job_init(lt_job *j);
+void lt_job_free(lt_job *j);
+
+/* Read RUN.ini into j, with "section.key=value" overrides applied to the
+ * file first (origins[i]: the flag each came from, for errors). Every
+ * section of the file must be one of the list above. */
+int lt_job_read(lt_job *j, const char *path, const char *const *overrides,
+                const char *const *origins, size_t noverrides, lt_error *err);
+
+/* The sections lt_job_apply_ini reads, as a mask. */
+enum {
+    LT_JOB_RUN = 1 << 0,
+    LT_JOB_DATA = 1 << 1,
+    LT_JOB_MODEL = 1 << 2,
+    LT_JOB_PARAMS = 1 << 3, /* [priors], [fixed], [measurements] */
+    LT_JOB_FIT = 1 << 4,
+    LT_JOB_SAMPLER = 1 << 5,
+    LT_JOB_NESTED = 1 << 6,
+    LT_JOB_OUTPUT = 1 << 7,
+    LT_JOB_ALL = 0xff
+};
+/* Apply the sections of ini in mask to j (marking their keys used; the
+ * caller checks for unused ones). ini must outlive j. */
+int lt_job_apply_ini(lt_job *j, lt_ini *ini, unsigned mask, lt_error *err);
+
+/* One setting: section.key = value, from origin (a file, with its line) or
+ * from a flag (origin the flag, line 0, from_file 0). Values are copied. */
+int lt_job_set(lt_job *j, const char *section, const char *key, const char *value,
+               const char *origin, long line, int from_file, lt_error *err);
+
+/* Flags. lt_job_flag_find says whether flag ("--chains") is one of the
+ * run description's, in which section (an LT_JOB_ bit), and whether it
+ * takes a value;
+ * lt_job_flag applies it (value NULL for one that takes none). */
+int lt_job_flag_find(const char *flag, unsigned *section, int *takes_value);
+int lt_job_flag(lt_job *j, const char *flag, const char *value, lt_error *err);
+
+/* The data keys of section (as [data]) of ini into spec, paths relative to
+ * ini's file; strings kept by j. For campaign files' [data.NAME]. */
+int lt_job_data_section(lt_job *j, lt_ini *ini, const char *section, lt_survey_spec *spec,
+                        lt_error *err);
+
+/* Make spec's paths absolute (strings kept by j), so that summaries and
+ * resumes name them from anywhere. */
+int lt_job_absolute(lt_job *j, lt_survey_spec *spec, lt_error *err);
+
+/* The likelihood spec for model m: the offset, the priors and fixed values
+ * (the run file's first, then the flags', which override them; with
+ * lenient set, those of parameters m lacks are left out), and every
+ * measurement. Errors name the file and line or the flag. */
+int lt_job_like_spec(const lt_job *j, const lt_cosmo_model *m, lt_like_spec *spec,
+                     lt_error *err);
+/* The same for j's model, which must be given. */
+int lt_job_model_spec(const lt_job *j, lt_like_spec *spec, lt_error *err);
+
+/* j's survey into *s; none (NULL) when no data file is given but j has a
+ * measurement (the likelihood then has other terms; other survey options
+ * are then an error). */
+int lt_job_survey(const lt_job *j, lt_survey **s, lt_error *err);
+
+/* Write j, with its final likelihood spec, as a run file (absolute paths)
+ * that lt_job_read reads back to the same run: what --resume reads. For a
+ * job of several models (compare), spec NULL: the priors, fixed values and
+ * measurements as j's entries finally stand. */
+int lt_job_write(const lt_job *j, const lt_like_spec *spec, const char *path, lt_error *err);
+
+/*
+ * Checkpoint fingerprints: FNV-1a digests, in parts, of the data as read
+ * (n, z, zhel, observations), the whole covariance, the model with its
+ * priors, fixed values, measurements and offset mode, and the caller's
+ * settings (seed, method options).
+ */
+enum { LT_FP_DATA, LT_FP_COV, LT_FP_MODEL, LT_FP_SETTINGS, LT_FP_NPARTS };
+typedef struct lt_fingerprint {
+    uint64_t part[LT_FP_NPARTS];
+} lt_fingerprint;
+/* The data, covariance and model parts; settings left at the empty digest
+ * for the caller to add to. */
+void lt_fingerprint_like(const lt_like *l, lt_fingerprint *fp);
+/* The one number a checkpoint stores: the digest of the parts. */
+uint64_t lt_fingerprint_value(const lt_fingerprint *fp);
+/* Append the parts to a checkpoint's settings file (lt_job_write's) as a
+ * comment line, rewriting it atomically; and check them on resume: LT_OK if
+ * the file has no such line (an older checkpoint) or every part matches,
+ * else LT_EINPUT naming the parts that differ. */
+int lt_fingerprint_write(const char *settings, const lt_fingerprint *fp, lt_error *err);
+int lt_fingerprint_check(const char *settings, const lt_fingerprint *fp, lt_error *err);
+
+/* ---- running methods ---- */
+
+/* What a long method tells its caller as it goes (the command line prints
+ * it; nothing here does). Either hook may be NULL. */
+typedef struct lt_pipeline_hooks {
+    /* after every convergence check of the chains (and its checkpoint) */
+    void (*check)(const lt_mcmc *m, void *ctx);
+    /* news worth a line: "the compressed likelihood is off ... sampling again" */
+    void (*note)(const char *text, void *ctx);
+    void *ctx;
+} lt_pipeline_hooks;
+
+/* A sampled posterior's chains and what the run learnt on the way. */
+typedef struct lt_pipeline_mcmc {
+    lt_mcmc *m;                 /* the chains, finished (converged or at max_steps) */
+    lt_sample_compression cmp;  /* the compression's record (checked_ok set) */
+    int stopped_in_fit;         /* an LT_EINTR came during the best fit, before any draw */
+    size_t nchains;             /* the chains' work spaces, which m's log density uses */
+    lt_like_chain *ctx;
+    void **ctxp;
+} lt_pipeline_mcmc;
+
+/*
+ * Sample l's posterior by j's [fit] and [sampler] settings: the best fit
+ * as centre (its Laplace covariance as the chains' first proposal),
+ * adaptive Metropolis until converged or max_steps, then the compression
+ * checked on the draws by the exact path; where more knots fix it, the
+ * chains are drawn again with them (h->note says so). j->warmup 0 becomes
+ * its default, max(2000, 1000 d).
+ *
+ * With dir, DIR/checkpoint holds settings.ini (j and spec, by lt_job_write,
+ * with the fingerprint), state.bin (saved at every check and at a stop) and
+ * compression.txt (the knots of a refined run); resume continues from it
+ * and refuses one whose data, covariance, model or settings differ (naming
+ * which). Returns LT_OK; LT_EINTR when *stop was set (the state saved, if
+ * there is a dir); or an error. Free p with lt_pipeline_mcmc_free in every
+ * case.
+ */
+int lt_pipeline_mcmc_run(lt_like *l, lt_job *j, const lt_like_spec *spec, const char *dir,
+                         int resume, volatile sig_atomic_t *stop, const lt_pipeline_hooks *h,
+                         lt_pipeline_mcmc *p, lt_error *err);
+void lt_pipeline_mcmc_free(lt_pipeline_mcmc *p);
+
+/*
+ * Nested sampling of l's posterior with live points and seed, on threads
+ * (ctx per thread; > 0). With a checkpoint path: a checkpoint there is
+ * continued if its fingerprint (the likelihood's, the seed and the live
+ * points) matches and refused if not; a stop (*stop set) saves the state
+ * there and returns LT_EINTR; a finished run saves its final state there
+ * too, so that a resumed comparison does not redo it.
+ */
+int lt_pipeline_nested_run(const lt_like *l, long live, uint64_t seed, int threads,
+                           const char *checkpoint, volatile sig_atomic_t *stop,
+                           lt_nested_result *r, lt_error *err);
+
+#endif

@@ -1,0 +1,800 @@
+/*
+ * Run descriptions: a run file and the flags over it, under one set of
+ * rules (see lantern/pipeline.h). Every setting is a row of one table,
+ * which names its run-file key, its flag and how its value is checked; the
+ * file and the flags both go through lt_job_set, so that they cannot drift
+ * apart.
+ */
+#include <math.h>
+#include <stdarg.h>
+#include <stddef.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <unistd.h>
+
+#include "lantern/file.h"
+#include "lantern/pipeline.h"
+#include "lantern/text.h"
+#include "lantern/version.h"
+
+void lt_job_init(lt_job *j)
+{
+    memset(j, 0, sizeof *j);
+    lt_survey_spec_init(&j->data);
+    j->seed = 1;
+    j->starts = 8;
+    j->format = "table";
+    j->chains = 4;
+    j->threads = 0;
+    j->warmup = 0; /* 0: max(2000, 1000 d) */
+    j->check_every = 1000;
+    j->max_steps = 200000;
+    j->target_ess = 1000;
+    j->live_points = 1000;
+}
+
+void lt_job_free(lt_job *j)
+{
+    for (size_t i = 0; i < j->npool; i++)
+        free(j->pool[i]);
+    free(j->pool);
+    lt_ini_free(j->ini);
+    j->pool = NULL, j->npool = j->cap = 0, j->ini = NULL;
+}
+
+/* Keep s (a new string, or NULL from a failed allocation) for j's life. */
+static const char *keep(lt_job *j, char *s, lt_error *err)
+{
+    if (s && j->npool == j->cap) {
+        size_t cap = j->cap ? 2 * j->cap : 32;
+        char **p = realloc(j->pool, cap * sizeof *p);
+        if (!p) {
+            free(s);
+            s = NULL;
+        } else {
+            j->pool = p, j->cap = cap;
+        }
+    }
+    if (!s) {
+        lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
+        return NULL;
+    }
+    return j->pool[j->npool++] = s;
+}
+
+/* A path from a file (base), relative to that file's folder; a flag's
+ * path is taken as given. */
+static const char *resolve(lt_job *j, const char *base, const char *path, lt_error *err)
+{
+    if (!base || path[0] == '/' || !strchr(base, '/'))
+        return keep(j, strdup(path), err);
+    size_t dir = (size_t)(strrchr(base, '/') - base);
+    char *s = malloc(dir + strlen(path) + 2);
+    if (s)
+        sprintf(s, "%.*s/%s", (int)dir, base, path);
+    return keep(j, s, err);
+}
+
+/* How a setting's value is checked and stored. */
+typedef enum {
+    K_TEXT,  /* a string */
+    K_PATH,  /* a path (relative to the run file) */
+    K_COV,   /* a comma-separated list of paths; a flag adds one */
+    K_BOOL,  /* true/false, yes/no, 1/0; a flag takes no value */
+    K_Z,     /* a redshift >= 0 */
+    K_LONG,  /* a whole number in [lo, hi] */
+    K_SEED,  /* 0 to 2^32 - 1 */
+    K_ESS,   /* a number >= 1 */
+    K_ENTRY  /* NAME=VALUE from a flag into a list ([priors], ...) */
+} kind;
+
+typedef struct {
+    unsigned section_bit;
+    const char *section, *key, *flag;
+    kind k;
+    long lo, hi;
+    size_t off; /* into lt_job */
+} rule;
+
+#define AT(f) offsetof(lt_job, f)
+static const rule rules[] = {
+    {LT_JOB_RUN, "run", "name", NULL, K_TEXT, 0, 0, AT(name)},
+    {LT_JOB_RUN, "run", "models", "--models", K_TEXT, 0, 0, AT(models)},
+    {LT_JOB_DATA, "data", "file", "--data", K_PATH, 0, 0, AT(data.data)},
+    {LT_JOB_DATA, "data", "columns", "--columns", K_TEXT, 0, 0, AT(data.columns)},
+    {LT_JOB_DATA, "data", "cov", "--cov", K_COV, 0, 0, AT(data.cov)},
+    {LT_JOB_DATA, "data", "modes", "--modes", K_PATH, 0, 0, AT(data.modes)},
+    {LT_JOB_DATA, "data", "no_err_diag", "--no-err-diag", K_BOOL, 0, 0, AT(data.no_err_diag)},
+    {LT_JOB_DATA, "data", "zmin", "--zmin", K_Z, 0, 0, AT(data.zmin)},
+    {LT_JOB_DATA, "data", "zmax", "--zmax", K_Z, 0, 0, AT(data.zmax)},
+    {LT_JOB_DATA, "data", "keep_ids", "--keep-ids", K_PATH, 0, 0, AT(data.keep_ids)},
+    {LT_JOB_DATA, "data", "drop_ids", "--drop-ids", K_PATH, 0, 0, AT(data.drop_ids)},
+    {LT_JOB_MODEL, "model", "name", "--model", K_TEXT, 0, 0, AT(model)},
+    {LT_JOB_MODEL, "model", "offset", "--offset", K_TEXT, 0, 0, AT(offset)},
+    {LT_JOB_PARAMS, "priors", NULL, "--prior", K_ENTRY, 0, 0, AT(priors)},
+    {LT_JOB_PARAMS, "fixed", NULL, "--fix", K_ENTRY, 0, 0, AT(fixes)},
+    {LT_JOB_PARAMS, "measurements", NULL, "--measure", K_ENTRY, 0, 0, AT(measures)},
+    {LT_JOB_FIT, "fit", "starts", "--starts", K_LONG, 1, 1000, AT(starts)},
+    {LT_JOB_FIT, "fit", "seed", "--seed", K_SEED, 0, 0, AT(seed)},
+    {LT_JOB_SAMPLER, "sampler", "seed", NULL, K_SEED, 0, 0, AT(seed)},
+    {LT_JOB_SAMPLER, "sampler", "chains", "--chains", K_LONG, 1, 256, AT(chains)},
+    {LT_JOB_SAMPLER, "sampler", "threads", "--threads", K_LONG, 0, 256, AT(threads)},
+    {LT_JOB_SAMPLER, "sampler", "warmup", "--warmup", K_LONG, 0, 100000000, AT(warmup)},
+    {LT_JOB_SAMPLER, "sampler", "check_every", "--check-every", K_LONG, 10, 100000000,
+     AT(check_every)},
+    {LT_JOB_SAMPLER, "sampler", "max_steps", "--max-steps", K_LONG, 10, 1000000000,
+     AT(max_steps)},
+    {LT_JOB_SAMPLER, "sampler", "target_ess", "--target-ess", K_ESS, 0, 0, AT(target_ess)},
+    {LT_JOB_NESTED, "nested", "live_points", "--live-points", K_LONG, 20, 100000,
+     AT(live_points)},
+    {LT_JOB_OUTPUT, "output", "dir", "--out", K_PATH, 0, 0, AT(out)},
+    {LT_JOB_OUTPUT, "output", "format", "--format", K_TEXT, 0, 0, AT(format)},
+};
+#undef AT
+#define NRULES (sizeof rules / sizeof rules[0])
+
+/* A refused value: "--flag: 'V' is not ..." or "FILE:LINE: key = 'V' is not ...". */
+static int refuse(const rule *r, const char *value, const char *origin, long line, int from_file,
+                  const char *what, lt_error *err)
+{
+    if (from_file)
+        return lt_error_set(err, LT_EINPUT, origin, line, "%s = '%s' is not %s", r->key, value,
+                            what);
+    return lt_error_set(err, LT_EINPUT, origin, 0, "'%s' is not %s", value, what);
+}
+
+/* NAME=VALUE (a flag) or NAME with value (a file entry) into r's list. */
+static int add_entry(lt_job *j, const rule *r, const char *name, const char *value,
+                     const char *origin, long line, int from_file, lt_error *err)
+{
+    static const char *const forms[] = {"NAME=uniform:LO:HI or NAME=gauss:MEAN:SD",
+                                        "NAME=VALUE", "NAME=MEAN:SD"};
+    int which = !strcmp(r->section, "priors") ? 0 : !strcmp(r->section, "fixed") ? 1 : 2;
+    lt_job_entry *list = which == 0 ? j->priors : which == 1 ? j->fixes : j->measures;
+    size_t *n = which == 0 ? &j->npriors : which == 1 ? &j->nfixes : &j->nmeasures;
+    const char *copy = NULL;
+    if (!from_file) {
+        /* a flag: "NAME=VALUE" split at its first '=' */
+        char *text = (char *)keep(j, strdup(value), err);
+        if (!text)
+            return LT_ENOMEM;
+        char *eq = strchr(text, '=');
+        if (!eq || eq == text)
+            return lt_error_set(err, LT_EINPUT, origin, 0, "'%s' is not %s", value,
+                                forms[which]);
+        *eq = '\0';
+        name = text, copy = eq + 1;
+    } else if (!(copy = keep(j, strdup(value), err)) || !(name = keep(j, strdup(name), err))) {
+        return LT_ENOMEM;
+    }
+    /* a parameter's name is known without a model: say so where it is
+     * written (a measurement's quantity depends on the likelihood's terms,
+     * and is checked there) */
+    if (which < 2 && !lt_param_known(name))
+        return lt_error_set(err, LT_EINPUT, origin, from_file ? line : 0,
+                            "unknown parameter '%s' (parameters: %s)", name,
+                            lt_param_known_list());
+    if (*n == LT_JOB_MAX_ENTRIES)
+        return from_file ? lt_error_set(err, LT_EINPUT, origin, line, "too many entries")
+                         : lt_error_set(err, LT_EINPUT, origin, 0, "given too many times");
+    list[(*n)++] = (lt_job_entry){name, copy, origin, from_file ? line : 0, from_file};
+    return LT_OK;
+}
+
+static int parse_bool(const char *v, int *out)
+{
+    if (!strcmp(v, "true") || !strcmp(v, "yes") || !strcmp(v, "1"))
+        return *out = 1, 0;
+    if (!strcmp(v, "false") || !strcmp(v, "no") || !strcmp(v, "0"))
+        return *out = 0, 0;
+    return -1;
+}
+
+/* Apply one rule. base: the file relative paths are relative to (NULL for
+ * flags). */
+static int apply(lt_job *j, const rule *r, const char *key, const char *value,
+                 const char *origin, long line, int from_file, const char *base, lt_error *err)
+{
+    char *slot = (char *)j + r->off;
+    switch (r->k) {
+    case K_TEXT: {
+        const char *s = keep(j, strdup(value), err);
+        if (!s)
+            return LT_ENOMEM;
+        *(const char **)slot = s;
+        return LT_OK;
+    }
+    case K_PATH: {
+        const char *s = resolve(j, base, value, err);
+        if (!s)
+            return LT_ENOMEM;
+        *(const char **)slot = s;
+        return LT_OK;
+    }
+    case K_COV:
+        if (!from_file) {
+            /* a --cov flag adds to the flags' list, which replaces the file's */
+            if (!j->cov_from_flags)
+                j->data.ncov = 0, j->cov_from_flags = 1;
+            if (j->data.ncov == LT_SURVEY_MAX_COV)
+                return lt_error_set(err, LT_EINPUT, origin, 0, "given more than %d times",
+                                    LT_SURVEY_MAX_COV);
+            const char *s = resolve(j, NULL, value, err);
+            if (!s)
+                return LT_ENOMEM;
+            j->data.cov[j->data.ncov++] = s;
+            return LT_OK;
+        } else {
+            char *list = (char *)keep(j, strdup(value), err), *save = NULL;
+            if (!list)
+                return LT_ENOMEM;
+            j->data.ncov = 0;
+            for (char *p = strtok_r(list, ",", &save); p; p = strtok_r(NULL, ",", &save)) {
+                p = lt_text_trim(p);
+                if (!*p)
+                    continue;
+                if (j->data.ncov == LT_SURVEY_MAX_COV)
+                    return lt_error_set(err, LT_EINPUT, origin, line,
+                                        "cov lists more than %d files", LT_SURVEY_MAX_COV);
+                if (!(j->data.cov[j->data.ncov++] = resolve(j, base, p, err)))
+                    return LT_ENOMEM;
+            }
+            return LT_OK;
+        }
+    case K_BOOL:
+        if (!from_file)
+            return *(int *)slot = 1, LT_OK;
+        if (parse_bool(value, (int *)slot))
+            return refuse(r, value, origin, line, from_file, "true or false", err);
+        return LT_OK;
+    case K_Z:
+        if (lt_parse_double(value, (double *)slot) || *(double *)slot < 0)
+            return refuse(r, value, origin, line, from_file, "a redshift >= 0", err);
+        return LT_OK;
+    case K_LONG: {
+        char what[64];
+        snprintf(what, sizeof what, "a whole number from %ld to %ld", r->lo, r->hi);
+        if (lt_parse_long(value, r->lo, r->hi, (long *)slot))
+            return refuse(r, value, origin, line, from_file, what, err);
+        return LT_OK;
+    }
+    case K_SEED: {
+        long v;
+        if (lt_parse_long(value, 0, 4294967295L, &v))
+            return refuse(r, value, origin, line, from_file, "a seed (0 to 4294967295)", err);
+        *(unsigned long *)slot = (unsigned long)v;
+        return LT_OK;
+    }
+    case K_ESS:
+        if (lt_parse_double(value, (double *)slot) || !(*(double *)slot >= 1))
+            return refuse(r, value, origin, line, from_file, "a number >= 1", err);
+        return LT_OK;
+    case K_ENTRY:
+        return add_entry(j, r, key, value, origin, line, from_file, err);
+    }
+    return LT_OK;
+}
+
+static const rule *find_rule(const char *section, const char *key)
+{
+    for (size_t i = 0; i < NRULES; i++)
+        if (!strcmp(rules[i].section, section) && (!rules[i].key || !strcmp(rules[i].key, key)))
+            return &rules[i];
+    return NULL;
+}
+
+int lt_job_set(lt_job *j, const char *section, const char *key, const char *value,
+               const char *origin, long line, int from_file, lt_error *err)
+{
+    const rule *r = find_rule(section, key);
+    if (!r)
+        return lt_error_set(err, LT_EINPUT, origin, line, "unknown setting %s.%s", section, key);
+    return apply(j, r, key, value, origin, line, from_file, from_file ? origin : NULL, err);
+}
+
+int lt_job_flag_find(const char *flag, unsigned *section, int *takes_value)
+{
+    for (size_t i = 0; i < NRULES; i++)
+        if (rules[i].flag && !strcmp(rules[i].flag, flag)) {
+            if (section)
+                *section = rules[i].section_bit;
+            if (takes_value)
+                *takes_value = rules[i].k != K_BOOL;
+            return 1;
+        }
+    return 0;
+}
+
+int lt_job_flag(lt_job *j, const char *flag, const char *value, lt_error *err)
+{
+    for (size_t i = 0; i < NRULES; i++)
+        if (rules[i].flag && !strcmp(rules[i].flag, flag))
+            return apply(j, &rules[i], NULL, value ? value : "", rules[i].flag, 0, 0, NULL, err);
+    return lt_error_set(err, LT_EINPUT, flag, 0, "not a setting of a run");
+}
+
+/* Section s of ini into j by the rules of section rs (s itself, or
+ * [data.NAME] read as [data]). Paths are relative to ini's file; entries
+ * name it, in a copy j keeps (the caller may free ini first). */
+static int apply_section(lt_job *j, lt_ini *ini, const char *s, const char *rs, lt_error *err)
+{
+    lt_ini_has_section(ini, s);
+    const char *origin = NULL;
+    for (size_t i = 0; i < ini->n; i++) {
+        lt_ini_entry *e = &ini->entries[i];
+        const rule *r = strcmp(e->section, s) ? NULL : find_rule(rs, e->key);
+        if (!r)
+            continue; /* left unused: lt_ini_check_used names it */
+        e->used = 1;
+        if (!origin && !(origin = keep(j, strdup(ini->path), err)))
+            return LT_ENOMEM;
+        int rc = apply(j, r, e->key, e->value, origin, e->line, 1, ini->path, err);
+        if (rc)
+            return rc;
+    }
+    return LT_OK;
+}
+
+int lt_job_apply_ini(lt_job *j, lt_ini *ini, unsigned mask, lt_error *err)
+{
+    /* each section once, in the table's order */
+    for (size_t i = 0; i < NRULES; i++) {
+        if (!(rules[i].section_bit & mask) ||
+            (i > 0 && !strcmp(rules[i - 1].section, rules[i].section)))
+            continue;
+        int rc = apply_section(j, ini, rules[i].section, rules[i].section, err);
+        if (rc)
+            return rc;
+    }
+    return LT_OK;
+}
+
+int lt_job_data_section(lt_job *j, lt_ini *ini, const char *section, lt_survey_spec *spec,
+                        lt_error *err)
+{
+    /* read into j's own spec, then hand it over: the rules write there */
+    lt_survey_spec keep_spec = j->data;
+    int keep_flags = j->cov_from_flags;
+    lt_survey_spec_init(&j->data);
+    int rc = apply_section(j, ini, section, "data", err);
+    *spec = j->data;
+    j->data = keep_spec, j->cov_from_flags = keep_flags;
+    return rc;
+}
+
+/* "--override section.key=value" (flag: what the user typed, for errors):
+ * replace the key's value in ini, or add the key. */
+static int override(lt_ini *ini, const char *flag, const char *text, lt_error *err)
+{
+    const char *dot = strchr(text, '.'), *eq = strchr(text, '=');
+    if (!dot || !eq || dot > eq || dot == text || eq == dot + 1)
+        return lt_error_set(err, LT_EINPUT, flag, 0, "'%s' is not section.key=value", text);
+    char *section = strndup(text, (size_t)(dot - text));
+    char *key = strndup(dot + 1, (size_t)(eq - dot - 1)), *value = strdup(eq + 1);
+    int rc = LT_OK;
+    if (!section || !key || !value) {
+        rc = lt_error_set(err, LT_ENOMEM, flag, 0, "out of memory");
+        goto done;
+    }
+    for (size_t i = 0; i < ini->n; i++)
+        if (!strcmp(ini->entries[i].section, section) && !strcmp(ini->entries[i].key, key)) {
+            free(ini->entries[i].value);
+            ini->entries[i].value = value, value = NULL;
+            ini->entries[i].line = 0;
+            goto done;
+        }
+    /* a new key: its section must exist or is made */
+    const char *sec = NULL;
+    for (size_t i = 0; i < ini->nsections; i++)
+        if (!strcmp(ini->sections[i], section))
+            sec = ini->sections[i];
+    if (!sec) {
+        char **ns = realloc(ini->sections, (ini->nsections + 1) * sizeof *ns);
+        if (ns)
+            ini->sections = ns;
+        long *nl = ns ? realloc(ini->section_lines, (ini->nsections + 1) * sizeof *nl) : NULL;
+        if (nl)
+            ini->section_lines = nl;
+        int *nu = nl ? realloc(ini->section_used, (ini->nsections + 1) * sizeof *nu) : NULL;
+        if (nu)
+            ini->section_used = nu;
+        if (!nu) {
+            rc = lt_error_set(err, LT_ENOMEM, flag, 0, "out of memory");
+            goto done;
+        }
+        ini->sections[ini->nsections] = section;
+        ini->section_lines[ini->nsections] = 0;
+        ini->section_used[ini->nsections] = 0;
+        sec = ini->sections[ini->nsections++];
+        section = NULL;
+    }
+    lt_ini_entry *ne = realloc(ini->entries, (ini->n + 1) * sizeof *ne);
+    if (!ne) {
+        rc = lt_error_set(err, LT_ENOMEM, flag, 0, "out of memory");
+        goto done;
+    }
+    ini->entries = ne;
+    ne[ini->n++] = (lt_ini_entry){(char *)sec, key, value, 0, 0};
+    key = value = NULL;
+done:
+    free(section);
+    free(key);
+    free(value);
+    return rc;
+}
+
+int lt_job_read(lt_job *j, const char *path, const char *const *overrides,
+                const char *const *origins, size_t noverrides, lt_error *err)
+{
+    if (!(j->ini = lt_ini_read(path, err)))
+        return err->code;
+    for (size_t i = 0; i < noverrides; i++) {
+        int rc = override(j->ini, origins[i], overrides[i], err);
+        if (rc)
+            return rc;
+    }
+    int rc = lt_job_apply_ini(j, j->ini, LT_JOB_ALL, err);
+    return rc ? rc : lt_ini_check_used(j->ini, err);
+}
+
+/* ---- the likelihood spec ---- */
+
+/* Where each parameter's prior or fix came from, to tell an override (a
+ * flag after the run file) from a mistake (two from the same place). */
+typedef struct {
+    size_t n;
+    const char *name[2 * LT_JOB_MAX_ENTRIES];
+    int from_file[2 * LT_JOB_MAX_ENTRIES];
+    int prior[2 * LT_JOB_MAX_ENTRIES]; /* 1 prior, 0 fix */
+} seen_list;
+
+static int apply_param(const lt_job_entry *kv, int prior, lt_like_spec *spec, seen_list *seen,
+                       lt_error *err)
+{
+    if (!lt_param_known(kv->name))
+        return lt_error_set(err, LT_EINPUT, kv->origin, kv->line,
+                            "unknown parameter '%s' (parameters: %s)", kv->name,
+                            lt_param_known_list());
+    size_t k = 0;
+    while (k < seen->n && strcmp(seen->name[k], kv->name))
+        k++;
+    if (k < seen->n && seen->from_file[k] == kv->from_file)
+        return seen->prior[k] == prior
+                   ? lt_error_set(err, LT_EINPUT, kv->origin, kv->line, "%s is given twice",
+                                  kv->name)
+                   : lt_error_set(err, LT_EINPUT, kv->origin, kv->line,
+                                  "%s has both a prior and a fixed value; give one", kv->name);
+    if (k == seen->n)
+        seen->n++;
+    seen->name[k] = kv->name, seen->from_file[k] = kv->from_file, seen->prior[k] = prior;
+    int rc;
+    if (prior) {
+        lt_prior p;
+        rc = lt_prior_parse(kv->value, &p, err) || lt_like_spec_prior(spec, kv->name, p, err);
+    } else {
+        double v;
+        if (lt_parse_double(kv->value, &v))
+            return lt_error_set(err, LT_EINPUT, kv->origin, kv->line,
+                                "%s = '%s' is not a finite number", kv->name, kv->value);
+        rc = lt_like_spec_fix(spec, kv->name, v, err);
+    }
+    if (rc)
+        return lt_error_locate(err, LT_EINPUT, kv->origin, kv->line);
+    /* where it came from, for the likelihood's own checks */
+    lt_param_setting *st = (lt_param_setting *)lt_like_spec_setting(spec, kv->name);
+    st->origin = kv->from_file ? kv->origin : NULL, st->line = kv->line;
+    return LT_OK;
+}
+
+/* NAME = MEAN:SD[, MEAN:SD...] (several measurements of one quantity, as a
+ * run file must give them: a key appears once) into spec. */
+static int apply_measure(const lt_job_entry *kv, lt_like_spec *spec, lt_error *err)
+{
+    char *buf = strdup(kv->value);
+    if (!buf)
+        return lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
+    int rc = LT_OK;
+    for (char *item = buf, *next; item && !rc; item = next) {
+        next = strchr(item, ',');
+        if (next)
+            *next++ = '\0';
+        char *colon = strchr(item, ':');
+        double mean, sd;
+        if (colon)
+            *colon = '\0';
+        if (!colon || lt_parse_double(lt_text_trim(item), &mean) ||
+            lt_parse_double(lt_text_trim(colon + 1), &sd)) {
+            rc = lt_error_set(err, LT_EINPUT, kv->origin, kv->line,
+                              "%s = '%s' is not MEAN:SD (or MEAN:SD, MEAN:SD...)", kv->name,
+                              kv->value);
+        } else if (lt_like_spec_measure(spec, kv->name, mean, sd, err)) {
+            /* whether the likelihood has the quantity is its check; the
+             * origin lets its error name the file and line */
+            rc = lt_error_locate(err, LT_EINPUT, kv->origin, kv->line);
+        } else {
+            lt_measurement *m = &spec->measurements[spec->nmeasurements - 1];
+            m->origin = kv->from_file ? kv->origin : NULL, m->line = kv->line;
+        }
+    }
+    free(buf);
+    return rc;
+}
+
+/* Whether entry kv of pass (0 the run file's, 1 the flags') applies to m. */
+static int applies(const lt_job *j, const lt_job_entry *kv, int pass, const lt_cosmo_model *m)
+{
+    return kv->from_file == (pass == 0) &&
+           (!j->lenient || !lt_param_known(kv->name) || lt_param_of_model(m, kv->name));
+}
+
+int lt_job_like_spec(const lt_job *j, const lt_cosmo_model *m, lt_like_spec *spec,
+                     lt_error *err)
+{
+    lt_like_spec_init(spec, m);
+    if (j->offset) {
+        int mode = lt_offset_parse(j->offset);
+        if (mode < 0)
+            return lt_error_set(err, LT_EINPUT, "--offset", 0,
+                                "'%s' is not none, marginal or sampled", j->offset);
+        spec->offset = (lt_offset_mode)mode;
+    }
+    seen_list seen;
+    memset(&seen, 0, sizeof seen);
+    int rc;
+    /* file entries first, flags after: a flag overrides the file */
+    for (int pass = 0; pass < 2; pass++) {
+        for (size_t i = 0; i < j->npriors; i++)
+            if (applies(j, &j->priors[i], pass, m) &&
+                (rc = apply_param(&j->priors[i], 1, spec, &seen, err)))
+                return rc;
+        for (size_t i = 0; i < j->nfixes; i++)
+            if (applies(j, &j->fixes[i], pass, m) &&
+                (rc = apply_param(&j->fixes[i], 0, spec, &seen, err)))
+                return rc;
+    }
+    /* every measurement counts, the run file's and the flags' (two
+     * measurements of one quantity are two terms) */
+    for (size_t i = 0; i < j->nmeasures; i++)
+        if ((rc = apply_measure(&j->measures[i], spec, err)))
+            return rc;
+    return LT_OK;
+}
+
+int lt_job_model_spec(const lt_job *j, lt_like_spec *spec, lt_error *err)
+{
+    if (!j->model)
+        return lt_error_set(err, LT_EINPUT, NULL, 0,
+                            "--model is required (lcdm-flat, lcdm, wcdm-flat, wcdm, w0wa-flat, "
+                            "w0wa)");
+    const lt_cosmo_model *m = lt_cosmo_model_find(j->model);
+    if (!m)
+        return lt_error_set(err, LT_EINPUT, "--model", 0,
+                            "unknown model '%s' (models: lcdm-flat, lcdm, wcdm-flat, wcdm, "
+                            "w0wa-flat, w0wa)",
+                            j->model);
+    return lt_job_like_spec(j, m, spec, err);
+}
+
+int lt_job_survey(const lt_job *j, lt_survey **s, lt_error *err)
+{
+    *s = NULL;
+    if (!j->data.data && j->nmeasures) {
+        /* measurements alone: survey options would be silently lost */
+        const lt_survey_spec *d = &j->data;
+        if (d->columns || d->ncov || d->modes || d->keep_ids || d->drop_ids)
+            return lt_error_set(err, LT_EINPUT, "--data", 0,
+                                "--columns, --cov, --modes and the id lists need a --data "
+                                "file");
+        return LT_OK;
+    }
+    return (*s = lt_survey_read(&j->data, err)) ? LT_OK : err->code;
+}
+
+/* ---- paths and the settings file ---- */
+
+/* An absolute form of a path (FITS extended names keep their suffix), or
+ * NULL (out of memory). */
+static char *absolute(const char *path)
+{
+    if (path[0] == '/')
+        return strdup(path);
+    char *cwd = getcwd(NULL, 0);
+    size_t n = (cwd ? strlen(cwd) : 0) + strlen(path) + 2;
+    char *s = malloc(n);
+    if (s)
+        snprintf(s, n, "%s/%s", cwd ? cwd : "", path);
+    free(cwd);
+    return s;
+}
+
+int lt_job_absolute(lt_job *j, lt_survey_spec *spec, lt_error *err)
+{
+    const char **paths[4 + LT_SURVEY_MAX_COV] = {&spec->data, &spec->modes, &spec->keep_ids,
+                                                 &spec->drop_ids};
+    size_t n = 4;
+    for (size_t i = 0; i < spec->ncov; i++)
+        paths[n++] = &spec->cov[i];
+    for (size_t i = 0; i < n; i++)
+        if (*paths[i] && (*paths[i])[0] != '/' && !(*paths[i] = keep(j, absolute(*paths[i]), err)))
+            return LT_ENOMEM;
+    return LT_OK;
+}
+
+/* A growing text. */
+typedef struct {
+    char *t;
+    size_t len, cap;
+    int failed;
+} text;
+
+static void add(text *b, const char *fmt, ...) __attribute__((format(printf, 2, 3)));
+static void add(text *b, const char *fmt, ...)
+{
+    for (;;) {
+        va_list ap;
+        va_start(ap, fmt);
+        int n = b->failed ? 0 : vsnprintf(b->t + b->len, b->cap - b->len, fmt, ap);
+        va_end(ap);
+        if (b->failed || (size_t)n < b->cap - b->len) {
+            b->len += b->failed ? 0 : (size_t)n;
+            return;
+        }
+        char *t = realloc(b->t, 2 * b->cap + (size_t)n);
+        if (!t) {
+            b->failed = 1;
+            return;
+        }
+        b->t = t, b->cap = 2 * b->cap + (size_t)n;
+    }
+}
+
+static void add_path(text *b, const char *key, const char *path)
+{
+    char *p = absolute(path);
+    if (!p)
+        b->failed = 1;
+    else
+        add(b, "%s = %s\n", key, p);
+    free(p);
+}
+
+/* j's priors (prior 1) or fixed values (0) as they finally stand, for a
+ * job of several models: a parameter's last entry (the file's, then the
+ * flags') decides whether it has a prior or a value, and which. */
+static void add_final(text *b, const lt_job *j, int prior)
+{
+    const lt_job_entry *all[2 * LT_JOB_MAX_ENTRIES];
+    int is_prior[2 * LT_JOB_MAX_ENTRIES];
+    size_t n = 0;
+    for (int pass = 0; pass < 2; pass++)
+        for (int pr = 1; pr >= 0; pr--) {
+            const lt_job_entry *list = pr ? j->priors : j->fixes;
+            size_t m = pr ? j->npriors : j->nfixes;
+            for (size_t i = 0; i < m; i++) {
+                if (list[i].from_file != (pass == 0))
+                    continue;
+                size_t k = 0;
+                while (k < n && strcmp(all[k]->name, list[i].name))
+                    k++;
+                all[k] = &list[i], is_prior[k] = pr;
+                n += k == n;
+            }
+        }
+    for (size_t k = 0; k < n; k++)
+        if (is_prior[k] == prior)
+            add(b, "%s = %s\n", all[k]->name, all[k]->value);
+}
+
+int lt_job_write(const lt_job *j, const lt_like_spec *spec, const char *path, lt_error *err)
+{
+    text b = {malloc(4096), 0, 4096, 0};
+    if (!b.t)
+        return lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
+    char x[32], y[32];
+    add(&b, "# written by lantern %s: the settings of this run, read by --resume\n", LT_VERSION);
+    add(&b, "[run]\n");
+    if (j->name)
+        add(&b, "name = %s\n", j->name);
+    if (j->models)
+        add(&b, "models = %s\n", j->models);
+    add(&b, "[data]\n");
+    if (j->data.data) /* none for measurements alone */
+        add_path(&b, "file", j->data.data);
+    if (j->data.columns)
+        add(&b, "columns = %s\n", j->data.columns);
+    if (j->data.ncov) {
+        add(&b, "cov = ");
+        for (size_t i = 0; i < j->data.ncov; i++) {
+            char *p = absolute(j->data.cov[i]);
+            add(&b, "%s%s", i ? ", " : "", p ? p : "");
+            b.failed |= !p;
+            free(p);
+        }
+        add(&b, "\n");
+    }
+    if (j->data.modes)
+        add_path(&b, "modes", j->data.modes);
+    add(&b, "no_err_diag = %s\n", j->data.no_err_diag ? "true" : "false");
+    if (!isnan(j->data.zmin))
+        lt_format_double(j->data.zmin, x, sizeof x), add(&b, "zmin = %s\n", x);
+    if (!isnan(j->data.zmax))
+        lt_format_double(j->data.zmax, x, sizeof x), add(&b, "zmax = %s\n", x);
+    if (j->data.keep_ids)
+        add_path(&b, "keep_ids", j->data.keep_ids);
+    if (j->data.drop_ids)
+        add_path(&b, "drop_ids", j->data.drop_ids);
+    if (j->model)
+        add(&b, "[model]\nname = %s\n", j->model);
+    else
+        add(&b, "[model]\n");
+    if (j->offset)
+        add(&b, "offset = %s\n", j->offset);
+    /* priors and fixes as they finally stand (flags over the file): from
+     * the spec, or for several models (spec NULL) from j's entries */
+    add(&b, "[priors]\n");
+    for (size_t k = 0; spec && k < spec->nsettings; k++) {
+        const lt_param_setting *st = &spec->settings[k];
+        lt_format_double(st->prior.a, x, sizeof x);
+        lt_format_double(st->prior.b, y, sizeof y);
+        if (!st->fixed)
+            add(&b, "%s = %s:%s:%s\n", st->name,
+                st->prior.kind == LT_PRIOR_UNIFORM ? "uniform" : "gauss", x, y);
+    }
+    if (!spec)
+        add_final(&b, j, 1);
+    add(&b, "[fixed]\n");
+    for (size_t k = 0; spec && k < spec->nsettings; k++) {
+        lt_format_double(spec->settings[k].value, x, sizeof x);
+        if (spec->settings[k].fixed)
+            add(&b, "%s = %s\n", spec->settings[k].name, x);
+    }
+    if (!spec)
+        add_final(&b, j, 0);
+    /* one line a quantity (a key appears once in a run file), its
+     * measurements in the order given */
+    add(&b, "[measurements]\n");
+    if (spec)
+        for (size_t k = 0; k < spec->nmeasurements; k++) {
+            const char *name = spec->measurements[k].name;
+            size_t first = 0;
+            while (strcmp(spec->measurements[first].name, name))
+                first++;
+            if (first < k)
+                continue; /* written with the first of its name */
+            add(&b, "%s = ", name);
+            for (size_t q = k; q < spec->nmeasurements; q++) {
+                if (strcmp(spec->measurements[q].name, name))
+                    continue;
+                lt_format_double(spec->measurements[q].mean, x, sizeof x);
+                lt_format_double(spec->measurements[q].sd, y, sizeof y);
+                add(&b, "%s%s:%s", q == k ? "" : ", ", x, y);
+            }
+            add(&b, "\n");
+        }
+    else
+        for (size_t k = 0; k < j->nmeasures; k++) {
+            const char *name = j->measures[k].name;
+            size_t first = 0;
+            while (strcmp(j->measures[first].name, name))
+                first++;
+            if (first < k)
+                continue;
+            add(&b, "%s = ", name);
+            for (size_t q = k; q < j->nmeasures; q++)
+                if (!strcmp(j->measures[q].name, name))
+                    add(&b, "%s%s", q == k ? "" : ", ", j->measures[q].value);
+            add(&b, "\n");
+        }
+    add(&b, "[fit]\nstarts = %ld\n", j->starts);
+    add(&b,
+        "[sampler]\nseed = %lu\nchains = %ld\nthreads = %ld\nwarmup = %ld\ncheck_every = %ld\n"
+        "max_steps = %ld\n",
+        j->seed, j->chains, j->threads, j->warmup, j->check_every, j->max_steps);
+    lt_format_double(j->target_ess, x, sizeof x);
+    add(&b, "target_ess = %s\n[nested]\nlive_points = %ld\n", x, j->live_points);
+    int rc = b.failed ? lt_error_set(err, LT_ENOMEM, path, 0, "out of memory")
+                      : lt_file_write_text(path, b.t, err);
+    free(b.t);
+    return rc;
+}
