@@ -9,6 +9,7 @@
 #include <signal.h>
 #include <stdio.h>
 
+#include "help.h"
 #include "lantern/lantern.h"
 
 /* Exit status (DESIGN.md). */
@@ -65,8 +66,6 @@ int cli_parse_format(const char *text, unsigned allowed, cli_format *out);
 /* The DATA options (DESIGN.md): if the current argument is one, take it
  * into spec and return 1 (a->failed is set for a bad value). */
 int cli_take_data(cli_args *a, lt_survey_spec *spec);
-/* Their --help text. */
-extern const char *cli_data_help;
 /* Print the survey's warnings to stderr. */
 void cli_print_warnings(const lt_survey *s);
 
@@ -127,8 +126,6 @@ int cli_job_like_spec(const cli_job *j, const lt_cosmo_model *m, lt_like_spec *s
 /* The model of j (required) and its likelihood spec; prints any error and
  * returns the exit status. */
 int cli_job_model(const cli_job *j, const char *command, lt_like_spec *spec);
-/* The help text of the MODEL options. */
-extern const char *cli_model_help;
 
 /* The whole command line: set-up, then the command argv[1]. */
 int cli_main(int argc, char **argv);
