@@ -14,12 +14,13 @@
 # whole of NAME.txt, a file of the same folder that is itself one of the
 # FILE arguments (so that make, which passes them all, rebuilds OUT.c when it
 # changes). That is how several commands share one text (the DATA and MODEL
-# options) and each command's file still reads whole. Includes may nest, at
-# most 8 deep; no other line is special.
+# options) and each command's file still reads whole. Includes may nest, but
+# not loop; no other line is special.
 #
 # A file must end with a newline (an editor's normal file) and must not be
 # empty: both are refused, naming the file, as is an include of a file that
-# is not given, naming file and line. OUT.c is written only on success.
+# is not given or that includes itself, naming file and line. OUT.c is
+# written only on success.
 #
 # C escapes: backslash and double quote are escaped; '?' after '?' is
 # written '\?' so that no trigraph (-std=c17 reads them) can form; tab and
@@ -47,7 +48,6 @@ trap 'rm -f "$tmp"' EXIT
 awk -v prefix="$prefix" -v header="$header" '
 function fail(msg) {
     print "embed-text.sh: " msg >"/dev/stderr"
-    failed = 1
     exit 1
 }
 function cname(path,    base) {
@@ -77,9 +77,10 @@ function escape(s,    out, i, c, prev) {
     return out
 }
 # Print the lines of path as C string literals, expanding @include lines.
-function emit(path, depth,    line, n, name, target, rc) {
-    if (depth > 8)
-        fail(path ": @include nested more than 8 deep (a loop?)")
+# A file being read is in reading[]: including it again would be a loop (and
+# awk would go on reading its one stream of that file, never ending).
+function emit(path,    line, n, name, target, rc) {
+    reading[path] = 1
     n = 0
     while ((rc = getline line <path) > 0) {
         n++
@@ -90,7 +91,9 @@ function emit(path, depth,    line, n, name, target, rc) {
             target = target name
             if (!(target in given))
                 fail(path ":" n ": @include " name ": not one of the embedded files")
-            emit(target, depth + 1)
+            if (target in reading)
+                fail(path ":" n ": @include " name ": a loop (that file is being read already)")
+            emit(target)
         } else {
             print "    \"" escape(line) "\\n\""
         }
@@ -98,6 +101,7 @@ function emit(path, depth,    line, n, name, target, rc) {
     if (rc < 0)
         fail(path ": cannot be read")
     close(path)
+    delete reading[path]
 }
 BEGIN {
     for (i = 1; i < ARGC; i++)
@@ -108,7 +112,7 @@ BEGIN {
         print ""
         print "/* " ARGV[i] " */"
         print "const char " cname(ARGV[i]) "[] ="
-        emit(ARGV[i], 0)
+        emit(ARGV[i])
         print "    ;"
     }
     exit 0
