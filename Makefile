@@ -36,7 +36,11 @@ BINDIR ?= bin
 LIB_SRC := $(wildcard src/util/*.c src/cosmology/*.c src/survey/*.c src/simulate/*.c src/likelihood/*.c src/inference/*.c src/pipeline/*.c src/report/*.c src/campaign/*.c)
 CLI_SRC := $(wildcard src/cli/*.c)
 LIB_OBJ := $(LIB_SRC:%.c=$(BUILD)/%.o)
-CLI_OBJ := $(CLI_SRC:%.c=$(BUILD)/%.o)
+# The command line's help texts (src/cli/help/*.txt, plain text as printed)
+# become one generated C file, $(BUILD)/gen/help.c (scripts/embed-text.sh).
+HELP_TXT := $(sort $(wildcard src/cli/help/*.txt))
+HELP_OBJ := $(BUILD)/gen/help.o
+CLI_OBJ := $(CLI_SRC:%.c=$(BUILD)/%.o) $(HELP_OBJ)
 HEADERS := $(wildcard include/lantern/*.h src/*/*.h)
 
 TEST_SRC := $(wildcard tests/unit/test_*.c tests/reference/test_*.c)
@@ -66,6 +70,15 @@ $(BUILD)/%.o: %.c $(HEADERS) | check-pkgs
 	@mkdir -p $(dir $@)
 	@$(if $(Q),echo "  CC      $<")
 	$(Q)$(CC) $(ALL_CFLAGS) -c $< -o $@
+
+$(BUILD)/gen/help.c: $(HELP_TXT) scripts/embed-text.sh
+	@mkdir -p $(dir $@)
+	@$(if $(Q),echo "  GEN     $@")
+	$(Q)sh scripts/embed-text.sh $@ cli_help_ help.h $(HELP_TXT)
+
+$(HELP_OBJ): $(BUILD)/gen/help.c src/cli/help.h | check-pkgs
+	@$(if $(Q),echo "  CC      $<")
+	$(Q)$(CC) $(ALL_CFLAGS) -Isrc/cli -c $< -o $@
 
 $(LIB): $(LIB_OBJ)
 	@mkdir -p $(dir $@)

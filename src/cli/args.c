@@ -108,3 +108,9 @@ int cli_parse_format(const char *text, unsigned allowed, cli_format *out)
     return cli_usage_error("--format", "'%s' is not one of %s", text, list);
 }
 
+
+void cli_print_warnings(const lt_survey *s)
+{
+    for (size_t i = 0; s && i < s->nwarnings; i++)
+        fprintf(stderr, "lantern: warning: %s\n", s->warnings[i]);
+}

@@ -9,6 +9,7 @@
 #include <signal.h>
 #include <stdio.h>
 
+#include "help.h"
 #include "lantern/lantern.h"
 
 /* Exit status (DESIGN.md). */
@@ -62,8 +63,6 @@ typedef enum { CLI_TABLE, CLI_CSV, CLI_JSON } cli_format;
  * any other text is reported as a usage error naming the allowed ones. */
 int cli_parse_format(const char *text, unsigned allowed, cli_format *out);
 
-/* Their --help text. */
-extern const char *cli_data_help;
 /* Print the survey's warnings to stderr. */
 void cli_print_warnings(const lt_survey *s);
 
@@ -82,8 +81,6 @@ int cli_job_model(const lt_job *j, lt_like_spec *spec);
  * stdout in format. Returns the exit status. */
 int cli_sample_model(lt_job *j, lt_like *l, const lt_like_spec *spec, const char *out,
                      int resume, int print, cli_format format);
-/* The help text of the MODEL options. */
-extern const char *cli_model_help;
 
 /* The whole command line: set-up, then the command argv[1]. */
 int cli_main(int argc, char **argv);

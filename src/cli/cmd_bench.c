@@ -23,19 +23,7 @@ static double now(void)
 
 static void usage(FILE *f)
 {
-    fputs("usage: lantern bench DATA MODEL [--evals N] [--exact] [--format table|json]\n"
-          "\n"
-          "Time the likelihood on this data: evaluations per second (one thread) of the\n"
-          "compressed path, or of the exact N-object path with --exact; the set-up time\n"
-          "(reading, factorising, compressing); the peak memory; and the largest\n"
-          "|chi2_compressed - chi2_exact| over 200 draws from the best fit's Laplace\n"
-          "posterior widened three times, kept where chi2 - chi2_min < 50.\n"
-          "JSON fields: evals_per_s, setup_s, peak_rss_mb, max_abs_dchi2, n_data, knots.\n"
-          "\n",
-          f);
-    fputs(cli_data_help, f);
-    fputs("\n", f);
-    fputs(cli_model_help, f);
+    fputs(cli_help_bench, f);
 }
 
 int cli_bench(int argc, char **argv)

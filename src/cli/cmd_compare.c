@@ -21,47 +21,7 @@
 
 static void usage(FILE *f)
 {
-    fputs("usage: lantern compare [RUN.ini] DATA --models M1,M2,... [--prior ...]... [--fix ...]...\n"
-          "                       [--live-points N] [--seed S] [--threads T] [--out DIR] [--force]\n"
-          "                       [--resume DIR] [--format table|json]\n"
-          "\n"
-          "Compare models on one survey: for each, the best fit (chi2_min, AIC = chi2_min + 2k,\n"
-          "BIC = chi2_min + k ln N, with k the free parameters and a marginalised offset\n"
-          "counted), and nested sampling (Skilling 2004, 2006; ellipsoidal rejection after\n"
-          "Mukherjee, Parkinson & Liddle 2006) for the evidence ln Z +- its error\n"
-          "sqrt(H/N_live), DIC = D_mean + p_V with p_V = var(D)/2 (Gelman et al. 2013,\n"
-          "Bayesian Data Analysis, 3rd ed., sec. 7.2; warned about when |p_V - k| >\n"
-          "max(1, k/2) for k sampled parameters) from its posterior draws, and ln B against the first model with its reading on the scale of Kass &\n"
-          "Raftery 1995 (on 2 ln B: below 2 not worth more than a bare mention, 2-6\n"
-          "positive, 6-10 strong, above 10 very strong).\n"
-          "\n"
-          "The evidence depends on the prior volume: the priors are printed with the table,\n"
-          "and a posterior whose density at an edge of a uniform prior is above 10% of its\n"
-          "peak (a kernel estimate reflected at the edge) is warned about. A --prior or --fix\n"
-          "applies to every compared model that has the parameter. For mag data with the\n"
-          "offset marginalised, ln Z is that of a flat offset prior of unit width (1 mag), the\n"
-          "same for every model; do not mix it in one Bayes factor with a sampled offset.\n"
-          "\n",
-          f);
-    fputs(cli_data_help, f);
-    fputs("\n", f);
-    fputs(cli_model_help, f);
-    fputs("\ncompare:\n"
-          "  --models M1,M2,...  the models, the first being the reference\n"
-          "  --live-points N     live points [1000]\n"
-          "  --threads T         threads: the models run side by side, one per thread (a\n"
-          "                      model's nested run shares its batches of candidates out\n"
-          "                      only when its likelihood is slow, 10 ms a batch of 8); 0\n"
-          "                      (the default): OpenMP's choice, OMP_NUM_THREADS if set,\n"
-          "                      else one per core. Results do not depend on it\n"
-          "  --seed S, --format table|json, --out DIR (summary.json and nested_MODEL.csv\n"
-          "                      with the weighted posterior draws), --force\n"
-          "  --resume DIR        continue a comparison stopped by Ctrl-C, SIGTERM or SIGHUP:\n"
-          "                      give the same options again, with --resume DIR instead of\n"
-          "                      --out DIR; each model's checkpoint in DIR/checkpoint/ is\n"
-          "                      continued (finished models are not redone) and refused if\n"
-          "                      its data, model, priors, seed or live points differ\n",
-          f);
+    fputs(cli_help_compare, f);
 }
 
 const char *cli_kass_raftery(double two_ln_b)

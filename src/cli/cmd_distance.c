@@ -24,52 +24,12 @@ static const int col_decimals[NCOL] = {4, 3, 3, 3, 3, 4, 4, 4, 3};
 
 static void usage(FILE *f)
 {
-    fputs("usage: lantern distance --model M [--set k=v[,k=v...]]\n"
-          "                        (--z LIST | --z-range LO:HI:N[:log])\n"
-          "                        [--format table|csv|json]\n"
-          "\n"
-          "Distances, times and the expansion rate of one cosmological model at\n"
-          "the given redshifts, in the order given.\n"
-          "\n"
-          "options:\n"
-          "  --model M        the model, one of:\n",
-          f);
+    fputs(cli_help_distance, f);
     for (size_t i = 0; i < lt_cosmo_model_count(); i++) {
         const lt_cosmo_model *m = lt_cosmo_model_at(i);
         fprintf(f, "                     %-10s %s\n", m->name, m->summary);
     }
-    fputs("  --set k=v,...    parameter values (may be repeated); defaults in brackets:\n"
-          "                     h0        Hubble constant, km/s/Mpc [70]\n"
-          "                     omega_m   matter density fraction today [0.3]\n"
-          "                     omega_de  dark-energy density fraction today, curved\n"
-          "                               models only [0.7]; flat models derive it as\n"
-          "                               1 - omega_m - omega_r\n"
-          "                     w0        dark-energy equation of state today [-1]\n"
-          "                     wa        w(a) = w0 + wa (1 - a), w0wa models only [0]\n"
-          "                     t_cmb     CMB temperature in K; radiation (photons and\n"
-          "                               massless neutrinos) is off unless set [0]\n"
-          "                     n_eff     effective number of neutrino species [3.046]\n"
-          "                   omega_* are density fractions, not omega h^2; omega_k is\n"
-          "                   derived: 1 - omega_m - omega_de - omega_r.\n"
-          "  --z LIST         comma-separated redshifts, each >= 0\n"
-          "  --z-range LO:HI:N[:log]\n"
-          "                   N redshifts from LO to HI inclusive, evenly spaced\n"
-          "                   (or evenly in log z with ':log', which needs LO > 0)\n"
-          "  --format F       table (default), csv or json\n"
-          "  --help           this text\n"
-          "\n"
-          "Columns (csv names): z, comoving_mpc (line-of-sight comoving distance),\n"
-          "transverse_mpc (transverse comoving distance), luminosity_mpc,\n"
-          "angular_mpc (angular-diameter distance), distmod (distance modulus,\n"
-          "mag), lookback_gyr, age_gyr (age of the universe at z), hubble_km_s_mpc.\n"
-          "An infinite age (de Sitter) is printed as inf (csv, table) or null (json);\n"
-          "so is the distance modulus at z = 0 (-inf, null).\n"
-          "\n"
-          "example:\n"
-          "  lantern distance --model w0wa --set h0=70,omega_m=0.3,omega_de=0.65,"
-          "w0=-0.9,wa=0.3 \\\n"
-          "      --z 0.1,0.5,1,2 --format csv\n",
-          f);
+    fputs(cli_help_distance_tail, f);
 }
 
 /* Redshifts from "--z 0.1,0.5,1". */

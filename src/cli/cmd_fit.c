@@ -9,62 +9,9 @@
 #include "cli.h"
 #include "lantern/report.h"
 
-const char *cli_model_help =
-    "model:\n"
-    "  --model NAME        lcdm-flat, lcdm, wcdm-flat, wcdm, w0wa-flat or w0wa\n"
-    "  --prior NAME=uniform:LO:HI | NAME=gauss:MEAN:SD   (repeatable)\n"
-    "                      defaults: omega_m U(0,1), omega_de U(0,1.6), w0 U(-2,0),\n"
-    "                      wa U(-3,2), h0 U(40,100), offset U(-21,-17) for mag data\n"
-    "                      and U(-2,2) for mu data\n"
-    "  --fix NAME=VALUE    hold a parameter (repeatable); t_cmb (radiation, off by\n"
-    "                      default) and n_eff can only be fixed\n"
-    "  --offset MODE       marginal (the default for mag data: the absolute magnitude\n"
-    "                      is integrated out with a flat prior and h0 is held at 70),\n"
-    "                      sampled (a fitted parameter; a --prior on offset implies it,\n"
-    "                      and frees h0), or none (the default for mu and dl data)\n"
-    "  --measure NAME=MEAN:SD  a Gaussian measurement of a parameter or derived\n"
-    "                      quantity (omega_k, omega_de, q0, z_t, age_gyr), added to\n"
-    "                      chi2 (repeatable; run file: [measurements] NAME = MEAN:SD),\n"
-    "                      e.g. h0=73.04:1.04 or omega_k=0.001:0.002. --data may then be\n"
-    "                      left out. h0 is free whenever a measurement depends on it;\n"
-    "                      a model without the quantity shows it its fixed value\n"
-    "                      (omega_k = 0 when flat, w0 = -1 in LCDM)\n"
-    "omega_* are density fractions today (Omega_m, not Omega_m h^2).\n";
-
 static void usage(FILE *f)
 {
-    fputs("usage: lantern fit [RUN.ini] DATA MODEL [--seed S] [--starts N]\n"
-          "                   [--format table|json] [--out DIR] [--force]\n"
-          "\n"
-          "The best fit (maximum posterior) of a model to a survey: GSL's Nelder-Mead\n"
-          "simplex from several seeded starts inside the prior, then a BFGS polish;\n"
-          "errors from the Hessian (Laplace approximation); chi2, degrees of freedom,\n"
-          "the chi2 probability, AIC and BIC; derived omega_k or omega_de, q0, z_t\n"
-          "(deceleration to acceleration), w at the pivot for w0-wa models, and the\n"
-          "age when h0 is known.\n"
-          "\n",
-          f);
-    fputs(cli_data_help, f);
-    fputs("\n", f);
-    fputs(cli_model_help, f);
-    fputs("\nfit:\n"
-          "  --seed S            seed of the random starts [1]\n"
-          "  --starts N          number of starts [8]\n"
-          "  --format F          table (default) or json\n"
-          "  --out DIR           also write DIR/summary.json and DIR/residuals.csv\n"
-          "                      (id,z,zhel,observed,model,residual,pull)\n"
-          "  --force             replace an earlier lantern output in DIR\n"
-          "  --help              this text\n"
-          "\n"
-          "RUN.ini, if given first, supplies any of these; flags override it. Sections:\n"
-          "  [run] name; [data] file, columns, cov (comma-separated), modes,\n"
-          "  no_err_diag, zmin, zmax, keep_ids, drop_ids; [model] name, offset;\n"
-          "  [priors] NAME = uniform:LO:HI; [fixed] NAME = VALUE; [measurements]\n"
-          "  NAME = MEAN:SD; [fit] starts, seed;\n"
-          "  [output] dir, format. Paths are relative to the run file's folder.\n"
-          "\n"
-          "exit status: 0 done, 2 bad input, 3 the optimiser did not converge\n",
-          f);
+    fputs(cli_help_fit, f);
 }
 
 int cli_fit(int argc, char **argv)

@@ -12,36 +12,7 @@
 
 static void usage(FILE *f)
 {
-    fputs("usage: lantern forecast SCENARIO.ini [--model NAME] [--format table|json] [--exact]\n"
-          "                        [--out DIR] [--force]\n"
-          "\n"
-          "Forecast the constraints of a survey design. The scenario (the file lantern\n"
-          "simulate reads) is simulated without noise, so every object sits at its true\n"
-          "value with the design's errors and covariance; the Fisher matrix is then\n"
-          "F = (1/2) d2 chi2 / dtheta_i dtheta_j at the scenario's parameters, by central\n"
-          "differences of the likelihood (the compressed one where it applies), with\n"
-          "the offset marginalised as in a fit. Gaussian priors add 1/sd^2; uniform\n"
-          "priors add nothing (a Fisher forecast knows no edges). Printed: each\n"
-          "parameter's marginal error sqrt((F^-1)_ii) and its error with the others\n"
-          "fixed, 1/sqrt(F_ii); the correlations; and for w0-wa models the figure of\n"
-          "merit of the Dark Energy Task Force (Albrecht et al. 2006),\n"
-          "FoM = 1 / sqrt(det Cov(w0, wa)), the normalisation stated by Albrecht et al.\n"
-          "2009 (arXiv:0901.0721), with the pivot redshift and sigma(w_pivot).\n"
-          "\n"
-          "options:\n"
-          "  --model NAME   the model to forecast [the scenario's, or [forecast] model]\n"
-          "  --format F     table or json [table]\n"
-          "  --exact        differentiate the exact likelihood (every object), not the\n"
-          "                 compressed one\n"
-          "  --out DIR      also write DIR/summary.json and the 68% and 95% ellipse of\n"
-          "                 w0-wa (or of the first two parameters): ellipse_X_Y.{png,pdf}\n"
-          "  --force        replace an earlier lantern output in DIR\n"
-          "\n"
-          "the scenario file may add:\n"
-          "  [forecast]  model = NAME, offset = none | marginal | sampled\n"
-          "  [priors]    PARAM = uniform:LO:HI | gauss:MEAN:SD\n"
-          "  [fixed]     PARAM = VALUE\n",
-          f);
+    fputs(cli_help_forecast, f);
 }
 
 /* The prior the user gave name, or NULL. */

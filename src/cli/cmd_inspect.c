@@ -14,25 +14,7 @@
 
 static void usage(FILE *f)
 {
-    fputs("usage: lantern inspect --data FILE --columns ROLE=NAME,... [--cov FILE]...\n"
-          "                       [--modes FILE] [--no-err-diag] [--zmin X] [--zmax X]\n"
-          "                       [--keep-ids FILE] [--drop-ids FILE] [--format table|json]\n"
-          "\n"
-          "Read a survey exactly as a fit would (every check included) and describe\n"
-          "it: the number of objects, the redshift range and histogram, error\n"
-          "statistics, the observable, the covariance (kind, positive definiteness,\n"
-          "condition number, smallest eigenvalue) and warnings. A covariance that is\n"
-          "not positive definite stops it with status 2.\n"
-          "\n",
-          f);
-    fputs(cli_data_help, f);
-    fputs("\noutput:\n"
-          "  --format F          table (default) or json\n"
-          "  --help              this text\n"
-          "\nexample:\n"
-          "  lantern inspect --data lcparam_DS17f.txt --columns z=zcmb,zhel=zhel,mag=mb,err=dmb \\\n"
-          "      --cov sys_DS17f.txt\n",
-          f);
+    fputs(cli_help_inspect, f);
 }
 
 static void print_json(const lt_survey_spec *spec, const lt_survey *s,

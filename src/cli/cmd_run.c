@@ -19,47 +19,7 @@
 
 static void usage_run(FILE *f)
 {
-    fputs("usage: lantern run RUN.ini [--out DIR] [--force] [--resume DIR] [--threads T]\n"
-          "                   [--override section.key=value]... [--quiet|--verbose]\n"
-          "\n"
-          "The whole job: reads the data once; for each model of [run] models, the best\n"
-          "fit and the posterior (as lantern sample); then the comparison (chi2_min, dof,\n"
-          "AIC, BIC) and the report in DIR (default out/NAME, NAME from [run] name or the\n"
-          "run file's name):\n"
-          "  summary.json                 every model and the comparison\n"
-          "  constraints.md, .tex, .csv   medians and 68% intervals (PDG rounding), or 95%\n"
-          "                               limits where a posterior piles against a prior\n"
-          "                               edge; marked: an interval that reaches a prior edge\n"
-          "                               (density there > 10% of the peak), a model that did\n"
-          "                               not converge\n"
-          "  hubble.png, .pdf             the data, each model's best fit, residuals\n"
-          "  posterior_MODEL.png, .pdf    1-D marginals and 68/95% regions\n"
-          "  plane_MODEL.png, .pdf        Omega_m-Omega_de (curved) or w0-wa (w0-wa) plane\n"
-          "  traces_MODEL.png             the chains\n"
-          "  MODEL/                       the model's summary, chains and checkpoint\n"
-          "\n"
-          "options:\n"
-          "  --out DIR       the report folder\n"
-          "  --force         replace an earlier lantern output in DIR\n"
-          "  --resume DIR    continue a stopped run: finished models are kept, a model\n"
-          "                  with a checkpoint continues from it\n"
-          "  --threads T     OpenMP threads for the chains and the evidence; 0 (the\n"
-          "                  default) means OpenMP's choice: OMP_NUM_THREADS if set, else\n"
-          "                  one per core. Over [sampler] threads; results do not depend\n"
-          "                  on it\n"
-          "  --override s.k=v  replace (or add) a run-file key, e.g.\n"
-          "                  --override sampler.target_ess=2000 (--set, its old name, is\n"
-          "                  accepted for one release, with a warning)\n"
-          "  --quiet, --verbose\n"
-          "\n"
-          "The run file is that of 'lantern fit --help' and 'lantern sample --help', with\n"
-          "[run] models = M1, M2, ... A prior or fixed value applies to every model that\n"
-          "has the parameter; a measurement ([measurements] NAME = MEAN:SD) applies to\n"
-          "every model, and a run file with measurements may leave out [data] file.\n"
-          "\n"
-          "exit status: 0 done, 1 interrupted or failed, 2 bad input, 3 a model did not\n"
-          "converge\n",
-          f);
+    fputs(cli_help_run, f);
 }
 
 /* Put "evidence": {ln_z, ln_z_err, ...} into dir/summary.json. */
@@ -474,19 +434,7 @@ done:
 /* ---- lantern report ---- */
 static void usage_report(FILE *f)
 {
-    fputs("usage: lantern report RUNDIR... [--out DIR] [--force]\n"
-          "\n"
-          "Rebuild the tables, figures and summary of saved runs (folders written by\n"
-          "lantern run) from their chains. With one run the report is rebuilt in place\n"
-          "unless --out says where; several runs (for example SN only and SN + a prior)\n"
-          "go into one table and one set of figures in --out, each model labelled\n"
-          "'RUN: MODEL'; models of one name share a posterior and a plane figure, overlaid\n"
-          "with a legend naming the runs. AIC, BIC and ln B differences are left blank for\n"
-          "models fitted to other data than the first (a footnote says so). The Hubble\n"
-          "diagram uses the first run's data. Importance-weighted chains (a weight column)\n"
-          "are quoted, drawn and contoured with their weights. Exit status 3 if a model did\n"
-          "not converge.\n",
-          f);
+    fputs(cli_help_report, f);
 }
 
 int cli_report_runs(int argc, char **argv)

@@ -19,60 +19,7 @@
 
 static void usage(FILE *f)
 {
-    fputs("usage: lantern sample [RUN.ini] DATA MODEL SAMPLER [--out DIR] [--force]\n"
-          "                      [--format table|json] [--quiet|--verbose]\n"
-          "       lantern sample --resume DIR [--format table|json] [--quiet|--verbose]\n"
-          "\n"
-          "The posterior by adaptive Metropolis (Haario, Saksman & Tamminen 2001) with\n"
-          "delayed rejection (a refused proposal is followed by one a fifth as wide;\n"
-          "Tierney & Mira 1999): chains start over-dispersed around the best fit, adapt\n"
-          "their proposal during warm-up, then freeze it, and run in parallel threads.\n"
-          "Convergence is checked every --check-every steps (every 10% of the run once\n"
-          "that is longer, or straight to where the ESS should reach its target): every\n"
-          "parameter needs rank-normalised split R-hat - 1 < 0.01 and bulk and tail ESS\n"
-          "of at least --target-ess (Vehtari et al. 2021). The same seed gives the same\n"
-          "chains with any number of threads and after a resume.\n"
-          "\n"
-          "After sampling, some kept draws are evaluated by the exact likelihood: where\n"
-          "the compressed one is off by more than 1e-3 in chi2 there, it gets more knots\n"
-          "and the chains are drawn again; where more knots do not help, a thinned set of\n"
-          "the draws is weighted by exp(-delta chi2 / 2) from the exact likelihood (a\n"
-          "'weight' column in the chain files, R-hat null, an importance-sampling ESS).\n"
-          "\n",
-          f);
-    fputs(cli_data_help, f);
-    fputs("\n", f);
-    fputs(cli_model_help, f);
-    fputs("\nsampler:\n"
-          "  --chains N          chains [4]\n"
-          "  --seed S            seed; chain c uses the stream (S, c) [1]\n"
-          "  --threads T         OpenMP threads for the chains; 0 (the default): OpenMP's\n"
-          "                      choice, OMP_NUM_THREADS if set, else one per core\n"
-          "  --target-ess N      ESS every parameter needs [1000]\n"
-          "  --max-steps N       kept steps per chain at most [200000]; reaching it ends\n"
-          "                      the run with exit status 3 and \"converged\": false\n"
-          "  --warmup N          adaptation steps per chain [max(2000, 1000 x dimension)]\n"
-          "  --check-every N     kept steps per chain between checks [1000]\n"
-          "\noutput:\n"
-          "  --out DIR           DIR/summary.json, chains.csv, chains.fits, and checkpoint/\n"
-          "                      (written at every check; Ctrl-C or SIGTERM saves it and\n"
-          "                      stops with status 1, and --resume DIR continues; it\n"
-          "                      refuses a checkpoint whose data, covariance, model,\n"
-          "                      priors or settings changed, naming which)\n"
-          "  --force             replace an earlier lantern output in DIR\n"
-          "  --format F          table (default) or json\n"
-          "  --quiet, --verbose  no progress line; a line per check even without a terminal\n"
-          "  --help              this text\n"
-          "\n"
-          "RUN.ini as in 'lantern fit --help', plus [sampler] chains, seed, threads,\n"
-          "target_ess, max_steps, warmup, check_every.\n"
-          "\n"
-          "A parameter whose posterior density at an edge of its uniform prior is above 10%\n"
-          "of its peak (a kernel estimate reflected at the edges) is warned about, on stderr\n"
-          "and in the summary's warnings: the prior then sets part of its interval.\n"
-          "\n"
-          "exit status: 0 converged, 1 interrupted or failed, 2 bad input, 3 not converged\n",
-          f);
+    fputs(cli_help_sample, f);
 }
 
 typedef struct {

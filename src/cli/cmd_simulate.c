@@ -9,44 +9,7 @@
 
 static void usage(FILE *f)
 {
-    fputs("usage: lantern simulate SCENARIO.ini --out DIR [--force]\n"
-          "\n"
-          "Simulate a survey and write it to DIR: survey.csv and survey.fits (columns\n"
-          "id, tier, z, zhel, the observable, err), covariance.txt (the systematic\n"
-          "covariance as 'N then N*N values'; covariance.fits above 2000 objects and\n"
-          "none above 10000, where the modes alone carry it),\n"
-          "modes.csv (the same systematics as one mode per tier) and truth.json.\n"
-          "Fit it with --cov covariance.txt or with --modes modes.csv, not both: they\n"
-          "describe the same matrix. The same scenario and seed give the same files.\n"
-          "\n"
-          "options:\n"
-          "  --out DIR   the output folder: new or empty, or an earlier lantern output\n"
-          "              with --force\n"
-          "  --force     replace an earlier lantern output in DIR\n"
-          "  --help      this text\n"
-          "\n"
-          "scenario file (INI; '#' or ';' start comments):\n"
-          "  [survey]\n"
-          "  name = NAME                  default: the file name\n"
-          "  seed = S                     required, 0 to 4294967295\n"
-          "  observable = mag             mu, mag (mu + offset) or dl (Mpc)\n"
-          "  offset = -19.3               absolute magnitude M, for mag only\n"
-          "  intrinsic_scatter = 0.1      mag\n"
-          "  velocity_dispersion = 300    km/s: peculiar-velocity scatter\n"
-          "                               (5/ln10)(sigma_v/c)(1+z)/(z(1+z/2)) in mag\n"
-          "  solar_motion = 369           km/s: 1+zhel = (1+z)(1 + v cos(theta)/c)\n"
-          "  [cosmology]\n"
-          "  model = lcdm-flat            and any parameter of the model:\n"
-          "  h0 = 70                      h0, omega_m, omega_de, w0, wa, t_cmb, n_eff\n"
-          "  omega_m = 0.3\n"
-          "  [tier.NAME]                  one section per tier, in any number\n"
-          "  z_min = 0.01                 > 0\n"
-          "  z_max = 0.1\n"
-          "  count = 200\n"
-          "  error = 0.1                  measurement error, mag\n"
-          "  calibration = 0.01           amplitude of the tier's shared offset, mag [0]\n"
-          "  spread = volume              redshifts follow the comoving volume, or uniform\n",
-          f);
+    fputs(cli_help_simulate, f);
 }
 
 int cli_simulate(int argc, char **argv)

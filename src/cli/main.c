@@ -41,17 +41,10 @@ static const cli_command commands[] = {
 
 static void usage(FILE *f)
 {
-    fputs("usage: lantern COMMAND [OPTIONS]\n"
-          "       lantern --version | --help\n"
-          "\n"
-          "lantern turns a standard-candle Hubble diagram into cosmological\n"
-          "constraints.\n"
-          "\n"
-          "commands:\n",
-          f);
+    fputs(cli_help_main, f);
     for (size_t i = 0; i < NCOMMANDS; i++)
         fprintf(f, "  %-10s %s\n", commands[i].name, commands[i].summary);
-    fputs("\n'lantern COMMAND --help' describes each command.\n", f);
+    fputs(cli_help_main_tail, f);
 }
 
 void cli_setup(void)
