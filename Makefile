@@ -33,7 +33,7 @@ LDLIBS := $(PKG_LIBS) -lm
 
 BUILD ?= build
 BINDIR ?= bin
-LIB_SRC := $(wildcard src/util/*.c src/cosmology/*.c src/survey/*.c src/simulate/*.c src/likelihood/*.c src/inference/*.c src/pipeline/*.c src/report/*.c src/campaign/*.c)
+LIB_SRC := $(wildcard src/util/*.c src/cosmology/*.c src/survey/*.c src/simulate/*.c src/likelihood/*.c src/inference/*.c src/posterior/*.c src/pipeline/*.c src/report/*.c src/campaign/*.c)
 CLI_SRC := $(wildcard src/cli/*.c)
 LIB_OBJ := $(LIB_SRC:%.c=$(BUILD)/%.o)
 # The command line's help texts (src/cli/help/*.txt, plain text as printed)

@@ -20,6 +20,35 @@ import sys
 # rules a symbol table can show are here.
 FORBIDDEN = [
     ("src/likelihood/", "src/inference/", "likelihood must not call inference"),
+    ("src/inference/", "src/survey/", "inference must not call survey"),
+    ("src/report/", "src/campaign/", "report must not reach campaign"),
+    ("src/report/", "src/pipeline/", "report must not reach the pipeline"),
+    ("src/report/", "src/inference/", "report must not run methods"),
+    ("src/posterior/", "src/pipeline/", "posterior must not reach the pipeline"),
+    ("src/posterior/", "src/campaign/", "posterior must not reach campaign"),
+    ("src/posterior/", "src/report/", "posterior must not reach report"),
+]
+
+# The functions that run a likelihood (evaluate, predict, derive a
+# quantity at a point, make its work space or the likelihood itself), and
+# the methods that do. Reports may read the parameter table (names, priors,
+# counts) but call none of these: DESIGN.md, report "must not compute
+# likelihoods", posterior "must not run a likelihood".
+COMPUTE = {
+    "lt_like_alloc", "lt_like_eval", "lt_like_eval_exact", "lt_like_eval_exact_many",
+    "lt_like_predict", "lt_like_quantity", "lt_like_derived", "lt_like_work_alloc",
+    "lt_like_logdensity", "lt_like_nested_loglike", "lt_like_check_posterior",
+    "lt_like_compression_set", "lt_optimize", "lt_fit_run", "lt_mcmc_run", "lt_nested_iterate",
+}
+FORBIDDEN_SYMBOLS = [
+    ("src/report/", COMPUTE, "report must not compute likelihoods"),
+    ("src/posterior/", COMPUTE, "posterior must not run a likelihood"),
+    # library code returns its errors and never prints (DESIGN.md); the
+    # pipeline, which runs long methods, does not even write to streams:
+    # its progress goes to the caller's hooks
+    ("src/", {"stdout", "stderr"}, "library code must not print"),
+    ("src/pipeline/", {"printf", "fprintf", "puts", "fputs", "putchar", "fputc", "vfprintf",
+                       "perror"}, "pipeline must not print"),
 ]
 
 
@@ -57,7 +86,7 @@ def graph(build):
             g = owner.get(s)
             if g and g != f:
                 edges[f].setdefault(g, []).append(s)
-    return edges
+    return edges, needs
 
 
 def loops(edges):
@@ -96,7 +125,7 @@ def loops(edges):
 def main(argv):
     show = "--edges" in argv
     args = [a for a in argv if a != "--edges"]
-    edges = graph(args[0] if args else "build")
+    edges, needs = graph(args[0] if args else "build")
     if show:
         for f in sorted(edges):
             for g in sorted(edges[f]):
@@ -115,6 +144,12 @@ def main(argv):
                     if g.startswith(dst):
                         bad += 1
                         print(f"{why}: {f} -> {g} ({', '.join(edges[f][g])})")
+    for src, symbols, why in FORBIDDEN_SYMBOLS:
+        for f in sorted(needs):
+            hit = sorted(needs[f] & symbols)
+            if f.startswith(src) and hit:
+                bad += 1
+                print(f"{why}: {f} uses {', '.join(hit)}")
     if not bad:
         print(f"no loops among {len(edges)} library files, no forbidden references")
     return 1 if bad else 0

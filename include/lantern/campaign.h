@@ -140,7 +140,6 @@ struct cJSON *lt_campaign_summary(const lt_campaign *c, struct cJSON *const *res
  * Coverage is tested against these. */
 #define LT_NOMINAL68 0.6826894921370859
 #define LT_NOMINAL95 0.95
-#define LT_Z95 1.959963984540054 /* Phi^-1(0.975) */
 
 typedef struct lt_bias_stats {
     size_t n;                        /* realizations with an estimate and an error */

@@ -173,8 +173,11 @@ typedef struct lt_like_chain {
     lt_like_work *w;
 } lt_like_chain;
 double lt_like_logdensity(const double *x, void *ctx, double *extra);
+/* -2 ln posterior at x (an lt_objective; ctx an lt_like_chain): what the
+ * best fit minimises. */
+double lt_like_neg2logpost(const double *x, void *ctx);
 /* lt_like_check_posterior on m's kept draws (chain after chain, each cut
- * to the shortest chain's length, as lt_sample_collect keeps them). */
+ * to the shortest chain's length, as lt_pipeline_mcmc_posterior keeps them). */
 int lt_mcmc_check_compression(lt_like *l, const lt_mcmc *m, lt_compression_check *out,
                               lt_error *err);
 
@@ -314,6 +317,7 @@ typedef struct lt_fit_result {
     double der_best[LT_NDER], der_sd[LT_NDER];
     int has_pivot;                    /* w0-wa models */
     double z_pivot, w_pivot, w_pivot_sd;
+    double measured[LT_MAX_MEASUREMENTS]; /* each measured quantity at the best fit */
     lt_optim_info info;
 } lt_fit_result;
 

@@ -42,6 +42,7 @@
 #include "lantern/ini.h"
 #include "lantern/inference.h"
 #include "lantern/likelihood.h"
+#include "lantern/posterior.h"
 #include "lantern/survey.h"
 
 /* A NAME = VALUE entry of [priors], [fixed] or [measurements]. */
@@ -209,6 +210,46 @@ int lt_pipeline_mcmc_run(lt_like *l, lt_job *j, const lt_like_spec *spec, const 
                          int resume, volatile sig_atomic_t *stop, const lt_pipeline_hooks *h,
                          lt_pipeline_mcmc *p, lt_error *err);
 void lt_pipeline_mcmc_free(lt_pipeline_mcmc *p);
+
+/*
+ * The posterior of m's chains: the draws, derived columns (computed in
+ * parallel), the best draw polished by the optimiser, the summaries
+ * (lt_posterior_summarise) and a copy of the chains' diagnostics. The summary's "warnings" (lt_report_sample_json)
+ * name each parameter whose posterior reaches a prior edge (lt_post_edge_note).
+ *
+ * reweight > 0 corrects draws of a compressed likelihood that missed its
+ * bound (lt_like_check_posterior could not refine it): every thin-th draw
+ * of each chain is kept, thin the smallest that leaves at most reweight
+ * draws, each is evaluated by the exact path, its logpost and chi2 become
+ * the exact ones and its weight exp(logpost_exact - logpost_compressed)
+ * (normalised to mean 1). Summaries, covariance, edge densities and the
+ * weighted ESS then use the weights, and chi2_min is the exact chi2 at the
+ * polished best draw. reweight 0: every draw, unweighted.
+ */
+int lt_pipeline_mcmc_posterior(const lt_like *l, const lt_mcmc *m, size_t reweight,
+                               lt_posterior *r, lt_error *err);
+
+/*
+ * The posterior of a nested run (LT_POST_NESTED): one "chain" of the
+ * samples, weighted by exp(logw); logpost NaN (the sampler keeps ln L
+ * only), chi2 = -2 (ln L - lt_like_lognorm); the summaries, DIC and Kish's
+ * ESS; best the sample of largest ln L (at_best its evaluation); and the
+ * evidence (live: the live points it ran with). No derived columns.
+ */
+int lt_pipeline_nested_posterior(const lt_like *l, const lt_nested_result *nr, size_t live,
+                                 lt_posterior *r, lt_error *err);
+/* The Laplace posterior of a best fit (LT_POST_LAPLACE, no draws): each
+ * parameter's stats the Gaussian ones about the best fit (mean, median
+ * and best the best fit; the intervals +-sd and +-LT_Z95 sd), the Laplace
+ * covariance; converged when the optimiser and the Laplace step both
+ * succeeded. */
+int lt_pipeline_fit_posterior(const lt_like *l, const lt_fit_result *fr, lt_posterior *r,
+                              lt_error *err);
+
+/* The model's prediction for every object of l's survey at theta (with the
+ * offset at its best value when marginalised) into model[n]: what
+ * residual tables print. */
+int lt_pipeline_predict(const lt_like *l, const double *theta, double *model, lt_error *err);
 
 /*
  * Nested sampling of l's posterior with live points and seed, on threads

@@ -10,6 +10,7 @@
 
 #include "lantern/inference.h"
 #include "lantern/likelihood.h"
+#include "lantern/posterior.h"
 #include "lantern/survey.h"
 
 struct cJSON;
@@ -27,133 +28,25 @@ struct cJSON *lt_report_fit_json(const lt_like *l, const lt_fit_result *r,
 void lt_report_fit_table(FILE *f, const lt_like *l, const lt_fit_result *r,
                          const lt_survey_spec *data);
 
-/* residuals.csv: id,z,zhel,observed,model,residual,pull (pull = residual /
- * sqrt(C_ii), the total variance), written atomically. */
-int lt_report_write_residuals(const char *path, const lt_like *l, const double *theta,
+/* residuals.csv: id,z,zhel,observed,model,residual,pull, model[i] the
+ * prediction for object i (lt_pipeline_predict), pull = residual /
+ * sqrt(C_ii), the total variance; written atomically. */
+int lt_report_write_residuals(const char *path, const lt_like *l, const double *model,
                               lt_error *err);
-
-/* ---- posterior summaries ---- */
-typedef struct lt_post_stats {
-    double mean, sd, median;
-    double lo68, hi68, lo95, hi95; /* equal-tailed: Phi(-1), Phi(1); 2.5 and 97.5 % */
-    double hpd68_lo, hpd68_hi, hpd95_lo, hpd95_hi; /* highest density (shortest) */
-} lt_post_stats;
-
-/* Summarise n draws (NaN draws are left out; all NaN gives NaN). Quantiles
- * interpolate linearly between order statistics (Hyndman & Fan 1996,
- * definition 7, numpy's default); the HPD interval is the shortest one
- * holding ceil(p n) of the sorted draws. */
-void lt_post_summarise(const double *x, size_t n, lt_post_stats *s);
-
-/* The probabilities of the intervals: Phi(-1), Phi(1) and their span. */
-#define LT_POST_P_LO68 0.15865525393145707
-#define LT_POST_P_HI68 0.84134474606854293
-#define LT_POST_P68 0.6826894921370859
-
-/*
- * The same for draws with weights w (importance weights, or a nested
- * sampler's posterior weights; need not be normalised). NaN draws and
- * weights that are not positive and finite are left out; w NULL is
- * lt_post_summarise. The mean and sd are weighted (sd with the unbiased
- * divisor W - sum w^2 / W of reliability weights, k - 1 for equal ones).
- * Sorted, a draw sits at the cumulative weight up to its middle, rescaled
- * so that the smallest draw is at 0 and the largest at 1, and quantiles
- * interpolate between draws: with equal weights this is definition 7. The HPD
- * interval is the shortest run of sorted draws holding p of the weight.
- */
-void lt_post_summarise_weighted(const double *x, const double *w, size_t n, lt_post_stats *s);
-
-/* One q-quantile of draws x with weights w (NULL: equal) by those rules;
- * NaN if no draw counts. */
-double lt_post_quantile(const double *x, const double *w, size_t n, double q);
-
-/*
- * How much of a posterior lies at the edges of a uniform prior [a, b]: the
- * density at a and at b relative to the density's peak, from the n draws x
- * with weights w (NULL: equal; NaN draws and weights <= 0 are left out).
- * The density is a Gaussian kernel estimate reflected at both edges
- * (Silverman 1986, section 2.10), so it is not halved at a hard edge, with
- * Silverman's rule-of-thumb bandwidth 0.9 min(sd, IQR/1.34) n^(-1/5)
- * (eq. 3.31; n is Kish's effective size for weights). Its bias at an edge
- * is about f'(a) h sqrt(2/pi), a few per cent of f(a) for 10^4 draws.
- * A flat posterior gives ratios near 1, one far from both edges near 0.
- * Returns LT_EINPUT for fewer than two draws or a bad interval (ratios NaN).
- */
-int lt_post_edge_density(const double *x, const double *w, size_t n, double a, double b,
-                         double *lo_ratio, double *hi_ratio);
-
-/* The ratio above which a posterior is said to reach a prior edge: its
- * density there above 10% of its peak (issue 16; a convention of ours). */
-#define LT_EDGE_DENSITY_WARN 0.1
-
-/* The warning for parameter name with prior p and the edge ratios lo, hi
- * of lt_post_edge_density, into buf: "the posterior of NAME reaches the
- * lower edge of its prior U(A, B) (density there L% and H% of its peak)".
- * Returns 1 if a ratio is above LT_EDGE_DENSITY_WARN (buf written), else 0. */
-int lt_post_edge_note(const char *name, const lt_prior *p, double lo, double hi, char *buf,
-                      size_t size);
 
 /* ---- sampled posteriors ---- */
 
-/* Everything a sampled run reports: the draws with their derived columns,
- * the polished best fit and the diagnostics. */
-typedef struct lt_sample_result {
-    size_t nchains, ndraws;  /* draws per chain (the same for all) */
-    size_t ncols;            /* columns per row, below */
-    char **cols;             /* names: logpost, chi2, params..., derived... */
-    size_t first_param, nparams, first_derived, nderived;
-    double *rows;            /* nchains * ndraws rows of ncols, chain after chain */
-    double best[LT_MAX_FREE];    /* the best draw, polished by the optimiser */
-    lt_like_point at_best;
-    double best_derived[LT_NDER + 2];
-    double z_pivot;          /* NaN unless w0-wa */
-    lt_post_stats *stats;    /* per column from first_param on */
-    double *cov;             /* nparams x nparams posterior covariance */
-    int converged;
-    double edge_lo[LT_MAX_FREE], edge_hi[LT_MAX_FREE]; /* lt_post_edge_density of each
-                                                * parameter with a uniform prior, else NaN */
-    const lt_mcmc_diag *diag; /* of the chains as sampled (every draw, no weights) */
-    size_t warmup, steps;
-    lt_sample_compression compression; /* filled by the caller, who ran the check */
-    /* importance weights (lt_sample_collect with reweight): NULL when the
-     * draws are unweighted */
-    double *weights;          /* nchains * ndraws, mean 1; 0 outside the exact domain */
-    size_t thin;              /* rows are every thin-th draw of each chain (1: all) */
-    double ess_weighted[LT_MAX_FREE]; /* lt_diag_ess_weighted, smallest of mean, 5% and 95% */
-    double ess_min_weighted;  /* the smallest of those */
-    double kish_ess;          /* (sum w)^2 / sum w^2 */
-    double max_abs_dchi2;     /* largest |chi2_compressed - chi2_exact| of the rows */
-} lt_sample_result;
-
-/*
- * Gather m's draws, add derived columns (computed in parallel), polish the
- * best draw and summarise. The summary's "warnings" (lt_report_sample_json)
- * name each parameter whose posterior reaches a prior edge (lt_post_edge_note).
- *
- * reweight > 0 corrects draws of a compressed likelihood that missed its
- * bound (lt_like_check_posterior could not refine it): every thin-th draw
- * of each chain is kept, thin the smallest that leaves at most reweight
- * draws, each is evaluated by the exact path, its logpost and chi2 become
- * the exact ones and its weight exp(logpost_exact - logpost_compressed)
- * (normalised to mean 1). Summaries, covariance, edge densities and the
- * weighted ESS then use the weights, and chi2_min is the exact chi2 at the
- * polished best draw. reweight 0: every draw, unweighted.
- */
-int lt_sample_collect(const lt_like *l, const lt_mcmc *m, size_t reweight, lt_sample_result *r,
-                      lt_error *err);
-void lt_sample_result_free(lt_sample_result *r);
-
-struct cJSON *lt_report_sample_json(const lt_like *l, const lt_sample_result *r,
+struct cJSON *lt_report_sample_json(const lt_like *l, const lt_posterior *r,
                                     const lt_survey_spec *data, unsigned long seed);
 /* The warning for a compression that the posterior check found off and
  * could not refine (summary.json and stderr say the same), into buf. */
-void lt_report_compression_warning(const lt_sample_result *r, char *buf, size_t size);
-void lt_report_sample_table(FILE *f, const lt_like *l, const lt_sample_result *r,
+void lt_report_compression_warning(const lt_posterior *r, char *buf, size_t size);
+void lt_report_sample_table(FILE *f, const lt_like *l, const lt_posterior *r,
                             const lt_survey_spec *data);
 /* chains.csv and chains.fits: one row per draw (chain, step, then the
  * columns); FITS header keywords name the model, data, seed, version and
  * convergence. Both written atomically. */
-int lt_report_write_chains(const char *dir, const lt_like *l, const lt_sample_result *r,
+int lt_report_write_chains(const char *dir, const lt_like *l, const lt_posterior *r,
                            const lt_survey_spec *data, unsigned long seed, lt_error *err);
 
 /* ---- runs of several models (lantern run, lantern report) ---- */
@@ -276,11 +169,13 @@ void lt_report_describe_data(const lt_like *l, const lt_survey_spec *data, char 
 
 /* Add "fixed" (every parameter of l that is not free, with its value) and,
  * where l has measurements, "measurements" ([{name, mean, sd, at_best,
- * pull}], pull = (at_best - mean) / sd at the free parameters best) to o. */
-void lt_report_add_fixed(struct cJSON *o, const lt_like *l, const double *best);
-/* The measurements and their pulls at best as table lines ("  measured h0 =
- * 73.04 +- 1.04: 72.9 at the best fit, pull -0.13"), if any. */
-void lt_report_print_measurements(FILE *f, const lt_like *l, const double *best);
+ * pull}], at_best = measured[k], the quantity at the best fit, as the fit
+ * or posterior holds it; pull = (at_best - mean) / sd) to o. */
+void lt_report_add_fixed(struct cJSON *o, const lt_like *l, const double *measured);
+/* The measurements and their pulls as table lines ("  measured h0 = 73.04
+ * +- 1.04: 72.9 at the best fit, pull -0.13"), measured[k] at the best
+ * fit, if any. */
+void lt_report_print_measurements(FILE *f, const lt_like *l, const double *measured);
 
 /* Write a JSON object to path atomically (pretty-printed). */
 int lt_report_write_json(const char *path, const struct cJSON *o, lt_error *err);

@@ -15,48 +15,25 @@
 
 static cJSON *num(double v) { return lt_json_number(v); }
 
-/* One parameter's numbers in a task record. */
-typedef struct {
-    double estimate, sd, lo68, hi68, lo95, hi95;
-} task_param;
-
-/* Weighted mean, sd and equal-tailed intervals of column i of nested
- * samples (lt_post_summarise_weighted; x and w: room for nsamples each). */
-static void weighted_param(const lt_nested_result *r, size_t d, size_t i, double *x, double *w,
-                           task_param *p)
-{
-    for (size_t j = 0; j < r->nsamples; j++)
-        x[j] = r->theta[j * d + i], w[j] = exp(r->logw[j]);
-    lt_post_stats st;
-    lt_post_summarise_weighted(x, w, r->nsamples, &st);
-    p->estimate = st.mean, p->sd = st.sd;
-    p->lo68 = st.lo68, p->hi68 = st.hi68, p->lo95 = st.lo95, p->hi95 = st.hi95;
-}
-
+/* The best fit and its Laplace posterior; note: why there is no Laplace
+ * step, if there is none. */
 static int run_fit(const lt_like *l, const lt_campaign *c, const lt_campaign_task *t,
-                   task_param *p, cJSON *o, lt_error *err)
+                   lt_posterior *post, char *note, size_t size, lt_error *err)
 {
-    lt_fit_opts fo = {.seed = (unsigned long)t->seed, .starts = (size_t)c->job.starts, .stop = NULL};
+    lt_fit_opts fo = {.seed = (unsigned long)t->seed, .starts = (size_t)c->job.starts,
+                      .stop = NULL};
     lt_fit_result fr;
     int rc = lt_fit_run(l, &fo, &fr, err);
-    if (rc)
+    if (rc || (rc = lt_pipeline_fit_posterior(l, &fr, post, err)))
         return rc;
-    for (size_t i = 0; i < fr.dim; i++) {
-        double b = fr.best[i], s = fr.sd[i];
-        /* intervals of probability LT_NOMINAL68 and LT_NOMINAL95 under the
-         * Laplace (Gaussian) approximation */
-        p[i] = (task_param){b, s, b - s, b + s, b - LT_Z95 * s, b + LT_Z95 * s};
-    }
-    cJSON_AddItemToObject(o, "chi2_min", num(fr.at_best.chi2));
-    cJSON_AddBoolToObject(o, "converged", fr.info.converged && fr.laplace_ok);
     if (!fr.laplace_ok)
-        cJSON_AddStringToObject(o, "note", fr.laplace_note);
+        snprintf(note, size, "%s", fr.laplace_note);
     return LT_OK;
 }
 
-static int run_sample(lt_like *l, const lt_campaign *c, const lt_campaign_task *t,
-                      int threads, volatile sig_atomic_t *stop, task_param *p, cJSON *o,
-                      lt_error *err)
+/* The chains, through the pipeline as lantern sample runs them. */
+static int run_sample(lt_like *l, const lt_campaign *c, const lt_campaign_task *t, int threads,
+                      volatile sig_atomic_t *stop, lt_posterior *post, lt_error *err)
 {
     /* the campaign's settings with the task's seed and the campaign's threads */
     lt_job job = c->job;
@@ -67,68 +44,48 @@ static int run_sample(lt_like *l, const lt_campaign *c, const lt_campaign_task *
     int rc = lt_job_like_spec(&job, c->models[t->model], &spec, err);
     if (!rc)
         rc = lt_pipeline_mcmc_run(l, &job, &spec, NULL, 0, stop, NULL, &pm, err);
-    lt_sample_result sr;
-    memset(&sr, 0, sizeof sr);
     /* where more knots did not bring the compression within its bound,
      * the draws are weighted by the exact likelihood, as lantern sample does */
     int off = !rc && pm.cmp.checked_ok && pm.cmp.posterior_dchi2 > LT_CHECK_BOUND;
     if (!rc)
-        rc = lt_sample_collect(l, pm.m, off ? lt_like_reweight_draws(l) : 0, &sr, err);
+        rc = lt_pipeline_mcmc_posterior(l, pm.m, off ? lt_like_reweight_draws(l) : 0, post, err);
     lt_pipeline_mcmc_free(&pm);
-    if (rc)
-        return rc;
-    size_t d = lt_like_dim(l);
-    for (size_t i = 0; i < d; i++) {
-        const lt_post_stats *s = &sr.stats[sr.first_param + i];
-        p[i] = (task_param){s->mean, s->sd, s->lo68, s->hi68, s->lo95, s->hi95};
-    }
-    cJSON_AddItemToObject(o, "chi2_min", num(sr.at_best.chi2));
-    cJSON_AddBoolToObject(o, "converged", sr.converged);
-    cJSON *cv = cJSON_AddObjectToObject(o, "convergence");
-    cJSON_AddItemToObject(cv, "rhat_max", num(sr.weights ? NAN : sr.diag->rhat_max));
-    cJSON_AddItemToObject(cv, "ess_min", num(sr.weights ? sr.ess_min_weighted : sr.diag->ess_min));
-    cJSON_AddItemToObject(cv, "chains", num((double)sr.nchains));
-    cJSON_AddItemToObject(cv, "draws", num((double)(sr.nchains * sr.ndraws)));
-    lt_sample_result_free(&sr);
-    return LT_OK;
+    return rc;
 }
 
+/* Nested sampling, through the pipeline. */
 static int run_nested(const lt_like *l, const lt_campaign *c, const lt_campaign_task *t,
-                      int threads, volatile sig_atomic_t *stop, task_param *p, cJSON *o,
+                      int threads, volatile sig_atomic_t *stop, lt_posterior *post,
                       lt_error *err)
 {
-    size_t d = lt_like_dim(l);
     int nt = threads > 0 ? threads : omp_get_max_threads();
     lt_nested_result r;
-    double *pair = NULL;
-    lt_like_work *w = NULL;
     int rc = lt_pipeline_nested_run(l, c->job.live_points, t->seed, nt, NULL, stop, &r, err);
-    if (rc)
-        goto done;
-    if (!(pair = malloc(2 * r.nsamples * sizeof *pair + 1)) || !(w = lt_like_work_alloc(l))) {
-        rc = lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
-        goto done;
-    }
-    for (size_t i = 0; i < d; i++)
-        weighted_param(&r, d, i, pair, pair + r.nsamples, &p[i]);
-    /* chi2 at the best sample: the largest ln L, less the normalisation */
-    size_t best = 0;
-    for (size_t j = 1; j < r.nsamples; j++)
-        if (r.loglike[j] > r.loglike[best])
-            best = j;
-    lt_like_point pt;
-    lt_like_eval(l, w, &r.theta[best * d], &pt);
-    cJSON_AddItemToObject(o, "chi2_min", num(pt.chi2));
-    cJSON_AddBoolToObject(o, "converged", r.finished);
-    cJSON *ev = cJSON_AddObjectToObject(o, "evidence");
-    cJSON_AddItemToObject(ev, "ln_z", num(r.logz));
-    cJSON_AddItemToObject(ev, "ln_z_err", num(r.logz_err));
-    cJSON_AddItemToObject(ev, "information", num(r.info));
-done:
-    lt_like_work_free(w);
-    free(pair);
+    if (!rc)
+        rc = lt_pipeline_nested_posterior(l, &r, (size_t)c->job.live_points, post, err);
     lt_nested_result_free(&r);
     return rc;
+}
+
+/* What each method adds to a record: the fit's note, the chains'
+ * convergence, the evidence. */
+static void method_fields(cJSON *o, const lt_posterior *p, const char *note)
+{
+    if (p->method == LT_POST_LAPLACE && note[0])
+        cJSON_AddStringToObject(o, "note", note);
+    if (p->method == LT_POST_MCMC) {
+        cJSON *cv = cJSON_AddObjectToObject(o, "convergence");
+        cJSON_AddItemToObject(cv, "rhat_max", num(p->weights ? NAN : p->diag.rhat_max));
+        cJSON_AddItemToObject(cv, "ess_min", num(p->weights ? p->ess_min_weighted : p->diag.ess_min));
+        cJSON_AddItemToObject(cv, "chains", num((double)p->nchains));
+        cJSON_AddItemToObject(cv, "draws", num((double)(p->nchains * p->ndraws)));
+    }
+    if (p->method == LT_POST_NESTED) {
+        cJSON *ev = cJSON_AddObjectToObject(o, "evidence");
+        cJSON_AddItemToObject(ev, "ln_z", num(p->ln_z));
+        cJSON_AddItemToObject(ev, "ln_z_err", num(p->ln_z_err));
+        cJSON_AddItemToObject(ev, "information", num(p->information));
+    }
 }
 
 /* The record's head, which a failed task's record shares. */
@@ -217,25 +174,36 @@ int lt_campaign_task_run(const lt_campaign *c, size_t index, int threads,
     cJSON_AddStringToObject(o, "status", "ok");
     cJSON_AddItemToObject(o, "n_data", num((double)s->n));
     cJSON_AddItemToObject(o, "dof", num((double)lt_like_dof(l)));
-    task_param p[LT_MAX_FREE];
-    rc = t.method == LT_METHOD_FIT      ? run_fit(l, c, &t, p, o, err)
-         : t.method == LT_METHOD_SAMPLE ? run_sample(l, c, &t, threads, stop, p, o, err)
-                                        : run_nested(l, c, &t, threads, stop, p, o, err);
-    if (rc)
+    lt_posterior post;
+    memset(&post, 0, sizeof post);
+    char note[LT_ERROR_MSG_MAX] = "";
+    rc = t.method == LT_METHOD_FIT      ? run_fit(l, c, &t, &post, note, sizeof note, err)
+         : t.method == LT_METHOD_SAMPLE ? run_sample(l, c, &t, threads, stop, &post, err)
+                                        : run_nested(l, c, &t, threads, stop, &post, err);
+    if (rc) {
+        lt_posterior_free(&post);
         goto done;
+    }
+    cJSON_AddItemToObject(o, "chi2_min", num(post.at_best.chi2));
+    cJSON_AddBoolToObject(o, "converged", post.converged);
+    method_fields(o, &post, note);
     cJSON *params = cJSON_AddObjectToObject(o, "params");
     for (size_t i = 0; i < dim; i++) {
         const char *name = lt_like_param_name(l, i);
+        const lt_post_stats *st = &post.stats[post.first_param + i];
+        /* the estimate: the best fit for a fit, the posterior mean otherwise */
+        double est = t.method == LT_METHOD_FIT ? post.best[i] : st->mean;
         cJSON *q = cJSON_AddObjectToObject(params, name);
         if (d->simulated)
             cJSON_AddItemToObject(q, "truth", num(campaign_truth(&d->scenario, name)));
-        cJSON_AddItemToObject(q, "estimate", num(p[i].estimate));
-        cJSON_AddItemToObject(q, "sd", num(p[i].sd));
-        cJSON_AddItemToObject(q, "lo68", num(p[i].lo68));
-        cJSON_AddItemToObject(q, "hi68", num(p[i].hi68));
-        cJSON_AddItemToObject(q, "lo95", num(p[i].lo95));
-        cJSON_AddItemToObject(q, "hi95", num(p[i].hi95));
+        cJSON_AddItemToObject(q, "estimate", num(est));
+        cJSON_AddItemToObject(q, "sd", num(st->sd));
+        cJSON_AddItemToObject(q, "lo68", num(st->lo68));
+        cJSON_AddItemToObject(q, "hi68", num(st->hi68));
+        cJSON_AddItemToObject(q, "lo95", num(st->lo95));
+        cJSON_AddItemToObject(q, "hi95", num(st->hi95));
     }
+    lt_posterior_free(&post);
 done:
     lt_like_free(l);
     lt_survey_free(own);

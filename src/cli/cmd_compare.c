@@ -37,71 +37,42 @@ typedef struct {
     lt_like *l;
     lt_fit_result fit;
     lt_nested_result nr;
-    double mean[LT_MAX_FREE], sd[LT_MAX_FREE];
-    double dic, p_d;
+    lt_posterior post;
     char warning[512];
     char dic_warning[256];
     int rc;      /* of the model's best fit and nested run */
     lt_error err;
 } model_run;
 
-/* Weighted moments of the nested posterior, DIC, and the prior edges. */
-static void posterior(model_run *mr, double norm)
+/* The nested run's posterior (moments, DIC, prior edges) and what it
+ * warns of. */
+static int posterior(model_run *mr, size_t live)
 {
-    size_t d = lt_like_dim(mr->l), n = mr->nr.nsamples;
-    for (size_t i = 0; i < d; i++) {
-        double m = 0, m2 = 0;
-        for (size_t j = 0; j < n; j++) {
-            double w = exp(mr->nr.logw[j]), x = mr->nr.theta[j * d + i];
-            m += w * x, m2 += w * x * x;
-        }
-        mr->mean[i] = m, mr->sd[i] = sqrt(fmax(m2 - m * m, 0));
-    }
-    /* the deviance on the chi2 scale of AIC and BIC: D = -2 ln L less the
-     * normalisation, i.e. the chi2 that enters the likelihood */
-    double *dev = malloc((n ? n : 1) * sizeof *dev), *wt = malloc((n ? n : 1) * sizeof *wt);
-    lt_dic dic = {NAN, NAN, NAN};
-    for (size_t j = 0; wt && j < n; j++)
-        wt[j] = exp(mr->nr.logw[j]);
-    if (dev && wt) {
-        for (size_t j = 0; j < n; j++)
-            dev[j] = -2.0 * (mr->nr.loglike[j] - norm);
-        lt_dic_compute(dev, wt, n, &dic);
-    }
-    free(dev);
-    mr->p_d = dic.p_v;
-    mr->dic = dic.dic;
+    int rc = lt_pipeline_nested_posterior(mr->l, &mr->nr, live, &mr->post, &mr->err);
+    if (rc)
+        return rc;
     /* p_V near k is what a well-constrained Gaussian posterior gives; far
      * from it, DIC is not a fair penalty (a posterior cut by its prior, or
      * far from Gaussian) and the ranking by DIC deserves doubt */
-    double k = (double)d;
+    size_t d = lt_like_dim(mr->l);
+    double k = (double)d, p_v = mr->post.p_v;
     mr->dic_warning[0] = '\0';
-    if (isfinite(mr->p_d) && fabs(mr->p_d - k) > fmax(1.0, k / 2.0))
+    if (isfinite(p_v) && fabs(p_v - k) > fmax(1.0, k / 2.0))
         snprintf(mr->dic_warning, sizeof mr->dic_warning,
                  "p_V = %.2f effective parameters against %zu sampled: the posterior is far from "
                  "Gaussian or cut by its prior, so DIC is a poor guide for this model",
-                 mr->p_d, d);
+                 p_v, d);
     /* a posterior reaching a prior edge (its density there above a tenth of
      * its peak) makes ln Z depend on where the edge is */
     mr->warning[0] = '\0';
-    double *col = malloc((n ? n : 1) * sizeof *col);
-    for (size_t i = 0; col && wt && i < d; i++) {
-        const lt_prior *p = lt_like_prior(mr->l, i);
-        if (p->kind != LT_PRIOR_UNIFORM)
-            continue;
-        for (size_t j = 0; j < n; j++)
-            col[j] = mr->nr.theta[j * d + i];
-        double lo, hi;
-        if (lt_post_edge_density(col, wt, n, p->a, p->b, &lo, &hi))
-            continue;
+    for (size_t i = 0; i < d; i++) {
         char note[256];
-        if (lt_post_edge_note(lt_like_param_name(mr->l, i), p, lo, hi, note,
-                              sizeof note))
+        if (lt_post_edge_note(lt_like_param_name(mr->l, i), lt_like_prior(mr->l, i),
+                              mr->post.edge_lo[i], mr->post.edge_hi[i], note, sizeof note))
             snprintf(mr->warning + strlen(mr->warning), sizeof mr->warning - strlen(mr->warning),
                      "%s%s; ln Z depends on that prior", mr->warning[0] ? "; " : "", note);
     }
-    free(col);
-    free(wt);
+    return LT_OK;
 }
 
 static int write_samples(const char *dir, const model_run *mr, lt_error *err)
@@ -152,7 +123,7 @@ static void run_model(model_run *mr, size_t k, size_t nm, const lt_job *j, long 
                               &mr->nr, &mr->err);
     if (mr->rc)
         return;
-    posterior(mr, lt_like_lognorm(mr->l));
+    mr->rc = posterior(mr, (size_t)live);
 }
 
 int cli_compare(int argc, char **argv)
@@ -390,8 +361,8 @@ int cli_compare(int argc, char **argv)
         cJSON_AddItemToObject(o, "dof", lt_json_number((double)mr->fit.dof));
         cJSON_AddItemToObject(o, "aic", lt_json_number(mr->fit.aic));
         cJSON_AddItemToObject(o, "bic", lt_json_number(mr->fit.bic));
-        cJSON_AddItemToObject(o, "dic", lt_json_number(mr->dic));
-        cJSON_AddItemToObject(o, "p_d", lt_json_number(mr->p_d));
+        cJSON_AddItemToObject(o, "dic", lt_json_number(mr->post.dic));
+        cJSON_AddItemToObject(o, "p_d", lt_json_number(mr->post.p_v));
         cJSON_AddStringToObject(o, "p_d_definition", LT_DIC_P_DEFINITION);
         cJSON_AddBoolToObject(o, "converged", mr->nr.finished && mr->fit.info.converged);
         cJSON *ev = cJSON_AddObjectToObject(o, "evidence");
@@ -413,8 +384,8 @@ int cli_compare(int argc, char **argv)
         for (size_t i = 0; i < d; i++) {
             cJSON *p = cJSON_AddObjectToObject(params, lt_like_param_name(mr->l, i));
             cJSON_AddItemToObject(p, "best", lt_json_number(mr->fit.best[i]));
-            cJSON_AddItemToObject(p, "mean", lt_json_number(mr->mean[i]));
-            cJSON_AddItemToObject(p, "sd", lt_json_number(mr->sd[i]));
+            cJSON_AddItemToObject(p, "mean", lt_json_number(mr->post.stats[mr->post.first_param + i].mean));
+            cJSON_AddItemToObject(p, "sd", lt_json_number(mr->post.stats[mr->post.first_param + i].sd));
             char pr[64];
             lt_prior_format(lt_like_prior(mr->l, i), pr, sizeof pr);
             cJSON_AddStringToObject(p, "prior", pr);
@@ -449,7 +420,7 @@ int cli_compare(int argc, char **argv)
                 snprintf(bb, sizeof bb, "0"), snprintf(rd, sizeof rd, "(reference)");
             printf("  %-10s %2zu %9.3f %+7.3f %9.3f %9.3f %9.3f %17s %15s  %s\n", mr->name,
                    mr->fit.k_counted, mr->fit.at_best.chi2,
-                   mr->fit.at_best.chi2 - runs[0].fit.at_best.chi2, mr->fit.aic, mr->fit.bic, mr->dic,
+                   mr->fit.at_best.chi2 - runs[0].fit.at_best.chi2, mr->fit.aic, mr->fit.bic, mr->post.dic,
                    zb, bb, rd);
         }
         printf("\n  priors:");
@@ -487,6 +458,7 @@ done:
     cJSON_Delete(json);
     for (size_t k = 0; k < nm; k++) {
         lt_nested_result_free(&runs[k].nr);
+        lt_posterior_free(&runs[k].post);
         lt_like_free(runs[k].l);
     }
     lt_survey_free(s);

@@ -84,8 +84,14 @@ int cli_fit(int argc, char **argv)
         snprintf(path, sizeof path, "%s/summary.json", j.out);
         int rc = lt_report_write_json(path, json, &err);
         snprintf(path, sizeof path, "%s/residuals.csv", j.out);
-        if (!rc && s) /* residuals of the survey, where there is one */
-            rc = lt_report_write_residuals(path, l, r.best, &err);
+        if (!rc && s) { /* residuals of the survey, where there is one */
+            double *model = malloc(s->n * sizeof *model);
+            rc = !model ? lt_error_set(&err, LT_ENOMEM, NULL, 0, "out of memory")
+                        : lt_pipeline_predict(l, r.best, model, &err);
+            if (!rc)
+                rc = lt_report_write_residuals(path, l, model, &err);
+            free(model);
+        }
         if (!rc)
             rc = lt_outdir_finish(j.out, what, &err);
         if (rc) {

@@ -22,54 +22,10 @@ static void usage_run(FILE *f)
     fputs(cli_help_run, f);
 }
 
-/* Put "evidence": {ln_z, ln_z_err, ...} into dir/summary.json. */
-static int add_evidence(const char *dir, const lt_nested_result *nr, lt_error *err)
-{
-    char path[4200], *text = NULL;
-    size_t size;
-    snprintf(path, sizeof path, "%.4000s/summary.json", dir);
-    int rc = lt_file_read(path, (size_t)64 << 20, &text, &size, err);
-    if (rc)
-        return rc;
-    cJSON *o = cJSON_Parse(text);
-    free(text);
-    if (!o)
-        return lt_error_set(err, LT_EIO, path, 0, "cannot read back the summary");
-    cJSON_DeleteItemFromObject(o, "evidence");
-    cJSON *ev = cJSON_AddObjectToObject(o, "evidence");
-    cJSON_AddItemToObject(ev, "ln_z", lt_json_number(nr->logz));
-    cJSON_AddItemToObject(ev, "ln_z_err", lt_json_number(nr->logz_err));
-    cJSON_AddItemToObject(ev, "information", lt_json_number(nr->info));
-    cJSON_AddItemToObject(ev, "live_points", lt_json_number(1000));
-    rc = lt_report_write_json(path, o, err);
-    cJSON_Delete(o);
-    return rc;
-}
-
 static int exists(const char *path)
 {
     struct stat st;
     return stat(path, &st) == 0;
-}
-
-/* What an earlier run left of a model: 0 nothing, 1 its sampler's summary
- * (the evidence still to do), 2 the summary with the evidence. *converged
- * is the sampler's verdict. */
-static int model_done(const char *sum, int *converged)
-{
-    char *text = NULL;
-    size_t size;
-    *converged = 1;
-    if (!exists(sum) || lt_file_read(sum, (size_t)64 << 20, &text, &size, NULL))
-        return 0;
-    cJSON *o = cJSON_Parse(text);
-    free(text);
-    if (!o)
-        return 0;
-    int done = cJSON_GetObjectItem(o, "evidence") ? 2 : 1;
-    *converged = !cJSON_IsFalse(cJSON_GetObjectItem(o, "converged"));
-    cJSON_Delete(o);
-    return done;
 }
 
 /* summary.json of the whole run: every model's summary and the comparison. */
@@ -331,22 +287,20 @@ int cli_run(int argc, char **argv)
         goto done;
     }
     static char dirs[MAX_MODELS][4200];
-    int worst = CLI_OK;
     for (size_t k = 0; k < nm; k++) {
         snprintf(dirs[k], sizeof dirs[k], "%s/%s", dir, names[k]);
         char sum[4400], chk[4400];
         snprintf(sum, sizeof sum, "%.4000s/summary.json", dirs[k]);
         snprintf(chk, sizeof chk, "%.4000s/checkpoint/state.bin", dirs[k]);
-        int converged_before = 1, done_before = resume ? model_done(sum, &converged_before) : 0;
-        if (done_before == 2) {
+        /* a model's summary is written once, whole, with its evidence: a
+         * folder with one is done (its convergence is read with the report) */
+        if (resume && exists(sum)) {
             if (!j.quiet)
                 fprintf(stderr, "[%zu/%zu] %s: finished earlier, kept\n", k + 1, nm, names[k]);
-            if (!converged_before)
-                worst = CLI_UNCONVERGED;
             continue;
         }
         int again = resume && exists(chk);
-        if (!j.quiet && !done_before)
+        if (!j.quiet)
             fprintf(stderr, "[%zu/%zu] %s: %s\n", k + 1, nm, names[k],
                     again ? "resuming the sampler" : "best fit, then sampling");
         lt_job mj = j; /* the model's own copy of the settings */
@@ -362,36 +316,9 @@ int cli_run(int argc, char **argv)
             status = cli_report(&err);
             goto done;
         }
-        /* a model whose sampling finished earlier goes straight to its evidence */
-        int st = done_before ? (converged_before ? CLI_OK : CLI_UNCONVERGED)
-                             : cli_sample_model(&mj, l, &spec, dirs[k], again, 0, CLI_TABLE);
-        if (st == CLI_OK || st == CLI_UNCONVERGED) {
-            /* the evidence, added to the model's summary */
-            if (!j.quiet)
-                fprintf(stderr, "[%zu/%zu] %s: evidence by nested sampling\n", k + 1, nm, names[k]);
-            int threads = j.threads > 0 ? (int)j.threads : omp_get_max_threads();
-            lt_nested_result nr;
-            char nck[4400];
-            snprintf(nck, sizeof nck, "%.4000s/checkpoint/nested.bin", dirs[k]);
-            if (!resume) /* an earlier run's, left in a folder given with --force */
-                remove(nck);
-            int rc = lt_pipeline_nested_run(l, 1000, j.seed, threads, nck, cli_catch_signals(),
-                                      &nr, &err);
-            if (rc == LT_OK)
-                rc = add_evidence(dirs[k], &nr, &err);
-            lt_nested_result_free(&nr);
-            if (rc) {
-                lt_like_free(l);
-                if (rc == LT_EINTR) {
-                    fputs("lantern: interrupted; run stopped\n", stderr);
-                    hint = 1;
-                    status = CLI_FAILED;
-                } else {
-                    status = cli_report(&err);
-                }
-                goto done;
-            }
-        }
+        char label[64];
+        snprintf(label, sizeof label, "[%zu/%zu] %s", k + 1, nm, names[k]);
+        int st = cli_sample_model(&mj, l, &spec, dirs[k], again, 0, CLI_TABLE, label);
         lt_like_free(l);
         if (st == CLI_FAILED || st == CLI_USAGE) {
             status = st;
@@ -399,8 +326,6 @@ int cli_run(int argc, char **argv)
                 fputs("lantern: run stopped\n", stderr), hint = 1;
             goto done;
         }
-        if (st == CLI_UNCONVERGED)
-            worst = CLI_UNCONVERGED;
     }
     if (!j.quiet)
         fprintf(stderr, "report: tables and figures in %s/\n", dir);
@@ -413,8 +338,6 @@ int cli_run(int argc, char **argv)
         else
             print_constraints(dir);
     }
-    if (status == CLI_OK)
-        status = worst;
 done:
     /* a failed run leaves the earlier one (or no folder); a stopped one its
      * checkpoints, to resume */

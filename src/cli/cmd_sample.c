@@ -13,6 +13,7 @@
 #include <unistd.h>
 
 #include <cjson/cJSON.h>
+#include <omp.h>
 
 #include "cli.h"
 #include "lantern/report.h"
@@ -66,10 +67,33 @@ static void on_note(const char *text, void *p)
     clock_gettime(CLOCK_MONOTONIC, &pr->start);
 }
 
-static int finish(const lt_job *j, lt_like *l, lt_mcmc *m, cli_format format, const char *out,
-                  int print, const lt_sample_compression *cmp)
+/* The evidence of l by nested sampling with j's live points and seed into
+ * r; its checkpoint in out/checkpoint/nested.bin, continued on resume (a
+ * fresh run removes one an earlier run left, in a folder given --force). */
+static int evidence(const lt_job *j, const lt_like *l, const char *out, int resume,
+                    lt_posterior *r, lt_error *err)
 {
-    lt_sample_result r;
+    char nck[4400];
+    snprintf(nck, sizeof nck, "%.4000s/checkpoint/nested.bin", out);
+    if (!resume)
+        remove(nck);
+    int threads = j->threads > 0 ? (int)j->threads : omp_get_max_threads();
+    lt_nested_result nr;
+    int rc = lt_pipeline_nested_run(l, j->live_points, j->seed, threads, nck,
+                                    cli_catch_signals(), &nr, err);
+    if (rc == LT_OK) {
+        r->ln_z = nr.logz, r->ln_z_err = nr.logz_err, r->information = nr.info;
+        r->live_points = (size_t)j->live_points;
+    }
+    lt_nested_result_free(&nr);
+    return rc;
+}
+
+static int finish(const lt_job *j, lt_like *l, lt_mcmc *m, cli_format format, const char *out,
+                  int print, const lt_sample_compression *cmp, const char *evidence_label,
+                  int resume)
+{
+    lt_posterior r;
     lt_error err;
     lt_error_clear(&err);
     /* the compression still off where more knots did not help: weight a
@@ -78,7 +102,7 @@ static int finish(const lt_job *j, lt_like *l, lt_mcmc *m, cli_format format, co
     if (off)
         fprintf(stderr, "lantern: weighting the draws by the exact likelihood (at most %zu of "
                         "them evaluated)\n", lt_like_reweight_draws(l));
-    if (lt_sample_collect(l, m, off ? lt_like_reweight_draws(l) : 0, &r, &err))
+    if (lt_pipeline_mcmc_posterior(l, m, off ? lt_like_reweight_draws(l) : 0, &r, &err))
         return cli_report(&err);
     r.compression = *cmp;
     if (off) {
@@ -89,13 +113,25 @@ static int finish(const lt_job *j, lt_like *l, lt_mcmc *m, cli_format format, co
             fprintf(stderr, "lantern: warning: the weighted draws' effective sample size %.0f is "
                             "below --target-ess %g\n", r.ess_min_weighted, j->target_ess);
     }
-    cJSON *json = lt_report_sample_json(l, &r, &j->data, j->seed);
     for (size_t i = 0; i < r.nparams; i++) {
         char note[256];
         if (lt_post_edge_note(r.cols[r.first_param + i], lt_like_prior(l, i), r.edge_lo[i],
                               r.edge_hi[i], note, sizeof note))
             fprintf(stderr, "lantern: warning: %s: %s\n", lt_like_model(l)->name, note);
     }
+    if (evidence_label) {
+        if (!j->quiet)
+            fprintf(stderr, "%s: evidence by nested sampling\n", evidence_label);
+        int rc = evidence(j, l, out, resume, &r, &err);
+        if (rc) {
+            lt_posterior_free(&r);
+            if (rc != LT_EINTR)
+                return cli_report(&err);
+            fputs("lantern: interrupted during the evidence; the checkpoints are kept\n", stderr);
+            return CLI_FAILED;
+        }
+    }
+    cJSON *json = lt_report_sample_json(l, &r, &j->data, j->seed);
     if (!print) {
     } else if (format == CLI_JSON) {
         char *text = cJSON_Print(json);
@@ -120,7 +156,7 @@ static int finish(const lt_job *j, lt_like *l, lt_mcmc *m, cli_format format, co
               stderr);
         /* ESS grows about linearly with the draws once the chains mix: say
          * what cap should reach the target at the rate seen so far. */
-        double e = r.diag ? r.diag->ess_min : NAN;
+        double e = r.diag.ess_min;
         if (isfinite(e) && e > 0.0 && e < j->target_ess)
             fprintf(stderr,
                     "lantern: the smallest ESS is %.0f after %zu draws per chain; at that rate "
@@ -130,12 +166,12 @@ static int finish(const lt_job *j, lt_like *l, lt_mcmc *m, cli_format format, co
         status = CLI_UNCONVERGED;
     }
     cJSON_Delete(json);
-    lt_sample_result_free(&r);
+    lt_posterior_free(&r);
     return status;
 }
 
 int cli_sample_model(lt_job *j, lt_like *l, const lt_like_spec *spec, const char *out,
-                     int resume, int print, cli_format format)
+                     int resume, int print, cli_format format, const char *evidence_label)
 {
     int status = CLI_OK, prepared = 0;
     lt_error err;
@@ -172,7 +208,7 @@ int cli_sample_model(lt_job *j, lt_like *l, const lt_like_spec *spec, const char
     } else if (rc) {
         status = cli_report(&err);
     } else {
-        status = finish(j, l, p.m, format, out, print, &p.cmp);
+        status = finish(j, l, p.m, format, out, print, &p.cmp, evidence_label, resume);
     }
 done:
     /* a failure leaves the earlier run (or no folder) behind, a checkpoint
@@ -266,7 +302,7 @@ int cli_sample(int argc, char **argv)
         goto done;
     }
     cli_print_warnings(s);
-    status = cli_sample_model(&j, l, &spec, j.out, resume != NULL, 1, format);
+    status = cli_sample_model(&j, l, &spec, j.out, resume != NULL, 1, format, NULL);
 done:
     lt_like_free(l);
     lt_survey_free(s);

@@ -14,15 +14,9 @@
 #include "lantern/inference.h"
 #include "lantern/likelihood.h"
 
-typedef struct {
-    const lt_like *l;
-    lt_like_work *w;
-} fit_ctx;
-
-/* -2 ln posterior */
-static double objective(const double *x, void *p)
+double lt_like_neg2logpost(const double *x, void *p)
 {
-    fit_ctx *c = p;
+    lt_like_chain *c = p;
     lt_like_point pt;
     lt_like_eval(c->l, c->w, x, &pt);
     return -2.0 * pt.logpost;
@@ -96,7 +90,7 @@ int lt_fit_run(const lt_like *l, const lt_fit_opts *o, lt_fit_result *r, lt_erro
     memset(r, 0, sizeof *r);
     size_t d = lt_like_dim(l);
     r->dim = d;
-    fit_ctx ctx = {l, lt_like_work_alloc(l)};
+    lt_like_chain ctx = {l, lt_like_work_alloc(l)};
     size_t nstarts = o->starts ? o->starts : 1;
     double *starts = malloc((nstarts * d + 1) * sizeof *starts);
     double scale[LT_MAX_FREE];
@@ -117,17 +111,19 @@ int lt_fit_run(const lt_like *l, const lt_fit_opts *o, lt_fit_result *r, lt_erro
         do {
             for (size_t i = 0; i < d; i++)
                 prior_point(lt_like_prior(l, i), rng, k == 0 && tries == 0, &x[i]);
-        } while (!isfinite(objective(x, &ctx)) && ++tries < 10000);
+        } while (!isfinite(lt_like_neg2logpost(x, &ctx)) && ++tries < 10000);
     }
     lt_optim_opts oo = {.dim = d, .nstarts = nstarts, .starts = starts, .scale = scale,
                         .tol = 1e-8, .max_evals = 2000 * (d + 1), .stop = o->stop};
-    if ((rc = lt_optimize(objective, &ctx, &oo, r->best, &r->f_best, &r->info, err)))
+    if ((rc = lt_optimize(lt_like_neg2logpost, &ctx, &oo, r->best, &r->f_best, &r->info, err)))
         goto done;
     lt_like_eval(l, ctx.w, r->best, &r->at_best);
+    for (size_t k = 0; k < lt_like_nmeasurements(l); k++)
+        r->measured[k] = lt_like_quantity(l, r->best, lt_like_measurement(l, k)->name);
 
     size_t bad;
     lt_error lerr;
-    r->laplace_ok = lt_laplace(objective, &ctx, d, r->best, scale, r->cov, &bad, &lerr) == LT_OK;
+    r->laplace_ok = lt_laplace(lt_like_neg2logpost, &ctx, d, r->best, scale, r->cov, &bad, &lerr) == LT_OK;
     if (!r->laplace_ok) {
         snprintf(r->laplace_note, sizeof r->laplace_note, "%s", lerr.msg);
         if (bad < d)

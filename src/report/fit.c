@@ -103,7 +103,7 @@ void lt_report_describe_data(const lt_like *l, const lt_survey_spec *data, char 
                  nm == 1 ? "" : "s");
 }
 
-void lt_report_add_fixed(cJSON *o, const lt_like *l, const double *best)
+void lt_report_add_fixed(cJSON *o, const lt_like *l, const double *measured)
 {
     cJSON *fixed = cJSON_AddObjectToObject(o, "fixed");
     for (size_t k = 0; k < lt_like_nfixed(l); k++)
@@ -117,18 +117,18 @@ void lt_report_add_fixed(cJSON *o, const lt_like *l, const double *best)
         cJSON_AddStringToObject(e, "name", m->name);
         cJSON_AddItemToObject(e, "mean", num(m->mean));
         cJSON_AddItemToObject(e, "sd", num(m->sd));
-        double x = lt_like_quantity(l, best, m->name);
+        double x = measured[k];
         cJSON_AddItemToObject(e, "at_best", num(x));
         cJSON_AddItemToObject(e, "pull", num((x - m->mean) / m->sd));
         cJSON_AddItemToArray(ms, e);
     }
 }
 
-void lt_report_print_measurements(FILE *f, const lt_like *l, const double *best)
+void lt_report_print_measurements(FILE *f, const lt_like *l, const double *measured)
 {
     for (size_t k = 0; k < lt_like_nmeasurements(l); k++) {
         const lt_measurement *m = lt_like_measurement(l, k);
-        double x = lt_like_quantity(l, best, m->name);
+        double x = measured[k];
         fprintf(f, "  measured %s = %g +- %g: %.6g at the best fit, pull %+.2f\n", m->name,
                 m->mean, m->sd, x, (x - m->mean) / m->sd);
     }
@@ -193,7 +193,7 @@ cJSON *lt_report_fit_json(const lt_like *l, const lt_fit_result *r, const lt_sur
     if (lt_like_offset_mode(l) != LT_OFFSET_NONE)
         cJSON_AddItemToObject(off, "best", num(r->at_best.offset));
 
-    lt_report_add_fixed(o, l, r->best);
+    lt_report_add_fixed(o, l, r->measured);
     const char *note = h0_note(l);
     if (note)
         cJSON_AddStringToObject(o, "h0_note", note);
@@ -275,7 +275,7 @@ void lt_report_fit_table(FILE *f, const lt_like *l, const lt_fit_result *r,
     if (base.t_cmb > 0.0)
         fprintf(f, ", n_eff = %g", base.n_eff);
     fputs(first ? "\n" : "\n", f);
-    lt_report_print_measurements(f, l, r->best);
+    lt_report_print_measurements(f, l, r->measured);
     lt_offset_mode om = lt_like_offset_mode(l);
     if (om == LT_OFFSET_MARGINAL)
         fprintf(f, "  offset: marginalised analytically (flat prior); best value %.5g\n",
@@ -295,20 +295,17 @@ void lt_report_fit_table(FILE *f, const lt_like *l, const lt_fit_result *r,
                 r->dim ? " (the sigmas shown as -)" : "");
 }
 
-int lt_report_write_residuals(const char *path, const lt_like *l, const double *theta,
+int lt_report_write_residuals(const char *path, const lt_like *l, const double *model,
                               lt_error *err)
 {
     const lt_survey *s = lt_like_survey(l);
     size_t n = s->n;
-    double *model = malloc(n * sizeof *model), *var = malloc(n * sizeof *var);
-    lt_like_work *w = lt_like_work_alloc(l);
+    double *var = malloc((n ? n : 1) * sizeof *var);
     int rc = LT_OK;
-    if (!model || !var || !w) {
+    if (!var) {
         rc = lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
         goto done;
     }
-    if ((rc = lt_like_predict(l, w, theta, model, err)))
-        goto done;
     lt_cov_diagonal(s->cov, var);
     char tmp[4200];
     lt_tmp_name(path, tmp, sizeof tmp);
@@ -342,8 +339,6 @@ int lt_report_write_residuals(const char *path, const lt_like *l, const double *
     }
     rc = lt_file_commit(path, err);
 done:
-    free(model);
     free(var);
-    lt_like_work_free(w);
     return rc;
 }

@@ -1,6 +1,6 @@
 /*
- * Sampled posteriors: collecting the draws with derived columns, the JSON
- * summary, the table, and the chain files (CSV and FITS).
+ * Sampled posteriors as the user sees them: the JSON summary, the table,
+ * and the chain files (CSV and FITS).
  */
 #include <errno.h>
 #include <math.h>
@@ -15,266 +15,6 @@
 #include "lantern/json.h"
 #include "lantern/report.h"
 #include "lantern/version.h"
-
-#define LOGPOST 0
-#define CHI2 1
-
-void lt_sample_result_free(lt_sample_result *r)
-{
-    for (size_t i = 0; r->cols && i < r->ncols; i++)
-        free(r->cols[i]);
-    free(r->cols);
-    free(r->rows);
-    free(r->stats);
-    free(r->cov);
-    free(r->weights);
-    memset(r, 0, sizeof *r);
-}
-
-typedef struct {
-    const lt_like *l;
-    lt_like_work *w;
-} polish_ctx;
-
-static double neg2logpost(const double *x, void *p)
-{
-    polish_ctx *c = p;
-    lt_like_point pt;
-    lt_like_eval(c->l, c->w, x, &pt);
-    return -2.0 * pt.logpost;
-}
-
-/*
- * The importance weights of the rows (see lt_sample_collect): each row's
- * exact logpost and chi2 replace the compressed ones, and its weight is
- * their ratio, normalised to mean 1 (the largest log-ratio taken out first
- * so that no exponential overflows).
- */
-static int weigh_rows(const lt_like *l, lt_sample_result *r, lt_error *err)
-{
-    size_t total = r->nchains * r->ndraws;
-    lt_like_point *pt = malloc((total ? total : 1) * sizeof *pt);
-    r->weights = malloc((total ? total : 1) * sizeof *r->weights);
-    if (!pt || !r->weights) {
-        free(pt);
-        return lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory weighting the draws");
-    }
-    int rc = lt_like_eval_exact_many(l, r->rows + r->first_param, total, r->ncols, pt, err);
-    double top = -INFINITY, sum = 0.0;
-    r->max_abs_dchi2 = 0.0;
-    for (size_t j = 0; !rc && j < total; j++) {
-        double *row = r->rows + j * r->ncols;
-        int ok = pt[j].domain_ok && isfinite(pt[j].logpost) && isfinite(row[LOGPOST]);
-        r->weights[j] = ok ? pt[j].logpost - row[LOGPOST] : -INFINITY;
-        if (ok)
-            r->max_abs_dchi2 = fmax(r->max_abs_dchi2, fabs(pt[j].chi2 - row[CHI2]));
-        row[LOGPOST] = pt[j].domain_ok ? pt[j].logpost : -INFINITY;
-        row[CHI2] = pt[j].domain_ok ? pt[j].chi2 : NAN;
-        top = fmax(top, r->weights[j]);
-    }
-    free(pt);
-    if (rc)
-        return rc;
-    if (!isfinite(top))
-        return lt_error_set(err, LT_EDOMAIN, NULL, 0,
-                            "no posterior draw lies inside the exact likelihood's domain");
-    for (size_t j = 0; j < total; j++)
-        sum += r->weights[j] = exp(r->weights[j] - top);
-    double sum2 = 0.0;
-    for (size_t j = 0; j < total; j++) {
-        r->weights[j] *= (double)total / sum;
-        sum2 += r->weights[j] * r->weights[j];
-    }
-    r->kish_ess = (double)total * (double)total / sum2;
-    return LT_OK;
-}
-
-/* The weighted ESS of each parameter: the smallest of those of its mean
- * and of the indicators of its weighted 5% and 95% quantiles (DESIGN.md's
- * ess_min for weighted draws). */
-static int weighted_ess(lt_sample_result *r)
-{
-    size_t total = r->nchains * r->ndraws;
-    double *x = malloc((total ? total : 1) * sizeof *x), *f = malloc((total ? total : 1) * sizeof *f);
-    if (!x || !f) {
-        free(x);
-        free(f);
-        return -1;
-    }
-    r->ess_min_weighted = INFINITY;
-    for (size_t i = 0; i < r->nparams; i++) {
-        for (size_t j = 0; j < total; j++)
-            x[j] = r->rows[j * r->ncols + r->first_param + i];
-        double e = lt_diag_ess_weighted(x, r->weights, r->nchains, r->ndraws);
-        for (int t = 0; t < 2; t++) {
-            double q = lt_post_quantile(x, r->weights, total, t ? 0.95 : 0.05);
-            for (size_t j = 0; j < total; j++)
-                f[j] = isnan(x[j]) ? NAN : x[j] <= q;
-            e = fmin(e, lt_diag_ess_weighted(f, r->weights, r->nchains, r->ndraws));
-        }
-        r->ess_weighted[i] = e;
-        r->ess_min_weighted = fmin(r->ess_min_weighted, e);
-    }
-    free(x);
-    free(f);
-    return 0;
-}
-
-int lt_sample_collect(const lt_like *l, const lt_mcmc *m, size_t reweight, lt_sample_result *r,
-                      lt_error *err)
-{
-    memset(r, 0, sizeof *r);
-    const lt_mcmc_opts *o = lt_mcmc_options(m);
-    size_t d = lt_like_dim(l), nc = o->nchains, row = lt_mcmc_row_size(m);
-    size_t n = SIZE_MAX;
-    for (size_t c = 0; c < nc; c++) {
-        size_t k;
-        lt_mcmc_draws(m, c, &k);
-        n = k < n ? k : n;
-    }
-    int der[LT_NDER + 1], nder = 0;
-    int iw0 = lt_like_param_index(l, "w0"), iwa = lt_like_param_index(l, "wa");
-    for (int k = 0; k < LT_NDER; k++)
-        if (lt_like_has_derived(l, k))
-            der[nder++] = k;
-    int pivot = iw0 >= 0 && iwa >= 0;
-    /* to weigh the draws, keep every thin-th of each chain: at most reweight */
-    size_t thin = reweight ? (nc * n + reweight - 1) / reweight : 1, steps = n;
-    thin = thin ? thin : 1;
-    n = (n + thin - 1) / thin;
-    r->nchains = nc, r->ndraws = n, r->thin = thin;
-    r->first_param = 2, r->nparams = d;
-    r->first_derived = 2 + d, r->nderived = (size_t)nder + (pivot ? 1 : 0);
-    r->ncols = 2 + d + r->nderived;
-    r->cols = calloc(r->ncols, sizeof *r->cols);
-    r->rows = malloc((nc * n + 1) * r->ncols * sizeof *r->rows);
-    r->stats = calloc(r->ncols, sizeof *r->stats);
-    r->cov = calloc(d * d + 1, sizeof *r->cov);
-    if (!r->cols || !r->rows || !r->stats || !r->cov)
-        goto nomem;
-    r->cols[0] = strdup("logpost");
-    r->cols[1] = strdup("chi2");
-    for (size_t i = 0; i < d; i++)
-        r->cols[2 + i] = strdup(lt_like_param_name(l, i));
-    for (int k = 0; k < nder; k++)
-        r->cols[2 + d + k] = strdup(lt_derived_name(der[k]));
-    if (pivot)
-        r->cols[2 + d + nder] = strdup("w_pivot");
-    for (size_t i = 0; i < r->ncols; i++)
-        if (!r->cols[i])
-            goto nomem;
-    for (size_t c = 0; c < nc; c++) {
-        size_t k;
-        const double *dr = lt_mcmc_draws(m, c, &k);
-        for (size_t i = 0; i < n; i++) {
-            double *out = r->rows + (c * n + i) * r->ncols;
-            const double *in = dr + i * thin * row;
-            out[LOGPOST] = in[d];
-            out[CHI2] = o->nextra ? in[d + 1] : NAN;
-            memcpy(out + 2, in, d * sizeof *out);
-        }
-    }
-    size_t total = nc * n;
-    if (reweight) {
-        int rc = weigh_rows(l, r, err);
-        if (rc) {
-            lt_sample_result_free(r);
-            return rc;
-        }
-    }
-    const double *wt = r->weights;
-    /* the posterior covariance of the parameters (weighted: the unbiased
-     * divisor W - sum w^2 / W of reliability weights, total - 1 unweighted) */
-    double mean[LT_MAX_FREE] = {0}, W = 0.0, W2 = 0.0;
-    for (size_t j = 0; j < total; j++)
-        W += wt ? wt[j] : 1.0, W2 += wt ? wt[j] * wt[j] : 1.0;
-    double denom = wt ? W - W2 / W : (double)(total > 1 ? total - 1 : 1);
-    for (size_t j = 0; j < total; j++)
-        for (size_t i = 0; i < d; i++)
-            mean[i] += (wt ? wt[j] : 1.0) * r->rows[j * r->ncols + 2 + i] / W;
-    for (size_t j = 0; j < total; j++)
-        for (size_t a = 0; a < d; a++)
-            for (size_t b = 0; b < d; b++)
-                r->cov[a * d + b] += (wt ? wt[j] : 1.0) * (r->rows[j * r->ncols + 2 + a] - mean[a]) *
-                                     (r->rows[j * r->ncols + 2 + b] - mean[b]) / denom;
-    r->z_pivot = NAN;
-    double one_minus_ap = NAN;
-    if (pivot) {
-        r->z_pivot = lt_pivot_redshift(r->cov[iw0 * d + iwa], r->cov[iwa * d + iwa]);
-        one_minus_ap = 1.0 - 1.0 / (1.0 + r->z_pivot);
-    }
-    /* derived columns, draw by draw (each a pure function of its draw) */
-#pragma omp parallel for schedule(dynamic, 256)
-    for (size_t j = 0; j < total; j++) {
-        double *out = r->rows + j * r->ncols;
-        for (int k = 0; k < nder; k++)
-            out[2 + d + k] = lt_like_derived(l, out + 2, der[k]);
-        if (pivot)
-            out[2 + d + nder] = out[2 + iw0] + out[2 + iwa] * one_minus_ap;
-    }
-    for (size_t col = 2; col < r->ncols; col++) {
-        double *x = malloc((total ? total : 1) * sizeof *x);
-        if (!x)
-            goto nomem;
-        for (size_t j = 0; j < total; j++)
-            x[j] = r->rows[j * r->ncols + col];
-        lt_post_summarise_weighted(x, wt, total, &r->stats[col]);
-        free(x);
-    }
-    /* the best draw, polished: chi2_min */
-    size_t jbest = 0;
-    for (size_t j = 1; j < total; j++)
-        if (r->rows[j * r->ncols] > r->rows[jbest * r->ncols])
-            jbest = j;
-    polish_ctx pc = {l, lt_like_work_alloc(l)};
-    if (!pc.w)
-        goto nomem;
-    double scale[LT_MAX_FREE], x0[LT_MAX_FREE];
-    for (size_t i = 0; i < d; i++) {
-        scale[i] = isfinite(r->stats[2 + i].sd) && r->stats[2 + i].sd > 0 ? r->stats[2 + i].sd : 1.0;
-        x0[i] = total ? r->rows[jbest * r->ncols + 2 + i] : 0.0;
-    }
-    lt_optim_opts oo = {.dim = d, .nstarts = 1, .starts = x0, .scale = scale, .tol = 1e-10,
-                        .max_evals = 4000 * (d + 1), .stop = NULL};
-    lt_optim_info info;
-    double f;
-    if (lt_optimize(neg2logpost, &pc, &oo, r->best, &f, &info, err)) {
-        lt_like_work_free(pc.w);
-        return err ? err->code : LT_ENUMERIC;
-    }
-    /* weighted draws report the exact chi2 at the point the compressed
-     * path found best (off by the square of a tiny shift) */
-    (wt ? lt_like_eval_exact : lt_like_eval)(l, pc.w, r->best, &r->at_best);
-    lt_like_work_free(pc.w);
-    for (int k = 0; k < nder; k++)
-        r->best_derived[k] = lt_like_derived(l, r->best, der[k]);
-    if (pivot)
-        r->best_derived[nder] = r->best[iw0] + r->best[iwa] * one_minus_ap;
-    /* how much of each posterior lies at the edges of a uniform prior */
-    double *x = malloc((total ? total : 1) * sizeof *x);
-    if (!x)
-        goto nomem;
-    for (size_t i = 0; i < d; i++) {
-        const lt_prior *p = lt_like_prior(l, i);
-        r->edge_lo[i] = r->edge_hi[i] = NAN;
-        if (p->kind != LT_PRIOR_UNIFORM)
-            continue;
-        for (size_t j = 0; j < total; j++)
-            x[j] = r->rows[j * r->ncols + 2 + i];
-        lt_post_edge_density(x, wt, total, p->a, p->b, &r->edge_lo[i], &r->edge_hi[i]);
-    }
-    free(x);
-    if (wt && weighted_ess(r))
-        goto nomem;
-    r->converged = lt_mcmc_converged(m);
-    r->diag = lt_mcmc_diagnostics(m);
-    r->warmup = o->warmup;
-    r->steps = steps;
-    return LT_OK;
-nomem:
-    lt_sample_result_free(r);
-    return lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory summarising the draws");
-}
 
 static cJSON *num(double v) { return lt_json_number(v); }
 
@@ -296,7 +36,7 @@ static cJSON *stats_json(const lt_post_stats *s, double best)
     return o;
 }
 
-cJSON *lt_report_sample_json(const lt_like *l, const lt_sample_result *r,
+cJSON *lt_report_sample_json(const lt_like *l, const lt_posterior *r,
                              const lt_survey_spec *data, unsigned long seed)
 {
     const lt_survey *s = lt_like_survey(l);
@@ -313,7 +53,7 @@ cJSON *lt_report_sample_json(const lt_like *l, const lt_sample_result *r,
     cJSON_AddItemToObject(o, "aic", num(r->at_best.chi2 + 2.0 * (double)kp));
     cJSON_AddItemToObject(o, "bic", num(r->at_best.chi2 + (double)kp * log((double)lt_like_ndata(l))));
     cJSON_AddBoolToObject(o, "converged", r->converged);
-    lt_report_add_fixed(o, l, r->best);
+    lt_report_add_fixed(o, l, r->measured);
     cJSON *params = cJSON_AddObjectToObject(o, "params");
     for (size_t i = 0; i < d; i++) {
         cJSON *p = stats_json(&r->stats[r->first_param + i], r->best[i]);
@@ -333,7 +73,7 @@ cJSON *lt_report_sample_json(const lt_like *l, const lt_sample_result *r,
     if (lt_like_offset_mode(l) != LT_OFFSET_NONE)
         cJSON_AddItemToObject(off, "best", num(r->at_best.offset));
 
-    const lt_mcmc_diag *dg = r->diag;
+    const lt_mcmc_diag *dg = &r->diag;
     cJSON_AddBoolToObject(o, "weighted", r->weights != NULL);
     cJSON *cv = cJSON_AddObjectToObject(o, "convergence");
     /* weighted draws (DESIGN.md): R-hat null, ess_min the weighted one; the
@@ -416,10 +156,18 @@ cJSON *lt_report_sample_json(const lt_like *l, const lt_sample_result *r,
                               r->edge_hi[i], note, sizeof note))
             cJSON_AddItemToArray(w, cJSON_CreateString(note));
     }
+    /* the evidence, where a nested run gave one (lantern run), last */
+    if (isfinite(r->ln_z)) {
+        cJSON *ev = cJSON_AddObjectToObject(o, "evidence");
+        cJSON_AddItemToObject(ev, "ln_z", num(r->ln_z));
+        cJSON_AddItemToObject(ev, "ln_z_err", num(r->ln_z_err));
+        cJSON_AddItemToObject(ev, "information", num(r->information));
+        cJSON_AddItemToObject(ev, "live_points", num((double)r->live_points));
+    }
     return o;
 }
 
-void lt_report_sample_table(FILE *f, const lt_like *l, const lt_sample_result *r,
+void lt_report_sample_table(FILE *f, const lt_like *l, const lt_posterior *r,
                             const lt_survey_spec *data)
 {
     char what[4400];
@@ -437,29 +185,29 @@ void lt_report_sample_table(FILE *f, const lt_like *l, const lt_sample_result *r
         fprintf(f, "  %-10s %11.5g %10.4g %11.5g   [%9.5g, %9.5g]   [%9.5g, %9.5g]", r->cols[col],
                 st->mean, st->sd, best, st->lo68, st->hi68, st->lo95, st->hi95);
         if (k < r->nparams)
-            fprintf(f, " %7.4f %7.0f", r->diag->rhat[k],
-                    r->weights ? r->ess_weighted[k] : fmin(r->diag->ess_bulk[k], r->diag->ess_tail[k]));
+            fprintf(f, " %7.4f %7.0f", r->diag.rhat[k],
+                    r->weights ? r->ess_weighted[k] : fmin(r->diag.ess_bulk[k], r->diag.ess_tail[k]));
         fputc('\n', f);
     }
     if (!isnan(r->z_pivot))
         fprintf(f, "  z_pivot    %11.5g (from the posterior covariance of w0 and wa)\n", r->z_pivot);
     if (lt_like_nmeasurements(l))
         fputc('\n', f);
-    lt_report_print_measurements(f, l, r->best);
+    lt_report_print_measurements(f, l, r->measured);
     fprintf(f, "\n  chi2_min %.4f for %ld degrees of freedom (the best draw, polished)\n",
             r->at_best.chi2, lt_like_dof(l));
     if (r->weights)
         fprintf(f, "  %zu chains x %zu draws after %zu warm-up steps, worst R-hat %.4f; weighted by the "
                    "exact likelihood: %zu chains x %zu draws (one in %zu), smallest weighted ESS %.0f%s\n",
-                r->nchains, r->steps, r->warmup, r->diag->rhat_max, r->nchains, r->ndraws, r->thin,
+                r->nchains, r->steps, r->warmup, r->diag.rhat_max, r->nchains, r->ndraws, r->thin,
                 r->ess_min_weighted, r->converged ? "" : "; NOT CONVERGED");
     else
         fprintf(f, "  %zu chains x %zu draws after %zu warm-up steps; worst R-hat %.4f, smallest ESS %.0f%s\n",
-                r->nchains, r->ndraws, r->warmup, r->diag->rhat_max, r->diag->ess_min,
+                r->nchains, r->ndraws, r->warmup, r->diag.rhat_max, r->diag.ess_min,
                 r->converged ? "" : "; NOT CONVERGED");
 }
 
-void lt_report_compression_warning(const lt_sample_result *r, char *buf, size_t size)
+void lt_report_compression_warning(const lt_posterior *r, char *buf, size_t size)
 {
     if (!r->weights) {
         snprintf(buf, size,
@@ -482,7 +230,7 @@ void lt_report_compression_warning(const lt_sample_result *r, char *buf, size_t 
              r->ess_min_weighted);
 }
 
-static int csv_write(const char *path, const lt_sample_result *r, lt_error *err)
+static int csv_write(const char *path, const lt_posterior *r, lt_error *err)
 {
     char tmp[4200];
     lt_tmp_name(path, tmp, sizeof tmp);
@@ -512,7 +260,7 @@ static int csv_write(const char *path, const lt_sample_result *r, lt_error *err)
     return lt_file_close_commit(f, path, err);
 }
 
-static int fits_write(const char *path, const lt_like *l, const lt_sample_result *r,
+static int fits_write(const char *path, const lt_like *l, const lt_posterior *r,
                       const lt_survey_spec *data, unsigned long seed, lt_error *err)
 {
     char tmp[4200];
@@ -541,8 +289,8 @@ static int fits_write(const char *path, const lt_like *l, const lt_sample_result
     snprintf(model, sizeof model, "%s", lt_like_model(l)->name);
     long lseed = (long)seed, lchains = (long)r->nchains;
     int conv = r->converged;
-    double rhat = r->weights ? NAN : r->diag->rhat_max;
-    double ess = r->weights ? r->ess_min_weighted : r->diag->ess_min;
+    double rhat = r->weights ? NAN : r->diag.rhat_max;
+    double ess = r->weights ? r->ess_min_weighted : r->diag.ess_min;
     fits_update_key(f, TSTRING, "CREATOR", version, "program that wrote this file", &status);
     fits_update_key(f, TSTRING, "MODEL", model, "cosmological model", &status);
     fits_update_key_longstr(f, "DATAFILE", (char *)(data->data ? data->data : ""), "survey table", &status);
@@ -596,7 +344,7 @@ done:
     return rc;
 }
 
-int lt_report_write_chains(const char *dir, const lt_like *l, const lt_sample_result *r,
+int lt_report_write_chains(const char *dir, const lt_like *l, const lt_posterior *r,
                            const lt_survey_spec *data, unsigned long seed, lt_error *err)
 {
     char path[4096];

@@ -31,6 +31,28 @@ else
     fail "callgraph: finds a loop and a likelihood -> inference call"
 fi
 
+# The symbol rules can fail too: a report file that evaluates a likelihood,
+# a posterior file that runs the optimiser, and a pipeline file that prints
+# (DESIGN.md's module table: report must not compute likelihoods, posterior
+# must not run a likelihood, pipeline must not print).
+mkdir -p "$E2E_TMP/s/src/report" "$E2E_TMP/s/src/posterior" "$E2E_TMP/s/src/pipeline"
+printf 'void lt_like_eval(void);\nvoid r(void) { lt_like_eval(); }\n' >"$E2E_TMP/r.c"
+printf 'int lt_optimize(void);\nint q(void) { return lt_optimize(); }\n' >"$E2E_TMP/q.c"
+printf '#include <stdio.h>\nvoid p(int n) { fprintf(stderr, "%%d", n); }\n' >"$E2E_TMP/p.c"
+cc -c "$E2E_TMP/r.c" -o "$E2E_TMP/s/src/report/r.o" &&
+    cc -c "$E2E_TMP/q.c" -o "$E2E_TMP/s/src/posterior/q.o" &&
+    cc -c "$E2E_TMP/p.c" -o "$E2E_TMP/s/src/pipeline/p.o"
+run /usr/bin/python3 "$ROOT/scripts/callgraph.py" "$E2E_TMP/s"
+if [ "$STATUS" -eq 1 ] &&
+    grep -q '^report must not compute likelihoods: src/report/r.c uses lt_like_eval' "$OUT" &&
+    grep -q '^posterior must not run a likelihood: src/posterior/q.c uses lt_optimize' "$OUT" &&
+    grep -q '^library code must not print: src/pipeline/p.c uses stderr' "$OUT" &&
+    grep -q '^pipeline must not print: src/pipeline/p.c uses fprintf' "$OUT"; then
+    pass "callgraph: finds a report computing a likelihood, a posterior optimising, a pipeline printing"
+else
+    fail "callgraph: finds a report computing a likelihood, a posterior optimising, a pipeline printing"
+fi
+
 # Headers: library sources include the util headers they use, not the
 # umbrellas (lantern/util.h, lantern/lantern.h); and every public header
 # includes at its top, before its first declaration (issue 17: inference.h

@@ -312,7 +312,7 @@ static void test_pantheon_zmin08_posterior(void **state)
 /*
  * The fallback where more knots do not help (issue 16, item 5): draws of a
  * compressed likelihood that misses its bound, weighted by the exact path
- * (lt_sample_collect with reweight), must give the exact posterior. Here
+ * (lt_pipeline_mcmc_posterior with reweight), must give the exact posterior. Here
  * the compression is made coarse on purpose (the fewest knots) on the 1048
  * objects of the Pantheon table, flat w0-wa, and the weighted means and sds
  * are compared with those of an independent run of the sampler on the exact
@@ -339,11 +339,11 @@ static void test_pantheon_weighted(void **state)
     lt_mcmc *mc, *mx;
     lt_like_chain cc[4] = {{0}}, cx[4] = {{0}};
     sample(lc, cc, &mc);
-    lt_sample_result rw, ru, rx;
-    assert_int_equal(lt_sample_collect(lc, mc, 4000, &rw, &err), LT_OK);
-    assert_int_equal(lt_sample_collect(lc, mc, 0, &ru, &err), LT_OK);
+    lt_posterior rw, ru, rx;
+    assert_int_equal(lt_pipeline_mcmc_posterior(lc, mc, 4000, &rw, &err), LT_OK);
+    assert_int_equal(lt_pipeline_mcmc_posterior(lc, mc, 0, &ru, &err), LT_OK);
     sample(lx, cx, &mx);
-    assert_int_equal(lt_sample_collect(lx, mx, 0, &rx, &err), LT_OK);
+    assert_int_equal(lt_pipeline_mcmc_posterior(lx, mx, 0, &rx, &err), LT_OK);
     print_message("coarse compression: |dchi2| up to %.3f on %zu weighted draws (one in %zu), "
                   "Kish ESS %.0f, weighted ESS %.0f\n", rw.max_abs_dchi2, rw.nchains * rw.ndraws,
                   rw.thin, rw.kish_ess, rw.ess_min_weighted);
@@ -352,7 +352,7 @@ static void test_pantheon_weighted(void **state)
     for (size_t i = 0; i < rw.nparams; i++) {
         const lt_post_stats *a = &rw.stats[rw.first_param + i], *b = &rx.stats[rx.first_param + i];
         const lt_post_stats *u = &ru.stats[ru.first_param + i];
-        double ex = fmin(rx.diag->ess_bulk[i], rx.diag->ess_tail[i]);
+        double ex = fmin(rx.diag.ess_bulk[i], rx.diag.ess_tail[i]);
         double mc_err = b->sd * sqrt(1.0 / rw.ess_weighted[i] + 1.0 / ex);
         double zw = fabs(a->mean - b->mean) / mc_err, zu = fabs(u->mean - b->mean) / mc_err;
         print_message("  %-10s exact %.4f +- %.4f; weighted %.4f +- %.4f (%.1f MC sigma); "
@@ -421,9 +421,9 @@ static void test_pantheon_weighted(void **state)
     snprintf(path, sizeof path, "%s/chains.fits", dir);
     remove(path);
     rmdir(dir);
-    lt_sample_result_free(&rw);
-    lt_sample_result_free(&ru);
-    lt_sample_result_free(&rx);
+    lt_posterior_free(&rw);
+    lt_posterior_free(&ru);
+    lt_posterior_free(&rx);
     lt_mcmc_free(mc);
     lt_mcmc_free(mx);
     for (int k = 0; k < 4; k++)

@@ -1,10 +1,10 @@
-/* Posterior summaries of draws: see include/lantern/report.h. */
+/* Summaries of draws: see include/lantern/posterior.h. */
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 
-#include "lantern/report.h"
+#include "lantern/posterior.h"
 
 static int cmp_double(const void *a, const void *b)
 {
