@@ -131,6 +131,30 @@ if [ "$STATUS" -eq 0 ] && [ "$kills" -ge 1 ] && [ "$same" -eq 1 ] && cmp -s "$OU
 else
     fail "compare killed at four points ($kills resumed runs killed) and resumed: byte-identical results"
 fi
+# The posterior moments are the weighted ones of the draws written beside
+# them (nested_MODEL.csv), by numpy: the mean sum(w x)/W and the sd with the
+# unbiased divisor W - sum(w^2)/W of reliability weights, as lantern sample
+# and campaign records quote them (issue 18 folded compare's own population
+# sd into the posterior module's).
+if /usr/bin/python3 - "$E2E_TMP/whole" <<'PY'
+import json, sys
+import numpy as np
+d = sys.argv[1]
+s = json.load(open(d + "/summary.json"))
+for m in s["models"]:
+    a = np.genfromtxt(f"{d}/nested_{m['model']}.csv", delimiter=",", names=True)
+    w = a["weight"]
+    W, W2 = w.sum(), (w * w).sum()
+    for name, p in m["params"].items():
+        x = a[name]
+        mean = (w * x).sum() / W
+        sd = np.sqrt((w * (x - mean) ** 2).sum() / (W - W2 / W))
+        assert abs(p["mean"] - mean) <= 1e-12 * max(1, abs(mean)), (m["model"], name, p["mean"], mean)
+        assert abs(p["sd"] / sd - 1) < 1e-9, (m["model"], name, p["sd"], sd)
+PY
+then pass "compare: params mean and sd are the weighted moments of the nested draws (numpy)"
+else fail "compare: params mean and sd are the weighted moments of the nested draws (numpy)"; fi
+
 # --resume DIR alone (issue 18): the comparison's settings are in
 # DIR/checkpoint/settings.ini, so the folder is all a resume needs; the same
 # results as the uninterrupted comparison, byte for byte.
