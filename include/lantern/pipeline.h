@@ -246,6 +246,26 @@ int lt_pipeline_nested_posterior(const lt_like *l, const lt_nested_result *nr, s
 int lt_pipeline_fit_posterior(const lt_like *l, const lt_fit_result *fr, lt_posterior *r,
                               lt_error *err);
 
+/* ---- comparing models ---- */
+
+/* The likelihood of each model m[k].name (set by the caller) from j's
+ * priors, fixed values, measurements and offset (j->lenient: a prior
+ * applies to the models that have the parameter) on survey s (NULL for
+ * measurements alone). One after another: this may refuse the input. */
+int lt_pipeline_compare_setup(lt_model_result *m, size_t n, const lt_job *j, const lt_survey *s,
+                              lt_error *err);
+/*
+ * Each model's best fit (j's seed and starts), nested run (j's live points
+ * and seed; with ckdir, its checkpoint ckdir/nested_NAME.bin, continued
+ * when there is one) and posterior, the models side by side on j's
+ * threads; h->note gets a line as each model starts (from its thread).
+ * The results do not depend on the thread count. Returns LT_EINTR if any
+ * model was stopped, else the first failure in model order (err, and each
+ * model's own rc and err), else LT_OK.
+ */
+int lt_pipeline_compare(lt_model_result *m, size_t n, const lt_job *j, const char *ckdir,
+                        volatile sig_atomic_t *stop, const lt_pipeline_hooks *h, lt_error *err);
+
 /* The model's prediction for every object of l's survey at theta (with the
  * offset at its best value when marginalised) into model[n]: what
  * residual tables print. */

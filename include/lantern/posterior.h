@@ -135,6 +135,21 @@ typedef struct lt_posterior {
 
 void lt_posterior_free(lt_posterior *p);
 
+/* One model of a comparison (lantern compare): its likelihood, best fit,
+ * nested samples and their posterior (moments, DIC, prior edges, the
+ * evidence). The pipeline fills it in; reports read it. */
+typedef struct lt_model_result {
+    const char *name;       /* the model, as given */
+    lt_like_spec spec;      /* what l was made from */
+    lt_like *l;             /* owned */
+    lt_fit_result fit;
+    lt_nested_result nested;
+    lt_posterior post;
+    int rc;                 /* of the model's run; err says what failed */
+    lt_error err;
+} lt_model_result;
+void lt_model_result_free(lt_model_result *m);
+
 /*
  * The summaries of p's draws (rows from first_param on, with p->weights
  * where there are some): each column's lt_post_stats, the density at the edges of each

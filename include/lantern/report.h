@@ -49,6 +49,29 @@ void lt_report_sample_table(FILE *f, const lt_like *l, const lt_posterior *r,
 int lt_report_write_chains(const char *dir, const lt_like *l, const lt_posterior *r,
                            const lt_survey_spec *data, unsigned long seed, lt_error *err);
 
+/* ---- comparisons (lantern compare) ---- */
+
+/* Kass & Raftery 1995's words for |2 ln B|: below 2 "not worth more than a
+ * bare mention", 2-6 "positive", 6-10 "strong", above 10 "very strong". */
+const char *lt_report_kass_raftery(double two_ln_b);
+/* compare's summary (DESIGN.md fields) of n models, the first the
+ * reference: per model k_params, chi2_min, delta_chi2, dof, aic, bic, dic,
+ * p_d, converged, evidence, ln_b (+- ln_b_err), two_ln_b, reading,
+ * params.NAME.{best,mean,sd,prior}, warnings. */
+struct cJSON *lt_report_compare_json(const lt_model_result *m, size_t n);
+/* The same as a table, with the priors the evidence depends on. */
+void lt_report_compare_table(FILE *f, const lt_model_result *m, size_t n,
+                             const lt_survey_spec *data);
+/* What a comparison warns of for model m: a posterior reaching a prior
+ * edge (ln Z depends on that prior) into edges, a p_V far from the number
+ * of sampled parameters (|p_V - k| > max(1, k/2): DIC a poor guide) into
+ * dic; each empty when there is nothing to say. */
+void lt_report_compare_warnings(const lt_model_result *m, char *edges, size_t esize, char *dic,
+                                size_t dsize);
+/* dir/nested_MODEL.csv: weight,loglike, then the parameters, one row per
+ * nested sample; written atomically. */
+int lt_report_write_nested(const char *dir, const lt_model_result *m, lt_error *err);
+
 /* ---- runs of several models (lantern run, lantern report) ---- */
 
 /* One sampled model as saved in its folder (summary.json, chains.csv). */

@@ -104,7 +104,5 @@ int cli_forecast(int argc, char **argv);
  * stop at their next safe point (job.c). */
 volatile sig_atomic_t *cli_catch_signals(void);
 
-/* Kass & Raftery 1995's words for |2 ln B|: bare mention, positive, strong, very strong. */
-const char *cli_kass_raftery(double two_ln_b);
 int cli_report_runs(int argc, char **argv);
 #endif

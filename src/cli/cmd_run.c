@@ -73,7 +73,7 @@ static int write_run_summary(const char *dir, const char *name, const lt_run_mod
             cJSON_AddItemToObject(c, "two_ln_b", lt_json_number(2 * lnb));
             char rd[160];
             snprintf(rd, sizeof rd, i == 0 ? "reference" : "%s: %s", 2 * lnb >= 0 ? "for this model" : "for the reference",
-                     cli_kass_raftery(2 * lnb));
+                     lt_report_kass_raftery(2 * lnb));
             if (!same)
                 snprintf(rd, sizeof rd, "not compared: fitted to other data than the first model");
             cJSON_AddStringToObject(c, "reading", rd);

@@ -26,6 +26,14 @@ void lt_posterior_free(lt_posterior *p)
     memset(p, 0, sizeof *p);
 }
 
+void lt_model_result_free(lt_model_result *m)
+{
+    lt_nested_result_free(&m->nested);
+    lt_posterior_free(&m->post);
+    lt_like_free(m->l);
+    m->l = NULL;
+}
+
 void lt_posterior_covariance(lt_posterior *p)
 {
     size_t total = p->nchains * p->ndraws, d = p->nparams, c0 = p->first_param;
