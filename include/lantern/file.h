@@ -19,6 +19,12 @@
 int lt_file_read(const char *path, size_t max_bytes, char **data, size_t *size,
                  lt_error *err);
 
+/* "dir/name", a new string for the caller to free; NULL when out of
+ * memory. Paths are built with this rather than in fixed-size buffers. */
+char *lt_path_join(const char *dir, const char *name);
+/* Whether path exists. */
+int lt_path_exists(const char *path);
+
 /*
  * Atomic files: write to lt_tmp_name(final) and then lt_file_commit it into
  * place with rename(2), so a failure or an interruption never leaves a

@@ -174,6 +174,41 @@ int lt_report_write_tables(const char *dir, const lt_run_model *models, size_t n
 double lt_run_model_histogram(const lt_run_model *m, size_t cx, size_t cy, double x0, double x1,
                               double y0, double y1, int nx, int ny, double *g);
 
+/* ---- the report of saved runs (lantern run, lantern report) ---- */
+
+#define LT_REPORT_MAX_MODELS 16
+/* The models of one report: their folders and labels, then, once written,
+ * the models as loaded (for the caller's notes). */
+typedef struct lt_report_set {
+    size_t n;
+    char *dirs[LT_REPORT_MAX_MODELS];    /* each model's folder */
+    char *folders[LT_REPORT_MAX_MODELS]; /* its name within its run */
+    char *labels[LT_REPORT_MAX_MODELS];  /* how tables name it (NULL: its model) */
+    char *name;                          /* the first run's name, from its summary */
+    lt_survey *survey;                   /* the first model's data (lt_report_set_add_run) */
+    size_t loaded;
+    lt_run_model models[LT_REPORT_MAX_MODELS];
+} lt_report_set;
+void lt_report_set_init(lt_report_set *rs);
+void lt_report_set_free(lt_report_set *rs);
+/* Add the model folder run/folder, named label in the tables (NULL: its
+ * model). */
+int lt_report_set_add(lt_report_set *rs, const char *run, const char *folder, const char *label,
+                      lt_error *err);
+/* Add every model of a saved run (the folders its summary.json lists),
+ * labelled "RUN: MODEL" if label is set; the first model's data is read
+ * for the Hubble diagram. A summary that is not a run's (no model folders)
+ * is an input error naming it. */
+int lt_report_set_add_run(lt_report_set *rs, const char *run, int label, lt_error *err);
+/* Load the models (lt_run_model_load) and write dir/constraints.*, the
+ * figures (the Hubble diagram from s, or the set's own survey when s is
+ * NULL) and dir/summary.json: every model's summary with its "folder",
+ * and the comparison (k_params, chi2_min, dof, aic, bic, their differences
+ * to the first model, null across other data, converged, ln_z, ln_b and its
+ * reading). */
+int lt_report_set_write(lt_report_set *rs, const char *dir, const char *name,
+                        const lt_survey *s, lt_error *err);
+
 /* Figures (PLplot, cairo drivers), PNG and PDF: hubble.*, and per model
  * posterior_<model>.*, plane_<model>.* (curved and w0-wa models) and
  * traces_<model>.png. The survey s gives the Hubble diagram's data (NULL:

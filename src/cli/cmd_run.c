@@ -4,13 +4,9 @@
  * and the report (tables and figures). lantern report rebuilds the report
  * from saved runs, one or several.
  */
-#include <math.h>
 #include <stdlib.h>
 #include <string.h>
-#include <sys/stat.h>
 
-#include <cjson/cJSON.h>
-#include <omp.h>
 
 #include "cli.h"
 #include "lantern/report.h"
@@ -22,96 +18,18 @@ static void usage_run(FILE *f)
     fputs(cli_help_run, f);
 }
 
-static int exists(const char *path)
+/* Write the report of rs into dir, then say what the tables mark where
+ * the user looks first. Returns the exit status (3 if a model did not
+ * converge). */
+static int write_report(lt_report_set *rs, const char *dir, const char *name, const lt_survey *s)
 {
-    struct stat st;
-    return stat(path, &st) == 0;
-}
-
-/* summary.json of the whole run: every model's summary and the comparison. */
-static int write_run_summary(const char *dir, const char *name, const lt_run_model *models,
-                             size_t n, char dirs[][4200], lt_error *err)
-{
-    cJSON *o = cJSON_CreateObject();
-    cJSON_AddStringToObject(o, "command", "run");
-    cJSON_AddStringToObject(o, "name", name);
-    cJSON *list = cJSON_AddArrayToObject(o, "models");
-    cJSON *cmp = cJSON_AddArrayToObject(o, "comparison");
-    for (size_t i = 0; i < n; i++) {
-        char path[4400], *text = NULL;
-        size_t size;
-        snprintf(path, sizeof path, "%.4000s/summary.json", dirs[i]);
-        if (lt_file_read(path, (size_t)64 << 20, &text, &size, err)) {
-            cJSON_Delete(o);
-            return err->code;
-        }
-        cJSON *m = cJSON_Parse(text);
-        free(text);
-        if (m) {
-            cJSON_AddStringToObject(m, "folder", models[i].name);
-            cJSON_AddItemToArray(list, m);
-        }
-        cJSON *c = cJSON_CreateObject();
-        cJSON_AddStringToObject(c, "model", models[i].name);
-        cJSON_AddItemToObject(c, "k_params", lt_json_number((double)models[i].k_params));
-        cJSON_AddItemToObject(c, "chi2_min", lt_json_number(models[i].chi2_min));
-        cJSON_AddItemToObject(c, "dof", lt_json_number((double)models[i].dof));
-        cJSON_AddItemToObject(c, "aic", lt_json_number(models[i].aic));
-        cJSON_AddItemToObject(c, "bic", lt_json_number(models[i].bic));
-        /* differences across other data compare nothing: null, and said so */
-        int same = lt_run_model_same_data(&models[0], &models[i]);
-        double other = same ? 0.0 : NAN;
-        cJSON_AddItemToObject(c, "delta_aic", lt_json_number(models[i].aic - models[0].aic + other));
-        cJSON_AddItemToObject(c, "delta_bic", lt_json_number(models[i].bic - models[0].bic + other));
-        cJSON_AddBoolToObject(c, "same_data_as_first", same);
-        cJSON_AddBoolToObject(c, "converged", models[i].converged);
-        if (isfinite(models[i].ln_z)) {
-            double lnb = models[i].ln_z - models[0].ln_z + other;
-            cJSON_AddItemToObject(c, "ln_z", lt_json_number(models[i].ln_z));
-            cJSON_AddItemToObject(c, "ln_z_err", lt_json_number(models[i].ln_z_err));
-            cJSON_AddItemToObject(c, "ln_b", lt_json_number(lnb));
-            cJSON_AddItemToObject(c, "two_ln_b", lt_json_number(2 * lnb));
-            char rd[160];
-            snprintf(rd, sizeof rd, i == 0 ? "reference" : "%s: %s", 2 * lnb >= 0 ? "for this model" : "for the reference",
-                     lt_report_kass_raftery(2 * lnb));
-            if (!same)
-                snprintf(rd, sizeof rd, "not compared: fitted to other data than the first model");
-            cJSON_AddStringToObject(c, "reading", rd);
-        }
-        cJSON_AddItemToArray(cmp, c);
-    }
-    char path[4200];
-    snprintf(path, sizeof path, "%s/summary.json", dir);
-    int rc = lt_report_write_json(path, o, err);
-    cJSON_Delete(o);
-    return rc;
-}
-
-/* Read the model folders, then write the tables, figures and summary. */
-static int write_report(const char *dir, const char *name, char dirs[][4200], size_t n,
-                        const char *labels[], const lt_survey *s)
-{
-    lt_run_model models[MAX_MODELS];
     lt_error err;
     lt_error_clear(&err);
-    size_t loaded = 0;
+    if (lt_report_set_write(rs, dir, name, s, &err))
+        return cli_report(&err);
     int status = CLI_OK;
-    for (; loaded < n; loaded++)
-        if (lt_run_model_load(dirs[loaded], &models[loaded], &err)) {
-            status = cli_report(&err);
-            goto done;
-        } else if (labels && labels[loaded]) {
-            free(models[loaded].label);
-            models[loaded].label = strdup(labels[loaded]);
-        }
-    if (lt_report_write_tables(dir, models, n, &err) ||
-        lt_report_write_figures(dir, models, n, s, &err) ||
-        write_run_summary(dir, name, models, n, dirs, &err)) {
-        status = cli_report(&err);
-        goto done;
-    }
-    /* what the tables mark, said where the user looks first */
-    for (size_t i = 0; i < n; i++) {
+    const lt_run_model *models = rs->models;
+    for (size_t i = 0; i < rs->n; i++) {
         if (!models[i].converged) {
             char rhat[64];
             fprintf(stderr,
@@ -127,20 +45,17 @@ static int write_report(const char *dir, const char *name, char dirs[][4200], si
                     "objects): the tables leave its AIC, BIC and ln B differences blank\n",
                     models[i].label, models[i].n_data, models[0].label, models[0].n_data);
     }
-done:
-    for (size_t i = 0; i < loaded; i++)
-        lt_run_model_free(&models[i]);
     return status;
 }
 
 static void print_constraints(const char *dir)
 {
-    char path[4200], *text = NULL;
+    char *path = lt_path_join(dir, "constraints.md"), *text = NULL;
     size_t size;
-    snprintf(path, sizeof path, "%s/constraints.md", dir);
-    if (lt_file_read(path, 1 << 20, &text, &size, NULL) == LT_OK)
+    if (path && lt_file_read(path, 1 << 20, &text, &size, NULL) == LT_OK)
         fputs(text, stdout);
     free(text);
+    free(path);
 }
 
 int cli_run(int argc, char **argv)
@@ -196,6 +111,9 @@ int cli_run(int argc, char **argv)
     lt_job j;
     lt_job_init(&j);
     int prepared = 0, hint = 0;
+    char *dir = NULL;
+    lt_report_set rs;
+    lt_report_set_init(&rs);
     int status = cli_job_load(&j, argv[1], sets, set_flags, nsets);
     lt_survey *s = NULL;
     if (status)
@@ -235,13 +153,15 @@ int cli_run(int argc, char **argv)
         goto done;
     }
     /* the folder: out/NAME by default */
-    char stem[256], dir[4096];
+    char stem[256];
     const char *base = strrchr(argv[1], '/') ? strrchr(argv[1], '/') + 1 : argv[1];
     snprintf(stem, sizeof stem, "%.*s", (int)strcspn(base, "."), base);
     const char *name = j.name ? j.name : stem;
-    snprintf(dir, sizeof dir, "%s", resume ? resume : out ? out : j.out ? j.out : "");
-    if (!dir[0])
-        snprintf(dir, sizeof dir, "out/%s", name);
+    const char *given = resume ? resume : out ? out : j.out;
+    if (!(dir = given ? strdup(given) : lt_path_join("out", name))) {
+        status = cli_usage_error("run", "out of memory");
+        goto done;
+    }
     lt_error err;
     lt_error_clear(&err);
     if (!resume && lt_outdir_prepare(dir, force, &err)) {
@@ -249,7 +169,7 @@ int cli_run(int argc, char **argv)
         goto done;
     }
     prepared = !resume;
-    if (resume && !exists(dir)) {
+    if (resume && !lt_path_exists(dir)) {
         status = cli_usage_error("--resume", "%s does not exist", dir);
         goto done;
     }
@@ -286,20 +206,28 @@ int cli_run(int argc, char **argv)
         status = cli_report(&err);
         goto done;
     }
-    static char dirs[MAX_MODELS][4200];
     for (size_t k = 0; k < nm; k++) {
-        snprintf(dirs[k], sizeof dirs[k], "%s/%s", dir, names[k]);
-        char sum[4400], chk[4400];
-        snprintf(sum, sizeof sum, "%.4000s/summary.json", dirs[k]);
-        snprintf(chk, sizeof chk, "%.4000s/checkpoint/state.bin", dirs[k]);
+        if (lt_report_set_add(&rs, dir, names[k], NULL, &err)) {
+            status = cli_report(&err);
+            goto done;
+        }
+        char *sum = lt_path_join(rs.dirs[k], "summary.json");
+        char *chk = lt_path_join(rs.dirs[k], "checkpoint/state.bin");
         /* a model's summary is written once, whole, with its evidence: a
          * folder with one is done (its convergence is read with the report) */
-        if (resume && exists(sum)) {
+        int kept = sum && resume && lt_path_exists(sum), again = chk && resume && lt_path_exists(chk);
+        int oom = !sum || !chk;
+        free(sum);
+        free(chk);
+        if (oom) {
+            status = cli_usage_error("run", "out of memory");
+            goto done;
+        }
+        if (kept) {
             if (!j.quiet)
                 fprintf(stderr, "[%zu/%zu] %s: finished earlier, kept\n", k + 1, nm, names[k]);
             continue;
         }
-        int again = resume && exists(chk);
         if (!j.quiet)
             fprintf(stderr, "[%zu/%zu] %s: %s\n", k + 1, nm, names[k],
                     again ? "resuming the sampler" : "best fit, then sampling");
@@ -318,7 +246,7 @@ int cli_run(int argc, char **argv)
         }
         char label[64];
         snprintf(label, sizeof label, "[%zu/%zu] %s", k + 1, nm, names[k]);
-        int st = cli_sample_model(&mj, l, &spec, dirs[k], again, 0, CLI_TABLE, label);
+        int st = cli_sample_model(&mj, l, &spec, rs.dirs[k], again, 0, CLI_TABLE, label);
         lt_like_free(l);
         if (st == CLI_FAILED || st == CLI_USAGE) {
             status = st;
@@ -329,8 +257,7 @@ int cli_run(int argc, char **argv)
     }
     if (!j.quiet)
         fprintf(stderr, "report: tables and figures in %s/\n", dir);
-    const char *labels[MAX_MODELS] = {0};
-    status = write_report(dir, name, dirs, nm, labels, s);
+    status = write_report(&rs, dir, name, s);
     if (status == CLI_OK || status == CLI_UNCONVERGED) {
         snprintf(what, sizeof what, "lantern %s run %s", LT_VERSION, argv[1]);
         if (lt_outdir_finish(dir, what, &err))
@@ -341,14 +268,16 @@ int cli_run(int argc, char **argv)
 done:
     /* a failed run leaves the earlier one (or no folder); a stopped one its
      * checkpoints, to resume */
-    if (prepared && status != CLI_OK && status != CLI_UNCONVERGED)
+    if (prepared && status != CLI_OK && status != CLI_UNCONVERGED && dir)
         lt_outdir_abandon(dir);
     /* the way back, if there is one: a run stopped before it wrote
      * anything leaves no folder */
-    if (hint && exists(dir))
+    if (hint && dir && lt_path_exists(dir))
         fprintf(stderr, "lantern: continue with 'lantern run %s --resume %s'\n", argv[1], dir);
     else if (hint)
         fputs("lantern: nothing was saved; run it again\n", stderr);
+    lt_report_set_free(&rs);
+    free(dir);
     lt_survey_free(s);
     lt_job_free(&j);
     return status;
@@ -389,85 +318,24 @@ int cli_report_runs(int argc, char **argv)
         return cli_usage_error("report", "give at least one run folder");
     if (nr > 1 && !out)
         return cli_usage_error("report", "several runs need --out DIR for the joint report");
-    static char dirs[MAX_MODELS][4200];
-    static char label_text[MAX_MODELS][300];
-    char first_name[256] = "";
-    const char *labels[MAX_MODELS];
-    size_t n = 0;
     lt_error err;
     lt_error_clear(&err);
-    lt_survey *s = NULL;
+    lt_report_set rs;
+    lt_report_set_init(&rs);
     int prepared = 0;
     int status = CLI_OK;
-    for (size_t r = 0; r < nr; r++) {
-        char path[4200], *text = NULL;
-        size_t size;
-        snprintf(path, sizeof path, "%s/summary.json", runs[r]);
-        if (lt_file_read(path, (size_t)64 << 20, &text, &size, &err)) {
+    for (size_t r = 0; r < nr; r++)
+        if (lt_report_set_add_run(&rs, runs[r], nr > 1, &err)) {
             status = cli_report(&err);
             goto done;
         }
-        cJSON *j = cJSON_Parse(text);
-        free(text);
-        const cJSON *models = j ? cJSON_GetObjectItemCaseSensitive(j, "models") : NULL;
-        const cJSON *rname = j ? cJSON_GetObjectItemCaseSensitive(j, "name") : NULL;
-        if (!cJSON_IsArray(models)) {
-            cJSON_Delete(j);
-            status = cli_usage_error(path, "not the summary of a lantern run (no models list)");
-            goto done;
-        }
-        size_t n_before = n;
-        if (r == 0)
-            snprintf(first_name, sizeof first_name, "%s",
-                     cJSON_IsString(rname) ? rname->valuestring : runs[0]);
-        const cJSON *m;
-        cJSON_ArrayForEach(m, models)
-        {
-            const cJSON *folder = cJSON_GetObjectItemCaseSensitive(m, "folder");
-            if (!cJSON_IsString(folder) || n == MAX_MODELS)
-                continue;
-            snprintf(dirs[n], sizeof dirs[n], "%s/%s", runs[r], folder->valuestring);
-            snprintf(label_text[n], sizeof label_text[n], "%s: %s",
-                     cJSON_IsString(rname) ? rname->valuestring : runs[r], folder->valuestring);
-            labels[n] = nr > 1 ? label_text[n] : NULL;
-            /* the data of the first model of the first run, for the Hubble diagram */
-            const cJSON *data = cJSON_GetObjectItemCaseSensitive(m, "data");
-            const cJSON *dfile = cJSON_GetObjectItemCaseSensitive(data, "file");
-            if (!s && cJSON_IsString(dfile) && dfile->valuestring[0]) {
-                lt_survey_spec spec;
-                lt_survey_spec_init(&spec);
-                const cJSON *f = cJSON_GetObjectItemCaseSensitive(data, "file");
-                const cJSON *c = cJSON_GetObjectItemCaseSensitive(data, "columns");
-                const cJSON *cov = cJSON_GetObjectItemCaseSensitive(data, "cov");
-                const cJSON *modes = cJSON_GetObjectItemCaseSensitive(data, "modes");
-                spec.data = cJSON_IsString(f) ? f->valuestring : NULL;
-                spec.columns = cJSON_IsString(c) ? c->valuestring : NULL;
-                const cJSON *e;
-                cJSON_ArrayForEach(e, cov) if (cJSON_IsString(e) && spec.ncov < LT_SURVEY_MAX_COV)
-                    spec.cov[spec.ncov++] = e->valuestring;
-                spec.modes = cJSON_IsString(modes) ? modes->valuestring : NULL;
-                if (!(s = lt_survey_read(&spec, &err))) {
-                    cJSON_Delete(j);
-                    status = cli_report(&err);
-                    goto done;
-                }
-            }
-            n++;
-        }
-        cJSON_Delete(j);
-        if (n == n_before) {
-            /* a campaign or forecast summary also has "models", as names */
-            status = cli_usage_error(path, "not the summary of a lantern run (no model folders)");
-            goto done;
-        }
-    }
     const char *dir = out ? out : runs[0];
     if (out && lt_outdir_prepare(out, force, &err)) {
         status = cli_report(&err);
         goto done;
     }
     prepared = out != NULL;
-    status = write_report(dir, out ? "joint report" : first_name, dirs, n, labels, s);
+    status = write_report(&rs, dir, out ? "joint report" : rs.name, NULL);
     if (*cli_catch_signals()) {
         fputs("lantern: interrupted\n", stderr);
         status = CLI_FAILED;
@@ -483,6 +351,6 @@ int cli_report_runs(int argc, char **argv)
 done:
     if (prepared && status != CLI_OK && status != CLI_UNCONVERGED)
         lt_outdir_abandon(out);
-    lt_survey_free(s);
+    lt_report_set_free(&rs);
     return status;
 }

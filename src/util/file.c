@@ -68,3 +68,18 @@ int lt_file_read(const char *path, size_t max_bytes, char **data, size_t *size,
     *size = n;
     return LT_OK;
 }
+
+char *lt_path_join(const char *dir, const char *name)
+{
+    size_t n = strlen(dir) + strlen(name) + 2;
+    char *s = malloc(n);
+    if (s)
+        snprintf(s, n, "%s/%s", dir, name);
+    return s;
+}
+
+int lt_path_exists(const char *path)
+{
+    struct stat st;
+    return stat(path, &st) == 0;
+}
