@@ -26,16 +26,6 @@
 #include "lantern/pipeline.h"
 #include "lantern/text.h"
 
-/* A path under dir: dir/rest (a new string, NULL when out of memory). */
-static char *path_join(const char *dir, const char *rest)
-{
-    size_t n = strlen(dir) + strlen(rest) + 2;
-    char *s = malloc(n);
-    if (s)
-        snprintf(s, n, "%s/%s", dir, rest);
-    return s;
-}
-
 /* The fingerprint of a sampled run: the likelihood's parts, then the seed
  * and the sampler settings (not the thread count, which does not change
  * the draws). */
@@ -158,10 +148,10 @@ int lt_pipeline_mcmc_run(lt_like *l, lt_job *j, const lt_like_spec *spec, const 
     if (d == 0)
         return lt_error_set(err, LT_EINPUT, NULL, 0,
                             "every parameter is fixed: nothing to sample");
-    if (dir && (!(ckdir = path_join(dir, "checkpoint")) ||
-                !(state = path_join(ckdir, "state.bin")) ||
-                !(settings = path_join(ckdir, "settings.ini")) ||
-                !(knots = path_join(ckdir, "compression.txt")))) {
+    if (dir && (!(ckdir = lt_path_join(dir, "checkpoint")) ||
+                !(state = lt_path_join(ckdir, "state.bin")) ||
+                !(settings = lt_path_join(ckdir, "settings.ini")) ||
+                !(knots = lt_path_join(ckdir, "compression.txt")))) {
         rc = lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
         goto done;
     }
