@@ -170,46 +170,96 @@ int lt_fingerprint_check(const char *settings, const lt_fingerprint *fp, lt_erro
 
 /* ---- running methods ---- */
 
+/* How a long method is doing, at each of its checks. */
+typedef struct lt_progress {
+    size_t draws_per_chain;
+    double rhat_max, ess_min; /* over the parameters */
+    int converged;
+} lt_progress;
+
 /* What a long method tells its caller as it goes (the command line prints
  * it; nothing here does). Either hook may be NULL. */
 typedef struct lt_pipeline_hooks {
     /* after every convergence check of the chains (and its checkpoint) */
-    void (*check)(const lt_mcmc *m, void *ctx);
+    void (*check)(const lt_progress *p, void *ctx);
     /* news worth a line: "the compressed likelihood is off ... sampling again" */
     void (*note)(const char *text, void *ctx);
     void *ctx;
 } lt_pipeline_hooks;
 
-/* A sampled posterior's chains and what the run learnt on the way. */
-typedef struct lt_pipeline_mcmc {
-    lt_mcmc *m;                 /* the chains, finished (converged or at max_steps) */
-    lt_sample_compression cmp;  /* the compression's record (checked_ok set) */
-    int stopped_in_fit;         /* an LT_EINTR came during the best fit, before any draw */
-    size_t nchains;             /* the chains' work spaces, which m's log density uses */
-    lt_like_chain *ctx;
-    void **ctxp;
-} lt_pipeline_mcmc;
+/*
+ * A method, in the manner of GSL's gsl_rng_type: a table of functions over
+ * a state of its own. lt_pipeline_run drives every method the same way
+ * (fresh or resumed, checkpointed, stopped), so resume is written once.
+ *   alloc        a run of l by j's settings (ckdir: the checkpoint folder,
+ *                for files of the method's own, or NULL); NULL and err on
+ *                failure. It may settle defaults in j (the warm-up).
+ *   fingerprint  the likelihood's parts and the method's settings into fp;
+ *                returns the number its state file stores
+ *   start        a fresh start (the chains' best fit; the first live
+ *                points); LT_EINTR if stopped
+ *   iterate      until done or *stop (LT_EINTR), saving to state (a path,
+ *                or NULL) at its own checkpoints; progress to h
+ *   save, load   the state to and from a file (NULL for a method with no
+ *                checkpoint: the best fit)
+ *   result       the posterior
+ */
+typedef struct lt_method_type {
+    const char *name;
+    void *(*alloc)(lt_like *l, lt_job *j, const char *ckdir, lt_error *err);
+    uint64_t (*fingerprint)(const void *s, lt_fingerprint *fp);
+    int (*start)(void *s, volatile sig_atomic_t *stop, lt_error *err);
+    int (*iterate)(void *s, const char *state, uint64_t fp, volatile sig_atomic_t *stop,
+                   const lt_pipeline_hooks *h, lt_error *err);
+    int (*save)(const void *s, const char *path, uint64_t fp, lt_error *err);
+    int (*load)(void *s, const char *path, uint64_t fp, lt_error *err);
+    int (*result)(void *s, const lt_pipeline_hooks *h, lt_posterior *p, lt_error *err);
+    void (*free)(void *s);
+} lt_method_type;
+
+/* The best fit and its Laplace posterior (j's seed and starts); no
+ * checkpoint. */
+extern const lt_method_type *lt_method_fit;
+/* Adaptive Metropolis from the best fit until converged or max_steps, the
+ * compression checked on the draws and the chains drawn again where more
+ * knots fix it (j's [fit] and [sampler] settings; warm-up 0 becomes
+ * max(2000, 1000 d)). The posterior is importance-weighted where more knots
+ * did not help. */
+extern const lt_method_type *lt_method_mcmc;
+/* Nested sampling with j's live points and seed, to dlogz 0.01; the
+ * posterior carries the evidence. */
+extern const lt_method_type *lt_method_nested;
+
+/* Whether lt_pipeline_run starts afresh or continues a saved state. */
+typedef enum {
+    LT_RUN_FRESH = 0,   /* start afresh (a state file there, an earlier run's, is removed) */
+    LT_RUN_RESUME,      /* continue the state file, which must exist */
+    LT_RUN_IF_PRESENT   /* continue it if it exists, else start afresh */
+} lt_run_mode;
+
+typedef struct lt_run_opts {
+    const char *ckdir;          /* the checkpoint folder (made if missing), or NULL */
+    const char *state;          /* the method's state file in it ("state.bin") */
+    const lt_like_spec *spec;   /* with ckdir: write ckdir/settings.ini (lt_job_write and the
+                                 * fingerprint) on a fresh start and check it on resume; NULL:
+                                 * none */
+    lt_run_mode mode;
+    volatile sig_atomic_t *stop; /* set by a signal: stop at the next safe point */
+    const lt_pipeline_hooks *hooks;
+} lt_run_opts;
 
 /*
- * Sample l's posterior by j's [fit] and [sampler] settings: the best fit
- * as centre (its Laplace covariance as the chains' first proposal),
- * adaptive Metropolis until converged or max_steps, then the compression
- * checked on the draws by the exact path; where more knots fix it, the
- * chains are drawn again with them (h->note says so). j->warmup 0 becomes
- * its default, max(2000, 1000 d).
- *
- * With dir, DIR/checkpoint holds settings.ini (j and spec, by lt_job_write,
- * with the fingerprint), state.bin (saved at every check and at a stop) and
- * compression.txt (the knots of a refined run); resume continues from it
- * and refuses one whose data, covariance, model or settings differ (naming
- * which). Returns LT_OK; LT_EINTR when *stop was set (the state saved, if
- * there is a dir); or an error. Free p with lt_pipeline_mcmc_free in every
- * case.
+ * Run method t on l by j and o, into post. Fresh: start, then (with a
+ * checkpoint folder) write the settings; resumed: check the settings'
+ * fingerprint (refusing, with the parts that differ named, another run's
+ * checkpoint) and load the state. Then iterate; the state is saved when it
+ * ends or is stopped, so that nothing done is lost and a finished run is
+ * not redone. Returns LT_OK with post filled; LT_EINTR if stopped (*started
+ * 0 when that was before the method had started: nothing was saved); or an
+ * error.
  */
-int lt_pipeline_mcmc_run(lt_like *l, lt_job *j, const lt_like_spec *spec, const char *dir,
-                         int resume, volatile sig_atomic_t *stop, const lt_pipeline_hooks *h,
-                         lt_pipeline_mcmc *p, lt_error *err);
-void lt_pipeline_mcmc_free(lt_pipeline_mcmc *p);
+int lt_pipeline_run(const lt_method_type *t, lt_like *l, lt_job *j, const lt_run_opts *o,
+                    int *started, lt_posterior *post, lt_error *err);
 
 /*
  * The posterior of m's chains: the draws, derived columns (computed in
@@ -256,31 +306,41 @@ int lt_pipeline_compare_setup(lt_model_result *m, size_t n, const lt_job *j, con
                               lt_error *err);
 /*
  * Each model's best fit (j's seed and starts), nested run (j's live points
- * and seed; with ckdir, its checkpoint ckdir/nested_NAME.bin, continued
- * when there is one) and posterior, the models side by side on j's
+ * and seed; with ckdir, its checkpoint ckdir/nested_NAME.bin: resumed, it
+ * is continued when there is one; fresh, an earlier one is removed, and
+ * ckdir/settings.ini written first, so that the folder alone can resume) and
+ * posterior, the models side by side on j's
  * threads; h->note gets a line as each model starts (from its thread).
  * The results do not depend on the thread count. Returns LT_EINTR if any
  * model was stopped, else the first failure in model order (err, and each
  * model's own rc and err), else LT_OK.
  */
 int lt_pipeline_compare(lt_model_result *m, size_t n, const lt_job *j, const char *ckdir,
-                        volatile sig_atomic_t *stop, const lt_pipeline_hooks *h, lt_error *err);
+                        int resume, volatile sig_atomic_t *stop, const lt_pipeline_hooks *h,
+                        lt_error *err);
+
+/* ---- timing (lantern bench) ---- */
+
+typedef struct lt_bench {
+    const char *model;         /* its name (static) */
+    size_t n_data, knots;
+    int compressed;            /* the compressed path (0: the exact one) */
+    const char *covariance;    /* the covariance's kind (static) */
+    double evals_per_s;        /* one thread, at 200 points near the best fit */
+    double setup_s;            /* reading, factorising, compressing */
+    double peak_rss_mb;        /* of the process */
+    double max_abs_dchi2;      /* compressed against exact over those points with chi2 -
+                                * chi2_min < 50 (0 for the exact path) */
+} lt_bench;
+/* Read j's survey, build spec's likelihood, time evals evaluations at 200
+ * points drawn from the best fit's Laplace posterior widened three times
+ * (j's seed), and compare the compressed and exact paths there. */
+int lt_pipeline_bench(const lt_job *j, const lt_like_spec *spec, long evals, lt_bench *b,
+                      lt_error *err);
 
 /* The model's prediction for every object of l's survey at theta (with the
  * offset at its best value when marginalised) into model[n]: what
  * residual tables print. */
 int lt_pipeline_predict(const lt_like *l, const double *theta, double *model, lt_error *err);
-
-/*
- * Nested sampling of l's posterior with live points and seed, on threads
- * (ctx per thread; > 0). With a checkpoint path: a checkpoint there is
- * continued if its fingerprint (the likelihood's, the seed and the live
- * points) matches and refused if not; a stop (*stop set) saves the state
- * there and returns LT_EINTR; a finished run saves its final state there
- * too, so that a resumed comparison does not redo it.
- */
-int lt_pipeline_nested_run(const lt_like *l, long live, uint64_t seed, int threads,
-                           const char *checkpoint, volatile sig_atomic_t *stop,
-                           lt_nested_result *r, lt_error *err);
 
 #endif

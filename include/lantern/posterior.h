@@ -131,6 +131,8 @@ typedef struct lt_posterior {
     double ln_z, ln_z_err, information;
     size_t live_points, iterations, evals;
     int finished;             /* stopped by its tolerance, not its iteration cap */
+    double *loglike;          /* nested: each draw's ln L as the sampler kept it; else NULL */
+    lt_fit_result fit;        /* LT_POST_LAPLACE: the best fit it is made from */
 } lt_posterior;
 
 void lt_posterior_free(lt_posterior *p);
@@ -143,8 +145,7 @@ typedef struct lt_model_result {
     lt_like_spec spec;      /* what l was made from */
     lt_like *l;             /* owned */
     lt_fit_result fit;
-    lt_nested_result nested;
-    lt_posterior post;
+    lt_posterior post;      /* of the nested run: its draws with ln L, and the evidence */
     int rc;                 /* of the model's run; err says what failed */
     lt_error err;
 } lt_model_result;

@@ -1,6 +1,5 @@
 /* Running one campaign task: its data, its method, its record. */
 #include <math.h>
-#include <omp.h>
 #include <stdlib.h>
 #include <string.h>
 
@@ -15,64 +14,27 @@
 
 static cJSON *num(double v) { return lt_json_number(v); }
 
-/* The best fit and its Laplace posterior; note: why there is no Laplace
- * step, if there is none. */
-static int run_fit(const lt_like *l, const lt_campaign *c, const lt_campaign_task *t,
-                   lt_posterior *post, char *note, size_t size, lt_error *err)
-{
-    lt_fit_opts fo = {.seed = (unsigned long)t->seed, .starts = (size_t)c->job.starts,
-                      .stop = NULL};
-    lt_fit_result fr;
-    int rc = lt_fit_run(l, &fo, &fr, err);
-    if (rc || (rc = lt_pipeline_fit_posterior(l, &fr, post, err)))
-        return rc;
-    if (!fr.laplace_ok)
-        snprintf(note, size, "%s", fr.laplace_note);
-    return LT_OK;
-}
-
-/* The chains, through the pipeline as lantern sample runs them. */
-static int run_sample(lt_like *l, const lt_campaign *c, const lt_campaign_task *t, int threads,
+/* Task t's method through the pipeline, as the commands run it: the
+ * campaign's settings with the task's seed and the campaign's threads, no
+ * checkpoint (a task is redone whole). */
+static int run_method(lt_like *l, const lt_campaign *c, const lt_campaign_task *t, int threads,
                       volatile sig_atomic_t *stop, lt_posterior *post, lt_error *err)
 {
-    /* the campaign's settings with the task's seed and the campaign's threads */
+    static const lt_method_type *const *methods[LT_NMETHODS] = {
+        &lt_method_fit, &lt_method_mcmc, &lt_method_nested};
     lt_job job = c->job;
     job.seed = (unsigned long)t->seed;
     job.threads = threads;
-    lt_pipeline_mcmc pm;
-    lt_like_spec spec;
-    int rc = lt_job_like_spec(&job, c->models[t->model], &spec, err);
-    if (!rc)
-        rc = lt_pipeline_mcmc_run(l, &job, &spec, NULL, 0, stop, NULL, &pm, err);
-    /* where more knots did not bring the compression within its bound,
-     * the draws are weighted by the exact likelihood, as lantern sample does */
-    int off = !rc && pm.cmp.checked_ok && pm.cmp.posterior_dchi2 > LT_CHECK_BOUND;
-    if (!rc)
-        rc = lt_pipeline_mcmc_posterior(l, pm.m, off ? lt_like_reweight_draws(l) : 0, post, err);
-    lt_pipeline_mcmc_free(&pm);
-    return rc;
-}
-
-/* Nested sampling, through the pipeline. */
-static int run_nested(const lt_like *l, const lt_campaign *c, const lt_campaign_task *t,
-                      int threads, volatile sig_atomic_t *stop, lt_posterior *post,
-                      lt_error *err)
-{
-    int nt = threads > 0 ? threads : omp_get_max_threads();
-    lt_nested_result r;
-    int rc = lt_pipeline_nested_run(l, c->job.live_points, t->seed, nt, NULL, stop, &r, err);
-    if (!rc)
-        rc = lt_pipeline_nested_posterior(l, &r, (size_t)c->job.live_points, post, err);
-    lt_nested_result_free(&r);
-    return rc;
+    lt_run_opts o = {NULL, NULL, NULL, LT_RUN_FRESH, stop, NULL};
+    return lt_pipeline_run(*methods[t->method], l, &job, &o, NULL, post, err);
 }
 
 /* What each method adds to a record: the fit's note, the chains'
  * convergence, the evidence. */
-static void method_fields(cJSON *o, const lt_posterior *p, const char *note)
+static void method_fields(cJSON *o, const lt_posterior *p)
 {
-    if (p->method == LT_POST_LAPLACE && note[0])
-        cJSON_AddStringToObject(o, "note", note);
+    if (p->method == LT_POST_LAPLACE && !p->fit.laplace_ok)
+        cJSON_AddStringToObject(o, "note", p->fit.laplace_note);
     if (p->method == LT_POST_MCMC) {
         cJSON *cv = cJSON_AddObjectToObject(o, "convergence");
         cJSON_AddItemToObject(cv, "rhat_max", num(p->weights ? NAN : p->diag.rhat_max));
@@ -176,17 +138,14 @@ int lt_campaign_task_run(const lt_campaign *c, size_t index, int threads,
     cJSON_AddItemToObject(o, "dof", num((double)lt_like_dof(l)));
     lt_posterior post;
     memset(&post, 0, sizeof post);
-    char note[LT_ERROR_MSG_MAX] = "";
-    rc = t.method == LT_METHOD_FIT      ? run_fit(l, c, &t, &post, note, sizeof note, err)
-         : t.method == LT_METHOD_SAMPLE ? run_sample(l, c, &t, threads, stop, &post, err)
-                                        : run_nested(l, c, &t, threads, stop, &post, err);
+    rc = run_method(l, c, &t, threads, stop, &post, err);
     if (rc) {
         lt_posterior_free(&post);
         goto done;
     }
     cJSON_AddItemToObject(o, "chi2_min", num(post.at_best.chi2));
     cJSON_AddBoolToObject(o, "converged", post.converged);
-    method_fields(o, &post, note);
+    method_fields(o, &post);
     cJSON *params = cJSON_AddObjectToObject(o, "params");
     for (size_t i = 0; i < dim; i++) {
         const char *name = lt_like_param_name(l, i);

@@ -42,7 +42,7 @@ int cli_compare(int argc, char **argv)
     size_t nm = 0;
     memset(runs, 0, sizeof runs);
     cJSON *json = NULL;
-    char *settings = NULL;
+    char *settings = NULL, *ckdir = NULL;
     if (argc > 1 && strncmp(argv[1], "--", 2) != 0) {
         if ((status = cli_job_load(&j, argv[1], NULL, NULL, 0)))
             goto done;
@@ -142,10 +142,11 @@ int cli_compare(int argc, char **argv)
         }
         j.out = resume;
     }
-    char ckdir[4200] = "";
-    if (j.out)
-        snprintf(ckdir, sizeof ckdir, "%s/checkpoint", j.out);
-    if (resume && access(ckdir, F_OK) != 0) {
+    if (j.out && !(ckdir = lt_path_join(j.out, "checkpoint"))) {
+        status = cli_usage_error("compare", "out of memory");
+        goto done;
+    }
+    if (resume && !lt_path_exists(ckdir)) {
         status = cli_usage_error(resume, "no checkpoint here (no checkpoint/ folder) to resume");
         goto done;
     }
@@ -167,24 +168,6 @@ int cli_compare(int argc, char **argv)
             status = cli_report(&err);
             goto done;
         }
-        if (mkdir(ckdir, 0777) != 0 && errno != EEXIST) {
-            status = cli_usage_error(ckdir, "cannot make the checkpoint folder: %s", strerror(errno));
-            goto done;
-        }
-        char path[4300];
-        snprintf(path, sizeof path, "%s/settings.ini", ckdir);
-        if (lt_job_write(&j, NULL, path, &err)) {
-            status = cli_report(&err);
-            goto done;
-        }
-        /* --force over an earlier comparison: its checkpoints belong to it,
-         * and a new run must not continue them (they are refused as another
-         * run's, or, with the same settings, would skip the work) */
-        for (size_t k = 0; k < nm; k++) {
-            char ck[4400];
-            snprintf(ck, sizeof ck, "%s/nested_%s.bin", ckdir, runs[k].name);
-            remove(ck);
-        }
     }
     cli_print_warnings(s);
     /* the likelihoods, one after another: this may refuse the input */
@@ -193,7 +176,7 @@ int cli_compare(int argc, char **argv)
         goto done;
     }
     lt_pipeline_hooks hooks = {NULL, on_note, &j.quiet};
-    int rc = lt_pipeline_compare(runs, nm, &j, j.out ? ckdir : NULL, stop, &hooks, &err);
+    int rc = lt_pipeline_compare(runs, nm, &j, ckdir, resume != NULL, stop, &hooks, &err);
     if (rc == LT_EINTR) {
         if (j.out)
             fprintf(stderr,
@@ -249,5 +232,6 @@ done:
     lt_survey_free(s);
     lt_job_free(&j);
     free(settings);
+    free(ckdir);
     return status;
 }

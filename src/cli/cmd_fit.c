@@ -22,6 +22,8 @@ int cli_fit(int argc, char **argv)
     lt_survey *s = NULL;
     lt_like *l = NULL;
     cJSON *json = NULL;
+    lt_posterior post;
+    memset(&post, 0, sizeof post);
     if (argc > 1 && strncmp(argv[1], "--", 2) != 0) {
         if ((status = cli_job_load(&j, argv[1], NULL, NULL, 0)))
             goto done;
@@ -57,10 +59,8 @@ int cli_fit(int argc, char **argv)
     }
     prepared = j.out != NULL;
     cli_print_warnings(s);
-    volatile sig_atomic_t *stop = cli_catch_signals();
-    lt_fit_opts fo = {.seed = j.seed, .starts = (size_t)j.starts, .stop = stop};
-    lt_fit_result r;
-    if (lt_fit_run(l, &fo, &r, &err) || (*stop && lt_error_set(&err, LT_EINTR, NULL, 0, "interrupted"))) {
+    lt_run_opts o = {NULL, NULL, NULL, LT_RUN_FRESH, cli_catch_signals(), NULL};
+    if (lt_pipeline_run(lt_method_fit, l, &j, &o, NULL, &post, &err)) {
         if (err.code == LT_EINTR) {
             fprintf(stderr, "lantern: interrupted during the best fit: nothing written\n");
             status = CLI_FAILED;
@@ -68,6 +68,7 @@ int cli_fit(int argc, char **argv)
             status = cli_report(&err);
         goto done;
     }
+    const lt_fit_result r = post.fit;
     if (!r.laplace_ok)
         fprintf(stderr, "lantern: warning: %s\n", r.laplace_note);
     json = lt_report_fit_json(l, &r, &j.data, j.seed);
@@ -79,11 +80,15 @@ int cli_fit(int argc, char **argv)
         lt_report_fit_table(stdout, l, &r, &j.data);
     }
     if (j.out) {
-        char path[4096], what[128];
+        char what[128];
         snprintf(what, sizeof what, "lantern %s fit", LT_VERSION);
-        snprintf(path, sizeof path, "%s/summary.json", j.out);
-        int rc = lt_report_write_json(path, json, &err);
-        snprintf(path, sizeof path, "%s/residuals.csv", j.out);
+        char *path = lt_path_join(j.out, "summary.json");
+        int rc = path ? lt_report_write_json(path, json, &err)
+                      : lt_error_set(&err, LT_ENOMEM, NULL, 0, "out of memory");
+        free(path);
+        path = rc ? NULL : lt_path_join(j.out, "residuals.csv");
+        if (!rc && !path)
+            rc = lt_error_set(&err, LT_ENOMEM, NULL, 0, "out of memory");
         if (!rc && s) { /* residuals of the survey, where there is one */
             double *model = malloc(s->n * sizeof *model);
             rc = !model ? lt_error_set(&err, LT_ENOMEM, NULL, 0, "out of memory")
@@ -92,6 +97,7 @@ int cli_fit(int argc, char **argv)
                 rc = lt_report_write_residuals(path, l, model, &err);
             free(model);
         }
+        free(path);
         if (!rc)
             rc = lt_outdir_finish(j.out, what, &err);
         if (rc) {
@@ -109,6 +115,7 @@ done:
     if (prepared && status != CLI_OK && status != CLI_UNCONVERGED)
         lt_outdir_abandon(j.out);
     cJSON_Delete(json);
+    lt_posterior_free(&post);
     lt_like_free(l);
     lt_survey_free(s);
     lt_job_free(&j);

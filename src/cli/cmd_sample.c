@@ -13,7 +13,6 @@
 #include <unistd.h>
 
 #include <cjson/cJSON.h>
-#include <omp.h>
 
 #include "cli.h"
 #include "lantern/report.h"
@@ -37,17 +36,16 @@ static double elapsed(const struct timespec *t0)
     return (double)(t.tv_sec - t0->tv_sec) + 1e-9 * (double)(t.tv_nsec - t0->tv_nsec);
 }
 
-static void on_check(const lt_mcmc *m, void *p)
+static void on_check(const lt_progress *d, void *p)
 {
     progress *pr = p;
     if (pr->quiet || (!pr->tty && !pr->verbose))
         return;
-    const lt_mcmc_diag *d = lt_mcmc_diagnostics(m);
     double t = elapsed(&pr->start), left = NAN;
     if (d->ess_min > 0 && isfinite(d->ess_min))
         left = t * fmax(0.0, pr->target / d->ess_min - 1.0);
     char eta[32] = "";
-    if (isfinite(left) && !lt_mcmc_converged(m))
+    if (isfinite(left) && !d->converged)
         snprintf(eta, sizeof eta, ", about %.0f s left", left);
     fprintf(stderr, "%ssampling: %zu draws per chain, worst R-hat %.4f, smallest ESS %.0f, %.1f s%s%s",
             pr->tty && !pr->verbose ? "\r" : "", d->draws_per_chain, d->rhat_max, d->ess_min, t,
@@ -67,117 +65,99 @@ static void on_note(const char *text, void *p)
     clock_gettime(CLOCK_MONOTONIC, &pr->start);
 }
 
-/* The evidence of l by nested sampling with j's live points and seed into
- * r; its checkpoint in out/checkpoint/nested.bin, continued on resume (a
- * fresh run removes one an earlier run left, in a folder given --force). */
-static int evidence(const lt_job *j, const lt_like *l, const char *out, int resume,
-                    lt_posterior *r, lt_error *err)
+/* The posterior r of a finished run (the evidence added where asked):
+ * its warnings, the summary printed and written with the chains. */
+static int finish(lt_job *j, lt_like *l, lt_posterior *r, cli_format format, const char *out,
+                  int print, const char *evidence_label, const lt_run_opts *o)
 {
-    char nck[4400];
-    snprintf(nck, sizeof nck, "%.4000s/checkpoint/nested.bin", out);
-    if (!resume)
-        remove(nck);
-    int threads = j->threads > 0 ? (int)j->threads : omp_get_max_threads();
-    lt_nested_result nr;
-    int rc = lt_pipeline_nested_run(l, j->live_points, j->seed, threads, nck,
-                                    cli_catch_signals(), &nr, err);
-    if (rc == LT_OK) {
-        r->ln_z = nr.logz, r->ln_z_err = nr.logz_err, r->information = nr.info;
-        r->live_points = (size_t)j->live_points;
-    }
-    lt_nested_result_free(&nr);
-    return rc;
-}
-
-static int finish(const lt_job *j, lt_like *l, lt_mcmc *m, cli_format format, const char *out,
-                  int print, const lt_sample_compression *cmp, const char *evidence_label,
-                  int resume)
-{
-    lt_posterior r;
     lt_error err;
     lt_error_clear(&err);
-    /* the compression still off where more knots did not help: weight a
-     * thinned set of the draws by the exact likelihood */
-    int off = cmp->checked_ok && cmp->posterior_dchi2 > LT_CHECK_BOUND;
-    if (off)
-        fprintf(stderr, "lantern: weighting the draws by the exact likelihood (at most %zu of "
-                        "them evaluated)\n", lt_like_reweight_draws(l));
-    if (lt_pipeline_mcmc_posterior(l, m, off ? lt_like_reweight_draws(l) : 0, &r, &err))
-        return cli_report(&err);
-    r.compression = *cmp;
+    int off = r->weights != NULL;
     if (off) {
         char text[512];
-        lt_report_compression_warning(&r, text, sizeof text);
+        lt_report_compression_warning(r, text, sizeof text);
         fprintf(stderr, "lantern: warning: %s\n", text);
-        if (r.ess_min_weighted < j->target_ess)
+        if (r->ess_min_weighted < j->target_ess)
             fprintf(stderr, "lantern: warning: the weighted draws' effective sample size %.0f is "
-                            "below --target-ess %g\n", r.ess_min_weighted, j->target_ess);
+                            "below --target-ess %g\n", r->ess_min_weighted, j->target_ess);
     }
-    for (size_t i = 0; i < r.nparams; i++) {
+    for (size_t i = 0; i < r->nparams; i++) {
         char note[256];
-        if (lt_post_edge_note(r.cols[r.first_param + i], lt_like_prior(l, i), r.edge_lo[i],
-                              r.edge_hi[i], note, sizeof note))
+        if (lt_post_edge_note(r->cols[r->first_param + i], lt_like_prior(l, i), r->edge_lo[i],
+                              r->edge_hi[i], note, sizeof note))
             fprintf(stderr, "lantern: warning: %s: %s\n", lt_like_model(l)->name, note);
     }
     if (evidence_label) {
         if (!j->quiet)
             fprintf(stderr, "%s: evidence by nested sampling\n", evidence_label);
-        int rc = evidence(j, l, out, resume, &r, &err);
-        if (rc) {
-            lt_posterior_free(&r);
-            if (rc != LT_EINTR)
-                return cli_report(&err);
+        lt_posterior ev;
+        lt_run_opts eo = *o;
+        eo.state = "nested.bin", eo.spec = NULL;
+        eo.mode = o->mode == LT_RUN_FRESH ? LT_RUN_FRESH : LT_RUN_IF_PRESENT;
+        int rc = lt_pipeline_run(lt_method_nested, l, j, &eo, NULL, &ev, &err);
+        r->ln_z = ev.ln_z, r->ln_z_err = ev.ln_z_err, r->information = ev.information;
+        r->live_points = ev.live_points;
+        lt_posterior_free(&ev);
+        if (rc == LT_EINTR) {
             fputs("lantern: interrupted during the evidence; the checkpoints are kept\n", stderr);
             return CLI_FAILED;
         }
+        if (rc)
+            return cli_report(&err);
     }
-    cJSON *json = lt_report_sample_json(l, &r, &j->data, j->seed);
+    cJSON *json = lt_report_sample_json(l, r, &j->data, j->seed);
     if (!print) {
     } else if (format == CLI_JSON) {
         char *text = cJSON_Print(json);
         printf("%s\n", text ? text : "{}");
         free(text);
     } else {
-        lt_report_sample_table(stdout, l, &r, &j->data);
+        lt_report_sample_table(stdout, l, r, &j->data);
     }
     int status = CLI_OK;
     if (out) {
-        char path[4096], what[128];
-        snprintf(path, sizeof path, "%s/summary.json", out);
+        char *path = lt_path_join(out, "summary.json"), what[128];
         snprintf(what, sizeof what, "lantern %s sample", LT_VERSION);
-        if (lt_report_write_json(path, json, &err) ||
-            lt_report_write_chains(out, l, &r, &j->data, j->seed, &err) ||
-            lt_outdir_finish(out, what, &err))
+        if (!path)
+            status = cli_usage_error("sample", "out of memory");
+        else if (lt_report_write_json(path, json, &err) ||
+            lt_report_write_chains(out, l, r, &j->data, j->seed, &err) ||
+                 lt_outdir_finish(out, what, &err))
             status = cli_report(&err);
+        free(path);
     }
-    if (!status && !r.converged) {
+    if (!status && !r->converged) {
         fputs("lantern: warning: the chains did not converge within --max-steps; the results "
               "are written and marked \"converged\": false\n",
               stderr);
         /* ESS grows about linearly with the draws once the chains mix: say
          * what cap should reach the target at the rate seen so far. */
-        double e = r.diag.ess_min;
+        double e = r->diag.ess_min;
         if (isfinite(e) && e > 0.0 && e < j->target_ess)
             fprintf(stderr,
                     "lantern: the smallest ESS is %.0f after %zu draws per chain; at that rate "
                     "--max-steps %.0f should reach %g\n",
-                    e, r.steps, ceil(1.1 * (double)r.steps * j->target_ess / e / 1000.0) * 1000.0,
+                    e, r->steps, ceil(1.1 * (double)r->steps * j->target_ess / e / 1000.0) * 1000.0,
                     j->target_ess);
         status = CLI_UNCONVERGED;
     }
     cJSON_Delete(json);
-    lt_posterior_free(&r);
     return status;
 }
 
 int cli_sample_model(lt_job *j, lt_like *l, const lt_like_spec *spec, const char *out,
                      int resume, int print, cli_format format, const char *evidence_label)
 {
-    int status = CLI_OK, prepared = 0;
+    int status = CLI_OK, prepared = 0, started = 0;
     lt_error err;
     lt_error_clear(&err);
-    lt_pipeline_mcmc p;
-    memset(&p, 0, sizeof p);
+    lt_posterior post;
+    memset(&post, 0, sizeof post);
+    char *ckdir = out ? lt_path_join(out, "checkpoint") : NULL;
+    if (out && !ckdir) {
+        status = cli_usage_error("sample", "out of memory");
+        goto done;
+    }
     if (out && !resume) {
         char what[128];
         snprintf(what, sizeof what, "lantern %s sample (running)", LT_VERSION);
@@ -191,10 +171,12 @@ int cli_sample_model(lt_job *j, lt_like *l, const lt_like_spec *spec, const char
     progress pr = {{0, 0}, isatty(2), j->quiet, j->verbose, j->target_ess, 0};
     clock_gettime(CLOCK_MONOTONIC, &pr.start);
     lt_pipeline_hooks hooks = {on_check, on_note, &pr};
-    int rc = lt_pipeline_mcmc_run(l, j, spec, out, resume, cli_catch_signals(), &hooks, &p, &err);
+    lt_run_opts o = {ckdir, "state.bin", spec, resume ? LT_RUN_RESUME : LT_RUN_FRESH,
+                     cli_catch_signals(), &hooks};
+    int rc = lt_pipeline_run(lt_method_mcmc, l, j, &o, &started, &post, &err);
     if (pr.printed && pr.tty && !pr.verbose)
         fputc('\n', stderr);
-    if (rc == LT_EINTR && p.stopped_in_fit) {
+    if (rc == LT_EINTR && !started) {
         fputs("lantern: interrupted during the best fit, before sampling began\n", stderr);
         status = CLI_FAILED;
     } else if (rc == LT_EINTR && out) {
@@ -208,14 +190,15 @@ int cli_sample_model(lt_job *j, lt_like *l, const lt_like_spec *spec, const char
     } else if (rc) {
         status = cli_report(&err);
     } else {
-        status = finish(j, l, p.m, format, out, print, &p.cmp, evidence_label, resume);
+        status = finish(j, l, &post, format, out, print, evidence_label, &o);
     }
 done:
     /* a failure leaves the earlier run (or no folder) behind, a checkpoint
      * to resume from stays */
     if (prepared && status != CLI_OK && status != CLI_UNCONVERGED)
         lt_outdir_abandon(out);
-    lt_pipeline_mcmc_free(&p);
+    lt_posterior_free(&post);
+    free(ckdir);
     return status;
 }
 
@@ -228,7 +211,7 @@ int cli_sample(int argc, char **argv)
     int quiet = 0, verbose = 0;
     lt_survey *s = NULL;
     lt_like *l = NULL;
-    char settings[4200] = "";
+    char *settings = NULL;
     if (argc > 1 && strncmp(argv[1], "--", 2) != 0) {
         if ((status = cli_job_load(&j, argv[1], NULL, NULL, 0)))
             goto done;
@@ -275,7 +258,10 @@ int cli_sample(int argc, char **argv)
             status = cli_usage_error("--resume", "give the run folder only, not a run file");
             goto done;
         }
-        snprintf(settings, sizeof settings, "%s/checkpoint/settings.ini", resume);
+        if (!(settings = lt_path_join(resume, "checkpoint/settings.ini"))) {
+            status = cli_usage_error("sample", "out of memory");
+            goto done;
+        }
         struct stat st;
         if (stat(settings, &st) != 0) {
             status = cli_usage_error(resume, "no checkpoint here (checkpoint/settings.ini is "
@@ -307,5 +293,6 @@ done:
     lt_like_free(l);
     lt_survey_free(s);
     lt_job_free(&j);
+    free(settings);
     return status;
 }

@@ -258,7 +258,8 @@ int lt_pipeline_nested_posterior(const lt_like *l, const lt_nested_result *nr, s
     r->method = LT_POST_NESTED;
     r->nchains = 1, r->ndraws = n, r->thin = 1, r->steps = n;
     r->z_pivot = NAN;
-    if (alloc_rows(l, n, r) || !(r->weights = malloc((n ? n : 1) * sizeof *r->weights)))
+    if (alloc_rows(l, n, r) || !(r->weights = malloc((n ? n : 1) * sizeof *r->weights)) ||
+        !(r->loglike = malloc((n ? n : 1) * sizeof *r->loglike)))
         goto nomem;
     double norm = lt_like_lognorm(l);
     size_t best = 0;
@@ -269,6 +270,7 @@ int lt_pipeline_nested_posterior(const lt_like *l, const lt_nested_result *nr, s
         row[1] = -2.0 * (nr->loglike[j] - norm);
         memcpy(row + 2, nr->theta + j * d, d * sizeof *row);
         r->weights[j] = exp(nr->logw[j]);
+        r->loglike[j] = nr->loglike[j];
         if (nr->loglike[j] > nr->loglike[best])
             best = j;
     }
@@ -325,6 +327,7 @@ int lt_pipeline_fit_posterior(const lt_like *l, const lt_fit_result *fr, lt_post
             r->cov[i * d + k] = fr->cov[i * d + k];
     }
     r->at_best = fr->at_best;
+    r->fit = *fr;
     memcpy(r->measured, fr->measured, sizeof r->measured);
     r->converged = fr->info.converged && fr->laplace_ok;
     return LT_OK;

@@ -17,6 +17,7 @@ void lt_posterior_free(lt_posterior *p)
     free(p->stats);
     free(p->cov);
     free(p->weights);
+    free(p->loglike);
     free(p->diag.rhat);
     free(p->diag.ess_bulk);
     free(p->diag.ess_tail);
@@ -28,7 +29,6 @@ void lt_posterior_free(lt_posterior *p)
 
 void lt_model_result_free(lt_model_result *m)
 {
-    lt_nested_result_free(&m->nested);
     lt_posterior_free(&m->post);
     lt_like_free(m->l);
     m->l = NULL;

@@ -190,19 +190,19 @@ int lt_report_write_nested(const char *dir, const lt_model_result *m, lt_error *
         goto done;
     }
     size_t d = lt_like_dim(m->l);
-    const lt_nested_result *nr = &m->nested;
+    const lt_posterior *p = &m->post;
     fputs("weight,loglike", f);
     for (size_t i = 0; i < d; i++)
         fprintf(f, ",%s", lt_like_param_name(m->l, i));
     fputc('\n', f);
     char b[32];
-    for (size_t j = 0; j < nr->nsamples; j++) {
-        lt_format_double(exp(nr->logw[j]), b, sizeof b);
+    for (size_t j = 0; j < p->ndraws; j++) {
+        lt_format_double(p->weights[j], b, sizeof b);
         fputs(b, f);
-        lt_format_double(nr->loglike[j], b, sizeof b);
+        lt_format_double(p->loglike[j], b, sizeof b);
         fprintf(f, ",%s", b);
         for (size_t i = 0; i < d; i++) {
-            lt_format_double(nr->theta[j * d + i], b, sizeof b);
+            lt_format_double(p->rows[j * p->ncols + p->first_param + i], b, sizeof b);
             fprintf(f, ",%s", b);
         }
         fputc('\n', f);
