@@ -32,4 +32,9 @@ int lt_file_close_commit(FILE *f, const char *final, lt_error *err);
 /* Write text (NUL-terminated) atomically. */
 int lt_file_write_text(const char *path, const char *text, lt_error *err);
 
+/* "dir/name" as a new string (free it), of whatever length: paths are
+ * built here rather than in fixed buffers, which cut long paths short.
+ * NULL (LT_ENOMEM in err) only when memory runs out. */
+char *lt_path_join(const char *dir, const char *name, lt_error *err);
+
 #endif
