@@ -73,7 +73,8 @@ static int read_object(const char *path, cJSON **o, lt_error *err)
     if (!cJSON_IsObject(*o)) {
         cJSON_Delete(*o);
         *o = NULL;
-        return lt_error_set(err, LT_EINPUT, path, 0, "not a JSON object (a damaged file?)");
+        return lt_error_set(err, LT_EINPUT, path, 0,
+                            "is not a JSON object (damaged?); remove it to run its task again");
     }
     return LT_OK;
 }
