@@ -22,11 +22,12 @@ static int injected_failure(size_t index, int attempt)
     const char *v = getenv("LANTERN_TEST_FAIL_ONCE");
     if (!v || attempt > 1)
         return 0;
-    for (char *end; *v; v = *end ? end + 1 : end)
-        if (strtoul(v, &end, 10) == index && end != v)
+    /* parsed in place: strtok would keep hidden state between calls */
+    for (const char *p = v; p; p = strchr(p, ',') ? strchr(p, ',') + 1 : NULL) {
+        char *end;
+        if (strtoul(p, &end, 10) == index && end != p)
             return 1;
-        else if (end == v)
-            end = (char *)v + 1; /* not a number: skip a character */
+    }
     return 0;
 }
 
