@@ -15,13 +15,15 @@
  * command line runs them in a loop, or over Open MPI ranks, through the
  * same queue (lt_campaign_queue), which retries a failed task once.
  *
- * Nothing here prints.
+ * Nothing here prints, but lt_campaign_result_print, to the stream its
+ * caller gives.
  */
 #ifndef LANTERN_CAMPAIGN_H
 #define LANTERN_CAMPAIGN_H
 
 #include <signal.h>
 #include <stdint.h>
+#include <stdio.h>
 
 #include "lantern/likelihood.h"
 #include "lantern/pipeline.h"
@@ -118,6 +120,91 @@ int lt_campaign_queue_done(lt_campaign_queue *q, size_t index, int ok);
 int lt_campaign_queue_finished(const lt_campaign_queue *q);
 
 /*
+ * A campaign's output folder and its state while it runs, the same for
+ * every runner (the command line's loop, Open MPI ranks):
+ *   OUT/campaign.json  the manifest: name, file, digest and task count,
+ *                      which ties a resume to the campaign file;
+ *   OUT/tasks/NNNNNN.json  one record per finished task, written by
+ *                      whichever process ran it. The records are the
+ *                      state: a resume keeps those that finished well and
+ *                      runs the rest, so it ends with the same summary.
+ * The runner's loop takes indices from q and hands each to
+ * lt_campaign_run_task where it runs, and each record to
+ * lt_campaign_run_finished on the process that keeps the queue.
+ */
+typedef struct lt_campaign_run {
+    const lt_campaign *c;
+    char *out;                /* the folder, and its tasks/ */
+    char *tasks;
+    lt_campaign_queue q;
+    struct cJSON **results;   /* per task: its record once finished (ok or failed) */
+    size_t to_run;            /* tasks this run has to do (after a resume's scan) */
+    size_t finished_now;      /* tasks finished in this run (not resumed ones) */
+    int threads;              /* OpenMP threads a task uses (0: the default) */
+    volatile sig_atomic_t *stop;
+} lt_campaign_run;
+
+/* The queue and the records' slots for campaign c in folder out; nothing is
+ * written yet (ranks that only run tasks go no further). */
+int lt_campaign_run_init(lt_campaign_run *r, const lt_campaign *c, const char *out, int threads,
+                         volatile sig_atomic_t *stop, lt_error *err);
+void lt_campaign_run_free(lt_campaign_run *r);
+
+/* A new campaign in r->out: the folder is taken (lt_outdir_prepare, force as
+ * there), the task records of an earlier campaign removed, tasks/ and the
+ * manifest written and the folder marked as running. */
+int lt_campaign_out_create(lt_campaign_run *r, int force, lt_error *err);
+/* Continuing the campaign in r->out: its manifest must carry r->c's digest
+ * (else LT_EINPUT: another version of the file), the finished records are
+ * kept (lt_campaign_resume_scan) and the folder marked as running. */
+int lt_campaign_out_resume(lt_campaign_run *r, lt_error *err);
+
+/* The campaign file of a resume of dir, as a new string (free it): given if
+ * not NULL, else the one dir's manifest names. LT_EINPUT naming dir when it
+ * has no readable manifest, or naming the manifest when neither names a
+ * file. */
+int lt_campaign_manifest_file(const char *dir, const char *given, char **file, lt_error *err);
+
+/*
+ * The records in dir/tasks of tasks that finished well, into results[i]
+ * (NULL where the task has no record or failed: it runs again). Every field
+ * of a record is checked against c (index, label, data set, model, method)
+ * and the types the summary reads; a record that does not parse, or that
+ * belongs to another campaign, is refused (LT_EINPUT naming its file) rather
+ * than silently run again or summarised. On error results holds nothing.
+ */
+int lt_campaign_resume_scan(const lt_campaign *c, const char *dir, struct cJSON **results,
+                            lt_error *err);
+
+/*
+ * Run task index (attempt 1 or 2) where the caller is: returns its record as
+ * JSON text (a new string), with "where" (rank, host, attempt, seconds),
+ * and writes it to OUT/tasks/. *code is the task's status (LT_OK, LT_EINTR,
+ * or the error of a failed task, whose record says what failed); fail makes
+ * the attempt fail as a machine that drops out would (the command line's
+ * test hook of the retry). A record that could not be written is still
+ * returned (the scheduler keeps it in the summary), with the write error in
+ * werr (werr->code 0 otherwise). NULL for an interrupted task.
+ */
+char *lt_campaign_run_task(const lt_campaign_run *r, size_t index, int attempt, int rank,
+                           int fail, int *code, lt_error *werr);
+
+/* What the scheduler learns as a task ends, for its progress line. */
+typedef struct lt_campaign_progress {
+    int ok;                   /* the task succeeded */
+    int again;                /* it failed and goes back to the queue */
+    char label[512];
+    double seconds;           /* from the record's "where" (NAN if absent) */
+    int rank;
+    char error[LT_ERROR_MSG_MAX + LT_ERROR_FILE_MAX + 32]; /* a failed task's, or "no record" */
+} lt_campaign_progress;
+
+/* On the process that keeps the queue: task index ended with code and record
+ * text (NULL: none came). The record is kept unless the task is retried. */
+void lt_campaign_run_finished(lt_campaign_run *r, size_t index, int code, const char *text,
+                              lt_campaign_progress *p);
+
+/*
  * The summary: the campaign, counts of tasks done and failed, each task's
  * result (in index order; results[i] may be NULL for a task not run), and
  * for each (data set, model, method) of simulated data, each parameter's
@@ -166,6 +253,76 @@ void lt_bias_compute(double truth, size_t n, const double *est, const double *sd
  * k (the usual definition, e.g. Hollander & Wolfe, Nonparametric
  * Statistical Methods, section 2.1). */
 double lt_binomial_test(size_t k, size_t n, double p);
+
+/*
+ * The summary as C data, from which summary.json, the table, bias.csv and
+ * the figures are all made (so nothing reads the JSON back). Strings are
+ * copies; lt_campaign_result_free frees them.
+ */
+typedef struct lt_campaign_param_bias {
+    char *name;
+    lt_bias_stats s;
+    size_t npulls;            /* one per realization used (NAN without an sd) */
+    double *pulls;
+} lt_campaign_param_bias;
+
+typedef struct lt_campaign_dropped {
+    long realization;
+    char *reason;
+} lt_campaign_dropped;
+
+/* Bias and coverage of one (simulated data set, model, method). */
+typedef struct lt_campaign_group {
+    const char *dataset, *model, *method; /* the campaign's strings */
+    size_t realizations, used, dropped_failed, dropped_no_errors, unconverged;
+    size_t ndropped;
+    lt_campaign_dropped *dropped;
+    size_t nparams;
+    lt_campaign_param_bias *params;
+} lt_campaign_group;
+
+/* One task as the table lists it. */
+typedef struct lt_campaign_line {
+    char *label;
+    int ok, failed, file;     /* status "ok" or "failed"; data from a survey file (no truth) */
+    double chi2_min;          /* NAN where the record has none */
+    long dof;
+    char *error;              /* a failed task's message (NULL if it has none) */
+    size_t nparams;
+    char **names;
+    double *estimate, *sd;
+} lt_campaign_line;
+
+typedef struct lt_campaign_result {
+    const char *name;         /* the campaign's */
+    size_t tasks, done, failed, not_run, unconverged;
+    size_t ngroups;
+    lt_campaign_group *groups;
+    size_t nlines;            /* the tasks with a record, in index order */
+    lt_campaign_line *lines;
+} lt_campaign_result;
+
+/* results as in lt_campaign_summary; NULL (LT_ENOMEM) when memory runs out.
+ * The result points to c's strings: free it before c. */
+lt_campaign_result *lt_campaign_result_alloc(const lt_campaign *c, struct cJSON *const *results,
+                                             lt_error *err);
+void lt_campaign_result_free(lt_campaign_result *r);
+/* summary.json's object (lt_campaign_summary is this for a result it makes). */
+struct cJSON *lt_campaign_result_json(const lt_campaign_result *r, const lt_campaign *c,
+                                      struct cJSON *const *results);
+
+/* The table: counts, each group's bias, pulls and coverage with exact
+ * binomial p-values, the survey files' estimates, the failed tasks. */
+void lt_campaign_result_print(FILE *f, const lt_campaign_result *r);
+/* dir/bias.csv, one row per group and parameter. */
+int lt_campaign_result_write_csv(const char *dir, const lt_campaign_result *r, lt_error *err);
+/* dir/bias_DATASET_MODEL_METHOD.{png,pdf}, one per group. */
+int lt_campaign_result_write_figures(const char *dir, const lt_campaign_result *r,
+                                     lt_error *err);
+/* The end of a campaign that ran to its end: summary.json, bias.csv and the
+ * figures in r's folder, which is then finished (lt_outdir_finish). */
+int lt_campaign_out_finish(const lt_campaign_run *run, const lt_campaign_result *res,
+                           struct cJSON *summary, lt_error *err);
 
 /* ---- forecasts ---- */
 

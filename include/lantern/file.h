@@ -19,9 +19,6 @@
 int lt_file_read(const char *path, size_t max_bytes, char **data, size_t *size,
                  lt_error *err);
 
-/* "dir/name", a new string for the caller to free; NULL when out of
- * memory. Paths are built with this rather than in fixed-size buffers. */
-char *lt_path_join(const char *dir, const char *name);
 /* Whether path exists. */
 int lt_path_exists(const char *path);
 
@@ -37,5 +34,10 @@ int lt_file_commit(const char *final, lt_error *err);
 int lt_file_close_commit(FILE *f, const char *final, lt_error *err);
 /* Write text (NUL-terminated) atomically. */
 int lt_file_write_text(const char *path, const char *text, lt_error *err);
+
+/* "dir/name" as a new string (free it), of whatever length: paths are
+ * built here rather than in fixed buffers, which cut long paths short.
+ * NULL (LT_ENOMEM in err) only when memory runs out. */
+char *lt_path_join(const char *dir, const char *name, lt_error *err);
 
 #endif

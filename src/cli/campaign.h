@@ -3,26 +3,21 @@
  * runner. The plain binary runs them one after another in this process
  * (cmd_campaign.c); bin/lantern-mpi spreads them over Open MPI ranks
  * (mpi/main_mpi.c). Both take tasks from the same queue and finish each
- * through cli_campaign_task and cli_campaign_finished, so the records and
- * the summary are the same whichever ran them.
+ * through cli_campaign_task and cli_campaign_finished (lt_campaign_run_task
+ * and lt_campaign_run_finished), so the records and the summary are the
+ * same whichever ran them.
  */
 #ifndef LANTERN_CLI_CAMPAIGN_H
 #define LANTERN_CLI_CAMPAIGN_H
 
-#include <cjson/cJSON.h>
-
 #include "cli.h"
 
+/* The campaign and its run (lt_campaign_run: queue, records, folder), and
+ * what only the command line needs. */
 typedef struct cli_campaign {
     lt_campaign c;
-    const char *out;
-    lt_campaign_queue q;
-    cJSON **results;         /* per task: its record once finished (ok or failed) */
-    int threads, quiet;
-    volatile sig_atomic_t *stop;
-    int interrupted;
-    size_t finished_now;     /* tasks finished in this run (not resumed ones) */
-    size_t to_run;           /* tasks this run has to do */
+    lt_campaign_run run;
+    int quiet;
 } cli_campaign_state;
 
 typedef struct cli_campaign_runner {
@@ -34,16 +29,13 @@ typedef struct cli_campaign_runner {
     int (*agree)(int ok);
 } cli_campaign_runner;
 
-/*
- * Run task index (attempt 1 or 2) where the caller is: returns its record
- * as JSON text (a new string), with "where" (rank, host, seconds, attempt),
- * and writes it to OUT/tasks/. *code is the task's status (LT_OK, LT_EINTR,
- * or the error of a failed task, whose record says what failed).
- */
+/* lt_campaign_run_task with the test hook of the retry
+ * (LANTERN_TEST_FAIL_ONCE) and a failed write reported on stderr. */
 char *cli_campaign_task(cli_campaign_state *cc, size_t index, int attempt, int rank, int *code);
 
-/* On the scheduling process: task index ended with this record; prints a
- * progress line and returns 1 if the task goes back to the queue. */
+/* On the scheduling process: task index ended with this record
+ * (lt_campaign_run_finished); prints a progress line and returns 1 if the
+ * task goes back to the queue. */
 int cli_campaign_finished(cli_campaign_state *cc, size_t index, int code, const char *text);
 
 /* lantern campaign, with the given runner: is_root says whether this

@@ -142,7 +142,7 @@ int cli_compare(int argc, char **argv)
         }
         j.out = resume;
     }
-    if (j.out && !(ckdir = lt_path_join(j.out, "checkpoint"))) {
+    if (j.out && !(ckdir = lt_path_join(j.out, "checkpoint", NULL))) {
         status = cli_usage_error("compare", "out of memory");
         goto done;
     }

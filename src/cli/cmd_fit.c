@@ -82,11 +82,11 @@ int cli_fit(int argc, char **argv)
     if (j.out) {
         char what[128];
         snprintf(what, sizeof what, "lantern %s fit", LT_VERSION);
-        char *path = lt_path_join(j.out, "summary.json");
+        char *path = lt_path_join(j.out, "summary.json", NULL);
         int rc = path ? lt_report_write_json(path, json, &err)
                       : lt_error_set(&err, LT_ENOMEM, NULL, 0, "out of memory");
         free(path);
-        path = rc ? NULL : lt_path_join(j.out, "residuals.csv");
+        path = rc ? NULL : lt_path_join(j.out, "residuals.csv", NULL);
         if (!rc && !path)
             rc = lt_error_set(&err, LT_ENOMEM, NULL, 0, "out of memory");
         if (!rc && s) { /* residuals of the survey, where there is one */

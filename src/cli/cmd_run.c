@@ -50,7 +50,7 @@ static int write_report(lt_report_set *rs, const char *dir, const char *name, co
 
 static void print_constraints(const char *dir)
 {
-    char *path = lt_path_join(dir, "constraints.md"), *text = NULL;
+    char *path = lt_path_join(dir, "constraints.md", NULL), *text = NULL;
     size_t size;
     if (path && lt_file_read(path, 1 << 20, &text, &size, NULL) == LT_OK)
         fputs(text, stdout);
@@ -158,7 +158,7 @@ int cli_run(int argc, char **argv)
     snprintf(stem, sizeof stem, "%.*s", (int)strcspn(base, "."), base);
     const char *name = j.name ? j.name : stem;
     const char *given = resume ? resume : out ? out : j.out;
-    if (!(dir = given ? strdup(given) : lt_path_join("out", name))) {
+    if (!(dir = given ? strdup(given) : lt_path_join("out", name, NULL))) {
         status = cli_usage_error("run", "out of memory");
         goto done;
     }
@@ -211,8 +211,8 @@ int cli_run(int argc, char **argv)
             status = cli_report(&err);
             goto done;
         }
-        char *sum = lt_path_join(rs.dirs[k], "summary.json");
-        char *chk = lt_path_join(rs.dirs[k], "checkpoint/state.bin");
+        char *sum = lt_path_join(rs.dirs[k], "summary.json", NULL);
+        char *chk = lt_path_join(rs.dirs[k], "checkpoint/state.bin", NULL);
         /* a model's summary is written once, whole, with its evidence: a
          * folder with one is done (its convergence is read with the report) */
         int kept = sum && resume && lt_path_exists(sum), again = chk && resume && lt_path_exists(chk);

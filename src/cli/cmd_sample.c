@@ -116,7 +116,7 @@ static int finish(lt_job *j, lt_like *l, lt_posterior *r, cli_format format, con
     }
     int status = CLI_OK;
     if (out) {
-        char *path = lt_path_join(out, "summary.json"), what[128];
+        char *path = lt_path_join(out, "summary.json", NULL), what[128];
         snprintf(what, sizeof what, "lantern %s sample", LT_VERSION);
         if (!path)
             status = cli_usage_error("sample", "out of memory");
@@ -153,7 +153,7 @@ int cli_sample_model(lt_job *j, lt_like *l, const lt_like_spec *spec, const char
     lt_error_clear(&err);
     lt_posterior post;
     memset(&post, 0, sizeof post);
-    char *ckdir = out ? lt_path_join(out, "checkpoint") : NULL;
+    char *ckdir = out ? lt_path_join(out, "checkpoint", NULL) : NULL;
     if (out && !ckdir) {
         status = cli_usage_error("sample", "out of memory");
         goto done;
@@ -258,7 +258,7 @@ int cli_sample(int argc, char **argv)
             status = cli_usage_error("--resume", "give the run folder only, not a run file");
             goto done;
         }
-        if (!(settings = lt_path_join(resume, "checkpoint/settings.ini"))) {
+        if (!(settings = lt_path_join(resume, "checkpoint/settings.ini", NULL))) {
             status = cli_usage_error("sample", "out of memory");
             goto done;
         }

@@ -69,7 +69,7 @@ int lt_pipeline_compare(lt_model_result *m, size_t n, const lt_job *j, const cha
      * lt_nested_iterate). The results do not depend on the thread count. */
     /* a fresh comparison's settings, for a resume from the folder alone */
     if (ckdir && !resume) {
-        char *settings = lt_path_join(ckdir, "settings.ini");
+        char *settings = lt_path_join(ckdir, "settings.ini", NULL);
         int rc = !settings ? lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory")
                  : mkdir(ckdir, 0777) != 0 && errno != EEXIST
                      ? lt_error_set(err, LT_EIO, ckdir, 0, "cannot make the checkpoint folder: %s",

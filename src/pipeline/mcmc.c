@@ -98,7 +98,7 @@ static void *mcmc_alloc(lt_like *l, lt_job *j, const char *ckdir, lt_error *err)
         r->ctx = calloc(r->nchains, sizeof *r->ctx);
         r->ctxp = calloc(r->nchains, sizeof *r->ctxp);
         if (ckdir)
-            r->knots = lt_path_join(ckdir, "compression.txt");
+            r->knots = lt_path_join(ckdir, "compression.txt", NULL);
     }
     if (!r || !r->ctx || !r->ctxp || (ckdir && !r->knots)) {
         mcmc_free(r);

@@ -23,8 +23,8 @@ int lt_pipeline_run(const lt_method_type *t, lt_like *l, lt_job *j, const lt_run
     void *s = t->alloc(l, j, o->ckdir, err);
     if (!s)
         return err->code;
-    if (o->ckdir && ((o->state && !(state = lt_path_join(o->ckdir, o->state))) ||
-                     (o->spec && !(settings = lt_path_join(o->ckdir, "settings.ini"))))) {
+    if (o->ckdir && ((o->state && !(state = lt_path_join(o->ckdir, o->state, NULL))) ||
+                     (o->spec && !(settings = lt_path_join(o->ckdir, "settings.ini", NULL))))) {
         rc = lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
         goto done;
     }

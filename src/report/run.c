@@ -39,7 +39,7 @@ int lt_report_set_add(lt_report_set *rs, const char *run, const char *folder, co
     if (rs->n == LT_REPORT_MAX_MODELS)
         return lt_error_set(err, LT_EINPUT, NULL, 0, "at most %d models in one report",
                             LT_REPORT_MAX_MODELS);
-    rs->dirs[rs->n] = lt_path_join(run, folder);
+    rs->dirs[rs->n] = lt_path_join(run, folder, NULL);
     rs->folders[rs->n] = strdup(folder);
     rs->labels[rs->n] = label ? strdup(label) : NULL;
     if (!rs->dirs[rs->n] || !rs->folders[rs->n] || (label && !rs->labels[rs->n])) {
@@ -73,7 +73,7 @@ static int read_data(lt_report_set *rs, const cJSON *data, lt_error *err)
 
 int lt_report_set_add_run(lt_report_set *rs, const char *run, int label, lt_error *err)
 {
-    char *path = lt_path_join(run, "summary.json"), *text = NULL;
+    char *path = lt_path_join(run, "summary.json", NULL), *text = NULL;
     size_t size;
     cJSON *j = NULL;
     int rc;
@@ -138,7 +138,7 @@ static int write_summary(const char *dir, const char *name, const lt_report_set 
     cJSON *list = cJSON_AddArrayToObject(o, "models");
     cJSON *cmp = cJSON_AddArrayToObject(o, "comparison");
     for (size_t i = 0; i < rs->n; i++) {
-        char *path = lt_path_join(rs->dirs[i], "summary.json"), *text = NULL;
+        char *path = lt_path_join(rs->dirs[i], "summary.json", NULL), *text = NULL;
         size_t size;
         int rc = path ? lt_file_read(path, (size_t)64 << 20, &text, &size, err)
                       : lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
@@ -183,7 +183,7 @@ static int write_summary(const char *dir, const char *name, const lt_report_set 
         }
         cJSON_AddItemToArray(cmp, c);
     }
-    char *path = lt_path_join(dir, "summary.json");
+    char *path = lt_path_join(dir, "summary.json", NULL);
     int rc = path ? lt_report_write_json(path, o, err)
                   : lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
     free(path);

@@ -69,12 +69,15 @@ int lt_file_read(const char *path, size_t max_bytes, char **data, size_t *size,
     return LT_OK;
 }
 
-char *lt_path_join(const char *dir, const char *name)
+char *lt_path_join(const char *dir, const char *name, lt_error *err)
 {
     size_t n = strlen(dir) + strlen(name) + 2;
     char *s = malloc(n);
-    if (s)
-        snprintf(s, n, "%s/%s", dir, name);
+    if (!s) {
+        lt_error_set(err, LT_ENOMEM, dir, 0, "out of memory for a path");
+        return NULL;
+    }
+    snprintf(s, n, "%s/%s", dir, name);
     return s;
 }
 

@@ -243,6 +243,12 @@ then pass "configs/campaign-small.ini runs; its survey-file fit equals lantern f
 else fail "configs/campaign-small.ini runs; its survey-file fit equals lantern fit on the same file"; fi
 
 # Refusals.
+# A damaged task record is refused on resume, naming its file, rather than
+# quietly run again (the resume scan checks every record).
+cp -r "$E2E_TMP/one" "$E2E_TMP/damaged"
+printf '{"task":5,' >"$E2E_TMP/damaged/tasks/000005.json"
+run "$LANTERN" campaign "$C" --resume "$E2E_TMP/damaged"
+expect_error "a damaged task record is refused on resume, naming its file" 2 "tasks/000005.json: is not a JSON object"
 run "$LANTERN" campaign "$C" --out "$E2E_TMP/one"
 expect_error "an earlier campaign folder is refused without --force" 2 "earlier lantern run"
 cp "$C" "$E2E_TMP/c20b.ini"

@@ -1,7 +1,8 @@
 /*
  * Unit tests of campaigns: the file reader and its errors, the task list's
  * order and seeds, the queue's retry rule, bias and coverage arithmetic,
- * the exact binomial test against closed forms, and a task record.
+ * the exact binomial test against closed forms, a task record, the resume
+ * scan of a folder's records and the summary table.
  */
 #include <setjmp.h>
 #include <stdarg.h>
@@ -10,6 +11,7 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <sys/stat.h>
 #include <unistd.h>
 
 #include <cjson/cJSON.h>
@@ -310,6 +312,167 @@ static void test_summary_nominal_dropped(void **state)
     lt_campaign_free(&c);
 }
 
+/* A record as lt_campaign_task_run writes it (the head from
+ * lt_campaign_task_failed, status turned to ok), written as task file's
+ * record in folder out. */
+static void write_record(const lt_campaign *c, size_t task, const char *out, const char *file)
+{
+    lt_error err;
+    lt_error_clear(&err);
+    cJSON *o = lt_campaign_task_failed(c, task, &err);
+    cJSON_DeleteItemFromObject(o, "error");
+    cJSON_ReplaceItemInObject(o, "status", cJSON_CreateString("ok"));
+    cJSON_AddNumberToObject(o, "n_data", 120);
+    cJSON_AddNumberToObject(o, "dof", 118);
+    cJSON_AddNumberToObject(o, "chi2_min", 117.5);
+    cJSON_AddTrueToObject(o, "converged");
+    cJSON *q = cJSON_AddObjectToObject(cJSON_AddObjectToObject(o, "params"), "omega_m");
+    const char *keys[] = {"truth", "estimate", "sd", "lo68", "hi68", "lo95", "hi95"};
+    const double vals[] = {0.3, 0.31, 0.02, 0.29, 0.33, 0.27, 0.35};
+    for (size_t k = 0; k < 7; k++)
+        cJSON_AddNumberToObject(q, keys[k], vals[k]);
+    char *text = cJSON_Print(o);
+    char name[64];
+    snprintf(name, sizeof name, "%s/tasks/%s", out, file);
+    assert_non_null(lt_test_write(dir, name, text, strlen(text)));
+    free(text);
+    cJSON_Delete(o);
+}
+
+static void expect_refused(const lt_campaign *c, const char *out, const char *file,
+                           const char *msg)
+{
+    cJSON *results[5] = {NULL};
+    lt_error err;
+    lt_error_clear(&err);
+    char path[512];
+    snprintf(path, sizeof path, "%s/%s", dir, out);
+    assert_int_equal(lt_campaign_resume_scan(c, path, results, &err), LT_EINPUT);
+    char buf[1024];
+    lt_error_format(&err, buf, sizeof buf);
+    if (!strstr(buf, file) || !strstr(buf, msg))
+        fail_msg("error '%s' lacks '%s' or '%s'", buf, file, msg);
+    for (int i = 0; i < 5; i++)
+        assert_null(results[i]); /* nothing half-kept */
+}
+
+/* The resume scan keeps a finished record, runs a failed or missing task
+ * again, and refuses a damaged record or one of another task, naming it. */
+static void test_resume_scan(void **state)
+{
+    (void)state;
+    lt_campaign c;
+    lt_error err;
+    const char *text = "[campaign]\nmodels = lcdm-flat\nmethods = fit\n"
+                       "[simulated.sim]\nscenario = scenario.ini\nrealizations = 5\n";
+    assert_int_equal(lt_campaign_read(write_text("scan.ini", text), &c, &err), LT_OK);
+    char out[512];
+    snprintf(out, sizeof out, "%s/scan", dir);
+    assert_int_equal(mkdir(out, 0777), 0);
+    snprintf(out, sizeof out, "%s/scan/tasks", dir);
+    assert_int_equal(mkdir(out, 0777), 0);
+    snprintf(out, sizeof out, "%s/scan", dir);
+    write_record(&c, 0, "scan", "000000.json");
+    lt_error_set(&err, LT_EIO, "x.csv", 3, "gone");
+    cJSON *f = lt_campaign_task_failed(&c, 1, &err);
+    char *ft = cJSON_Print(f);
+    assert_non_null(lt_test_write(dir, "scan/tasks/000001.json", ft, strlen(ft)));
+    free(ft);
+    cJSON_Delete(f);
+    cJSON *results[5] = {NULL};
+    assert_int_equal(lt_campaign_resume_scan(&c, out, results, &err), LT_OK);
+    assert_non_null(results[0]);
+    assert_string_equal(cJSON_GetObjectItem(results[0], "label")->valuestring,
+                        "sim/r1/lcdm-flat/fit");
+    for (int i = 1; i < 5; i++)
+        assert_null(results[i]); /* failed (1) or not run (2-4): run again */
+    cJSON_Delete(results[0]);
+
+    /* cut short: not JSON */
+    assert_non_null(lt_test_write(dir, "scan/tasks/000003.json", "{\"task\":3,", 10));
+    expect_refused(&c, "scan", "000003.json", "not a JSON object");
+    /* task 4's record under task 3's name: another task's */
+    write_record(&c, 4, "scan", "000003.json");
+    expect_refused(&c, "scan", "000003.json", "not the record of task 3 (sim/r4/lcdm-flat/fit)");
+    /* a record of another campaign: same index, another data set's name */
+    lt_campaign other;
+    const char *t2 = "[campaign]\nmodels = lcdm-flat\nmethods = fit\n"
+                     "[simulated.other]\nscenario = scenario.ini\nrealizations = 5\n";
+    assert_int_equal(lt_campaign_read(write_text("other.ini", t2), &other, &err), LT_OK);
+    write_record(&other, 3, "scan", "000003.json");
+    expect_refused(&c, "scan", "000003.json", "not the record of task 3");
+    lt_campaign_free(&other);
+    /* the right task with a field of the wrong type */
+    write_record(&c, 3, "scan", "000003.json");
+    assert_int_equal(lt_campaign_resume_scan(&c, out, results, &err), LT_OK);
+    for (int i = 0; i < 5; i++)
+        cJSON_Delete(results[i]);
+    char *bad = NULL;
+    size_t size;
+    char rec[600];
+    snprintf(rec, sizeof rec, "%s/tasks/000003.json", out);
+    assert_int_equal(lt_file_read(rec, 1 << 20, &bad, &size, &err), LT_OK);
+    char *sd = strstr(bad, "\"sd\":");
+    assert_non_null(sd);
+    memcpy(sd + 1, "sx", 2); /* the sd is gone */
+    assert_non_null(lt_test_write(dir, "scan/tasks/000003.json", bad, size));
+    free(bad);
+    expect_refused(&c, "scan", "000003.json", "params.omega_m.sd is missing");
+    lt_campaign_free(&c);
+}
+
+/* The table of a result made from fixed records: the counts, the group's
+ * line with its dropped realizations by reason, the header naming the
+ * probabilities tested, and the failed task with its error. */
+static void test_result_print(void **state)
+{
+    (void)state;
+    lt_campaign c;
+    lt_error err;
+    const char *text = "[campaign]\nname = fixed\nmodels = lcdm-flat\nmethods = fit\n"
+                       "[simulated.sim]\nscenario = scenario.ini\nrealizations = 3\n";
+    assert_int_equal(lt_campaign_read(write_text("three.ini", text), &c, &err), LT_OK);
+    cJSON *results[3];
+    results[0] = fake_record(0, "{\"truth\":0.3,\"estimate\":0.31,\"sd\":0.02,\"lo68\":0.29,"
+                                "\"hi68\":0.33,\"lo95\":0.27,\"hi95\":0.35}");
+    results[1] = fake_record(1, "{\"truth\":0.3,\"estimate\":0.27,\"sd\":0.02,\"lo68\":0.25,"
+                                "\"hi68\":0.29,\"lo95\":0.23,\"hi95\":0.31}");
+    lt_error_set(&err, LT_EIO, "x.csv", 3, "gone");
+    results[2] = lt_campaign_task_failed(&c, 2, &err);
+    lt_campaign_result *r = lt_campaign_result_alloc(&c, results, &err);
+    assert_non_null(r);
+    char *buf = NULL;
+    size_t size = 0;
+    FILE *f = open_memstream(&buf, &size);
+    lt_campaign_result_print(f, r);
+    fclose(f);
+    /* bias: (0.01 - 0.03) / 2 = -0.01, its error sd/sqrt(2) = 0.02828/1.414
+     * = 0.02; pulls 0.5 and -1.5: mean -0.5, sd sqrt(2) = 1.414, errors
+     * 1.414/sqrt(2) = 1 and 1.414/sqrt(2) = 1; the 68% intervals hold the
+     * truth once of twice, the 95% ones twice. p-values of the exact
+     * binomial test (closed forms by hand): at p = 0.6827 the outcomes 0
+     * and 1 are no likelier than 1, (1-p)^2 + 2p(1-p) = 1 - p^2 = 0.534;
+     * at 0.95, 2 of 2 is the likeliest outcome: 1. */
+    const char *want =
+        "campaign fixed: 3 tasks, 2 done, 1 failed, 0 not run, 0 unconverged\n"
+        "\n"
+        "sim / lcdm-flat / fit: 2 of 3 realizations used, 1 dropped (0 without errors, 1 failed; "
+        "summary.json lists them)\n"
+        "  parameter     truth                  bias       pull mean      pull width  "
+        "cover 68.27% (p)     cover 95% (p)\n"
+        "  omega_m         0.3      -0.01 +-    0.02 -0.500 +- 1.000  1.414 +- 1.000  "
+        "0.500 (  0.53)  1.000 (     1)\n"
+        "\n"
+        "failed tasks (tried twice):\n"
+        "  sim/r3/lcdm-flat/fit: x.csv:3: gone\n";
+    assert_string_equal(buf, want);
+    free(buf);
+    lt_campaign_result_free(r);
+    for (int i = 0; i < 3; i++)
+        cJSON_Delete(results[i]);
+    lt_campaign_free(&c);
+}
+
 /* One task run twice gives the same record; it holds the truth and the
  * fields the summary reads; a failed record says why. */
 static void test_task_record(void **state)
@@ -359,7 +522,8 @@ int main(void)
         cmocka_unit_test(test_task_order), cmocka_unit_test(test_errors),
         cmocka_unit_test(test_queue),      cmocka_unit_test(test_binomial),
         cmocka_unit_test(test_bias),       cmocka_unit_test(test_summary_nominal_dropped),
-        cmocka_unit_test(test_task_record),
+        cmocka_unit_test(test_task_record), cmocka_unit_test(test_resume_scan),
+        cmocka_unit_test(test_result_print),
     };
     return cmocka_run_group_tests(tests, setup, teardown);
 }

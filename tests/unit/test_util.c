@@ -4,6 +4,7 @@
 #include <stdarg.h>
 #include <stddef.h>
 #include <stdint.h>
+#include <stdlib.h>
 #include <string.h>
 
 #include <cmocka.h>
@@ -167,6 +168,27 @@ static void test_digest(void **state)
     assert_true(h == 0x85944171f73967e8ull);
 }
 
+/* Paths of any length: a folder name longer than the 4200-byte buffers
+ * the campaign command once used is joined whole. */
+static void test_path_join(void **state)
+{
+    (void)state;
+    lt_error err;
+    char *p = lt_path_join("out/run", "tasks", &err);
+    assert_string_equal(p, "out/run/tasks");
+    free(p);
+    size_t n = 5000;
+    char *dir = malloc(n + 1);
+    assert_non_null(dir);
+    memset(dir, 'd', n);
+    dir[n] = '\0';
+    p = lt_path_join(dir, "000007.json", &err);
+    assert_int_equal(strlen(p), n + 12);
+    assert_string_equal(p + n, "/000007.json");
+    free(p);
+    free(dir);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -177,6 +199,7 @@ int main(void)
         cmocka_unit_test(test_text),
         cmocka_unit_test(test_rng_streams),
         cmocka_unit_test(test_digest),
+        cmocka_unit_test(test_path_join),
     };
     return cmocka_run_group_tests_name("util", tests, NULL, NULL);
 }

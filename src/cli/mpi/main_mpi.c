@@ -67,13 +67,13 @@ static int scheduler(cli_campaign_state *cc)
     for (int w = world_size - 1; w >= 1; w--)
         idle[nidle++] = w;
     for (;;) {
-        while (nidle > 0 && !interrupted && !*cc->stop) {
-            long i = lt_campaign_queue_take(&cc->q);
+        while (nidle > 0 && !interrupted && !*cc->run.stop) {
+            long i = lt_campaign_queue_take(&cc->run.q);
             if (i < 0)
                 break;
-            send_task(idle[--nidle], i, cc->q.attempts[i]);
+            send_task(idle[--nidle], i, cc->run.q.attempts[i]);
         }
-        if (cc->q.running == 0)
+        if (cc->run.q.running == 0)
             break; /* nothing out: all done, or stopping */
         MPI_Status st;
         wait_message(MPI_ANY_SOURCE, TAG_RESULT, &st);
@@ -94,7 +94,7 @@ static int scheduler(cli_campaign_state *cc)
         }
         if (code == LT_EINTR) {
             interrupted = 1;
-            cc->q.running--;
+            cc->run.q.running--;
         } else
             cli_campaign_finished(cc, (size_t)index, code, buf + used);
         free(buf);
@@ -103,7 +103,7 @@ static int scheduler(cli_campaign_state *cc)
     for (int w = 1; w < world_size; w++)
         MPI_Send(NULL, 0, MPI_LONG, w, TAG_STOP, MPI_COMM_WORLD);
     free(idle);
-    return interrupted || *cc->stop ? LT_EINTR : LT_OK;
+    return interrupted || *cc->run.stop ? LT_EINTR : LT_OK;
 }
 
 static int worker(cli_campaign_state *cc)
