@@ -364,4 +364,14 @@ int lt_forecast_run(const lt_scenario *sc, const lt_like_spec *spec, lt_forecast
  */
 int lt_forecast_read(const char *path, lt_scenario *sc, lt_like_spec *spec, lt_error *err);
 
+/* The forecast f of scenario sc with spec as lantern forecast's JSON:
+ * params (fiducial, sd, sd with the others fixed, a user's prior), the
+ * Fisher matrix (with and without the Gaussian priors it includes), the
+ * covariance and correlations, and the figure of merit for w0-wa. */
+struct cJSON *lt_forecast_json(const lt_scenario *sc, const lt_like_spec *spec,
+                               const lt_forecast *f);
+/* The same as a readable table. */
+void lt_forecast_print(FILE *out, const lt_scenario *sc, const lt_like_spec *spec,
+                       const lt_forecast *f);
+
 #endif

@@ -49,6 +49,30 @@ void lt_report_sample_table(FILE *f, const lt_like *l, const lt_posterior *r,
 int lt_report_write_chains(const char *dir, const lt_like *l, const lt_posterior *r,
                            const lt_survey_spec *data, unsigned long seed, lt_error *err);
 
+/* ---- distances (lantern distance) ---- */
+
+/* Cosmology c's table t at the n redshifts z (every column filled), as a
+ * readable table headed by the model and its parameters, as CSV (columns
+ * z, comoving_mpc, transverse_mpc, luminosity_mpc, angular_mpc, distmod,
+ * lookback_gyr, age_gyr, hubble_km_s_mpc: DESIGN.md's order), or as JSON
+ * ({model, params, rows}; an infinite age or mu at z = 0 is null). */
+void lt_report_distance_table(FILE *f, const lt_cosmo *c, size_t n, const double *z,
+                              const lt_cosmo_table *t);
+void lt_report_distance_csv(FILE *f, size_t n, const double *z, const lt_cosmo_table *t);
+struct cJSON *lt_report_distance_json(const lt_cosmo *c, size_t n, const double *z,
+                                      const lt_cosmo_table *t);
+
+/* ---- surveys (lantern inspect) ---- */
+
+/* A survey as read (s from spec), its summary numbers st and covariance
+ * check ci: n_data, n_read, observable, the redshift and observable
+ * ranges, z_histogram, err, covariance, files, warnings. */
+struct cJSON *lt_report_survey_json(const lt_survey_spec *spec, const lt_survey *s,
+                                    const lt_survey_stats *st, const lt_cov_info *ci);
+/* The same as a readable table, with the redshift histogram drawn. */
+void lt_report_survey_table(FILE *f, const lt_survey_spec *spec, const lt_survey *s,
+                            const lt_survey_stats *st, const lt_cov_info *ci);
+
 /* ---- comparisons (lantern compare) ---- */
 
 /* Kass & Raftery 1995's words for |2 ln B|: below 2 "not worth more than a

@@ -1,10 +1,13 @@
 /* Fisher forecasts of survey designs: see lantern/campaign.h. */
 #include <math.h>
+#include <stdio.h>
 #include <string.h>
 
+#include <cjson/cJSON.h>
 #include <gsl/gsl_linalg.h>
 
 #include "lantern/ini.h"
+#include "lantern/json.h"
 #include "internal.h"
 
 int lt_forecast_read(const char *path, lt_scenario *sc, lt_like_spec *spec, lt_error *err)
@@ -205,4 +208,139 @@ done:
     lt_like_free(l);
     lt_sim_free(&sim);
     return rc;
+}
+
+/* ---- what a forecast reports ---- */
+
+/* The prior the user gave name, or NULL. */
+static const lt_prior *user_prior(const lt_like_spec *spec, const char *name)
+{
+    const lt_param_setting *st = lt_like_spec_setting(spec, name);
+    return st && !st->fixed ? &st->prior : NULL;
+}
+
+static cJSON *num(double v) { return lt_json_number(v); }
+
+static cJSON *matrix_json(const double *m, size_t d)
+{
+    cJSON *a = cJSON_CreateArray();
+    for (size_t i = 0; i < d; i++) {
+        cJSON *row = cJSON_CreateArray();
+        for (size_t j = 0; j < d; j++)
+            cJSON_AddItemToArray(row, num(m[i * d + j]));
+        cJSON_AddItemToArray(a, row);
+    }
+    return a;
+}
+
+cJSON *lt_forecast_json(const lt_scenario *sc, const lt_like_spec *spec, const lt_forecast *f)
+{
+    size_t d = f->dim;
+    cJSON *o = cJSON_CreateObject();
+    cJSON_AddStringToObject(o, "command", "forecast");
+    cJSON_AddStringToObject(o, "scenario", sc->name ? sc->name : "");
+    cJSON_AddStringToObject(o, "model", spec->model->name);
+    cJSON_AddItemToObject(o, "n_data", num((double)f->n_data));
+    cJSON_AddStringToObject(o, "observable", lt_obs_name(sc->kind));
+    cJSON_AddItemToObject(o, "compression_knots", num((double)f->K));
+    cJSON *params = cJSON_AddObjectToObject(o, "params");
+    cJSON *names = cJSON_CreateArray();
+    for (size_t i = 0; i < d; i++) {
+        cJSON *p = cJSON_AddObjectToObject(params, f->names[i]);
+        cJSON_AddItemToObject(p, "fiducial", num(f->fiducial[i]));
+        cJSON_AddItemToObject(p, "sd", num(f->sd[i]));
+        cJSON_AddItemToObject(p, "sd_fixed_others", num(f->sd_cond[i]));
+        if (user_prior(spec, f->names[i])) {
+            char buf[64];
+            lt_prior_format(user_prior(spec, f->names[i]), buf, sizeof buf);
+            cJSON_AddStringToObject(p, "prior", buf);
+        }
+        cJSON_AddItemToArray(names, cJSON_CreateString(f->names[i]));
+    }
+    cJSON *fi = cJSON_AddObjectToObject(o, "fisher");
+    cJSON_AddItemToObject(fi, "names", names);
+    cJSON_AddItemToObject(fi, "matrix", matrix_json(f->fisher, d));
+    /* say what the matrix holds: the data's information plus 1/sd^2 on the
+     * diagonal of each Gaussian prior (a user adding the matrix to another
+     * probe's would count the prior twice); and give the data's alone */
+    cJSON *with = cJSON_AddArrayToObject(fi, "includes_gaussian_priors");
+    double data_only[LT_MAX_FREE * LT_MAX_FREE];
+    memcpy(data_only, f->fisher, d * d * sizeof *data_only);
+    for (size_t i = 0; i < d; i++) {
+        const lt_prior *p = user_prior(spec, f->names[i]);
+        if (p && p->kind == LT_PRIOR_GAUSS) {
+            cJSON_AddItemToArray(with, cJSON_CreateString(f->names[i]));
+            data_only[i * d + i] -= 1 / (p->b * p->b);
+        }
+    }
+    cJSON_AddStringToObject(fi, "note",
+                            "matrix = the data's Fisher matrix + 1/sd^2 on the diagonal for each "
+                            "parameter in includes_gaussian_priors (uniform priors add nothing); "
+                            "matrix_data_only leaves the priors out");
+    cJSON_AddItemToObject(fi, "matrix_data_only", matrix_json(data_only, d));
+    cJSON *cov = cJSON_AddObjectToObject(o, "covariance");
+    cJSON_AddItemToObject(cov, "names", cJSON_Duplicate(names, 1));
+    cJSON_AddItemToObject(cov, "matrix", matrix_json(f->cov, d));
+    double cor[LT_MAX_FREE * LT_MAX_FREE];
+    for (size_t i = 0; i < d; i++)
+        for (size_t j = 0; j < d; j++)
+            cor[i * d + j] = f->cov[i * d + j] / (f->sd[i] * f->sd[j]);
+    cJSON_AddItemToObject(cov, "correlation", matrix_json(cor, d));
+    if (f->has_w0wa) {
+        cJSON *fom = cJSON_AddObjectToObject(o, "figure_of_merit");
+        cJSON_AddItemToObject(fom, "value", num(f->fom));
+        cJSON_AddStringToObject(fom, "definition",
+                                "1/sqrt(det Cov(w0, wa)): the Dark Energy Task Force figure of "
+                                "merit (Albrecht et al. 2006) in the normalisation stated by "
+                                "Albrecht et al. 2009, arXiv:0901.0721");
+        cJSON_AddItemToObject(fom, "z_pivot", num(f->z_pivot));
+        cJSON_AddItemToObject(fom, "w_pivot_sd", num(f->w_pivot_sd));
+    }
+    return o;
+}
+
+void lt_forecast_print(FILE *out, const lt_scenario *sc, const lt_like_spec *spec,
+                       const lt_forecast *f)
+{
+    size_t d = f->dim;
+    fprintf(out, "forecast: %s design, %s, %zu objects (%s)\n", sc->name ? sc->name : "the",
+            spec->model->name, f->n_data, lt_obs_name(sc->kind));
+    if (f->K)
+        fprintf(out, "Fisher matrix from the compressed likelihood (%zu knots)", f->K);
+    else
+        fprintf(out, "Fisher matrix from the exact likelihood");
+    lt_offset_mode om = spec->offset == LT_OFFSET_DEFAULT
+                            ? (sc->kind == LT_OBS_MAG ? LT_OFFSET_MARGINAL : LT_OFFSET_NONE)
+                            : spec->offset;
+    fprintf(out, ", offset %s\n\n", lt_offset_name(om));
+    fprintf(out, "  %-10s %12s %12s %14s  %s\n", "parameter", "fiducial", "sigma",
+            "sigma (fixed)", "prior");
+    for (size_t i = 0; i < d; i++) {
+        char pr[64] = "-";
+        const lt_prior *p = user_prior(spec, f->names[i]);
+        if (p && p->kind == LT_PRIOR_GAUSS)
+            lt_prior_format(p, pr, sizeof pr);
+        fprintf(out, "  %-10s %12.6g %12.4g %14.4g  %s\n", f->names[i], f->fiducial[i],
+                f->sd[i], f->sd_cond[i], pr);
+    }
+    fputs("  (only Gaussian priors enter a Fisher matrix; uniform ones add nothing)\n", out);
+    if (d > 1) {
+        fprintf(out, "\ncorrelations:\n  %-10s", "");
+        for (size_t j = 0; j < d; j++)
+            fprintf(out, " %8s", f->names[j]);
+        fputc('\n', out);
+        for (size_t i = 0; i < d; i++) {
+            fprintf(out, "  %-10s", f->names[i]);
+            for (size_t j = 0; j < d; j++)
+                fprintf(out, " %8.3f", f->cov[i * d + j] / (f->sd[i] * f->sd[j]));
+            fputc('\n', out);
+        }
+    }
+    if (f->has_w0wa)
+        fprintf(out,
+                "\nfigure of merit 1/sqrt(det Cov(w0, wa)) = %.4g\n"
+                "  (the Dark Energy Task Force's, Albrecht et al. 2006, normalised as stated by\n"
+                "  Albrecht et al. 2009, arXiv:0901.0721)\n"
+                "pivot: z_p = %.3f, sigma(w_p) = %.4g\n",
+                f->fom, f->z_pivot, f->w_pivot_sd);
 }

@@ -1,6 +1,9 @@
 /* Argument scanning and error printing for the command line. */
 #include <stdarg.h>
+#include <stdlib.h>
 #include <string.h>
+
+#include <cjson/cJSON.h>
 
 #include "cli.h"
 
@@ -113,4 +116,13 @@ void cli_print_warnings(const lt_survey *s)
 {
     for (size_t i = 0; s && i < s->nwarnings; i++)
         fprintf(stderr, "lantern: warning: %s\n", s->warnings[i]);
+}
+
+void cli_print_json(cJSON *o, int take)
+{
+    char *text = cJSON_Print(o);
+    printf("%s\n", text ? text : "{}");
+    free(text);
+    if (take)
+        cJSON_Delete(o);
 }

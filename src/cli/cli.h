@@ -63,6 +63,9 @@ typedef enum { CLI_TABLE, CLI_CSV, CLI_JSON } cli_format;
  * any other text is reported as a usage error naming the allowed ones. */
 int cli_parse_format(const char *text, unsigned allowed, cli_format *out);
 
+/* Print o as JSON on stdout (with a newline); take: delete it after. */
+struct cJSON;
+void cli_print_json(struct cJSON *o, int take);
 /* Print the survey's warnings to stderr. */
 void cli_print_warnings(const lt_survey *s);
 

@@ -69,10 +69,7 @@ int cli_bench(int argc, char **argv)
         cJSON_AddItemToObject(o, "peak_rss_mb", lt_json_number(b.peak_rss_mb));
         cJSON_AddItemToObject(o, "max_abs_dchi2", lt_json_number(b.max_abs_dchi2));
         cJSON_AddStringToObject(o, "covariance", b.covariance);
-        char *text = cJSON_Print(o);
-        printf("%s\n", text ? text : "{}");
-        free(text);
-        cJSON_Delete(o);
+        cli_print_json(o, 1);
     } else {
         printf("%s on %zu objects (%s covariance), %s path%s\n", b.model, b.n_data, b.covariance,
                b.compressed ? "compressed" : "exact", b.compressed ? "" : " (--exact)");

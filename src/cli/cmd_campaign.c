@@ -98,10 +98,7 @@ static int finish(cli_campaign_state *cc, cli_format format, int interrupted)
     if (lt_campaign_out_finish(run, res, summary, &err))
         status = cli_report(&err);
     else if (format == CLI_JSON) {
-        char *pretty = cJSON_Print(summary);
-        if (pretty)
-            puts(pretty);
-        free(pretty);
+        cli_print_json(summary, 0);
     } else
         lt_campaign_result_print(stdout, res);
     if (status == CLI_OK && res->failed > 0) {

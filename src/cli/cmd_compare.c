@@ -210,9 +210,7 @@ int cli_compare(int argc, char **argv)
         }
     json = lt_report_compare_json(runs, nm);
     if (format == CLI_JSON) {
-        char *text = cJSON_Print(json);
-        printf("%s\n", text ? text : "{}");
-        free(text);
+        cli_print_json(json, 0);
     } else {
         lt_report_compare_table(stdout, runs, nm, &j.data);
     }

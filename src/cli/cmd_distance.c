@@ -6,21 +6,8 @@
 #include <stdlib.h>
 #include <string.h>
 
-#include <cjson/cJSON.h>
-
 #include "cli.h"
-
-/* Columns, in the order the contract (DESIGN.md) fixes for --format csv. */
-enum { COL_Z, COL_DC, COL_DM, COL_DL, COL_DA, COL_MU, COL_TL, COL_AGE, COL_H, NCOL };
-static const char *col_name[NCOL] = {
-    "z",       "comoving_mpc", "transverse_mpc", "luminosity_mpc", "angular_mpc",
-    "distmod", "lookback_gyr", "age_gyr",        "hubble_km_s_mpc"};
-/* For --format table: a short heading, its unit and the decimals shown. */
-static const char *col_head[NCOL] = {"z",       "comoving", "transverse", "luminosity", "angular",
-                                     "distmod", "lookback", "age",        "H(z)"};
-static const char *col_unit[NCOL] = {"",    "Mpc", "Mpc", "Mpc",     "Mpc",
-                                     "mag", "Gyr", "Gyr", "km/s/Mpc"};
-static const int col_decimals[NCOL] = {4, 3, 3, 3, 3, 4, 4, 4, 3};
+#include "lantern/report.h"
 
 static void usage(FILE *f)
 {
@@ -117,109 +104,6 @@ static int parse_z_range(const char *text, double **z, size_t *n)
     return CLI_OK;
 }
 
-/* The parameters the model reads, then what is derived, as "k = v" text. */
-static void describe_params(FILE *f, const lt_cosmo *c)
-{
-    const lt_cosmo_model *m = c->model;
-    lt_cosmo_params p = c->p;
-    const char *sep = "";
-    for (int id = 0; id < LT_P_T_CMB; id++) {
-        if (!lt_cosmo_model_uses(m, id))
-            continue;
-        fprintf(f, "%s%s = %g", sep, lt_cosmo_param_name(id), *lt_cosmo_params_slot(&p, id));
-        sep = ", ";
-    }
-    if (m->flat)
-        fprintf(f, "; derived omega_de = %.6g", c->p.omega_de);
-    else
-        fprintf(f, "; derived omega_k = %.6g", c->omega_k);
-    if (c->p.t_cmb > 0.0)
-        fprintf(f, "; radiation on: t_cmb = %g K, n_eff = %g, omega_r = %.6g", c->p.t_cmb,
-                c->p.n_eff, c->omega_r);
-    else
-        fputs("; radiation off", f);
-}
-
-static cJSON *params_json(const lt_cosmo *c)
-{
-    cJSON *o = cJSON_CreateObject();
-    lt_cosmo_params p = c->p;
-    for (int id = 0; id < LT_P_COUNT; id++)
-        if (lt_cosmo_model_uses(c->model, id) || id == LT_P_OMEGA_DE)
-            cJSON_AddItemToObject(o, lt_cosmo_param_name(id),
-                                  lt_json_number(*lt_cosmo_params_slot(&p, id)));
-    cJSON_AddItemToObject(o, "omega_k", lt_json_number(c->omega_k));
-    cJSON_AddItemToObject(o, "omega_r", lt_json_number(c->omega_r));
-    return o;
-}
-
-static void print_table(FILE *f, const lt_cosmo *c, size_t n, double *const col[NCOL])
-{
-    fprintf(f, "model %s: %s\n", c->model->name, c->model->summary);
-    describe_params(f, c);
-    fputs("\n\n", f);
-    int width[NCOL];
-    for (int k = 0; k < NCOL; k++) {
-        width[k] = (int)strlen(col_head[k]) > 10 ? (int)strlen(col_head[k]) : 10;
-        if (k == COL_Z)
-            width[k] = 9;
-    }
-    for (int k = 0; k < NCOL; k++)
-        fprintf(f, "%s%*s", k ? "  " : "", width[k], col_head[k]);
-    fputc('\n', f);
-    for (int k = 0; k < NCOL; k++)
-        fprintf(f, "%s%*s", k ? "  " : "", width[k], col_unit[k]);
-    fputc('\n', f);
-    for (size_t i = 0; i < n; i++) {
-        for (int k = 0; k < NCOL; k++) {
-            double v = col[k][i];
-            if (k == COL_Z)
-                fprintf(f, "%*.6g", width[k], v);
-            else
-                fprintf(f, "  %*.*f", width[k], col_decimals[k], v);
-        }
-        fputc('\n', f);
-    }
-}
-
-static void print_csv(FILE *f, size_t n, double *const col[NCOL])
-{
-    for (int k = 0; k < NCOL; k++)
-        fprintf(f, "%s%s", k ? "," : "", col_name[k]);
-    fputc('\n', f);
-    char buf[32];
-    for (size_t i = 0; i < n; i++) {
-        for (int k = 0; k < NCOL; k++) {
-            lt_format_double(col[k][i], buf, sizeof buf);
-            fprintf(f, "%s%s", k ? "," : "", buf);
-        }
-        fputc('\n', f);
-    }
-}
-
-static int print_json(FILE *f, const lt_cosmo *c, size_t n, double *const col[NCOL])
-{
-    cJSON *root = cJSON_CreateObject();
-    cJSON_AddStringToObject(root, "model", c->model->name);
-    cJSON_AddItemToObject(root, "params", params_json(c));
-    cJSON *rows = cJSON_AddArrayToObject(root, "rows");
-    for (size_t i = 0; i < n; i++) {
-        cJSON *row = cJSON_CreateObject();
-        /* An infinite age or the distance modulus at z = 0 becomes null
-         * (DESIGN.md). */
-        for (int k = 0; k < NCOL; k++)
-            cJSON_AddItemToObject(row, col_name[k], lt_json_number(col[k][i]));
-        cJSON_AddItemToArray(rows, row);
-    }
-    char *text = cJSON_Print(root);
-    cJSON_Delete(root);
-    if (!text)
-        return cli_usage_error("distance", "out of memory printing JSON");
-    fprintf(f, "%s\n", text);
-    free(text);
-    return CLI_OK;
-}
-
 int cli_distance(int argc, char **argv)
 {
     const char *model_name = NULL, *z_list = NULL, *z_range = NULL, *format_text = "table";
@@ -283,33 +167,29 @@ int cli_distance(int argc, char **argv)
     if (status)
         return status;
 
-    double *col[NCOL] = {0};
-    double *block = malloc(n * NCOL * sizeof *block);
+    double *block = malloc((8 * n + 1) * sizeof *block);
     lt_zgrid *g = NULL;
     if (!block) {
         status = cli_usage_error("distance", "out of memory for %zu redshifts", n);
         goto done;
     }
-    for (int k = 0; k < NCOL; k++)
-        col[k] = block + (size_t)k * n;
-    memcpy(col[COL_Z], z, n * sizeof *z);
+    lt_cosmo_table t = {block, block + n, block + 2 * n, block + 3 * n,
+                        block + 4 * n, block + 5 * n, block + 6 * n, block + 7 * n};
     g = lt_zgrid_alloc(n, z, &err);
     if (!g) {
         status = cli_report(&err);
         goto done;
     }
-    lt_cosmo_table t = {col[COL_DC], col[COL_DM], col[COL_DL], col[COL_DA],
-                        col[COL_MU], col[COL_TL], col[COL_AGE], col[COL_H]};
     if (lt_cosmo_eval(&c, g, &t, &err)) {
         status = cli_report(&err);
         goto done;
     }
     if (format == CLI_TABLE)
-        print_table(stdout, &c, n, col);
+        lt_report_distance_table(stdout, &c, n, z, &t);
     else if (format == CLI_CSV)
-        print_csv(stdout, n, col);
+        lt_report_distance_csv(stdout, n, z, &t);
     else
-        status = print_json(stdout, &c, n, col);
+        cli_print_json(lt_report_distance_json(&c, n, z, &t), 1);
     if (fflush(stdout) != 0 || ferror(stdout)) {
         fputs("lantern: distance: could not write the output\n", stderr);
         status = CLI_FAILED;

@@ -73,9 +73,7 @@ int cli_fit(int argc, char **argv)
         fprintf(stderr, "lantern: warning: %s\n", r.laplace_note);
     json = lt_report_fit_json(l, &r, &j.data, j.seed);
     if (format == CLI_JSON) {
-        char *text = cJSON_Print(json);
-        printf("%s\n", text ? text : "{}");
-        free(text);
+        cli_print_json(json, 0);
     } else {
         lt_report_fit_table(stdout, l, &r, &j.data);
     }

@@ -108,9 +108,7 @@ static int finish(lt_job *j, lt_like *l, lt_posterior *r, cli_format format, con
     cJSON *json = lt_report_sample_json(l, r, &j->data, j->seed);
     if (!print) {
     } else if (format == CLI_JSON) {
-        char *text = cJSON_Print(json);
-        printf("%s\n", text ? text : "{}");
-        free(text);
+        cli_print_json(json, 0);
     } else {
         lt_report_sample_table(stdout, l, r, &j->data);
     }
