@@ -172,4 +172,13 @@ typedef struct lt_cosmo_table {
 int lt_cosmo_eval(const lt_cosmo *c, const lt_zgrid *g, const lt_cosmo_table *out,
                   lt_error *err);
 
+/* Redshifts from text into a new array *z of *n: a comma-separated list
+ * ("0.1,0.5,1"; every item a finite number >= 0, none empty), or a range
+ * "LO:HI:N" or "LO:HI:N:log" (N from 1 to 10^7 points, evenly or
+ * logarithmically spaced, the last exactly HI). Errors name origin (the
+ * flag). */
+int lt_z_parse_list(const char *text, const char *origin, double **z, size_t *n, lt_error *err);
+int lt_z_parse_range(const char *text, const char *origin, double **z, size_t *n,
+                     lt_error *err);
+
 #endif

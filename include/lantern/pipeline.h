@@ -43,7 +43,10 @@
 #include "lantern/inference.h"
 #include "lantern/likelihood.h"
 #include "lantern/posterior.h"
+#include "lantern/report.h"
 #include "lantern/survey.h"
+
+struct cJSON;
 
 /* A NAME = VALUE entry of [priors], [fixed] or [measurements]. */
 typedef struct lt_job_entry {
@@ -177,13 +180,21 @@ typedef struct lt_progress {
     int converged;
 } lt_progress;
 
+/* The kinds of line a long job has to say. */
+typedef enum {
+    LT_NOTE_PROGRESS = 0, /* where it is: "[1/3] lcdm: best fit, then nested sampling ..." */
+    LT_NOTE_NEWS,         /* what happened: "the compressed likelihood is off ..." */
+    LT_NOTE_WARNING       /* what the results need read with: a prior edge, no convergence */
+} lt_note_kind;
+
 /* What a long method tells its caller as it goes (the command line prints
- * it; nothing here does). Either hook may be NULL. */
+ * it; nothing here does). Either hook may be NULL; a note may come from
+ * any thread, whole. */
 typedef struct lt_pipeline_hooks {
     /* after every convergence check of the chains (and its checkpoint) */
     void (*check)(const lt_progress *p, void *ctx);
-    /* news worth a line: "the compressed likelihood is off ... sampling again" */
-    void (*note)(const char *text, void *ctx);
+    /* a line to say, without a newline */
+    void (*note)(lt_note_kind kind, const char *text, void *ctx);
     void *ctx;
 } lt_pipeline_hooks;
 
@@ -296,6 +307,61 @@ int lt_pipeline_nested_posterior(const lt_like *l, const lt_nested_result *nr, s
 int lt_pipeline_fit_posterior(const lt_like *l, const lt_fit_result *fr, lt_posterior *r,
                               lt_error *err);
 
+/* ---- a sampled model into its folder (lantern sample, run) ---- */
+
+typedef struct lt_sample_opts {
+    const char *out;            /* the folder (summary.json, chains.csv, chains.fits,
+                                 * checkpoint/), or NULL: nothing written */
+    int resume;                 /* continue out's checkpoint */
+    const char *evidence_label; /* add the evidence by nested sampling (j's live points
+                                 * and seed, checkpointed in out), its progress line
+                                 * labelled so ("[1/4] lcdm"); NULL: none */
+    volatile sig_atomic_t *stop;
+    const lt_pipeline_hooks *hooks;
+} lt_sample_opts;
+
+/*
+ * Sample l (spec: what it was made from, for the settings file) by j with
+ * lt_method_mcmc into o->out: the folder taken (j->force to replace an
+ * earlier lantern output) and marked while running, the warnings said
+ * (importance weights, prior edges, no convergence), the evidence added
+ * where asked, summary.json and the chain files written, the folder marked
+ * done. post and *summary (the JSON written; the caller deletes it) are
+ * filled on LT_OK; free post in every case. *stage says how far a stop or
+ * failure came: 0 before sampling began (the best fit), 1 sampling, 2 the
+ * evidence. A failure leaves an earlier run's folder as it was; a stop
+ * leaves the checkpoint to resume.
+ */
+int lt_pipeline_sample(lt_like *l, lt_job *j, const lt_like_spec *spec, const lt_sample_opts *o,
+                       lt_posterior *post, struct cJSON **summary, int *stage, lt_error *err);
+
+/* ---- a run of several models and its report (lantern run, report) ---- */
+
+typedef struct lt_run_job_opts {
+    const char *run_file;       /* named in errors; its stem names the default folder */
+    const char *out;            /* the folder (--out or --resume); NULL: [output] dir, else
+                                 * out/NAME with NAME from [run] name or the file's stem */
+    int resume, force;
+    volatile sig_atomic_t *stop;
+    const lt_pipeline_hooks *hooks;
+} lt_run_job_opts;
+/*
+ * Every model of j's [run] models (known, none twice) sampled into DIR/MODEL
+ * with its evidence (lt_pipeline_sample; resumed, a model with a summary is
+ * kept and one with a checkpoint continued), the data read once, then the
+ * report of the whole (lt_pipeline_report) and the folder marked done.
+ * *dir: the folder (the caller frees it, also on failure, to say where to
+ * resume). *unconverged: a model did not converge. LT_EINTR if stopped;
+ * a failure leaves an earlier run's folder as it was.
+ */
+int lt_pipeline_run_job(lt_job *j, const lt_run_job_opts *o, char **dir, int *unconverged,
+                        lt_error *err);
+/* rs's report into dir (lt_report_set_write, the Hubble diagram from s or
+ * the set's own survey), then its notes through h: a model that did not
+ * converge (*unconverged set), one fitted to other data. */
+int lt_pipeline_report(lt_report_set *rs, const char *dir, const char *name, const lt_survey *s,
+                       const lt_pipeline_hooks *h, int *unconverged, lt_error *err);
+
 /* ---- comparing models ---- */
 
 /* The likelihood of each model m[k].name (set by the caller) from j's
@@ -318,6 +384,28 @@ int lt_pipeline_compare_setup(lt_model_result *m, size_t n, const lt_job *j, con
 int lt_pipeline_compare(lt_model_result *m, size_t n, const lt_job *j, const char *ckdir,
                         int resume, volatile sig_atomic_t *stop, const lt_pipeline_hooks *h,
                         lt_error *err);
+
+/* lantern compare's job: the models of j's [run] models compared on j's
+ * data. */
+#define LT_MAX_COMPARED 16
+typedef struct lt_comparison {
+    size_t n;
+    lt_model_result m[LT_MAX_COMPARED];
+    char names[LT_MAX_COMPARED][LT_NAME_MAX];
+    lt_survey *survey;         /* none for measurements alone */
+    struct cJSON *summary;     /* lt_report_compare_json, once done */
+} lt_comparison;
+/*
+ * Read j's survey; with j->out, take the folder (j->force) unless resuming
+ * (then its checkpoint/ must exist); compare the models (lt_pipeline_compare,
+ * j->lenient set); say the survey's and the models' warnings through h; and
+ * write OUT/nested_MODEL.csv and OUT/summary.json, marking the folder done.
+ * LT_EINTR if stopped (the checkpoints kept, no final file); a failure
+ * leaves an earlier run's folder as it was. Free c in every case.
+ */
+int lt_pipeline_compare_job(lt_job *j, int resume, volatile sig_atomic_t *stop,
+                            const lt_pipeline_hooks *h, lt_comparison *c, lt_error *err);
+void lt_comparison_free(lt_comparison *c);
 
 /* ---- timing (lantern bench) ---- */
 

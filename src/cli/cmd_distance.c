@@ -19,91 +19,6 @@ static void usage(FILE *f)
     fputs(cli_help_distance_tail, f);
 }
 
-/* Redshifts from "--z 0.1,0.5,1". */
-static int parse_z_list(const char *text, double **z, size_t *n)
-{
-    size_t cap = 1;
-    for (const char *p = text; *p; p++)
-        cap += *p == ',';
-    char *copy = strdup(text);
-    double *v = malloc(cap * sizeof *v);
-    if (!copy || !v) {
-        free(copy);
-        free(v);
-        return cli_usage_error("--z", "out of memory");
-    }
-    size_t k = 0;
-    int status = CLI_OK;
-    /* Split by hand: strtok would silently skip empty items ("0.1,,2"). */
-    char *item = copy;
-    for (;;) {
-        char *comma = strchr(item, ',');
-        if (comma)
-            *comma = '\0';
-        if (lt_parse_double(item, &v[k]) || v[k] < 0.0) {
-            status = cli_usage_error("--z", "'%s' is not a redshift (a finite number >= 0)",
-                                     item);
-            break;
-        }
-        k++;
-        if (!comma)
-            break;
-        item = comma + 1;
-    }
-    free(copy);
-    if (status) {
-        free(v);
-        return status;
-    }
-    *z = v;
-    *n = k;
-    return CLI_OK;
-}
-
-/* Redshifts from "--z-range LO:HI:N[:log]". */
-static int parse_z_range(const char *text, double **z, size_t *n)
-{
-    char buf[256];
-    if (strlen(text) >= sizeof buf)
-        return cli_usage_error("--z-range", "value too long");
-    strcpy(buf, text);
-    char *field[5] = {0};
-    int nf = 0;
-    char *p = buf;
-    while (nf < 5) {
-        field[nf++] = p;
-        char *colon = strchr(p, ':');
-        if (!colon)
-            break;
-        *colon = '\0';
-        p = colon + 1;
-    }
-    double lo, hi;
-    long count;
-    int logscale = nf == 4 && strcmp(field[3], "log") == 0;
-    if ((nf != 3 && !logscale) || lt_parse_double(field[0], &lo) ||
-        lt_parse_double(field[1], &hi) || lt_parse_long(field[2], 1, 10000000, &count))
-        return cli_usage_error("--z-range",
-                               "'%s' is not LO:HI:N or LO:HI:N:log (N from 1 to 10^7)",
-                               text);
-    if (lo < 0.0 || hi < lo)
-        return cli_usage_error("--z-range", "need 0 <= LO <= HI, got %g:%g", lo, hi);
-    if (logscale && lo <= 0.0)
-        return cli_usage_error("--z-range", "log spacing needs LO > 0, got %g", lo);
-    double *v = malloc((size_t)count * sizeof *v);
-    if (!v)
-        return cli_usage_error("--z-range", "out of memory for %ld redshifts", count);
-    for (long i = 0; i < count; i++) {
-        double t = count > 1 ? (double)i / (double)(count - 1) : 0.0;
-        v[i] = logscale ? lo * pow(hi / lo, t) : lo + (hi - lo) * t;
-    }
-    if (count > 1)
-        v[count - 1] = hi; /* exactly, whatever the rounding above */
-    *z = v;
-    *n = (size_t)count;
-    return CLI_OK;
-}
-
 int cli_distance(int argc, char **argv)
 {
     const char *model_name = NULL, *z_list = NULL, *z_range = NULL, *format_text = "table";
@@ -163,9 +78,9 @@ int cli_distance(int argc, char **argv)
 
     double *z = NULL;
     size_t n = 0;
-    status = z_list ? parse_z_list(z_list, &z, &n) : parse_z_range(z_range, &z, &n);
-    if (status)
-        return status;
+    if (z_list ? lt_z_parse_list(z_list, "--z", &z, &n, &err)
+               : lt_z_parse_range(z_range, "--z-range", &z, &n, &err))
+        return cli_report(&err);
 
     double *block = malloc((8 * n + 1) * sizeof *block);
     lt_zgrid *g = NULL;

@@ -18,34 +18,13 @@ static void usage_run(FILE *f)
     fputs(cli_help_run, f);
 }
 
-/* Write the report of rs into dir, then say what the tables mark where
- * the user looks first. Returns the exit status (3 if a model did not
- * converge). */
-static int write_report(lt_report_set *rs, const char *dir, const char *name, const lt_survey *s)
+/* The pipeline's lines: progress unless quiet, news and warnings always. */
+static void on_note(lt_note_kind kind, const char *text, void *ctx)
 {
-    lt_error err;
-    lt_error_clear(&err);
-    if (lt_report_set_write(rs, dir, name, s, &err))
-        return cli_report(&err);
-    int status = CLI_OK;
-    const lt_run_model *models = rs->models;
-    for (size_t i = 0; i < rs->n; i++) {
-        if (!models[i].converged) {
-            char rhat[64];
-            fprintf(stderr,
-                    "lantern: warning: %s did not converge (worst R-hat %s, smallest ESS %.0f): "
-                    "its numbers are provisional; the tables mark it with a double dagger\n",
-                    models[i].label, lt_run_model_rhat_text(&models[i], rhat, sizeof rhat),
-                    models[i].ess_min);
-            status = CLI_UNCONVERGED;
-        }
-        if (!lt_run_model_same_data(&models[0], &models[i]))
-            fprintf(stderr,
-                    "lantern: note: %s was fitted to other data (%zu objects) than %s (%zu "
-                    "objects): the tables leave its AIC, BIC and ln B differences blank\n",
-                    models[i].label, models[i].n_data, models[0].label, models[0].n_data);
-    }
-    return status;
+    if (kind != LT_NOTE_PROGRESS)
+        fprintf(stderr, "lantern: %s%s\n", kind == LT_NOTE_WARNING ? "warning: " : "", text);
+    else if (!*(const int *)ctx)
+        fprintf(stderr, "%s\n", text);
 }
 
 static void print_constraints(const char *dir)
@@ -110,175 +89,38 @@ int cli_run(int argc, char **argv)
         return CLI_USAGE;
     lt_job j;
     lt_job_init(&j);
-    int prepared = 0, hint = 0;
     char *dir = NULL;
-    lt_report_set rs;
-    lt_report_set_init(&rs);
-    int status = cli_job_load(&j, argv[1], sets, set_flags, nsets);
-    lt_survey *s = NULL;
+    int status = cli_job_load(&j, argv[1], sets, set_flags, nsets), unconverged = 0;
     if (status)
         goto done;
-    j.lenient = 1;
     j.quiet |= quiet, j.verbose |= verbose;
     if (threads_flag >= 0)
         j.threads = threads_flag;
-    if (!j.models) {
-        status = cli_usage_error(argv[1], "[run] needs models = M1, M2, ... (lcdm-flat, lcdm, "
-                                          "wcdm-flat, wcdm, w0wa-flat, w0wa)");
-        goto done;
-    }
-    /* the models */
-    char list[1024], *names[MAX_MODELS];
-    size_t nm = 0;
-    snprintf(list, sizeof list, "%s", j.models);
-    char *save = NULL;
-    for (char *p = strtok_r(list, ", \t", &save); p; p = strtok_r(NULL, ", \t", &save)) {
-        if (!lt_cosmo_model_find(p)) {
-            status = cli_usage_error(argv[1], "[run] models: unknown model '%s'", p);
-            goto done;
-        }
-        for (size_t k = 0; k < nm; k++)
-            if (!strcmp(names[k], p)) {
-                status = cli_usage_error(argv[1], "[run] models lists %s twice", p);
-                goto done;
-            }
-        if (nm == MAX_MODELS) {
-            status = cli_usage_error(argv[1], "[run] models: at most %d", MAX_MODELS);
-            goto done;
-        }
-        names[nm++] = p;
-    }
-    if (nm == 0) {
-        status = cli_usage_error(argv[1], "[run] models is empty");
-        goto done;
-    }
-    /* the folder: out/NAME by default */
-    char stem[256];
-    const char *base = strrchr(argv[1], '/') ? strrchr(argv[1], '/') + 1 : argv[1];
-    snprintf(stem, sizeof stem, "%.*s", (int)strcspn(base, "."), base);
-    const char *name = j.name ? j.name : stem;
-    const char *given = resume ? resume : out ? out : j.out;
-    if (!(dir = given ? strdup(given) : lt_path_join("out", name, NULL))) {
-        status = cli_usage_error("run", "out of memory");
-        goto done;
-    }
     lt_error err;
     lt_error_clear(&err);
-    if (!resume && lt_outdir_prepare(dir, force, &err)) {
+    lt_pipeline_hooks hooks = {NULL, on_note, &j.quiet};
+    lt_run_job_opts o = {argv[1], resume ? resume : out, resume != NULL, force,
+                         cli_catch_signals(), &hooks};
+    int rc = lt_pipeline_run_job(&j, &o, &dir, &unconverged, &err);
+    if (rc == LT_EINTR) {
+        fputs("lantern: interrupted; run stopped\n", stderr);
+        status = CLI_FAILED;
+    } else if (rc) {
         status = cli_report(&err);
-        goto done;
+        if (status == CLI_FAILED)
+            fputs("lantern: run stopped\n", stderr);
+    } else {
+        print_constraints(dir);
+        status = unconverged ? CLI_UNCONVERGED : CLI_OK;
     }
-    prepared = !resume;
-    if (resume && !lt_path_exists(dir)) {
-        status = cli_usage_error("--resume", "%s does not exist", dir);
-        goto done;
-    }
-    if (resume) {
-        /* "report" too: lantern report rebuilding a run in place re-marks it */
-        char made_by[64];
-        if (lt_outdir_command(dir, made_by, sizeof made_by, &err)) {
-            status = cli_report(&err);
-            goto done;
-        }
-        if (strcmp(made_by, "run") && strcmp(made_by, "report")) {
-            status = cli_usage_error(dir, "holds the output of 'lantern %s', not of a run: "
-                                          "nothing to resume",
-                                     made_by);
-            goto done;
-        }
-    }
-    if (lt_job_absolute(&j, &j.data, &err)) {
-        status = cli_report(&err);
-        goto done;
-    }
-    /* the data, once */
-    if (!j.quiet)
-        fprintf(stderr, "lantern run %s: reading %s\n", name,
-                j.data.data ? j.data.data : "no survey (measurements only)");
-    if (lt_job_survey(&j, &s, &err)) {
-        status = cli_report(&err);
-        goto done;
-    }
-    cli_print_warnings(s);
-    char what[128];
-    snprintf(what, sizeof what, "lantern %s run (running)", LT_VERSION);
-    if (lt_outdir_mark(dir, what, &err)) {
-        status = cli_report(&err);
-        goto done;
-    }
-    for (size_t k = 0; k < nm; k++) {
-        if (lt_report_set_add(&rs, dir, names[k], NULL, &err)) {
-            status = cli_report(&err);
-            goto done;
-        }
-        char *sum = lt_path_join(rs.dirs[k], "summary.json", NULL);
-        char *chk = lt_path_join(rs.dirs[k], "checkpoint/state.bin", NULL);
-        /* a model's summary is written once, whole, with its evidence: a
-         * folder with one is done (its convergence is read with the report) */
-        int kept = sum && resume && lt_path_exists(sum), again = chk && resume && lt_path_exists(chk);
-        int oom = !sum || !chk;
-        free(sum);
-        free(chk);
-        if (oom) {
-            status = cli_usage_error("run", "out of memory");
-            goto done;
-        }
-        if (kept) {
-            if (!j.quiet)
-                fprintf(stderr, "[%zu/%zu] %s: finished earlier, kept\n", k + 1, nm, names[k]);
-            continue;
-        }
-        if (!j.quiet)
-            fprintf(stderr, "[%zu/%zu] %s: %s\n", k + 1, nm, names[k],
-                    again ? "resuming the sampler" : "best fit, then sampling");
-        lt_job mj = j; /* the model's own copy of the settings */
-        mj.model = names[k];
-        mj.force = 1;
-        mj.ini = NULL; /* owned by j, as are its strings */
-        mj.pool = NULL, mj.npool = mj.cap = 0;
-        lt_like_spec spec;
-        lt_like *l = NULL;
-        if ((status = cli_job_model(&mj, &spec)))
-            goto done;
-        if (!(l = lt_like_alloc(s, &spec, &err))) {
-            status = cli_report(&err);
-            goto done;
-        }
-        char label[64];
-        snprintf(label, sizeof label, "[%zu/%zu] %s", k + 1, nm, names[k]);
-        int st = cli_sample_model(&mj, l, &spec, rs.dirs[k], again, 0, CLI_TABLE, label);
-        lt_like_free(l);
-        if (st == CLI_FAILED || st == CLI_USAGE) {
-            status = st;
-            if (st == CLI_FAILED)
-                fputs("lantern: run stopped\n", stderr), hint = 1;
-            goto done;
-        }
-    }
-    if (!j.quiet)
-        fprintf(stderr, "report: tables and figures in %s/\n", dir);
-    status = write_report(&rs, dir, name, s);
-    if (status == CLI_OK || status == CLI_UNCONVERGED) {
-        snprintf(what, sizeof what, "lantern %s run %s", LT_VERSION, argv[1]);
-        if (lt_outdir_finish(dir, what, &err))
-            status = cli_report(&err);
-        else
-            print_constraints(dir);
-    }
-done:
-    /* a failed run leaves the earlier one (or no folder); a stopped one its
-     * checkpoints, to resume */
-    if (prepared && status != CLI_OK && status != CLI_UNCONVERGED && dir)
-        lt_outdir_abandon(dir);
     /* the way back, if there is one: a run stopped before it wrote
      * anything leaves no folder */
-    if (hint && dir && lt_path_exists(dir))
+    if (status == CLI_FAILED && dir && lt_path_exists(dir))
         fprintf(stderr, "lantern: continue with 'lantern run %s --resume %s'\n", argv[1], dir);
-    else if (hint)
+    else if (status == CLI_FAILED)
         fputs("lantern: nothing was saved; run it again\n", stderr);
-    lt_report_set_free(&rs);
+done:
     free(dir);
-    lt_survey_free(s);
     lt_job_free(&j);
     return status;
 }
@@ -335,7 +177,13 @@ int cli_report_runs(int argc, char **argv)
         goto done;
     }
     prepared = out != NULL;
-    status = write_report(&rs, dir, out ? "joint report" : rs.name, NULL);
+    int quiet = 0, unconverged = 0;
+    lt_pipeline_hooks hooks = {NULL, on_note, &quiet};
+    if (lt_pipeline_report(&rs, dir, out ? "joint report" : rs.name, NULL, &hooks, &unconverged,
+                           &err))
+        status = cli_report(&err);
+    else if (unconverged)
+        status = CLI_UNCONVERGED;
     if (*cli_catch_signals()) {
         fputs("lantern: interrupted\n", stderr);
         status = CLI_FAILED;

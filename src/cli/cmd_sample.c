@@ -53,150 +53,61 @@ static void on_check(const lt_progress *d, void *p)
     pr->printed = 1;
 }
 
-/* A refinement of the compression: sampling starts again, so the progress
- * clock does too. */
-static void on_note(const char *text, void *p)
+/* A line from the pipeline: a refinement of the compression restarts the
+ * sampling, so the progress clock restarts too. */
+static void on_note(lt_note_kind kind, const char *text, void *p)
 {
     progress *pr = p;
+    if (kind == LT_NOTE_PROGRESS && pr->quiet)
+        return;
     if (pr->printed && pr->tty && !pr->verbose)
         fputc('\n', stderr);
     pr->printed = 0;
-    fprintf(stderr, "lantern: %s\n", text);
+    fprintf(stderr, "%s%s\n",
+            kind == LT_NOTE_PROGRESS ? "" : kind == LT_NOTE_NEWS ? "lantern: " : "lantern: warning: ",
+            text);
     clock_gettime(CLOCK_MONOTONIC, &pr->start);
-}
-
-/* The posterior r of a finished run (the evidence added where asked):
- * its warnings, the summary printed and written with the chains. */
-static int finish(lt_job *j, lt_like *l, lt_posterior *r, cli_format format, const char *out,
-                  int print, const char *evidence_label, const lt_run_opts *o)
-{
-    lt_error err;
-    lt_error_clear(&err);
-    int off = r->weights != NULL;
-    if (off) {
-        char text[512];
-        lt_report_compression_warning(r, text, sizeof text);
-        fprintf(stderr, "lantern: warning: %s\n", text);
-        if (r->ess_min_weighted < j->target_ess)
-            fprintf(stderr, "lantern: warning: the weighted draws' effective sample size %.0f is "
-                            "below --target-ess %g\n", r->ess_min_weighted, j->target_ess);
-    }
-    for (size_t i = 0; i < r->nparams; i++) {
-        char note[256];
-        if (lt_post_edge_note(r->cols[r->first_param + i], lt_like_prior(l, i), r->edge_lo[i],
-                              r->edge_hi[i], note, sizeof note))
-            fprintf(stderr, "lantern: warning: %s: %s\n", lt_like_model(l)->name, note);
-    }
-    if (evidence_label) {
-        if (!j->quiet)
-            fprintf(stderr, "%s: evidence by nested sampling\n", evidence_label);
-        lt_posterior ev;
-        lt_run_opts eo = *o;
-        eo.state = "nested.bin", eo.spec = NULL;
-        eo.mode = o->mode == LT_RUN_FRESH ? LT_RUN_FRESH : LT_RUN_IF_PRESENT;
-        int rc = lt_pipeline_run(lt_method_nested, l, j, &eo, NULL, &ev, &err);
-        r->ln_z = ev.ln_z, r->ln_z_err = ev.ln_z_err, r->information = ev.information;
-        r->live_points = ev.live_points;
-        lt_posterior_free(&ev);
-        if (rc == LT_EINTR) {
-            fputs("lantern: interrupted during the evidence; the checkpoints are kept\n", stderr);
-            return CLI_FAILED;
-        }
-        if (rc)
-            return cli_report(&err);
-    }
-    cJSON *json = lt_report_sample_json(l, r, &j->data, j->seed);
-    if (!print) {
-    } else if (format == CLI_JSON) {
-        cli_print_json(json, 0);
-    } else {
-        lt_report_sample_table(stdout, l, r, &j->data);
-    }
-    int status = CLI_OK;
-    if (out) {
-        char *path = lt_path_join(out, "summary.json", NULL), what[128];
-        snprintf(what, sizeof what, "lantern %s sample", LT_VERSION);
-        if (!path)
-            status = cli_usage_error("sample", "out of memory");
-        else if (lt_report_write_json(path, json, &err) ||
-            lt_report_write_chains(out, l, r, &j->data, j->seed, &err) ||
-                 lt_outdir_finish(out, what, &err))
-            status = cli_report(&err);
-        free(path);
-    }
-    if (!status && !r->converged) {
-        fputs("lantern: warning: the chains did not converge within --max-steps; the results "
-              "are written and marked \"converged\": false\n",
-              stderr);
-        /* ESS grows about linearly with the draws once the chains mix: say
-         * what cap should reach the target at the rate seen so far. */
-        double e = r->diag.ess_min;
-        if (isfinite(e) && e > 0.0 && e < j->target_ess)
-            fprintf(stderr,
-                    "lantern: the smallest ESS is %.0f after %zu draws per chain; at that rate "
-                    "--max-steps %.0f should reach %g\n",
-                    e, r->steps, ceil(1.1 * (double)r->steps * j->target_ess / e / 1000.0) * 1000.0,
-                    j->target_ess);
-        status = CLI_UNCONVERGED;
-    }
-    cJSON_Delete(json);
-    return status;
 }
 
 int cli_sample_model(lt_job *j, lt_like *l, const lt_like_spec *spec, const char *out,
                      int resume, int print, cli_format format, const char *evidence_label)
 {
-    int status = CLI_OK, prepared = 0, started = 0;
     lt_error err;
     lt_error_clear(&err);
-    lt_posterior post;
-    memset(&post, 0, sizeof post);
-    char *ckdir = out ? lt_path_join(out, "checkpoint", NULL) : NULL;
-    if (out && !ckdir) {
-        status = cli_usage_error("sample", "out of memory");
-        goto done;
-    }
-    if (out && !resume) {
-        char what[128];
-        snprintf(what, sizeof what, "lantern %s sample (running)", LT_VERSION);
-        if (lt_outdir_prepare(out, j->force, &err) || (prepared = 1, 0) ||
-            lt_outdir_mark(out, what, &err)) {
-            status = cli_report(&err);
-            goto done;
-        }
-    }
     /* threads may be set differently on resume: the draws do not depend on it */
     progress pr = {{0, 0}, isatty(2), j->quiet, j->verbose, j->target_ess, 0};
     clock_gettime(CLOCK_MONOTONIC, &pr.start);
     lt_pipeline_hooks hooks = {on_check, on_note, &pr};
-    lt_run_opts o = {ckdir, "state.bin", spec, resume ? LT_RUN_RESUME : LT_RUN_FRESH,
-                     cli_catch_signals(), &hooks};
-    int rc = lt_pipeline_run(lt_method_mcmc, l, j, &o, &started, &post, &err);
+    lt_sample_opts o = {out, resume, evidence_label, cli_catch_signals(), &hooks};
+    lt_posterior post;
+    cJSON *json = NULL;
+    int stage, status = CLI_OK;
+    int rc = lt_pipeline_sample(l, j, spec, &o, &post, &json, &stage, &err);
     if (pr.printed && pr.tty && !pr.verbose)
         fputc('\n', stderr);
-    if (rc == LT_EINTR && !started) {
-        fputs("lantern: interrupted during the best fit, before sampling began\n", stderr);
-        status = CLI_FAILED;
-    } else if (rc == LT_EINTR && out) {
-        fprintf(stderr, "lantern: interrupted; the checkpoint in %s/checkpoint holds every "
-                        "draw so far: continue with 'lantern sample --resume %s'\n",
-                out, out);
-        status = CLI_FAILED;
-    } else if (rc == LT_EINTR) {
-        fputs("lantern: interrupted (no --out folder, so nothing was saved)\n", stderr);
+    if (rc == LT_EINTR) {
+        if (stage == 0)
+            fputs("lantern: interrupted during the best fit, before sampling began\n", stderr);
+        else if (stage == 2)
+            fputs("lantern: interrupted during the evidence; the checkpoints are kept\n", stderr);
+        else if (out)
+            fprintf(stderr, "lantern: interrupted; the checkpoint in %s/checkpoint holds every "
+                            "draw so far: continue with 'lantern sample --resume %s'\n",
+                    out, out);
+        else
+            fputs("lantern: interrupted (no --out folder, so nothing was saved)\n", stderr);
         status = CLI_FAILED;
     } else if (rc) {
         status = cli_report(&err);
     } else {
-        status = finish(j, l, &post, format, out, print, evidence_label, &o);
+        if (print && format == CLI_JSON)
+            cli_print_json(json, 0);
+        else if (print)
+            lt_report_sample_table(stdout, l, &post, &j->data);
+        status = post.converged ? CLI_OK : CLI_UNCONVERGED;
     }
-done:
-    /* a failure leaves the earlier run (or no folder) behind, a checkpoint
-     * to resume from stays */
-    if (prepared && status != CLI_OK && status != CLI_UNCONVERGED)
-        lt_outdir_abandon(out);
+    cJSON_Delete(json);
     lt_posterior_free(&post);
-    free(ckdir);
     return status;
 }
 
@@ -260,8 +171,7 @@ int cli_sample(int argc, char **argv)
             status = cli_usage_error("sample", "out of memory");
             goto done;
         }
-        struct stat st;
-        if (stat(settings, &st) != 0) {
+        if (!lt_path_exists(settings)) {
             status = cli_usage_error(resume, "no checkpoint here (checkpoint/settings.ini is "
                                              "missing): not a stopped lantern sample run");
             goto done;

@@ -12,7 +12,9 @@
  */
 #include <math.h>
 #include <stdlib.h>
+#include <string.h>
 
+#include "lantern/text.h"
 #include "internal.h"
 
 struct lt_zgrid {
@@ -238,5 +240,91 @@ int lt_cosmo_eval(const lt_cosmo *c, const lt_zgrid *g, const lt_cosmo_table *ou
             out->age[i] = th * (tail + (look - out->age[i]));
         }
     }
+    return LT_OK;
+}
+
+/* ---- redshifts from text (lantern distance's --z and --z-range) ---- */
+
+/* Redshifts from "--z 0.1,0.5,1". */
+int lt_z_parse_list(const char *text, const char *origin, double **z, size_t *n, lt_error *err)
+{
+    size_t cap = 1;
+    for (const char *p = text; *p; p++)
+        cap += *p == ',';
+    char *copy = strdup(text);
+    double *v = malloc(cap * sizeof *v);
+    if (!copy || !v) {
+        free(copy);
+        free(v);
+        return lt_error_set(err, LT_ENOMEM, origin, 0, "out of memory");
+    }
+    size_t k = 0;
+    int status = LT_OK;
+    /* Split by hand: strtok would silently skip empty items ("0.1,,2"). */
+    char *item = copy;
+    for (;;) {
+        char *comma = strchr(item, ',');
+        if (comma)
+            *comma = '\0';
+        if (lt_parse_double(item, &v[k]) || v[k] < 0.0) {
+            status = lt_error_set(err, LT_EINPUT, origin, 0,
+                                  "'%s' is not a redshift (a finite number >= 0)", item);
+            break;
+        }
+        k++;
+        if (!comma)
+            break;
+        item = comma + 1;
+    }
+    free(copy);
+    if (status) {
+        free(v);
+        return status;
+    }
+    *z = v;
+    *n = k;
+    return LT_OK;
+}
+
+/* Redshifts from "--z-range LO:HI:N[:log]". */
+int lt_z_parse_range(const char *text, const char *origin, double **z, size_t *n, lt_error *err)
+{
+    char buf[256];
+    if (strlen(text) >= sizeof buf)
+        return lt_error_set(err, LT_EINPUT, origin, 0, "value too long");
+    strcpy(buf, text);
+    char *field[5] = {0};
+    int nf = 0;
+    char *p = buf;
+    while (nf < 5) {
+        field[nf++] = p;
+        char *colon = strchr(p, ':');
+        if (!colon)
+            break;
+        *colon = '\0';
+        p = colon + 1;
+    }
+    double lo, hi;
+    long count;
+    int logscale = nf == 4 && strcmp(field[3], "log") == 0;
+    if ((nf != 3 && !logscale) || lt_parse_double(field[0], &lo) ||
+        lt_parse_double(field[1], &hi) || lt_parse_long(field[2], 1, 10000000, &count))
+        return lt_error_set(err, LT_EINPUT, origin, 0,
+                            "'%s' is not LO:HI:N or LO:HI:N:log (N from 1 to 10^7)", text);
+    if (lo < 0.0 || hi < lo)
+        return lt_error_set(err, LT_EINPUT, origin, 0, "need 0 <= LO <= HI, got %g:%g", lo, hi);
+    if (logscale && lo <= 0.0)
+        return lt_error_set(err, LT_EINPUT, origin, 0, "log spacing needs LO > 0, got %g", lo);
+    double *v = malloc((size_t)count * sizeof *v);
+    if (!v)
+        return lt_error_set(err, LT_ENOMEM, origin, 0, "out of memory for %ld redshifts", count);
+    for (long i = 0; i < count; i++) {
+        double t = count > 1 ? (double)i / (double)(count - 1) : 0.0;
+        v[i] = logscale ? lo * pow(hi / lo, t) : lo + (hi - lo) * t;
+    }
+    if (count > 1)
+        v[count - 1] = hi; /* exactly, whatever the rounding above */
+    *z = v;
+    *n = (size_t)count;
     return LT_OK;
 }

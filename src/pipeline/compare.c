@@ -10,8 +10,13 @@
 
 #include <omp.h>
 
+#include <cjson/cJSON.h>
+
 #include "lantern/file.h"
 #include "lantern/inference.h"
+#include "lantern/outdir.h"
+#include "lantern/report.h"
+#include "lantern/version.h"
 #include "lantern/pipeline.h"
 
 int lt_pipeline_compare_setup(lt_model_result *m, size_t n, const lt_job *j, const lt_survey *s,
@@ -42,7 +47,7 @@ static void run_model(lt_model_result *m, size_t k, size_t n, const lt_job *j, i
         char text[256];
         snprintf(text, sizeof text, "[%zu/%zu] %s: best fit, then nested sampling with %ld live points",
                  k + 1, n, m->name, j->live_points);
-        h->note(text, h->ctx);
+        h->note(LT_NOTE_PROGRESS, text, h->ctx);
     }
     lt_fit_opts fo = {.seed = j->seed, .starts = (size_t)j->starts, .stop = stop};
     if ((m->rc = lt_fit_run(m->l, &fo, &m->fit, &m->err)))
@@ -96,4 +101,109 @@ int lt_pipeline_compare(lt_model_result *m, size_t n, const lt_job *j, const cha
             return m[k].rc;
         }
     return LT_OK;
+}
+
+/* ---- lantern compare's job ---- */
+
+void lt_comparison_free(lt_comparison *c)
+{
+    for (size_t k = 0; k < c->n; k++)
+        lt_model_result_free(&c->m[k]);
+    lt_survey_free(c->survey);
+    cJSON_Delete(c->summary);
+    memset(c, 0, sizeof *c);
+}
+
+/* j's [run] models into c's names, each a known model, none twice. */
+static int model_list(const lt_job *j, lt_comparison *c, lt_error *err)
+{
+    if (!j->models)
+        return lt_error_set(err, LT_EINPUT, NULL, 0, "--models M1,M2,... is required");
+    const char *p = j->models;
+    while (*p) {
+        size_t len = strcspn(p, ", \t");
+        if (len) {
+            if (c->n == LT_MAX_COMPARED)
+                return lt_error_set(err, LT_EINPUT, "--models", 0, "at most %d models",
+                                    LT_MAX_COMPARED);
+            snprintf(c->names[c->n], sizeof c->names[c->n], "%.*s", (int)len, p);
+            if (!lt_cosmo_model_find(c->names[c->n]))
+                return lt_error_set(err, LT_EINPUT, "--models", 0, "unknown model '%s'",
+                                    c->names[c->n]);
+            c->m[c->n].name = c->names[c->n];
+            c->n++;
+        }
+        p += len + (p[len] != '\0');
+    }
+    return c->n ? LT_OK : lt_error_set(err, LT_EINPUT, "--models", 0, "no models given");
+}
+
+static void say(const lt_pipeline_hooks *h, lt_note_kind kind, const char *text)
+{
+    if (h && h->note)
+        h->note(kind, text, h->ctx);
+}
+
+int lt_pipeline_compare_job(lt_job *j, int resume, volatile sig_atomic_t *stop,
+                            const lt_pipeline_hooks *h, lt_comparison *c, lt_error *err)
+{
+    memset(c, 0, sizeof *c);
+    char *ckdir = NULL, *path = NULL, what[128];
+    int rc, prepared = 0;
+    if ((rc = model_list(j, c, err)))
+        return rc;
+    j->lenient = 1; /* a prior applies to the models that have the parameter */
+    if (j->out && !(ckdir = lt_path_join(j->out, "checkpoint", err)))
+        return LT_ENOMEM;
+    if (resume && !lt_path_exists(ckdir)) {
+        rc = lt_error_set(err, LT_EINPUT, j->out, 0,
+                          "no checkpoint here (no checkpoint/ folder) to resume");
+        goto done;
+    }
+    /* no survey where measurements alone are compared */
+    if ((rc = lt_job_survey(j, &c->survey, err)))
+        goto done;
+    if (j->out && !resume) {
+        snprintf(what, sizeof what, "lantern %s compare (running)", LT_VERSION);
+        if ((rc = lt_outdir_prepare(j->out, j->force, err)))
+            goto done;
+        prepared = 1;
+        if ((rc = lt_outdir_mark(j->out, what, err)))
+            goto done;
+    }
+    for (size_t i = 0; c->survey && i < c->survey->nwarnings; i++)
+        say(h, LT_NOTE_WARNING, c->survey->warnings[i]);
+    /* the likelihoods, one after another (this may refuse the input), then
+     * the models side by side */
+    if ((rc = lt_pipeline_compare_setup(c->m, c->n, j, c->survey, err)) ||
+        (rc = lt_pipeline_compare(c->m, c->n, j, ckdir, resume, stop, h, err)))
+        goto done;
+    for (size_t k = 0; k < c->n; k++) {
+        char edges[512], dic[256], text[600];
+        lt_report_compare_warnings(&c->m[k], edges, sizeof edges, dic, sizeof dic);
+        if (edges[0])
+            snprintf(text, sizeof text, "%s: %s", c->m[k].name, edges), say(h, LT_NOTE_WARNING, text);
+        if (dic[0])
+            snprintf(text, sizeof text, "%s: %s", c->m[k].name, dic), say(h, LT_NOTE_WARNING, text);
+    }
+    /* final files only once every model is done: an interrupted comparison
+     * leaves nothing but its checkpoints */
+    for (size_t k = 0; j->out && k < c->n; k++)
+        if ((rc = lt_report_write_nested(j->out, &c->m[k], err)))
+            goto done;
+    c->summary = lt_report_compare_json(c->m, c->n);
+    if (j->out) {
+        snprintf(what, sizeof what, "lantern %s compare", LT_VERSION);
+        if (!(path = lt_path_join(j->out, "summary.json", err)))
+            rc = LT_ENOMEM;
+        else if ((rc = lt_report_write_json(path, c->summary, err)) ||
+                 (rc = lt_outdir_finish(j->out, what, err)))
+            goto done;
+    }
+done:
+    if (prepared && rc)
+        lt_outdir_abandon(j->out);
+    free(ckdir);
+    free(path);
+    return rc;
 }

@@ -224,7 +224,7 @@ static int mcmc_iterate(void *p, const char *state, uint64_t fp, volatile sig_at
                  "than %g; its set-up saw %.2g): sampling again with %s",
                  chk.max_before, LT_CHECK_BOUND, cmp->setup_dchi2, how);
         if (h && h->note)
-            h->note(text, h->ctx);
+            h->note(LT_NOTE_NEWS, text, h->ctx);
         if (r->knots && (rc = save_knots(r->knots, chk.knots, cmp->first_dchi2, err)))
             return rc;
         lt_mcmc_free(r->m);
@@ -246,7 +246,7 @@ static int mcmc_result(void *p, const lt_pipeline_hooks *h, lt_posterior *post, 
         snprintf(text, sizeof text,
                  "weighting the draws by the exact likelihood (at most %zu of them evaluated)",
                  lt_like_reweight_draws(r->l));
-        h->note(text, h->ctx);
+        h->note(LT_NOTE_NEWS, text, h->ctx);
     }
     int rc = lt_pipeline_mcmc_posterior(r->l, r->m, off ? lt_like_reweight_draws(r->l) : 0, post,
                                         err);

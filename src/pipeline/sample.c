@@ -1,0 +1,141 @@
+/*
+ * lantern sample's job (and each model of lantern run): the MCMC method on
+ * a likelihood into its output folder, the evidence added where asked, the
+ * summary and chain files written (see lantern/pipeline.h).
+ */
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include <cjson/cJSON.h>
+
+#include "lantern/file.h"
+#include "lantern/outdir.h"
+#include "lantern/pipeline.h"
+#include "lantern/report.h"
+#include "lantern/version.h"
+
+static void say(const lt_pipeline_hooks *h, lt_note_kind kind, const char *text)
+{
+    if (h && h->note)
+        h->note(kind, text, h->ctx);
+}
+
+/* What the results need read with: weights, prior edges. */
+static void warnings(const lt_like *l, const lt_job *j, const lt_posterior *r,
+                     const lt_pipeline_hooks *h)
+{
+    char text[768];
+    if (r->weights) {
+        lt_report_compression_warning(r, text, sizeof text);
+        say(h, LT_NOTE_WARNING, text);
+        if (r->ess_min_weighted < j->target_ess) {
+            snprintf(text, sizeof text,
+                     "the weighted draws' effective sample size %.0f is below --target-ess %g",
+                     r->ess_min_weighted, j->target_ess);
+            say(h, LT_NOTE_WARNING, text);
+        }
+    }
+    for (size_t i = 0; i < r->nparams; i++) {
+        char note[256];
+        if (lt_post_edge_note(r->cols[r->first_param + i], lt_like_prior(l, i), r->edge_lo[i],
+                              r->edge_hi[i], note, sizeof note)) {
+            snprintf(text, sizeof text, "%s: %s", lt_like_model(l)->name, note);
+            say(h, LT_NOTE_WARNING, text);
+        }
+    }
+}
+
+/* A run that reached --max-steps: say so, and what cap should reach the
+ * target at the rate seen so far (ESS grows about linearly with the draws
+ * once the chains mix). */
+static void unconverged(const lt_job *j, const lt_posterior *r, const lt_pipeline_hooks *h)
+{
+    say(h, LT_NOTE_WARNING,
+        "the chains did not converge within --max-steps; the results are written and marked "
+        "\"converged\": false");
+    double e = r->diag.ess_min;
+    if (isfinite(e) && e > 0.0 && e < j->target_ess) {
+        char text[256];
+        snprintf(text, sizeof text,
+                 "the smallest ESS is %.0f after %zu draws per chain; at that rate --max-steps "
+                 "%.0f should reach %g",
+                 e, r->steps, ceil(1.1 * (double)r->steps * j->target_ess / e / 1000.0) * 1000.0,
+                 j->target_ess);
+        say(h, LT_NOTE_NEWS, text);
+    }
+}
+
+/* The summary and the chains into out, and the folder marked done. */
+static int write(const char *out, const lt_like *l, const lt_job *j, const lt_posterior *r,
+                 const cJSON *json, lt_error *err)
+{
+    char *path = lt_path_join(out, "summary.json", err), what[128];
+    snprintf(what, sizeof what, "lantern %s sample", LT_VERSION);
+    int rc = !path ? LT_ENOMEM
+                   : lt_report_write_json(path, json, err) ||
+                             lt_report_write_chains(out, l, r, &j->data, j->seed, err) ||
+                             lt_outdir_finish(out, what, err)
+                         ? err->code
+                         : LT_OK;
+    free(path);
+    return rc;
+}
+
+int lt_pipeline_sample(lt_like *l, lt_job *j, const lt_like_spec *spec, const lt_sample_opts *o,
+                       lt_posterior *post, cJSON **summary, int *stage, lt_error *err)
+{
+    memset(post, 0, sizeof *post);
+    *summary = NULL;
+    *stage = 0;
+    int rc, prepared = 0, started = 0;
+    char *ckdir = o->out ? lt_path_join(o->out, "checkpoint", err) : NULL;
+    if (o->out && !ckdir)
+        return LT_ENOMEM;
+    if (o->out && !o->resume) {
+        char what[128];
+        snprintf(what, sizeof what, "lantern %s sample (running)", LT_VERSION);
+        if ((rc = lt_outdir_prepare(o->out, j->force, err)))
+            goto done;
+        prepared = 1;
+        if ((rc = lt_outdir_mark(o->out, what, err)))
+            goto done;
+    }
+    lt_run_opts ro = {ckdir, "state.bin", spec, o->resume ? LT_RUN_RESUME : LT_RUN_FRESH, o->stop,
+                      o->hooks};
+    rc = lt_pipeline_run(lt_method_mcmc, l, j, &ro, &started, post, err);
+    *stage = started;
+    if (rc)
+        goto done;
+    warnings(l, j, post, o->hooks);
+    if (o->evidence_label) {
+        /* the evidence joins the summary, which is then written whole */
+        char text[160];
+        snprintf(text, sizeof text, "%s: evidence by nested sampling", o->evidence_label);
+        say(o->hooks, LT_NOTE_PROGRESS, text);
+        lt_posterior ev;
+        lt_run_opts eo = ro;
+        eo.state = "nested.bin", eo.spec = NULL;
+        eo.mode = o->resume ? LT_RUN_IF_PRESENT : LT_RUN_FRESH;
+        *stage = 2;
+        rc = lt_pipeline_run(lt_method_nested, l, j, &eo, NULL, &ev, err);
+        post->ln_z = ev.ln_z, post->ln_z_err = ev.ln_z_err, post->information = ev.information;
+        post->live_points = ev.live_points;
+        lt_posterior_free(&ev);
+        if (rc)
+            goto done;
+    }
+    *summary = lt_report_sample_json(l, post, &j->data, j->seed);
+    if (o->out && (rc = write(o->out, l, j, post, *summary, err)))
+        goto done;
+    if (!post->converged)
+        unconverged(j, post, o->hooks);
+done:
+    /* a failure leaves the earlier run (or no folder) behind; a checkpoint
+     * to resume from stays */
+    if (prepared && rc)
+        lt_outdir_abandon(o->out);
+    free(ckdir);
+    return rc;
+}
