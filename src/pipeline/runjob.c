@@ -112,12 +112,12 @@ static int one_model(lt_job *j, const lt_survey *s, const char *name, size_t k, 
     free(chk);
     char text[160];
     if (rc || kept) {
-        snprintf(text, sizeof text, "[%zu/%zu] %s: finished earlier, kept", k + 1, n, name);
+        snprintf(text, sizeof text, "[%zu/%zu] %.64s: finished earlier, kept", k + 1, n, name);
         if (kept)
             say(o->hooks, LT_NOTE_PROGRESS, text);
         return rc;
     }
-    snprintf(text, sizeof text, "[%zu/%zu] %s: %s", k + 1, n, name,
+    snprintf(text, sizeof text, "[%zu/%zu] %.64s: %s", k + 1, n, name,
              again ? "resuming the sampler" : "best fit, then sampling");
     say(o->hooks, LT_NOTE_PROGRESS, text);
     lt_job mj = *j; /* the model's own copy of the settings */
@@ -129,8 +129,8 @@ static int one_model(lt_job *j, const lt_survey *s, const char *name, size_t k, 
     lt_like *l = NULL;
     if ((rc = lt_job_model_spec(&mj, &spec, err)) || !(l = lt_like_alloc(s, &spec, err)))
         return rc ? rc : err->code;
-    char label[64];
-    snprintf(label, sizeof label, "[%zu/%zu] %s", k + 1, n, name);
+    char label[128];
+    snprintf(label, sizeof label, "[%zu/%zu] %.64s", k + 1, n, name);
     lt_sample_opts so = {mdir, again, label, o->stop, o->hooks};
     lt_posterior post;
     struct cJSON *summary = NULL;
