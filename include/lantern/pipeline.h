@@ -125,6 +125,11 @@ int lt_job_flag(lt_job *j, const char *flag, const char *value, lt_error *err);
 int lt_job_data_section(lt_job *j, lt_ini *ini, const char *section, lt_survey_spec *spec,
                         lt_error *err);
 
+/* The run description a stopped run left in dir/checkpoint/settings.ini,
+ * with dir as its output folder: what --resume DIR reads. A folder without
+ * one is refused ("no checkpoint here ...: " what). */
+int lt_job_resume(lt_job *j, const char *dir, const char *what, lt_error *err);
+
 /* Make spec's paths absolute (strings kept by j), so that summaries and
  * resumes name them from anywhere. */
 int lt_job_absolute(lt_job *j, lt_survey_spec *spec, lt_error *err);

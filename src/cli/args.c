@@ -126,3 +126,11 @@ void cli_print_json(cJSON *o, int take)
     if (take)
         cJSON_Delete(o);
 }
+
+void cli_note(lt_note_kind kind, const char *text, void *quiet)
+{
+    if (kind != LT_NOTE_PROGRESS)
+        fprintf(stderr, "lantern: %s%s\n", kind == LT_NOTE_WARNING ? "warning: " : "", text);
+    else if (!*(const int *)quiet)
+        fprintf(stderr, "%s\n", text);
+}

@@ -66,6 +66,9 @@ int cli_parse_format(const char *text, unsigned allowed, cli_format *out);
 /* Print o as JSON on stdout (with a newline); take: delete it after. */
 struct cJSON;
 void cli_print_json(struct cJSON *o, int take);
+/* The pipeline's notes (lt_pipeline_hooks.note; ctx an int, quiet) on
+ * stderr: progress lines unless quiet, news and warnings always. */
+void cli_note(lt_note_kind kind, const char *text, void *quiet);
 /* Print the survey's warnings to stderr. */
 void cli_print_warnings(const lt_survey *s);
 
@@ -74,6 +77,14 @@ void cli_print_warnings(const lt_survey *s);
  * --force (with LT_JOB_OUTPUT), apply it to j and return 1 (a->failed is set, the error printed,
  * for a bad value). */
 int cli_take_job(cli_args *a, lt_job *j, unsigned sections);
+/* A command's options: RUN.ini first (when argv[1] is not a flag), then
+ * flags: own(a, ctx) for the command's own (1: taken; it may set
+ * a->failed), else the run description's of sections. --help prints help.
+ * *options: a run file or a run-description flag was given. Returns the
+ * exit status (a usage error printed), or -1 after --help. */
+int cli_job_args(int argc, char **argv, const char *command, const char *help,
+                 unsigned sections, int (*own)(cli_args *a, void *ctx), void *ctx, lt_job *j,
+                 int *options);
 /* lt_job_read, printing any error; returns the exit status. */
 int cli_job_load(lt_job *j, const char *path, const char *const *overrides,
                  const char *const *origins, size_t n);

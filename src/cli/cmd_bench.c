@@ -11,50 +11,50 @@
 #include "cli.h"
 #include "lantern/report.h"
 
-static void usage(FILE *f)
+/* bench's own flags: --evals N, --exact. */
+typedef struct {
+    long evals;
+    int exact;
+} own_flags;
+
+static int own(cli_args *a, void *ctx)
 {
-    fputs(cli_help_bench, f);
+    own_flags *o = ctx;
+    const char *v;
+    if (cli_flag(a, "--exact"))
+        return o->exact = 1;
+    if (!cli_take(a, "--evals", &v))
+        return 0;
+    if (lt_parse_long(v, 1, 1000000000, &o->evals)) {
+        cli_usage_error("--evals", "'%s' is not a whole number >= 1", v);
+        a->failed = 1;
+    }
+    return 1;
 }
 
 int cli_bench(int argc, char **argv)
 {
     lt_job j;
     lt_job_init(&j);
-    long evals = 20000;
-    int exact = 0, status = CLI_OK;
-    cli_args a = cli_args_start(argc, argv, 1);
-    while (cli_args_more(&a)) {
-        const char *v;
-        if (cli_flag(&a, "--help")) {
-            usage(stdout);
-            goto done;
-        } else if (cli_take(&a, "--evals", &v)) {
-            if (lt_parse_long(v, 1, 1000000000, &evals)) {
-                status = cli_usage_error("--evals", "'%s' is not a whole number >= 1", v);
-                goto done;
-            }
-        } else if (cli_flag(&a, "--exact")) {
-            exact = 1;
-        } else if (!cli_take_job(&a, &j, LT_JOB_DATA | LT_JOB_MODEL | LT_JOB_PARAMS | LT_JOB_FIT | LT_JOB_OUTPUT)) {
-            status = cli_args_unknown(&a, "bench");
-            goto done;
-        }
-    }
-    if (a.failed) {
-        status = CLI_USAGE;
+    own_flags of = {20000, 0};
+    int options;
+    int status = cli_job_args(argc, argv, "bench", cli_help_bench,
+                              LT_JOB_DATA | LT_JOB_MODEL | LT_JOB_PARAMS | LT_JOB_FIT |
+                                  LT_JOB_OUTPUT,
+                              own, &of, &j, &options);
+    if (status)
         goto done;
-    }
     cli_format format;
     if ((status = cli_parse_format(j.format, (1u << CLI_TABLE) | (1u << CLI_JSON), &format)))
         goto done;
     lt_like_spec spec;
     if ((status = cli_job_model(&j, &spec)))
         goto done;
-    spec.exact = exact;
+    spec.exact = of.exact;
     lt_error err;
     lt_error_clear(&err);
     lt_bench b;
-    if (lt_pipeline_bench(&j, &spec, evals, &b, &err)) {
+    if (lt_pipeline_bench(&j, &spec, of.evals, &b, &err)) {
         status = cli_report(&err);
         goto done;
     }
@@ -84,5 +84,5 @@ int cli_bench(int argc, char **argv)
     }
 done:
     lt_job_free(&j);
-    return status;
+    return status < 0 ? CLI_OK : status;
 }

@@ -12,88 +12,57 @@
 #include "lantern/report.h"
 
 
-static void usage(FILE *f)
-{
-    fputs(cli_help_compare, f);
-}
+/* What compare takes besides the run description's flags. */
+typedef struct {
+    const char *resume, *format, *threads;
+    int quiet, verbose;
+} own_flags;
 
-/* Each model's progress line, whole, from its thread. */
-static void on_note(lt_note_kind kind, const char *text, void *ctx)
+static int own(cli_args *a, void *ctx)
 {
-    if (kind != LT_NOTE_PROGRESS)
-        fprintf(stderr, "lantern: %s%s\n", kind == LT_NOTE_WARNING ? "warning: " : "", text);
-    else if (!*(const int *)ctx)
-        fprintf(stderr, "%s\n", text);
+    own_flags *o = ctx;
+    const char *arg = a->argv[a->i];
+    if (!strcmp(arg, "--model") || !strncmp(arg, "--model=", 8)) {
+        cli_usage_error("--model", "compare takes --models M1,M2,...");
+        a->failed = 1;
+        return 1;
+    }
+    return cli_take(a, "--resume", &o->resume) || cli_take(a, "--format", &o->format) ||
+           cli_take(a, "--threads", &o->threads) || (cli_flag(a, "--quiet") && (o->quiet = 1)) ||
+           (cli_flag(a, "--verbose") && (o->verbose = 1));
 }
 
 int cli_compare(int argc, char **argv)
 {
     lt_job j;
     lt_job_init(&j);
-    const char *resume = NULL, *format_flag = NULL, *threads_flag = NULL;
-    int status = CLI_OK, first = 1, options = 0, quiet = 0, verbose = 0;
+    own_flags o = {NULL, NULL, NULL, 0, 0};
+    int options, status;
     lt_comparison *c = calloc(1, sizeof *c); /* large: on the heap */
-    char *settings = NULL;
     if (!c)
         return cli_usage_error("compare", "out of memory");
-    if (argc > 1 && strncmp(argv[1], "--", 2) != 0) {
-        if ((status = cli_job_load(&j, argv[1], NULL, NULL, 0)))
-            goto done;
-        first = 2, options = 1;
-    }
-    cli_args a = cli_args_start(argc, argv, first);
-    while (cli_args_more(&a)) {
-        const char *v;
-        if (cli_flag(&a, "--help")) {
-            usage(stdout);
-            goto done;
-        } else if (cli_take(&a, "--resume", &v)) {
-            resume = v;
-        } else if (cli_take(&a, "--format", &v)) {
-            format_flag = v;
-        } else if (cli_take(&a, "--threads", &v)) {
-            threads_flag = v;
-        } else if (cli_flag(&a, "--quiet")) {
-            quiet = 1;
-        } else if (cli_flag(&a, "--verbose")) {
-            verbose = 1;
-        } else if (!strcmp(a.argv[a.i], "--model") || !strncmp(a.argv[a.i], "--model=", 8)) {
-            status = cli_usage_error("--model", "compare takes --models M1,M2,...");
-            goto done;
-        } else if (cli_take_job(&a, &j,
-                                LT_JOB_RUN | LT_JOB_DATA | LT_JOB_MODEL | LT_JOB_PARAMS |
-                                    LT_JOB_FIT | LT_JOB_NESTED | LT_JOB_OUTPUT)) {
-            options = 1;
-        } else {
-            status = cli_args_unknown(&a, "compare");
-            goto done;
-        }
-    }
-    if (a.failed) {
-        status = CLI_USAGE;
+    status = cli_job_args(argc, argv, "compare", cli_help_compare,
+                          LT_JOB_RUN | LT_JOB_DATA | LT_JOB_MODEL | LT_JOB_PARAMS | LT_JOB_FIT |
+                              LT_JOB_NESTED | LT_JOB_OUTPUT,
+                          own, &o, &j, &options);
+    if (status)
         goto done;
-    }
+    const char *resume = o.resume, *format_flag = o.format, *threads_flag = o.threads;
+    int quiet = o.quiet, verbose = o.verbose;
+    lt_error err;
+    lt_error_clear(&err);
     /* --resume DIR alone: the settings are in DIR/checkpoint/settings.ini
      * (a comparison that wrote none, or a resume given the options again,
      * takes them from the options, and each model's checkpoint refuses
      * other ones) */
-    if (resume && !options) {
-        if (!(settings = lt_path_join(resume, "checkpoint/settings.ini", NULL))) {
-            status = cli_usage_error("compare", "out of memory");
-            goto done;
-        }
-        if (!lt_path_exists(settings)) {
-            status = cli_usage_error(resume, "no checkpoint here (checkpoint/settings.ini is "
-                                             "missing): give the comparison's options again "
-                                             "with --resume, or the folder of a stopped lantern "
-                                             "compare run");
-            goto done;
-        }
-        if ((status = cli_job_load(&j, settings, NULL, NULL, 0)))
-            goto done;
+    if (resume && !options &&
+        lt_job_resume(&j, resume,
+                      "give the comparison's options again with --resume, or the folder of a "
+                      "stopped lantern compare run",
+                      &err)) {
+        status = cli_report(&err);
+        goto done;
     }
-    lt_error err;
-    lt_error_clear(&err);
     if (threads_flag && lt_job_flag(&j, "--threads", threads_flag, &err)) {
         status = cli_report(&err);
         goto done;
@@ -111,7 +80,7 @@ int cli_compare(int argc, char **argv)
         }
         j.out = resume;
     }
-    lt_pipeline_hooks hooks = {NULL, on_note, &j.quiet};
+    lt_pipeline_hooks hooks = {NULL, cli_note, &j.quiet};
     int rc = lt_pipeline_compare_job(&j, resume != NULL, cli_catch_signals(), &hooks, c, &err);
     if (rc == LT_EINTR && j.out) {
         fprintf(stderr,
@@ -134,6 +103,5 @@ done:
     lt_comparison_free(c);
     free(c);
     lt_job_free(&j);
-    free(settings);
-    return status;
+    return status < 0 ? CLI_OK : status;
 }

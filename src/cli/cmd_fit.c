@@ -9,41 +9,21 @@
 #include "cli.h"
 #include "lantern/report.h"
 
-static void usage(FILE *f)
-{
-    fputs(cli_help_fit, f);
-}
-
 int cli_fit(int argc, char **argv)
 {
     lt_job j;
     lt_job_init(&j);
-    int status = CLI_OK, first = 1, prepared = 0;
+    int status, prepared = 0, options;
     lt_survey *s = NULL;
     lt_like *l = NULL;
     cJSON *json = NULL;
     lt_posterior post;
     memset(&post, 0, sizeof post);
-    if (argc > 1 && strncmp(argv[1], "--", 2) != 0) {
-        if ((status = cli_job_load(&j, argv[1], NULL, NULL, 0)))
-            goto done;
-        first = 2;
-    }
-    cli_args a = cli_args_start(argc, argv, first);
-    while (cli_args_more(&a)) {
-        if (cli_flag(&a, "--help")) {
-            usage(stdout);
-            goto done;
-        }
-        if (!cli_take_job(&a, &j, LT_JOB_DATA | LT_JOB_MODEL | LT_JOB_PARAMS | LT_JOB_FIT | LT_JOB_OUTPUT)) {
-            status = cli_args_unknown(&a, "fit");
-            goto done;
-        }
-    }
-    if (a.failed) {
-        status = CLI_USAGE;
+    if ((status = cli_job_args(argc, argv, "fit", cli_help_fit,
+                               LT_JOB_DATA | LT_JOB_MODEL | LT_JOB_PARAMS | LT_JOB_FIT |
+                                   LT_JOB_OUTPUT,
+                               NULL, NULL, &j, &options)))
         goto done;
-    }
     cli_format format;
     if ((status = cli_parse_format(j.format, (1u << CLI_TABLE) | (1u << CLI_JSON), &format)))
         goto done;
@@ -117,5 +97,5 @@ done:
     lt_like_free(l);
     lt_survey_free(s);
     lt_job_free(&j);
-    return status;
+    return status < 0 ? CLI_OK : status;
 }

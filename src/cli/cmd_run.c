@@ -18,15 +18,6 @@ static void usage_run(FILE *f)
     fputs(cli_help_run, f);
 }
 
-/* The pipeline's lines: progress unless quiet, news and warnings always. */
-static void on_note(lt_note_kind kind, const char *text, void *ctx)
-{
-    if (kind != LT_NOTE_PROGRESS)
-        fprintf(stderr, "lantern: %s%s\n", kind == LT_NOTE_WARNING ? "warning: " : "", text);
-    else if (!*(const int *)ctx)
-        fprintf(stderr, "%s\n", text);
-}
-
 static void print_constraints(const char *dir)
 {
     char *path = lt_path_join(dir, "constraints.md", NULL), *text = NULL;
@@ -98,7 +89,7 @@ int cli_run(int argc, char **argv)
         j.threads = threads_flag;
     lt_error err;
     lt_error_clear(&err);
-    lt_pipeline_hooks hooks = {NULL, on_note, &j.quiet};
+    lt_pipeline_hooks hooks = {NULL, cli_note, &j.quiet};
     lt_run_job_opts o = {argv[1], resume ? resume : out, resume != NULL, force,
                          cli_catch_signals(), &hooks};
     int rc = lt_pipeline_run_job(&j, &o, &dir, &unconverged, &err);
@@ -178,7 +169,7 @@ int cli_report_runs(int argc, char **argv)
     }
     prepared = out != NULL;
     int quiet = 0, unconverged = 0;
-    lt_pipeline_hooks hooks = {NULL, on_note, &quiet};
+    lt_pipeline_hooks hooks = {NULL, cli_note, &quiet};
     if (lt_pipeline_report(&rs, dir, out ? "joint report" : rs.name, NULL, &hooks, &unconverged,
                            &err))
         status = cli_report(&err);

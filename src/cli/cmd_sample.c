@@ -3,12 +3,9 @@
  * convergence checks, chain files and checkpoints; --resume continues a
  * stopped run.
  */
-#include <errno.h>
 #include <math.h>
-#include <signal.h>
 #include <stdlib.h>
 #include <string.h>
-#include <sys/stat.h>
 #include <time.h>
 #include <unistd.h>
 
@@ -16,11 +13,6 @@
 
 #include "cli.h"
 #include "lantern/report.h"
-
-static void usage(FILE *f)
-{
-    fputs(cli_help_sample, f);
-}
 
 typedef struct {
     struct timespec start;
@@ -111,96 +103,64 @@ int cli_sample_model(lt_job *j, lt_like *l, const lt_like_spec *spec, const char
     return status;
 }
 
+/* What sample takes besides the run description's flags. */
+typedef struct {
+    const char *resume, *format;
+    int quiet, verbose;
+} own_flags;
+
+static int own(cli_args *a, void *ctx)
+{
+    own_flags *o = ctx;
+    return cli_take(a, "--resume", &o->resume) || cli_take(a, "--format", &o->format) ||
+           (cli_flag(a, "--quiet") && (o->quiet = 1)) ||
+           (cli_flag(a, "--verbose") && (o->verbose = 1));
+}
+
 int cli_sample(int argc, char **argv)
 {
     lt_job j;
     lt_job_init(&j);
-    int status = CLI_OK, first = 1;
-    const char *resume = NULL, *format_flag = NULL;
-    int quiet = 0, verbose = 0;
+    own_flags o = {NULL, NULL, 0, 0};
+    int options, status;
     lt_survey *s = NULL;
     lt_like *l = NULL;
-    char *settings = NULL;
-    if (argc > 1 && strncmp(argv[1], "--", 2) != 0) {
-        if ((status = cli_job_load(&j, argv[1], NULL, NULL, 0)))
-            goto done;
-        first = 2;
-    }
-    cli_args a = cli_args_start(argc, argv, first);
-    while (cli_args_more(&a)) {
-        const char *v;
-        if (cli_flag(&a, "--help")) {
-            usage(stdout);
-            goto done;
-        }
-        if (cli_take(&a, "--resume", &v)) {
-            resume = v;
-            continue;
-        }
-        if (cli_take(&a, "--format", &v)) {
-            format_flag = v;
-            continue;
-        }
-        if (cli_flag(&a, "--quiet")) {
-            quiet = 1;
-            continue;
-        }
-        if (cli_flag(&a, "--verbose")) {
-            verbose = 1;
-            continue;
-        }
-        if (resume || !cli_take_job(&a, &j, LT_JOB_DATA | LT_JOB_MODEL | LT_JOB_PARAMS | LT_JOB_FIT | LT_JOB_SAMPLER | LT_JOB_OUTPUT)) {
-            status = resume ? cli_usage_error("--resume",
-                                              "takes no other options than --format, --quiet "
-                                              "and --verbose: the run's settings are in its "
-                                              "checkpoint")
-                            : cli_args_unknown(&a, "sample");
-            goto done;
-        }
-    }
-    if (a.failed) {
-        status = CLI_USAGE;
+    lt_error err;
+    lt_error_clear(&err);
+    status = cli_job_args(argc, argv, "sample", cli_help_sample,
+                          LT_JOB_DATA | LT_JOB_MODEL | LT_JOB_PARAMS | LT_JOB_FIT |
+                              LT_JOB_SAMPLER | LT_JOB_OUTPUT,
+                          own, &o, &j, &options);
+    if (status)
+        goto done;
+    if (o.resume && options) {
+        status = cli_usage_error("--resume", "takes no other options than --format, --quiet and "
+                                             "--verbose: the run's settings are in its "
+                                             "checkpoint");
         goto done;
     }
-    if (resume) {
-        if (first == 2) {
-            status = cli_usage_error("--resume", "give the run folder only, not a run file");
-            goto done;
-        }
-        if (!(settings = lt_path_join(resume, "checkpoint/settings.ini", NULL))) {
-            status = cli_usage_error("sample", "out of memory");
-            goto done;
-        }
-        if (!lt_path_exists(settings)) {
-            status = cli_usage_error(resume, "no checkpoint here (checkpoint/settings.ini is "
-                                             "missing): not a stopped lantern sample run");
-            goto done;
-        }
-        if ((status = cli_job_load(&j, settings, NULL, NULL, 0)))
-            goto done;
-        j.out = resume;
+    if (o.resume && lt_job_resume(&j, o.resume, "not a stopped lantern sample run", &err)) {
+        status = cli_report(&err);
+        goto done;
     }
-    if (format_flag)
-        j.format = format_flag;
-    j.quiet |= quiet, j.verbose |= verbose;
+    if (o.format)
+        j.format = o.format;
+    j.quiet |= o.quiet, j.verbose |= o.verbose;
     cli_format format;
     if ((status = cli_parse_format(j.format, (1u << CLI_TABLE) | (1u << CLI_JSON), &format)))
         goto done;
     lt_like_spec spec;
     if ((status = cli_job_model(&j, &spec)))
         goto done;
-    lt_error err;
-    lt_error_clear(&err);
     if (lt_job_survey(&j, &s, &err) || !(l = lt_like_alloc(s, &spec, &err))) {
         status = cli_report(&err);
         goto done;
     }
     cli_print_warnings(s);
-    status = cli_sample_model(&j, l, &spec, j.out, resume != NULL, 1, format, NULL);
+    status = cli_sample_model(&j, l, &spec, j.out, o.resume != NULL, 1, format, NULL);
 done:
     lt_like_free(l);
     lt_survey_free(s);
     lt_job_free(&j);
-    free(settings);
-    return status;
+    return status < 0 ? CLI_OK : status;
 }

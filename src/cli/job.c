@@ -39,6 +39,32 @@ int cli_take_job(cli_args *a, lt_job *j, unsigned sections)
     return 1;
 }
 
+int cli_job_args(int argc, char **argv, const char *command, const char *help,
+                 unsigned sections, int (*own)(cli_args *a, void *ctx), void *ctx, lt_job *j,
+                 int *options)
+{
+    int first = 1, status;
+    *options = 0;
+    if (argc > 1 && strncmp(argv[1], "--", 2) != 0) {
+        if ((status = cli_job_load(j, argv[1], NULL, NULL, 0)))
+            return status;
+        first = 2, *options = 1;
+    }
+    cli_args a = cli_args_start(argc, argv, first);
+    while (cli_args_more(&a)) {
+        if (cli_flag(&a, "--help")) {
+            fputs(help, stdout);
+            return -1;
+        }
+        if (own && own(&a, ctx))
+            continue;
+        if (!a.failed && !cli_take_job(&a, j, sections))
+            return cli_args_unknown(&a, command);
+        *options = 1;
+    }
+    return a.failed ? CLI_USAGE : CLI_OK;
+}
+
 int cli_job_load(lt_job *j, const char *path, const char *const *overrides,
                  const char *const *origins, size_t n)
 {

@@ -798,3 +798,18 @@ int lt_job_write(const lt_job *j, const lt_like_spec *spec, const char *path, lt
     free(b.t);
     return rc;
 }
+
+int lt_job_resume(lt_job *j, const char *dir, const char *what, lt_error *err)
+{
+    char *settings = lt_path_join(dir, "checkpoint/settings.ini", err);
+    int rc = !settings ? LT_ENOMEM
+             : !lt_path_exists(settings)
+                 ? lt_error_set(err, LT_EINPUT, dir, 0,
+                                "no checkpoint here (checkpoint/settings.ini is missing): %s",
+                                what)
+                 : lt_job_read(j, settings, NULL, NULL, 0, err);
+    free(settings);
+    if (!rc)
+        j->out = dir;
+    return rc;
+}
