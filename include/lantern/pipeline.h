@@ -356,11 +356,12 @@ typedef struct lt_run_job_opts {
  * kept and one with a checkpoint continued), the data read once, then the
  * report of the whole (lt_pipeline_report) and the folder marked done.
  * *dir: the folder (the caller frees it, also on failure, to say where to
- * resume). *unconverged: a model did not converge. LT_EINTR if stopped;
+ * resume). *unconverged: a model did not converge. *stage: how far the
+ * last model came (lt_pipeline_sample's: 0 its best fit). LT_EINTR if stopped;
  * a failure leaves an earlier run's folder as it was.
  */
 int lt_pipeline_run_job(lt_job *j, const lt_run_job_opts *o, char **dir, int *unconverged,
-                        lt_error *err);
+                        int *stage, lt_error *err);
 /* rs's report into dir (lt_report_set_write, the Hubble diagram from s or
  * the set's own survey), then its notes through h: a model that did not
  * converge (*unconverged set), one fitted to other data. */

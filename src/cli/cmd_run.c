@@ -92,9 +92,13 @@ int cli_run(int argc, char **argv)
     lt_pipeline_hooks hooks = {NULL, cli_note, &j.quiet};
     lt_run_job_opts o = {argv[1], resume ? resume : out, resume != NULL, force,
                          cli_catch_signals(), &hooks};
-    int rc = lt_pipeline_run_job(&j, &o, &dir, &unconverged, &err);
+    int stage;
+    int rc = lt_pipeline_run_job(&j, &o, &dir, &unconverged, &stage, &err);
     if (rc == LT_EINTR) {
-        fputs("lantern: interrupted; run stopped\n", stderr);
+        fprintf(stderr, "lantern: interrupted %s\nlantern: run stopped\n",
+                stage == 0   ? "during the best fit, before sampling began"
+                : stage == 2 ? "during the evidence; the checkpoints are kept"
+                             : "while sampling; the checkpoints are kept");
         status = CLI_FAILED;
     } else if (rc) {
         status = cli_report(&err);

@@ -101,7 +101,7 @@ static int check_resume(const char *dir, lt_error *err)
  * (written once, whole, with the evidence), else sampled, continuing its
  * checkpoint when resuming. */
 static int one_model(lt_job *j, const lt_survey *s, const char *name, size_t k, size_t n,
-                     const char *mdir, const lt_run_job_opts *o, lt_error *err)
+                     const char *mdir, const lt_run_job_opts *o, int *stage, lt_error *err)
 {
     char *sum = lt_path_join(mdir, "summary.json", err);
     char *chk = lt_path_join(mdir, "checkpoint/state.bin", err);
@@ -134,8 +134,7 @@ static int one_model(lt_job *j, const lt_survey *s, const char *name, size_t k, 
     lt_sample_opts so = {mdir, again, label, o->stop, o->hooks};
     lt_posterior post;
     struct cJSON *summary = NULL;
-    int stage;
-    rc = lt_pipeline_sample(l, &mj, &spec, &so, &post, &summary, &stage, err);
+    rc = lt_pipeline_sample(l, &mj, &spec, &so, &post, &summary, stage, err);
     cJSON_Delete(summary);
     lt_posterior_free(&post);
     lt_like_free(l);
@@ -143,10 +142,11 @@ static int one_model(lt_job *j, const lt_survey *s, const char *name, size_t k, 
 }
 
 int lt_pipeline_run_job(lt_job *j, const lt_run_job_opts *o, char **dir, int *unconverged,
-                        lt_error *err)
+                        int *stage, lt_error *err)
 {
     *dir = NULL;
     *unconverged = 0;
+    *stage = 0;
     char names[LT_REPORT_MAX_MODELS][LT_NAME_MAX], what[128], text[600];
     size_t n;
     lt_survey *s = NULL;
@@ -183,7 +183,7 @@ int lt_pipeline_run_job(lt_job *j, const lt_run_job_opts *o, char **dir, int *un
         goto done;
     for (size_t k = 0; k < n; k++)
         if ((rc = lt_report_set_add(&rs, *dir, names[k], NULL, err)) ||
-            (rc = one_model(j, s, names[k], k, n, rs.dirs[k], o, err)))
+            (rc = one_model(j, s, names[k], k, n, rs.dirs[k], o, stage, err)))
             goto done;
     snprintf(text, sizeof text, "report: tables and figures in %s/", *dir);
     say(o->hooks, LT_NOTE_PROGRESS, text);
@@ -192,8 +192,8 @@ int lt_pipeline_run_job(lt_job *j, const lt_run_job_opts *o, char **dir, int *un
         rc = lt_outdir_finish(*dir, what, err);
 done:
     /* a failed run leaves the earlier one (or no folder); a stopped one its
-     * checkpoints, to resume */
-    if (prepared && rc && rc != LT_EINTR)
+     * checkpoints, to resume (a folder with nothing in it goes) */
+    if (prepared && rc)
         lt_outdir_abandon(*dir);
     lt_report_set_free(&rs);
     lt_survey_free(s);
