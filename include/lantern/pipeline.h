@@ -248,7 +248,8 @@ extern const lt_method_type *lt_method_nested;
 
 /* Whether lt_pipeline_run starts afresh or continues a saved state. */
 typedef enum {
-    LT_RUN_FRESH = 0,   /* start afresh (a state file there, an earlier run's, is removed) */
+    LT_RUN_FRESH = 0,   /* start afresh (a state file there, an earlier run's, is removed
+                         * once the method has started) */
     LT_RUN_RESUME,      /* continue the state file, which must exist */
     LT_RUN_IF_PRESENT   /* continue it if it exists, else start afresh */
 } lt_run_mode;

@@ -23,6 +23,7 @@ static int run_method(lt_like *l, const lt_campaign *c, const lt_campaign_task *
     static const lt_method_type *const *methods[LT_NMETHODS] = {
         &lt_method_fit, &lt_method_mcmc, &lt_method_nested};
     lt_job job = c->job;
+    job.pool = NULL, job.npool = job.cap = 0; /* the strings stay the campaign's */
     job.seed = (unsigned long)t->seed;
     job.threads = threads;
     lt_run_opts o = {NULL, NULL, NULL, LT_RUN_FRESH, stop, NULL};

@@ -8,6 +8,7 @@
 
 #include <signal.h>
 #include <stdio.h>
+#include <time.h>
 
 #include "help.h"
 #include "lantern/lantern.h"
@@ -69,6 +70,18 @@ void cli_print_json(struct cJSON *o, int take);
 /* The pipeline's notes (lt_pipeline_hooks.note; ctx an int, quiet) on
  * stderr: progress lines unless quiet, news and warnings always. */
 void cli_note(lt_note_kind kind, const char *text, void *quiet);
+/* The progress display of a sampling job (progress.c): hooks for the
+ * pipeline that print a line per convergence check (in place on a
+ * terminal; none with --quiet, every one with --verbose) and its notes;
+ * cli_progress_end ends a pending line. */
+typedef struct cli_progress {
+    struct timespec start;
+    int tty, quiet, verbose;
+    double target;
+    int printed;
+} cli_progress;
+lt_pipeline_hooks cli_progress_start(cli_progress *pr, const lt_job *j);
+void cli_progress_end(cli_progress *pr);
 /* Print the survey's warnings to stderr. */
 void cli_print_warnings(const lt_survey *s);
 

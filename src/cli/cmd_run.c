@@ -89,11 +89,13 @@ int cli_run(int argc, char **argv)
         j.threads = threads_flag;
     lt_error err;
     lt_error_clear(&err);
-    lt_pipeline_hooks hooks = {NULL, cli_note, &j.quiet};
+    cli_progress pr;
+    lt_pipeline_hooks hooks = cli_progress_start(&pr, &j);
     lt_run_job_opts o = {argv[1], resume ? resume : out, resume != NULL, force,
                          cli_catch_signals(), &hooks};
     int stage;
     int rc = lt_pipeline_run_job(&j, &o, &dir, &unconverged, &stage, &err);
+    cli_progress_end(&pr);
     if (rc == LT_EINTR) {
         fprintf(stderr, "lantern: interrupted %s\nlantern: run stopped\n",
                 stage == 0   ? "during the best fit, before sampling began"

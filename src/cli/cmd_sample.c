@@ -3,63 +3,13 @@
  * convergence checks, chain files and checkpoints; --resume continues a
  * stopped run.
  */
-#include <math.h>
 #include <stdlib.h>
 #include <string.h>
-#include <time.h>
-#include <unistd.h>
 
 #include <cjson/cJSON.h>
 
 #include "cli.h"
 #include "lantern/report.h"
-
-typedef struct {
-    struct timespec start;
-    int tty, quiet, verbose;
-    double target;
-    int printed;
-} progress;
-
-static double elapsed(const struct timespec *t0)
-{
-    struct timespec t;
-    clock_gettime(CLOCK_MONOTONIC, &t);
-    return (double)(t.tv_sec - t0->tv_sec) + 1e-9 * (double)(t.tv_nsec - t0->tv_nsec);
-}
-
-static void on_check(const lt_progress *d, void *p)
-{
-    progress *pr = p;
-    if (pr->quiet || (!pr->tty && !pr->verbose))
-        return;
-    double t = elapsed(&pr->start), left = NAN;
-    if (d->ess_min > 0 && isfinite(d->ess_min))
-        left = t * fmax(0.0, pr->target / d->ess_min - 1.0);
-    char eta[32] = "";
-    if (isfinite(left) && !d->converged)
-        snprintf(eta, sizeof eta, ", about %.0f s left", left);
-    fprintf(stderr, "%ssampling: %zu draws per chain, worst R-hat %.4f, smallest ESS %.0f, %.1f s%s%s",
-            pr->tty && !pr->verbose ? "\r" : "", d->draws_per_chain, d->rhat_max, d->ess_min, t,
-            eta, pr->tty && !pr->verbose ? "   " : "\n");
-    pr->printed = 1;
-}
-
-/* A line from the pipeline: a refinement of the compression restarts the
- * sampling, so the progress clock restarts too. */
-static void on_note(lt_note_kind kind, const char *text, void *p)
-{
-    progress *pr = p;
-    if (kind == LT_NOTE_PROGRESS && pr->quiet)
-        return;
-    if (pr->printed && pr->tty && !pr->verbose)
-        fputc('\n', stderr);
-    pr->printed = 0;
-    fprintf(stderr, "%s%s\n",
-            kind == LT_NOTE_PROGRESS ? "" : kind == LT_NOTE_NEWS ? "lantern: " : "lantern: warning: ",
-            text);
-    clock_gettime(CLOCK_MONOTONIC, &pr->start);
-}
 
 int cli_sample_model(lt_job *j, lt_like *l, const lt_like_spec *spec, const char *out,
                      int resume, int print, cli_format format, const char *evidence_label)
@@ -67,16 +17,14 @@ int cli_sample_model(lt_job *j, lt_like *l, const lt_like_spec *spec, const char
     lt_error err;
     lt_error_clear(&err);
     /* threads may be set differently on resume: the draws do not depend on it */
-    progress pr = {{0, 0}, isatty(2), j->quiet, j->verbose, j->target_ess, 0};
-    clock_gettime(CLOCK_MONOTONIC, &pr.start);
-    lt_pipeline_hooks hooks = {on_check, on_note, &pr};
+    cli_progress pr;
+    lt_pipeline_hooks hooks = cli_progress_start(&pr, j);
     lt_sample_opts o = {out, resume, evidence_label, cli_catch_signals(), &hooks};
     lt_posterior post;
     cJSON *json = NULL;
     int stage, status = CLI_OK;
     int rc = lt_pipeline_sample(l, j, spec, &o, &post, &json, &stage, &err);
-    if (pr.printed && pr.tty && !pr.verbose)
-        fputc('\n', stderr);
+    cli_progress_end(&pr);
     if (rc == LT_EINTR) {
         if (stage == 0)
             fputs("lantern: interrupted during the best fit, before sampling began\n", stderr);

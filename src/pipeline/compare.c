@@ -58,6 +58,7 @@ static void run_model(lt_model_result *m, size_t k, size_t n, const lt_job *j, i
      * the checkpoint it finds (a model not reached before the stop has
      * none); fresh, an earlier comparison's is removed */
     lt_job mj = *j;
+    mj.pool = NULL, mj.npool = mj.cap = 0; /* the strings stay j's */
     mj.threads = threads;
     lt_run_opts o = {ckdir, state, NULL, resume ? LT_RUN_IF_PRESENT : LT_RUN_FRESH, stop, NULL};
     m->rc = lt_pipeline_run(lt_method_nested, m->l, &mj, &o, NULL, &m->post, &m->err);
@@ -83,6 +84,15 @@ int lt_pipeline_compare(lt_model_result *m, size_t n, const lt_job *j, const cha
         free(settings);
         if (rc)
             return rc;
+        /* an earlier comparison's checkpoints (--force) belong to it: all
+         * go now, so that a stop before a model starts leaves none of them */
+        for (size_t k = 0; k < n; k++) {
+            char state[96], *path;
+            snprintf(state, sizeof state, "nested_%s.bin", m[k].name);
+            if ((path = lt_path_join(ckdir, state, NULL)))
+                remove(path);
+            free(path);
+        }
     }
     int threads = j->threads > 0 ? (int)j->threads : omp_get_max_threads();
     int outer = (size_t)threads < n ? threads : (int)n;
@@ -130,6 +140,10 @@ static int model_list(const lt_job *j, lt_comparison *c, lt_error *err)
             if (!lt_cosmo_model_find(c->names[c->n]))
                 return lt_error_set(err, LT_EINPUT, "--models", 0, "unknown model '%s'",
                                     c->names[c->n]);
+            for (size_t k = 0; k < c->n; k++)
+                if (!strcmp(c->names[k], c->names[c->n]))
+                    return lt_error_set(err, LT_EINPUT, "--models", 0, "lists %s twice",
+                                        c->names[k]);
             c->m[c->n].name = c->names[c->n];
             c->n++;
         }

@@ -154,7 +154,9 @@ static int mcmc_start(void *p, volatile sig_atomic_t *stop, lt_error *err)
 static int mcmc_save(const void *p, const char *path, uint64_t fp, lt_error *err)
 {
     const mcmc_run *r = p;
-    return lt_mcmc_save(r->m, path, fp, err);
+    /* no chains: stopped while a refinement restarted them; the state file
+     * still holds the chains its knots file belongs to */
+    return r->m ? lt_mcmc_save(r->m, path, fp, err) : LT_OK;
 }
 
 static int mcmc_load(void *p, const char *path, uint64_t fp, lt_error *err)
@@ -225,11 +227,16 @@ static int mcmc_iterate(void *p, const char *state, uint64_t fp, volatile sig_at
                  chk.max_before, LT_CHECK_BOUND, cmp->setup_dchi2, how);
         if (h && h->note)
             h->note(LT_NOTE_NEWS, text, h->ctx);
-        if (r->knots && (rc = save_knots(r->knots, chk.knots, cmp->first_dchi2, err)))
-            return rc;
         lt_mcmc_free(r->m);
         r->m = NULL;
         if ((rc = chains_work(r, err)) || (rc = mcmc_start(r, stop, err)))
+            return rc;
+        /* the new chains and their knots saved together (no stop is looked
+         * at between the two), so that a resume finds them consistent; a
+         * stop before this leaves the old chains with the old knots, which
+         * a resume refines again to the same result */
+        if ((state && (rc = lt_mcmc_save(r->m, state, fp, err))) ||
+            (r->knots && (rc = save_knots(r->knots, chk.knots, cmp->first_dchi2, err))))
             return rc;
     }
 }

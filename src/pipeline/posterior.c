@@ -202,6 +202,7 @@ int lt_pipeline_mcmc_posterior(const lt_like *l, const lt_mcmc *m, size_t reweig
     double f;
     if (lt_optimize(lt_like_neg2logpost, &pc, &oo, r->best, &f, &info, err)) {
         lt_like_work_free(pc.w);
+        lt_posterior_free(r);
         return err ? err->code : LT_ENUMERIC;
     }
     /* weighted draws report the exact chi2 at the point the compressed

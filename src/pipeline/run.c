@@ -37,8 +37,6 @@ int lt_pipeline_run(const lt_method_type *t, lt_like *l, lt_job *j, const lt_run
                           t->name);
         goto done;
     }
-    if (!resume && state && o->mode == LT_RUN_FRESH)
-        remove(state); /* an earlier run's, in a folder reused with --force */
     if (resume) {
         if ((settings && (rc = lt_fingerprint_check(settings, &parts, err))) ||
             (rc = t->load(s, state, fp, err)))
@@ -46,6 +44,10 @@ int lt_pipeline_run(const lt_method_type *t, lt_like *l, lt_job *j, const lt_run
     } else {
         if ((rc = t->start(s, o->stop, err)))
             goto done;
+        /* an earlier run's state, in a folder reused with --force, goes only
+         * now: a run stopped or failed before it started leaves it */
+        if (state && o->mode == LT_RUN_FRESH)
+            remove(state);
         if (o->ckdir && mkdir(o->ckdir, 0777) != 0 && errno != EEXIST) {
             rc = lt_error_set(err, LT_EIO, o->ckdir, 0, "cannot make the checkpoint folder: %s",
                               strerror(errno));

@@ -106,7 +106,9 @@ static int one_model(lt_job *j, const lt_survey *s, const char *name, size_t k, 
     char *sum = lt_path_join(mdir, "summary.json", err);
     char *chk = lt_path_join(mdir, "checkpoint/state.bin", err);
     int rc = sum && chk ? LT_OK : LT_ENOMEM;
-    int kept = !rc && o->resume && lt_path_exists(sum);
+    /* kept: a summary this run finished (an earlier run's, in a folder
+     * taken with --force, leaves the model folder not done) */
+    int kept = !rc && o->resume && lt_path_exists(sum) && lt_outdir_done(mdir);
     int again = !rc && o->resume && lt_path_exists(chk);
     free(sum);
     free(chk);

@@ -518,3 +518,12 @@ int lt_file_write_text(const char *path, const char *text, lt_error *err)
     }
     return lt_file_close_commit(f, path, err);
 }
+
+int lt_outdir_done(const char *dir)
+{
+    lt_error err;
+    marker m;
+    int done = !marker_read(dir, &m, &err) && m.present && m.done;
+    marker_free(&m);
+    return done;
+}

@@ -1,0 +1,66 @@
+/*
+ * The progress display of long jobs on stderr: a line per convergence
+ * check (rewritten in place on a terminal, one after another with
+ * --verbose), and the pipeline's notes, which end a pending line first.
+ */
+#include <math.h>
+#include <stdio.h>
+#include <time.h>
+#include <unistd.h>
+
+#include "cli.h"
+
+
+static double elapsed(const struct timespec *t0)
+{
+    struct timespec t;
+    clock_gettime(CLOCK_MONOTONIC, &t);
+    return (double)(t.tv_sec - t0->tv_sec) + 1e-9 * (double)(t.tv_nsec - t0->tv_nsec);
+}
+
+static void on_check(const lt_progress *d, void *p)
+{
+    cli_progress *pr = p;
+    if (pr->quiet || (!pr->tty && !pr->verbose))
+        return;
+    double t = elapsed(&pr->start), left = NAN;
+    if (d->ess_min > 0 && isfinite(d->ess_min))
+        left = t * fmax(0.0, pr->target / d->ess_min - 1.0);
+    char eta[32] = "";
+    if (isfinite(left) && !d->converged)
+        snprintf(eta, sizeof eta, ", about %.0f s left", left);
+    fprintf(stderr, "%ssampling: %zu draws per chain, worst R-hat %.4f, smallest ESS %.0f, %.1f s%s%s",
+            pr->tty && !pr->verbose ? "\r" : "", d->draws_per_chain, d->rhat_max, d->ess_min, t,
+            eta, pr->tty && !pr->verbose ? "   " : "\n");
+    pr->printed = 1;
+}
+
+/* A line from the pipeline: a refinement of the compression restarts the
+ * sampling, so the progress clock restarts too. */
+static void on_note(lt_note_kind kind, const char *text, void *p)
+{
+    cli_progress *pr = p;
+    if (kind == LT_NOTE_PROGRESS && pr->quiet)
+        return;
+    if (pr->printed && pr->tty && !pr->verbose)
+        fputc('\n', stderr);
+    pr->printed = 0;
+    fprintf(stderr, "%s%s\n",
+            kind == LT_NOTE_PROGRESS ? "" : kind == LT_NOTE_NEWS ? "lantern: " : "lantern: warning: ",
+            text);
+    clock_gettime(CLOCK_MONOTONIC, &pr->start);
+}
+
+lt_pipeline_hooks cli_progress_start(cli_progress *pr, const lt_job *j)
+{
+    *pr = (cli_progress){{0, 0}, isatty(2), j->quiet, j->verbose, j->target_ess, 0};
+    clock_gettime(CLOCK_MONOTONIC, &pr->start);
+    return (lt_pipeline_hooks){on_check, on_note, pr};
+}
+
+void cli_progress_end(cli_progress *pr)
+{
+    if (pr->printed && pr->tty && !pr->verbose)
+        fputc('\n', stderr);
+    pr->printed = 0;
+}
