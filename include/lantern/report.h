@@ -206,7 +206,6 @@ double lt_run_model_histogram(const lt_run_model *m, size_t cx, size_t cy, doubl
 typedef struct lt_report_set {
     size_t n;
     char *dirs[LT_REPORT_MAX_MODELS];    /* each model's folder */
-    char *folders[LT_REPORT_MAX_MODELS]; /* its name within its run */
     char *labels[LT_REPORT_MAX_MODELS];  /* how tables name it (NULL: its model) */
     char *name;                          /* the first run's name, from its summary */
     lt_survey *survey;                   /* the first model's data (lt_report_set_add_run) */

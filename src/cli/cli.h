@@ -103,13 +103,6 @@ int cli_job_load(lt_job *j, const char *path, const char *const *overrides,
                  const char *const *origins, size_t n);
 /* lt_job_model_spec, printing any error; returns the exit status. */
 int cli_job_model(const lt_job *j, lt_like_spec *spec);
-/* Sample one model into out (a folder: summary.json, chains, checkpoint);
- * resume continues from out's checkpoint; print writes the summary to
- * stdout in format; with an evidence_label ("[1/4] lcdm", for its progress
- * line) the evidence by nested sampling (j's live points and seed,
- * checkpointed in out) joins the summary. Returns the exit status. */
-int cli_sample_model(lt_job *j, lt_like *l, const lt_like_spec *spec, const char *out,
-                     int resume, int print, cli_format format, const char *evidence_label);
 
 /* The whole command line: set-up, then the command argv[1]. */
 int cli_main(int argc, char **argv);

@@ -47,41 +47,39 @@ int cli_compare(int argc, char **argv)
                           own, &o, &j, &options);
     if (status)
         goto done;
-    const char *resume = o.resume, *format_flag = o.format, *threads_flag = o.threads;
-    int quiet = o.quiet, verbose = o.verbose;
     lt_error err;
     lt_error_clear(&err);
     /* --resume DIR alone: the settings are in DIR/checkpoint/settings.ini
      * (a comparison that wrote none, or a resume given the options again,
      * takes them from the options, and each model's checkpoint refuses
      * other ones) */
-    if (resume && !options &&
-        lt_job_resume(&j, resume,
+    if (o.resume && !options &&
+        lt_job_resume(&j, o.resume,
                       "give the comparison's options again with --resume, or the folder of a "
                       "stopped lantern compare run",
                       &err)) {
         status = cli_report(&err);
         goto done;
     }
-    if (threads_flag && lt_job_flag(&j, "--threads", threads_flag, &err)) {
+    if (o.threads && lt_job_flag(&j, "--threads", o.threads, &err)) {
         status = cli_report(&err);
         goto done;
     }
-    if (format_flag)
-        j.format = format_flag;
-    j.quiet |= quiet, j.verbose |= verbose;
+    if (o.format)
+        j.format = o.format;
+    j.quiet |= o.quiet, j.verbose |= o.verbose;
     cli_format format;
     if ((status = cli_parse_format(j.format, (1u << CLI_TABLE) | (1u << CLI_JSON), &format)))
         goto done;
-    if (resume) {
-        if (j.out && strcmp(j.out, resume) != 0) {
+    if (o.resume) {
+        if (j.out && strcmp(j.out, o.resume) != 0) {
             status = cli_usage_error("--resume", "give --resume DIR instead of --out, not both");
             goto done;
         }
-        j.out = resume;
+        j.out = o.resume;
     }
     lt_pipeline_hooks hooks = {NULL, cli_note, &j.quiet};
-    int rc = lt_pipeline_compare_job(&j, resume != NULL, cli_catch_signals(), &hooks, c, &err);
+    int rc = lt_pipeline_compare_job(&j, o.resume != NULL, cli_catch_signals(), &hooks, c, &err);
     if (rc == LT_EINTR && j.out) {
         fprintf(stderr,
                 "lantern: interrupted; %s/checkpoint holds the state of every model so far: "

@@ -11,15 +11,18 @@
 #include "cli.h"
 #include "lantern/report.h"
 
-int cli_sample_model(lt_job *j, lt_like *l, const lt_like_spec *spec, const char *out,
-                     int resume, int print, cli_format format, const char *evidence_label)
+/* Sample l into j's --out folder (continuing it with resume), print the
+ * summary in format, and return the exit status. */
+static int sample_model(lt_job *j, lt_like *l, const lt_like_spec *spec, int resume,
+                        cli_format format)
 {
+    const char *out = j->out;
     lt_error err;
     lt_error_clear(&err);
     /* threads may be set differently on resume: the draws do not depend on it */
     cli_progress pr;
     lt_pipeline_hooks hooks = cli_progress_start(&pr, j);
-    lt_sample_opts o = {out, resume, evidence_label, cli_catch_signals(), &hooks};
+    lt_sample_opts o = {out, resume, NULL, cli_catch_signals(), &hooks};
     lt_posterior post;
     cJSON *json = NULL;
     int stage, status = CLI_OK;
@@ -40,9 +43,9 @@ int cli_sample_model(lt_job *j, lt_like *l, const lt_like_spec *spec, const char
     } else if (rc) {
         status = cli_report(&err);
     } else {
-        if (print && format == CLI_JSON)
+        if (format == CLI_JSON)
             cli_print_json(json, 0);
-        else if (print)
+        else
             lt_report_sample_table(stdout, l, &post, &j->data);
         status = post.converged ? CLI_OK : CLI_UNCONVERGED;
     }
@@ -105,7 +108,7 @@ int cli_sample(int argc, char **argv)
         goto done;
     }
     cli_print_warnings(s);
-    status = cli_sample_model(&j, l, &spec, j.out, o.resume != NULL, 1, format, NULL);
+    status = sample_model(&j, l, &spec, o.resume != NULL, format);
 done:
     lt_like_free(l);
     lt_survey_free(s);

@@ -18,6 +18,7 @@
 #include "lantern/report.h"
 #include "lantern/version.h"
 #include "lantern/pipeline.h"
+#include "internal.h"
 
 int lt_pipeline_compare_setup(lt_model_result *m, size_t n, const lt_job *j, const lt_survey *s,
                               lt_error *err)
@@ -43,12 +44,10 @@ static void run_model(lt_model_result *m, size_t k, size_t n, const lt_job *j, i
                       const lt_pipeline_hooks *h)
 {
     lt_error_clear(&m->err);
-    if (h && h->note) {
-        char text[256];
-        snprintf(text, sizeof text, "[%zu/%zu] %s: best fit, then nested sampling with %ld live points",
-                 k + 1, n, m->name, j->live_points);
-        h->note(LT_NOTE_PROGRESS, text, h->ctx);
-    }
+    char text[256];
+    snprintf(text, sizeof text, "[%zu/%zu] %s: best fit, then nested sampling with %ld live points",
+             k + 1, n, m->name, j->live_points);
+    pipeline_say(h, LT_NOTE_PROGRESS, text);
     lt_fit_opts fo = {.seed = j->seed, .starts = (size_t)j->starts, .stop = stop};
     if ((m->rc = lt_fit_run(m->l, &fo, &m->fit, &m->err)))
         return;
@@ -152,12 +151,6 @@ static int model_list(const lt_job *j, lt_comparison *c, lt_error *err)
     return c->n ? LT_OK : lt_error_set(err, LT_EINPUT, "--models", 0, "no models given");
 }
 
-static void say(const lt_pipeline_hooks *h, lt_note_kind kind, const char *text)
-{
-    if (h && h->note)
-        h->note(kind, text, h->ctx);
-}
-
 int lt_pipeline_compare_job(lt_job *j, int resume, volatile sig_atomic_t *stop,
                             const lt_pipeline_hooks *h, lt_comparison *c, lt_error *err)
 {
@@ -186,7 +179,7 @@ int lt_pipeline_compare_job(lt_job *j, int resume, volatile sig_atomic_t *stop,
             goto done;
     }
     for (size_t i = 0; c->survey && i < c->survey->nwarnings; i++)
-        say(h, LT_NOTE_WARNING, c->survey->warnings[i]);
+        pipeline_say(h, LT_NOTE_WARNING, c->survey->warnings[i]);
     /* the likelihoods, one after another (this may refuse the input), then
      * the models side by side */
     if ((rc = lt_pipeline_compare_setup(c->m, c->n, j, c->survey, err)) ||
@@ -196,9 +189,9 @@ int lt_pipeline_compare_job(lt_job *j, int resume, volatile sig_atomic_t *stop,
         char edges[512], dic[256], text[600];
         lt_report_compare_warnings(&c->m[k], edges, sizeof edges, dic, sizeof dic);
         if (edges[0])
-            snprintf(text, sizeof text, "%s: %s", c->m[k].name, edges), say(h, LT_NOTE_WARNING, text);
+            snprintf(text, sizeof text, "%s: %s", c->m[k].name, edges), pipeline_say(h, LT_NOTE_WARNING, text);
         if (dic[0])
-            snprintf(text, sizeof text, "%s: %s", c->m[k].name, dic), say(h, LT_NOTE_WARNING, text);
+            snprintf(text, sizeof text, "%s: %s", c->m[k].name, dic), pipeline_say(h, LT_NOTE_WARNING, text);
     }
     /* final files only once every model is done: an interrupted comparison
      * leaves nothing but its checkpoints */

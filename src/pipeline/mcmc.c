@@ -20,6 +20,7 @@
 #include "lantern/inference.h"
 #include "lantern/pipeline.h"
 #include "lantern/text.h"
+#include "internal.h"
 
 typedef struct {
     lt_like *l;
@@ -225,8 +226,7 @@ static int mcmc_iterate(void *p, const char *state, uint64_t fp, volatile sig_at
                  "the compressed likelihood is off by %.2g in chi2 on the posterior draws (more "
                  "than %g; its set-up saw %.2g): sampling again with %s",
                  chk.max_before, LT_CHECK_BOUND, cmp->setup_dchi2, how);
-        if (h && h->note)
-            h->note(LT_NOTE_NEWS, text, h->ctx);
+        pipeline_say(h, LT_NOTE_NEWS, text);
         lt_mcmc_free(r->m);
         r->m = NULL;
         if ((rc = chains_work(r, err)) || (rc = mcmc_start(r, stop, err)))
@@ -248,12 +248,12 @@ static int mcmc_result(void *p, const lt_pipeline_hooks *h, lt_posterior *post, 
 {
     mcmc_run *r = p;
     int off = r->cmp.checked_ok && r->cmp.posterior_dchi2 > LT_CHECK_BOUND;
-    if (off && h && h->note) {
+    if (off) {
         char text[160];
         snprintf(text, sizeof text,
                  "weighting the draws by the exact likelihood (at most %zu of them evaluated)",
                  lt_like_reweight_draws(r->l));
-        h->note(LT_NOTE_NEWS, text, h->ctx);
+        pipeline_say(h, LT_NOTE_NEWS, text);
     }
     int rc = lt_pipeline_mcmc_posterior(r->l, r->m, off ? lt_like_reweight_draws(r->l) : 0, post,
                                         err);

@@ -11,6 +11,7 @@
 #include "lantern/file.h"
 #include "lantern/inference.h"
 #include "lantern/pipeline.h"
+#include "internal.h"
 
 int lt_pipeline_run(const lt_method_type *t, lt_like *l, lt_job *j, const lt_run_opts *o,
                     int *started, lt_posterior *post, lt_error *err)
@@ -76,6 +77,12 @@ done:
     free(state);
     free(settings);
     return rc;
+}
+
+void pipeline_say(const lt_pipeline_hooks *h, lt_note_kind kind, const char *text)
+{
+    if (h && h->note)
+        h->note(kind, text, h->ctx);
 }
 
 /* ---- the best fit ---- */

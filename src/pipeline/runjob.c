@@ -12,14 +12,9 @@
 #include "lantern/file.h"
 #include "lantern/outdir.h"
 #include "lantern/pipeline.h"
+#include "internal.h"
 #include "lantern/report.h"
 #include "lantern/version.h"
-
-static void say(const lt_pipeline_hooks *h, lt_note_kind kind, const char *text)
-{
-    if (h && h->note)
-        h->note(kind, text, h->ctx);
-}
 
 int lt_pipeline_report(lt_report_set *rs, const char *dir, const char *name, const lt_survey *s,
                        const lt_pipeline_hooks *h, int *unconverged, lt_error *err)
@@ -37,7 +32,7 @@ int lt_pipeline_report(lt_report_set *rs, const char *dir, const char *name, con
                      "%s did not converge (worst R-hat %s, smallest ESS %.0f): its numbers are "
                      "provisional; the tables mark it with a double dagger",
                      m[i].label, lt_run_model_rhat_text(&m[i], rhat, sizeof rhat), m[i].ess_min);
-            say(h, LT_NOTE_WARNING, text);
+            pipeline_say(h, LT_NOTE_WARNING, text);
             *unconverged = 1;
         }
         if (!lt_run_model_same_data(&m[0], &m[i])) {
@@ -45,7 +40,7 @@ int lt_pipeline_report(lt_report_set *rs, const char *dir, const char *name, con
                      "note: %s was fitted to other data (%zu objects) than %s (%zu objects): the "
                      "tables leave its AIC, BIC and ln B differences blank",
                      m[i].label, m[i].n_data, m[0].label, m[0].n_data);
-            say(h, LT_NOTE_NEWS, text);
+            pipeline_say(h, LT_NOTE_NEWS, text);
         }
     }
     return LT_OK;
@@ -116,12 +111,12 @@ static int one_model(lt_job *j, const lt_survey *s, const char *name, size_t k, 
     if (rc || kept) {
         snprintf(text, sizeof text, "[%zu/%zu] %.64s: finished earlier, kept", k + 1, n, name);
         if (kept)
-            say(o->hooks, LT_NOTE_PROGRESS, text);
+            pipeline_say(o->hooks, LT_NOTE_PROGRESS, text);
         return rc;
     }
     snprintf(text, sizeof text, "[%zu/%zu] %.64s: %s", k + 1, n, name,
              again ? "resuming the sampler" : "best fit, then sampling");
-    say(o->hooks, LT_NOTE_PROGRESS, text);
+    pipeline_say(o->hooks, LT_NOTE_PROGRESS, text);
     lt_job mj = *j; /* the model's own copy of the settings */
     mj.model = name;
     mj.force = 1;
@@ -175,11 +170,11 @@ int lt_pipeline_run_job(lt_job *j, const lt_run_job_opts *o, char **dir, int *un
     /* the data, once */
     snprintf(text, sizeof text, "lantern run %s: reading %s", name,
              j->data.data ? j->data.data : "no survey (measurements only)");
-    say(o->hooks, LT_NOTE_PROGRESS, text);
+    pipeline_say(o->hooks, LT_NOTE_PROGRESS, text);
     if ((rc = lt_job_survey(j, &s, err)))
         goto done;
     for (size_t i = 0; s && i < s->nwarnings; i++)
-        say(o->hooks, LT_NOTE_WARNING, s->warnings[i]);
+        pipeline_say(o->hooks, LT_NOTE_WARNING, s->warnings[i]);
     snprintf(what, sizeof what, "lantern %s run (running)", LT_VERSION);
     if ((rc = lt_outdir_mark(*dir, what, err)))
         goto done;
@@ -188,7 +183,7 @@ int lt_pipeline_run_job(lt_job *j, const lt_run_job_opts *o, char **dir, int *un
             (rc = one_model(j, s, names[k], k, n, rs.dirs[k], o, stage, err)))
             goto done;
     snprintf(text, sizeof text, "report: tables and figures in %s/", *dir);
-    say(o->hooks, LT_NOTE_PROGRESS, text);
+    pipeline_say(o->hooks, LT_NOTE_PROGRESS, text);
     snprintf(what, sizeof what, "lantern %s run %s", LT_VERSION, o->run_file);
     if (!(rc = lt_pipeline_report(&rs, *dir, name, s, o->hooks, unconverged, err)))
         rc = lt_outdir_finish(*dir, what, err);

@@ -13,14 +13,9 @@
 #include "lantern/file.h"
 #include "lantern/outdir.h"
 #include "lantern/pipeline.h"
+#include "internal.h"
 #include "lantern/report.h"
 #include "lantern/version.h"
-
-static void say(const lt_pipeline_hooks *h, lt_note_kind kind, const char *text)
-{
-    if (h && h->note)
-        h->note(kind, text, h->ctx);
-}
 
 /* What the results need read with: weights, prior edges. */
 static void warnings(const lt_like *l, const lt_job *j, const lt_posterior *r,
@@ -29,12 +24,12 @@ static void warnings(const lt_like *l, const lt_job *j, const lt_posterior *r,
     char text[768];
     if (r->weights) {
         lt_report_compression_warning(r, text, sizeof text);
-        say(h, LT_NOTE_WARNING, text);
+        pipeline_say(h, LT_NOTE_WARNING, text);
         if (r->ess_min_weighted < j->target_ess) {
             snprintf(text, sizeof text,
                      "the weighted draws' effective sample size %.0f is below --target-ess %g",
                      r->ess_min_weighted, j->target_ess);
-            say(h, LT_NOTE_WARNING, text);
+            pipeline_say(h, LT_NOTE_WARNING, text);
         }
     }
     for (size_t i = 0; i < r->nparams; i++) {
@@ -42,7 +37,7 @@ static void warnings(const lt_like *l, const lt_job *j, const lt_posterior *r,
         if (lt_post_edge_note(r->cols[r->first_param + i], lt_like_prior(l, i), r->edge_lo[i],
                               r->edge_hi[i], note, sizeof note)) {
             snprintf(text, sizeof text, "%s: %s", lt_like_model(l)->name, note);
-            say(h, LT_NOTE_WARNING, text);
+            pipeline_say(h, LT_NOTE_WARNING, text);
         }
     }
 }
@@ -52,7 +47,7 @@ static void warnings(const lt_like *l, const lt_job *j, const lt_posterior *r,
  * once the chains mix). */
 static void unconverged(const lt_job *j, const lt_posterior *r, const lt_pipeline_hooks *h)
 {
-    say(h, LT_NOTE_WARNING,
+    pipeline_say(h, LT_NOTE_WARNING,
         "the chains did not converge within --max-steps; the results are written and marked "
         "\"converged\": false");
     double e = r->diag.ess_min;
@@ -63,7 +58,7 @@ static void unconverged(const lt_job *j, const lt_posterior *r, const lt_pipelin
                  "%.0f should reach %g",
                  e, r->steps, ceil(1.1 * (double)r->steps * j->target_ess / e / 1000.0) * 1000.0,
                  j->target_ess);
-        say(h, LT_NOTE_NEWS, text);
+        pipeline_say(h, LT_NOTE_NEWS, text);
     }
 }
 
@@ -113,7 +108,7 @@ int lt_pipeline_sample(lt_like *l, lt_job *j, const lt_like_spec *spec, const lt
         /* the evidence joins the summary, which is then written whole */
         char text[160];
         snprintf(text, sizeof text, "%s: evidence by nested sampling", o->evidence_label);
-        say(o->hooks, LT_NOTE_PROGRESS, text);
+        pipeline_say(o->hooks, LT_NOTE_PROGRESS, text);
         lt_posterior ev;
         lt_run_opts eo = ro;
         eo.state = "nested.bin", eo.spec = NULL;

@@ -24,7 +24,6 @@ void lt_report_set_free(lt_report_set *rs)
     for (size_t i = 0; i < rs->n; i++) {
         free(rs->dirs[i]);
         free(rs->labels[i]);
-        free(rs->folders[i]);
     }
     for (size_t i = 0; i < rs->loaded; i++)
         lt_run_model_free(&rs->models[i]);
@@ -40,9 +39,8 @@ int lt_report_set_add(lt_report_set *rs, const char *run, const char *folder, co
         return lt_error_set(err, LT_EINPUT, NULL, 0, "at most %d models in one report",
                             LT_REPORT_MAX_MODELS);
     rs->dirs[rs->n] = lt_path_join(run, folder, NULL);
-    rs->folders[rs->n] = strdup(folder);
     rs->labels[rs->n] = label ? strdup(label) : NULL;
-    if (!rs->dirs[rs->n] || !rs->folders[rs->n] || (label && !rs->labels[rs->n])) {
+    if (!rs->dirs[rs->n] || (label && !rs->labels[rs->n])) {
         rs->n++;
         return lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
     }
