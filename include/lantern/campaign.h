@@ -48,7 +48,7 @@ typedef struct lt_campaign {
     size_t ndata;
     lt_campaign_data *data;
     size_t nmodels;
-    const lt_cosmo_model *models[16];
+    const lt_cosmo_model *models[16]; /* at most 16 */
     size_t nmethods;
     lt_method methods[LT_NMETHODS];
     /* what every task shares, read by the run description's rules:
@@ -373,5 +373,12 @@ struct cJSON *lt_forecast_json(const lt_scenario *sc, const lt_like_spec *spec,
 /* The same as a readable table. */
 void lt_forecast_print(FILE *out, const lt_scenario *sc, const lt_like_spec *spec,
                        const lt_forecast *f);
+/* The forecast into the folder out (force: replace an earlier lantern
+ * output): json (lt_forecast_json) as summary.json and the error ellipse
+ * of w0-wa, else of the first two parameters, as ellipse_X_Y.png/.pdf; the
+ * folder marked done. A stop (*stop set) or failure leaves no folder. */
+int lt_forecast_write(const char *out, int force, const lt_scenario *sc,
+                      const lt_like_spec *spec, const lt_forecast *f, const struct cJSON *json,
+                      volatile sig_atomic_t *stop, lt_error *err);
 
 #endif

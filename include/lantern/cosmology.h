@@ -70,6 +70,16 @@ size_t lt_cosmo_model_count(void);
 const lt_cosmo_model *lt_cosmo_model_at(size_t i);
 /* NULL if no model has that name. */
 const lt_cosmo_model *lt_cosmo_model_find(const char *name);
+/* The model called name; else NULL, with "unknown model 'NAME' (models:
+ * ...)" at file:line in err (file NULL or a flag such as "--model"). */
+const lt_cosmo_model *lt_cosmo_model_lookup(const char *name, const char *file, long line,
+                                            lt_error *err);
+/* The models of text, a list "M1, M2 ..." (commas or blanks between), into
+ * out[max] in order, *n of them. An unknown name, a model listed twice,
+ * more than max or none is refused at file:line, the message after what
+ * (a prefix such as "[run] models: ", or ""). */
+int lt_cosmo_model_list(const char *text, const char *file, long line, const char *what,
+                        size_t max, const lt_cosmo_model **out, size_t *n, lt_error *err);
 /* Whether model m reads parameter id (t_cmb and n_eff: every model). */
 int lt_cosmo_model_uses(const lt_cosmo_model *m, int id);
 

@@ -313,6 +313,21 @@ int lt_pipeline_nested_posterior(const lt_like *l, const lt_nested_result *nr, s
 int lt_pipeline_fit_posterior(const lt_like *l, const lt_fit_result *fr, lt_posterior *r,
                               lt_error *err);
 
+/* ---- a best fit into its folder (lantern fit) ---- */
+
+/*
+ * The best fit of l by j (lt_method_fit) with its Laplace errors, into
+ * j->out when set: the folder taken first (j->force to replace an earlier
+ * lantern output), then summary.json and residuals.csv written and the
+ * folder marked done. post and *summary (the JSON; the caller deletes it)
+ * are filled on LT_OK; free post in every case. Warnings (no Laplace
+ * errors, no convergence: post->fit.info.converged) go to hooks. LT_EINTR
+ * if stopped; a stop or failure leaves an earlier run's folder as it was.
+ */
+int lt_pipeline_fit(lt_like *l, lt_job *j, volatile sig_atomic_t *stop,
+                    const lt_pipeline_hooks *hooks, lt_posterior *post, struct cJSON **summary,
+                    lt_error *err);
+
 /* ---- a sampled model into its folder (lantern sample, run) ---- */
 
 typedef struct lt_sample_opts {
@@ -398,7 +413,6 @@ int lt_pipeline_compare(lt_model_result *m, size_t n, const lt_job *j, const cha
 typedef struct lt_comparison {
     size_t n;
     lt_model_result m[LT_MAX_COMPARED];
-    char names[LT_MAX_COMPARED][LT_NAME_MAX];
     lt_survey *survey;         /* none for measurements alone */
     struct cJSON *summary;     /* lt_report_compare_json, once done */
 } lt_comparison;
@@ -416,17 +430,7 @@ void lt_comparison_free(lt_comparison *c);
 
 /* ---- timing (lantern bench) ---- */
 
-typedef struct lt_bench {
-    const char *model;         /* its name (static) */
-    size_t n_data, knots;
-    int compressed;            /* the compressed path (0: the exact one) */
-    const char *covariance;    /* the covariance's kind (static) */
-    double evals_per_s;        /* one thread, at 200 points near the best fit */
-    double setup_s;            /* reading, factorising, compressing */
-    double peak_rss_mb;        /* of the process */
-    double max_abs_dchi2;      /* compressed against exact over those points with chi2 -
-                                * chi2_min < 50 (0 for the exact path) */
-} lt_bench;
+/* (lt_bench, the result, is report.h's: the report prints it.) */
 /* Read j's survey, build spec's likelihood, time evals evaluations at 200
  * points drawn from the best fit's Laplace posterior widened three times
  * (j's seed), and compare the compressed and exact paths there. */

@@ -49,6 +49,24 @@ void lt_report_sample_table(FILE *f, const lt_like *l, const lt_posterior *r,
 int lt_report_write_chains(const char *dir, const lt_like *l, const lt_posterior *r,
                            const lt_survey_spec *data, unsigned long seed, lt_error *err);
 
+/* ---- timing (lantern bench; lt_pipeline_bench fills it) ---- */
+
+typedef struct lt_bench {
+    const char *model;         /* its name (static) */
+    size_t n_data, knots;
+    int compressed;            /* the compressed path (0: the exact one) */
+    const char *covariance;    /* the covariance's kind (static) */
+    double evals_per_s;        /* one thread, at 200 points near the best fit */
+    double setup_s;            /* reading, factorising, compressing */
+    double peak_rss_mb;        /* of the process */
+    double max_abs_dchi2;      /* compressed against exact over those points with chi2 -
+                                * chi2_min < 50 (0 for the exact path) */
+} lt_bench;
+/* bench's result as JSON (model, n_data, path, knots, evals_per_s, setup_s,
+ * peak_rss_mb, max_abs_dchi2, covariance), and as a table on f. */
+struct cJSON *lt_report_bench_json(const lt_bench *b);
+void lt_report_bench_table(FILE *f, const lt_bench *b);
+
 /* ---- distances (lantern distance) ---- */
 
 /* Cosmology c's table t at the n redshifts z (every column filled), as a

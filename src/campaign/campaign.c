@@ -73,25 +73,9 @@ static int read_models(lt_ini *ini, lt_campaign *c, lt_error *err)
         return lt_error_set(err, LT_EINPUT, ini->path, 0,
                             "[campaign] needs models = M1, M2, ... (lcdm-flat, lcdm, wcdm-flat, "
                             "wcdm, w0wa-flat, w0wa)");
-    char buf[LT_INI_LINE_MAX + 1], *items[17];
-    snprintf(buf, sizeof buf, "%s", e->value);
-    size_t n = split_list(buf, items, 16);
-    if (n == 0 || n > 16)
-        return lt_error_set(err, LT_EINPUT, ini->path, e->line, "models: give 1 to 16 models");
-    for (size_t i = 0; i < n; i++) {
-        const lt_cosmo_model *m = lt_cosmo_model_find(items[i]);
-        if (!m)
-            return lt_error_set(err, LT_EINPUT, ini->path, e->line,
-                                "unknown model '%s' (lcdm-flat, lcdm, wcdm-flat, wcdm, "
-                                "w0wa-flat, w0wa)",
-                                items[i]);
-        for (size_t k = 0; k < c->nmodels; k++)
-            if (c->models[k] == m)
-                return lt_error_set(err, LT_EINPUT, ini->path, e->line,
-                                    "model %s is listed twice", m->name);
-        c->models[c->nmodels++] = m;
-    }
-    return LT_OK;
+    return lt_cosmo_model_list(e->value, ini->path, e->line, "models: ",
+                               sizeof c->models / sizeof c->models[0],
+                               c->models, &c->nmodels, err);
 }
 
 static int read_methods(lt_ini *ini, lt_campaign *c, lt_error *err)

@@ -1,13 +1,18 @@
 /* Fisher forecasts of survey designs: see lantern/campaign.h. */
 #include <math.h>
 #include <stdio.h>
+#include <stdlib.h>
 #include <string.h>
 
 #include <cjson/cJSON.h>
 #include <gsl/gsl_linalg.h>
 
 #include "lantern/ini.h"
+#include "lantern/file.h"
 #include "lantern/json.h"
+#include "lantern/outdir.h"
+#include "lantern/report.h"
+#include "lantern/version.h"
 #include "internal.h"
 
 int lt_forecast_read(const char *path, lt_scenario *sc, lt_like_spec *spec, lt_error *err)
@@ -26,12 +31,11 @@ int lt_forecast_read(const char *path, lt_scenario *sc, lt_like_spec *spec, lt_e
         goto done;
     if ((rc = lt_ini_string(ini, "forecast", "model", 0, &model, err)))
         goto done;
-    const lt_cosmo_model *m = model ? lt_cosmo_model_find(model) : sc->model;
+    const lt_cosmo_model *m =
+        model ? lt_cosmo_model_lookup(model, path, lt_ini_get(ini, "forecast", "model")->line, err)
+              : sc->model;
     if (!m) {
-        e = lt_ini_get(ini, "forecast", "model");
-        rc = lt_error_set(err, LT_EINPUT, path, e->line,
-                          "unknown model '%s' (lcdm-flat, lcdm, wcdm-flat, wcdm, w0wa-flat, w0wa)",
-                          model);
+        rc = err->code;
         goto done;
     }
     if ((e = lt_ini_get(ini, "forecast", "offset"))) {
@@ -127,7 +131,8 @@ int lt_forecast_run(const lt_scenario *sc, const lt_like_spec *spec, lt_forecast
     }
     size_t d = lt_like_dim(l);
     if (d == 0) {
-        rc = lt_error_set(err, LT_EINPUT, sc->path, 0, "every parameter is fixed: nothing to forecast");
+        rc = lt_error_set(err, LT_EINPUT, sc->path, 0,
+                          "every parameter is fixed: nothing to forecast");
         goto done;
     }
     f->dim = d;
@@ -343,4 +348,45 @@ void lt_forecast_print(FILE *out, const lt_scenario *sc, const lt_like_spec *spe
                 "  Albrecht et al. 2009, arXiv:0901.0721)\n"
                 "pivot: z_p = %.3f, sigma(w_p) = %.4g\n",
                 f->fom, f->z_pivot, f->w_pivot_sd);
+}
+
+int lt_forecast_write(const char *out, int force, const lt_scenario *sc,
+                      const lt_like_spec *spec, const lt_forecast *f, const cJSON *json,
+                      volatile sig_atomic_t *stop, lt_error *err)
+{
+    char what[128];
+    snprintf(what, sizeof what, "lantern %s forecast", LT_VERSION);
+    if (lt_outdir_prepare(out, force, err))
+        return err->code;
+    char *path = lt_path_join(out, "summary.json", err);
+    int rc = path ? lt_report_write_json(path, json, err) : LT_ENOMEM;
+    free(path);
+    /* the ellipse of w0-wa, else of the first two parameters */
+    size_t ix = 0, iy = 1, d = f->dim;
+    for (size_t i = 0; f->has_w0wa && i < d; i++) {
+        if (!strcmp(f->names[i], "w0"))
+            ix = i;
+        if (!strcmp(f->names[i], "wa"))
+            iy = i;
+    }
+    if (!rc && d >= 2) {
+        double cov[4] = {f->cov[ix * d + ix], f->cov[ix * d + iy], f->cov[iy * d + ix],
+                         f->cov[iy * d + iy]};
+        char name[128], title[256];
+        snprintf(name, sizeof name, "ellipse_%s_%s", f->names[ix], f->names[iy]);
+        if (f->has_w0wa)
+            snprintf(title, sizeof title, "%s, %s: FoM = %.3g", sc->name ? sc->name : "",
+                     spec->model->name, f->fom);
+        else
+            snprintf(title, sizeof title, "%s, %s", sc->name ? sc->name : "", spec->model->name);
+        rc = lt_report_write_ellipse(out, name, title, f->names[ix], f->names[iy],
+                                     f->fiducial[ix], f->fiducial[iy], cov, err);
+    }
+    if (!rc && stop && *stop)
+        rc = lt_error_set(err, LT_EINTR, NULL, 0, "interrupted");
+    if (!rc)
+        rc = lt_outdir_finish(out, what, err);
+    if (rc)
+        lt_outdir_abandon(out);
+    return rc;
 }

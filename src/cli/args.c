@@ -1,4 +1,5 @@
-/* Argument scanning and error printing for the command line. */
+/* Argument scanning, the run description's flags, and error printing. */
+#include <signal.h>
 #include <stdarg.h>
 #include <stdlib.h>
 #include <string.h>
@@ -9,12 +10,9 @@
 
 int cli_status(int code)
 {
-    switch (code) {
-    case LT_OK: return CLI_OK;
-    case LT_EINPUT:
-    case LT_EDOMAIN: return CLI_USAGE;
-    default: return CLI_FAILED;
-    }
+    return code == LT_OK ? CLI_OK
+           : code == LT_EINPUT || code == LT_EDOMAIN ? CLI_USAGE
+                                                     : CLI_FAILED;
 }
 
 int cli_report(const lt_error *err)
@@ -36,61 +34,150 @@ int cli_usage_error(const char *where, const char *fmt, ...)
     return CLI_USAGE;
 }
 
-cli_args cli_args_start(int argc, char **argv, int first)
-{
-    return (cli_args){argc, argv, first, 0};
-}
+/* ---- scanning: "--name VALUE", "--name=VALUE", "--switch", positionals ---- */
 
-int cli_args_more(const cli_args *a) { return !a->failed && a->i < a->argc; }
+typedef struct {
+    int argc;
+    char **argv;
+    int i;
+    int failed; /* a value was missing or refused; the message is printed */
+} scan;
 
-const char *cli_positional(cli_args *a)
-{
-    const char *s = a->argv[a->i];
-    if (strncmp(s, "--", 2) == 0)
-        return NULL;
-    a->i++;
-    return s;
-}
-
-int cli_take(cli_args *a, const char *name, const char **value)
+/* Take "--name VALUE" or "--name=VALUE" at the current argument. */
+static int take(scan *a, const char *name, const char **value)
 {
     const char *s = a->argv[a->i];
     size_t n = strlen(name);
-    if (strncmp(s, name, n) != 0)
+    if (strncmp(s, name, n) != 0 || (s[n] != '=' && s[n] != '\0'))
         return 0;
     if (s[n] == '=') {
         *value = s + n + 1;
         a->i++;
-        return 1;
-    }
-    if (s[n] != '\0')
-        return 0;
-    if (a->i + 1 >= a->argc) {
-        /* Leave i where it is: the caller's remaining tests see no match
-         * and cli_args_unknown returns CLI_USAGE for the failure. */
+    } else if (a->i + 1 >= a->argc) {
+        /* i stays: the scan ends with CLI_USAGE for the failure */
         cli_usage_error(name, "needs a value");
         a->failed = 1;
         return 0;
+    } else {
+        *value = a->argv[a->i + 1];
+        a->i += 2;
     }
-    *value = a->argv[a->i + 1];
-    a->i += 2;
     return 1;
 }
 
-int cli_flag(cli_args *a, const char *name)
+static int flag(scan *a, const char *name)
 {
-    if (strcmp(a->argv[a->i], name) != 0)
+    return !strcmp(a->argv[a->i], name) && ++a->i;
+}
+
+/* Take the current argument by opt: 1 if taken (a->failed set for a list
+ * given too often). */
+static int take_opt(scan *a, const cli_opt *o, const char *command)
+{
+    const char *v = a->argv[a->i];
+    if (!o->name[0]) { /* a positional: not a flag, and a free slot */
+        if (!strncmp(v, "--", 2) || (o->text && *o->text))
+            return 0;
+        a->i++;
+    } else if (o->flag)
+        return flag(a, o->name) && (*o->flag = 1);
+    else if (!take(a, o->name, &v))
         return 0;
-    a->i++;
+    if (o->text)
+        *o->text = v;
+    else if (*o->n == o->max) {
+        if (o->name[0])
+            cli_usage_error(o->name, "given more than %zu times", o->max);
+        else
+            cli_usage_error(command, "at most %zu arguments besides the options", o->max);
+        a->failed = 1;
+    } else {
+        if (o->origin)
+            o->origin[*o->n] = o->name;
+        o->list[(*o->n)++] = v;
+    }
     return 1;
 }
 
-int cli_args_unknown(const cli_args *a, const char *command)
+/* A flag of the run description (lantern/pipeline.h) in one of sections,
+ * or --quiet, --verbose or --force (with LT_JOB_OUTPUT): applied to j. */
+static int take_job(scan *a, lt_job *j, unsigned sections)
 {
-    if (a->failed)
-        return CLI_USAGE;
-    return cli_usage_error(command, "unknown argument '%s' (see 'lantern %s --help')",
-                           a->argv[a->i], command);
+    const char *arg = a->argv[a->i], *v = NULL;
+    if ((sections & LT_JOB_OUTPUT) && flag(a, "--quiet"))
+        return j->quiet = 1, 1;
+    if ((sections & LT_JOB_OUTPUT) && flag(a, "--verbose"))
+        return j->verbose = 1, 1;
+    if ((sections & LT_JOB_OUTPUT) && flag(a, "--force"))
+        return j->force = 1, 1;
+    char name[32];
+    size_t n = strcspn(arg, "=");
+    unsigned section;
+    int takes;
+    if (n >= sizeof name)
+        return 0;
+    memcpy(name, arg, n);
+    name[n] = '\0';
+    /* a setting of a section this command does not read is not its flag */
+    if (!lt_job_flag_find(name, &section, &takes) || !(section & sections))
+        return 0;
+    if (takes ? !take(a, name, &v) : !flag(a, name))
+        return 1; /* take printed the missing value and set a->failed */
+    lt_error err;
+    lt_error_clear(&err);
+    if (lt_job_flag(j, name, v, &err)) {
+        cli_report(&err);
+        a->failed = 1;
+    }
+    return 1;
+}
+
+int cli_options(int argc, char **argv, int first, const char *command, const char *help,
+                const cli_opt *opts, lt_job *j, unsigned sections, int *given)
+{
+    scan a = {argc, argv, first, 0};
+    while (!a.failed && a.i < argc) {
+        if (flag(&a, "--help")) {
+            if (help)
+                fputs(help, stdout);
+            return -1;
+        }
+        int taken = 0;
+        for (const cli_opt *o = opts; o && o->name && !taken && !a.failed; o++)
+            taken = take_opt(&a, o, command);
+        if (taken || a.failed)
+            continue;
+        if (!j || !take_job(&a, j, sections))
+            return cli_usage_error(command, "unknown argument '%s' (see 'lantern %s --help')",
+                                   argv[a.i], command);
+        if (given)
+            *given = 1;
+    }
+    return a.failed ? CLI_USAGE : CLI_OK;
+}
+
+int cli_job_args(int argc, char **argv, const char *command, const char *help,
+                 unsigned sections, const cli_opt *opts, lt_job *j, int *given)
+{
+    *given = argc > 1 && strncmp(argv[1], "--", 2) != 0;
+    int status = *given ? cli_job_load(j, argv[1], NULL, NULL, 0) : CLI_OK;
+    return status ? status
+                  : cli_options(argc, argv, 1 + *given, command, help, opts, j, sections, given);
+}
+
+int cli_job_load(lt_job *j, const char *path, const char *const *overrides,
+                 const char *const *origins, size_t n)
+{
+    lt_error err;
+    lt_error_clear(&err);
+    return lt_job_read(j, path, overrides, origins, n, &err) ? cli_report(&err) : CLI_OK;
+}
+
+int cli_job_model(const lt_job *j, lt_like_spec *spec)
+{
+    lt_error err;
+    lt_error_clear(&err);
+    return lt_job_model_spec(j, spec, &err) ? cli_report(&err) : CLI_OK;
 }
 
 int cli_parse_format(const char *text, unsigned allowed, cli_format *out)
@@ -111,6 +198,16 @@ int cli_parse_format(const char *text, unsigned allowed, cli_format *out)
     return cli_usage_error("--format", "'%s' is not one of %s", text, list);
 }
 
+const lt_cosmo_model *cli_model(const char *name)
+{
+    lt_error err;
+    const lt_cosmo_model *m = lt_cosmo_model_lookup(name, "--model", 0, &err);
+    if (!m)
+        cli_report(&err);
+    return m;
+}
+
+/* ---- printing ---- */
 
 void cli_print_warnings(const lt_survey *s)
 {
@@ -133,4 +230,27 @@ void cli_note(lt_note_kind kind, const char *text, void *quiet)
         fprintf(stderr, "lantern: %s%s\n", kind == LT_NOTE_WARNING ? "warning: " : "", text);
     else if (!*(const int *)quiet)
         fprintf(stderr, "%s\n", text);
+}
+
+/* ---- interruption ---- */
+
+/* The one piece of global state in lantern: set by the signal handler,
+ * read by the samplers between steps (the library gets a pointer to it). */
+static volatile sig_atomic_t stop_requested;
+
+static void on_signal(int sig)
+{
+    (void)sig;
+    stop_requested = 1;
+}
+
+volatile sig_atomic_t *cli_catch_signals(void)
+{
+    struct sigaction sa;
+    memset(&sa, 0, sizeof sa);
+    sa.sa_handler = on_signal;
+    sigaction(SIGINT, &sa, NULL);
+    sigaction(SIGTERM, &sa, NULL);
+    sigaction(SIGHUP, &sa, NULL);
+    return &stop_requested;
 }

@@ -33,30 +33,38 @@ int cli_usage_error(const char *where, const char *fmt, ...)
     __attribute__((format(printf, 2, 3)));
 
 /*
- * Scanning options: "--name VALUE" and "--name=VALUE". Use as
- *
- *     cli_args a = cli_args_start(argc, argv, 1);
- *     while (cli_args_more(&a)) {
- *         if (cli_take(&a, "--model", &value)) ...;
- *         else if (cli_flag(&a, "--help")) ...;
- *         else return cli_args_unknown(&a, "distance");
- *     }
- *     if (a.failed) return CLI_USAGE;
+ * A command's options, as a table ended by {NULL}:
+ *     {"--out", .text = &out}       "--out DIR" or "--out=DIR" (the last given)
+ *     {"--force", .flag = &force}   a switch: *flag = 1
+ *     {"--set", .list = v, .n = &n, .max = 64}   every value in order (with
+ *                                   .origin, the name each came with)
+ *     {"", .text = &file}           the positional argument (.list: several)
  */
-typedef struct cli_args {
-    int argc;
-    char **argv;
-    int i;
-    int failed; /* a value was missing; the message is already printed */
-} cli_args;
-
-cli_args cli_args_start(int argc, char **argv, int first);
-int cli_args_more(const cli_args *a);
-/* The current argument, if it does not start with "--" (a positional). */
-const char *cli_positional(cli_args *a);
-int cli_take(cli_args *a, const char *name, const char **value);
-int cli_flag(cli_args *a, const char *name);
-int cli_args_unknown(const cli_args *a, const char *command);
+typedef struct cli_opt {
+    const char *name;
+    const char **text;
+    int *flag;
+    const char **list, **origin;
+    size_t *n, max;
+} cli_opt;
+/* Scan argv[first..] by opts, then (j not NULL) the flags of the run
+ * description (lantern/pipeline.h) in sections (LT_JOB_ bits; with
+ * LT_JOB_OUTPUT also --quiet, --verbose and --force) into j, setting
+ * *given (if not NULL). --help prints help (if not NULL) and returns -1;
+ * otherwise the exit status, any usage error printed. */
+int cli_options(int argc, char **argv, int first, const char *command, const char *help,
+                const cli_opt *opts, lt_job *j, unsigned sections, int *given);
+/* The same after RUN.ini, when argv[1] is not a flag (read into j, and
+ * *given set, as by a run-description flag). */
+int cli_job_args(int argc, char **argv, const char *command, const char *help,
+                 unsigned sections, const cli_opt *opts, lt_job *j, int *given);
+/* lt_job_read, printing any error; returns the exit status. */
+int cli_job_load(lt_job *j, const char *path, const char *const *overrides,
+                 const char *const *origins, size_t n);
+/* lt_job_model_spec, printing any error; returns the exit status. */
+int cli_job_model(const lt_job *j, lt_like_spec *spec);
+/* The model called name (lt_cosmo_model_lookup); NULL, the error printed. */
+const lt_cosmo_model *cli_model(const char *name);
 
 /* Output formats. */
 typedef enum { CLI_TABLE, CLI_CSV, CLI_JSON } cli_format;
@@ -85,25 +93,6 @@ void cli_progress_end(cli_progress *pr);
 /* Print the survey's warnings to stderr. */
 void cli_print_warnings(const lt_survey *s);
 
-/* If the current argument is a flag of the run description (lantern/
- * pipeline.h) in one of sections (LT_JOB_ bits), or --quiet, --verbose or
- * --force (with LT_JOB_OUTPUT), apply it to j and return 1 (a->failed is set, the error printed,
- * for a bad value). */
-int cli_take_job(cli_args *a, lt_job *j, unsigned sections);
-/* A command's options: RUN.ini first (when argv[1] is not a flag), then
- * flags: own(a, ctx) for the command's own (1: taken; it may set
- * a->failed), else the run description's of sections. --help prints help.
- * *options: a run file or a run-description flag was given. Returns the
- * exit status (a usage error printed), or -1 after --help. */
-int cli_job_args(int argc, char **argv, const char *command, const char *help,
-                 unsigned sections, int (*own)(cli_args *a, void *ctx), void *ctx, lt_job *j,
-                 int *options);
-/* lt_job_read, printing any error; returns the exit status. */
-int cli_job_load(lt_job *j, const char *path, const char *const *overrides,
-                 const char *const *origins, size_t n);
-/* lt_job_model_spec, printing any error; returns the exit status. */
-int cli_job_model(const lt_job *j, lt_like_spec *spec);
-
 /* The whole command line: set-up, then the command argv[1]. */
 int cli_main(int argc, char **argv);
 /* The set-up every entry does once: third-party global state (main.c). */
@@ -121,7 +110,7 @@ int cli_bench(int argc, char **argv);
 int cli_campaign(int argc, char **argv);
 int cli_forecast(int argc, char **argv);
 /* Ctrl-C, SIGTERM and SIGHUP set the flag returned, for the samplers to
- * stop at their next safe point (job.c). */
+ * stop at their next safe point (args.c). */
 volatile sig_atomic_t *cli_catch_signals(void);
 
 int cli_report_runs(int argc, char **argv);

@@ -10,11 +10,6 @@
 
 #include "campaign.h"
 
-static void usage(FILE *f)
-{
-    fputs(cli_help_campaign, f);
-}
-
 /* A failure injected for the tests of the retry (LANTERN_TEST_FAIL_ONCE=I,J,...):
  * tasks I, J fail on their first attempt, as a machine that drops out would. */
 static int injected_failure(size_t index, int attempt)
@@ -118,36 +113,20 @@ static int finish(cli_campaign_state *cc, cli_format format, int interrupted)
 
 int cli_campaign_main(int argc, char **argv, const cli_campaign_runner *runner, int is_root)
 {
-    const char *file = NULL, *out = NULL, *resume = NULL, *fmt = "table";
+    const char *file = NULL, *out = NULL, *resume = NULL, *fmt = "table", *threads_text = NULL;
     int force = 0, quiet = 0;
     long threads = 0;
-    cli_args a = cli_args_start(argc, argv, 1);
-    while (cli_args_more(&a)) {
-        const char *v;
-        if (cli_flag(&a, "--help")) {
-            if (is_root)
-                usage(stdout);
-            return CLI_OK;
-        } else if (cli_take(&a, "--out", &v))
-            out = v;
-        else if (cli_take(&a, "--resume", &v))
-            resume = v;
-        else if (cli_take(&a, "--format", &v))
-            fmt = v;
-        else if (cli_take(&a, "--threads", &v)) {
-            if (lt_parse_long(v, 0, 1024, &threads))
-                return cli_usage_error("--threads", "'%s' is not a number from 0 to 1024", v);
-        } else if (cli_flag(&a, "--force"))
-            force = 1;
-        else if (cli_flag(&a, "--quiet"))
-            quiet = 1;
-        else if (!file && (v = cli_positional(&a)))
-            file = v;
-        else
-            return cli_args_unknown(&a, "campaign");
-    }
-    if (a.failed)
-        return CLI_USAGE;
+    const cli_opt opts[] = {{"--out", .text = &out},         {"--resume", .text = &resume},
+                            {"--format", .text = &fmt},      {"--threads", .text = &threads_text},
+                            {"--force", .flag = &force},     {"--quiet", .flag = &quiet},
+                            {"", .text = &file},             {0}};
+    /* only rank 0 speaks: the others would print the same words again */
+    int status = cli_options(argc, argv, 1, "campaign", is_root ? cli_help_campaign : NULL, opts,
+                             NULL, 0, NULL);
+    if (status)
+        return status < 0 ? CLI_OK : status;
+    if (threads_text && lt_parse_long(threads_text, 0, 1024, &threads))
+        return cli_usage_error("--threads", "'%s' is not a number from 0 to 1024", threads_text);
     cli_format format;
     if (cli_parse_format(fmt, 1u << CLI_TABLE | 1u << CLI_JSON, &format))
         return CLI_USAGE;
@@ -156,7 +135,7 @@ int cli_campaign_main(int argc, char **argv, const cli_campaign_runner *runner, 
                                            "to continue one, not both");
     if (!resume && !out) {
         if (is_root)
-            usage(stderr);
+            fputs(cli_help_campaign, stderr);
         return CLI_USAGE;
     }
     char *stored = NULL;
@@ -172,7 +151,6 @@ int cli_campaign_main(int argc, char **argv, const cli_campaign_runner *runner, 
     cli_campaign_state cc;
     memset(&cc, 0, sizeof cc);
     cc.quiet = quiet;
-    int status = CLI_OK;
     int ok = lt_campaign_read(file, &cc.c, &err) == LT_OK;
     free(stored);
     if (!ok && is_root)

@@ -11,40 +11,26 @@
 #include "cli.h"
 #include "lantern/report.h"
 
-
-/* What compare takes besides the run description's flags. */
-typedef struct {
-    const char *resume, *format, *threads;
-    int quiet, verbose;
-} own_flags;
-
-static int own(cli_args *a, void *ctx)
-{
-    own_flags *o = ctx;
-    const char *arg = a->argv[a->i];
-    if (!strcmp(arg, "--model") || !strncmp(arg, "--model=", 8)) {
-        cli_usage_error("--model", "compare takes --models M1,M2,...");
-        a->failed = 1;
-        return 1;
-    }
-    return cli_take(a, "--resume", &o->resume) || cli_take(a, "--format", &o->format) ||
-           cli_take(a, "--threads", &o->threads) || (cli_flag(a, "--quiet") && (o->quiet = 1)) ||
-           (cli_flag(a, "--verbose") && (o->verbose = 1));
-}
-
 int cli_compare(int argc, char **argv)
 {
     lt_job j;
     lt_job_init(&j);
-    own_flags o = {NULL, NULL, NULL, 0, 0};
-    int options, status;
+    const char *resume = NULL, *fmt = NULL, *threads = NULL, *model = NULL;
+    int quiet = 0, verbose = 0, options, status;
+    /* besides the run description's: these also go with --resume alone */
+    const cli_opt opts[] = {{"--resume", .text = &resume},   {"--format", .text = &fmt},
+                            {"--threads", .text = &threads}, {"--quiet", .flag = &quiet},
+                            {"--verbose", .flag = &verbose}, {"--model", .text = &model},
+                            {0}};
     lt_comparison *c = calloc(1, sizeof *c); /* large: on the heap */
     if (!c)
         return cli_usage_error("compare", "out of memory");
     status = cli_job_args(argc, argv, "compare", cli_help_compare,
                           LT_JOB_RUN | LT_JOB_DATA | LT_JOB_MODEL | LT_JOB_PARAMS | LT_JOB_FIT |
                               LT_JOB_NESTED | LT_JOB_OUTPUT,
-                          own, &o, &j, &options);
+                          opts, &j, &options);
+    if (!status && model)
+        status = cli_usage_error("--model", "compare takes --models M1,M2,...");
     if (status)
         goto done;
     lt_error err;
@@ -53,33 +39,33 @@ int cli_compare(int argc, char **argv)
      * (a comparison that wrote none, or a resume given the options again,
      * takes them from the options, and each model's checkpoint refuses
      * other ones) */
-    if (o.resume && !options &&
-        lt_job_resume(&j, o.resume,
+    if (resume && !options &&
+        lt_job_resume(&j, resume,
                       "give the comparison's options again with --resume, or the folder of a "
                       "stopped lantern compare run",
                       &err)) {
         status = cli_report(&err);
         goto done;
     }
-    if (o.threads && lt_job_flag(&j, "--threads", o.threads, &err)) {
+    if (threads && lt_job_flag(&j, "--threads", threads, &err)) {
         status = cli_report(&err);
         goto done;
     }
-    if (o.format)
-        j.format = o.format;
-    j.quiet |= o.quiet, j.verbose |= o.verbose;
+    if (fmt)
+        j.format = fmt;
+    j.quiet |= quiet, j.verbose |= verbose;
     cli_format format;
     if ((status = cli_parse_format(j.format, (1u << CLI_TABLE) | (1u << CLI_JSON), &format)))
         goto done;
-    if (o.resume) {
-        if (j.out && strcmp(j.out, o.resume) != 0) {
+    if (resume) {
+        if (j.out && strcmp(j.out, resume) != 0) {
             status = cli_usage_error("--resume", "give --resume DIR instead of --out, not both");
             goto done;
         }
-        j.out = o.resume;
+        j.out = resume;
     }
     lt_pipeline_hooks hooks = {NULL, cli_note, &j.quiet};
-    int rc = lt_pipeline_compare_job(&j, o.resume != NULL, cli_catch_signals(), &hooks, c, &err);
+    int rc = lt_pipeline_compare_job(&j, resume != NULL, cli_catch_signals(), &hooks, c, &err);
     if (rc == LT_EINTR && j.out) {
         fprintf(stderr,
                 "lantern: interrupted; %s/checkpoint holds the state of every model so far: "

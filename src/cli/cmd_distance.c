@@ -23,44 +23,25 @@ int cli_distance(int argc, char **argv)
 {
     const char *model_name = NULL, *z_list = NULL, *z_range = NULL, *format_text = "table";
     const char *sets[64];
-    int nsets = 0;
-    cli_args a = cli_args_start(argc, argv, 1);
-    while (cli_args_more(&a)) {
-        const char *v;
-        if (cli_flag(&a, "--help")) {
-            usage(stdout);
-            return CLI_OK;
-        } else if (cli_take(&a, "--model", &v)) {
-            model_name = v;
-        } else if (cli_take(&a, "--set", &v)) {
-            if (nsets == 64)
-                return cli_usage_error("--set", "given more than 64 times");
-            sets[nsets++] = v;
-        } else if (cli_take(&a, "--z", &v)) {
-            z_list = v;
-        } else if (cli_take(&a, "--z-range", &v)) {
-            z_range = v;
-        } else if (cli_take(&a, "--format", &v)) {
-            format_text = v;
-        } else {
-            return cli_args_unknown(&a, "distance");
-        }
-    }
-    if (a.failed)
-        return CLI_USAGE;
+    size_t nsets = 0;
+    const cli_opt opts[] = {{"--model", .text = &model_name},
+                            {"--set", .list = sets, .n = &nsets, .max = 64},
+                            {"--z", .text = &z_list},
+                            {"--z-range", .text = &z_range},
+                            {"--format", .text = &format_text},
+                            {0}};
     cli_format format;
-    int status = cli_parse_format(format_text, 7u, &format);
-    if (status)
-        return status;
+    int status = cli_options(argc, argv, 1, "distance", NULL, opts, NULL, 0, NULL);
+    if (status < 0)
+        usage(stdout);
+    if (status || (status = cli_parse_format(format_text, 7u, &format)))
+        return status < 0 ? CLI_OK : status;
     if (!model_name)
         return cli_usage_error("distance", "--model is required (see 'lantern distance "
                                            "--help' for the models)");
-    const lt_cosmo_model *m = lt_cosmo_model_find(model_name);
+    const lt_cosmo_model *m = cli_model(model_name);
     if (!m)
-        return cli_usage_error("--model",
-                               "unknown model '%s' (models: lcdm-flat, lcdm, wcdm-flat, "
-                               "wcdm, w0wa-flat, w0wa)",
-                               model_name);
+        return CLI_USAGE;
     if (!z_list == !z_range)
         return cli_usage_error("distance", "give exactly one of --z and --z-range");
 
@@ -68,7 +49,7 @@ int cli_distance(int argc, char **argv)
     lt_cosmo_params_default(&p);
     unsigned seen = 0;
     lt_error err;
-    for (int i = 0; i < nsets; i++)
+    for (size_t i = 0; i < nsets; i++)
         if (lt_cosmo_params_parse(&p, m, sets[i], &seen, "--set", &err))
             return cli_report(&err);
 

@@ -12,39 +12,18 @@
 
 #define NBINS 10
 
-static void usage(FILE *f)
-{
-    fputs(cli_help_inspect, f);
-}
-
 int cli_inspect(int argc, char **argv)
 {
     lt_job j;
     lt_job_init(&j);
     const char *format_text = "table";
-    int status = CLI_OK;
     lt_survey *s = NULL;
-    cli_args a = cli_args_start(argc, argv, 1);
-    while (cli_args_more(&a)) {
-        const char *v;
-        if (cli_flag(&a, "--help")) {
-            usage(stdout);
-            goto done;
-        } else if (cli_take_job(&a, &j, LT_JOB_DATA)) {
-            continue;
-        } else if (cli_take(&a, "--format", &v)) {
-            format_text = v;
-        } else {
-            status = cli_args_unknown(&a, "inspect");
-            goto done;
-        }
-    }
+    const cli_opt opts[] = {{"--format", .text = &format_text}, {0}};
     cli_format format;
-    if (a.failed)
-        status = CLI_USAGE;
-    else
-        status = cli_parse_format(format_text, (1u << CLI_TABLE) | (1u << CLI_JSON), &format);
-    if (status)
+    int status = cli_options(argc, argv, 1, "inspect", cli_help_inspect, opts, &j, LT_JOB_DATA,
+                             NULL);
+    if (status ||
+        (status = cli_parse_format(format_text, (1u << CLI_TABLE) | (1u << CLI_JSON), &format)))
         goto done;
     lt_error err;
     lt_error_clear(&err);
@@ -66,5 +45,5 @@ int cli_inspect(int argc, char **argv)
 done:
     lt_survey_free(s);
     lt_job_free(&j);
-    return status;
+    return status < 0 ? CLI_OK : status;
 }

@@ -7,16 +7,10 @@
 #include <stdlib.h>
 #include <string.h>
 
-
 #include "cli.h"
 #include "lantern/report.h"
 
 #define MAX_MODELS 16
-
-static void usage_run(FILE *f)
-{
-    fputs(cli_help_run, f);
-}
 
 static void print_constraints(const char *dir)
 {
@@ -30,68 +24,47 @@ static void print_constraints(const char *dir)
 
 int cli_run(int argc, char **argv)
 {
-    if (argc > 1 && !strcmp(argv[1], "--help")) {
-        usage_run(stdout);
-        return CLI_OK;
-    }
-    if (argc < 2 || !strncmp(argv[1], "--", 2))
-        return cli_usage_error("run", "give the run file first (see 'lantern run --help')");
-    const char *sets[64], *set_flags[64], *out = NULL, *resume = NULL;
-    int warned_set = 0, over = 0;
+    const char *file = NULL, *out = NULL, *resume = NULL, *threads = NULL;
+    const char *sets[64], *set_flags[64];
     size_t nsets = 0;
     int force = 0, quiet = 0, verbose = 0;
-    long threads_flag = -1; /* -1: as the run file says */
-    cli_args a = cli_args_start(argc, argv, 2);
-    while (cli_args_more(&a)) {
-        const char *v;
-        if (cli_flag(&a, "--help")) {
-            usage_run(stdout);
-            return CLI_OK;
-        } else if (cli_take(&a, "--out", &v)) {
-            out = v;
-        } else if (cli_take(&a, "--resume", &v)) {
-            resume = v;
-        } else if (cli_flag(&a, "--force")) {
-            force = 1;
-        } else if (cli_flag(&a, "--quiet")) {
-            quiet = 1;
-        } else if (cli_flag(&a, "--verbose")) {
-            verbose = 1;
-        } else if (cli_take(&a, "--threads", &v)) {
-            if (lt_parse_long(v, 0, 256, &threads_flag))
-                return cli_usage_error("--threads", "'%s' is not a whole number from 0 to 256", v);
-        } else if ((over = cli_take(&a, "--override", &v)) || cli_take(&a, "--set", &v)) {
-            /* --set is --override's old name, kept for one release: elsewhere
-             * (distance) --set sets parameter values, and it will only mean that */
-            const char *flag = over ? "--override" : "--set";
-            if (!strcmp(flag, "--set") && !warned_set++)
-                fputs("lantern: warning: 'run --set section.key=value' is now 'run --override "
-                      "section.key=value'; --set will be refused here in a later release\n",
-                      stderr);
-            if (nsets == 64)
-                return cli_usage_error(flag, "given more than 64 times");
-            set_flags[nsets] = flag;
-            sets[nsets++] = v;
-        } else {
-            return cli_args_unknown(&a, "run");
+    /* --set is --override's old name, kept for one release: elsewhere
+     * (distance) --set sets parameter values, and it will only mean that */
+    const cli_opt opts[] = {
+        {"--out", .text = &out}, {"--resume", .text = &resume}, {"--threads", .text = &threads},
+        {"--force", .flag = &force}, {"--quiet", .flag = &quiet}, {"--verbose", .flag = &verbose},
+        {"--override", .list = sets, .origin = set_flags, .n = &nsets, .max = 64},
+        {"--set", .list = sets, .origin = set_flags, .n = &nsets, .max = 64},
+        {"", .text = &file}, {0}};
+    int status = cli_options(argc, argv, 1, "run", cli_help_run, opts, NULL, 0, NULL);
+    if (status)
+        return status < 0 ? CLI_OK : status;
+    if (!file)
+        return cli_usage_error("run", "give the run file (see 'lantern run --help')");
+    for (size_t i = 0; i < nsets; i++)
+        if (!strcmp(set_flags[i], "--set")) {
+            fputs("lantern: warning: 'run --set section.key=value' is now 'run --override "
+                  "section.key=value'; --set will be refused here in a later release\n",
+                  stderr);
+            break;
         }
-    }
-    if (a.failed)
-        return CLI_USAGE;
     lt_job j;
     lt_job_init(&j);
     char *dir = NULL;
-    int status = cli_job_load(&j, argv[1], sets, set_flags, nsets), unconverged = 0;
-    if (status)
-        goto done;
-    j.quiet |= quiet, j.verbose |= verbose;
-    if (threads_flag >= 0)
-        j.threads = threads_flag;
+    int unconverged = 0;
     lt_error err;
     lt_error_clear(&err);
+    if ((status = cli_job_load(&j, file, sets, set_flags, nsets)))
+        goto done;
+    /* --threads by the run file's rule, which names the flag */
+    if (threads && lt_job_flag(&j, "--threads", threads, &err)) {
+        status = cli_report(&err);
+        goto done;
+    }
+    j.quiet |= quiet, j.verbose |= verbose;
     cli_progress pr;
     lt_pipeline_hooks hooks = cli_progress_start(&pr, &j);
-    lt_run_job_opts o = {argv[1], resume ? resume : out, resume != NULL, force,
+    lt_run_job_opts o = {file, resume ? resume : out, resume != NULL, force,
                          cli_catch_signals(), &hooks};
     int stage;
     int rc = lt_pipeline_run_job(&j, &o, &dir, &unconverged, &stage, &err);
@@ -113,7 +86,7 @@ int cli_run(int argc, char **argv)
     /* the way back, if there is one: a run stopped before it wrote
      * anything leaves no folder */
     if (status == CLI_FAILED && dir && lt_path_exists(dir))
-        fprintf(stderr, "lantern: continue with 'lantern run %s --resume %s'\n", argv[1], dir);
+        fprintf(stderr, "lantern: continue with 'lantern run %s --resume %s'\n", file, dir);
     else if (status == CLI_FAILED)
         fputs("lantern: nothing was saved; run it again\n", stderr);
 done:
@@ -123,36 +96,16 @@ done:
 }
 
 /* ---- lantern report ---- */
-static void usage_report(FILE *f)
-{
-    fputs(cli_help_report, f);
-}
-
 int cli_report_runs(int argc, char **argv)
 {
     const char *runs[MAX_MODELS], *out = NULL;
     size_t nr = 0;
     int force = 0;
-    cli_args a = cli_args_start(argc, argv, 1);
-    while (cli_args_more(&a)) {
-        const char *v;
-        if (cli_flag(&a, "--help")) {
-            usage_report(stdout);
-            return CLI_OK;
-        } else if (cli_take(&a, "--out", &v)) {
-            out = v;
-        } else if (cli_flag(&a, "--force")) {
-            force = 1;
-        } else if ((v = cli_positional(&a))) {
-            if (nr == MAX_MODELS)
-                return cli_usage_error("report", "at most %d runs", MAX_MODELS);
-            runs[nr++] = v;
-        } else {
-            return cli_args_unknown(&a, "report");
-        }
-    }
-    if (a.failed)
-        return CLI_USAGE;
+    const cli_opt opts[] = {{"--out", .text = &out}, {"--force", .flag = &force},
+                            {"", .list = runs, .n = &nr, .max = MAX_MODELS}, {0}};
+    int status = cli_options(argc, argv, 1, "report", cli_help_report, opts, NULL, 0, NULL);
+    if (status)
+        return status < 0 ? CLI_OK : status;
     if (nr == 0)
         return cli_usage_error("report", "give at least one run folder");
     if (nr > 1 && !out)
@@ -162,7 +115,6 @@ int cli_report_runs(int argc, char **argv)
     lt_report_set rs;
     lt_report_set_init(&rs);
     int prepared = 0;
-    int status = CLI_OK;
     for (size_t r = 0; r < nr; r++)
         if (lt_report_set_add_run(&rs, runs[r], nr > 1, &err)) {
             status = cli_report(&err);

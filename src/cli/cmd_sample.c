@@ -54,26 +54,15 @@ static int sample_model(lt_job *j, lt_like *l, const lt_like_spec *spec, int res
     return status;
 }
 
-/* What sample takes besides the run description's flags. */
-typedef struct {
-    const char *resume, *format;
-    int quiet, verbose;
-} own_flags;
-
-static int own(cli_args *a, void *ctx)
-{
-    own_flags *o = ctx;
-    return cli_take(a, "--resume", &o->resume) || cli_take(a, "--format", &o->format) ||
-           (cli_flag(a, "--quiet") && (o->quiet = 1)) ||
-           (cli_flag(a, "--verbose") && (o->verbose = 1));
-}
-
 int cli_sample(int argc, char **argv)
 {
     lt_job j;
     lt_job_init(&j);
-    own_flags o = {NULL, NULL, 0, 0};
-    int options, status;
+    const char *resume = NULL, *fmt = NULL;
+    int quiet = 0, verbose = 0, options, status;
+    /* besides the run description's: these also go with --resume */
+    const cli_opt opts[] = {{"--resume", .text = &resume}, {"--format", .text = &fmt},
+                            {"--quiet", .flag = &quiet}, {"--verbose", .flag = &verbose}, {0}};
     lt_survey *s = NULL;
     lt_like *l = NULL;
     lt_error err;
@@ -81,22 +70,22 @@ int cli_sample(int argc, char **argv)
     status = cli_job_args(argc, argv, "sample", cli_help_sample,
                           LT_JOB_DATA | LT_JOB_MODEL | LT_JOB_PARAMS | LT_JOB_FIT |
                               LT_JOB_SAMPLER | LT_JOB_OUTPUT,
-                          own, &o, &j, &options);
+                          opts, &j, &options);
     if (status)
         goto done;
-    if (o.resume && options) {
+    if (resume && options) {
         status = cli_usage_error("--resume", "takes no other options than --format, --quiet and "
                                              "--verbose: the run's settings are in its "
                                              "checkpoint");
         goto done;
     }
-    if (o.resume && lt_job_resume(&j, o.resume, "not a stopped lantern sample run", &err)) {
+    if (resume && lt_job_resume(&j, resume, "not a stopped lantern sample run", &err)) {
         status = cli_report(&err);
         goto done;
     }
-    if (o.format)
-        j.format = o.format;
-    j.quiet |= o.quiet, j.verbose |= o.verbose;
+    if (fmt)
+        j.format = fmt;
+    j.quiet |= quiet, j.verbose |= verbose;
     cli_format format;
     if ((status = cli_parse_format(j.format, (1u << CLI_TABLE) | (1u << CLI_JSON), &format)))
         goto done;
@@ -108,7 +97,7 @@ int cli_sample(int argc, char **argv)
         goto done;
     }
     cli_print_warnings(s);
-    status = sample_model(&j, l, &spec, o.resume != NULL, format);
+    status = sample_model(&j, l, &spec, resume != NULL, format);
 done:
     lt_like_free(l);
     lt_survey_free(s);

@@ -7,33 +7,15 @@
 #include "cli.h"
 #include "lantern/simulate.h"
 
-static void usage(FILE *f)
-{
-    fputs(cli_help_simulate, f);
-}
-
 int cli_simulate(int argc, char **argv)
 {
     const char *scenario = NULL, *out = NULL;
     int force = 0;
-    cli_args a = cli_args_start(argc, argv, 1);
-    while (cli_args_more(&a)) {
-        const char *v;
-        if (cli_flag(&a, "--help")) {
-            usage(stdout);
-            return CLI_OK;
-        } else if (cli_take(&a, "--out", &v)) {
-            out = v;
-        } else if (cli_flag(&a, "--force")) {
-            force = 1;
-        } else if (!scenario && (v = cli_positional(&a))) {
-            scenario = v;
-        } else {
-            return cli_args_unknown(&a, "simulate");
-        }
-    }
-    if (a.failed)
-        return CLI_USAGE;
+    const cli_opt opts[] = {
+        {"--out", .text = &out}, {"--force", .flag = &force}, {"", .text = &scenario}, {0}};
+    int status = cli_options(argc, argv, 1, "simulate", cli_help_simulate, opts, NULL, 0, NULL);
+    if (status)
+        return status < 0 ? CLI_OK : status;
     if (!scenario)
         return cli_usage_error("simulate", "give a scenario file (see 'lantern simulate --help')");
     if (!out)
@@ -44,7 +26,6 @@ int cli_simulate(int argc, char **argv)
     if (lt_scenario_read(scenario, &sc, &err))
         return cli_report(&err);
     lt_sim sim;
-    int status = CLI_OK;
     /* the folder first: refuse before the work, not after it */
     if (lt_outdir_prepare(out, force, &err)) {
         lt_scenario_free(&sc);

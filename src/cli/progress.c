@@ -29,9 +29,11 @@ static void on_check(const lt_progress *d, void *p)
     char eta[32] = "";
     if (isfinite(left) && !d->converged)
         snprintf(eta, sizeof eta, ", about %.0f s left", left);
-    fprintf(stderr, "%ssampling: %zu draws per chain, worst R-hat %.4f, smallest ESS %.0f, %.1f s%s%s",
-            pr->tty && !pr->verbose ? "\r" : "", d->draws_per_chain, d->rhat_max, d->ess_min, t,
-            eta, pr->tty && !pr->verbose ? "   " : "\n");
+    int inplace = pr->tty && !pr->verbose;
+    fprintf(stderr,
+            "%ssampling: %zu draws per chain, worst R-hat %.4f, smallest ESS %.0f, %.1f s%s%s",
+            inplace ? "\r" : "", d->draws_per_chain, d->rhat_max, d->ess_min, t, eta,
+            inplace ? "   " : "\n");
     pr->printed = 1;
 }
 
@@ -46,7 +48,9 @@ static void on_note(lt_note_kind kind, const char *text, void *p)
         fputc('\n', stderr);
     pr->printed = 0;
     fprintf(stderr, "%s%s\n",
-            kind == LT_NOTE_PROGRESS ? "" : kind == LT_NOTE_NEWS ? "lantern: " : "lantern: warning: ",
+            kind == LT_NOTE_PROGRESS ? ""
+            : kind == LT_NOTE_NEWS   ? "lantern: "
+                                     : "lantern: warning: ",
             text);
     clock_gettime(CLOCK_MONOTONIC, &pr->start);
 }

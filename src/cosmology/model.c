@@ -11,6 +11,7 @@
  */
 #include <math.h>
 #include <stddef.h>
+#include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 
@@ -95,6 +96,48 @@ const lt_cosmo_model *lt_cosmo_model_find(const char *name)
         if (strcmp(models[i].name, name) == 0)
             return &models[i];
     return NULL;
+}
+
+const lt_cosmo_model *lt_cosmo_model_lookup(const char *name, const char *file, long line,
+                                            lt_error *err)
+{
+    const lt_cosmo_model *m = lt_cosmo_model_find(name);
+    if (m)
+        return m;
+    /* the list from the table itself, so that no message goes stale */
+    char list[256] = "";
+    for (size_t i = 0, used = 0; i < lt_cosmo_model_count() && used < sizeof list; i++)
+        used += (size_t)snprintf(list + used, sizeof list - used, "%s%s", i ? ", " : "",
+                                 models[i].name);
+    lt_error_set(err, LT_EINPUT, file, line, "unknown model '%s' (models: %s)", name, list);
+    return NULL;
+}
+
+int lt_cosmo_model_list(const char *text, const char *file, long line, const char *what,
+                        size_t max, const lt_cosmo_model **out, size_t *n, lt_error *err)
+{
+    *n = 0;
+    for (const char *p = text; *p;) {
+        size_t len = strcspn(p, ", \t");
+        if (len) {
+            char name[64];
+            snprintf(name, sizeof name, "%.*s", (int)len, p);
+            lt_error unknown;
+            const lt_cosmo_model *m = lt_cosmo_model_lookup(name, file, line, &unknown);
+            if (!m) /* the lookup's message (with the list of models), after what */
+                return lt_error_set(err, LT_EINPUT, file, line, "%s%s", what, unknown.msg);
+            for (size_t k = 0; k < *n; k++)
+                if (out[k] == m)
+                    return lt_error_set(err, LT_EINPUT, file, line, "%s%s is listed twice",
+                                        what, name);
+            if (*n == max)
+                return lt_error_set(err, LT_EINPUT, file, line, "%sat most %zu models", what,
+                                    max);
+            out[(*n)++] = m;
+        }
+        p += len + (p[len] != '\0');
+    }
+    return *n ? LT_OK : lt_error_set(err, LT_EINPUT, file, line, "%sno models given", what);
 }
 
 int lt_cosmo_model_uses(const lt_cosmo_model *m, int id)

@@ -123,32 +123,16 @@ void lt_comparison_free(lt_comparison *c)
     memset(c, 0, sizeof *c);
 }
 
-/* j's [run] models into c's names, each a known model, none twice. */
+/* j's --models into c, each a known model, none twice. */
 static int model_list(const lt_job *j, lt_comparison *c, lt_error *err)
 {
     if (!j->models)
         return lt_error_set(err, LT_EINPUT, NULL, 0, "--models M1,M2,... is required");
-    const char *p = j->models;
-    while (*p) {
-        size_t len = strcspn(p, ", \t");
-        if (len) {
-            if (c->n == LT_MAX_COMPARED)
-                return lt_error_set(err, LT_EINPUT, "--models", 0, "at most %d models",
-                                    LT_MAX_COMPARED);
-            snprintf(c->names[c->n], sizeof c->names[c->n], "%.*s", (int)len, p);
-            if (!lt_cosmo_model_find(c->names[c->n]))
-                return lt_error_set(err, LT_EINPUT, "--models", 0, "unknown model '%s'",
-                                    c->names[c->n]);
-            for (size_t k = 0; k < c->n; k++)
-                if (!strcmp(c->names[k], c->names[c->n]))
-                    return lt_error_set(err, LT_EINPUT, "--models", 0, "lists %s twice",
-                                        c->names[k]);
-            c->m[c->n].name = c->names[c->n];
-            c->n++;
-        }
-        p += len + (p[len] != '\0');
-    }
-    return c->n ? LT_OK : lt_error_set(err, LT_EINPUT, "--models", 0, "no models given");
+    const lt_cosmo_model *m[LT_MAX_COMPARED];
+    int rc = lt_cosmo_model_list(j->models, "--models", 0, "", LT_MAX_COMPARED, m, &c->n, err);
+    for (size_t k = 0; !rc && k < c->n; k++)
+        c->m[k].name = m[k]->name;
+    return rc;
 }
 
 int lt_pipeline_compare_job(lt_job *j, int resume, volatile sig_atomic_t *stop,

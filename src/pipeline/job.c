@@ -567,13 +567,8 @@ int lt_job_model_spec(const lt_job *j, lt_like_spec *spec, lt_error *err)
         return lt_error_set(err, LT_EINPUT, NULL, 0,
                             "--model is required (lcdm-flat, lcdm, wcdm-flat, wcdm, w0wa-flat, "
                             "w0wa)");
-    const lt_cosmo_model *m = lt_cosmo_model_find(j->model);
-    if (!m)
-        return lt_error_set(err, LT_EINPUT, "--model", 0,
-                            "unknown model '%s' (models: lcdm-flat, lcdm, wcdm-flat, wcdm, "
-                            "w0wa-flat, w0wa)",
-                            j->model);
-    return lt_job_like_spec(j, m, spec, err);
+    const lt_cosmo_model *m = lt_cosmo_model_lookup(j->model, "--model", 0, err);
+    return m ? lt_job_like_spec(j, m, spec, err) : err->code;
 }
 
 int lt_job_survey(const lt_job *j, lt_survey **s, lt_error *err)

@@ -46,35 +46,16 @@ int lt_pipeline_report(lt_report_set *rs, const char *dir, const char *name, con
     return LT_OK;
 }
 
-/* [run] models, checked: known models, none twice; into names (copies). */
-static int model_list(const lt_job *j, const char *run_file, char names[][LT_NAME_MAX],
-                      size_t *n, lt_error *err)
+/* j's [run] models: each a known model, none twice. */
+static int model_list(const lt_job *j, const char *run_file, const lt_cosmo_model **m, size_t *n,
+                      lt_error *err)
 {
-    *n = 0;
     if (!j->models)
         return lt_error_set(err, LT_EINPUT, run_file, 0,
                             "[run] needs models = M1, M2, ... (lcdm-flat, lcdm, wcdm-flat, wcdm, "
                             "w0wa-flat, w0wa)");
-    for (const char *p = j->models; *p;) {
-        size_t len = strcspn(p, ", \t");
-        if (len) {
-            char name[LT_NAME_MAX];
-            snprintf(name, sizeof name, "%.*s", (int)len, p);
-            if (!lt_cosmo_model_find(name))
-                return lt_error_set(err, LT_EINPUT, run_file, 0,
-                                    "[run] models: unknown model '%s'", name);
-            for (size_t k = 0; k < *n; k++)
-                if (!strcmp(names[k], name))
-                    return lt_error_set(err, LT_EINPUT, run_file, 0,
-                                        "[run] models lists %s twice", name);
-            if (*n == LT_REPORT_MAX_MODELS)
-                return lt_error_set(err, LT_EINPUT, run_file, 0, "[run] models: at most %d",
-                                    LT_REPORT_MAX_MODELS);
-            memcpy(names[(*n)++], name, sizeof name);
-        }
-        p += len + (p[len] != '\0');
-    }
-    return *n ? LT_OK : lt_error_set(err, LT_EINPUT, run_file, 0, "[run] models is empty");
+    return lt_cosmo_model_list(j->models, run_file, 0, "[run] models: ", LT_REPORT_MAX_MODELS, m,
+                               n, err);
 }
 
 /* The folder of a resumed run must hold a run's output ("report" too:
@@ -144,14 +125,15 @@ int lt_pipeline_run_job(lt_job *j, const lt_run_job_opts *o, char **dir, int *un
     *dir = NULL;
     *unconverged = 0;
     *stage = 0;
-    char names[LT_REPORT_MAX_MODELS][LT_NAME_MAX], what[128], text[600];
+    const lt_cosmo_model *models[LT_REPORT_MAX_MODELS];
+    char what[128], text[600];
     size_t n;
     lt_survey *s = NULL;
     lt_report_set rs;
     lt_report_set_init(&rs);
     int rc, prepared = 0;
     j->lenient = 1; /* a prior applies to the models that have the parameter */
-    if ((rc = model_list(j, o->run_file, names, &n, err)))
+    if ((rc = model_list(j, o->run_file, models, &n, err)))
         return rc;
     /* the folder: out/NAME by default, NAME from [run] name or the file's stem */
     char stem[256];
@@ -179,8 +161,8 @@ int lt_pipeline_run_job(lt_job *j, const lt_run_job_opts *o, char **dir, int *un
     if ((rc = lt_outdir_mark(*dir, what, err)))
         goto done;
     for (size_t k = 0; k < n; k++)
-        if ((rc = lt_report_set_add(&rs, *dir, names[k], NULL, err)) ||
-            (rc = one_model(j, s, names[k], k, n, rs.dirs[k], o, stage, err)))
+        if ((rc = lt_report_set_add(&rs, *dir, models[k]->name, NULL, err)) ||
+            (rc = one_model(j, s, models[k]->name, k, n, rs.dirs[k], o, stage, err)))
             goto done;
     snprintf(text, sizeof text, "report: tables and figures in %s/", *dir);
     pipeline_say(o->hooks, LT_NOTE_PROGRESS, text);

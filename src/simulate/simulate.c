@@ -95,12 +95,8 @@ static int read_cosmology_section(lt_ini *ini, lt_scenario *sc, lt_error *err)
     if (rc)
         return rc;
     lt_ini_entry *me = lt_ini_get(ini, "cosmology", "model");
-    sc->model = lt_cosmo_model_find(model);
-    if (!sc->model)
-        return lt_error_set(err, LT_EINPUT, ini->path, me->line,
-                            "unknown model '%s' (models: lcdm-flat, lcdm, wcdm-flat, wcdm, "
-                            "w0wa-flat, w0wa)",
-                            model);
+    if (!(sc->model = lt_cosmo_model_lookup(model, ini->path, me->line, err)))
+        return err->code;
     lt_cosmo_params_default(&sc->params);
     for (size_t i = 0; i < ini->n; i++) {
         lt_ini_entry *e = &ini->entries[i];

@@ -126,6 +126,11 @@ run "$LANTERN" distance --model lcdm-flat --z 1 --bogus
 expect_error "unknown option" 2 "unknown argument '--bogus'"
 run "$LANTERN" distance --model
 expect_error "option without its value" 2 "--model: needs a value"
+run "$LANTERN" distance --model=lcdm-flat --z=0.5 --set=h0=70 --format=csv
+expect_stdout "--flag=value works as --flag value" "^0\.5,"
+SETS=(); for i in $(seq 65); do SETS+=(--set h0=70); done
+run "$LANTERN" distance --model lcdm-flat --z 1 "${SETS[@]}"
+expect_error "a repeated option past its limit" 2 "--set: given more than 64 times"
 
 # A write error (full disk) is a failed run, status 1, not a silent success.
 if [ -w /dev/full ]; then

@@ -183,3 +183,39 @@ assert "age_gyr" in j["derived"] and j["offset"]["mode"] == "sampled"
 # h0 and M are degenerate: h0 follows the calibration, 5 log10 h0 - M fixed
 assert 60 < j["params"]["h0"]["best"] < 80
 ' "$OUT" && pass "a prior on offset samples it and frees h0" || fail "a prior on offset samples it and frees h0"
+
+# ---- lantern bench (fit's data and model flags): what it reports ----
+# The demo survey: its rows counted here, independently of lantern. The
+# compressed path must follow the exact one: its knots are chosen for
+# |Delta chi2| < 2e-4 at the set-up's test points (lantern/likelihood.h);
+# bench's points near the best fit get a margin of 1e-3 (our tolerance,
+# not a published one).
+DEMO_ROWS=$(($(wc -l <"$ROOT/data/lamplighter/survey.csv") - 1))
+run "$LANTERN" bench "$ROOT/configs/demo.ini" --model lcdm-flat --evals 500 --format json
+if [ "$STATUS" -eq 0 ] && /usr/bin/python3 -c '
+import json, sys
+j = json.load(open(sys.argv[1]))
+assert j["model"] == "lcdm-flat" and j["n_data"] == int(sys.argv[2]), j
+assert j["path"] == "compressed" and j["knots"] > 0 and j["covariance"] == "structured", j
+assert 0 <= j["max_abs_dchi2"] < 1e-3, j
+assert j["evals_per_s"] > 0 and j["setup_s"] >= 0 and j["peak_rss_mb"] > 0, j
+' "$OUT" "$DEMO_ROWS"; then pass "bench on the demo: its $DEMO_ROWS objects, compressed path within 1e-3 of the exact"
+else fail "bench on the demo: its $DEMO_ROWS objects, compressed path within 1e-3 of the exact"; fi
+
+run "$LANTERN" bench "$ROOT/configs/demo.ini" --model lcdm-flat --evals 200 --exact --format json
+/usr/bin/python3 -c '
+import json, sys
+j = json.load(open(sys.argv[1]))
+assert j["path"] == "exact" and j["knots"] == 0 and j["max_abs_dchi2"] == 0, j
+' "$OUT" && pass "bench --exact: the exact path, no knots, nothing to compare" ||
+    fail "bench --exact: the exact path, no knots, nothing to compare"
+
+run "$LANTERN" bench "$ROOT/configs/demo.ini" --model lcdm-flat --evals 200
+expect_stdout "bench's table names the survey size, path and knots" \
+    "^lcdm-flat on $DEMO_ROWS objects \(structured covariance\), compressed path$"
+grep -qE '^  max \|dchi2\| +[0-9.]+e-[0-9]+ \(against the exact path' "$OUT" &&
+    pass "bench's table shows the compressed path's largest |Delta chi2|" ||
+    fail "bench's table shows the compressed path's largest |Delta chi2|"
+
+run "$LANTERN" bench "$ROOT/configs/demo.ini" --model lcdm-flat --evals 0
+expect_error "bench --evals 0 is refused" 2 "--evals: '0' is not a whole number >= 1"

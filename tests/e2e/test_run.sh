@@ -239,3 +239,6 @@ run "$LANTERN" report "$E2E_TMP"
 expect_error "report of a folder that is no run" 2 "summary.json: cannot open"
 run "$LANTERN" report "$D" "$D"
 expect_error "several runs need --out" 2 "several runs need --out"
+RUNS=(); for i in $(seq 17); do RUNS+=("$D"); done
+run "$LANTERN" report "${RUNS[@]}" --out "$E2E_TMP/r17"
+expect_error "report of more than 16 runs" 2 "report: at most 16 arguments besides the options"

@@ -51,6 +51,54 @@ static void test_model_table(void **state)
     assert_null(lt_cosmo_model_find(""));
     assert_null(lt_cosmo_model_find(NULL));
     assert_null(lt_cosmo_model_at(6));
+    /* lookup: the model, or an error at file:line listing every model of
+     * the table (the list is built from it, so a new model joins it) */
+    lt_error err;
+    lt_error_clear(&err);
+    assert_ptr_equal(lt_cosmo_model_lookup("wcdm", "a.ini", 3, &err), lt_cosmo_model_find("wcdm"));
+    assert_int_equal(err.code, LT_OK);
+    assert_null(lt_cosmo_model_lookup("lcdm_flat", "a.ini", 7, &err));
+    assert_int_equal(err.code, LT_EINPUT);
+    assert_string_equal(err.file, "a.ini");
+    assert_int_equal(err.line, 7);
+    assert_string_equal(err.msg, "unknown model 'lcdm_flat' (models: lcdm-flat, lcdm, "
+                                 "wcdm-flat, wcdm, w0wa-flat, w0wa)");
+}
+
+/* Lists of models (compare --models, [run] models, [campaign] models):
+ * commas or blanks between, in order; every refusal at file:line. */
+static void test_model_list(void **state)
+{
+    (void)state;
+    const lt_cosmo_model *m[3];
+    size_t n = 99;
+    lt_error err;
+    lt_error_clear(&err);
+    assert_int_equal(lt_cosmo_model_list(" wcdm,lcdm-flat \tw0wa", "f", 1, "", 3, m, &n, &err),
+                     LT_OK);
+    assert_int_equal(n, 3);
+    assert_string_equal(m[0]->name, "wcdm");
+    assert_string_equal(m[1]->name, "lcdm-flat");
+    assert_string_equal(m[2]->name, "w0wa");
+    static const struct {
+        const char *text, *msg;
+    } bad[] = {
+        {"lcdm, lcdmx", "[run] models: unknown model 'lcdmx' (models: lcdm-flat,"},
+        {"lcdm, wcdm, lcdm", "[run] models: lcdm is listed twice"},
+        {"lcdm wcdm w0wa lcdm-flat", "[run] models: at most 3 models"},
+        {" , ,", "[run] models: no models given"},
+        {"", "[run] models: no models given"},
+    };
+    for (size_t i = 0; i < sizeof bad / sizeof bad[0]; i++) {
+        lt_error_clear(&err);
+        assert_int_equal(lt_cosmo_model_list(bad[i].text, "run.ini", 4, "[run] models: ", 3, m,
+                                             &n, &err),
+                         LT_EINPUT);
+        assert_string_equal(err.file, "run.ini");
+        assert_int_equal(err.line, 4);
+        if (strncmp(err.msg, bad[i].msg, strlen(bad[i].msg)) != 0)
+            fail_msg("'%s': got '%s', want '%s...'", bad[i].text, err.msg, bad[i].msg);
+    }
 }
 
 static void test_param_names(void **state)
@@ -380,7 +428,7 @@ int main(void)
         cmocka_unit_test(test_zgrid_errors),    cmocka_unit_test(test_input_order),
         cmocka_unit_test(test_partial_table),   cmocka_unit_test(test_dip_between_nodes),
         cmocka_unit_test(test_bounce_and_antipode), cmocka_unit_test(test_age_api),
-        cmocka_unit_test(test_gl_rules),        cmocka_unit_test(test_node_budget),
+        cmocka_unit_test(test_model_list), cmocka_unit_test(test_gl_rules),        cmocka_unit_test(test_node_budget),
     };
     return cmocka_run_group_tests_name("cosmology", tests, NULL, NULL);
 }
