@@ -519,7 +519,7 @@ int lt_file_close_commit(FILE *f, const char *final, lt_error *err)
     if (!bad)
         return lt_file_commit(final, err);
     char *tmp = lt_tmp_name(final, err);
-    if (!tmp)
+    if (!tmp) /* the temporary file stays; output folders pass over *.tmp */
         return LT_ENOMEM;
     remove(tmp);
     int rc = lt_error_set(err, LT_EIO, tmp, 0, "write failed (disk full?)");
