@@ -25,9 +25,13 @@ int lt_path_exists(const char *path);
 /*
  * Atomic files: write to lt_tmp_name(final) and then lt_file_commit it into
  * place with rename(2), so a failure or an interruption never leaves a
- * half-written final file.
+ * half-written final file. lt_tmp_name is "FINAL.tmp" as a new string (free
+ * it); NULL (LT_ENOMEM in err) only when memory runs out.
  */
-void lt_tmp_name(const char *final, char *buf, size_t size);
+char *lt_tmp_name(const char *final, lt_error *err);
+/* Open final's temporary file for writing into *f; LT_ENOMEM, or LT_EIO
+ * naming the temporary file when it cannot be made (*f is then NULL). */
+int lt_file_open_tmp(const char *final, FILE **f, lt_error *err);
 int lt_file_commit(const char *final, lt_error *err);
 /* Close f, the temporary file of final, and commit it; a write error or a
  * failed close removes the temporary file and is reported (disk full). */
@@ -35,9 +39,15 @@ int lt_file_close_commit(FILE *f, const char *final, lt_error *err);
 /* Write text (NUL-terminated) atomically. */
 int lt_file_write_text(const char *path, const char *text, lt_error *err);
 
-/* "dir/name" as a new string (free it), of whatever length: paths are
- * built here rather than in fixed buffers, which cut long paths short.
- * NULL (LT_ENOMEM in err) only when memory runs out. */
+/*
+ * Paths are built here, as new strings of whatever length (free them),
+ * rather than in fixed buffers, which cut long paths short: a path too long
+ * for the operating system is then refused by it, under its whole name.
+ * lt_path_join is "dir/name"; lt_path_format any other shape of path
+ * (printf's format). NULL (LT_ENOMEM in err) only when memory runs out.
+ */
 char *lt_path_join(const char *dir, const char *name, lt_error *err);
+char *lt_path_format(lt_error *err, const char *fmt, ...)
+    __attribute__((format(printf, 2, 3)));
 
 #endif

@@ -37,8 +37,6 @@ int lt_outdir_prepare(const char *dir, int force, lt_error *err);
 int lt_outdir_mark(const char *dir, const char *what, lt_error *err);
 int lt_outdir_finish(const char *dir, const char *what, lt_error *err);
 void lt_outdir_abandon(const char *dir);
-/* dir/name into buf (size bytes); LT_EINPUT when it does not fit. */
-int lt_outdir_path(char *buf, size_t size, const char *dir, const char *name, lt_error *err);
 int lt_outdir_command(const char *dir, char *command, size_t size, lt_error *err);
 /* Whether dir holds a finished lantern output (its marker says done): a
  * folder taken by a run still going, or stopped, does not. */

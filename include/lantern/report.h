@@ -262,9 +262,9 @@ int lt_report_write_figures(const char *dir, const lt_run_model *models, size_t 
  * warnings array for the caller to extend. */
 struct cJSON *lt_report_add_data(struct cJSON *o, const lt_survey_spec *data,
                                  const lt_like *l);
-/* "FILE: N objects, observable mag; 1 measurement" (the parts there are). */
-void lt_report_describe_data(const lt_like *l, const lt_survey_spec *data, char *buf,
-                             size_t size);
+/* Print "FILE: N objects, observable mag; 1 measurement" (the parts there
+ * are) to f, with the file's whole name however long. */
+void lt_report_describe_data(FILE *f, const lt_like *l, const lt_survey_spec *data);
 
 /* Add "fixed" (every parameter of l that is not free, with its value) and,
  * where l has measurements, "measurements" ([{name, mean, sd, at_best,

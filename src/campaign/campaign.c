@@ -1,4 +1,5 @@
 /* Campaign files, the task list and the queue: see lantern/campaign.h. */
+#include <errno.h>
 #include <limits.h>
 #include <stdio.h>
 #include <stdlib.h>
@@ -31,25 +32,21 @@ static int digest_file(uint64_t *h, const char *path, lt_error *err)
 }
 
 /* A path from the campaign file: relative to its folder, made absolute so
- * that task records name it from anywhere. Returns a new string. */
+ * that task records name it from anywhere. Returns a new string, NULL only
+ * when memory runs out (a working folder that cannot be named leaves the
+ * path relative). */
 static char *resolve(const char *campaign_path, const char *path)
 {
-    char base[PATH_MAX] = "";
-    if (path[0] != '/') {
-        const char *slash = strrchr(campaign_path, '/');
-        if (campaign_path[0] != '/' && !getcwd(base, sizeof base - 2))
-            base[0] = '\0';
-        size_t len = strlen(base);
-        if (len)
-            base[len++] = '/', base[len] = '\0';
-        if (slash)
-            snprintf(base + len, sizeof base - len, "%.*s/", (int)(slash - campaign_path),
-                     campaign_path);
-    }
-    size_t n = strlen(base) + strlen(path) + 1;
-    char *s = malloc(n);
-    if (s)
-        snprintf(s, n, "%s%s", base, path);
+    if (path[0] == '/')
+        return strdup(path);
+    const char *slash = strrchr(campaign_path, '/');
+    char *cwd = NULL;
+    if (campaign_path[0] != '/' && !(cwd = getcwd(NULL, 0)) && errno == ENOMEM)
+        return NULL;
+    int dir_len = slash ? (int)(slash - campaign_path) : 0;
+    char *s = lt_path_format(NULL, "%s%s%.*s%s%s", cwd ? cwd : "", cwd && cwd[0] ? "/" : "",
+                             dir_len, campaign_path, slash ? "/" : "", path);
+    free(cwd);
     return s;
 }
 
@@ -162,8 +159,11 @@ int lt_campaign_read(const char *path, lt_campaign *c, lt_error *err)
     int rc;
     const char *v = NULL;
     /* absolute, so that a resume from another folder finds it */
-    char full[PATH_MAX];
-    c->path = strdup(realpath(path, full) ? full : path);
+    char *full = realpath(path, NULL);
+    if (!(c->path = full ? full : strdup(path))) {
+        rc = lt_error_set(err, LT_ENOMEM, path, 0, "out of memory");
+        goto done;
+    }
     if ((rc = digest_file(&c->digest, path, err)))
         goto done;
     if ((rc = lt_ini_string(ini, "campaign", "name", 0, &v, err)))
@@ -176,6 +176,10 @@ int lt_campaign_read(const char *path, lt_campaign *c, lt_error *err)
         c->name = strndup(base, len);
     } else
         c->name = strdup(v);
+    if (!c->name) {
+        rc = lt_error_set(err, LT_ENOMEM, path, 0, "out of memory");
+        goto done;
+    }
     /* a task runs with the campaign's --threads, and its seed comes from
      * [campaign] seed: run-file keys that would say otherwise are refused */
     static const char *const not_here[][2] = {{"sampler", "threads"}, {"sampler", "seed"},

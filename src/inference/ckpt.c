@@ -6,6 +6,7 @@
  * checkpoint where a whole one was.
  */
 #include <errno.h>
+#include <stdlib.h>
 #include <string.h>
 
 #include "lantern/digest.h"
@@ -14,15 +15,19 @@
 
 int lt_ckpt_create(lt_ckpt *s, const char *path, lt_error *err)
 {
-    lt_tmp_name(path, s->tmp, sizeof s->tmp);
-    snprintf(s->path, sizeof s->path, "%s", path);
-    s->f = fopen(s->tmp, "wb");
+    s->path = path;
+    s->tmp = lt_tmp_name(path, err);
+    s->f = s->tmp ? fopen(s->tmp, "wb") : NULL;
     s->h = LT_DIGEST_START;
     s->bad = 0;
-    if (!s->f)
-        return lt_error_set(err, LT_EIO, s->tmp, 0, "cannot write the checkpoint: %s",
-                            strerror(errno));
-    return LT_OK;
+    if (s->f)
+        return LT_OK;
+    int rc = s->tmp ? lt_error_set(err, LT_EIO, s->tmp, 0, "cannot write the checkpoint: %s",
+                                   strerror(errno))
+                    : LT_ENOMEM;
+    free(s->tmp);
+    s->tmp = NULL;
+    return rc;
 }
 
 void lt_ckpt_put(lt_ckpt *s, const void *p, size_t n)
@@ -38,16 +43,21 @@ int lt_ckpt_commit(lt_ckpt *s, lt_error *err)
     lt_ckpt_put(s, &h, sizeof h);
     int bad = s->bad || fflush(s->f) != 0;
     bad |= fclose(s->f) != 0;
+    int rc;
     if (bad) {
         remove(s->tmp);
-        return lt_error_set(err, LT_EIO, s->tmp, 0, "writing the checkpoint failed (disk full?)");
-    }
-    return lt_file_commit(s->path, err);
+        rc = lt_error_set(err, LT_EIO, s->tmp, 0, "writing the checkpoint failed (disk full?)");
+    } else
+        rc = lt_file_commit(s->path, err);
+    free(s->tmp);
+    s->tmp = NULL;
+    return rc;
 }
 
 int lt_ckpt_open(lt_ckpt *s, const char *path, lt_error *err)
 {
-    snprintf(s->path, sizeof s->path, "%s", path);
+    s->path = path;
+    s->tmp = NULL;
     s->f = fopen(path, "rb");
     s->h = LT_DIGEST_START;
     s->bad = 0;

@@ -15,12 +15,15 @@
 int lt_small_cholesky(const double *a, size_t d, double *l);
 
 /* Checkpoint streams (ckpt.c): bytes with a running FNV-1a hash; the hash
- * closes the file and is checked on reading. */
+ * closes the file and is checked on reading. A stream being written holds
+ * the caller's path (which must outlive it) and its own temporary name,
+ * freed by lt_ckpt_commit, which must follow a successful lt_ckpt_create. */
 typedef struct lt_ckpt {
     FILE *f;
     uint64_t h;
     int bad;
-    char path[4200], tmp[4300];
+    const char *path;
+    char *tmp;
 } lt_ckpt;
 int lt_ckpt_create(lt_ckpt *s, const char *path, lt_error *err); /* to path's temporary name */
 void lt_ckpt_put(lt_ckpt *s, const void *p, size_t n);

@@ -3,7 +3,6 @@
  * summary, the table with the priors it depends on, the warnings, and the
  * weighted draws of each model's nested run.
  */
-#include <errno.h>
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
@@ -128,9 +127,9 @@ cJSON *lt_report_compare_json(const lt_model_result *m, size_t n)
 void lt_report_compare_table(FILE *f, const lt_model_result *m, size_t n,
                              const lt_survey_spec *data)
 {
-    char what[4400];
-    lt_report_describe_data(m[0].l, data, what, sizeof what);
-    fprintf(f, "model comparison on %s\n\n", what);
+    fputs("model comparison on ", f);
+    lt_report_describe_data(f, m[0].l, data);
+    fputs("\n\n", f);
     fprintf(f, "  %-10s %2s %9s %7s %9s %9s %9s %17s %15s  %s\n", "model", "k", "chi2_min",
             "dchi2", "AIC", "BIC", "DIC", "ln Z", "ln B", "reading (Kass & Raftery 1995, on 2 ln B)");
     for (size_t k = 0; k < n; k++) {
@@ -175,20 +174,11 @@ void lt_report_compare_table(FILE *f, const lt_model_result *m, size_t n,
 
 int lt_report_write_nested(const char *dir, const lt_model_result *m, lt_error *err)
 {
-    size_t len = strlen(dir) + strlen(m->name) + 16;
-    char *path = malloc(len), *tmp = malloc(len + 32);
+    char *path = lt_path_format(err, "%s/nested_%s.csv", dir, m->name);
     FILE *f = NULL;
-    int rc;
-    if (!path || !tmp) {
-        rc = lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
+    int rc = path ? lt_file_open_tmp(path, &f, err) : LT_ENOMEM;
+    if (rc)
         goto done;
-    }
-    snprintf(path, len, "%s/nested_%s.csv", dir, m->name);
-    lt_tmp_name(path, tmp, len + 32);
-    if (!(f = fopen(tmp, "w"))) {
-        rc = lt_error_set(err, LT_EIO, tmp, 0, "cannot write: %s", strerror(errno));
-        goto done;
-    }
     size_t d = lt_like_dim(m->l);
     const lt_posterior *p = &m->post;
     fputs("weight,loglike", f);
@@ -210,6 +200,5 @@ int lt_report_write_nested(const char *dir, const lt_model_result *m, lt_error *
     rc = lt_file_close_commit(f, path, err);
 done:
     free(path);
-    free(tmp);
     return rc;
 }

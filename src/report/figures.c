@@ -13,6 +13,7 @@
 
 #include <plplot.h>
 
+#include "lantern/file.h"
 #include "lantern/report.h"
 
 /* Colour map 0: background, ink, then one colour per model (the same model
@@ -46,10 +47,14 @@ static int figure(const char *dir, const char *name, int pdf_too, int w, int h, 
                   const void *ctx, lt_error *err)
 {
     const char *devs[] = {"pngcairo", "pdfcairo"}, *exts[] = {"png", "pdf"};
-    for (int k = 0; k < (pdf_too ? 2 : 1); k++) {
-        char final[4096], tmp[4200];
-        snprintf(final, sizeof final, "%s/%s.%s", dir, name, exts[k]);
-        snprintf(tmp, sizeof tmp, "%s/.%s.%s.tmp", dir, name, exts[k]);
+    int rc = LT_OK;
+    for (int k = 0; k < (pdf_too ? 2 : 1) && !rc; k++) {
+        char *final = lt_path_format(err, "%s/%s.%s", dir, name, exts[k]);
+        char *tmp = final ? lt_path_format(err, "%s/.%s.%s.tmp", dir, name, exts[k]) : NULL;
+        if (!tmp) {
+            free(final);
+            return LT_ENOMEM;
+        }
         open_figure(devs[k], tmp, w, h);
         draw(ctx);
         plend();
@@ -62,12 +67,13 @@ static int figure(const char *dir, const char *name, int pdf_too, int w, int h, 
         }
         if (size <= 0) {
             remove(tmp);
-            return lt_error_set(err, LT_EIO, final, 0, "PLplot wrote no figure");
-        }
-        if (rename(tmp, final) != 0)
-            return lt_error_set(err, LT_EIO, final, 0, "cannot move the figure in place");
+            rc = lt_error_set(err, LT_EIO, final, 0, "PLplot wrote no figure");
+        } else if (rename(tmp, final) != 0)
+            rc = lt_error_set(err, LT_EIO, final, 0, "cannot move the figure in place");
+        free(final);
+        free(tmp);
     }
-    return LT_OK;
+    return rc;
 }
 
 /* ---- helpers on draws ---- */

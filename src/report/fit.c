@@ -1,7 +1,6 @@
 /*
  * Reports of a best fit: the JSON summary, the table, the residuals.
  */
-#include <errno.h>
 #include <math.h>
 #include <stdint.h>
 #include <stdio.h>
@@ -89,18 +88,14 @@ cJSON *lt_report_add_data(cJSON *o, const lt_survey_spec *data, const lt_like *l
     return w;
 }
 
-void lt_report_describe_data(const lt_like *l, const lt_survey_spec *data, char *buf,
-                             size_t size)
+void lt_report_describe_data(FILE *f, const lt_like *l, const lt_survey_spec *data)
 {
     const lt_survey *s = lt_like_survey(l);
-    size_t nm = lt_like_nmeasurements(l), len = 0;
-    buf[0] = '\0';
+    size_t nm = lt_like_nmeasurements(l);
     if (s)
-        len = (size_t)snprintf(buf, size, "%s: %zu objects, observable %s", data->data, s->n,
-                               lt_obs_name(s->kind));
-    if (nm && len < size)
-        snprintf(buf + len, size - len, "%s%zu measurement%s", s ? "; " : "", nm,
-                 nm == 1 ? "" : "s");
+        fprintf(f, "%s: %zu objects, observable %s", data->data, s->n, lt_obs_name(s->kind));
+    if (nm)
+        fprintf(f, "%s%zu measurement%s", s ? "; " : "", nm, nm == 1 ? "" : "s");
 }
 
 void lt_report_add_fixed(cJSON *o, const lt_like *l, const double *measured)
@@ -240,9 +235,9 @@ void lt_report_fit_table(FILE *f, const lt_like *l, const lt_fit_result *r,
                          const lt_survey_spec *data)
 {
     const lt_cosmo_model *m = lt_like_model(l);
-    char what[4400];
-    lt_report_describe_data(l, data, what, sizeof what);
-    fprintf(f, "best fit of %s (%s) to %s\n\n", m->name, m->summary, what);
+    fprintf(f, "best fit of %s (%s) to ", m->name, m->summary);
+    lt_report_describe_data(f, l, data);
+    fputs("\n\n", f);
     fprintf(f, "  %-12s %12s %12s   %s\n", "parameter", "best", "+-sigma", "prior");
     char sd[32];
     for (size_t i = 0; i < r->dim; i++) {
@@ -307,13 +302,9 @@ int lt_report_write_residuals(const char *path, const lt_like *l, const double *
         goto done;
     }
     lt_cov_diagonal(s->cov, var);
-    char tmp[4200];
-    lt_tmp_name(path, tmp, sizeof tmp);
-    FILE *f = fopen(tmp, "w");
-    if (!f) {
-        rc = lt_error_set(err, LT_EIO, tmp, 0, "cannot write: %s", strerror(errno));
+    FILE *f;
+    if ((rc = lt_file_open_tmp(path, &f, err)))
         goto done;
-    }
     fputs("id,z,zhel,observed,model,residual,pull\n", f);
     char b[7][32];
     for (size_t i = 0; i < n; i++) {
@@ -330,14 +321,7 @@ int lt_report_write_residuals(const char *path, const lt_like *l, const double *
             fprintf(f, "%ld", s->row[i]);
         fprintf(f, ",%s,%s,%s,%s,%s,%s\n", b[0], b[1], b[2], b[3], b[4], b[5]);
     }
-    int bad = ferror(f);
-    bad |= fclose(f) != 0;
-    if (bad) {
-        remove(tmp);
-        rc = lt_error_set(err, LT_EIO, tmp, 0, "write failed (disk full?)");
-        goto done;
-    }
-    rc = lt_file_commit(path, err);
+    rc = lt_file_close_commit(f, path, err);
 done:
     free(var);
     return rc;

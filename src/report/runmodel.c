@@ -165,11 +165,9 @@ const char *lt_run_model_rhat_text(const lt_run_model *m, char *buf, size_t size
     return buf;
 }
 
-int lt_run_model_load(const char *dir, lt_run_model *m, lt_error *err)
+/* lt_run_model_load from the folder's summary (path) and chains files. */
+static int load(const char *path, const char *chains, lt_run_model *m, lt_error *err)
 {
-    memset(m, 0, sizeof *m);
-    char path[4200];
-    snprintf(path, sizeof path, "%s/summary.json", dir);
     char *text = NULL;
     size_t size;
     int rc = lt_file_read(path, (size_t)64 << 20, &text, &size, err);
@@ -272,19 +270,29 @@ int lt_run_model_load(const char *dir, lt_run_model *m, lt_error *err)
         }
 
     int says_weighted = m->weighted;
-    snprintf(path, sizeof path, "%s/chains.csv", dir);
-    if ((rc = lt_file_read(path, (size_t)4 << 30, &text, &size, err))) {
+    if ((rc = lt_file_read(chains, (size_t)4 << 30, &text, &size, err))) {
         lt_run_model_free(m);
         return rc;
     }
-    rc = chains_parse(path, text, m, err);
+    rc = chains_parse(chains, text, m, err);
     free(text);
     if (!rc && says_weighted && !m->weights)
-        rc = lt_error_set(err, LT_EINPUT, path, 1,
+        rc = lt_error_set(err, LT_EINPUT, chains, 1,
                           "summary.json says the draws are weighted, but there is no weight "
                           "column");
     if (rc)
         lt_run_model_free(m);
+    return rc;
+}
+
+int lt_run_model_load(const char *dir, lt_run_model *m, lt_error *err)
+{
+    memset(m, 0, sizeof *m);
+    char *summary = lt_path_join(dir, "summary.json", err);
+    char *chains = summary ? lt_path_join(dir, "chains.csv", err) : NULL;
+    int rc = chains ? load(summary, chains, m, err) : LT_ENOMEM;
+    free(summary);
+    free(chains);
     return rc;
 }
 

@@ -2,7 +2,6 @@
  * Sampled posteriors as the user sees them: the JSON summary, the table,
  * and the chain files (CSV and FITS).
  */
-#include <errno.h>
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
@@ -170,10 +169,9 @@ cJSON *lt_report_sample_json(const lt_like *l, const lt_posterior *r,
 void lt_report_sample_table(FILE *f, const lt_like *l, const lt_posterior *r,
                             const lt_survey_spec *data)
 {
-    char what[4400];
-    lt_report_describe_data(l, data, what, sizeof what);
-    fprintf(f, "posterior of %s (%s) given %s\n\n", lt_like_model(l)->name,
-            lt_like_model(l)->summary, what);
+    fprintf(f, "posterior of %s (%s) given ", lt_like_model(l)->name, lt_like_model(l)->summary);
+    lt_report_describe_data(f, l, data);
+    fputs("\n\n", f);
     fprintf(f, "  %-10s %11s %10s %11s %23s %23s %7s %7s\n", "parameter", "mean", "sd", "best",
             "68% interval", "95% interval", "R-hat", "ESS");
     for (size_t k = 0; k < r->nparams + r->nderived; k++) {
@@ -232,11 +230,10 @@ void lt_report_compression_warning(const lt_posterior *r, char *buf, size_t size
 
 static int csv_write(const char *path, const lt_posterior *r, lt_error *err)
 {
-    char tmp[4200];
-    lt_tmp_name(path, tmp, sizeof tmp);
-    FILE *f = fopen(tmp, "w");
-    if (!f)
-        return lt_error_set(err, LT_EIO, tmp, 0, "cannot write: %s", strerror(errno));
+    FILE *f;
+    int rc = lt_file_open_tmp(path, &f, err);
+    if (rc)
+        return rc;
     fputs(r->weights ? "chain,step,weight" : "chain,step", f);
     for (size_t k = 0; k < r->ncols; k++)
         fprintf(f, ",%s", r->cols[k]);
@@ -263,8 +260,9 @@ static int csv_write(const char *path, const lt_posterior *r, lt_error *err)
 static int fits_write(const char *path, const lt_like *l, const lt_posterior *r,
                       const lt_survey_spec *data, unsigned long seed, lt_error *err)
 {
-    char tmp[4200];
-    lt_tmp_name(path, tmp, sizeof tmp);
+    char *tmp = lt_tmp_name(path, err);
+    if (!tmp)
+        return LT_ENOMEM;
     remove(tmp);
     /* chain, step, [weight,] the columns */
     size_t lead = r->weights ? 3 : 2, nc = r->ncols + lead, total = r->nchains * r->ndraws;
@@ -341,17 +339,19 @@ done:
     free(col);
     free(ichain);
     free(istep);
+    free(tmp);
     return rc;
 }
 
 int lt_report_write_chains(const char *dir, const lt_like *l, const lt_posterior *r,
                            const lt_survey_spec *data, unsigned long seed, lt_error *err)
 {
-    char path[4096];
-    snprintf(path, sizeof path, "%s/chains.csv", dir);
-    int rc = csv_write(path, r, err);
-    if (rc)
-        return rc;
-    snprintf(path, sizeof path, "%s/chains.fits", dir);
-    return fits_write(path, l, r, data, seed, err);
+    char *csv = lt_path_join(dir, "chains.csv", err);
+    char *fits = csv ? lt_path_join(dir, "chains.fits", err) : NULL;
+    int rc = fits ? csv_write(csv, r, err) : LT_ENOMEM;
+    if (!rc)
+        rc = fits_write(fits, l, r, data, seed, err);
+    free(csv);
+    free(fits);
+    return rc;
 }

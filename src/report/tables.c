@@ -2,7 +2,6 @@
  * Constraint tables: the rounding rule, how each parameter is quoted, and
  * the Markdown, LaTeX and CSV writers.
  */
-#include <errno.h>
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
@@ -177,15 +176,14 @@ static const char *tex_model(const char *m)
     return m;
 }
 
-static int open_tmp(const char *dir, const char *name, char *final, char *tmp, FILE **f,
-                    lt_error *err)
+/* Open the temporary file of dir/name, whose path goes in *final (the
+ * previous one freed). */
+static int open_tmp(const char *dir, const char *name, char **final, FILE **f, lt_error *err)
 {
-    snprintf(final, 4096, "%s/%s", dir, name);
-    lt_tmp_name(final, tmp, 4200);
-    *f = fopen(tmp, "w");
-    if (!*f)
-        return lt_error_set(err, LT_EIO, tmp, 0, "cannot write: %s", strerror(errno));
-    return LT_OK;
+    free(*final);
+    if (!(*final = lt_path_join(dir, name, err)))
+        return LT_ENOMEM;
+    return lt_file_open_tmp(*final, f, err);
 }
 
 /* What the tables need of each model, worked out once: the quotes (each a
@@ -241,7 +239,7 @@ int lt_report_write_tables(const char *dir, const lt_run_model *models, size_t n
 {
     const char *names[64];
     size_t nn = union_names(models, n, names, 64);
-    char final[4096], tmp[4200], cell[160];
+    char *final = NULL, cell[160];
     FILE *f;
     table_facts t;
     int rc = facts_of(models, n, &t, err);
@@ -249,7 +247,7 @@ int lt_report_write_tables(const char *dir, const lt_run_model *models, size_t n
         return rc;
 
     /* Markdown */
-    if ((rc = open_tmp(dir, "constraints.md", final, tmp, &f, err)))
+    if ((rc = open_tmp(dir, "constraints.md", &final, &f, err)))
         goto done;
     fputs("| parameter |", f);
     for (size_t i = 0; i < n; i++)
@@ -334,7 +332,7 @@ int lt_report_write_tables(const char *dir, const lt_run_model *models, size_t n
         goto done;
 
     /* LaTeX (booktabs) */
-    if ((rc = open_tmp(dir, "constraints.tex", final, tmp, &f, err)))
+    if ((rc = open_tmp(dir, "constraints.tex", &final, &f, err)))
         goto done;
     fputs("% lantern constraint table; needs \\usepackage{booktabs}\n\\begin{tabular}{l", f);
     for (size_t i = 0; i < n; i++)
@@ -396,7 +394,7 @@ int lt_report_write_tables(const char *dir, const lt_run_model *models, size_t n
         goto done;
 
     /* CSV: unrounded numbers; prior_edge and converged carry the marks */
-    if ((rc = open_tmp(dir, "constraints.csv", final, tmp, &f, err)))
+    if ((rc = open_tmp(dir, "constraints.csv", &final, &f, err)))
         goto done;
     fputs("model,parameter,value,minus,plus,kind,prior_edge,converged\n", f);
     static const char *kinds[] = {"two-sided", "upper", "lower"};
@@ -414,6 +412,7 @@ int lt_report_write_tables(const char *dir, const lt_run_model *models, size_t n
         }
     rc = lt_file_close_commit(f, final, err);
 done:
+    free(final);
     facts_free(&t, n);
     return rc;
 }

@@ -279,14 +279,14 @@ int lt_sim_write(const lt_scenario *sc, const lt_sim *sim, const char *dir, lt_e
     const char *cov_name = lt_sim_cov_name(sim->n);
     const char *names[NFILES] = {"survey.csv", "survey.fits", cov_name, "modes.csv",
                                  "truth.json"};
-    char final[NFILES][4096], tmp[NFILES][4200];
-    for (int k = 0; k < NFILES; k++) {
-        if (!names[k])
-            continue;
-        snprintf(final[k], sizeof final[k], "%s/%s", dir, names[k]);
-        lt_tmp_name(final[k], tmp[k], sizeof tmp[k]);
-    }
-    int rc = write_csv(sim, sc, tmp[F_CSV], err);
+    char *final[NFILES] = {NULL}, *tmp[NFILES] = {NULL};
+    int rc = LT_OK;
+    for (int k = 0; k < NFILES && !rc; k++)
+        if (names[k] && (!(final[k] = lt_path_join(dir, names[k], err)) ||
+                         !(tmp[k] = lt_tmp_name(final[k], err))))
+            rc = LT_ENOMEM;
+    if (!rc)
+        rc = write_csv(sim, sc, tmp[F_CSV], err);
     if (!rc)
         rc = write_fits_table(sim, sc, tmp[F_FITS], err);
     if (!rc && cov_name)
@@ -297,23 +297,28 @@ int lt_sim_write(const lt_scenario *sc, const lt_sim *sim, const char *dir, lt_e
     if (!rc)
         rc = write_truth(sim, sc, cov_name, tmp[F_TRUTH], err);
     for (int k = 0; k < NFILES; k++) {
-        if (!names[k])
+        if (!tmp[k])
             continue;
         if (rc)
             remove(tmp[k]);
         else if ((rc = lt_file_commit(final[k], err)))
             for (int m = k + 1; m < NFILES; m++)
-                if (names[m])
+                if (tmp[m])
                     remove(tmp[m]);
     }
+    for (int k = 0; k < NFILES; k++)
+        free(final[k]), free(tmp[k]);
     /* a covariance of another form, left by an earlier run, would mislead */
     static const char *forms[] = {"covariance.txt", "covariance.fits"};
     for (int f = 0; !rc && f < 2; f++) {
         if (cov_name && !strcmp(cov_name, forms[f]))
             continue;
-        char other[4200];
-        snprintf(other, sizeof other, "%s/%s", dir, forms[f]);
-        remove(other);
+        char *other = lt_path_join(dir, forms[f], err);
+        if (!other)
+            rc = LT_ENOMEM;
+        else
+            remove(other);
+        free(other);
     }
     return rc;
 }

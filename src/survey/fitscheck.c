@@ -64,14 +64,10 @@ static long long card_int(const char *card)
     return x;
 }
 
-int lt_fits_check(const char *path, lt_error *err)
+/* lt_fits_check of the file name, its [extension] part taken off. */
+static int check_file(const char *name, lt_error *err)
 {
-    char name[4096];
-    size_t n = strcspn(path, "[");
-    if (n >= sizeof name)
-        return lt_error_set(err, LT_EINPUT, path, 0, "the file name is too long");
-    memcpy(name, path, n);
-    name[n] = '\0';
+    size_t n = strlen(name);
     if (n >= 3 && strcasecmp(name + n - 3, ".gz") == 0)
         return LT_OK;
     FILE *f = fopen(name, "rb");
@@ -160,6 +156,16 @@ int lt_fits_check(const char *path, lt_error *err)
     }
 done:
     fclose(f);
+    return rc;
+}
+
+int lt_fits_check(const char *path, lt_error *err)
+{
+    char *name = strndup(path, strcspn(path, "["));
+    if (!name)
+        return lt_error_set(err, LT_ENOMEM, path, 0, "out of memory");
+    int rc = check_file(name, err);
+    free(name);
     return rc;
 }
 

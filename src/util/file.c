@@ -1,5 +1,6 @@
 /* Whole-file reading: see include/lantern/file.h. */
 #include <errno.h>
+#include <stdarg.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -69,16 +70,26 @@ int lt_file_read(const char *path, size_t max_bytes, char **data, size_t *size,
     return LT_OK;
 }
 
+char *lt_path_format(lt_error *err, const char *fmt, ...)
+{
+    va_list ap, again;
+    va_start(ap, fmt);
+    va_copy(again, ap);
+    /* measure, then write: the second pass sees the same arguments */
+    int n = vsnprintf(NULL, 0, fmt, ap);
+    va_end(ap);
+    char *s = n >= 0 ? malloc((size_t)n + 1) : NULL; /* n < 0: over INT_MAX bytes */
+    if (s)
+        vsnprintf(s, (size_t)n + 1, fmt, again);
+    va_end(again);
+    if (!s)
+        lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory for a path");
+    return s;
+}
+
 char *lt_path_join(const char *dir, const char *name, lt_error *err)
 {
-    size_t n = strlen(dir) + strlen(name) + 2;
-    char *s = malloc(n);
-    if (!s) {
-        lt_error_set(err, LT_ENOMEM, dir, 0, "out of memory for a path");
-        return NULL;
-    }
-    snprintf(s, n, "%s/%s", dir, name);
-    return s;
+    return lt_path_format(err, "%s/%s", dir, name);
 }
 
 int lt_path_exists(const char *path)

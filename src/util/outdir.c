@@ -25,13 +25,6 @@
 
 #define MARKER_MAX (64u << 20) /* a campaign of many tasks lists many files */
 
-int lt_outdir_path(char *buf, size_t size, const char *dir, const char *name, lt_error *err)
-{
-    if (snprintf(buf, size, "%s/%s", dir, name) >= (int)size)
-        return lt_error_set(err, LT_EINPUT, dir, 0, "path too long");
-    return LT_OK;
-}
-
 /* One file below the folder: its path relative to the folder, and what
  * identifies this version of it. */
 typedef struct {
@@ -111,9 +104,14 @@ static uint64_t mtime_ns(const struct stat *st)
  * after the folders inside it. */
 static void walk(const char *root, const char *rel, entries *out, entries *dirs)
 {
-    char path[4096];
-    snprintf(path, sizeof path, "%s%s%s", root, rel[0] ? "/" : "", rel);
+    const char *sep = rel[0] ? "/" : "";
+    char *path = lt_path_format(NULL, "%s%s%s", root, sep, rel);
+    if (!path) {
+        out->failed = 1; /* out of memory: the list is not whole */
+        return;
+    }
     DIR *d = opendir(path);
+    free(path);
     if (!d)
         return;
     struct dirent *de;
@@ -124,20 +122,22 @@ static void walk(const char *root, const char *rel, entries *out, entries *dirs)
             continue;
         if (!rel[0] && !strcmp(nm, LT_MARKER))
             continue;
-        char sub[4096], full[8200];
-        if (snprintf(sub, sizeof sub, "%s%s%s", rel, rel[0] ? "/" : "", nm) >= (int)sizeof sub)
-            continue;
-        snprintf(full, sizeof full, "%s/%s", root, sub);
+        char *sub = lt_path_format(NULL, "%s%s%s", rel, sep, nm);
+        char *full = sub ? lt_path_join(root, sub, NULL) : NULL;
         struct stat st;
-        if (lstat(full, &st) != 0)
-            continue;
-        if (S_ISDIR(st.st_mode)) {
+        int seen = full && lstat(full, &st) == 0;
+        out->failed |= !full;
+        if (seen && S_ISDIR(st.st_mode)) {
             walk(root, sub, out, dirs);
             if (dirs) /* after its contents: deepest first */
                 entries_add(dirs, sub, 0, 0, 0, 0);
         }
-        else if (S_ISREG(st.st_mode) && !(len > 4 && !strcmp(nm + len - 4, ".tmp")))
+        else if (seen && S_ISREG(st.st_mode) && !(len > 4 && !strcmp(nm + len - 4, ".tmp")))
             entries_add(out, sub, (uint64_t)st.st_ino, mtime_ns(&st), (uint64_t)st.st_size, 0);
+        free(sub);
+        free(full);
+        if (out->failed)
+            break;
     }
     closedir(d);
 }
@@ -157,16 +157,17 @@ static void marker_free(marker *m) { entries_free(&m->listed); }
 static int marker_read(const char *dir, marker *m, lt_error *err)
 {
     memset(m, 0, sizeof *m);
-    char path[4096];
-    if (lt_outdir_path(path, sizeof path, dir, LT_MARKER, err))
-        return err->code;
+    char *path = lt_path_join(dir, LT_MARKER, err);
+    if (!path)
+        return LT_ENOMEM;
     struct stat st;
-    if (stat(path, &st) != 0)
-        return LT_OK;
     char *text = NULL;
     size_t size;
-    if (lt_file_read(path, MARKER_MAX, &text, &size, err))
-        return err->code;
+    int rc = stat(path, &st) != 0 ? LT_OK : lt_file_read(path, MARKER_MAX, &text, &size, err);
+    if (!text) {
+        free(path);
+        return rc;
+    }
     m->present = 1;
     m->mtime_ns = mtime_ns(&st);
     /* a marker with no state lines (lantern before 0.x) is a finished run
@@ -200,9 +201,11 @@ static int marker_read(const char *dir, marker *m, lt_error *err)
     }
     free(text);
     if (m->listed.failed)
-        return lt_error_set(err, LT_ENOMEM, path, 0, "out of memory");
-    entries_sort(&m->listed);
-    return LT_OK;
+        rc = lt_error_set(err, LT_ENOMEM, path, 0, "out of memory");
+    else
+        entries_sort(&m->listed);
+    free(path);
+    return rc;
 }
 
 /* Write the marker: first line, then the state lines of m (in progress) or
@@ -210,13 +213,13 @@ static int marker_read(const char *dir, marker *m, lt_error *err)
 static int marker_write(const char *dir, const char *first, const marker *m, const entries *files,
                         lt_error *err)
 {
-    char path[4096], tmp[4200];
-    if (lt_outdir_path(path, sizeof path, dir, LT_MARKER, err))
-        return err->code;
-    lt_tmp_name(path, tmp, sizeof tmp);
-    FILE *f = fopen(tmp, "w");
-    if (!f)
-        return lt_error_set(err, LT_EIO, tmp, 0, "cannot write: %s", strerror(errno));
+    char *path = lt_path_join(dir, LT_MARKER, err);
+    FILE *f = NULL;
+    int rc = path ? lt_file_open_tmp(path, &f, err) : LT_ENOMEM;
+    if (rc) {
+        free(path);
+        return rc;
+    }
     fprintf(f, "%s\n", first);
     if (files) {
         fputs("state: done\n", f);
@@ -236,27 +239,33 @@ static int marker_write(const char *dir, const char *first, const marker *m, con
                     e->mark == 'r' ? "replace" : "foreign", e->ino, e->mtime_ns, e->size, e->path);
         }
     }
-    return lt_file_close_commit(f, path, err);
+    rc = lt_file_close_commit(f, path, err);
+    free(path);
+    return rc;
 }
 
 /* Make dir and its missing parents; *made counts the folders made. */
 static int make_dirs(const char *dir, int *made, lt_error *err)
 {
     *made = 0;
-    char path[4096];
-    if (snprintf(path, sizeof path, "%s", dir) >= (int)sizeof path)
-        return lt_error_set(err, LT_EINPUT, dir, 0, "path too long");
-    for (char *p = path + 1; *p; p++) {
+    char *path = strdup(dir); /* cut at each '/' in turn */
+    if (!path)
+        return lt_error_set(err, LT_ENOMEM, dir, 0, "out of memory");
+    int rc = LT_OK;
+    for (char *p = path + 1; *p && !rc; p++) {
         if (*p != '/')
             continue;
         *p = '\0';
         if (mkdir(path, 0777) == 0)
             ++*made;
         else if (errno != EEXIST)
-            return lt_error_set(err, LT_EIO, path, 0, "cannot make the folder: %s", strerror(errno));
+            rc = lt_error_set(err, LT_EIO, path, 0, "cannot make the folder: %s", strerror(errno));
         *p = '/';
     }
-    if (mkdir(path, 0777) == 0)
+    free(path);
+    if (rc)
+        return rc;
+    if (mkdir(dir, 0777) == 0)
         ++*made;
     else if (errno != EEXIST)
         return lt_error_set(err, LT_EIO, dir, 0, "cannot make the folder: %s", strerror(errno));
@@ -353,9 +362,10 @@ static void prune(const char *dir)
     entries files = {0}, dirs = {0};
     walk(dir, "", &files, &dirs);
     for (size_t i = 0; i < dirs.n; i++) {
-        char full[8200];
-        snprintf(full, sizeof full, "%s/%s", dir, dirs.e[i].path);
-        rmdir(full); /* fails, harmlessly, unless empty */
+        char *full = lt_path_join(dir, dirs.e[i].path, NULL);
+        if (full)
+            rmdir(full); /* fails, harmlessly, unless empty */
+        free(full);
     }
     entries_free(&files);
     entries_free(&dirs);
@@ -379,13 +389,15 @@ int lt_outdir_finish(const char *dir, const char *what, lt_error *err)
                 entries_add(&files, x->path, 0, 0, 0, 'r');
         } else if (same && o->mark == 'r') {
             /* the earlier run's, not rewritten by this one */
-            char full[8200];
-            snprintf(full, sizeof full, "%s/%s", dir, x->path);
-            if (remove(full) != 0 && errno != ENOENT) {
+            char *full = lt_path_join(dir, x->path, err);
+            if (!full)
+                rc = LT_ENOMEM;
+            else if (remove(full) != 0 && errno != ENOENT)
                 rc = lt_error_set(err, LT_EIO, full, 0, "cannot remove the earlier run's file: %s",
                                   strerror(errno));
+            free(full);
+            if (rc)
                 goto done;
-            }
         } else if (!(same && o->mark == 'f')) {
             entries_add(&files, x->path, 0, 0, 0, 'r');
         }
@@ -422,7 +434,6 @@ void lt_outdir_abandon(const char *dir)
         if (!unchanged(o, x))
             wrote = 1;
     }
-    char path[4096];
     if (!wrote && m.was[0]) {
         /* a forced run that failed before writing: the earlier run stands,
          * with its own marker back */
@@ -436,11 +447,13 @@ void lt_outdir_abandon(const char *dir)
     } else if (!wrote && m.created && now.n == 0) {
         /* a new folder with nothing in it: leave no trace */
         prune(dir);
-        if (lt_outdir_path(path, sizeof path, dir, LT_MARKER, &err) == LT_OK)
+        char *path = lt_path_join(dir, LT_MARKER, &err);
+        if (path)
             remove(path);
+        free(path);
         /* the folder, and the parents made for it (each only if empty) */
-        snprintf(path, sizeof path, "%s", dir);
-        for (int k = 0; k < m.made; k++) { /* an empty folder of the user's stays */
+        path = strdup(dir);
+        for (int k = 0; path && k < m.made; k++) { /* an empty folder of the user's stays */
             size_t len = strlen(path);
             while (len > 1 && path[len - 1] == '/')
                 path[--len] = '\0';
@@ -451,6 +464,7 @@ void lt_outdir_abandon(const char *dir)
                 break;
             *slash = '\0';
         }
+        free(path);
     }
     entries_free(&now);
     marker_free(&m);
@@ -458,64 +472,81 @@ void lt_outdir_abandon(const char *dir)
 
 int lt_outdir_command(const char *dir, char *command, size_t size, lt_error *err)
 {
-    char path[4096], text[512] = "";
-    snprintf(path, sizeof path, "%s/%s", dir, LT_MARKER);
+    char *path = lt_path_join(dir, LT_MARKER, err), text[512] = "";
+    if (!path)
+        return LT_ENOMEM;
     FILE *f = fopen(path, "r");
-    if (!f)
-        return lt_error_set(err, LT_EINPUT, dir, 0, "was not made by lantern (no %s file)",
-                            LT_MARKER);
+    int rc = LT_OK;
+    if (!f) {
+        rc = lt_error_set(err, LT_EINPUT, dir, 0, "was not made by lantern (no %s file)",
+                          LT_MARKER);
+        goto done;
+    }
     size_t got = fread(text, 1, sizeof text - 1, f);
     fclose(f);
     text[got] = '\0';
     /* "this folder was written by lantern VERSION COMMAND[ ...]" */
     char word[64] = "";
     if (sscanf(text, "this folder was written by lantern %*s %63[a-z]", word) != 1)
-        return lt_error_set(err, LT_EINPUT, path, 1, "not a lantern marker file");
-    snprintf(command, size, "%s", word);
-    return LT_OK;
+        rc = lt_error_set(err, LT_EINPUT, path, 1, "not a lantern marker file");
+    else
+        snprintf(command, size, "%s", word);
+done:
+    free(path);
+    return rc;
 }
 
-void lt_tmp_name(const char *final, char *buf, size_t size)
+char *lt_tmp_name(const char *final, lt_error *err)
 {
-    snprintf(buf, size, "%s.tmp", final);
+    return lt_path_format(err, "%s.tmp", final);
+}
+
+int lt_file_open_tmp(const char *final, FILE **f, lt_error *err)
+{
+    char *tmp = lt_tmp_name(final, err);
+    *f = tmp ? fopen(tmp, "w") : NULL;
+    int rc = !tmp ? LT_ENOMEM
+             : !*f ? lt_error_set(err, LT_EIO, tmp, 0, "cannot write: %s", strerror(errno))
+                   : LT_OK;
+    free(tmp);
+    return rc;
 }
 
 int lt_file_close_commit(FILE *f, const char *final, lt_error *err)
 {
-    char tmp[4096];
-    lt_tmp_name(final, tmp, sizeof tmp);
     int bad = ferror(f);
     bad |= fclose(f) != 0;
-    if (bad) {
-        remove(tmp);
-        return lt_error_set(err, LT_EIO, tmp, 0, "write failed (disk full?)");
-    }
-    return lt_file_commit(final, err);
+    if (!bad)
+        return lt_file_commit(final, err);
+    char *tmp = lt_tmp_name(final, err);
+    if (!tmp) /* the temporary file stays; output folders pass over *.tmp */
+        return LT_ENOMEM;
+    remove(tmp);
+    int rc = lt_error_set(err, LT_EIO, tmp, 0, "write failed (disk full?)");
+    free(tmp);
+    return rc;
 }
 
 int lt_file_commit(const char *final, lt_error *err)
 {
-    char tmp[4096];
-    lt_tmp_name(final, tmp, sizeof tmp);
+    char *tmp = lt_tmp_name(final, err);
+    if (!tmp)
+        return LT_ENOMEM;
+    int rc = LT_OK;
     if (rename(tmp, final) != 0)
-        return lt_error_set(err, LT_EIO, final, 0, "cannot move the finished file in place: %s",
-                            strerror(errno));
-    return LT_OK;
+        rc = lt_error_set(err, LT_EIO, final, 0, "cannot move the finished file in place: %s",
+                          strerror(errno));
+    free(tmp);
+    return rc;
 }
 
 int lt_file_write_text(const char *path, const char *text, lt_error *err)
 {
-    char tmp[4096];
-    lt_tmp_name(path, tmp, sizeof tmp);
-    FILE *f = fopen(tmp, "w");
-    if (!f)
-        return lt_error_set(err, LT_EIO, tmp, 0, "cannot write: %s", strerror(errno));
-    size_t n = strlen(text);
-    if (fwrite(text, 1, n, f) != n) {
-        fclose(f);
-        remove(tmp);
-        return lt_error_set(err, LT_EIO, tmp, 0, "write failed (disk full?)");
-    }
+    FILE *f;
+    int rc = lt_file_open_tmp(path, &f, err);
+    if (rc)
+        return rc;
+    fputs(text, f); /* a short write shows in ferror(f), checked on closing */
     return lt_file_close_commit(f, path, err);
 }
 

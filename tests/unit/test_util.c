@@ -1,5 +1,6 @@
 /* Unit tests of lantern/util.h: error records, strict number parsing, and
  * output folders and their marker. */
+#include <errno.h>
 #include <setjmp.h>
 #include <stdarg.h>
 #include <stddef.h>
@@ -10,6 +11,7 @@
 #include <cmocka.h>
 
 #include <stdio.h>
+#include <sys/stat.h>
 
 #include "lantern/lantern.h"
 #include "../testutil.h"
@@ -186,7 +188,92 @@ static void test_path_join(void **state)
     assert_int_equal(strlen(p), n + 12);
     assert_string_equal(p + n, "/000007.json");
     free(p);
+    /* paths of other shapes, past the 4096 to 4400 bytes of the buffers
+     * they once went through: built whole, to the last byte */
+    p = lt_path_format(&err, "%s/%s_%s.png", dir, "triangle", "w0wa");
+    assert_int_equal(strlen(p), n + 18);
+    assert_memory_equal(p, dir, n);
+    assert_string_equal(p + n, "/triangle_w0wa.png");
+    char *tmp = lt_tmp_name(p, &err);
+    assert_int_equal(strlen(tmp), n + 22);
+    assert_string_equal(tmp + n, "/triangle_w0wa.png.tmp");
+    free(tmp);
+    free(p);
     free(dir);
+}
+
+/* A folder of dirs 200-byte names deep under a temporary folder (whose
+ * path goes in top); returns the deep folder's path (free it). */
+static char *deep_folder(char *top, size_t size, size_t min_len)
+{
+    assert_int_equal(lt_test_tmpdir(top, size, "deep"), 0);
+    char name[201];
+    memset(name, 'n', 200);
+    name[200] = '\0';
+    char *dir = strdup(top);
+    while (strlen(dir) < min_len) {
+        char *next = lt_path_join(dir, name, NULL);
+        assert_non_null(next);
+        assert_int_equal(mkdir(next, 0777), 0);
+        free(dir);
+        dir = next;
+    }
+    return dir;
+}
+
+/* Atomic writes near the operating system's limit on a path (PATH_MAX,
+ * 4096 bytes with the closing NUL on Linux, <linux/limits.h>): a final
+ * name whose temporary name FINAL.tmp fits is written; one whose temporary
+ * name does not fit is refused by the system, and the final file is not
+ * touched. The fixed 4096-byte buffer of the temporary name cut it short
+ * instead: "FINAL.t", or for a final name of 4095 bytes the final name
+ * itself, so that the "atomic" write went straight into the final file. */
+static void test_tmp_name_at_path_max(void **state)
+{
+    (void)state;
+    char top[256];
+    char *dir = deep_folder(top, sizeof top, 3900);
+    size_t lens[] = {4091, 4092, 4094, 4095};
+    for (size_t k = 0; k < sizeof lens / sizeof lens[0]; k++) {
+        size_t stem = lens[k] - strlen(dir) - 1;
+        char name[256];
+        assert_true(stem < sizeof name);
+        memset(name, 'a' + (char)k, stem);
+        name[stem] = '\0';
+        char *final = lt_path_join(dir, name, NULL);
+        assert_int_equal(strlen(final), lens[k]);
+        lt_error err;
+        lt_error_clear(&err);
+        int rc = lt_file_write_text(final, "x\n", &err);
+        if (lens[k] + 4 < 4096) { /* FINAL.tmp fits */
+            assert_int_equal(rc, LT_OK);
+            char *text = NULL;
+            size_t len = 0;
+            assert_int_equal(lt_file_read(final, 64, &text, &len, NULL), LT_OK);
+            assert_string_equal(text, "x\n");
+            free(text);
+        } else {
+            assert_int_equal(rc, LT_EIO);
+            assert_non_null(strstr(err.msg, strerror(ENAMETOOLONG)));
+            assert_true(strncmp(err.file, top, strlen(top)) == 0); /* names the path */
+            assert_false(lt_path_exists(final));
+        }
+        free(final);
+    }
+    /* an output folder's life, marker and all, just under the limit */
+    char *out = lt_path_join(dir, "out", NULL), *file = lt_path_join(out, "a.txt", NULL);
+    lt_error err;
+    assert_int_equal(lt_outdir_prepare(out, 0, &err), LT_OK);
+    assert_int_equal(lt_file_write_text(file, "a\n", &err), LT_OK);
+    assert_int_equal(lt_outdir_finish(out, "lantern 0.1.0 test", &err), LT_OK);
+    char cmd[64];
+    assert_int_equal(lt_outdir_command(out, cmd, sizeof cmd, &err), LT_OK);
+    assert_string_equal(cmd, "test");
+    assert_true(lt_outdir_done(out));
+    free(file);
+    free(out);
+    free(dir);
+    assert_int_equal(lt_test_rmtree(top), 0);
 }
 
 int main(void)
@@ -200,6 +287,7 @@ int main(void)
         cmocka_unit_test(test_rng_streams),
         cmocka_unit_test(test_digest),
         cmocka_unit_test(test_path_join),
+        cmocka_unit_test(test_tmp_name_at_path_max),
     };
     return cmocka_run_group_tests_name("util", tests, NULL, NULL);
 }
