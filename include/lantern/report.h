@@ -73,12 +73,15 @@ void lt_report_bench_table(FILE *f, const lt_bench *b);
  * readable table headed by the model and its parameters, as CSV (columns
  * z, comoving_mpc, transverse_mpc, luminosity_mpc, angular_mpc, distmod,
  * lookback_gyr, age_gyr, hubble_km_s_mpc: DESIGN.md's order), or as JSON
- * ({model, params, rows}; an infinite age or mu at z = 0 is null). */
-void lt_report_distance_table(FILE *f, const lt_cosmo *c, size_t n, const double *z,
-                              const lt_cosmo_table *t);
+ * ({model, params, rows}; an infinite age or mu at z = 0 is null). early
+ * (r_d and the CMB quantities, lt_cosmo_early_eval; NULL with radiation
+ * off) adds a line to the table and "early_universe" {rd_mpc, z_star,
+ * rs_star_mpc, dm_star_mpc, shift_r, acoustic_l} to the JSON. */
+void lt_report_distance_table(FILE *f, const lt_cosmo *c, const lt_cosmo_early *early,
+                              size_t n, const double *z, const lt_cosmo_table *t);
 void lt_report_distance_csv(FILE *f, size_t n, const double *z, const lt_cosmo_table *t);
-struct cJSON *lt_report_distance_json(const lt_cosmo *c, size_t n, const double *z,
-                                      const lt_cosmo_table *t);
+struct cJSON *lt_report_distance_json(const lt_cosmo *c, const lt_cosmo_early *early, size_t n,
+                                      const double *z, const lt_cosmo_table *t);
 
 /* ---- surveys (lantern inspect) ---- */
 

@@ -80,12 +80,15 @@ int cli_distance(int argc, char **argv)
         status = cli_report(&err);
         goto done;
     }
+    lt_cosmo_early early;
+    lt_cosmo_early_eval(&c, &early);
+    const lt_cosmo_early *e = c.p.t_cmb > 0.0 ? &early : NULL; /* radiation on */
     if (format == CLI_TABLE)
-        lt_report_distance_table(stdout, &c, n, z, &t);
+        lt_report_distance_table(stdout, &c, e, n, z, &t);
     else if (format == CLI_CSV)
         lt_report_distance_csv(stdout, n, z, &t);
     else
-        cli_print_json(lt_report_distance_json(&c, n, z, &t), 1);
+        cli_print_json(lt_report_distance_json(&c, e, n, z, &t), 1);
     if (fflush(stdout) != 0 || ferror(stdout)) {
         fputs("lantern: distance: could not write the output\n", stderr);
         status = CLI_FAILED;

@@ -20,6 +20,8 @@
 #define MPC_M 3.0856775814913673e22
 /* A Julian year of 365.25 days, the astronomical convention (IAU). */
 #define GYR_S (1e9 * 365.25 * 86400.0)
+/* Boltzmann's constant in eV/K, exact since the 2019 SI (k_B/e, CODATA 2018). */
+#define K_B_EV 8.617333262e-5
 
 /* ---- Gauss-Legendre rules (GSL's gsl_integration_glfixed_point values) ---- */
 static const double gl2x[] = {-0.57735026918962573, 0.57735026918962573};
@@ -87,6 +89,11 @@ int lt_cosmo_init(lt_cosmo *c, const lt_cosmo_model *m, const lt_cosmo_params *p
     if (q.n_eff < 0.0)
         return lt_error_set(err, LT_EINPUT, NULL, 0, "n_eff must be >= 0, got %g",
                             q.n_eff);
+    if (q.m_nu < 0.0)
+        return lt_error_set(err, LT_EINPUT, NULL, 0, "m_nu must be >= 0 eV, got %g", q.m_nu);
+    if (q.omega_b_h2 < 0.0)
+        return lt_error_set(err, LT_EINPUT, NULL, 0, "omega_b_h2 must be >= 0, got %g",
+                            q.omega_b_h2);
 
     c->model = m;
     c->dh_mpc = LT_C_KM_S / q.h0;
@@ -99,8 +106,14 @@ int lt_cosmo_init(lt_cosmo *c, const lt_cosmo_model *m, const lt_cosmo_params *p
     double t4 = q.t_cmb * q.t_cmb * q.t_cmb * q.t_cmb;
     c->omega_gamma = 32.0 * M_PI * G_NEWTON * SIGMA_SB * t4 /
                      (3.0 * C_M_S * C_M_S * C_M_S * h0_si * h0_si);
-    c->omega_nu = c->omega_gamma * 0.875 * pow(4.0 / 11.0, 4.0 / 3.0) * q.n_eff;
+    double per_species = c->omega_gamma * 0.875 * pow(4.0 / 11.0, 4.0 / 3.0) * q.n_eff / 3.0;
+    int massive = q.t_cmb > 0.0 && q.m_nu > 0.0;
+    c->omega_nu = per_species * (massive ? 2.0 : 3.0);
     c->omega_r = c->omega_gamma + c->omega_nu;
+    c->nu_coef = massive ? per_species : 0.0;
+    c->nu_y = massive ? q.m_nu / (K_B_EV * cbrt(4.0 / 11.0) * q.t_cmb) : 0.0;
+    c->omega_nu_mass = massive ? c->nu_coef * lt_nu_f(c->nu_y) : 0.0;
+    c->omega_cb = q.omega_m - c->omega_nu_mass;
     if (m->flat) {
         q.omega_de = 1.0 - q.omega_m - c->omega_r;
         c->omega_k = 0.0;
@@ -141,7 +154,14 @@ double lt_cosmo_q(const lt_cosmo *c, double z)
     double y = 1.0 + z, x = log1p(z);
     double e2 = lt_cosmo_e2_xy(c, x, y);
     double y3 = y * y * y;
-    double num = c->omega_r * y3 * y + 0.5 * c->p.omega_m * y3;
+    double num = c->omega_r * y3 * y + 0.5 * c->omega_cb * y3;
+    if (c->nu_coef != 0.0) {
+        /* the massive neutrino, rho = nu_coef y^4 f(u) with u = nu_y/y,
+         * contributes rho (1 - (1/2) d ln f / d ln u): 1 while
+         * relativistic, 1/2 once it is matter */
+        double k = pow(0.3173 * c->nu_y / y, 1.83);
+        num += c->nu_coef * y3 * y * lt_nu_f(c->nu_y / y) * (1.0 - 0.5 * k / (1.0 + k));
+    }
     if (c->p.omega_de != 0.0)
         num += 0.5 * (1.0 + 3.0 * lt_cosmo_w(c, z)) * c->p.omega_de *
                c->model->de->density(c, x, 1.0 / y);
@@ -211,16 +231,22 @@ int lt_watch_push(lt_watch *w, const lt_cosmo *c, double t, double v)
 
 /* ---- ages ---- */
 
-/* a^4 E^2 as a function of s, with a = s^2 = 1/(1+z): finite as a -> 0. */
-static double age_p(const lt_cosmo *c, double s)
+double lt_cosmo_a4e2(const lt_cosmo *c, double a)
 {
-    double a = s * s;
-    double p = c->omega_r + a * (c->p.omega_m + a * c->omega_k);
+    double p = c->omega_r + a * (c->omega_cb + a * c->omega_k);
+    if (c->nu_coef != 0.0)
+        p += c->nu_coef * lt_nu_f(c->nu_y * a);
     if (c->p.omega_de != 0.0) {
         double x = -log(a);
         p += c->p.omega_de * c->model->de->density(c, x, a) * (a * a) * (a * a);
     }
     return p;
+}
+
+/* a^4 E^2 as a function of s, with a = s^2 = 1/(1+z): finite as a -> 0. */
+static double age_p(const lt_cosmo *c, double s)
+{
+    return lt_cosmo_a4e2(c, s * s);
 }
 
 int lt_cosmo_age_tail(const lt_cosmo *c, double x0, double *out, double *bad_z)

@@ -5,6 +5,8 @@
 #ifndef LANTERN_COSMOLOGY_INTERNAL_H
 #define LANTERN_COSMOLOGY_INTERNAL_H
 
+#include <math.h>
+
 #include "lantern/cosmology.h"
 
 /* Gauss-Legendre rules on [-1, 1]. Nodes and weights as printed by GSL's
@@ -18,6 +20,13 @@ typedef struct lt_gl_rule {
 /* The rule with n points, n in {2, 3, 4, 6, 8}; NULL otherwise. */
 const lt_gl_rule *lt_gl_rule_get(int n);
 
+/* The massive neutrino's f(u) = (1 + (0.3173 u)^1.83)^(1/1.83) (Komatsu et
+ * al. 2011, eq. 26): 1 while relativistic, 0.3173 u once not. */
+static inline double lt_nu_f(double u)
+{
+    return pow(1.0 + pow(0.3173 * u, 1.83), 1.0 / 1.83);
+}
+
 /*
  * E^2 at x = ln(1+z), given y = e^x = 1+z. Written in x because the
  * integrands are smoothest there: every term is an exponential in x.
@@ -25,7 +34,9 @@ const lt_gl_rule *lt_gl_rule_get(int n);
 static inline double lt_cosmo_e2_xy(const lt_cosmo *c, double x, double y)
 {
     double y2 = y * y;
-    double poly = ((c->omega_r * y + c->p.omega_m) * y + c->omega_k) * y2;
+    double poly = ((c->omega_r * y + c->omega_cb) * y + c->omega_k) * y2;
+    if (c->nu_coef != 0.0)
+        poly += c->nu_coef * y2 * y2 * lt_nu_f(c->nu_y / y);
     if (c->p.omega_de == 0.0)
         return poly;
     return poly + c->p.omega_de * c->model->de->density(c, x, 1.0 / y);
@@ -54,6 +65,23 @@ void lt_watch_start(lt_watch *w, lt_watch_fn f);
 /* Returns 0 if all is well so far, -1 if the function is <= 0 somewhere
  * (w->bad_t says where). */
 int lt_watch_push(lt_watch *w, const lt_cosmo *c, double t, double v);
+
+/* D_M H0/c from D_C H0/c: sinh for open, sin for closed (Hogg 1999, eq. 16). */
+static inline double lt_transverse_of(double chi, double ok)
+{
+    if (ok > 0.0) {
+        double s = sqrt(ok);
+        return sinh(s * chi) / s;
+    }
+    if (ok < 0.0) {
+        double s = sqrt(-ok);
+        return sin(s * chi) / s;
+    }
+    return chi;
+}
+
+/* a^4 E^2 at scale factor a = 1/(1+z): finite as a -> 0 (radiation). */
+double lt_cosmo_a4e2(const lt_cosmo *c, double a);
 
 /* E^2 as a function of x, for the watch. */
 double lt_watch_e2_of_x(const lt_cosmo *c, double x);

@@ -157,6 +157,8 @@ static const struct {
     [LT_P_WA] = {"wa", offsetof(lt_cosmo_params, wa)},
     [LT_P_T_CMB] = {"t_cmb", offsetof(lt_cosmo_params, t_cmb)},
     [LT_P_N_EFF] = {"n_eff", offsetof(lt_cosmo_params, n_eff)},
+    [LT_P_M_NU] = {"m_nu", offsetof(lt_cosmo_params, m_nu)},
+    [LT_P_OMEGA_B_H2] = {"omega_b_h2", offsetof(lt_cosmo_params, omega_b_h2)},
 };
 
 const char *lt_cosmo_param_name(int id)
@@ -190,6 +192,12 @@ void lt_cosmo_params_default(lt_cosmo_params *p)
     /* 3.046: the standard-model value with non-instantaneous neutrino
      * decoupling, Mangano et al. 2005 (Nucl. Phys. B 729, 221). */
     p->n_eff = 3.046;
+    /* one 0.06 eV state, the minimal mass of the normal ordering and the
+     * baseline of Planck 2018 VI (sec. 2.1, from memory); omega_b h^2 of
+     * Planck 2018 VI, table 2 (TT,TE,EE+lowE+lensing), used only where a
+     * probe needs it */
+    p->m_nu = 0.06;
+    p->omega_b_h2 = 0.02237;
 }
 
 int lt_cosmo_params_set(lt_cosmo_params *p, const lt_cosmo_model *m,
@@ -203,14 +211,14 @@ int lt_cosmo_params_set(lt_cosmo_params *p, const lt_cosmo_model *m,
     if (id < 0)
         return lt_error_set(err, LT_EINPUT, NULL, 0,
                             "unknown parameter '%s' (parameters: h0, omega_m, "
-                            "omega_de, w0, wa, t_cmb, n_eff)",
+                            "omega_de, w0, wa, t_cmb, n_eff, m_nu, omega_b_h2)",
                             name);
     if (id == LT_P_OMEGA_DE && m->flat)
         return lt_error_set(err, LT_EINPUT, NULL, 0,
                             "omega_de is derived in the flat model %s (1 - omega_m - "
                             "omega_r); use a curved model to set it",
                             m->name);
-    if (!lt_cosmo_model_uses(m, id))
+    if (!lt_cosmo_model_uses(m, id) && !LT_P_EARLY(id))
         return lt_error_set(err, LT_EINPUT, NULL, 0,
                             "model %s has no parameter %s", m->name, name);
     *lt_cosmo_params_slot(p, id) = value;

@@ -153,20 +153,6 @@ nomem:
 size_t lt_zgrid_size(const lt_zgrid *g) { return g->n; }
 size_t lt_zgrid_nodes(const lt_zgrid *g) { return g->nnodes; }
 
-/* D_M H0/c from D_C H0/c: sinh for open, sin for closed (Hogg 1999, eq. 16). */
-static double transverse_of(double chi, double ok)
-{
-    if (ok > 0.0) {
-        double s = sqrt(ok);
-        return sinh(s * chi) / s;
-    }
-    if (ok < 0.0) {
-        double s = sqrt(-ok);
-        return sin(s * chi) / s;
-    }
-    return chi;
-}
-
 static int bad_e2(lt_error *err, double x)
 {
     return lt_error_set(err, LT_EDOMAIN, NULL, 0,
@@ -214,7 +200,7 @@ int lt_cosmo_eval(const lt_cosmo *c, const lt_zgrid *g, const lt_cosmo_table *ou
                                 "closed universe (sqrt(-omega_k) D_C H0/c >= pi); "
                                 "distances beyond it are undefined",
                                 y - 1.0);
-        double dm = dh * transverse_of(chi, ok);
+        double dm = dh * lt_transverse_of(chi, ok);
         if (out->comoving)
             out->comoving[i] = dh * chi;
         if (out->transverse)

@@ -46,8 +46,8 @@ static void describe_params(FILE *f, const lt_cosmo *c)
     else
         fprintf(f, "; derived omega_k = %.6g", c->omega_k);
     if (c->p.t_cmb > 0.0)
-        fprintf(f, "; radiation on: t_cmb = %g K, n_eff = %g, omega_r = %.6g", c->p.t_cmb,
-                c->p.n_eff, c->omega_r);
+        fprintf(f, "; radiation on: t_cmb = %g K, n_eff = %g, m_nu = %g eV, omega_r = %.6g",
+                c->p.t_cmb, c->p.n_eff, c->p.m_nu, c->omega_r);
     else
         fputs("; radiation off", f);
 }
@@ -56,8 +56,10 @@ static cJSON *params_json(const lt_cosmo *c)
 {
     cJSON *o = cJSON_CreateObject();
     lt_cosmo_params p = c->p;
+    /* the early-universe parameters where they act: with radiation on */
     for (int id = 0; id < LT_P_COUNT; id++)
-        if (lt_cosmo_model_uses(c->model, id) || id == LT_P_OMEGA_DE)
+        if (lt_cosmo_model_uses(c->model, id) || id == LT_P_OMEGA_DE ||
+            (LT_P_EARLY(id) && p.t_cmb > 0.0))
             cJSON_AddItemToObject(o, lt_cosmo_param_name(id),
                                   lt_json_number(*lt_cosmo_params_slot(&p, id)));
     cJSON_AddItemToObject(o, "omega_k", lt_json_number(c->omega_k));
@@ -65,12 +67,35 @@ static cJSON *params_json(const lt_cosmo *c)
     return o;
 }
 
-void lt_report_distance_table(FILE *f, const lt_cosmo *c, size_t n, const double *z,
-                              const lt_cosmo_table *t)
+/* r_d and the CMB quantities (radiation on): one line of the table. */
+static void describe_early(FILE *f, const lt_cosmo *c, const lt_cosmo_early *e)
+{
+    fprintf(f, "\nearly universe (omega_b_h2 = %g): r_d = %.4f Mpc (Aubourg et al. 2015), "
+               "z_* = %.3f, r_s(z_*) = %.4f Mpc, R = %.6f, l_A = %.4f",
+            c->p.omega_b_h2, e->rd, e->cmb.z_star, e->cmb.rs_star, e->cmb.shift_r,
+            e->cmb.acoustic_l);
+}
+
+static cJSON *early_json(const lt_cosmo_early *e)
+{
+    cJSON *o = cJSON_CreateObject();
+    cJSON_AddItemToObject(o, "rd_mpc", lt_json_number(e->rd));
+    cJSON_AddItemToObject(o, "z_star", lt_json_number(e->cmb.z_star));
+    cJSON_AddItemToObject(o, "rs_star_mpc", lt_json_number(e->cmb.rs_star));
+    cJSON_AddItemToObject(o, "dm_star_mpc", lt_json_number(e->cmb.dm_star));
+    cJSON_AddItemToObject(o, "shift_r", lt_json_number(e->cmb.shift_r));
+    cJSON_AddItemToObject(o, "acoustic_l", lt_json_number(e->cmb.acoustic_l));
+    return o;
+}
+
+void lt_report_distance_table(FILE *f, const lt_cosmo *c, const lt_cosmo_early *early,
+                              size_t n, const double *z, const lt_cosmo_table *t)
 {
     COLUMNS(z, t);
     fprintf(f, "model %s: %s\n", c->model->name, c->model->summary);
     describe_params(f, c);
+    if (early)
+        describe_early(f, c, early);
     fputs("\n\n", f);
     int width[NCOL];
     for (int k = 0; k < NCOL; k++) {
@@ -112,13 +137,15 @@ void lt_report_distance_csv(FILE *f, size_t n, const double *z, const lt_cosmo_t
     }
 }
 
-cJSON *lt_report_distance_json(const lt_cosmo *c, size_t n, const double *z,
-                               const lt_cosmo_table *t)
+cJSON *lt_report_distance_json(const lt_cosmo *c, const lt_cosmo_early *early, size_t n,
+                               const double *z, const lt_cosmo_table *t)
 {
     COLUMNS(z, t);
     cJSON *root = cJSON_CreateObject();
     cJSON_AddStringToObject(root, "model", c->model->name);
     cJSON_AddItemToObject(root, "params", params_json(c));
+    if (early)
+        cJSON_AddItemToObject(root, "early_universe", early_json(early));
     cJSON *rows = cJSON_AddArrayToObject(root, "rows");
     for (size_t i = 0; i < n; i++) {
         cJSON *row = cJSON_CreateObject();

@@ -64,7 +64,7 @@ int main(void)
     printf("%-10s  %12s  %14s  %16s\n", "model", "D_M (us)", "D_M calls/s", "full table (us)");
     for (size_t k = 0; k < lt_cosmo_model_count(); k++) {
         const lt_cosmo_model *m = lt_cosmo_model_at(k);
-        lt_cosmo_params p = {70, 0.3, 0.65, -0.9, 0.3, 2.7255, 3.046};
+        lt_cosmo_params p = {70, 0.3, 0.65, -0.9, 0.3, 2.7255, 3.046, 0.06, 0.02237};
         lt_cosmo c;
         if (lt_cosmo_init(&c, m, &p, &err)) {
             fprintf(stderr, "bench: %s\n", err.msg);

@@ -68,6 +68,10 @@ def run_lantern(name, p, tcmb, z):
     sets = ",".join(f"{k}={v!r}" for k, v in p.items())
     if tcmb:
         sets += f",t_cmb={tcmb},n_eff={NEFF}"
+        if "m_nu" not in p:
+            # massless neutrinos, as astropy's m_nu=0.0 here (lantern's
+            # default with radiation is one 0.06 eV state: astropy_neutrinos.py)
+            sets += ",m_nu=0"
     zs = ",".join(repr(float(v)) for v in z)
     out = subprocess.run(
         [LANTERN, "distance", "--model", name, "--set", sets, "--z", zs, "--format", "json"],

@@ -305,9 +305,46 @@ def z_star_by_hand():
     return 1048 * e1 * (1 + g1 * math.exp(g2 * math.log(wm)))
 
 
+def against_lantern(report):
+    """lantern distance's "early_universe" (radiation on) against this
+    module for random parameters of every model: r_d, z_*, r_s(z_*), R and
+    l_A to 1e-6 relative (lantern's quadratures are checked at 1e-10 against
+    GSL in tests/reference/test_early.c; 1e-6 is the issue's tolerance)."""
+    import random
+    import subprocess
+    root = os.path.dirname(os.path.dirname(os.path.dirname(os.path.abspath(__file__))))
+    lantern = os.environ.get("LANTERN_BIN", os.path.join(root, "bin", "lantern"))
+    rng = random.Random(20261203)
+    for model in ["lcdm-flat", "lcdm", "wcdm-flat", "wcdm", "w0wa-flat", "w0wa"]:
+        worst = 0.0
+        for _ in range(3):
+            p = {"h0": rng.uniform(60, 78), "omega_m": rng.uniform(0.22, 0.4),
+                 "omega_b_h2": rng.uniform(0.019, 0.025), "m_nu": rng.choice([0.0, 0.06, 0.4])}
+            if not model.endswith("-flat"):
+                p["omega_de"] = rng.uniform(0.55, 0.8)
+            if model.startswith("w"):
+                p["w0"] = rng.uniform(-1.3, -0.7)
+            if model.startswith("w0wa"):
+                p["wa"] = rng.uniform(-1.0, 0.2)
+            sets = ",".join(f"{k}={v!r}" for k, v in p.items()) + f",t_cmb={T_CMB}"
+            out = subprocess.run([lantern, "distance", "--model", model, "--set", sets, "--z",
+                                  "0", "--format", "json"], capture_output=True, text=True)
+            if out.returncode:
+                report(False, f"{model}: lantern failed: {out.stderr.strip()}")
+                break
+            got = json.loads(out.stdout)["early_universe"]
+            want = cmb_quantities(model, p)
+            for k, v in want.items():
+                worst = max(worst, abs(got[k] / v - 1))
+        report(worst < 1e-6, f"lantern distance early_universe = numpy for {model} "
+               f"(r_d, z_*, r_s, R, l_A; worst relative {worst:.1e} < 1e-6)")
+
+
 def main(argv):
     if len(argv) == 1:
-        return 1 if self_checks() else 0
+        report = Report()
+        against_lantern(report)
+        return 1 if self_checks() + report.failures else 0
     if argv[1] == "planck":
         q = cmb_quantities("lcdm-flat", planck2018())
         q["source_md"] = {"shift_r": 1.7500, "acoustic_l": 302.12, "z_star": 1091.9}

@@ -30,7 +30,7 @@ typedef struct {
 static lt_cosmo make(const char *model, double h0, double om, double ode, double w0,
                      double t_cmb)
 {
-    lt_cosmo_params p = {h0, om, ode, w0, 0.0, t_cmb, 3.046};
+    lt_cosmo_params p = {h0, om, ode, w0, 0.0, t_cmb, 3.046, 0.0, 0.02237};
     lt_cosmo c;
     lt_error err;
     assert_int_equal(lt_cosmo_init(&c, lt_cosmo_model_find(model), &p, &err), LT_OK);

@@ -4,7 +4,8 @@
  * rule for finite ranges, gsl_integration_qagiu for the age integral to
  * z = infinity), asked for 1e-13 relative. Both integrate the same E(z), so
  * this checks the quadrature, panels, cumulative sums and the age tail, for
- * random parameters of all six models with and without radiation, z <= 10.
+ * random parameters of all six models with and without radiation (with a
+ * 0.06 eV neutrino or none), z <= 10.
  *
  * lantern promises 1e-8 relative; the check asks for 1e-9.
  */
@@ -50,7 +51,9 @@ static void test_against_gsl(void **state)
             lt_test_uniform(&seed, 50, 90),   lt_test_uniform(&seed, 0.01, 1.2),
             lt_test_uniform(&seed, -0.3, 1.6), lt_test_uniform(&seed, -2, -0.3),
             lt_test_uniform(&seed, -2, 1),    (draw / 6) % 2 ? 2.7255 : 0.0,
-            3.046};
+            3.046,
+            /* a massive neutrino in half the draws with radiation */
+            (draw / 12) % 2 ? 0.06 : 0.0, 0.02237};
         lt_cosmo c;
         lt_error err;
         assert_int_equal(lt_cosmo_init(&c, m, &p, &err), LT_OK);

@@ -19,7 +19,7 @@
 static lt_cosmo make(const char *model, double h0, double om, double ode, double w0,
                      double wa, double t_cmb)
 {
-    lt_cosmo_params p = {h0, om, ode, w0, wa, t_cmb, 3.046};
+    lt_cosmo_params p = {h0, om, ode, w0, wa, t_cmb, 3.046, 0.0, 0.02237};
     lt_cosmo c;
     lt_error err;
     const lt_cosmo_model *m = lt_cosmo_model_find(model);
