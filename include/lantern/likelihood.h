@@ -72,7 +72,7 @@ typedef struct lt_param {
 } lt_param;
 
 /* Whether name is a parameter some model or term can have: the
- * cosmological ones and offset. */
+ * cosmological ones (m_nu and omega_b_h2 included), offset and rd_h. */
 int lt_param_known(const char *name);
 /* Whether a likelihood of model m can have parameter name: offset always
  * (where the data need one); omega_de not in a flat model, where it is
@@ -82,8 +82,9 @@ int lt_param_of_model(const lt_cosmo_model *m, const char *name);
 const char *lt_param_known_list(void);
 /* The default prior of a parameter for an observable (DESIGN.md):
  * omega_m U(0,1), omega_de U(0,1.6), w0 U(-2,0), wa U(-3,2), h0 U(40,100),
- * offset U(-21,-17) for mag data and U(-2,2) otherwise; U(0, 0) for a name
- * without one. */
+ * omega_b_h2 U(0.005,0.1), rd_h U(50,150) (Mpc), offset U(-21,-17) for mag
+ * data and U(-2,2) otherwise; U(0, 0) for a name without one (m_nu: fixed
+ * unless given a prior). */
 lt_prior lt_param_default_prior(const char *name, lt_obs kind);
 
 typedef enum { LT_OFFSET_DEFAULT = -1, LT_OFFSET_NONE = 0, LT_OFFSET_MARGINAL,
@@ -126,6 +127,14 @@ typedef struct lt_like_spec {
     lt_param_setting settings[LT_MAX_PARAMS];
     size_t nmeasurements;
     lt_measurement measurements[LT_MAX_MEASUREMENTS];
+    /* the BAO term: its table and covariance files (lt_probe_read; NULL:
+     * no BAO term, or errors from the table's err column); rd_free samples
+     * rd_h = r_d h instead of r_d from its formula. The strings must
+     * outlive the spec. */
+    const char *bao, *bao_cov;
+    int rd_free;
+    /* the CMB distance-prior term: its table and covariance files, or NULL */
+    const char *cmb, *cmb_cov;
 } lt_like_spec;
 
 void lt_like_spec_init(lt_like_spec *s, const lt_cosmo_model *m);
@@ -152,6 +161,12 @@ typedef struct lt_like_work lt_like_work;
  * likelihood lacks, a derived parameter, impossible bounds, an offset with
  * dl data, h0 given a prior while only a marginalised offset depends on it,
  * a measurement of an unknown quantity, or no term at all.
+ *
+ * The parameter table: the model's (h0 free when a term depends on it),
+ * then with radiation on (t_cmb fixed > 0, or a term that needs the early
+ * universe, which sets t_cmb = 2.7255 K) m_nu (fixed at 0.06 eV unless
+ * given a prior), then omega_b_h2 where a term reads it, then the terms'
+ * own (offset, rd_h).
  */
 lt_like *lt_like_alloc(const lt_survey *s, const lt_like_spec *spec, lt_error *err);
 void lt_like_free(lt_like *l);
@@ -169,6 +184,11 @@ const lt_param *lt_like_fixed(const lt_like *l, size_t k);
 lt_offset_mode lt_like_offset_mode(const lt_like *l);
 /* The supernova survey, or NULL when there is no supernova term. */
 const lt_survey *lt_like_survey(const lt_like *l);
+/* The BAO term's table, or NULL without one; *rd_free (if not NULL): it
+ * samples rd_h rather than r_d from the formula. */
+const lt_probe *lt_like_bao(const lt_like *l, int *rd_free);
+/* The CMB term's table, or NULL without one. */
+const lt_probe *lt_like_cmb(const lt_like *l);
 const lt_cosmo_model *lt_like_model(const lt_like *l);
 /* Parameters other than the free ones: fixed values and defaults. */
 const lt_cosmo_params *lt_like_base(const lt_like *l);
@@ -318,8 +338,26 @@ typedef struct lt_term_out {
     double offset;   /* the supernova offset, best or sampled; else untouched */
 } lt_term_out;
 
+/* A parameter a term brings, free with this default prior. */
+typedef struct lt_term_param {
+    const char *name;
+    lt_prior prior;
+} lt_term_param;
+
+/* What a term needs of the parameter table, declared before the table is
+ * built (DESIGN.md: add_params): h0 free, the early universe (radiation
+ * on), omega_b_h2, and parameters of its own. */
+#define LT_TERM_OWN_MAX 4
+typedef struct lt_term_needs {
+    int h0, early, omega_b_h2;
+    size_t nown;
+    lt_term_param own[LT_TERM_OWN_MAX];
+} lt_term_needs;
+
 typedef struct lt_term_type {
     const char *name;
+    /* Add what the term with config needs to *needs (NULL: nothing). */
+    void (*add_params)(const void *config, lt_term_needs *needs);
     /* Set up from config with the parameter table final (lt_like_param
      * etc. work on l); NULL and err on failure. */
     void *(*setup)(const void *config, const lt_like *l, lt_error *err);

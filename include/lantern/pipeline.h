@@ -66,6 +66,9 @@ typedef struct lt_job {
     const char *models;  /* [run] models: a comma-separated list */
     lt_survey_spec data;
     int cov_from_flags;  /* a --cov flag replaced the run file's list */
+    const char *bao, *bao_cov; /* [data] bao, bao_cov: the BAO term's files */
+    const char *rd;      /* [data] rd: "formula" (the default) or "free" */
+    const char *cmb, *cmb_cov; /* [data] cmb, cmb_cov: the CMB term's files */
     const char *model, *offset;
     lt_job_entry priors[LT_JOB_MAX_ENTRIES], fixes[LT_JOB_MAX_ENTRIES],
         measures[LT_JOB_MAX_ENTRIES];
@@ -130,8 +133,8 @@ int lt_job_data_section(lt_job *j, lt_ini *ini, const char *section, lt_survey_s
  * one is refused ("no checkpoint here ...: " what). */
 int lt_job_resume(lt_job *j, const char *dir, const char *what, lt_error *err);
 
-/* Make spec's paths absolute (strings kept by j), so that summaries and
- * resumes name them from anywhere. */
+/* Make spec's paths and j's BAO files absolute (strings kept by j), so
+ * that summaries and resumes name them from anywhere. */
 int lt_job_absolute(lt_job *j, lt_survey_spec *spec, lt_error *err);
 
 /* The likelihood spec for model m: the offset, the priors and fixed values
@@ -144,8 +147,8 @@ int lt_job_like_spec(const lt_job *j, const lt_cosmo_model *m, lt_like_spec *spe
 int lt_job_model_spec(const lt_job *j, lt_like_spec *spec, lt_error *err);
 
 /* j's survey into *s; none (NULL) when no data file is given but j has a
- * measurement (the likelihood then has other terms; other survey options
- * are then an error). */
+ * measurement or a BAO file (the likelihood then has other terms; other
+ * survey options are then an error). */
 int lt_job_survey(const lt_job *j, lt_survey **s, lt_error *err);
 
 /* Write j, with its final likelihood spec, as a run file (absolute paths)

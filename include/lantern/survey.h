@@ -188,6 +188,32 @@ int lt_survey_stats_compute(const lt_survey *s, size_t nbins, lt_survey_stats *s
                             lt_error *err);
 
 /* ---------------------------------------------------------------------- */
+/* Probe tables: a few measurements and their covariance (BAO, CMB)        */
+/* ---------------------------------------------------------------------- */
+
+/*
+ * A CSV file with a header naming its columns: quantity and value always;
+ * z (> 0), err (> 0; needed without a covariance) and rd_fid (> 0) where
+ * they apply, each of them empty in a row it does not apply to; any other
+ * column (a tracer's name, say) is ignored. '#' starts a comment line. The
+ * covariance comes from cov_path (lt_matrix_read; its size must match the
+ * rows), else from err (diagonal); it must be symmetric and positive
+ * definite. Absent columns read NaN. Errors name the file and line.
+ */
+#define LT_PROBE_NAME 32
+typedef struct lt_probe {
+    char *path, *cov_path;          /* as given (cov_path NULL: from err) */
+    size_t n;
+    char (*quantity)[LT_PROBE_NAME];
+    double *z, *value, *err, *rd_fid;
+    long *line;                     /* each row's line in path */
+    int has_z, has_err;
+    double *cov;                    /* n x n, row-major */
+} lt_probe;
+int lt_probe_read(const char *path, const char *cov_path, lt_probe **out, lt_error *err);
+void lt_probe_free(lt_probe *p);
+
+/* ---------------------------------------------------------------------- */
 /* Dense covariance files                                                  */
 /* ---------------------------------------------------------------------- */
 

@@ -6,7 +6,7 @@
 #include "compress.h"
 #include "lantern/likelihood.h"
 
-#define LT_MAX_TERMS (1 + LT_MAX_MEASUREMENTS)
+#define LT_MAX_TERMS (2 + LT_MAX_MEASUREMENTS)
 
 typedef struct lt_term {
     const lt_term_type *type;
@@ -33,6 +33,8 @@ struct lt_like {
     const lt_survey *s_survey;     /* its survey */
     size_t nmeas;
     lt_measurement meas[LT_MAX_MEASUREMENTS];
+    const void *bao, *cmb;         /* the BAO and CMB terms' states, or NULL */
+    int rd_free;
 };
 
 struct lt_like_work {
@@ -64,6 +66,7 @@ double lt_quantity_value(const lt_quantity *q, const double *values, const lt_co
 typedef struct lt_sn_config {
     const lt_survey *s;
     lt_offset_mode offset; /* resolved: none, marginal or sampled */
+    lt_obs kind;           /* the observable, for the offset's default prior */
 } lt_sn_config;
 
 extern const lt_term_type lt_term_sn;
@@ -75,5 +78,37 @@ int lt_sn_compress(lt_like *l, lt_error *err);
 
 /* ---- measurements (measure.c) ---- */
 extern const lt_term_type lt_term_measure;
+
+/* ---- terms over a probe table: BAO (bao.c), CMB (cmb.c) ---- */
+typedef struct lt_probe_config {
+    const char *path, *cov_path;
+    int rd_free; /* BAO: sample rd_h */
+} lt_probe_config;
+extern const lt_term_type lt_term_bao, lt_term_cmb;
+/* The table a term's state read. */
+const lt_probe *lt_bao_table(const void *state);
+const lt_probe *lt_cmb_table(const void *state);
+/* The lower Cholesky factor of d's covariance (malloc'ed, n x n) and the
+ * normalisation -(n ln 2 pi + ln det C)/2; NULL and err on failure. */
+double *lt_probe_cholesky(const lt_probe *d, double *lognorm, lt_error *err);
+/* r^T C^-1 r from the factor; r (n values) is overwritten. */
+double lt_probe_chi2(const double *chol, size_t n, double *r);
+/* What a term over a probe table holds: the table, each row's quantity
+ * (an index into the term's names), the factored covariance. */
+typedef struct lt_probe_term {
+    lt_probe *data;
+    int *kind;
+    double *chol;
+    double lognorm;
+} lt_probe_term;
+/* Read cf's table and map each row's quantity to its index in names; an
+ * unknown one is refused at its file and line ("unknown WHAT quantity").
+ * Close t in every case. */
+int lt_probe_term_open(lt_probe_term *t, const lt_probe_config *cf, const char *what,
+                       const char *const *names, int nnames, lt_error *err);
+void lt_probe_term_close(lt_probe_term *t);
+
+/* The table index of the entry called name, free or fixed, or -1. */
+int lt_like_entry(const lt_like *l, const char *name);
 
 #endif

@@ -18,7 +18,9 @@ static void label_of(const char *name, const char **label, const char **unit)
     } t[] = {{"h0", "H_0", "km/s/Mpc"},           {"omega_m", "\\Omega_\\mathrm{m}", ""},
              {"omega_de", "\\Omega_\\mathrm{DE}", ""}, {"w0", "w_0", ""},
              {"wa", "w_a", ""},                    {"t_cmb", "T_\\mathrm{CMB}", "K"},
-             {"n_eff", "N_\\mathrm{eff}", ""},      {"offset", "M", "mag"}};
+             {"n_eff", "N_\\mathrm{eff}", ""},      {"offset", "M", "mag"},
+             {"m_nu", "\\sum m_\\nu", "eV"},       {"omega_b_h2", "\\Omega_\\mathrm{b} h^2", ""},
+             {"rd_h", "r_\\mathrm{d} h", "Mpc"}};
     *label = name, *unit = "";
     for (size_t i = 0; i < sizeof t / sizeof t[0]; i++)
         if (!strcmp(t[i].name, name))
@@ -100,25 +102,32 @@ static int offset_mode(const lt_survey *s, const lt_like_spec *spec, lt_error *e
     return (int)offset;
 }
 
-/* Does any term but a supernova term with a marginalised offset depend on
- * h0 (DESIGN.md: h0 is free exactly then)? */
-static int h0_needed(const lt_survey *s, lt_offset_mode offset, const lt_like_spec *spec)
+/* The terms of a likelihood before set-up: each with its configuration,
+ * and what they need of the table together (their add_params). */
+typedef struct {
+    size_t n;
+    const lt_term_type *type[LT_MAX_TERMS];
+    const void *config[LT_MAX_TERMS];
+    lt_sn_config sn;
+    lt_probe_config bao, cmb;
+    lt_term_needs needs;
+    int radiation; /* on: the early universe is needed or t_cmb fixed > 0 */
+} plan;
+
+static void plan_add(plan *p, const lt_term_type *type, const void *config)
 {
-    if (s && offset != LT_OFFSET_MARGINAL)
-        return 1;
-    for (size_t k = 0; k < spec->nmeasurements; k++)
-        if (!strcmp(spec->measurements[k].name, "h0") ||
-            !strcmp(spec->measurements[k].name, "age_gyr"))
-            return 1;
-    return 0;
+    p->type[p->n] = type, p->config[p->n++] = config;
+    if (type->add_params)
+        type->add_params(config, &p->needs);
 }
 
 /* Check each setting against the table's parameters (the messages say
  * what to do instead). */
 static int check_settings(const lt_survey *s, const lt_like_spec *spec, lt_offset_mode offset,
-                          int h0_free, lt_error *err)
+                          const plan *pl, lt_error *err)
 {
     const lt_cosmo_model *m = spec->model;
+    int h0_free = pl->needs.h0;
     for (size_t k = 0; k < spec->nsettings; k++) {
         const lt_param_setting *st = &spec->settings[k];
         const char *name = st->name, *what = st->origin ? st->origin : st->fixed ? "--fix" : "--prior";
@@ -126,6 +135,12 @@ static int check_settings(const lt_survey *s, const lt_like_spec *spec, lt_offse
         if (!lt_param_known(name))
             return lt_error_set(err, LT_EINPUT, what, line, "unknown parameter '%s' (parameters: %s)",
                                 name, lt_param_known_list());
+        if (!strcmp(name, "rd_h")) {
+            if (!spec->bao || !spec->rd_free)
+                return lt_error_set(err, LT_EINPUT, what, line,
+                                    "rd_h (r_d h) is a parameter only of BAO with --rd free");
+            continue;
+        }
         if (!strcmp(name, "offset")) {
             if (!s)
                 return lt_error_set(err, LT_EINPUT, what, line,
@@ -137,6 +152,20 @@ static int check_settings(const lt_survey *s, const lt_like_spec *spec, lt_offse
             continue;
         }
         int id = lt_cosmo_param_find(name);
+        if (id == LT_P_M_NU && !pl->radiation)
+            return lt_error_set(err, LT_EINPUT, what, line,
+                                "m_nu acts only with radiation on: fix t_cmb (2.7255) or add a "
+                                "term of the early universe (BAO with the r_d formula, CMB)");
+        if (id == LT_P_OMEGA_B_H2 && !pl->needs.omega_b_h2)
+            return lt_error_set(err, LT_EINPUT, what, line,
+                                "nothing here reads omega_b_h2 (BAO with the r_d formula and the "
+                                "CMB do)");
+        if (id == LT_P_T_CMB && st->fixed && st->value == 0.0 && pl->needs.early)
+            return lt_error_set(err, LT_EINPUT, what, line,
+                                "this likelihood needs the early universe (BAO with the r_d "
+                                "formula, CMB): radiation cannot be off");
+        if (LT_P_EARLY(id))
+            continue;
         if (id == LT_P_OMEGA_DE && m->flat)
             return lt_error_set(err, LT_EINPUT, what, line,
                                 "omega_de is derived in the flat model %s (1 - omega_m - "
@@ -159,10 +188,10 @@ static int check_settings(const lt_survey *s, const lt_like_spec *spec, lt_offse
     return LT_OK;
 }
 
-/* Add table entry name: free with its prior (the setting's or the default),
- * or fixed at value (the setting's, else dflt). */
+/* Add table entry name: free with its prior (the setting's, else
+ * dflt_prior), or fixed at value (the setting's, else dflt). */
 static int add_entry(lt_like *l, const char *name, int cosmo_id, int can_be_free, double dflt,
-                     const lt_like_spec *spec, lt_obs kind, lt_error *err)
+                     lt_prior dflt_prior, const lt_like_spec *spec, lt_error *err)
 {
     const lt_param_setting *st = lt_like_spec_setting(spec, name);
     int free_par = can_be_free && !(st && st->fixed);
@@ -174,7 +203,7 @@ static int add_entry(lt_like *l, const char *name, int cosmo_id, int can_be_free
     snprintf(p->name, sizeof p->name, "%s", name);
     label_of(name, &p->label, &p->unit);
     p->free = free_par;
-    p->prior = st && !st->fixed ? st->prior : lt_param_default_prior(name, kind);
+    p->prior = st && !st->fixed ? st->prior : dflt_prior;
     p->value = st && st->fixed ? st->value : dflt;
     l->cosmo_id[l->npar] = cosmo_id;
     if (p->free)
@@ -194,53 +223,74 @@ static int add_term(lt_like *l, const lt_term_type *type, const void *config, lt
     return LT_OK;
 }
 
+/* The table: the model's parameters in id order, the early universe's,
+ * then the terms' own (see lantern/likelihood.h). */
+static int build_table(lt_like *l, const lt_like_spec *spec, const plan *pl, lt_obs kind,
+                       lt_error *err)
+{
+    lt_cosmo_params_default(&l->base);
+    if (pl->needs.early)
+        l->base.t_cmb = 2.7255; /* DESIGN.md: T_CMB of the early universe */
+    for (int id = 0; id < LT_P_COUNT; id++) {
+        if (LT_P_EARLY(id) || !lt_cosmo_model_uses(l->model, id) ||
+            (id == LT_P_OMEGA_DE && l->model->flat))
+            continue;
+        int can_be_free = id == LT_P_H0 ? pl->needs.h0 : id != LT_P_T_CMB && id != LT_P_N_EFF;
+        const char *name = lt_cosmo_param_name(id);
+        if (add_entry(l, name, id, can_be_free, *lt_cosmo_params_slot(&l->base, id),
+                      lt_param_default_prior(name, kind), spec, err))
+            return err ? err->code : LT_EINPUT;
+        *lt_cosmo_params_slot(&l->base, id) = l->par[l->npar - 1].value;
+    }
+    /* m_nu where radiation is on (fixed unless given a prior), omega_b_h2
+     * where a term reads it */
+    for (int id = LT_P_M_NU; id <= LT_P_OMEGA_B_H2; id++) {
+        const char *name = lt_cosmo_param_name(id);
+        const lt_param_setting *st = lt_like_spec_setting(spec, name);
+        int wanted = id == LT_P_M_NU ? l->base.t_cmb > 0.0 : pl->needs.omega_b_h2;
+        int can_be_free = id == LT_P_M_NU ? st && !st->fixed : 1;
+        if (!wanted)
+            continue;
+        if (add_entry(l, name, id, can_be_free, *lt_cosmo_params_slot(&l->base, id),
+                      lt_param_default_prior(name, kind), spec, err))
+            return err ? err->code : LT_EINPUT;
+        *lt_cosmo_params_slot(&l->base, id) = l->par[l->npar - 1].value;
+    }
+    for (size_t k = 0; k < pl->needs.nown; k++) {
+        const lt_term_param *tp = &pl->needs.own[k];
+        if (!strcmp(tp->name, "offset"))
+            l->offset_at = (int)l->npar;
+        if (add_entry(l, tp->name, -1, 1, 0.0, tp->prior, spec, err))
+            return err ? err->code : LT_EINPUT;
+    }
+    return LT_OK;
+}
+
 lt_like *lt_like_alloc(const lt_survey *s, const lt_like_spec *spec, lt_error *err)
 {
     if (!spec->model) {
         lt_error_set(err, LT_EINPUT, "--model", 0, "no model given");
         return NULL;
     }
-    if (!s && spec->nmeasurements == 0) {
+    if (!s && spec->nmeasurements == 0 && !spec->bao && !spec->cmb) {
         lt_error_set(err, LT_EINPUT, "--data", 0,
-                     "nothing to fit: give a survey (--data) or a measurement (--measure)");
+                     "nothing to fit: give a survey (--data), BAO (--bao), the CMB (--cmb) "
+                     "or a measurement (--measure)");
         return NULL;
     }
     int offset = offset_mode(s, spec, err);
     if (offset < 0)
         return NULL;
-    int h0_free = h0_needed(s, (lt_offset_mode)offset, spec);
-    if (check_settings(s, spec, (lt_offset_mode)offset, h0_free, err))
-        return NULL;
     lt_like *l = calloc(1, sizeof *l);
-    if (!l) {
+    plan *pl = calloc(1, sizeof *pl);
+    if (!l || !pl) {
         lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
-        return NULL;
+        goto fail;
     }
     l->model = spec->model;
     l->offset = (lt_offset_mode)offset;
     l->offset_at = -1;
     lt_obs kind = s ? s->kind : LT_OBS_MU;
-    /* the model's parameters, in id order; then the terms' (the offset) */
-    lt_cosmo_params_default(&l->base);
-    for (int id = 0; id < LT_P_COUNT; id++) {
-        if (!lt_cosmo_model_uses(l->model, id) || (id == LT_P_OMEGA_DE && l->model->flat))
-            continue;
-        int can_be_free = id == LT_P_H0 ? h0_free : id != LT_P_T_CMB && id != LT_P_N_EFF;
-        if (add_entry(l, lt_cosmo_param_name(id), id, can_be_free,
-                      *lt_cosmo_params_slot(&l->base, id), spec, kind, err))
-            goto fail;
-        *lt_cosmo_params_slot(&l->base, id) = l->par[l->npar - 1].value;
-    }
-    if (l->offset == LT_OFFSET_SAMPLED) {
-        l->offset_at = (int)l->npar;
-        if (add_entry(l, "offset", -1, 1, 0.0, spec, kind, err))
-            goto fail;
-    }
-    const lt_param_setting *h0 = lt_like_spec_setting(spec, "h0");
-    l->h0_known = h0_free || (h0 && h0->fixed);
-    lt_cosmo c;
-    if (lt_cosmo_init(&c, l->model, &l->base, err))
-        goto fail;
     /* the measurements by name, stably (insertion sort: they are few), so
      * that their order on the command line or in a settings file written
      * back for --resume makes no difference to the sum */
@@ -252,22 +302,49 @@ lt_like *lt_like_alloc(const lt_survey *s, const lt_like_spec *spec, lt_error *e
         }
         l->meas[at] = spec->measurements[k];
     }
-    /* the supernova term first: the sum then adds the measurements to its chi2 */
+    /* the terms: supernovae first, the sum then adds the others to its
+     * chi2; their needs make the table */
     if (s) {
-        lt_sn_config cf = {.s = s, .offset = l->offset};
-        l->sn_term = l->nterms;
-        if (add_term(l, &lt_term_sn, &cf, err))
-            goto fail;
-        l->sn = l->term[l->sn_term].state;
-        l->s_survey = s;
+        pl->sn = (lt_sn_config){.s = s, .offset = l->offset, .kind = kind};
+        plan_add(pl, &lt_term_sn, &pl->sn);
+    }
+    if (spec->bao) {
+        pl->bao = (lt_probe_config){spec->bao, spec->bao_cov, spec->rd_free};
+        plan_add(pl, &lt_term_bao, &pl->bao);
+    }
+    if (spec->cmb) {
+        pl->cmb = (lt_probe_config){spec->cmb, spec->cmb_cov, 0};
+        plan_add(pl, &lt_term_cmb, &pl->cmb);
     }
     for (size_t k = 0; k < l->nmeas; k++)
-        if (add_term(l, &lt_term_measure, &l->meas[k], err))
+        plan_add(pl, &lt_term_measure, &l->meas[k]);
+    const lt_param_setting *tcmb = lt_like_spec_setting(spec, "t_cmb");
+    pl->radiation = pl->needs.early || (tcmb && tcmb->fixed && tcmb->value > 0.0);
+    if (check_settings(s, spec, l->offset, pl, err) || build_table(l, spec, pl, kind, err))
+        goto fail;
+    const lt_param_setting *h0 = lt_like_spec_setting(spec, "h0");
+    l->h0_known = pl->needs.h0 || (h0 && h0->fixed);
+    lt_cosmo c;
+    if (lt_cosmo_init(&c, l->model, &l->base, err))
+        goto fail;
+    for (size_t t = 0; t < pl->n; t++) {
+        if (pl->type[t] == &lt_term_sn)
+            l->sn_term = l->nterms;
+        if (add_term(l, pl->type[t], pl->config[t], err))
             goto fail;
+        if (pl->type[t] == &lt_term_sn) /* the later terms may ask for it */
+            l->sn = l->term[l->sn_term].state, l->s_survey = s;
+        if (pl->type[t] == &lt_term_bao)
+            l->bao = l->term[l->nterms - 1].state, l->rd_free = spec->rd_free;
+        if (pl->type[t] == &lt_term_cmb)
+            l->cmb = l->term[l->nterms - 1].state;
+    }
     if (s && !spec->exact && s->kind != LT_OBS_DL && lt_sn_compress(l, err))
         goto fail;
+    free(pl);
     return l;
 fail:
+    free(pl);
     lt_like_free(l);
     return NULL;
 }

@@ -19,6 +19,17 @@ typedef struct {
     lt_quantity q; /* what it measures */
 } measure;
 
+/* A measurement of h0 or of the age (which scales with 1/h0) frees h0; one
+ * of omega_b_h2 puts it in the table. */
+static void measure_needs(const void *config, lt_term_needs *needs)
+{
+    const lt_measurement *m = config;
+    if (!strcmp(m->name, "h0") || !strcmp(m->name, "age_gyr"))
+        needs->h0 = 1;
+    if (!strcmp(m->name, "omega_b_h2"))
+        needs->omega_b_h2 = 1;
+}
+
 static void *measure_setup(const void *config, const lt_like *l, lt_error *err)
 {
     const lt_measurement *m = config;
@@ -46,7 +57,7 @@ static void *measure_setup(const void *config, const lt_like *l, lt_error *err)
         free(t);
         return NULL;
     }
-    /* an age measurement freed h0 (h0_needed), so the age is defined */
+    /* an age measurement freed h0 (measure_needs), so the age is defined */
     return t;
 }
 
@@ -85,6 +96,7 @@ static double measure_lognorm(const void *state)
 static void measure_free(void *state) { free(state); }
 
 const lt_term_type lt_term_measure = {.name = "measurement",
+                                      .add_params = measure_needs,
                                       .setup = measure_setup,
                                       .work_alloc = measure_work_alloc,
                                       .work_free = measure_work_free,

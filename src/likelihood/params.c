@@ -65,22 +65,23 @@ void lt_prior_format(const lt_prior *p, char *buf, size_t size)
 /* ---- the parameters lantern knows ---- */
 int lt_param_known(const char *name)
 {
-    return name && (!strcmp(name, "offset") || lt_cosmo_param_find(name) >= 0);
+    return name && (!strcmp(name, "offset") || !strcmp(name, "rd_h") ||
+                    lt_cosmo_param_find(name) >= 0);
 }
 
 int lt_param_of_model(const lt_cosmo_model *m, const char *name)
 {
-    if (!strcmp(name, "offset"))
+    if (!strcmp(name, "offset") || !strcmp(name, "rd_h"))
         return 1;
     int id = lt_cosmo_param_find(name);
     if (id < 0 || (id == LT_P_OMEGA_DE && m->flat))
         return 0;
-    return lt_cosmo_model_uses(m, id);
+    return lt_cosmo_model_uses(m, id) || LT_P_EARLY(id);
 }
 
 const char *lt_param_known_list(void)
 {
-    return "h0, omega_m, omega_de, w0, wa, t_cmb, n_eff, offset";
+    return "h0, omega_m, omega_de, w0, wa, t_cmb, n_eff, m_nu, omega_b_h2, offset, rd_h";
 }
 
 lt_prior lt_param_default_prior(const char *name, lt_obs kind)
@@ -90,7 +91,9 @@ lt_prior lt_param_default_prior(const char *name, lt_obs kind)
         lt_prior p;
     } t[] = {{"h0", {LT_PRIOR_UNIFORM, 40, 100}}, {"omega_m", {LT_PRIOR_UNIFORM, 0, 1}},
              {"omega_de", {LT_PRIOR_UNIFORM, 0, 1.6}}, {"w0", {LT_PRIOR_UNIFORM, -2, 0}},
-             {"wa", {LT_PRIOR_UNIFORM, -3, 2}}};
+             {"wa", {LT_PRIOR_UNIFORM, -3, 2}},
+             {"omega_b_h2", {LT_PRIOR_UNIFORM, 0.005, 0.1}},
+             {"rd_h", {LT_PRIOR_UNIFORM, 50, 150}}};
     if (!strcmp(name, "offset"))
         return kind == LT_OBS_MAG ? (lt_prior){LT_PRIOR_UNIFORM, -21, -17}
                                   : (lt_prior){LT_PRIOR_UNIFORM, -2, 2};

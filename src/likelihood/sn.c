@@ -42,6 +42,18 @@ static void sn_free(void *state)
     free(sn);
 }
 
+/* h0 unless the offset is marginalised (then degenerate with it); a
+ * sampled offset is the term's own parameter. */
+static void sn_needs(const void *config, lt_term_needs *needs)
+{
+    const lt_sn_config *cf = config;
+    if (cf->offset != LT_OFFSET_MARGINAL)
+        needs->h0 = 1;
+    if (cf->offset == LT_OFFSET_SAMPLED)
+        needs->own[needs->nown++] =
+            (lt_term_param){"offset", lt_param_default_prior("offset", cf->kind)};
+}
+
 static void *sn_setup(const void *config, const lt_like *l, lt_error *err)
 {
     const lt_sn_config *cf = config;
@@ -220,6 +232,7 @@ static double sn_lognorm(const void *state)
 }
 
 const lt_term_type lt_term_sn = {.name = "supernovae",
+                                 .add_params = sn_needs,
                                  .setup = sn_setup,
                                  .work_alloc = sn_work_alloc,
                                  .work_free = sn_work_free,

@@ -17,11 +17,26 @@ size_t lt_like_nfixed(const lt_like *l) { return l->nfixed; }
 const lt_param *lt_like_fixed(const lt_like *l, size_t k) { return &l->par[l->fixed_at[k]]; }
 lt_offset_mode lt_like_offset_mode(const lt_like *l) { return l->offset; }
 const lt_survey *lt_like_survey(const lt_like *l) { return l->sn ? l->s_survey : NULL; }
+const lt_probe *lt_like_bao(const lt_like *l, int *rd_free)
+{
+    if (rd_free)
+        *rd_free = l->rd_free;
+    return l->bao ? lt_bao_table(l->bao) : NULL;
+}
+const lt_probe *lt_like_cmb(const lt_like *l) { return l->cmb ? lt_cmb_table(l->cmb) : NULL; }
 const lt_cosmo_model *lt_like_model(const lt_like *l) { return l->model; }
 const lt_cosmo_params *lt_like_base(const lt_like *l) { return &l->base; }
 int lt_like_h0_known(const lt_like *l) { return l->h0_known; }
 size_t lt_like_nmeasurements(const lt_like *l) { return l->nmeas; }
 const lt_measurement *lt_like_measurement(const lt_like *l, size_t k) { return &l->meas[k]; }
+
+int lt_like_entry(const lt_like *l, const char *name)
+{
+    for (size_t k = 0; k < l->npar; k++)
+        if (!strcmp(l->par[k].name, name))
+            return (int)k;
+    return -1;
+}
 
 int lt_like_param_index(const lt_like *l, const char *name)
 {

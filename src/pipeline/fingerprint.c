@@ -41,10 +41,24 @@ void lt_fingerprint_like(const lt_like *l, lt_fingerprint *fp)
         lt_digest_add(&h, m->name, strlen(m->name) + 1);
         lt_digest_add(&h, v, sizeof v);
     }
+    /* the BAO and CMB tables: names, redshifts, values; their covariances */
+    const lt_probe *probe[2] = {lt_like_bao(l, NULL), lt_like_cmb(l)};
+    for (int k = 0; k < 2; k++) {
+        const lt_probe *d = probe[k];
+        for (size_t i = 0; d && i < d->n; i++) /* the names only: the rest is not set */
+            lt_digest_add(&h, d->quantity[i], strlen(d->quantity[i]) + 1);
+        if (d) {
+            lt_digest_add(&h, d->z, d->n * sizeof *d->z);
+            lt_digest_add(&h, d->value, d->n * sizeof *d->value);
+        }
+    }
     fp->part[LT_FP_DATA] = h;
     h = LT_DIGEST_START;
     if (s)
         lt_cov_digest(s->cov, &h);
+    for (int k = 0; k < 2; k++)
+        if (probe[k])
+            lt_digest_add(&h, probe[k]->cov, probe[k]->n * probe[k]->n * sizeof *probe[k]->cov);
     fp->part[LT_FP_COV] = h;
     h = LT_DIGEST_START;
     lt_digest_add(&h, lt_like_model(l)->name, strlen(lt_like_model(l)->name));

@@ -110,6 +110,11 @@ static const rule rules[] = {
     {LT_JOB_DATA, "data", "zmax", "--zmax", K_Z, 0, 0, AT(data.zmax)},
     {LT_JOB_DATA, "data", "keep_ids", "--keep-ids", K_PATH, 0, 0, AT(data.keep_ids)},
     {LT_JOB_DATA, "data", "drop_ids", "--drop-ids", K_PATH, 0, 0, AT(data.drop_ids)},
+    {LT_JOB_DATA, "data", "bao", "--bao", K_PATH, 0, 0, AT(bao)},
+    {LT_JOB_DATA, "data", "bao_cov", "--bao-cov", K_PATH, 0, 0, AT(bao_cov)},
+    {LT_JOB_DATA, "data", "rd", "--rd", K_TEXT, 0, 0, AT(rd)},
+    {LT_JOB_DATA, "data", "cmb", "--cmb", K_PATH, 0, 0, AT(cmb)},
+    {LT_JOB_DATA, "data", "cmb_cov", "--cmb-cov", K_PATH, 0, 0, AT(cmb_cov)},
     {LT_JOB_MODEL, "model", "name", "--model", K_TEXT, 0, 0, AT(model)},
     {LT_JOB_MODEL, "model", "offset", "--offset", K_TEXT, 0, 0, AT(offset)},
     {LT_JOB_PARAMS, "priors", NULL, "--prior", K_ENTRY, 0, 0, AT(priors)},
@@ -532,6 +537,20 @@ int lt_job_like_spec(const lt_job *j, const lt_cosmo_model *m, lt_like_spec *spe
                      lt_error *err)
 {
     lt_like_spec_init(spec, m);
+    spec->bao = j->bao, spec->bao_cov = j->bao_cov;
+    spec->cmb = j->cmb, spec->cmb_cov = j->cmb_cov;
+    if (j->cmb_cov && !j->cmb)
+        return lt_error_set(err, LT_EINPUT, "--cmb-cov", 0, "needs --cmb FILE");
+    if (j->rd && strcmp(j->rd, "free") && strcmp(j->rd, "formula"))
+        return lt_error_set(err, LT_EINPUT, "--rd", 0,
+                            "'%s' is not free (sample r_d h) or formula (r_d from omega_b_h2 "
+                            "and omega_m h^2)",
+                            j->rd);
+    spec->rd_free = j->rd && !strcmp(j->rd, "free");
+    if (j->bao_cov && !j->bao)
+        return lt_error_set(err, LT_EINPUT, "--bao-cov", 0, "needs --bao FILE");
+    if (spec->rd_free && !j->bao)
+        return lt_error_set(err, LT_EINPUT, "--rd", 0, "applies to a BAO term: give --bao FILE");
     if (j->offset) {
         int mode = lt_offset_parse(j->offset);
         if (mode < 0)
@@ -574,8 +593,8 @@ int lt_job_model_spec(const lt_job *j, lt_like_spec *spec, lt_error *err)
 int lt_job_survey(const lt_job *j, lt_survey **s, lt_error *err)
 {
     *s = NULL;
-    if (!j->data.data && j->nmeasures) {
-        /* measurements alone: survey options would be silently lost */
+    if (!j->data.data && (j->nmeasures || j->bao || j->cmb)) {
+        /* other terms alone: survey options would be silently lost */
         const lt_survey_spec *d = &j->data;
         if (d->columns || d->ncov || d->modes || d->keep_ids || d->drop_ids)
             return lt_error_set(err, LT_EINPUT, "--data", 0,
@@ -605,9 +624,10 @@ static char *absolute(const char *path)
 
 int lt_job_absolute(lt_job *j, lt_survey_spec *spec, lt_error *err)
 {
-    const char **paths[4 + LT_SURVEY_MAX_COV] = {&spec->data, &spec->modes, &spec->keep_ids,
-                                                 &spec->drop_ids};
-    size_t n = 4;
+    const char **paths[8 + LT_SURVEY_MAX_COV] = {
+        &spec->data, &spec->modes, &spec->keep_ids, &spec->drop_ids,
+        &j->bao,     &j->bao_cov,  &j->cmb,         &j->cmb_cov};
+    size_t n = 8;
     for (size_t i = 0; i < spec->ncov; i++)
         paths[n++] = &spec->cov[i];
     for (size_t i = 0; i < n; i++)

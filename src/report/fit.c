@@ -82,6 +82,22 @@ cJSON *lt_report_add_data(cJSON *o, const lt_survey_spec *data, const lt_like *l
         cJSON_AddItemToArray(covs, cJSON_CreateString(data->cov[i]));
     if (data->modes)
         cJSON_AddStringToObject(files, "modes", data->modes);
+    int rd_free;
+    const lt_probe *bao = lt_like_bao(l, &rd_free);
+    if (bao) {
+        cJSON *b = cJSON_AddObjectToObject(o, "bao");
+        cJSON_AddStringToObject(b, "file", bao->path);
+        cJSON_AddStringToObject(b, "cov", bao->cov_path ? bao->cov_path : "");
+        cJSON_AddItemToObject(b, "n_data", num((double)bao->n));
+        cJSON_AddStringToObject(b, "rd", rd_free ? "free" : "formula");
+    }
+    const lt_probe *cmb = lt_like_cmb(l);
+    if (cmb) {
+        cJSON *b = cJSON_AddObjectToObject(o, "cmb");
+        cJSON_AddStringToObject(b, "file", cmb->path);
+        cJSON_AddStringToObject(b, "cov", cmb->cov_path ? cmb->cov_path : "");
+        cJSON_AddItemToObject(b, "n_data", num((double)cmb->n));
+    }
     cJSON *w = cJSON_AddArrayToObject(o, "warnings");
     for (size_t i = 0; s && i < s->nwarnings; i++)
         cJSON_AddItemToArray(w, cJSON_CreateString(s->warnings[i]));
@@ -94,8 +110,16 @@ void lt_report_describe_data(FILE *f, const lt_like *l, const lt_survey_spec *da
     size_t nm = lt_like_nmeasurements(l);
     if (s)
         fprintf(f, "%s: %zu objects, observable %s", data->data, s->n, lt_obs_name(s->kind));
+    int rd_free;
+    const lt_probe *bao = lt_like_bao(l, &rd_free);
+    if (bao)
+        fprintf(f, "%sBAO %s: %zu measurements (r_d %s)", s ? "; " : "", bao->path, bao->n,
+                rd_free ? "free: r_d h sampled" : "from omega_b_h2, omega_m h^2");
+    const lt_probe *cmb = lt_like_cmb(l);
+    if (cmb)
+        fprintf(f, "%sCMB %s: %zu quantities", s || bao ? "; " : "", cmb->path, cmb->n);
     if (nm)
-        fprintf(f, "%s%zu measurement%s", s ? "; " : "", nm, nm == 1 ? "" : "s");
+        fprintf(f, "%s%zu measurement%s", s || bao || cmb ? "; " : "", nm, nm == 1 ? "" : "s");
 }
 
 void lt_report_add_fixed(cJSON *o, const lt_like *l, const double *measured)
