@@ -5,7 +5,8 @@
  * 339), with parallel chains.
  *
  * Each chain starts from an over-dispersed point around the centre (three
- * standard deviations), proposes y = x + L z with z ~ N(0, I), and during
+ * standard deviations of the starting covariance, along its own axes),
+ * proposes y = x + L z with z ~ N(0, I), and during
  * warm-up sets L L^T = s_d (C + eps I), C the covariance of its own warm-up
  * history (from a quarter of the warm-up on), s_d = 2.38^2 / d (Gelman,
  * Roberts & Gilks 1996). After warm-up the proposal is frozen, so the kept
@@ -235,21 +236,31 @@ lt_mcmc *lt_mcmc_alloc(const lt_mcmc_opts *o, lt_logdensity f, void **ctx, lt_er
                      "the chains' centre (the best fit) has zero posterior density");
         return NULL;
     }
-    /* Starts: three standard deviations around the centre, drawn from each
-     * chain's own stream; a start with zero density is redrawn, closer in
-     * after each hundred failures. */
+    /* Starts: centre + 3 L0 z, z ~ N(0, I) from each chain's own stream,
+     * L0 L0^T the starting covariance: three standard deviations along the
+     * covariance's own axes. Drawing each parameter alone (as lantern did
+     * before the CMB term) put starts of a narrow correlated posterior far
+     * off its ridge, where one chain of SN+BAO+CMB on w0-wa stayed stuck at
+     * 0.2% acceptance. A start with zero density is redrawn, closer in after
+     * each hundred failures. */
     for (size_t c = 0; c < o->nchains; c++) {
         chain *ch = &m->ch[c];
         lt_rng_seed(&ch->rng, o->seed, (uint64_t)c);
         if (c)
             memcpy(ch->chol, m->ch[0].chol, d * d * sizeof *ch->chol);
-        double spread = 3.0;
+        double spread = 3.0 * sqrt((double)d) / 2.38; /* chol is 2.38/sqrt(d) L0 */
         for (int tries = 0;; tries++) {
             if (tries && tries % 100 == 0)
                 spread *= 0.5;
+            double zz[DIM_MAX];
             for (size_t i = 0; i < d; i++)
-                ch->x[i] = m->center[i] +
-                           spread * sqrt(m->cov[i * d + i]) * lt_rng_normal(&ch->rng);
+                zz[i] = lt_rng_normal(&ch->rng);
+            for (size_t i = 0; i < d; i++) {
+                double s = 0.0;
+                for (size_t j = 0; j <= i; j++)
+                    s += m->ch[0].chol[i * d + j] * zz[j];
+                ch->x[i] = m->center[i] + spread * s;
+            }
             ch->logp = f(ch->x, ctx[c], ch->extra);
             if (isfinite(ch->logp))
                 break;

@@ -93,7 +93,8 @@ else
 fi
 
 # Issue 16, items 3, 6 and 7: a run on other data (the Pantheon 2018 binned
-# table, 40 bins) whose model stops at a tiny step cap, with h0 free beside a
+# table, 40 bins) whose model stops at a small step cap (1000 steps: enough for
+# the chains to spread along the h0-offset ridge, too few to converge), with h0 free beside a
 # sampled offset (a --prior on offset frees h0: the two are degenerate, so
 # h0 fills its prior U(40, 100)).
 P="${LANTERN_SHARED:-$ROOT/../shared}/data/pantheon2018"
@@ -110,7 +111,7 @@ offset = uniform:-21:-17
 [sampler]
 chains = 4
 seed = 5
-max_steps = 300
+max_steps = 1000
 check_every = 100
 EOF
 PB="$E2E_TMP/pbins"
