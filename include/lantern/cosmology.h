@@ -241,8 +241,13 @@ typedef struct lt_cmb_point {
 /* The CMB quantities of c (radiation on) at decoupling z_star, or, with
  * z_star NaN, at lt_cosmo_z_star; errors as above. */
 int lt_cosmo_cmb(const lt_cosmo *c, double z_star, lt_cmb_point *out, lt_error *err);
+/* Whether c has the standard early universe the r_d formula and the CMB
+ * quantities assume: radiation on, and dark energy negligible early (w < 0
+ * as z -> infinity: w0 + wa < 0 for w0-wa, as DESI 2024 VI required). */
+int lt_cosmo_early_standard(const lt_cosmo *c);
 /* r_d and the CMB quantities together, for a report: each NaN where it is
- * undefined (radiation off, n_eff other than 3.046 for r_d, E^2 <= 0). */
+ * undefined (not lt_cosmo_early_standard, n_eff other than 3.046 for r_d,
+ * E^2 <= 0). */
 typedef struct lt_cosmo_early {
     double rd;
     lt_cmb_point cmb;

@@ -196,9 +196,10 @@ int lt_survey_stats_compute(const lt_survey *s, size_t nbins, lt_survey_stats *s
  * z (> 0), err (> 0; needed without a covariance) and rd_fid (> 0) where
  * they apply, each of them empty in a row it does not apply to; any other
  * column (a tracer's name, say) is ignored. '#' starts a comment line. The
- * covariance comes from cov_path (lt_matrix_read; its size must match the
- * rows), else from err (diagonal); it must be symmetric and positive
- * definite. Absent columns read NaN. Errors name the file and line.
+ * covariance comes from cov_path (lt_matrix_read, which refuses an
+ * asymmetric matrix; its size must match the rows), else from err
+ * (diagonal); it must be positive definite, and is factored once here.
+ * Absent columns and empty fields read NaN. Errors name the file and line.
  */
 #define LT_PROBE_NAME 32
 typedef struct lt_probe {
@@ -209,6 +210,7 @@ typedef struct lt_probe {
     long *line;                     /* each row's line in path */
     int has_z, has_err;
     double *cov;                    /* n x n, row-major */
+    double *chol;                   /* its lower Cholesky factor (GSL's layout) */
 } lt_probe;
 int lt_probe_read(const char *path, const char *cov_path, lt_probe **out, lt_error *err);
 void lt_probe_free(lt_probe *p);

@@ -53,6 +53,9 @@ int cli_distance(int argc, char **argv)
         if (lt_cosmo_params_parse(&p, m, sets[i], &seen, "--set", &err))
             return cli_report(&err);
 
+    if ((seen & (LT_PMASK(LT_P_M_NU) | LT_PMASK(LT_P_OMEGA_B_H2))) && p.t_cmb == 0.0)
+        return cli_usage_error("--set", "m_nu and omega_b_h2 act only with radiation on: set "
+                                        "t_cmb too (2.7255)");
     lt_cosmo c;
     if (lt_cosmo_init(&c, m, &p, &err))
         return cli_report(&err);

@@ -12,6 +12,9 @@
 /* The N_eff the r_d formula was fitted for (Aubourg et al. 2015). */
 #define RD_FORMULA_NEFF 3.046
 
+/* a^4 E^2 as the watch reads it, at t = a */
+static double a4e2_of_t(const lt_cosmo *c, double t) { return lt_cosmo_a4e2(c, t); }
+
 int lt_cosmo_rd(const lt_cosmo *c, double *rd, lt_error *err)
 {
     if (fabs(c->p.n_eff - RD_FORMULA_NEFF) > 1e-12)
@@ -57,21 +60,24 @@ int lt_cosmo_sound_horizon(const lt_cosmo *c, double z, double *rs, lt_error *er
      * the scale factor, r_s = (c/H0) integral_0^a(z) da / sqrt(3 (1 + R_b)
      * a^4 E^2): smooth from a = 0, where radiation keeps a^4 E^2 positive,
      * and varying on the scale of matter-radiation equality. 32 panels of
-     * 8-point Gauss-Legendre reach 1e-12 there (tests/unit/test_cosmology.c
-     * checks against GSL's adaptive quadrature).
+     * 8-point Gauss-Legendre reach 1e-12 there (tests/reference/test_early.c
+     * checks against GSL's adaptive quadrature). The positivity watch sees
+     * a dip of E^2 below zero between the nodes, as every integrator here.
      */
     double h = c->p.h0 / 100.0;
     double rb = 3.0 * c->p.omega_b_h2 / (4.0 * c->omega_gamma * h * h);
     double a1 = 1.0 / (1.0 + z), width = a1 / 32.0, sum = 0.0;
     const lt_gl_rule *r = lt_gl_rule_get(8);
+    lt_watch w;
+    lt_watch_start(&w, a4e2_of_t);
     for (int k = 0; k < 32; k++) {
         double mid = (k + 0.5) * width;
         for (int i = 0; i < r->n; i++) {
             double a = mid + 0.5 * width * r->x[i], p = lt_cosmo_a4e2(c, a);
-            if (!(p > 0.0))
+            if (lt_watch_push(&w, c, a, p))
                 return lt_error_set(err, LT_EDOMAIN, NULL, 0,
                                     "E^2 is not positive at z = %.4g: no sound horizon",
-                                    1.0 / a - 1.0);
+                                    1.0 / w.bad_t - 1.0);
             sum += r->w[i] / sqrt(3.0 * (1.0 + rb * a) * p);
         }
     }
@@ -85,24 +91,27 @@ int lt_cosmo_transverse_at(const lt_cosmo *c, double z, double *dm, lt_error *er
         return lt_error_set(err, LT_EINPUT, NULL, 0, "redshift must be finite and >= 0");
     /* D_C H0/c = integral_0^x e^x' / E dx' in x = ln(1+z), panels of at
      * most 1/8 with 8-point Gauss-Legendre (1e-12 to z = 1100 against GSL,
-     * tests/unit/test_cosmology.c) */
+     * tests/reference/test_early.c), under the positivity watch */
     const lt_gl_rule *r = lt_gl_rule_get(8);
     double x1 = log1p(z), chi = 0.0;
     int panels = (int)ceil(x1 * 8.0);
     double width = panels ? x1 / panels : 0.0;
-    for (int k = 0; k < panels; k++) {
+    lt_watch w;
+    lt_watch_start(&w, lt_watch_e2_of_x);
+    for (int k = 0; k <= panels; k++) { /* the last pass only checks z itself */
         double mid = (k + 0.5) * width, part = 0.0;
-        for (int i = 0; i < r->n; i++) {
-            double x = mid + 0.5 * width * r->x[i], y = exp(x);
+        for (int i = 0; i < (k < panels ? r->n : 1); i++) {
+            double x = k < panels ? mid + 0.5 * width * r->x[i] : x1, y = exp(x);
             double e2 = lt_cosmo_e2_xy(c, x, y);
-            if (!(e2 > 0.0))
+            if (lt_watch_push(&w, c, x, e2))
                 return lt_error_set(err, LT_EDOMAIN, NULL, 0,
                                     "E^2 is not positive at z = %.4g: distances there are "
                                     "undefined",
-                                    y - 1.0);
+                                    expm1(w.bad_t));
             part += r->w[i] * y / sqrt(e2);
         }
-        chi += 0.5 * width * part;
+        if (k < panels)
+            chi += 0.5 * width * part;
     }
     double ok = c->omega_k;
     if (ok < 0.0 && chi * sqrt(-ok) >= M_PI)
@@ -129,10 +138,16 @@ int lt_cosmo_cmb(const lt_cosmo *c, double z_star, lt_cmb_point *out, lt_error *
     return LT_OK;
 }
 
+int lt_cosmo_early_standard(const lt_cosmo *c)
+{
+    return c->omega_gamma > 0.0 && c->model->de->w_early(c) < 0.0;
+}
+
 void lt_cosmo_early_eval(const lt_cosmo *c, lt_cosmo_early *e)
 {
-    if (!(c->omega_gamma > 0.0) || lt_cosmo_rd(c, &e->rd, NULL))
+    int ok = lt_cosmo_early_standard(c);
+    if (!ok || lt_cosmo_rd(c, &e->rd, NULL))
         e->rd = NAN;
-    if (!(c->omega_gamma > 0.0) || lt_cosmo_cmb(c, NAN, &e->cmb, NULL))
+    if (!ok || lt_cosmo_cmb(c, NAN, &e->cmb, NULL))
         e->cmb = (lt_cmb_point){NAN, NAN, NAN, NAN, NAN};
 }

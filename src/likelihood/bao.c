@@ -29,7 +29,6 @@ typedef struct {
     lt_probe_term p;    /* the table, each row's Q_*, the factored covariance */
     lt_zgrid *grid;     /* the rows' redshifts */
     int rd_free, rd_at; /* rd_h's table index with rd_free */
-    int h0_at;
 } bao;
 
 typedef struct {
@@ -40,7 +39,8 @@ static void bao_needs(const void *config, lt_term_needs *needs)
 {
     const lt_probe_config *cf = config;
     if (cf->rd_free) {
-        needs->own[needs->nown++] = (lt_term_param){"rd_h", {LT_PRIOR_UNIFORM, 50, 150}};
+        if (needs->nown < LT_TERM_OWN_MAX)
+            needs->own[needs->nown++] = (lt_term_param){"rd_h", {LT_PRIOR_UNIFORM, 50, 150}};
     } else {
         needs->h0 = needs->early = needs->omega_b_h2 = 1;
     }
@@ -85,7 +85,6 @@ static void *bao_setup(const void *config, const lt_like *l, lt_error *err)
         goto fail;
     t->rd_free = cf->rd_free;
     t->rd_at = lt_like_entry(l, "rd_h");
-    t->h0_at = lt_like_entry(l, "h0");
     if (!t->rd_free) { /* the formula's own conditions, refused once here */
         lt_cosmo c;
         double rd;
@@ -131,7 +130,7 @@ static int bao_eval(const void *state, void *work, const lt_term_in *in, lt_term
         rd = in->values[t->rd_at] / (c->p.h0 / 100.0);
     } else {
         /* the early universe: dark energy negligible at high redshift */
-        if (!(c->p.w0 + c->p.wa < 0.0) || lt_cosmo_rd(c, &rd, NULL))
+        if (!lt_cosmo_early_standard(c) || lt_cosmo_rd(c, &rd, NULL))
             return -1;
     }
     lt_cosmo_table tab = {.transverse = w->dm, .hubble = w->hz};

@@ -89,7 +89,7 @@ static int cmb_eval(const void *state, void *work, const lt_term_in *in, lt_term
     const lt_cosmo *c = in->cosmo;
     double *r = work;
     lt_cmb_point q;
-    if (!(c->p.w0 + c->p.wa < 0.0) || lt_cosmo_cmb(c, t->z_star, &q, NULL))
+    if (!lt_cosmo_early_standard(c) || lt_cosmo_cmb(c, t->z_star, &q, NULL))
         return -1;
     const lt_probe *d = t->p.data;
     for (size_t i = 0; i < d->n; i++) {

@@ -1,39 +1,14 @@
 /*
- * What the Gaussian terms over a probe table (BAO, CMB) share: the
- * covariance factored once, and chi2 = r^T C^-1 r from the factor.
+ * What the Gaussian terms over a probe table (BAO, CMB) share: the table
+ * read and its quantities named, the normalisation, and chi2 = r^T C^-1 r
+ * from the covariance's factor.
  */
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 
-#include <gsl/gsl_errno.h>
-#include <gsl/gsl_linalg.h>
-
 #include "internal.h"
-
-double *lt_probe_cholesky(const lt_probe *d, double *lognorm, lt_error *err)
-{
-    size_t n = d->n;
-    double *l = malloc(n * n * sizeof *l);
-    if (!l) {
-        lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
-        return NULL;
-    }
-    memcpy(l, d->cov, n * n * sizeof *l);
-    gsl_matrix_view v = gsl_matrix_view_array(l, n, n);
-    if (gsl_linalg_cholesky_decomp1(&v.matrix) != GSL_SUCCESS) { /* lt_probe_read checked */
-        lt_error_set(err, LT_EINPUT, d->cov_path ? d->cov_path : d->path, 0,
-                     "the covariance is not positive definite");
-        free(l);
-        return NULL;
-    }
-    double logdet = 0.0;
-    for (size_t i = 0; i < n; i++)
-        logdet += 2.0 * log(l[i * n + i]);
-    *lognorm = -0.5 * ((double)n * log(2.0 * M_PI) + logdet);
-    return l;
-}
 
 double lt_probe_chi2(const double *chol, size_t n, double *r)
 {
@@ -72,12 +47,17 @@ int lt_probe_term_open(lt_probe_term *t, const lt_probe_config *cf, const char *
         }
         t->kind[i] = k;
     }
-    return (t->chol = lt_probe_cholesky(d, &t->lognorm, err)) ? LT_OK : err ? err->code : LT_EINPUT;
+    /* ln det C from the factor lt_probe_read made */
+    double logdet = 0.0;
+    for (size_t i = 0; i < d->n; i++)
+        logdet += 2.0 * log(d->chol[i * d->n + i]);
+    t->lognorm = -0.5 * ((double)d->n * log(2.0 * M_PI) + logdet);
+    t->chol = d->chol;
+    return LT_OK;
 }
 
 void lt_probe_term_close(lt_probe_term *t)
 {
     lt_probe_free(t->data);
     free(t->kind);
-    free(t->chol);
 }

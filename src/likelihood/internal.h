@@ -88,9 +88,6 @@ extern const lt_term_type lt_term_bao, lt_term_cmb;
 /* The table a term's state read. */
 const lt_probe *lt_bao_table(const void *state);
 const lt_probe *lt_cmb_table(const void *state);
-/* The lower Cholesky factor of d's covariance (malloc'ed, n x n) and the
- * normalisation -(n ln 2 pi + ln det C)/2; NULL and err on failure. */
-double *lt_probe_cholesky(const lt_probe *d, double *lognorm, lt_error *err);
 /* r^T C^-1 r from the factor; r (n values) is overwritten. */
 double lt_probe_chi2(const double *chol, size_t n, double *r);
 /* What a term over a probe table holds: the table, each row's quantity
@@ -98,7 +95,7 @@ double lt_probe_chi2(const double *chol, size_t n, double *r);
 typedef struct lt_probe_term {
     lt_probe *data;
     int *kind;
-    double *chol;
+    const double *chol; /* data's */
     double lognorm;
 } lt_probe_term;
 /* Read cf's table and map each row's quantity to its index in names; an

@@ -49,7 +49,7 @@ static void sn_needs(const void *config, lt_term_needs *needs)
     const lt_sn_config *cf = config;
     if (cf->offset != LT_OFFSET_MARGINAL)
         needs->h0 = 1;
-    if (cf->offset == LT_OFFSET_SAMPLED)
+    if (cf->offset == LT_OFFSET_SAMPLED && needs->nown < LT_TERM_OWN_MAX)
         needs->own[needs->nown++] =
             (lt_term_param){"offset", lt_param_default_prior("offset", cf->kind)};
 }

@@ -86,7 +86,8 @@ typedef enum {
     K_LONG,  /* a whole number in [lo, hi] */
     K_SEED,  /* 0 to 2^32 - 1 */
     K_ESS,   /* a number >= 1 */
-    K_ENTRY  /* NAME=VALUE from a flag into a list ([priors], ...) */
+    K_ENTRY, /* NAME=VALUE from a flag into a list ([priors], ...) */
+    K_RD     /* how the BAO term makes r_d: free or formula */
 } kind;
 
 typedef struct {
@@ -112,7 +113,7 @@ static const rule rules[] = {
     {LT_JOB_DATA, "data", "drop_ids", "--drop-ids", K_PATH, 0, 0, AT(data.drop_ids)},
     {LT_JOB_DATA, "data", "bao", "--bao", K_PATH, 0, 0, AT(bao)},
     {LT_JOB_DATA, "data", "bao_cov", "--bao-cov", K_PATH, 0, 0, AT(bao_cov)},
-    {LT_JOB_DATA, "data", "rd", "--rd", K_TEXT, 0, 0, AT(rd)},
+    {LT_JOB_DATA, "data", "rd", "--rd", K_RD, 0, 0, AT(rd)},
     {LT_JOB_DATA, "data", "cmb", "--cmb", K_PATH, 0, 0, AT(cmb)},
     {LT_JOB_DATA, "data", "cmb_cov", "--cmb-cov", K_PATH, 0, 0, AT(cmb_cov)},
     {LT_JOB_MODEL, "model", "name", "--model", K_TEXT, 0, 0, AT(model)},
@@ -202,7 +203,11 @@ static int apply(lt_job *j, const rule *r, const char *key, const char *value,
                  const char *origin, long line, int from_file, const char *base, lt_error *err)
 {
     char *slot = (char *)j + r->off;
+    if (r->k == K_RD && strcmp(value, "free") && strcmp(value, "formula"))
+        return refuse(r, value, origin, line, from_file,
+                      "free (sample r_d h) or formula (r_d from omega_b_h2 and omega_m h^2)", err);
     switch (r->k) {
+    case K_RD: /* checked above; kept as text */
     case K_TEXT: {
         const char *s = keep(j, strdup(value), err);
         if (!s)
@@ -539,18 +544,22 @@ int lt_job_like_spec(const lt_job *j, const lt_cosmo_model *m, lt_like_spec *spe
     lt_like_spec_init(spec, m);
     spec->bao = j->bao, spec->bao_cov = j->bao_cov;
     spec->cmb = j->cmb, spec->cmb_cov = j->cmb_cov;
-    if (j->cmb_cov && !j->cmb)
-        return lt_error_set(err, LT_EINPUT, "--cmb-cov", 0, "needs --cmb FILE");
-    if (j->rd && strcmp(j->rd, "free") && strcmp(j->rd, "formula"))
-        return lt_error_set(err, LT_EINPUT, "--rd", 0,
-                            "'%s' is not free (sample r_d h) or formula (r_d from omega_b_h2 "
-                            "and omega_m h^2)",
-                            j->rd);
     spec->rd_free = j->rd && !strcmp(j->rd, "free");
-    if (j->bao_cov && !j->bao)
-        return lt_error_set(err, LT_EINPUT, "--bao-cov", 0, "needs --bao FILE");
-    if (spec->rd_free && !j->bao)
-        return lt_error_set(err, LT_EINPUT, "--rd", 0, "applies to a BAO term: give --bao FILE");
+    /* settings that need another: named where they were given */
+    const struct {
+        const char *value, *needs, *key, *flag, *what;
+    } pair[] = {{j->bao_cov, j->bao, "bao_cov", "--bao-cov", "needs a BAO file (--bao, [data] bao)"},
+                {j->rd, j->bao, "rd", "--rd", "applies to a BAO term: give a BAO file (--bao, "
+                                              "[data] bao)"},
+                {j->cmb_cov, j->cmb, "cmb_cov", "--cmb-cov", "needs a CMB file (--cmb, [data] "
+                                                             "cmb)"}};
+    for (size_t k = 0; k < sizeof pair / sizeof pair[0]; k++)
+        if (pair[k].value && !pair[k].needs) {
+            const lt_ini_entry *e = j->ini ? lt_ini_get(j->ini, "data", pair[k].key) : NULL;
+            return e ? lt_error_set(err, LT_EINPUT, j->ini->path, e->line, "%s %s", pair[k].key,
+                                    pair[k].what)
+                     : lt_error_set(err, LT_EINPUT, pair[k].flag, 0, "%s", pair[k].what);
+        }
     if (j->offset) {
         int mode = lt_offset_parse(j->offset);
         if (mode < 0)
@@ -739,6 +748,14 @@ int lt_job_write(const lt_job *j, const lt_like_spec *spec, const char *path, lt
         add_path(&b, "keep_ids", j->data.keep_ids);
     if (j->data.drop_ids)
         add_path(&b, "drop_ids", j->data.drop_ids);
+    /* the other terms' files, and how r_d is made */
+    const char *const terms[4][2] = {
+        {"bao", j->bao}, {"bao_cov", j->bao_cov}, {"cmb", j->cmb}, {"cmb_cov", j->cmb_cov}};
+    for (int k = 0; k < 4; k++)
+        if (terms[k][1])
+            add_path(&b, terms[k][0], terms[k][1]);
+    if (j->rd)
+        add(&b, "rd = %s\n", j->rd);
     if (j->model)
         add(&b, "[model]\nname = %s\n", j->model);
     else

@@ -70,6 +70,12 @@ static cJSON *params_json(const lt_cosmo *c)
 /* r_d and the CMB quantities (radiation on): one line of the table. */
 static void describe_early(FILE *f, const lt_cosmo *c, const lt_cosmo_early *e)
 {
+    if (!lt_cosmo_early_standard(c)) {
+        fputs("\nearly universe: not shown (r_d and the CMB quantities assume dark energy "
+              "negligible early, w < 0 at high redshift)",
+              f);
+        return;
+    }
     fprintf(f, "\nearly universe (omega_b_h2 = %g): r_d = %.4f Mpc (Aubourg et al. 2015), "
                "z_* = %.3f, r_s(z_*) = %.4f Mpc, R = %.6f, l_A = %.4f",
             c->p.omega_b_h2, e->rd, e->cmb.z_star, e->cmb.rs_star, e->cmb.shift_r,

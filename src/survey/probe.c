@@ -29,6 +29,7 @@ void lt_probe_free(lt_probe *p)
     free(p->err);
     free(p->line);
     free(p->cov);
+    free(p->chol);
     free(p);
 }
 
@@ -164,28 +165,18 @@ int lt_probe_read(const char *path, const char *cov_path, lt_probe **out, lt_err
         for (size_t i = 0; !rc && i < p->n; i++)
             p->cov[i * p->n + i] = p->err[i] * p->err[i];
     }
-    if (!rc) { /* symmetric and positive definite, or refused now */
+    if (!rc) { /* positive definite, or refused now (lt_matrix_read refuses an asymmetric one) */
         const char *where = cov_path ? cov_path : path;
         size_t n = p->n;
-        for (size_t i = 0; i < n && !rc; i++)
-            for (size_t j = 0; j < i && !rc; j++)
-                if (fabs(p->cov[i * n + j] - p->cov[j * n + i]) >
-                    1e-12 * sqrt(fabs(p->cov[i * n + i] * p->cov[j * n + j])))
-                    rc = lt_error_set(err, LT_EINPUT, where, 0,
-                                      "the covariance is not symmetric (entries %zu,%zu and "
-                                      "%zu,%zu differ)",
-                                      i + 1, j + 1, j + 1, i + 1);
-        double *l = rc ? NULL : malloc(n * n * sizeof *l);
-        if (!rc && !l)
+        if (!(p->chol = malloc(n * n * sizeof *p->chol)))
             rc = lt_error_set(err, LT_ENOMEM, where, 0, "out of memory");
-        if (!rc) {
-            memcpy(l, p->cov, n * n * sizeof *l);
-            gsl_matrix_view v = gsl_matrix_view_array(l, n, n);
+        else {
+            memcpy(p->chol, p->cov, n * n * sizeof *p->chol);
+            gsl_matrix_view v = gsl_matrix_view_array(p->chol, n, n);
             if (gsl_linalg_cholesky_decomp1(&v.matrix) != GSL_SUCCESS)
                 rc = lt_error_set(err, LT_EINPUT, where, 0,
                                   "the covariance is not positive definite");
         }
-        free(l);
     }
     if (rc) {
         lt_probe_free(p);

@@ -98,6 +98,29 @@ assert j["params"]["omega_b_h2"]["prior"] == "U(0.005, 0.1)"
 ' "$E2E_TMP/bbn.json"; then pass "r_d from the formula turns radiation on (t_cmb 2.7255, one 0.06 eV neutrino) and frees h0 and omega_b_h2"
 else fail "r_d from the formula turns radiation on (t_cmb 2.7255, one 0.06 eV neutrino) and frees h0 and omega_b_h2"; fi
 
+# ---- interrupted and resumed: the BAO files come back from settings.ini ----
+LONG=(--model lcdm-flat --measure omega_b_h2=0.02218:0.00055 --target-ess 40000 --seed 4
+      --threads 2 --quiet)
+run "$LANTERN" sample "${BAO[@]}" "${LONG[@]}" --out "$E2E_TMP/full"
+expect_status "a long BAO + BBN run" 0
+"$LANTERN" sample "${BAO[@]}" "${LONG[@]}" --out "$E2E_TMP/cut" >"$OUT" 2>"$ERR" &
+pid=$!
+wait_for "$E2E_TMP/cut/checkpoint/settings.ini"
+sleep 0.5
+kill -INT $pid
+wait $pid
+STATUS=$?
+grep -q "^bao = .*bao_dr1.csv$" "$E2E_TMP/cut/checkpoint/settings.ini" &&
+    grep -q "^bao_cov = .*bao_dr1_cov.txt$" "$E2E_TMP/cut/checkpoint/settings.ini" &&
+    pass "settings.ini keeps the BAO files" || fail "settings.ini keeps the BAO files"
+run "$LANTERN" sample --resume "$E2E_TMP/cut" --quiet
+if [ "$STATUS" -eq 0 ] && cmp -s "$E2E_TMP/full/chains.csv" "$E2E_TMP/cut/chains.csv" &&
+   cmp -s "$E2E_TMP/full/summary.json" "$E2E_TMP/cut/summary.json"; then
+    pass "BAO: --resume ends with the uninterrupted run's chains and summary"
+else
+    fail "BAO: --resume ends with the uninterrupted run's chains and summary"
+fi
+
 # ---- every term together ----
 P="${LANTERN_SHARED:-$ROOT/../shared}/data/pantheon2018"
 run "$LANTERN" fit --data "$P/lcparam_DS17f.txt" --columns z=zcmb,zhel=zhel,mag=mb,err=dmb \
@@ -125,7 +148,16 @@ printf 'z,quantity,value,err\n0.5,dm_over_rd,abc,0.2\n' >"$E2E_TMP/nan.csv"
 run "$LANTERN" fit --bao "$E2E_TMP/nan.csv" --model lcdm-flat --rd free
 expect_error "a value that is no number" 2 "nan.csv:2: value 'abc' is not a finite number"
 run "$LANTERN" fit --bao-cov "$B/bao_dr1_cov.txt" --model lcdm-flat --measure h0=70:1
-expect_error "--bao-cov needs --bao" 2 "--bao-cov: needs --bao FILE"
+expect_error "--bao-cov needs --bao" 2 "--bao-cov: needs a BAO file"
+printf '[data]\nbao_cov = x.txt\nrd = fre\n[model]\nname = lcdm-flat\n' >"$E2E_TMP/rd.ini"
+run "$LANTERN" fit "$E2E_TMP/rd.ini"
+expect_error "a run file's bad rd names the file and line" 2 "rd.ini:3: rd = 'fre' is not free"
+printf '[data]\nbao_cov = x.txt\n[model]\nname = lcdm-flat\n[measurements]\nh0 = 70:1\n' \
+    >"$E2E_TMP/cov.ini"
+run "$LANTERN" fit "$E2E_TMP/cov.ini"
+expect_error "a run file's bao_cov without bao names the file and line" 2 "cov.ini:2: bao_cov needs a BAO file"
+run "$LANTERN" fit --rd formula --measure h0=70:1 --model lcdm-flat
+expect_error "--rd without a BAO term" 2 "--rd: applies to a BAO term"
 run "$LANTERN" fit "${BAO[@]}" --model lcdm-flat --rd fixed
 expect_error "--rd takes free or formula" 2 "--rd: 'fixed' is not free"
 run "$LANTERN" fit "${BAO[@]}" --model lcdm-flat --prior rd_h=uniform:90:110

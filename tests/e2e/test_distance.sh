@@ -126,6 +126,15 @@ run "$LANTERN" distance --model lcdm-flat --z 1 --bogus
 expect_error "unknown option" 2 "unknown argument '--bogus'"
 run "$LANTERN" distance --model
 expect_error "option without its value" 2 "--model: needs a value"
+run "$LANTERN" distance --model lcdm --set m_nu=0.3 --z 1
+expect_error "m_nu with radiation off" 2 "m_nu and omega_b_h2 act only with radiation on"
+run "$LANTERN" distance --model w0wa-flat --set w0=-0.5,wa=0.6,t_cmb=2.7255 --z 1 --format json
+if [ "$STATUS" -eq 0 ] && /usr/bin/python3 -c '
+import json, sys
+e = json.load(open(sys.argv[1]))["early_universe"]
+assert all(v is None for v in e.values()), e
+' "$OUT"; then pass "w0 + wa >= 0: no early-universe numbers (null)"
+else fail "w0 + wa >= 0: no early-universe numbers (null)"; fi
 run "$LANTERN" distance --model=lcdm-flat --z=0.5 --set=h0=70 --format=csv
 expect_stdout "--flag=value works as --flag value" "^0\.5,"
 SETS=(); for i in $(seq 65); do SETS+=(--set h0=70); done

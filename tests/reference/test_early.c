@@ -6,8 +6,9 @@
  *     Aubourg et al. 2015 must give it within 0.05%;
  *   - lantern's fixed-panel quadratures (the sound horizon, D_M at one
  *     redshift) against GSL's adaptive Gauss-Kronrod routines
- *     (gsl_integration_qagiu, gsl_integration_qag) at 1e-13, for random
- *     parameters, massive neutrinos included;
+ *     (gsl_integration_qagiu, gsl_integration_qag, asked for 1e-13): they
+ *     must agree to 1e-10, for random parameters, massive neutrinos
+ *     included;
  *   - the massive neutrino of Komatsu et al. 2011 (ApJS 192, 18, eq. 26):
  *     radiation at high redshift (E^2 / (1+z)^4 tends to omega_gamma (1 +
  *     7/8 (4/11)^(4/3) N_eff)), matter today, closure at z = 0, and q(z)
