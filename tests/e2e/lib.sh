@@ -58,3 +58,18 @@ wait_for() {
     done
     return 1
 }
+
+# interrupt DIR CMD...: run CMD in the background, wait for its checkpoint
+# (DIR/checkpoint/settings.ini), let it sample a little, then SIGINT it;
+# STATUS, OUT and ERR as run leaves them.
+interrupt() {
+    local dir=$1 pid
+    shift
+    "$@" >"$OUT" 2>"$ERR" &
+    pid=$!
+    wait_for "$dir/checkpoint/settings.ini"
+    sleep 0.3
+    kill -INT $pid
+    wait $pid
+    STATUS=$?
+}

@@ -103,13 +103,7 @@ LONG=(--model lcdm-flat --measure omega_b_h2=0.02218:0.00055 --target-ess 40000 
       --threads 2 --quiet)
 run "$LANTERN" sample "${BAO[@]}" "${LONG[@]}" --out "$E2E_TMP/full"
 expect_status "a long BAO + BBN run" 0
-"$LANTERN" sample "${BAO[@]}" "${LONG[@]}" --out "$E2E_TMP/cut" >"$OUT" 2>"$ERR" &
-pid=$!
-wait_for "$E2E_TMP/cut/checkpoint/settings.ini"
-sleep 0.5
-kill -INT $pid
-wait $pid
-STATUS=$?
+interrupt "$E2E_TMP/cut" "$LANTERN" sample "${BAO[@]}" "${LONG[@]}" --out "$E2E_TMP/cut"
 grep -q "^bao = .*bao_dr1.csv$" "$E2E_TMP/cut/checkpoint/settings.ini" &&
     grep -q "^bao_cov = .*bao_dr1_cov.txt$" "$E2E_TMP/cut/checkpoint/settings.ini" &&
     pass "settings.ini keeps the BAO files" || fail "settings.ini keeps the BAO files"

@@ -60,13 +60,7 @@ cmp -s "$E2E_TMP/t1/chains.csv" "$E2E_TMP/t3/chains.csv" && fail "another seed, 
 LONG=(--model lcdm --target-ess 25000 --seed 3 --threads 2 --quiet)
 run "$LANTERN" sample "${DATA[@]}" "${LONG[@]}" --out "$E2E_TMP/full"
 expect_status "a long reference run" 0
-"$LANTERN" sample "${DATA[@]}" "${LONG[@]}" --out "$E2E_TMP/cut" >"$OUT" 2>"$ERR" &
-pid=$!
-wait_for "$E2E_TMP/cut/checkpoint/settings.ini"
-sleep 0.3
-kill -INT $pid
-wait $pid
-STATUS=$?
+interrupt "$E2E_TMP/cut" "$LANTERN" sample "${DATA[@]}" "${LONG[@]}" --out "$E2E_TMP/cut"
 if [ "$STATUS" -eq 1 ] && [ -s "$E2E_TMP/cut/checkpoint/state.bin" ] && [ ! -e "$E2E_TMP/cut/summary.json" ] &&
    [ ! -e "$E2E_TMP/cut/chains.csv" ] && grep -q "resume" "$ERR"; then
     pass "SIGINT: status 1, a checkpoint and no final files"
