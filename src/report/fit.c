@@ -65,6 +65,22 @@ static void data_digest(const lt_like *l, char *out, size_t size)
         lt_digest_add(&h, m->name, strlen(m->name) + 1);
         lt_digest_add(&h, v, sizeof v);
     }
+    /* the BAO and CMB tables too (nothing is added without them, so a
+     * supernova run's digest is what it was): runs that differ in a probe
+     * are not the same data, and a report compares only the same data */
+    const lt_probe *probe[2] = {lt_like_bao(l, NULL), lt_like_cmb(l)};
+    for (int k = 0; k < 2; k++) {
+        const lt_probe *d = probe[k];
+        if (!d)
+            continue;
+        const char *tag = k ? "cmb" : "bao";
+        lt_digest_add(&h, tag, 4);
+        for (size_t i = 0; i < d->n; i++) {
+            double v[3] = {d->z[i], d->value[i], d->cov[i * d->n + i]};
+            lt_digest_add(&h, d->quantity[i], strlen(d->quantity[i]) + 1);
+            lt_digest_add(&h, v, sizeof v);
+        }
+    }
     snprintf(out, size, "fnv1a64:%016llx", (unsigned long long)h);
 }
 

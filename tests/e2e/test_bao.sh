@@ -115,6 +115,23 @@ else
     fail "BAO: --resume ends with the uninterrupted run's chains and summary"
 fi
 
+# ---- the data digest names the probes: a report compares only the same data ----
+run "$LANTERN" fit --measure omega_b_h2=0.02218:0.00055 --model lcdm-flat \
+    --measure h0=70:1 --format json
+cp "$OUT" "$E2E_TMP/meas.json"
+run "$LANTERN" fit "${BAO[@]}" --measure omega_b_h2=0.02218:0.00055 --model lcdm-flat \
+    --measure h0=70:1 --format json
+cp "$OUT" "$E2E_TMP/meas_bao.json"
+run "$LANTERN" fit "${BAO[@]}" --measure omega_b_h2=0.02218:0.00055 --model lcdm-flat \
+    --measure h0=70:1 --format json
+if $PY -c '
+import json, sys
+d = [json.load(open(f))["data"]["digest"] for f in sys.argv[1:]]
+assert d[0] != d[1] and d[1] == d[2], d
+' "$E2E_TMP/meas.json" "$E2E_TMP/meas_bao.json" "$OUT"; then
+    pass "the data digest changes with a BAO term and not otherwise"
+else fail "the data digest changes with a BAO term and not otherwise"; fi
+
 # ---- every term together ----
 P="${LANTERN_SHARED:-$ROOT/../shared}/data/pantheon2018"
 run "$LANTERN" fit --data "$P/lcparam_DS17f.txt" --columns z=zcmb,zhel=zhel,mag=mb,err=dmb \
