@@ -33,7 +33,7 @@ struct lt_like {
     const lt_survey *s_survey;     /* its survey */
     size_t nmeas;
     lt_measurement meas[LT_MAX_MEASUREMENTS];
-    const void *bao, *cmb;         /* the BAO and CMB terms' states, or NULL */
+    const lt_probe *bao, *cmb;     /* the BAO and CMB terms' tables, or NULL */
     int rd_free;
 };
 

@@ -334,10 +334,12 @@ lt_like *lt_like_alloc(const lt_survey *s, const lt_like_spec *spec, lt_error *e
             goto fail;
         if (pl->type[t] == &lt_term_sn) /* the later terms may ask for it */
             l->sn = l->term[l->sn_term].state, l->s_survey = s;
+        /* the tables, kept here so that the accessors (table.c) need not
+         * call back into the terms */
         if (pl->type[t] == &lt_term_bao)
-            l->bao = l->term[l->nterms - 1].state, l->rd_free = spec->rd_free;
+            l->bao = lt_bao_table(l->term[l->nterms - 1].state), l->rd_free = spec->rd_free;
         if (pl->type[t] == &lt_term_cmb)
-            l->cmb = l->term[l->nterms - 1].state;
+            l->cmb = lt_cmb_table(l->term[l->nterms - 1].state);
     }
     if (s && !spec->exact && s->kind != LT_OBS_DL && lt_sn_compress(l, err))
         goto fail;

@@ -21,9 +21,9 @@ const lt_probe *lt_like_bao(const lt_like *l, int *rd_free)
 {
     if (rd_free)
         *rd_free = l->rd_free;
-    return l->bao ? lt_bao_table(l->bao) : NULL;
+    return l->bao;
 }
-const lt_probe *lt_like_cmb(const lt_like *l) { return l->cmb ? lt_cmb_table(l->cmb) : NULL; }
+const lt_probe *lt_like_cmb(const lt_like *l) { return l->cmb; }
 const lt_cosmo_model *lt_like_model(const lt_like *l) { return l->model; }
 const lt_cosmo_params *lt_like_base(const lt_like *l) { return &l->base; }
 int lt_like_h0_known(const lt_like *l) { return l->h0_known; }
