@@ -85,6 +85,13 @@ int lt_cosmo_sound_horizon(const lt_cosmo *c, double z, double *rs, lt_error *er
     return LT_OK;
 }
 
+static int bad_e2_at(lt_error *err, double x)
+{
+    return lt_error_set(err, LT_EDOMAIN, NULL, 0,
+                        "E^2 is not positive at z = %.4g: distances there are undefined",
+                        expm1(x));
+}
+
 int lt_cosmo_transverse_at(const lt_cosmo *c, double z, double *dm, lt_error *err)
 {
     if (!(z >= 0.0) || !isfinite(z))
@@ -98,21 +105,20 @@ int lt_cosmo_transverse_at(const lt_cosmo *c, double z, double *dm, lt_error *er
     double width = panels ? x1 / panels : 0.0;
     lt_watch w;
     lt_watch_start(&w, lt_watch_e2_of_x);
-    for (int k = 0; k <= panels; k++) { /* the last pass only checks z itself */
+    for (int k = 0; k < panels; k++) {
         double mid = (k + 0.5) * width, part = 0.0;
-        for (int i = 0; i < (k < panels ? r->n : 1); i++) {
-            double x = k < panels ? mid + 0.5 * width * r->x[i] : x1, y = exp(x);
+        for (int i = 0; i < r->n; i++) {
+            double x = mid + 0.5 * width * r->x[i], y = exp(x);
             double e2 = lt_cosmo_e2_xy(c, x, y);
             if (lt_watch_push(&w, c, x, e2))
-                return lt_error_set(err, LT_EDOMAIN, NULL, 0,
-                                    "E^2 is not positive at z = %.4g: distances there are "
-                                    "undefined",
-                                    expm1(w.bad_t));
+                return bad_e2_at(err, w.bad_t);
             part += r->w[i] * y / sqrt(e2);
         }
-        if (k < panels)
-            chi += 0.5 * width * part;
+        chi += 0.5 * width * part;
     }
+    /* and at z itself, which closes the watch's last interval */
+    if (lt_watch_push(&w, c, x1, lt_cosmo_e2_xy(c, x1, 1.0 + z)))
+        return bad_e2_at(err, w.bad_t);
     double ok = c->omega_k;
     if (ok < 0.0 && chi * sqrt(-ok) >= M_PI)
         return lt_error_set(err, LT_EDOMAIN, NULL, 0,
