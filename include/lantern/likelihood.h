@@ -135,6 +135,11 @@ typedef struct lt_like_spec {
     int rd_free;
     /* the CMB distance-prior term: its table and covariance files, or NULL */
     const char *cmb, *cmb_cov;
+    /* 1: a setting of a parameter this likelihood lacks for want of a term
+     * (rd_h, offset, m_nu, omega_b_h2, a free h0) is passed over, not
+     * refused: a run file's priors serve every probe combination it lists.
+     * A parameter the model lacks is refused all the same. */
+    int lenient;
 } lt_like_spec;
 
 void lt_like_spec_init(lt_like_spec *s, const lt_cosmo_model *m);

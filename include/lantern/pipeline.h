@@ -64,6 +64,8 @@ typedef struct lt_job {
     size_t npool, cap;
     const char *name;    /* [run] name */
     const char *models;  /* [run] models: a comma-separated list */
+    const char *probes;  /* [run] probes: combinations, "sn, bao, sn+bao" (NULL: one,
+                          * of every term given) */
     lt_survey_spec data;
     int cov_from_flags;  /* a --cov flag replaced the run file's list */
     const char *bao, *bao_cov; /* [data] bao, bao_cov: the BAO term's files */

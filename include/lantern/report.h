@@ -146,6 +146,7 @@ typedef struct lt_run_model {
     lt_cosmo_params best_params; /* the fixed values with the best fit applied */
     char *data_file;            /* the summary's data.file, or NULL */
     char *data_digest;          /* its data.digest, or NULL (older summaries) */
+    char *probes;               /* its data.probes ("sn+bao"), or NULL (older summaries) */
 } lt_run_model;
 
 /*
@@ -177,6 +178,12 @@ void lt_pdg_round(double value, double minus, double plus, char *v, char *m, cha
  * digest where both summaries record one ("data.digest"), otherwise the
  * same n_data and data file (summaries written before the digest). */
 int lt_run_model_same_data(const lt_run_model *a, const lt_run_model *b);
+/* The model that model i of n is compared with (Delta AIC, Delta BIC,
+ * ln B): the first of the models fitted to the same data as i (i itself
+ * when it is that first one), or -1 when i is alone on its data and not the
+ * first model (its cells stay blank). Each data set, as each combination of
+ * probes of a run, so has its own reference. */
+long lt_run_model_reference(const lt_run_model *models, size_t n, size_t i);
 
 /*
  * How a parameter is quoted. edges flags (LT_EDGE_LOWER, LT_EDGE_UPPER)
@@ -221,12 +228,13 @@ double lt_run_model_histogram(const lt_run_model *m, size_t cx, size_t cy, doubl
 
 /* ---- the report of saved runs (lantern run, lantern report) ---- */
 
-#define LT_REPORT_MAX_MODELS 16
+#define LT_REPORT_MAX_MODELS 32
 /* The models of one report: their folders and labels, then, once written,
  * the models as loaded (for the caller's notes). */
 typedef struct lt_report_set {
     size_t n;
     char *dirs[LT_REPORT_MAX_MODELS];    /* each model's folder */
+    char *folders[LT_REPORT_MAX_MODELS]; /* the same, as given (relative to its run) */
     char *labels[LT_REPORT_MAX_MODELS];  /* how tables name it (NULL: its model) */
     char *name;                          /* the first run's name, from its summary */
     lt_survey *survey;                   /* the first model's data (lt_report_set_add_run) */

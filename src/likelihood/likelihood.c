@@ -135,31 +135,37 @@ static int check_settings(const lt_survey *s, const lt_like_spec *spec, lt_offse
         if (!lt_param_known(name))
             return lt_error_set(err, LT_EINPUT, what, line, "unknown parameter '%s' (parameters: %s)",
                                 name, lt_param_known_list());
+        /* a parameter that no term of this likelihood has: refused, or
+         * passed over when the spec is lenient */
+        const char *absent = NULL;
+        char text[200];
+        int id = lt_cosmo_param_find(name);
         if (!strcmp(name, "rd_h")) {
             if (!spec->bao || !spec->rd_free)
-                return lt_error_set(err, LT_EINPUT, what, line,
-                                    "rd_h (r_d h) is a parameter only of BAO with --rd free");
-            continue;
+                absent = "rd_h (r_d h) is a parameter only of BAO with --rd free";
+        } else if (!strcmp(name, "offset")) {
+            if (!s || s->kind == LT_OBS_DL)
+                absent = text, snprintf(text, sizeof text, "%s; drop the %s on offset",
+                                        s ? "dl data have no offset" : "there is no survey, so no offset",
+                                        what);
+        } else if (id == LT_P_M_NU && !pl->radiation) {
+            absent = "m_nu acts only with radiation on: fix t_cmb (2.7255) or add a term of the "
+                     "early universe (BAO with the r_d formula, CMB)";
+        } else if (id == LT_P_OMEGA_B_H2 && !pl->needs.omega_b_h2) {
+            absent = "nothing here reads omega_b_h2 (BAO with the r_d formula and the CMB do)";
+        } else if (id == LT_P_H0 && !st->fixed && !h0_free) {
+            absent = offset == LT_OFFSET_MARGINAL
+                         ? "h0 is degenerate with the marginalised offset of mag data; give a "
+                           "prior on offset (an absolute-magnitude calibration) or a measurement "
+                           "of h0 to fit both"
+                         : "nothing depends on h0 here; drop its prior";
         }
-        if (!strcmp(name, "offset")) {
-            if (!s)
-                return lt_error_set(err, LT_EINPUT, what, line,
-                                    "there is no survey, so no offset; drop the %s on offset",
-                                    what);
-            if (s->kind == LT_OBS_DL)
-                return lt_error_set(err, LT_EINPUT, what, line,
-                                    "dl data have no offset; drop the %s on offset", what);
+        if (absent && spec->lenient)
             continue;
-        }
-        int id = lt_cosmo_param_find(name);
-        if (id == LT_P_M_NU && !pl->radiation)
-            return lt_error_set(err, LT_EINPUT, what, line,
-                                "m_nu acts only with radiation on: fix t_cmb (2.7255) or add a "
-                                "term of the early universe (BAO with the r_d formula, CMB)");
-        if (id == LT_P_OMEGA_B_H2 && !pl->needs.omega_b_h2)
-            return lt_error_set(err, LT_EINPUT, what, line,
-                                "nothing here reads omega_b_h2 (BAO with the r_d formula and the "
-                                "CMB do)");
+        if (absent)
+            return lt_error_set(err, LT_EINPUT, what, line, "%s", absent);
+        if (!strcmp(name, "rd_h") || !strcmp(name, "offset"))
+            continue;
         if (id == LT_P_T_CMB && st->fixed && st->value == 0.0 && pl->needs.early)
             return lt_error_set(err, LT_EINPUT, what, line,
                                 "this likelihood needs the early universe (BAO with the r_d "
@@ -177,13 +183,6 @@ static int check_settings(const lt_survey *s, const lt_like_spec *spec, lt_offse
         if ((id == LT_P_T_CMB || id == LT_P_N_EFF) && !st->fixed)
             return lt_error_set(err, LT_EINPUT, st->origin ? st->origin : "--prior", line,
                                 "%s can be fixed (--fix %s=...) but not fitted", name, name);
-        if (id == LT_P_H0 && !st->fixed && !h0_free)
-            return lt_error_set(err, LT_EINPUT, st->origin ? st->origin : "--prior", line,
-                                offset == LT_OFFSET_MARGINAL
-                                    ? "h0 is degenerate with the marginalised offset of mag "
-                                      "data; give a prior on offset (an absolute-magnitude "
-                                      "calibration) or a measurement of h0 to fit both"
-                                    : "nothing depends on h0 here; drop its prior");
     }
     return LT_OK;
 }

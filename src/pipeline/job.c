@@ -102,6 +102,7 @@ typedef struct {
 static const rule rules[] = {
     {LT_JOB_RUN, "run", "name", NULL, K_TEXT, 0, 0, AT(name)},
     {LT_JOB_RUN, "run", "models", "--models", K_TEXT, 0, 0, AT(models)},
+    {LT_JOB_RUN, "run", "probes", NULL, K_TEXT, 0, 0, AT(probes)},
     {LT_JOB_DATA, "data", "file", "--data", K_PATH, 0, 0, AT(data.data)},
     {LT_JOB_DATA, "data", "columns", "--columns", K_TEXT, 0, 0, AT(data.columns)},
     {LT_JOB_DATA, "data", "cov", "--cov", K_COV, 0, 0, AT(data.cov)},

@@ -18,7 +18,7 @@
 
 /* Colour map 0: background, ink, then one colour per model (the same model
  * has the same colour in every figure), grey for data. */
-enum { C_BG = 0, C_INK = 1, C_MODEL = 2, C_GREY = 8, C_LIGHT = 9, C_GRID = 10 };
+enum { C_BG = 0, C_INK = 1, C_MODEL = 2, C_GREY = 8, C_LIGHT = 9, C_GRID = 10, C_FILL = 11 };
 static const int palette[][3] = {
     {255, 255, 255}, {0, 0, 0},       {31, 119, 180}, {214, 39, 40}, {44, 160, 44},
     {255, 127, 14},  {148, 103, 189}, {140, 86, 75},  {110, 110, 110}, {200, 200, 200},
@@ -33,6 +33,7 @@ static void open_figure(const char *dev, const char *path, int w, int h)
     plsfnam(path);
     plspage(0, 0, w, h, 0, 0);
     plscolbg(255, 255, 255);
+    plscmap0n(16); /* room for C_FILL, the translucent fill set before each use */
     plinit();
     pladv(0);
     for (size_t i = 0; i < sizeof palette / sizeof palette[0]; i++)
@@ -179,15 +180,30 @@ static void hpd_levels(const double *g, int n, double *l68, double *l95)
     free(s);
 }
 
-/* Contours of columns cx, cy of model m in the current window. */
-static void contours(const lt_run_model *m, size_t cx, size_t cy, double x0, double x1,
-                     double y0, double y1, int colour)
+/* The smoothed histogram of columns cx, cy of m on the window into g
+ * (NB x NB) and its 68% and 95% levels. */
+static void density(const lt_run_model *m, size_t cx, size_t cy, double x0, double x1, double y0,
+                    double y1, double *g, double *l68, double *l95)
 {
-    static double g[NB * NB];
     lt_run_model_histogram(m, cx, cy, x0, x1, y0, y1, NB, NB, g);
     smooth(g, NB, NB, 1.2);
-    double l68 = 0, l95 = 0;
-    hpd_levels(g, NB * NB, &l68, &l95);
+    *l68 = *l95 = 0;
+    hpd_levels(g, NB * NB, l68, l95);
+}
+
+/* Contours of columns cx, cy of model m in the current window: with
+ * PART_FILL the 95% and 68% regions filled in light and lighter tints of
+ * colour, with PART_LINES their edges, dashed and solid. Several runs in
+ * one panel: all fills first, widest first, then all edges, so that every
+ * run's edges stay in view. (Opaque tints, not translucency: PLplot fills
+ * cell by cell, and translucent cells show each seam.) */
+enum { PART_FILL = 1, PART_LINES = 2 };
+static void contours(const lt_run_model *m, size_t cx, size_t cy, double x0, double x1,
+                     double y0, double y1, int colour, unsigned parts)
+{
+    double g[NB * NB];
+    double l68, l95;
+    density(m, cx, cy, x0, x1, y0, y1, g, &l68, &l95);
     PLFLT **f;
     plAlloc2dGrid(&f, NB, NB);
     PLFLT xg[NB], yg[NB];
@@ -198,7 +214,22 @@ static void contours(const lt_run_model *m, size_t cx, size_t cy, double x0, dou
             f[i][k] = g[i * NB + k];
     }
     PLcGrid cg = {xg, yg, NULL, NB, NB, 0};
-    PLFLT lev95[1] = {l95}, lev68[1] = {l68};
+    PLFLT lev95[1] = {l95}, lev68[1] = {l68}, top = 0;
+    for (int i = 0; i < NB * NB; i++)
+        top = fmax(top, g[i]);
+    for (int k = 0; (parts & PART_FILL) && k < 2 && l95 > 0 && top > l95; k++) {
+        double t = k ? 0.45 : 0.2; /* the share of the colour against white */
+        int rgb[3];
+        for (int c = 0; c < 3; c++)
+            rgb[c] = (int)lround(255 - t * (255 - palette[colour][c]));
+        plscol0(C_FILL, rgb[0], rgb[1], rgb[2]);
+        plshade((PLFLT_MATRIX)f, NB, NB, NULL, x0, x1, y0, y1, k ? l68 : l95, top + 1, 0, C_FILL,
+                0, 0, 0, 0, 0, plfill, 1, pltr1, &cg);
+    }
+    if (!(parts & PART_LINES)) {
+        plFree2dGrid(f, NB, NB);
+        return;
+    }
     plcol0(colour);
     plwidth(1.5);
     pllsty(2);
@@ -236,7 +267,9 @@ static const char *axis_label(const char *name)
     } t[] = {{"omega_m", "#gW#dm#u"},       {"omega_de", "#gW#dDE#u"}, {"omega_k", "#gW#dk#u"},
              {"w0", "w#d0#u"},             {"wa", "w#da#u"},          {"h0", "H#d0#u [km/s/Mpc]"},
              {"offset", "M [mag]"},        {"q0", "q#d0#u"},          {"z_t", "z#dt#u"},
-             {"age_gyr", "age [Gyr]"},     {"w_pivot", "w#dp#u"}};
+             {"age_gyr", "age [Gyr]"},     {"w_pivot", "w#dp#u"},
+             {"omega_b_h2", "#gW#db#uh#u2#d"}, {"rd_h", "r#dd#uh [Mpc]"},
+             {"m_nu", "#gS#um#d#gn#u [eV]"}};
     for (size_t i = 0; i < sizeof t / sizeof t[0]; i++)
         if (!strcmp(t[i].name, name))
             return t[i].label;
@@ -276,6 +309,14 @@ typedef struct {
 
 #define MEMBER(g, j) (&(g)->models[(g)->idx[j]])
 
+/* Member j's colour: its model's alone, its place among several (the
+ * combinations of probes of a run then keep one colour each in every
+ * figure, whatever the model). */
+static int member_colour(const model_group *g, size_t j)
+{
+    return model_colour(g->k > 1 ? j : g->idx[j]);
+}
+
 /* The plotting range of parameter name over the members that have it. */
 static void group_range(const model_group *g, const char *name, double *lo, double *hi)
 {
@@ -298,7 +339,7 @@ static void group_legend(const model_group *g, double y, double dy)
 {
     for (size_t j = 0; j < g->k; j++, y -= dy) {
         PLFLT lx[2] = {0.02, 0.14}, ly[2] = {y, y};
-        plcol0(model_colour(g->idx[j]));
+        plcol0(member_colour(g, j));
         plwidth(2.5);
         plline(2, lx, ly);
         plwidth(1);
@@ -359,7 +400,7 @@ static void draw_posterior(const void *p)
             for (size_t j = 0; j < g->k; j++) {
                 const lt_run_model *mj = MEMBER(g, j);
                 long cx = find_col(mj, names[c]), cy = find_col(mj, names[r]);
-                int col = model_colour(g->idx[j]);
+                int col = member_colour(g, j);
                 if (cx < 0 || cy < 0)
                     continue;
                 /* the best fit in ink for one model, in its colour among several */
@@ -371,13 +412,18 @@ static void draw_posterior(const void *p)
                     plline(2, bx, by);
                     pllsty(1);
                 } else {
-                    contours(mj, (size_t)cx, (size_t)cy, lo[c], hi[c], lo[r], hi[r], col);
+                    /* filled for one model; among several, edges only (the
+                     * plane figure layers the fills of several) */
+                    contours(mj, (size_t)cx, (size_t)cy, lo[c], hi[c], lo[r], hi[r], col,
+                             g->k > 1 ? PART_LINES : PART_FILL | PART_LINES);
                     PLFLT bx = mj->best[cx], by = mj->best[cy];
                     plcol0(g->k > 1 ? col : C_INK);
                     plpoin(1, &bx, &by, 5);
                 }
             }
             plcol0(C_INK);
+            if (r != c) /* again: the fills may have covered its ticks */
+                plbox(xo, tick_step(lo[c], hi[c], nl), 0, yo, tick_step(lo[r], hi[r], nl), 0);
             if (r == d - 1)
                 plmtex("b", 3.2, 0.5, 0.5, axis_label(names[c]));
             if (c == 0 && r > 0)
@@ -455,54 +501,104 @@ static void draw_traces(const void *p)
     free(y);
 }
 
-/* ---- the Omega_m - Omega_de or w0 - wa plane ---- */
+/* ---- the plane of a model's two telling parameters ---- */
+
+/* Which plane a model has, from its columns: w0 - wa (w0wa models),
+ * Omega_m - Omega_DE (curved models without evolving w), Omega_m - w0
+ * (flat wCDM), or none (flat LCDM). */
+typedef enum { PLANE_NONE = 0, PLANE_W0WA, PLANE_CURVED, PLANE_OMW } plane_kind;
+static plane_kind plane_of(const lt_run_model *m)
+{
+    int w0 = find_col(m, "w0") >= 0, wa = find_col(m, "wa") >= 0, om = find_col(m, "omega_m") >= 0;
+    if (w0 && wa)
+        return PLANE_W0WA;
+    if (m->model && !m->model->flat && om && find_col(m, "omega_de") >= 0)
+        return PLANE_CURVED;
+    return w0 && om ? PLANE_OMW : PLANE_NONE;
+}
 
 static void draw_plane(const void *p)
 {
     const model_group *g = p;
     const lt_run_model *m = MEMBER(g, 0);
-    long cx = find_col(m, "omega_m"), cy = find_col(m, "omega_de");
-    int w0wa = m->model && m->model->de->w_early != NULL && find_col(m, "wa") >= 0;
-    if (w0wa)
-        cx = find_col(m, "w0"), cy = find_col(m, "wa");
+    plane_kind kind = plane_of(m);
+    static const char *const cols[][2] = {
+        {"", ""}, {"w0", "wa"}, {"omega_m", "omega_de"}, {"omega_m", "w0"}};
+    static const char *const what[] = {"", "w#d0#u - w#da#u", "#gW#dm#u - #gW#dDE#u",
+                                       "#gW#dm#u - w#d0#u"};
+    const char *xn = cols[kind][0], *yn = cols[kind][1];
     double x0, x1, y0, y1;
-    group_range(g, m->names[cx], &x0, &x1);
-    group_range(g, m->names[cy], &y0, &y1);
-    if (w0wa) { /* make sure w = -1 is in view */
+    group_range(g, xn, &x0, &x1);
+    group_range(g, yn, &y0, &y1);
+    if (kind == PLANE_W0WA) /* make sure w = -1 is in view */
         x0 = fmin(x0, -1.1), x1 = fmax(x1, -0.9), y0 = fmin(y0, -0.2), y1 = fmax(y1, 0.2);
-    }
+    if (kind == PLANE_OMW)
+        y0 = fmin(y0, -1.1), y1 = fmax(y1, -0.9);
     plschr(0, 1.0);
     plvpor(0.13, 0.95, 0.12, 0.9);
     plwind(x0, x1, y0, y1);
     plcol0(C_INK);
     plbox("bcnst", 0, 0, "bcnstv", 0, 0);
-    pllab(axis_label(m->names[cx]), axis_label(m->names[cy]), "");
+    pllab(axis_label(xn), axis_label(yn), "");
+    /* the widest regions first, so that the narrow ones (the combinations
+     * of most probes) are drawn over them, not under */
+    size_t order[MAX_OVERLAY];
+    double area[MAX_OVERLAY];
     for (size_t j = 0; j < g->k; j++) {
         const lt_run_model *mj = MEMBER(g, j);
-        long jx = find_col(mj, m->names[cx]), jy = find_col(mj, m->names[cy]);
-        if (jx < 0 || jy < 0)
-            continue;
-        contours(mj, (size_t)jx, (size_t)jy, x0, x1, y0, y1, model_colour(g->idx[j]));
-        PLFLT bx = mj->best[jx], by = mj->best[jy];
-        plcol0(g->k > 1 ? model_colour(g->idx[j]) : C_INK);
-        plpoin(1, &bx, &by, 5);
+        long jx = find_col(mj, xn), jy = find_col(mj, yn);
+        double gr[NB * NB], l68, l95;
+        area[j] = 0;
+        if (jx >= 0 && jy >= 0) {
+            density(mj, (size_t)jx, (size_t)jy, x0, x1, y0, y1, gr, &l68, &l95);
+            for (int c = 0; c < NB * NB; c++)
+                area[j] += gr[c] >= l95;
+        }
+        size_t at = j;
+        for (; at > 0 && area[order[at - 1]] < area[j]; at--)
+            order[at] = order[at - 1];
+        order[at] = j;
     }
+    for (unsigned part = PART_FILL; part <= PART_LINES; part <<= 1)
+        for (size_t o = 0; o < g->k; o++) {
+            size_t j = order[o];
+            const lt_run_model *mj = MEMBER(g, j);
+            long jx = find_col(mj, xn), jy = find_col(mj, yn);
+            if (jx < 0 || jy < 0)
+                continue;
+            contours(mj, (size_t)jx, (size_t)jy, x0, x1, y0, y1, member_colour(g, j), part);
+            if (part == PART_LINES) {
+                PLFLT bx = mj->best[jx], by = mj->best[jy];
+                plcol0(g->k > 1 ? member_colour(g, j) : C_INK);
+                plpoin(1, &bx, &by, 5);
+            }
+        }
+    plcol0(C_INK);
+    plbox("bcnst", 0, 0, "bcnstv", 0, 0); /* again, over the fills */
     char title[200];
     /* weighted draws: the regions hold that much of the weight (among
      * several runs, the legend says which are weighted) */
     const char *of = g->k == 1 && m->weighted ? " of the weight" : "";
     plcol0(C_GREY);
-    if (w0wa) {
+    if (kind == PLANE_W0WA || kind == PLANE_OMW) {
+        /* the cosmological constant: the point w0 = -1, wa = 0, or the
+         * line w0 = -1 */
         PLFLT lx[2] = {-1, -1}, ly[2] = {y0, y1}, hx[2] = {x0, x1}, hy[2] = {0, 0};
+        PLFLT cx[2] = {x0, x1}, cy[2] = {-1, -1};
         pllsty(3);
-        plline(2, lx, ly);
-        plline(2, hx, hy);
+        if (kind == PLANE_W0WA) {
+            plline(2, lx, ly);
+            plline(2, hx, hy);
+        } else
+            plline(2, cx, cy);
         pllsty(1);
-        PLFLT px = -1, py = 0;
         plcol0(C_INK);
-        plpoin(1, &px, &py, 17);
-        plptex(-1, 0, 1, 0, -0.1, "w = -1");
-        snprintf(title, sizeof title, "%s: w#d0#u - w#da#u plane (68%%, 95%%%s)", m->label, of);
+        if (kind == PLANE_W0WA) {
+            PLFLT px = -1, py = 0;
+            plpoin(1, &px, &py, 17);
+            plptex(-1 + 0.01 * (x1 - x0), 0.02 * (y1 - y0), 1, 0, 0, "#gL");
+        } else
+            plptex(x0 + 0.02 * (x1 - x0), -1 + 0.02 * (y1 - y0), 1, 0, 0, "w = -1");
     } else {
         /* flat: Omega_de = 1 - Omega_m; q0 = 0: Omega_de = Omega_m / 2 (q0 = Om/2 - OL,
          * for a cosmological constant; the line is drawn for w = -1) */
@@ -515,12 +611,12 @@ static void draw_plane(const void *p)
         double tx = x0 + 0.75 * (x1 - x0);
         plptex(tx, 1 - tx, 1, -1, 0.5, "flat");
         plptex(tx, tx / 2, 1, 0.5, 0.5, "accelerating above, decelerating below");
-        snprintf(title, sizeof title, "%s: #gW#dm#u - #gW#dDE#u plane (68%%, 95%%%s)", m->label,
-                 of);
     }
     if (g->k > 1) /* the runs name themselves in the legend */
         snprintf(title, sizeof title, "%s, %zu runs: %s plane (68%%, 95%%%s)", m->name, g->k,
-                 w0wa ? "w#d0#u - w#da#u" : "#gW#dm#u - #gW#dDE#u", of);
+                 what[kind], of);
+    else
+        snprintf(title, sizeof title, "%s: %s plane (68%%, 95%%%s)", m->label, what[kind], of);
     plcol0(C_INK);
     plmtex("t", 1.5, 0.5, 0.5, title);
     if (g->k > 1) {
@@ -528,6 +624,12 @@ static void draw_plane(const void *p)
         double h = 0.045 * (double)g->k;
         plvpor(0.55, 0.94, 0.89 - h, 0.89);
         plwind(0, 1, 0, 1);
+        /* on white, with a frame: the regions may reach under it */
+        PLFLT bx[4] = {0, 1, 1, 0}, by[4] = {0, 0, 1, 1};
+        plcol0(C_BG);
+        plfill(4, bx, by);
+        plcol0(C_GREY);
+        plbox("bc", 0, 0, "bc", 0, 0);
         group_legend(g, 1 - 0.5 / (double)g->k, 1.0 / (double)g->k);
     }
 }
@@ -687,7 +789,17 @@ int lt_report_write_figures(const char *dir, const lt_run_model *models, size_t 
     if (n == 0 || !models)
         return lt_error_set(err, LT_EINPUT, dir, 0, "a report needs at least one model");
     /* the Hubble diagram where there is a survey (measurements alone have none) */
-    hubble_ctx h = {models, n, s};
+    /* the models fitted to the survey drawn, as the first of them was: one
+     * combination of probes (a run's BAO-only fit has no offset to meet
+     * these data, and others' curves would only crowd the diagram) */
+    lt_run_model shown[LT_REPORT_MAX_MODELS]; /* shallow copies, read only */
+    size_t first = 0, ns = 0;
+    while (first < n && !(models[first].data_file && models[first].data_file[0]))
+        first++;
+    for (size_t i = 0; i < n && ns < LT_REPORT_MAX_MODELS; i++)
+        if (first == n || lt_run_model_same_data(&models[first], &models[i]))
+            shown[ns++] = models[i];
+    hubble_ctx h = {shown, ns, s};
     int rc = s ? figure(dir, "hubble", 1, 1100, 800, draw_hubble, &h, err) : LT_OK;
     for (size_t i = 0; !rc && i < n; i++) {
         /* the models of this name: the figures of the first one show them all */
@@ -707,16 +819,18 @@ int lt_report_write_figures(const char *dir, const lt_run_model *models, size_t 
         if (!seen) {
             snprintf(name, sizeof name, "posterior_%s", models[i].name);
             rc = figure(dir, name, 1, (int)side, (int)side, draw_posterior, &g, err);
-            int curved = models[i].model && !models[i].model->flat && find_col(&models[i], "omega_de") >= 0;
-            int w0wa = find_col(&models[i], "wa") >= 0 && find_col(&models[i], "w0") >= 0;
-            if (!rc && (curved || w0wa)) {
+            if (!rc && plane_of(&models[i]) != PLANE_NONE) {
                 snprintf(name, sizeof name, "plane_%s", models[i].name);
                 rc = figure(dir, name, 1, 800, 700, draw_plane, &g, err);
             }
         }
-        /* traces are not overlaid: the second model of a name gets _2, and so on */
+        /* traces are not overlaid: the second model of a name gets its
+         * probes' name (a run's combinations), else _2, and so on */
         if (!rc) {
-            if (seen)
+            const char *pr = models[i].probes, *pr0 = models[g.idx[0]].probes;
+            if (seen && pr && pr0 && strcmp(pr, pr0))
+                snprintf(name, sizeof name, "traces_%s_%s", models[i].name, pr);
+            else if (seen)
                 snprintf(name, sizeof name, "traces_%s_%zu", models[i].name, seen + 1);
             else
                 snprintf(name, sizeof name, "traces_%s", models[i].name);

@@ -92,6 +92,16 @@ cJSON *lt_report_add_data(cJSON *o, const lt_survey_spec *data, const lt_like *l
     char digest[64];
     data_digest(l, digest, sizeof digest);
     cJSON_AddStringToObject(files, "digest", digest);
+    /* the terms by name, as a run's combinations of probes spell them */
+    char probes[64] = "";
+    const char *has[4] = {s ? "sn" : NULL, lt_like_bao(l, NULL) ? "bao" : NULL,
+                          lt_like_cmb(l) ? "cmb" : NULL,
+                          lt_like_nmeasurements(l) ? "measurements" : NULL};
+    for (int k = 0; k < 4; k++)
+        if (has[k])
+            snprintf(probes + strlen(probes), sizeof probes - strlen(probes), "%s%s",
+                     probes[0] ? "+" : "", has[k]);
+    cJSON_AddStringToObject(files, "probes", probes);
     cJSON_AddStringToObject(files, "columns", data->columns ? data->columns : "");
     cJSON *covs = cJSON_AddArrayToObject(files, "cov");
     for (size_t i = 0; i < data->ncov; i++)

@@ -23,6 +23,7 @@ void lt_report_set_free(lt_report_set *rs)
 {
     for (size_t i = 0; i < rs->n; i++) {
         free(rs->dirs[i]);
+        free(rs->folders[i]);
         free(rs->labels[i]);
     }
     for (size_t i = 0; i < rs->loaded; i++)
@@ -39,8 +40,9 @@ int lt_report_set_add(lt_report_set *rs, const char *run, const char *folder, co
         return lt_error_set(err, LT_EINPUT, NULL, 0, "at most %d models in one report",
                             LT_REPORT_MAX_MODELS);
     rs->dirs[rs->n] = lt_path_join(run, folder, NULL);
+    rs->folders[rs->n] = strdup(folder);
     rs->labels[rs->n] = label ? strdup(label) : NULL;
-    if (!rs->dirs[rs->n] || (label && !rs->labels[rs->n])) {
+    if (!rs->dirs[rs->n] || !rs->folders[rs->n] || (label && !rs->labels[rs->n])) {
         rs->n++;
         return lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
     }
@@ -97,16 +99,20 @@ int lt_report_set_add_run(lt_report_set *rs, const char *run, int label, lt_erro
     cJSON_ArrayForEach(m, models)
     {
         const cJSON *folder = cJSON_GetObjectItemCaseSensitive(m, "folder");
+        const cJSON *mlabel = cJSON_GetObjectItemCaseSensitive(m, "label");
         if (!cJSON_IsString(folder))
             continue;
+        /* the label the run gave it ("w0wa-flat (sn+bao)"), else its folder */
+        const char *own = cJSON_IsString(mlabel) ? mlabel->valuestring : folder->valuestring;
         char *lab = NULL;
-        if (label) {
-            size_t n = strlen(name) + strlen(folder->valuestring) + 3;
+        if (label || cJSON_IsString(mlabel)) {
+            size_t n = strlen(name) + strlen(own) + 3;
             if ((lab = malloc(n)))
-                snprintf(lab, n, "%s: %s", name, folder->valuestring);
+                snprintf(lab, n, "%s%s%s", label ? name : "", label ? ": " : "", own);
         }
-        rc = label && !lab ? lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory")
-                           : lt_report_set_add(rs, run, folder->valuestring, lab, err);
+        rc = (label || cJSON_IsString(mlabel)) && !lab
+                 ? lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory")
+                 : lt_report_set_add(rs, run, folder->valuestring, lab, err);
         free(lab);
         /* the data of the first model of the first run, for the Hubble diagram */
         if (!rc && !rs->survey)
@@ -148,7 +154,8 @@ static int write_summary(const char *dir, const char *name, const lt_report_set 
         cJSON *m = cJSON_Parse(text);
         free(text);
         if (m) {
-            cJSON_AddStringToObject(m, "folder", models[i].name);
+            cJSON_AddStringToObject(m, "folder", rs->folders[i]);
+            cJSON_AddStringToObject(m, "label", models[i].label);
             cJSON_AddItemToArray(list, m);
         }
         cJSON *c = cJSON_CreateObject();
@@ -158,24 +165,32 @@ static int write_summary(const char *dir, const char *name, const lt_report_set 
         cJSON_AddItemToObject(c, "dof", lt_json_number((double)models[i].dof));
         cJSON_AddItemToObject(c, "aic", lt_json_number(models[i].aic));
         cJSON_AddItemToObject(c, "bic", lt_json_number(models[i].bic));
-        /* differences across other data compare nothing: null, and said so */
+        /* differences within one data set, to its first model (the
+         * reference); one alone on its data compares with nothing: null */
         int same = lt_run_model_same_data(&models[0], &models[i]);
-        double other = same ? 0.0 : NAN;
-        cJSON_AddItemToObject(c, "delta_aic", lt_json_number(models[i].aic - models[0].aic + other));
-        cJSON_AddItemToObject(c, "delta_bic", lt_json_number(models[i].bic - models[0].bic + other));
+        long ref = lt_run_model_reference(models, rs->n, i);
+        const lt_run_model *r = &models[ref < 0 ? (long)i : ref];
+        double other = ref >= 0 ? 0.0 : NAN;
+        cJSON_AddStringToObject(c, "label", models[i].label);
+        cJSON_AddItemToObject(c, "delta_aic", lt_json_number(models[i].aic - r->aic + other));
+        cJSON_AddItemToObject(c, "delta_bic", lt_json_number(models[i].bic - r->bic + other));
         cJSON_AddBoolToObject(c, "same_data_as_first", same);
+        if (ref >= 0)
+            cJSON_AddStringToObject(c, "reference", r->label);
+        else
+            cJSON_AddNullToObject(c, "reference");
         cJSON_AddBoolToObject(c, "converged", models[i].converged);
         if (isfinite(models[i].ln_z)) {
-            double lnb = models[i].ln_z - models[0].ln_z + other;
+            double lnb = models[i].ln_z - r->ln_z + other;
             cJSON_AddItemToObject(c, "ln_z", lt_json_number(models[i].ln_z));
             cJSON_AddItemToObject(c, "ln_z_err", lt_json_number(models[i].ln_z_err));
             cJSON_AddItemToObject(c, "ln_b", lt_json_number(lnb));
             cJSON_AddItemToObject(c, "two_ln_b", lt_json_number(2 * lnb));
             char rd[160];
-            snprintf(rd, sizeof rd, i == 0 ? "reference" : "%s: %s",
+            snprintf(rd, sizeof rd, ref == (long)i ? "reference" : "%s: %s",
                      2 * lnb >= 0 ? "for this model" : "for the reference",
                      lt_report_kass_raftery(2 * lnb));
-            if (!same)
+            if (ref < 0)
                 snprintf(rd, sizeof rd, "not compared: fitted to other data than the first model");
             cJSON_AddStringToObject(c, "reading", rd);
         }

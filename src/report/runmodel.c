@@ -18,6 +18,7 @@ void lt_run_model_free(lt_run_model *m)
     free(m->label);
     free(m->data_file);
     free(m->data_digest);
+    free(m->probes);
     free(m->priors);
     free(m->best);
     free(m->stats);
@@ -231,7 +232,9 @@ static int load(const char *path, const char *chains, lt_run_model *m, lt_error 
         lt_run_model_free(m);
         return lt_error_set(err, LT_ENOMEM, path, 0, "out of memory");
     }
-    if (cJSON_IsString(ddig) && !(m->data_digest = strdup(ddig->valuestring))) {
+    const cJSON *dprobes = cJSON_GetObjectItemCaseSensitive(data, "probes");
+    if ((cJSON_IsString(ddig) && !(m->data_digest = strdup(ddig->valuestring))) ||
+        (cJSON_IsString(dprobes) && !(m->probes = strdup(dprobes->valuestring)))) {
         cJSON_Delete(j);
         lt_run_model_free(m);
         return lt_error_set(err, LT_ENOMEM, path, 0, "out of memory");
@@ -323,4 +326,18 @@ int lt_run_model_same_data(const lt_run_model *a, const lt_run_model *b)
     /* a summary written before the digest: the size and the file decide */
     return a->n_data == b->n_data && (a->data_file == NULL) == (b->data_file == NULL) &&
            (!a->data_file || !strcmp(a->data_file, b->data_file));
+}
+
+long lt_run_model_reference(const lt_run_model *models, size_t n, size_t i)
+{
+    size_t ref = i, others = 0;
+    for (size_t k = 0; k < n; k++)
+        if (k != i && lt_run_model_same_data(&models[k], &models[i])) {
+            others++;
+            if (k < ref)
+                ref = k;
+        }
+    /* alone on its data, it compares with nothing (the first model is
+     * the reference of its own all the same) */
+    return others || i == 0 ? (long)ref : -1;
 }

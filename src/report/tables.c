@@ -176,6 +176,28 @@ static const char *tex_model(const char *m)
     return m;
 }
 
+/* The probes of a column for its TeX header: "sn+bao+cmb" as
+ * "SN+BAO+CMB" ("-" for a summary that does not say). Returns buf. */
+static const char *tex_probes(const char *probes, char *buf, size_t size)
+{
+    static const struct {
+        const char *name, *tex;
+    } t[] = {{"sn", "SN"}, {"bao", "BAO"}, {"cmb", "CMB"}, {"measurements", "meas."}};
+    buf[0] = 0;
+    if (!probes)
+        return "--";
+    char copy[128], *save = NULL;
+    snprintf(copy, sizeof copy, "%s", probes);
+    for (char *p = strtok_r(copy, "+", &save); p; p = strtok_r(NULL, "+", &save)) {
+        const char *tex = p;
+        for (size_t i = 0; i < sizeof t / sizeof t[0]; i++)
+            if (!strcmp(t[i].name, p))
+                tex = t[i].tex;
+        snprintf(buf + strlen(buf), size - strlen(buf), "%s%s", buf[0] ? "+" : "", tex);
+    }
+    return buf;
+}
+
 /* Open the temporary file of dir/name, whose path goes in *final (the
  * previous one freed). */
 static int open_tmp(const char *dir, const char *name, char **final, FILE **f, lt_error *err)
@@ -187,12 +209,15 @@ static int open_tmp(const char *dir, const char *name, char **final, FILE **f, l
 }
 
 /* What the tables need of each model, worked out once: the quotes (each a
- * kernel density estimate at the prior's edges) and whether the model's
- * data are those of the first model. */
+ * kernel density estimate at the prior's edges) and the model each is
+ * compared with. */
 typedef struct {
     lt_quote **q; /* q[i][c] */
-    int *same;    /* same[i]: model i was fitted to the first model's data */
-    int any_edge, any_unconverged, any_other_data;
+    long *ref;    /* ref[i]: lt_run_model_reference, -1 for a blank */
+    int any_edge, any_unconverged;
+    int any_alone;  /* a model alone on its data (blank cells) */
+    int many_refs;  /* more than one data set with its own reference */
+    int many_probes; /* the models used different probes (the TeX header names them) */
 } table_facts;
 
 static void facts_free(table_facts *t, size_t n)
@@ -200,15 +225,15 @@ static void facts_free(table_facts *t, size_t n)
     for (size_t i = 0; t->q && i < n; i++)
         free(t->q[i]);
     free(t->q);
-    free(t->same);
+    free(t->ref);
 }
 
 static int facts_of(const lt_run_model *models, size_t n, table_facts *t, lt_error *err)
 {
     memset(t, 0, sizeof *t);
     t->q = calloc(n, sizeof *t->q);
-    t->same = calloc(n, sizeof *t->same);
-    if (!t->q || !t->same)
+    t->ref = calloc(n, sizeof *t->ref);
+    if (!t->q || !t->ref)
         goto nomem;
     for (size_t i = 0; i < n; i++) {
         size_t nc = models[i].nparams + models[i].nderived;
@@ -218,9 +243,12 @@ static int facts_of(const lt_run_model *models, size_t n, table_facts *t, lt_err
             t->q[i][c] = lt_quote_of(&models[i], c);
             t->any_edge |= edge_marked(&t->q[i][c]);
         }
-        t->same[i] = lt_run_model_same_data(&models[0], &models[i]);
-        t->any_other_data |= !t->same[i];
+        t->ref[i] = lt_run_model_reference(models, n, i);
+        t->any_alone |= t->ref[i] < 0;
+        t->many_refs |= t->ref[i] > 0;
         t->any_unconverged |= !models[i].converged;
+        t->many_probes |= models[i].probes && models[0].probes &&
+                          strcmp(models[i].probes, models[0].probes);
     }
     return LT_OK;
 nomem:
@@ -272,17 +300,19 @@ int lt_report_write_tables(const char *dir, const lt_run_model *models, size_t n
     fputs("| chi2_min / dof |", f);
     for (size_t i = 0; i < n; i++)
         fprintf(f, " %.2f / %ld |", models[i].chi2_min, models[i].dof);
-    /* differences across other data compare nothing: those cells stay blank */
-#define ROW(fmt, blank, expr)                                                                \
+    /* differences only within one data set, to its first model; a model
+     * alone on its data compares with nothing: its cells stay blank */
+#define ROW(fmt, blank, field)                                                               \
     for (size_t i = 0; i < n; i++)                                                           \
-        if (t.same[i])                                                                       \
-            fprintf(f, fmt, expr);                                                           \
+        if (t.ref[i] >= 0)                                                                   \
+            fprintf(f, fmt, models[i].field - models[t.ref[i]].field);                       \
         else                                                                                 \
             fputs(blank, f);
-    fputs("\n| AIC - AIC(first) |", f);
-    ROW(" %+.2f |", " |", models[i].aic - models[0].aic)
-    fputs("\n| BIC - BIC(first) |", f);
-    ROW(" %+.2f |", " |", models[i].bic - models[0].bic)
+    const char *against = t.many_refs ? "reference" : "first";
+    fprintf(f, "\n| AIC - AIC(%s) |", against);
+    ROW(" %+.2f |", " |", aic)
+    fprintf(f, "\n| BIC - BIC(%s) |", against);
+    ROW(" %+.2f |", " |", bic)
     int have_z = 0;
     for (size_t i = 0; i < n; i++)
         have_z |= isfinite(models[i].ln_z);
@@ -290,8 +320,8 @@ int lt_report_write_tables(const char *dir, const lt_run_model *models, size_t n
         fputs("\n| ln Z (nested sampling) |", f);
         for (size_t i = 0; i < n; i++)
             fprintf(f, " %.2f ± %.2f |", models[i].ln_z, models[i].ln_z_err);
-        fputs("\n| ln B vs first |", f);
-        ROW(" %+.2f |", " |", models[i].ln_z - models[0].ln_z)
+        fprintf(f, "\n| ln B vs %s |", against);
+        ROW(" %+.2f |", " |", ln_z)
     }
     fputs("\n\nValues are posterior medians with 68% equal-tailed intervals, rounded by the "
           "Particle Data Group's rule; a parameter whose posterior presses on a prior edge is "
@@ -318,12 +348,21 @@ int lt_report_write_tables(const char *dir, const lt_run_model *models, size_t n
             fprintf(f, "\n%s: importance-weighted draws (effective sample size %.0f); its "
                        "values are weighted quantiles.\n",
                     models[i].label, models[i].ess_min);
-    if (t.any_other_data) {
+    if (t.many_refs) {
+        fputs("\nAIC, BIC and ln B differences compare models fitted to the same data: each "
+              "is taken to the first model of its data (the reference),",
+              f);
+        for (size_t i = 0, k = 0; i < n; i++)
+            if (t.ref[i] == (long)i)
+                fprintf(f, "%s %s", k++ ? ";" : "", models[i].label);
+        fputs(".\n", f);
+    }
+    if (t.any_alone) {
         fprintf(f, "\nAIC, BIC and ln B differences compare models fitted to the same data, "
                    "here that of %s (%zu objects, %s); they are left blank for",
                 models[0].label, models[0].n_data, base_name(models[0].data_file));
         for (size_t i = 0, k = 0; i < n; i++)
-            if (!t.same[i])
+            if (t.ref[i] < 0)
                 fprintf(f, "%s %s (%zu objects, %s)", k++ ? "," : "", models[i].label,
                         models[i].n_data, base_name(models[i].data_file));
         fputs(", fitted to other data.\n", f);
@@ -340,6 +379,11 @@ int lt_report_write_tables(const char *dir, const lt_run_model *models, size_t n
     fputs("}\n\\toprule\nParameter", f);
     for (size_t i = 0; i < n; i++)
         fprintf(f, " & %s%s", tex_model(models[i].name), models[i].converged ? "" : "$^\\ddagger$");
+    if (t.many_probes) { /* a second header row: the probes of each column */
+        fputs(" \\\\\n", f);
+        for (size_t i = 0; i < n; i++)
+            fprintf(f, " & %s", tex_probes(models[i].probes, cell, sizeof cell));
+    }
     fputs(" \\\\\n\\midrule\n", f);
     for (size_t p = 0; p < nn; p++) {
         fprintf(f, "%s", tex_name(names[p]));
@@ -358,15 +402,15 @@ int lt_report_write_tables(const char *dir, const lt_run_model *models, size_t n
     for (size_t i = 0; i < n; i++)
         fprintf(f, " & %.2f / %ld", models[i].chi2_min, models[i].dof);
     fputs(" \\\\\n$\\Delta$AIC", f);
-    ROW(" & %+.2f", " &", models[i].aic - models[0].aic)
+    ROW(" & %+.2f", " &", aic)
     fputs(" \\\\\n$\\Delta$BIC", f);
-    ROW(" & %+.2f", " &", models[i].bic - models[0].bic)
+    ROW(" & %+.2f", " &", bic)
     if (have_z) {
         fputs(" \\\\\n$\\ln Z$", f);
         for (size_t i = 0; i < n; i++)
             fprintf(f, " & $%.2f \\pm %.2f$", models[i].ln_z, models[i].ln_z_err);
         fputs(" \\\\\n$\\ln B$", f);
-        ROW(" & %+.2f", " &", models[i].ln_z - models[0].ln_z)
+        ROW(" & %+.2f", " &", ln_z)
     }
 #undef ROW
     fputs(" \\\\\n\\bottomrule\n", f);
@@ -385,7 +429,11 @@ int lt_report_write_tables(const char *dir, const lt_run_model *models, size_t n
             fprintf(f, "\\multicolumn{%zu}{l}{\\footnotesize %s: importance-weighted draws "
                        "(effective sample size %.0f)} \\\\\n",
                     n + 1, tex_model(models[i].name), models[i].ess_min);
-    if (t.any_other_data)
+    if (t.many_refs)
+        fprintf(f, "\\multicolumn{%zu}{l}{\\footnotesize $\\Delta$: to the first column of "
+                   "the same data} \\\\\n",
+                n + 1);
+    if (t.any_alone)
         fprintf(f, "\\multicolumn{%zu}{l}{\\footnotesize blank $\\Delta$: fitted to other data "
                    "than the first column} \\\\\n",
                 n + 1);

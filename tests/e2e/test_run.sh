@@ -156,11 +156,12 @@ assert any("left blank for pbins: lcdm-flat (40 objects, lcparam_DS17f.txt)" in 
 cmp = json.load(open(d + "/summary.json"))["comparison"]
 assert cmp[-1]["delta_aic"] is None and cmp[-1]["ln_b"] is None and not cmp[-1]["same_data_as_first"]
 assert cmp[1]["delta_aic"] is not None and cmp[1]["same_data_as_first"]
-# both runs' lcdm-flat in posterior_lcdm-flat.png: the first model's colour
-# (31, 119, 180) and the fifth's (148, 103, 189), as figures.c's palette has them
+# both runs' lcdm-flat in posterior_lcdm-flat.png, in the colours of the
+# first and second members of an overlay, (31, 119, 180) and (214, 39, 40),
+# as figures.c's palette has them
 png = d + "/posterior_lcdm-flat.png"
-blue, purple = figures.png_colour_count(png, (31, 119, 180)), figures.png_colour_count(png, (148, 103, 189))
-assert blue > 100 and purple > 100, (blue, purple)
+blue, red = figures.png_colour_count(png, (31, 119, 180)), figures.png_colour_count(png, (214, 39, 40))
+assert blue > 100 and red > 100, (blue, red)
 PY
 then pass "report across runs of other data: comparison cells blank with a footnote, same-named models overlaid"
 else fail "report across runs of other data: comparison cells blank with a footnote, same-named models overlaid"; fi

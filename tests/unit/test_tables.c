@@ -420,6 +420,46 @@ static void test_other_data_blank(void **state)
     free(md);
 }
 
+/* Issue 19 item 8: a run of combinations of probes compares models within
+ * each combination, each against its first model, and names the probes of
+ * every column. Two data sets of two models each, then a fifth model alone
+ * on a third. */
+static void test_reference_per_data(void **state)
+{
+    (void)state;
+    lt_run_model m[5];
+    fake_models(m);
+    fake_models(m + 2);
+    m[4] = m[0];
+    const char *dg[5] = {"fnv1a64:01", "fnv1a64:01", "fnv1a64:02", "fnv1a64:02", "fnv1a64:03"};
+    char *pr[5] = {"sn", "sn", "sn+bao", "sn+bao", "bao"};
+    char *lab[5] = {"lcdm-flat (sn)", "lcdm (sn)", "lcdm-flat (sn+bao)", "lcdm (sn+bao)",
+                    "lcdm-flat (bao)"};
+    double aic[5] = {43.3, 45.1, 60.0, 58.5, 20.0}, lnz[5] = {10, 9, 30, 31.5, 4};
+    for (int i = 0; i < 5; i++) {
+        m[i].data_digest = (char *)dg[i], m[i].probes = pr[i], m[i].label = lab[i];
+        m[i].aic = aic[i], m[i].ln_z = lnz[i], m[i].ln_z_err = 0.1;
+    }
+    long want[5] = {0, 0, 2, 2, -1};
+    for (size_t i = 0; i < 5; i++)
+        assert_int_equal(lt_run_model_reference(m, 5, i), want[i]);
+    /* alone on other data but the first: the first is its own reference */
+    assert_int_equal(lt_run_model_reference(m + 4, 1, 0), 0);
+    lt_error err;
+    assert_int_equal(lt_report_write_tables(dir, m, 5, &err), LT_OK);
+    char *md = read_out("constraints.md"), *tex = read_out("constraints.tex");
+    print_message("%s\n%s", md, tex);
+    assert_non_null(strstr(md, "| AIC - AIC(reference) | +0.00 | +1.80 | +0.00 | -1.50 | |\n"));
+    assert_non_null(strstr(md, "| ln B vs reference | +0.00 | -1.00 | +0.00 | +1.50 | |\n"));
+    assert_non_null(strstr(md, "the first model of its data (the reference), lcdm-flat (sn); "
+                               "lcdm-flat (sn+bao).\n"));
+    assert_non_null(strstr(md, "left blank for lcdm-flat (bao)"));
+    assert_non_null(strstr(tex, "\\\\\n & SN & SN & SN+BAO & SN+BAO & BAO \\\\\n\\midrule"));
+    assert_non_null(strstr(tex, "$\\Delta$AIC & +0.00 & +1.80 & +0.00 & -1.50 & \\\\"));
+    assert_non_null(strstr(tex, "$\\Delta$: to the first column of the same data"));
+    free(md), free(tex);
+}
+
 static int setup(void **state)
 {
     (void)state;
@@ -442,6 +482,7 @@ int main(void)
         cmocka_unit_test(test_flat_posterior_marked),
         cmocka_unit_test(test_unconverged_marked),
         cmocka_unit_test(test_other_data_blank),
+        cmocka_unit_test(test_reference_per_data),
     };
     return cmocka_run_group_tests_name("tables", tests, setup, teardown);
 }
