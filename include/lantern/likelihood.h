@@ -303,7 +303,16 @@ int lt_like_predict(const lt_like *l, lt_like_work *w, const double *theta, doub
                     lt_error *err);
 
 /* ---- derived parameters ---- */
-enum { LT_DER_OMEGA_K = 0, LT_DER_OMEGA_DE, LT_DER_Q0, LT_DER_Z_T, LT_DER_AGE, LT_NDER };
+enum {
+    LT_DER_OMEGA_K = 0,
+    LT_DER_OMEGA_DE,
+    LT_DER_Q0,
+    LT_DER_Z_T,
+    LT_DER_AGE,
+    LT_DER_RD,   /* r_d (Mpc) from Aubourg et al. 2015, where the early universe is on */
+    LT_DER_RD_H, /* r_d h (Mpc), likewise (sampled instead with --rd free) */
+    LT_NDER
+};
 const char *lt_derived_name(int d); /* "omega_k", "omega_de", "q0", "z_t", "age_gyr" */
 int lt_derived_find(const char *name); /* LT_DER_*, or -1 */
 /* Which derived parameters l reports: omega_k (curved) or omega_de (flat),

@@ -4,6 +4,13 @@
  *     dm_over_rd  D_M(z) / r_d          dh_over_rd  D_H(z) / r_d, D_H = c/H(z)
  *     dv_over_rd  D_V(z) / r_d          da_over_rd  D_M(z) / ((1+z) r_d)
  *     rd_over_dv  r_d / D_V(z)          with D_V = (z D_M^2 D_H)^(1/3)
+ * A row with rd_fid quotes its distance against a fiducial sound horizon,
+ * as surveys since BOSS do: D rd_fid / r_d in Mpc ("D_V (r_d,fid / r_d)"),
+ * which holds whatever convention the survey's r_d had, since the ratio
+ * r_d,fid / r_d is taken in one. (r_s / D_V rows of older surveys, in the
+ * convention of Eisenstein & Hu 1998, would need the survey's fiducial
+ * cosmology to rescale, which a row does not carry: refused, with the
+ * conversion to do.)
  * chi2 = r^T C^-1 r over the rows (C factored once at set-up), normalised
  * by -(n ln 2 pi + ln det C)/2.
  *
@@ -74,10 +81,12 @@ static void *bao_setup(const void *config, const lt_like *l, lt_error *err)
                          "BAO measurements need a z column, with a redshift in every row");
             goto fail;
         }
-        if (isfinite(d->rd_fid[i])) {
+        if (isfinite(d->rd_fid[i]) && t->p.kind[i] == Q_RD_DV) {
             lt_error_set(err, LT_EINPUT, d->path, d->line[i],
-                         "rd_fid (a sound horizon of another convention) is not supported yet: "
-                         "convert the row to r_d");
+                         "rd_fid applies to the distances over r_d (quoted as D rd_fid/r_d, in "
+                         "Mpc); an r_s/D_V of another sound-horizon convention (Eisenstein & Hu "
+                         "1998) needs the survey's fiducial cosmology: multiply it by r_d/r_s of "
+                         "that cosmology (lantern distance gives r_d) and drop rd_fid");
             goto fail;
         }
     }
@@ -145,6 +154,9 @@ static int bao_eval(const void *state, void *work, const lt_term_in *in, lt_term
         case Q_DV: pred = cbrt(z * dm * dm * dh) / rd; break;
         default: pred = rd / cbrt(z * dm * dm * dh); break;
         }
+        /* quoted against a fiducial sound horizon: D rd_fid / r_d, in Mpc */
+        if (isfinite(d->rd_fid[i]))
+            pred *= d->rd_fid[i];
         w->r[i] = d->value[i] - pred;
     }
     out->chi2 = out->chi2_eff = lt_probe_chi2(t->p.chol, n, w->r);

@@ -1,5 +1,5 @@
 /*
- * Derived quantities (omega_k or omega_de, q0, z_t, the age) from a
+ * Derived quantities (omega_k or omega_de, q0, z_t, the age, r_d and r_d h) from a
  * cosmology or a point of the likelihood, any quantity by name, and the
  * w0-wa pivot: see include/lantern/likelihood.h.
  */
@@ -11,7 +11,8 @@
 /* ---- derived parameters ---- */
 const char *lt_derived_name(int d)
 {
-    static const char *names[LT_NDER] = {"omega_k", "omega_de", "q0", "z_t", "age_gyr"};
+    static const char *names[LT_NDER] = {"omega_k", "omega_de", "q0", "z_t", "age_gyr",
+                                         "rd", "rd_h"};
     return d >= 0 && d < LT_NDER ? names[d] : NULL;
 }
 
@@ -31,6 +32,8 @@ int lt_like_has_derived(const lt_like *l, int d)
     case LT_DER_Q0:
     case LT_DER_Z_T: return 1;
     case LT_DER_AGE: return l->h0_known;
+    case LT_DER_RD:
+    case LT_DER_RD_H: return l->rd_known;
     default: return 0;
     }
 }
@@ -74,6 +77,13 @@ double lt_derived_of(const lt_cosmo *c, int d)
     case LT_DER_AGE: {
         double age;
         return lt_cosmo_age(c, 0.0, &age, NULL) == LT_OK ? age : NAN;
+    }
+    case LT_DER_RD:
+    case LT_DER_RD_H: {
+        double rd;
+        if (!lt_cosmo_early_standard(c) || lt_cosmo_rd(c, &rd, NULL))
+            return NAN;
+        return d == LT_DER_RD ? rd : rd * c->p.h0 / 100.0;
     }
     default: return NAN;
     }

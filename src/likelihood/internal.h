@@ -24,6 +24,8 @@ struct lt_like {
     size_t fixed_at[LT_MAX_PARAMS];
     lt_cosmo_params base;          /* fixed cosmological values and defaults */
     int h0_known;
+    int rd_known;                  /* r_d from its formula: the early universe with omega_b_h2
+                                    * read by a term and h0 known (derived rd, rd_h) */
     lt_offset_mode offset;         /* of the supernova term (NONE without one) */
     int offset_at;                 /* table index of a sampled offset, or -1 */
     size_t nterms;

@@ -268,7 +268,7 @@ static const char *axis_label(const char *name)
              {"w0", "w#d0#u"},             {"wa", "w#da#u"},          {"h0", "H#d0#u [km/s/Mpc]"},
              {"offset", "M [mag]"},        {"q0", "q#d0#u"},          {"z_t", "z#dt#u"},
              {"age_gyr", "age [Gyr]"},     {"w_pivot", "w#dp#u"},
-             {"omega_b_h2", "#gW#db#uh#u2#d"}, {"rd_h", "r#dd#uh [Mpc]"},
+             {"omega_b_h2", "#gW#db#uh#u2#d"}, {"rd_h", "r#dd#uh [Mpc]"}, {"rd", "r#dd#u [Mpc]"},
              {"m_nu", "#gS#um#d#gn#u [eV]"}};
     for (size_t i = 0; i < sizeof t / sizeof t[0]; i++)
         if (!strcmp(t[i].name, name))

@@ -147,7 +147,10 @@ static long col_of(const lt_run_model *m, const char *name)
     return -1;
 }
 
-static const char *tex_name(const char *p)
+/* A parameter's name in LaTeX: its symbol, or for a name without one the
+ * name itself in typewriter type with its underscores escaped. Returns a
+ * constant or buf. */
+static const char *tex_name(const char *p, char *buf, size_t size)
 {
     static const struct {
         const char *name, *tex;
@@ -156,11 +159,20 @@ static const char *tex_name(const char *p)
              {"wa", "$w_a$"},                     {"h0", "$H_0$ [km\\,s$^{-1}$\\,Mpc$^{-1}$]"},
              {"offset", "$M$ [mag]"},            {"q0", "$q_0$"},
              {"z_t", "$z_\\mathrm{t}$"},          {"age_gyr", "age [Gyr]"},
-             {"w_pivot", "$w_\\mathrm{p}$"}};
+             {"w_pivot", "$w_\\mathrm{p}$"},       {"omega_b_h2", "$\\Omega_\\mathrm{b} h^2$"},
+             {"m_nu", "$\\sum m_\\nu$ [eV]"},      {"rd_h", "$r_\\mathrm{d} h$ [Mpc]"},
+             {"rd", "$r_\\mathrm{d}$ [Mpc]"}};
     for (size_t i = 0; i < sizeof t / sizeof t[0]; i++)
         if (!strcmp(t[i].name, p))
             return t[i].tex;
-    return p;
+    size_t k = (size_t)snprintf(buf, size, "\\texttt{");
+    for (; *p && k + 3 < size; p++) {
+        if (*p == '_')
+            buf[k++] = '\\';
+        buf[k++] = *p;
+    }
+    snprintf(buf + k, size - k, "}");
+    return buf;
 }
 
 static const char *tex_model(const char *m)
@@ -195,6 +207,17 @@ static const char *tex_probes(const char *probes, char *buf, size_t size)
                 tex = t[i].tex;
         snprintf(buf + strlen(buf), size - strlen(buf), "%s%s", buf[0] ? "+" : "", tex);
     }
+    return buf;
+}
+
+/* A column in a LaTeX footnote: its model, and its probes where the
+ * columns' probes differ. Returns a constant or buf. */
+static const char *tex_column(const lt_run_model *m, int with_probes, char *buf, size_t size)
+{
+    if (!with_probes)
+        return tex_model(m->name);
+    char probes[128];
+    snprintf(buf, size, "%s (%s)", tex_model(m->name), tex_probes(m->probes, probes, sizeof probes));
     return buf;
 }
 
@@ -386,7 +409,7 @@ int lt_report_write_tables(const char *dir, const lt_run_model *models, size_t n
     }
     fputs(" \\\\\n\\midrule\n", f);
     for (size_t p = 0; p < nn; p++) {
-        fprintf(f, "%s", tex_name(names[p]));
+        fprintf(f, "%s", tex_name(names[p], cell, sizeof cell));
         for (size_t i = 0; i < n; i++) {
             long c = col_of(&models[i], names[p]);
             if (c < 0) {
@@ -423,12 +446,14 @@ int lt_report_write_tables(const char *dir, const lt_run_model *models, size_t n
         if (!models[i].converged)
             fprintf(f, "\\multicolumn{%zu}{l}{\\footnotesize $^\\ddagger$ %s: not converged "
                        "(step cap reached; smallest ESS %.0f)} \\\\\n",
-                    n + 1, tex_model(models[i].name), models[i].ess_min);
+                    n + 1, tex_column(&models[i], t.many_probes, cell, sizeof cell),
+                    models[i].ess_min);
     for (size_t i = 0; i < n; i++)
         if (models[i].weighted)
             fprintf(f, "\\multicolumn{%zu}{l}{\\footnotesize %s: importance-weighted draws "
                        "(effective sample size %.0f)} \\\\\n",
-                    n + 1, tex_model(models[i].name), models[i].ess_min);
+                    n + 1, tex_column(&models[i], t.many_probes, cell, sizeof cell),
+                    models[i].ess_min);
     if (t.many_refs)
         fprintf(f, "\\multicolumn{%zu}{l}{\\footnotesize $\\Delta$: to the first column of "
                    "the same data} \\\\\n",

@@ -29,7 +29,7 @@ ess = got["convergence"]["ess_min"]
 out = []
 for spec in sys.argv[3:]:
     name, tol = spec.split(":")
-    g, r = got["params"][name], ref[name]
+    g, r = got["params"].get(name) or got["derived"][name], ref[name]
     allowed = max(float(tol), 4 / math.sqrt(ess))
     pull = (g["mean"] - r["mean"]) / r["sd"]
     out.append(f"{name} {g['mean']:.5g} +- {g['sd']:.4g} vs {r['mean']:.5g} +- {r['sd']:.4g} "
@@ -81,6 +81,9 @@ run "$LANTERN" sample "${BAO[@]}" --model lcdm-flat --measure omega_b_h2=0.02218
 cp "$OUT" "$E2E_TMP/bbn.json"
 compare_moments "BAO + BBN = numpy grid within 0.1 sd" "$E2E_TMP/bbn.json" \
     "$E2E_TMP/ref_bbn.json" h0:0.1 omega_m:0.1
+# the derived r_d and r_d h (Aubourg et al. 2015 eq. 16 on the same grid)
+compare_moments "BAO + BBN: derived r_d and r_d h = numpy grid within 0.1 sd" "$E2E_TMP/bbn.json" \
+    "$E2E_TMP/ref_bbn.json" rd:0.1 rd_h:0.1
 # DESI 2024 VI's DESI+BBN H0 = 68.53 +- 0.80 (from memory): a sanity range
 $PY -c '
 import json, sys
@@ -145,6 +148,54 @@ assert {"h0", "omega_m", "w0", "wa", "omega_b_h2"} <= set(j["params"]), j["param
 assert j["params"]["w0"]["best"] + j["params"]["wa"]["best"] < 0
 ' "$OUT"; then pass "fit takes --data, --bao and --measure together (53 data points)"
 else fail "fit takes --data, --bao and --measure together (53 data points)"; fi
+
+# ---- rd_fid: the same measurements quoted as D (rd_fid / r_d) in Mpc ----
+# Re-expressed by hand (rows times rd_fid, the covariance times rd_fid_i
+# rd_fid_j: an exact change of units), the DESI table must give the same
+# best fit and chi2, with r_d from its formula and with --rd free.
+/usr/bin/python3 - "$B" "$E2E_TMP" <<'EOF'
+import sys
+import numpy as np
+b, t = sys.argv[1], sys.argv[2]
+lines = open(b + "/bao_dr1.csv").read().splitlines()
+head = lines[0].split(",")
+iv = head.index("value")
+fid = [147.78 if k % 2 else 150.0 for k in range(len(lines) - 1)]
+with open(t + "/fid.csv", "w") as f:
+    f.write(lines[0] + ",rd_fid\n")
+    for k, l in enumerate(lines[1:]):
+        c = l.split(",")
+        c[iv] = repr(float(c[iv]) * fid[k])
+        f.write(",".join(c) + ",%r\n" % fid[k])
+cov = np.loadtxt(b + "/bao_dr1_cov.txt", skiprows=1)
+cov = cov * np.outer(fid, fid)
+with open(t + "/fid_cov.txt", "w") as f:
+    f.write("%d\n" % len(fid))
+    for row in cov:
+        f.write(" ".join(repr(x) for x in row) + "\n")
+EOF
+for rd in formula free; do
+    run "$LANTERN" fit "${BAO[@]}" --model lcdm-flat --rd $rd --measure omega_b_h2=0.02218:0.00055 \
+        --format json
+    cp "$OUT" "$E2E_TMP/plain_$rd.json"
+    run "$LANTERN" fit --bao "$E2E_TMP/fid.csv" --bao-cov "$E2E_TMP/fid_cov.txt" --model lcdm-flat \
+        --rd $rd --measure omega_b_h2=0.02218:0.00055 --format json
+    cp "$OUT" "$E2E_TMP/fid_$rd.json"
+    if msg=$(/usr/bin/python3 - "$E2E_TMP/plain_$rd.json" "$E2E_TMP/fid_$rd.json" 2>&1 <<'EOF'
+import json, sys
+a, b = (json.load(open(f)) for f in sys.argv[1:3])
+assert abs(a["chi2_min"] - b["chi2_min"]) < 1e-6 * max(1, a["chi2_min"]), (a["chi2_min"], b["chi2_min"])
+for k, v in a["params"].items():
+    assert abs(v["best"] - b["params"][k]["best"]) < 1e-4 * v["sd"], (k, v["best"], b["params"][k]["best"])
+print("chi2_min %.6f and %.6f" % (a["chi2_min"], b["chi2_min"]))
+EOF
+    ); then pass "rd_fid rows (D rd_fid/r_d in Mpc) give the plain table's fit, r_d $rd ($msg)"
+    else fail "rd_fid rows (D rd_fid/r_d in Mpc) give the plain table's fit, r_d $rd ($msg)"; fi
+done
+printf 'z,quantity,value,err,rd_fid\n0.106,rd_over_dv,0.336,0.015,154.66\n' >"$E2E_TMP/old.csv"
+run "$LANTERN" fit --bao "$E2E_TMP/old.csv" --model lcdm-flat --rd free
+expect_error "rd_fid on an r_s/D_V row is refused with the conversion to do" 2 \
+    "old.csv:2: rd_fid applies to the distances over r_d .*multiply it by r_d/r_s"
 
 # ---- refusals ----
 printf 'z,quantity,value,err\n0.5,dm_over_rd,13.0,0.2\n0.7,d_m,16.0,0.3\n' >"$E2E_TMP/bad.csv"

@@ -159,6 +159,9 @@ assert "left blank" not in md
 tex = open(os.path.join(d, "constraints.tex")).read()
 assert " & SN & SN & BAO & BAO & SN+BAO+CMB & SN+BAO+CMB \\\\" in tex, tex[:400]
 assert "to the first column of the same data" in tex
+# every parameter by its symbol: no bare underscore reaches LaTeX
+assert "$\\Omega_\\mathrm{b} h^2$ &" in tex and "$H_0$" in tex
+assert "omega_b_h2" not in tex and "rd_h" not in tex, tex
 csv = open(os.path.join(d, "constraints.csv")).read().splitlines()
 assert any(l.startswith("wcdm-flat (sn+bao+cmb),w0,") for l in csv), csv[:5]
 print("6 columns; Delta AIC and ln B each to lcdm-flat of its combination")

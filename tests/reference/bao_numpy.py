@@ -197,6 +197,13 @@ def bbn(data, n=(121, 121, 61), box=((0.19, 0.41), (0.625, 0.755), (0.01778, 0.0
         w = np.exp(-0.5 * (chi2 - chi2.min()))
         return moments(w, axes), w, chi2, axes
     (m_om, m_h, m_wb), w, chi2, axes = run(n)
+    # the derived r_d and r_d h (Aubourg eq. 16) under the same weights
+    om3, h3, wb3 = np.meshgrid(*axes, indexing="ij")
+    rd3 = cn.rd_aubourg(wb3, om3 * h3 ** 2, 0.06)
+    derived = {}
+    for name, v in (("rd", rd3), ("rd_h", rd3 * h3)):
+        mean = float(np.sum(w * v) / w.sum())
+        derived[name] = {"mean": mean, "sd": float(math.sqrt(np.sum(w * (v - mean) ** 2) / w.sum()))}
     (h_om, h_h, h_wb), _, _, _ = run(tuple(k // 2 + 1 for k in n))
     i = np.unravel_index(np.argmin(chi2), chi2.shape)
     start = [axes[j][i[j]] for j in range(3)]
@@ -206,7 +213,7 @@ def bbn(data, n=(121, 121, 61), box=((0.19, 0.41), (0.625, 0.755), (0.01778, 0.0
 
     def scale_h(m):
         return {"mean": 100 * m["mean"], "sd": 100 * m["sd"]}
-    return {"h0": scale_h(m_h), "omega_m": m_om, "omega_b_h2": m_wb,
+    return {"h0": scale_h(m_h), "omega_m": m_om, "omega_b_h2": m_wb, **derived,
             "best": {"omega_m": float(fit.x[0]), "h0": 100 * float(fit.x[1]),
                      "omega_b_h2": float(fit.x[2])},
             "chi2_min": float(fit.fun),
