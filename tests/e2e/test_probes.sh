@@ -210,3 +210,42 @@ run "$LANTERN" report "$D/run"
 if { [ "$STATUS" -eq 0 ] || [ "$STATUS" -eq 3 ]; } && cmp -s "$E2E_TMP/before.md" "$D/run/constraints.md"
 then pass "lantern report rebuilds a run of combinations with its labels"
 else fail "lantern report rebuilds a run of combinations with its labels"; fi
+
+# ---- the README's combined-probes table: its flat LCDM columns ----
+# configs/combined-probes.ini runs every model with the same seed, so its
+# lcdm-flat columns are what the file gives with lcdm-flat alone, to the
+# digit (the w0-wa columns take some 15 minutes, too long for make test).
+# Numbers, not memory: skipped under the sanitizers (LANTERN_BIN set).
+if [ -z "${LANTERN_BIN:-}" ]; then
+    run "$LANTERN" run "$ROOT/configs/combined-probes.ini" --override run.models=lcdm-flat \
+        --out "$E2E_TMP/paper" --quiet
+    if [ "$STATUS" -eq 0 ] && msg=$($PY - "$ROOT/README.md" "$E2E_TMP/paper/constraints.md" 2>&1 <<'PYEOF'
+import sys
+def table(lines, first):
+    i = next(k for k, l in enumerate(lines) if l.startswith(first))
+    rows = []
+    for l in lines[i:]:
+        if not l.startswith("|"):
+            break
+        rows.append([c.strip() for c in l.strip().strip("|").split("|")])
+    return {r[0]: r[1:] for r in rows if r[0] != "---"}
+readme = table(open(sys.argv[1]).read().splitlines(), "| parameter | lcdm-flat (sn) | w0wa-flat (sn) |")
+got = table(open(sys.argv[2]).read().splitlines(), "| parameter |")
+head_r, head_g = readme["parameter"], got["parameter"]
+n = 0
+for label in head_g:
+    kr, kg = head_r.index(label), head_g.index(label)
+    for row, cells in got.items():
+        # the comparisons: alone in each combination here, so blank (and
+        # headed "first"); in the README against lcdm-flat itself, +0.00
+        if row == "parameter" or row.startswith(("AIC -", "BIC -", "ln B")):
+            continue
+        assert readme[row][kr] == cells[kg], (label, row, readme[row][kr], cells[kg])
+        n += 1
+print("%d cells of %s" % (n, ", ".join(head_g)))
+PYEOF
+    ); then pass "the README's combined-probes table: its flat LCDM columns are what the run file gives ($msg)"
+    else fail "the README's combined-probes table: its flat LCDM columns are what the run file gives ($msg)"; fi
+else
+    echo "# the README's combined-probes numbers: not checked under the sanitizers"
+fi
