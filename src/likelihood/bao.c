@@ -5,12 +5,14 @@
  *     dv_over_rd  D_V(z) / r_d          da_over_rd  D_M(z) / ((1+z) r_d)
  *     rd_over_dv  r_d / D_V(z)          with D_V = (z D_M^2 D_H)^(1/3)
  * A row with rd_fid quotes its distance against a fiducial sound horizon,
- * as surveys since BOSS do: D rd_fid / r_d in Mpc ("D_V (r_d,fid / r_d)"),
- * which holds whatever convention the survey's r_d had, since the ratio
- * r_d,fid / r_d is taken in one. (r_s / D_V rows of older surveys, in the
- * convention of Eisenstein & Hu 1998, would need the survey's fiducial
- * cosmology to rescale, which a row does not carry: refused, with the
- * conversion to do.)
+ * as surveys since BOSS do: D rd_fid / r_d in Mpc ("D_V (r_d,fid / r_d)").
+ * The model's r_d here is Aubourg et al.'s (or rd_h / h), so rd_fid must be
+ * the fiducial cosmology's r_d in that convention (lantern distance of that
+ * cosmology gives it); a survey's r_d,fid from Eisenstein & Hu 1998 is a
+ * few per cent off and would bias every distance by as much. (r_s / D_V rows
+ * of older surveys, in the EH98 convention, would need the survey's
+ * fiducial cosmology to rescale, which a row does not carry: refused, with
+ * the conversion to do.)
  * chi2 = r^T C^-1 r over the rows (C factored once at set-up), normalised
  * by -(n ln 2 pi + ln det C)/2.
  *

@@ -323,7 +323,9 @@ lt_like *lt_like_alloc(const lt_survey *s, const lt_like_spec *spec, lt_error *e
         goto fail;
     const lt_param_setting *h0 = lt_like_spec_setting(spec, "h0");
     l->h0_known = pl->needs.h0 || (h0 && h0->fixed);
-    l->rd_known = pl->needs.early && pl->needs.omega_b_h2 && l->h0_known;
+    /* with rd_h sampled (--rd free) r_d is that, not the formula's: no
+     * derived rd, rd_h beside it */
+    l->rd_known = pl->needs.early && pl->needs.omega_b_h2 && l->h0_known && !spec->rd_free;
     lt_cosmo c;
     if (lt_cosmo_init(&c, l->model, &l->base, err))
         goto fail;

@@ -52,8 +52,19 @@ static void *measure_setup(const void *config, const lt_like *l, lt_error *err)
     if (!found) {
         lt_error_set(err, LT_EINPUT, where, m->line,
                      "nothing called '%s' to measure in model %s (parameters: %s; derived: "
-                     "omega_k, omega_de, q0, z_t, age_gyr)",
+                     "omega_k, omega_de, q0, z_t, age_gyr, rd, rd_h)",
                      m->name, l->model->name, lt_param_known_list());
+        free(t);
+        return NULL;
+    }
+    /* a derived quantity this likelihood cannot compute (r_d without the
+     * early universe) would reject every point: refused here instead */
+    if (t->q.at < 0 && (t->q.derived == LT_DER_RD || t->q.derived == LT_DER_RD_H) &&
+        !lt_like_has_derived(l, t->q.derived)) {
+        lt_error_set(err, LT_EINPUT, where, m->line,
+                     "%s is not defined here: r_d and r_d h come from the early universe (BAO "
+                     "with the r_d formula, or the CMB); with --rd free measure rd_h",
+                     m->name);
         free(t);
         return NULL;
     }

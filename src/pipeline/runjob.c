@@ -107,7 +107,13 @@ static int combo_list(const lt_job *j, const char *run_file, combos *c, lt_error
         char *save = NULL;
         for (char *tok = strtok_r(item, "+", &save); tok; tok = strtok_r(NULL, "+", &save)) {
             tok += strspn(tok, " \t");
-            tok[strcspn(tok, " \t")] = 0;
+            char *end = tok + strcspn(tok, " \t");
+            if (end[strspn(end, " \t")])
+                return lt_error_set(err, LT_EINPUT, file, line,
+                                    "[run] probes: '%s' has a space inside: join probes "
+                                    "with '+', as bao+cmb",
+                                    tok);
+            *end = 0;
             size_t k = 0;
             while (k < NPROBES && strcmp(tok, probe_names[k].name))
                 k++;
@@ -164,7 +170,7 @@ static int combo_list(const lt_job *j, const char *run_file, combos *c, lt_error
  * otherwise not tie r_d to the sound horizon the CMB measures. */
 static void restrict_job(lt_job *mj, unsigned mask)
 {
-    if (!(mask & PROBE_SN)) { /* and with the survey its offset's treatment */
+    if (!(mask & PROBE_SN)) {
         lt_survey_spec_init(&mj->data);
         mj->offset = NULL;
     }
@@ -176,6 +182,30 @@ static void restrict_job(lt_job *mj, unsigned mask)
         mj->cmb = mj->cmb_cov = NULL;
     if (!(mask & PROBE_MEAS))
         mj->nmeasures = 0;
+}
+
+/* Say which of the run file's priors and fixed values a combination
+ * passed over (lt_like_spec.lenient): a prior meant for another combination
+ * that silently did nothing here would surprise. */
+static void say_passed_over(const lt_like *l, const lt_like_spec *spec, const char *title,
+                            const lt_pipeline_hooks *h)
+{
+    for (size_t k = 0; k < spec->nsettings; k++) {
+        const lt_param_setting *st = &spec->settings[k];
+        int used = 0;
+        if (!st->fixed)
+            used = lt_like_param_index(l, st->name) >= 0;
+        for (size_t f = 0; st->fixed && f < lt_like_nfixed(l); f++)
+            used |= !strcmp(lt_like_fixed(l, f)->name, st->name);
+        if (used)
+            continue;
+        char text[320];
+        snprintf(text, sizeof text,
+                 "note: %.80s: the %s on %s does not apply (nothing in this combination "
+                 "constrains it)",
+                 title, st->fixed ? "fixed value" : "prior", st->name);
+        pipeline_say(h, LT_NOTE_NEWS, text);
+    }
 }
 
 /* The folder of a resumed run must hold a run's output ("report" too:
@@ -237,6 +267,8 @@ static int one_model(lt_job *j, const lt_survey *s, const char *name, unsigned m
     }
     if (rc || !l)
         return rc ? rc : err->code;
+    if (mask)
+        say_passed_over(l, &spec, title, o->hooks);
     char label[160];
     snprintf(label, sizeof label, "[%zu/%zu] %.80s", k + 1, n, title);
     lt_sample_opts so = {mdir, again, label, o->stop, o->hooks};
@@ -267,11 +299,13 @@ int lt_pipeline_run_job(lt_job *j, const lt_run_job_opts *o, char **dir, int *un
     if ((rc = model_list(j, o->run_file, models, &n, err)) ||
         (rc = combo_list(j, o->run_file, &cb, err)))
         return rc;
-    if (n * (cb.n ? cb.n : 1) > LT_REPORT_MAX_MODELS)
-        return lt_error_set(err, LT_EINPUT, o->run_file, 0,
-                            "%zu models times %zu combinations of probes is more than the %d "
-                            "runs one report holds",
+    if (n * (cb.n ? cb.n : 1) > LT_REPORT_MAX_MODELS) {
+        const lt_ini_entry *e = j->ini ? lt_ini_get(j->ini, "run", "probes") : NULL;
+        return lt_error_set(err, LT_EINPUT, e ? j->ini->path : o->run_file, e ? e->line : 0,
+                            "[run] probes: %zu models times %zu combinations is more than the "
+                            "%d runs one report holds",
                             n, cb.n, LT_REPORT_MAX_MODELS);
+    }
     /* the folder: out/NAME by default, NAME from [run] name or the file's stem */
     char stem[256];
     const char *base = strrchr(o->run_file, '/') ? strrchr(o->run_file, '/') + 1 : o->run_file;

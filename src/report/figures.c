@@ -828,7 +828,13 @@ int lt_report_write_figures(const char *dir, const lt_run_model *models, size_t 
          * probes' name (a run's combinations), else _2, and so on */
         if (!rc) {
             const char *pr = models[i].probes, *pr0 = models[g.idx[0]].probes;
-            if (seen && pr && pr0 && strcmp(pr, pr0))
+            /* by probes only where this model and probes come first (two
+             * runs of combinations would otherwise write one file twice) */
+            int pair_first = 1;
+            for (size_t j = 0; j < i; j++)
+                pair_first &= !(models[j].probes && pr && !strcmp(models[j].name, models[i].name) &&
+                           !strcmp(models[j].probes, pr));
+            if (seen && pr && pr0 && strcmp(pr, pr0) && pair_first)
                 snprintf(name, sizeof name, "traces_%s_%s", models[i].name, pr);
             else if (seen)
                 snprintf(name, sizeof name, "traces_%s_%zu", models[i].name, seen + 1);

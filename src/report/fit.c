@@ -76,7 +76,7 @@ static void data_digest(const lt_like *l, char *out, size_t size)
         const char *tag = k ? "cmb" : "bao";
         lt_digest_add(&h, tag, 4);
         for (size_t i = 0; i < d->n; i++) {
-            double v[3] = {d->z[i], d->value[i], d->cov[i * d->n + i]};
+            double v[4] = {d->z[i], d->value[i], d->cov[i * d->n + i], d->rd_fid[i]};
             lt_digest_add(&h, d->quantity[i], strlen(d->quantity[i]) + 1);
             lt_digest_add(&h, v, sizeof v);
         }

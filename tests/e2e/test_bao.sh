@@ -197,6 +197,21 @@ run "$LANTERN" fit --bao "$E2E_TMP/old.csv" --model lcdm-flat --rd free
 expect_error "rd_fid on an r_s/D_V row is refused with the conversion to do" 2 \
     "old.csv:2: rd_fid applies to the distances over r_d .*multiply it by r_d/r_s"
 
+# ---- derived r_d only where it is the formula's ----
+# With --rd free the BAO term's r_d is rd_h / h, not Aubourg's formula: no
+# derived rd or rd_h beside the sampled rd_h (the CMB brings h0 and omega_b_h2)
+run "$LANTERN" fit "${BAO[@]}" --rd free --cmb "$B/../cmb_distance_priors/planck2018_priors.csv" \
+    --cmb-cov "$B/../cmb_distance_priors/planck2018_priors_cov.txt" --model lcdm-flat --format json
+if [ "$STATUS" -eq 0 ] && $PY -c '
+import json, sys
+j = json.load(open(sys.argv[1]))
+assert "rd_h" in j["params"] and "rd_h" not in j["derived"] and "rd" not in j["derived"], j["derived"]
+' "$OUT"; then pass "--rd free with the CMB: rd_h sampled, no derived rd or rd_h beside it"
+else fail "--rd free with the CMB: rd_h sampled, no derived rd or rd_h beside it"; fi
+run "$LANTERN" fit "${BAO[@]}" --rd free --model lcdm-flat --measure rd=147.1:0.3
+expect_error "a measurement of r_d where nothing defines it is refused" 2 \
+    "--measure: rd is not defined here: .*with --rd free measure rd_h"
+
 # ---- refusals ----
 printf 'z,quantity,value,err\n0.5,dm_over_rd,13.0,0.2\n0.7,d_m,16.0,0.3\n' >"$E2E_TMP/bad.csv"
 run "$LANTERN" fit --bao "$E2E_TMP/bad.csv" --model lcdm-flat --rd free

@@ -67,6 +67,8 @@ refused 3 "sn, bao" "$CMBLINES" "a probe given but in no combination is refused"
     "no combination uses cmb"
 refused 4 "sn+bao, bao + sn" "" "a combination listed twice (in any order) is refused" \
     "sn\+bao is listed twice"
+refused 5 "bao cmb, sn" "$CMBLINES" "two probes without a '+' are refused, not read as one" \
+    "'bao cmb' has a space inside: join probes with '\+'"
 if [ ! -e "$D/bad" ]; then pass "a refused run file leaves no folder"
 else fail "a refused run file leaves no folder"; fi
 
@@ -76,6 +78,11 @@ run "$LANTERN" run "$D/probes.ini" --out "$D/run" --quiet
 if [ "$STATUS" -eq 0 ] || [ "$STATUS" -eq 3 ]; then pass "lantern run with [run] probes finishes"
 else fail "lantern run with [run] probes finishes"; fi
 cp "$OUT" "$E2E_TMP/run_table.txt"
+if grep -q "note: lcdm-flat (sn): the prior on h0 does not apply" "$ERR" &&
+    grep -q "note: wcdm-flat (bao): the prior on h0 does not apply" "$ERR" &&
+    ! grep -q "(sn+bao+cmb): the prior on h0" "$ERR"
+then pass "the run says where the run file's h0 prior is passed over, and only there"
+else fail "the run says where the run file's h0 prior is passed over, and only there"; fi
 
 # each combination's data as lantern reads it for one probe: the same digest
 run "$LANTERN" fit --data "$S/pantheon2018/lcparam_DS17f.txt" --columns z=zcmb,zhel=zhel,mag=mb,err=dmb \

@@ -450,6 +450,7 @@ static void test_reference_per_data(void **state)
     char *md = read_out("constraints.md"), *tex = read_out("constraints.tex");
     print_message("%s\n%s", md, tex);
     assert_non_null(strstr(md, "| AIC - AIC(reference) | +0.00 | +1.80 | +0.00 | -1.50 | |\n"));
+    assert_non_null(strstr(md, "| BIC - BIC(reference) | +0.00 | +3.50 | +0.00 | +3.50 | |\n"));
     assert_non_null(strstr(md, "| ln B vs reference | +0.00 | -1.00 | +0.00 | +1.50 | |\n"));
     assert_non_null(strstr(md, "the first model of its data (the reference), lcdm-flat (sn); "
                                "lcdm-flat (sn+bao).\n"));
