@@ -448,7 +448,6 @@ static void test_reference_per_data(void **state)
     lt_error err;
     assert_int_equal(lt_report_write_tables(dir, m, 5, &err), LT_OK);
     char *md = read_out("constraints.md"), *tex = read_out("constraints.tex");
-    print_message("%s\n%s", md, tex);
     assert_non_null(strstr(md, "| AIC - AIC(reference) | +0.00 | +1.80 | +0.00 | -1.50 | |\n"));
     assert_non_null(strstr(md, "| BIC - BIC(reference) | +0.00 | +3.50 | +0.00 | +3.50 | |\n"));
     assert_non_null(strstr(md, "| ln B vs reference | +0.00 | -1.00 | +0.00 | +1.50 | |\n"));
