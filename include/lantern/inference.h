@@ -27,6 +27,8 @@ typedef struct lt_optim_opts {
     const double *scale;  /* dim: a typical size of each parameter's range */
     double tol;           /* simplex size at which to stop, in units of scale */
     size_t max_evals;     /* per start and stage */
+    int quick;            /* one simplex run per start: no restarts, no BFGS polish (a
+                           * sampler's starting point, or a polish from a good start) */
     /* when set, checked between simplex iterations: a nonzero value stops
      * the search with LT_EINTR (a signal during a long best fit); NULL: none */
     volatile sig_atomic_t *stop;
@@ -209,6 +211,94 @@ lt_mcmc *lt_mcmc_load(const char *path, uint64_t fingerprint, lt_logdensity f, v
                       lt_error *err);
 
 /* ---------------------------------------------------------------------- */
+/* Adaptive importance sampling                                            */
+/* ---------------------------------------------------------------------- */
+
+/*
+ * The importance-sampling ESS of the self-normalised weighted mean of f
+ * (f[i * stride], i < n) over independent draws with weights w (not
+ * normalised): var_w(f) divided by the estimate's first-order (delta
+ * method) variance, sum w (f - mu)^2 sum w / sum w^2 (f - mu)^2, an
+ * f-specific form of Kish's (sum w)^2 / sum w^2 (Kish 1965, Survey
+ * Sampling, sec. 11.7). Draws with a weight <= 0 or a non-finite f add
+ * nothing; 0 if no draw counts.
+ */
+double lt_diag_ess_is(const double *f, size_t stride, const double *w, size_t n);
+
+/*
+ * The Pareto k diagnostic of importance weights (Vehtari, Simpson, Gelman,
+ * Yao & Gabry, arXiv:1507.02646): the shape of a generalized Pareto
+ * distribution fitted (Zhang & Stephens 2009, Technometrics 51, 316) to
+ * the largest M = min(n/5, 3 sqrt(n)) weights' excesses over the next one,
+ * shrunk towards 0.5 as that paper does (weight of 10 observations). Below
+ * 0.5 the weights have a finite variance; above 0.7 the estimates are not
+ * to be trusted. logw: ln of the weights (any constant offset; -inf for a
+ * zero weight). NaN for fewer than 25 draws.
+ */
+double lt_diag_pareto_k(const double *logw, size_t n);
+
+/*
+ * Adaptive importance sampling with recycling (src/inference/importance.c
+ * has the method and its sources): a mixture of Student-t components, seeded
+ * from a centre and a covariance (the best fit and its Laplace covariance),
+ * is adapted by weighted EM from iteration to iteration; every draw of every
+ * iteration is kept, weighted by p(x) over the mixture of all proposals so
+ * far. Iterations stop once an adapted proposal has drawn and every
+ * parameter's importance-sampling ESS (the smallest of those of its mean
+ * and its 5% and 95% quantile indicators, lt_diag_ess_is) reaches
+ * target_ess: converged if Pareto k is then at most max_k (more draws do
+ * not lower k, a property of the weights' distribution); or at max_draws
+ * (not converged). Draws outside the prior
+ * cost no likelihood evaluation (the log-density returns -inf there first).
+ * The same seed gives the same draws with any thread count and after save
+ * and load between iterations.
+ */
+typedef struct lt_ais_opts {
+    size_t dim, nextra;
+    uint64_t seed;
+    const double *center;  /* dim */
+    const double *cov;     /* dim x dim, or NULL (or not positive definite): diag(scale^2) */
+    const double *scale;   /* dim */
+    size_t batch;          /* draws of each adapting iteration (0: max(500, 100 dim)) */
+    size_t max_draws;      /* 0: 10^6 */
+    double target_ess;
+    double max_k;          /* 0: 0.7 */
+    int threads;           /* 0: OpenMP's default; ctx must hold that many contexts */
+} lt_ais_opts;
+
+typedef struct lt_ais_diag {
+    size_t draws, iterations;
+    double ess_min;     /* the smallest of ess[] */
+    double *ess;        /* per parameter (dim) */
+    double kish;        /* (sum w)^2 / sum w^2 */
+    double pareto_k;
+    double ln_z, ln_z_err; /* ln of the mean weight p / q, and its standard error */
+} lt_ais_diag;
+
+typedef struct lt_ais lt_ais;
+typedef void (*lt_ais_progress)(const lt_ais *s, void *ctx);
+
+lt_ais *lt_ais_alloc(const lt_ais_opts *o, lt_logdensity f, void **ctx, lt_error *err);
+void lt_ais_free(lt_ais *s);
+/* Iterate until converged or max_draws (LT_OK either way), or LT_EINTR
+ * when *stop is set (checked between iterations); progress after each. */
+int lt_ais_run(lt_ais *s, volatile sig_atomic_t *stop, lt_ais_progress progress, void *pctx,
+               lt_error *err);
+int lt_ais_converged(const lt_ais *s);
+const lt_ais_diag *lt_ais_diagnostics(const lt_ais *s);
+const lt_ais_opts *lt_ais_options(const lt_ais *s);
+/* The n draws: rows of (dim params, logdensity, nextra extras); and their
+ * weights, mean 1 (0 where the density is 0). */
+const double *lt_ais_draws(const lt_ais *s, size_t *n);
+const double *lt_ais_weights(const lt_ais *s);
+size_t lt_ais_row_size(const lt_ais *s);
+/* The whole state, between iterations; load refuses another fingerprint
+ * or other dimensions (threads may differ). */
+int lt_ais_save(const lt_ais *s, const char *path, uint64_t fingerprint, lt_error *err);
+lt_ais *lt_ais_load(const char *path, uint64_t fingerprint, const lt_ais_opts *o,
+                    lt_logdensity f, void **ctx, lt_error *err);
+
+/* ---------------------------------------------------------------------- */
 /* Nested sampling                                                         */
 /* ---------------------------------------------------------------------- */
 
@@ -297,6 +387,8 @@ double lt_like_nested_loglike(const double *theta, void *ctx);
 typedef struct lt_fit_opts {
     unsigned long seed; /* for the random starts */
     size_t starts;      /* how many (the first is the centre of the prior) */
+    int quick;          /* a rough best fit (tolerance 1e-4 of the prior widths, no restarts
+                         * or polish: lt_optim_opts.quick), as a sampler's start */
     volatile sig_atomic_t *stop; /* as in lt_optim_opts; NULL: none */
 } lt_fit_opts;
 
@@ -319,6 +411,8 @@ typedef struct lt_fit_result {
     double z_pivot, w_pivot, w_pivot_sd;
     double measured[LT_MAX_MEASUREMENTS]; /* each measured quantity at the best fit */
     lt_optim_info info;
+    size_t evals;                     /* likelihood evaluations (lt_like_work_evals), the
+                                       * Laplace step and the delta method included */
 } lt_fit_result;
 
 /* Fit l: starts drawn from the prior (seeded), lt_optimize, then

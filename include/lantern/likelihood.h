@@ -215,6 +215,11 @@ double lt_like_lognorm(const lt_like *l);
 
 lt_like_work *lt_like_work_alloc(const lt_like *l);
 void lt_like_work_free(lt_like_work *w);
+/* The evaluations made with w so far: every lt_like_eval or _exact call at
+ * a point inside the prior (a point outside it costs nothing and is not
+ * counted), whether or not the point is physical. What summaries report as
+ * convergence.evaluations, summed over a run's work spaces. */
+size_t lt_like_work_evals(const lt_like_work *w);
 
 typedef struct lt_like_point {
     double logpost;  /* loglike + logprior; -inf outside the prior or the domain */
@@ -266,6 +271,8 @@ typedef struct lt_compression_check {
     double max_before;   /* largest |dchi2| over the checked draws with knots_before */
     double max_after;    /* the same with knots (= max_before unless refined) */
     int refined;
+    size_t evals;        /* likelihood evaluations the check made: the screening of every
+                          * draw by two compressions, the exact ones, the comparisons */
 } lt_compression_check;
 /* The compression's check on the draws (lt_like_check_posterior), across a run, as
  * summary.json "compression" reports it; knots 0 means the exact path. */

@@ -19,8 +19,8 @@
  *   [fixed]        PARAM = VALUE
  *   [measurements] NAME = MEAN:SD[, MEAN:SD...]
  *   [fit]          starts, seed
- *   [sampler]      seed, chains, threads, warmup, check_every, max_steps,
- *                  target_ess
+ *   [sampler]      method, seed, chains, threads, warmup, check_every,
+ *                  max_steps, target_ess
  *   [nested]       live_points
  *   [output]       dir, format
  * Unknown sections and keys, over-long lines and bad values are errors
@@ -79,6 +79,7 @@ typedef struct lt_job {
     long starts;
     long chains, threads, warmup, check_every, max_steps;
     double target_ess;
+    const char *sampler; /* [sampler] method: "auto" (the default), "importance", "mcmc" */
     long live_points;
     const char *out, *format;
     int force, quiet, verbose;
@@ -188,6 +189,9 @@ typedef struct lt_progress {
     size_t draws_per_chain;
     double rhat_max, ess_min; /* over the parameters */
     int converged;
+    int weighted;             /* importance sampling: draws_per_chain is all the draws,
+                               * rhat_max NaN, pareto_k its weights' */
+    double pareto_k;
 } lt_progress;
 
 /* The kinds of line a long job has to say. */
@@ -247,6 +251,13 @@ extern const lt_method_type *lt_method_fit;
  * max(2000, 1000 d)). The posterior is importance-weighted where more knots
  * did not help. */
 extern const lt_method_type *lt_method_mcmc;
+/* Adaptive importance sampling (lt_ais) from a rough best fit and its
+ * Laplace covariance until every parameter's importance-sampling ESS
+ * reaches the target with Pareto k <= 0.7, the compression checked on a
+ * weighted resample of the draws and the sampling done again where more
+ * knots fix it. j's seed, target_ess and threads; max_steps x chains caps
+ * the draws. */
+extern const lt_method_type *lt_method_importance;
 /* Nested sampling with j's live points and seed, to dlogz 0.01; the
  * posterior carries the evidence. */
 extern const lt_method_type *lt_method_nested;
@@ -298,6 +309,10 @@ int lt_pipeline_run(const lt_method_type *t, lt_like *l, lt_job *j, const lt_run
  * weighted ESS then use the weights, and chi2_min is the exact chi2 at the
  * polished best draw. reweight 0: every draw, unweighted.
  */
+/* The posterior of adaptive importance sampling: its weighted draws, the
+ * derived columns, the summaries (ESS by lt_diag_ess_is), the best draw
+ * polished, Pareto k, and the evidence the weights estimate. */
+int lt_pipeline_ais_posterior(const lt_like *l, const lt_ais *s, lt_posterior *r, lt_error *err);
 int lt_pipeline_mcmc_posterior(const lt_like *l, const lt_mcmc *m, size_t reweight,
                                lt_posterior *r, lt_error *err);
 

@@ -92,7 +92,9 @@ int lt_post_edge_note(const char *name, const lt_prior *p, double lo, double hi,
 typedef enum {
     LT_POST_MCMC = 0, /* chains: diag holds their diagnostics */
     LT_POST_NESTED,   /* one run of weighted samples, with the evidence */
-    LT_POST_LAPLACE   /* a best fit and its Gaussian (Laplace) approximation: no draws */
+    LT_POST_LAPLACE,  /* a best fit and its Gaussian (Laplace) approximation: no draws */
+    LT_POST_IMPORTANCE /* independent weighted draws of adaptive importance sampling: one
+                        * "chain"; no R-hat; ESS, Kish's ESS and Pareto k of the weights */
 } lt_post_method;
 
 typedef struct lt_posterior {
@@ -123,13 +125,16 @@ typedef struct lt_posterior {
     double ess_weighted[LT_MAX_FREE]; /* lt_diag_ess_weighted, smallest of mean, 5% and 95% */
     double ess_min_weighted;  /* the smallest of those */
     double kish_ess;          /* (sum w)^2 / sum w^2 */
+    double pareto_k;          /* LT_POST_IMPORTANCE: lt_diag_pareto_k of the weights */
     double max_abs_dchi2;     /* largest |chi2_compressed - chi2_exact| of the rows */
     /* DIC (lt_dic_compute on the chi2 column, with the weights): NaN for
      * a Laplace posterior */
     double dic, p_v;
     /* nested sampling: the evidence (NaN for other methods) */
     double ln_z, ln_z_err, information;
-    size_t live_points, iterations, evals;
+    size_t live_points, iterations;
+    size_t evals;             /* likelihood evaluations of the whole method: best fit, warm-up
+                               * or adaptation, sampling, checks, polish (lt_like_work_evals) */
     int finished;             /* stopped by its tolerance, not its iteration cap */
     double *loglike;          /* nested: each draw's ln L as the sampler kept it; else NULL */
     lt_fit_result fit;        /* LT_POST_LAPLACE: the best fit it is made from */

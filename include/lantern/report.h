@@ -46,6 +46,17 @@ void lt_report_sample_table(FILE *f, const lt_like *l, const lt_posterior *r,
 /* chains.csv and chains.fits: one row per draw (chain, step, then the
  * columns); FITS header keywords name the model, data, seed, version and
  * convergence. Both written atomically. */
+/* What convergence.ess_definition says of importance-sampling draws. */
+#define LT_REPORT_ESS_IS_DEFINITION                                                          \
+    "smallest over the parameters of the importance-sampling ESS of the weighted mean and of " \
+    "the indicators of the 5% and 95% quantiles: sum w (f - mu)^2 sum w / sum w^2 (f - mu)^2, " \
+    "Kish's (sum w)^2 / sum w^2 with each draw counted by its (f - mu)^2"
+/* Importance weights whose Pareto k is above this are warned about
+ * (Vehtari et al., arXiv:1507.02646). */
+#define LT_PARETO_K_WARN 0.7
+/* The warning for a posterior r of importance sampling whose Pareto k is
+ * above LT_PARETO_K_WARN. */
+void lt_report_pareto_warning(const lt_posterior *r, char *buf, size_t size);
 int lt_report_write_chains(const char *dir, const lt_like *l, const lt_posterior *r,
                            const lt_survey_spec *data, unsigned long seed, lt_error *err);
 

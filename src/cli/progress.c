@@ -30,10 +30,16 @@ static void on_check(const lt_progress *d, void *p)
     if (isfinite(left) && !d->converged)
         snprintf(eta, sizeof eta, ", about %.0f s left", left);
     int inplace = pr->tty && !pr->verbose;
-    fprintf(stderr,
-            "%ssampling: %zu draws per chain, worst R-hat %.4f, smallest ESS %.0f, %.1f s%s%s",
-            inplace ? "\r" : "", d->draws_per_chain, d->rhat_max, d->ess_min, t, eta,
-            inplace ? "   " : "\n");
+    if (d->weighted)
+        fprintf(stderr,
+                "%simportance sampling: %zu draws, smallest ESS %.0f, Pareto k %.2f, %.1f s%s%s",
+                inplace ? "\r" : "", d->draws_per_chain, d->ess_min, d->pareto_k, t, eta,
+                inplace ? "   " : "\n");
+    else
+        fprintf(stderr,
+                "%ssampling: %zu draws per chain, worst R-hat %.4f, smallest ESS %.0f, %.1f s%s%s",
+                inplace ? "\r" : "", d->draws_per_chain, d->rhat_max, d->ess_min, t, eta,
+                inplace ? "   " : "\n");
     pr->printed = 1;
 }
 

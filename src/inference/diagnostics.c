@@ -400,3 +400,88 @@ int lt_dic_compute(const double *dev, const double *w, size_t n, lt_dic *out)
     out->dic = m + out->p_v;
     return LT_OK;
 }
+
+/*
+ * The shape of a generalized Pareto distribution fitted to x[0..n)
+ * (exceedances over a threshold, sorted ascending, all > 0) by Zhang &
+ * Stephens 2009 (Technometrics 51, 316): the profile likelihood of
+ * theta = -xi / sigma averaged over m = 30 + sqrt(n) points
+ * theta_j = 1 / x_max + (1 - sqrt(m / (j - 1/2))) / (3 x_q1), each with
+ * weight 1 / sum_l exp(L_l - L_j), L(theta) = n (ln(theta / k) + k - 1),
+ * k = -mean ln(1 - theta x); then xi = mean ln(1 - theta_hat x) (their k
+ * with the sign of the usual shape).
+ */
+static double gpd_shape(const double *x, size_t n)
+{
+    size_t m = 30 + (size_t)sqrt((double)n);
+    double *th = malloc(2 * m * sizeof *th);
+    if (!th)
+        return NAN;
+    double *L = th + m, xq = x[(size_t)(n / 4.0 + 0.5) - 1], top = -INFINITY;
+    for (size_t j = 0; j < m; j++) {
+        th[j] = 1.0 / x[n - 1] + (1.0 - sqrt((double)m / ((double)j + 0.5))) / (3.0 * xq);
+        double k = 0.0;
+        for (size_t i = 0; i < n; i++)
+            k -= log1p(-th[j] * x[i]);
+        k /= (double)n;
+        L[j] = (double)n * (log(th[j] / k) + k - 1.0);
+        top = fmax(top, L[j]);
+    }
+    /* the posterior mean of theta: weights exp(L_j) normalised */
+    double sw = 0.0, st = 0.0;
+    for (size_t j = 0; j < m; j++) {
+        double wj = isfinite(L[j]) ? exp(L[j] - top) : 0.0;
+        sw += wj, st += wj * th[j];
+    }
+    double theta = st / sw, xi = 0.0;
+    for (size_t i = 0; i < n; i++)
+        xi += log1p(-theta * x[i]);
+    free(th);
+    return xi / (double)n;
+}
+
+static int cmp_double(const void *a, const void *b)
+{
+    double u = *(const double *)a, v = *(const double *)b;
+    return u < v ? -1 : u > v;
+}
+
+double lt_diag_pareto_k(const double *logw, size_t n)
+{
+    /* the tail: the M = min(n / 5, 3 sqrt(n)) largest weights, over the
+     * next largest as threshold (Vehtari, Simpson, Gelman, Yao & Gabry,
+     * arXiv:1507.02646, sec. 3) */
+    size_t M = (size_t)fmin((double)n / 5.0, 3.0 * sqrt((double)n));
+    if (M < 5)
+        return NAN;
+    double *lw = malloc(n * sizeof *lw);
+    if (!lw)
+        return NAN;
+    size_t k = 0;
+    for (size_t i = 0; i < n; i++)
+        lw[k++] = isnan(logw[i]) ? -INFINITY : logw[i];
+    qsort(lw, k, sizeof *lw, cmp_double);
+    double top = lw[k - 1], cut = lw[k - 1 - M];
+    if (!isfinite(top) || cut == top) {
+        free(lw);
+        return isfinite(top) ? -INFINITY : NAN; /* a flat tail: no heavier than exponential */
+    }
+    double base = isfinite(cut) ? exp(cut - top) : 0.0;
+    double *x = malloc(M * sizeof *x);
+    if (!x) {
+        free(lw);
+        return NAN;
+    }
+    for (size_t i = 0; i < M; i++)
+        x[i] = exp(lw[k - M + i] - top) - base;
+    free(lw);
+    size_t first = 0; /* ties with the threshold carry no tail information */
+    while (first < M && !(x[first] > 0.0))
+        first++;
+    double xi = M - first >= 5 ? gpd_shape(x + first, M - first) : NAN;
+    size_t mt = M - first;
+    free(x);
+    /* the weakly informative prior of the PSIS paper: shrink towards 0.5
+     * as if 10 more observations were 0.5 */
+    return xi * (double)mt / ((double)mt + 10.0) + 10.0 * 0.5 / ((double)mt + 10.0);
+}

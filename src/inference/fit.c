@@ -114,7 +114,8 @@ int lt_fit_run(const lt_like *l, const lt_fit_opts *o, lt_fit_result *r, lt_erro
         } while (!isfinite(lt_like_neg2logpost(x, &ctx)) && ++tries < 10000);
     }
     lt_optim_opts oo = {.dim = d, .nstarts = nstarts, .starts = starts, .scale = scale,
-                        .tol = 1e-8, .max_evals = 2000 * (d + 1), .stop = o->stop};
+                        .tol = o->quick ? 1e-4 : 1e-8, .max_evals = 2000 * (d + 1),
+                        .quick = o->quick, .stop = o->stop};
     if ((rc = lt_optimize(lt_like_neg2logpost, &ctx, &oo, r->best, &r->f_best, &r->info, err)))
         goto done;
     lt_like_eval(l, ctx.w, r->best, &r->at_best);
@@ -187,6 +188,7 @@ int lt_fit_run(const lt_like *l, const lt_fit_opts *o, lt_fit_result *r, lt_erro
 done:
     gsl_rng_free(rng);
     free(starts);
+    r->evals = lt_like_work_evals(ctx.w);
     lt_like_work_free(ctx.w);
     return rc;
 }

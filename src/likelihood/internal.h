@@ -43,6 +43,7 @@ struct lt_like_work {
     size_t nterms;
     const lt_term_type *type[LT_MAX_TERMS]; /* whose work each is (freed by it) */
     void *term[LT_MAX_TERMS];
+    size_t evals; /* evaluations inside the prior (lt_like_work_evals) */
 };
 
 /* Every table entry's value at theta (free ones from theta, fixed ones

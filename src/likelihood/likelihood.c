@@ -369,6 +369,8 @@ lt_like_work *lt_like_work_alloc(const lt_like *l)
     return w;
 }
 
+size_t lt_like_work_evals(const lt_like_work *w) { return w ? w->evals : 0; }
+
 void lt_like_work_free(lt_like_work *w)
 {
     if (!w)
@@ -391,6 +393,7 @@ static void eval(const lt_like *l, lt_like_work *w, const double *theta, int exa
     out->domain_ok = 0;
     if (!isfinite(out->logprior))
         return; /* outside the prior: no need to integrate anything */
+    w->evals++;
     double values[LT_MAX_PARAMS];
     lt_cosmo_params p;
     lt_like_values(l, theta, values, &p);

@@ -500,7 +500,11 @@ int lt_like_check_posterior(lt_like *l, const double *draws, size_t n, size_t st
         return LT_OK; /* the exact path: nothing to check */
     double *pts = malloc(m * d * sizeof *pts), *exact = malloc(m * sizeof *exact);
     size_t *pick = malloc(m * sizeof *pick);
-    int failed = !pts || !exact || !pick || pick_draws(l, draws, n, stride, m, pick, err);
+    /* every draw checked: no need to screen them for the worst */
+    int all = m == n;
+    for (size_t k = 0; all && pick && k < m; k++)
+        pick[k] = k;
+    int failed = !pts || !exact || !pick || (!all && pick_draws(l, draws, n, stride, m, pick, err));
     for (size_t k = 0; !failed && k < m; k++)
         memcpy(pts + k * d, draws + pick[k] * stride, d * sizeof *pts);
     free(pick);
@@ -524,6 +528,9 @@ int lt_like_check_posterior(lt_like *l, const double *draws, size_t n, size_t st
         return lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory checking the compression");
     }
     out->checked = m;
+    /* every draw screened by two compressions (unless all are checked), m
+     * exact, m per comparison */
+    out->evals = (all ? 0 : 2 * n) + 2 * m;
     out->max_before = out->max_after = worst_dchi2(l, pts, m, exact, w);
     sn_work_free(w);
     int rc = LT_OK;
@@ -546,6 +553,7 @@ int lt_like_check_posterior(lt_like *l, const double *draws, size_t n, size_t st
             break;
         }
         double now = worst_dchi2(l, pts, m, exact, w);
+        out->evals += m;
         sn_work_free(w);
         if (now <= bound) {
             out->max_after = now, out->knots = K, out->refined = 1;

@@ -32,6 +32,7 @@ void lt_job_init(lt_job *j)
     j->max_steps = 200000;
     j->target_ess = 1000;
     j->live_points = 1000;
+    j->sampler = "mcmc"; /* auto becomes the default once every model converges under it */
 }
 
 void lt_job_free(lt_job *j)
@@ -87,7 +88,8 @@ typedef enum {
     K_SEED,  /* 0 to 2^32 - 1 */
     K_ESS,   /* a number >= 1 */
     K_ENTRY, /* NAME=VALUE from a flag into a list ([priors], ...) */
-    K_RD     /* how the BAO term makes r_d: free or formula */
+    K_RD,    /* how the BAO term makes r_d: free or formula */
+    K_METHOD /* the sampler: auto, importance or mcmc */
 } kind;
 
 typedef struct {
@@ -125,6 +127,7 @@ static const rule rules[] = {
     {LT_JOB_FIT, "fit", "starts", "--starts", K_LONG, 1, 1000, AT(starts)},
     {LT_JOB_FIT, "fit", "seed", "--seed", K_SEED, 0, 0, AT(seed)},
     {LT_JOB_SAMPLER, "sampler", "seed", NULL, K_SEED, 0, 0, AT(seed)},
+    {LT_JOB_SAMPLER, "sampler", "method", "--sampler", K_METHOD, 0, 0, AT(sampler)},
     {LT_JOB_SAMPLER, "sampler", "chains", "--chains", K_LONG, 1, 256, AT(chains)},
     {LT_JOB_SAMPLER, "sampler", "threads", "--threads", K_LONG, 0, 256, AT(threads)},
     {LT_JOB_SAMPLER, "sampler", "warmup", "--warmup", K_LONG, 0, 100000000, AT(warmup)},
@@ -207,7 +210,14 @@ static int apply(lt_job *j, const rule *r, const char *key, const char *value,
     if (r->k == K_RD && strcmp(value, "free") && strcmp(value, "formula"))
         return refuse(r, value, origin, line, from_file,
                       "free (sample r_d h) or formula (r_d from omega_b_h2 and omega_m h^2)", err);
+    if (r->k == K_METHOD && strcmp(value, "auto") && strcmp(value, "importance") &&
+        strcmp(value, "mcmc"))
+        return refuse(r, value, origin, line, from_file,
+                      "auto (importance sampling, then MCMC if its weights are poor), importance "
+                      "or mcmc",
+                      err);
     switch (r->k) {
+    case K_METHOD:
     case K_RD: /* checked above; kept as text */
     case K_TEXT: {
         const char *s = keep(j, strdup(value), err);
@@ -821,9 +831,9 @@ int lt_job_write(const lt_job *j, const lt_like_spec *spec, const char *path, lt
         }
     add(&b, "[fit]\nstarts = %ld\n", j->starts);
     add(&b,
-        "[sampler]\nseed = %lu\nchains = %ld\nthreads = %ld\nwarmup = %ld\ncheck_every = %ld\n"
-        "max_steps = %ld\n",
-        j->seed, j->chains, j->threads, j->warmup, j->check_every, j->max_steps);
+        "[sampler]\nmethod = %s\nseed = %lu\nchains = %ld\nthreads = %ld\nwarmup = %ld\n"
+        "check_every = %ld\nmax_steps = %ld\n",
+        j->sampler, j->seed, j->chains, j->threads, j->warmup, j->check_every, j->max_steps);
     lt_format_double(j->target_ess, x, sizeof x);
     add(&b, "target_ess = %s\n[nested]\nlive_points = %ld\n", x, j->live_points);
     int rc = b.failed ? lt_error_set(err, LT_ENOMEM, path, 0, "out of memory")

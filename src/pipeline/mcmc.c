@@ -28,46 +28,25 @@ typedef struct {
     lt_mcmc *m;
     lt_sample_compression cmp;
     size_t nchains;
-    lt_like_chain *ctx; /* the chains' work spaces, which m's log density uses */
-    void **ctxp;
+    pipeline_works w;   /* the chains' work spaces, which m's log density uses */
     char *knots;        /* the checkpoint's compression.txt, or NULL */
+    char *counts;       /* its evaluations.txt, or NULL */
+    size_t evals_before; /* evaluations not in the chains' work spaces: the best fit, a
+                          * resumed run's first part (chains a refinement replaced: w.gone) */
+    size_t evals_check;  /* the compression checks' */
 } mcmc_run;
 
-static int save_knots(const char *path, size_t K, double first, lt_error *err)
+/* Every evaluation so far. */
+static size_t evals_now(const mcmc_run *r)
 {
-    char buf[32], text[64];
-    lt_format_double(first, buf, sizeof buf);
-    snprintf(text, sizeof text, "%zu %s\n", K, buf);
-    return lt_file_write_text(path, text, err);
+    return r->evals_before + r->evals_check + r->w.gone + pipeline_works_evals(&r->w);
 }
 
-static int load_knots(const char *path, lt_like *l, lt_sample_compression *cmp, lt_error *err)
+/* evaluations.txt: every evaluation so far, so that a resumed run counts
+ * its first part (the chains' work spaces start afresh). */
+static int save_counts(const mcmc_run *r, lt_error *err)
 {
-    char text[64] = "";
-    FILE *f = fopen(path, "r");
-    if (!f)
-        return LT_OK;
-    size_t K;
-    char *sp = fgets(text, sizeof text, f) ? strchr(text, ' ') : NULL;
-    fclose(f);
-    if (!sp || sscanf(text, "%zu", &K) != 1 ||
-        lt_parse_double(strtok(sp + 1, "\n"), &cmp->first_dchi2))
-        return lt_error_set(err, LT_EINPUT, path, 1, "not 'KNOTS MAX_ABS_DCHI2'");
-    return lt_like_compression_set(l, K, err);
-}
-
-/* Each chain's work space, made afresh (after a refinement the old ones
- * belong to the old compression). */
-static int chains_work(mcmc_run *r, lt_error *err)
-{
-    for (size_t c = 0; c < r->nchains; c++) {
-        lt_like_work_free(r->ctx[c].w);
-        r->ctx[c] = (lt_like_chain){r->l, lt_like_work_alloc(r->l)};
-        r->ctxp[c] = &r->ctx[c];
-        if (!r->ctx[c].w)
-            return lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
-    }
-    return LT_OK;
+    return pipeline_save_counts(r->counts, evals_now(r) - r->evals_check, r->evals_check, err);
 }
 
 static void mcmc_free(void *p)
@@ -76,11 +55,9 @@ static void mcmc_free(void *p)
     if (!r)
         return;
     lt_mcmc_free(r->m);
-    for (size_t c = 0; r->ctx && c < r->nchains; c++)
-        lt_like_work_free(r->ctx[c].w);
-    free(r->ctx);
-    free(r->ctxp);
+    pipeline_works_free(&r->w);
     free(r->knots);
+    free(r->counts);
     free(r);
 }
 
@@ -96,19 +73,19 @@ static void *mcmc_alloc(lt_like *l, lt_job *j, const char *ckdir, lt_error *err)
     mcmc_run *r = calloc(1, sizeof *r);
     if (r) {
         r->l = l, r->j = j, r->nchains = (size_t)j->chains;
-        r->ctx = calloc(r->nchains, sizeof *r->ctx);
-        r->ctxp = calloc(r->nchains, sizeof *r->ctxp);
-        if (ckdir)
+        if (ckdir) {
             r->knots = lt_path_join(ckdir, "compression.txt", NULL);
+            r->counts = lt_path_join(ckdir, "evaluations.txt", NULL);
+        }
     }
-    if (!r || !r->ctx || !r->ctxp || (ckdir && !r->knots)) {
+    if (!r || (ckdir && (!r->knots || !r->counts))) {
         mcmc_free(r);
         lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
         return NULL;
     }
     lt_like_compression(l, &r->cmp.knots_setup, &r->cmp.setup_dchi2);
     r->cmp.first_dchi2 = NAN;
-    if (chains_work(r, err)) {
+    if (pipeline_works_alloc(&r->w, l, r->nchains, err)) {
         mcmc_free(r);
         return NULL;
     }
@@ -136,8 +113,10 @@ static int mcmc_start(void *p, volatile sig_atomic_t *stop, lt_error *err)
     size_t d = lt_like_dim(r->l);
     lt_fit_opts fo = {.seed = j->seed, .starts = (size_t)j->starts, .stop = stop};
     lt_fit_result fr;
-    if (lt_fit_run(r->l, &fo, &fr, err))
-        return err->code;
+    int rc = lt_fit_run(r->l, &fo, &fr, err);
+    r->evals_before += fr.evals;
+    if (rc)
+        return rc;
     double scale[LT_MAX_FREE];
     for (size_t i = 0; i < d; i++) {
         const lt_prior *pr = lt_like_prior(r->l, i);
@@ -148,7 +127,7 @@ static int mcmc_start(void *p, volatile sig_atomic_t *stop, lt_error *err)
                        .warmup = (size_t)j->warmup, .check_every = (size_t)j->check_every,
                        .max_steps = (size_t)j->max_steps, .target_ess = j->target_ess,
                        .rhat_tol = 0.01, .threads = (int)j->threads, .memory_limit = 0};
-    r->m = lt_mcmc_alloc(&mo, lt_like_logdensity, r->ctxp, err);
+    r->m = lt_mcmc_alloc(&mo, lt_like_logdensity, r->w.ctxp, err);
     return r->m ? LT_OK : err->code;
 }
 
@@ -157,16 +136,19 @@ static int mcmc_save(const void *p, const char *path, uint64_t fp, lt_error *err
     const mcmc_run *r = p;
     /* no chains: stopped while a refinement restarted them; the state file
      * still holds the chains its knots file belongs to */
-    return r->m ? lt_mcmc_save(r->m, path, fp, err) : LT_OK;
+    int rc = r->m ? lt_mcmc_save(r->m, path, fp, err) : LT_OK;
+    return rc ? rc : save_counts(r, err);
 }
 
 static int mcmc_load(void *p, const char *path, uint64_t fp, lt_error *err)
 {
     mcmc_run *r = p;
-    int rc = r->knots ? load_knots(r->knots, r->l, &r->cmp, err) : LT_OK;
-    if (rc || (rc = chains_work(r, err)))
+    int rc = r->knots ? pipeline_load_knots(r->knots, r->l, &r->cmp, err) : LT_OK;
+    if (rc || (rc = pipeline_works_renew(&r->w, err)))
         return rc;
-    r->m = lt_mcmc_load(path, fp, lt_like_logdensity, r->ctxp, err);
+    if ((rc = pipeline_load_counts(r->counts, &r->evals_before, &r->evals_check, err)))
+        return rc;
+    r->m = lt_mcmc_load(path, fp, lt_like_logdensity, r->w.ctxp, err);
     return r->m ? LT_OK : err->code;
 }
 
@@ -184,11 +166,13 @@ typedef struct {
 static void on_check(const lt_mcmc *m, void *ctx)
 {
     at_check *a = ctx;
-    if (a->state && !a->save_failed && lt_mcmc_save(m, a->state, a->fp, &a->err) != LT_OK)
+    if (a->state && !a->save_failed &&
+        (lt_mcmc_save(m, a->state, a->fp, &a->err) != LT_OK || save_counts(a->r, &a->err)))
         a->save_failed = 1;
     if (a->h && a->h->check) {
         const lt_mcmc_diag *d = lt_mcmc_diagnostics(m);
-        lt_progress pr = {d->draws_per_chain, d->rhat_max, d->ess_min, lt_mcmc_converged(m)};
+        lt_progress pr = {d->draws_per_chain, d->rhat_max, d->ess_min, lt_mcmc_converged(m), 0,
+                          NAN};
         a->h->check(&pr, a->h->ctx);
     }
 }
@@ -210,33 +194,22 @@ static int mcmc_iterate(void *p, const char *state, uint64_t fp, volatile sig_at
         /* the compression checked on the draws by the exact path; where
          * more knots (or the exact path) fix it, sample again with them */
         lt_compression_check chk;
-        if ((rc = lt_mcmc_check_compression(r->l, r->m, &chk, err)))
+        rc = lt_mcmc_check_compression(r->l, r->m, &chk, err);
+        r->evals_check += chk.evals;
+        if (rc)
             return rc;
-        if (!chk.refined) {
-            cmp->knots = chk.knots, cmp->checked = chk.checked;
-            cmp->posterior_dchi2 = chk.max_after, cmp->checked_ok = 1;
+        if (!pipeline_after_check(h, cmp, &chk))
             return LT_OK;
-        }
-        if (isnan(cmp->first_dchi2))
-            cmp->first_dchi2 = chk.max_before;
-        char how[64] = "the exact path", text[512];
-        if (chk.knots)
-            snprintf(how, sizeof how, "%zu knots", chk.knots);
-        snprintf(text, sizeof text,
-                 "the compressed likelihood is off by %.2g in chi2 on the posterior draws (more "
-                 "than %g; its set-up saw %.2g): sampling again with %s",
-                 chk.max_before, LT_CHECK_BOUND, cmp->setup_dchi2, how);
-        pipeline_say(h, LT_NOTE_NEWS, text);
         lt_mcmc_free(r->m);
         r->m = NULL;
-        if ((rc = chains_work(r, err)) || (rc = mcmc_start(r, stop, err)))
+        if ((rc = pipeline_works_renew(&r->w, err)) || (rc = mcmc_start(r, stop, err)))
             return rc;
         /* the new chains and their knots saved together (no stop is looked
          * at between the two), so that a resume finds them consistent; a
          * stop before this leaves the old chains with the old knots, which
          * a resume refines again to the same result */
         if ((state && (rc = lt_mcmc_save(r->m, state, fp, err))) ||
-            (r->knots && (rc = save_knots(r->knots, chk.knots, cmp->first_dchi2, err))))
+            (r->knots && (rc = pipeline_save_knots(r->knots, chk.knots, cmp->first_dchi2, err))))
             return rc;
     }
 }
@@ -257,8 +230,10 @@ static int mcmc_result(void *p, const lt_pipeline_hooks *h, lt_posterior *post, 
     }
     int rc = lt_pipeline_mcmc_posterior(r->l, r->m, off ? lt_like_reweight_draws(r->l) : 0, post,
                                         err);
-    if (!rc)
+    if (!rc) {
         post->compression = r->cmp;
+        post->evals += evals_now(r);
+    }
     return rc;
 }
 

@@ -101,68 +101,53 @@ static int weigh_rows(const lt_like *l, lt_posterior *r, lt_error *err)
     return LT_OK;
 }
 
-int lt_pipeline_mcmc_posterior(const lt_like *l, const lt_mcmc *m, size_t reweight,
-                               lt_posterior *r, lt_error *err)
+/* r's columns: logpost, chi2, l's parameters, the derived quantities
+ * (*der, *nder of them) and w at the pivot for w0-wa models; room for n
+ * rows. */
+static int alloc_columns(const lt_like *l, size_t n, lt_posterior *r, int *der, int *nder)
 {
-    memset(r, 0, sizeof *r);
-    const lt_mcmc_opts *o = lt_mcmc_options(m);
-    size_t d = lt_like_dim(l), nc = o->nchains, row = lt_mcmc_row_size(m);
-    size_t n = SIZE_MAX;
-    for (size_t c = 0; c < nc; c++) {
-        size_t k;
-        lt_mcmc_draws(m, c, &k);
-        n = k < n ? k : n;
-    }
-    int der[LT_NDER + 1], nder = 0;
-    int iw0 = lt_like_param_index(l, "w0"), iwa = lt_like_param_index(l, "wa");
+    size_t d = lt_like_dim(l);
+    *nder = 0;
     for (int k = 0; k < LT_NDER; k++)
         if (lt_like_has_derived(l, k))
-            der[nder++] = k;
-    int pivot = iw0 >= 0 && iwa >= 0;
-    /* to weigh the draws, keep every thin-th of each chain: at most reweight */
-    size_t thin = reweight ? (nc * n + reweight - 1) / reweight : 1, steps = n;
-    thin = thin ? thin : 1;
-    n = (n + thin - 1) / thin;
-    r->nchains = nc, r->ndraws = n, r->thin = thin;
+            der[(*nder)++] = k;
+    int pivot = lt_like_param_index(l, "w0") >= 0 && lt_like_param_index(l, "wa") >= 0;
     r->first_param = 2, r->nparams = d;
-    r->first_derived = 2 + d, r->nderived = (size_t)nder + (pivot ? 1 : 0);
+    r->first_derived = 2 + d, r->nderived = (size_t)*nder + (pivot ? 1 : 0);
     r->ncols = 2 + d + r->nderived;
     r->cols = calloc(r->ncols, sizeof *r->cols);
-    r->rows = malloc((nc * n + 1) * r->ncols * sizeof *r->rows);
+    r->rows = malloc((n + 1) * r->ncols * sizeof *r->rows);
     r->stats = calloc(r->ncols, sizeof *r->stats);
     r->cov = calloc(d * d + 1, sizeof *r->cov);
     if (!r->cols || !r->rows || !r->stats || !r->cov)
-        goto nomem;
+        return -1;
     r->cols[0] = strdup("logpost");
     r->cols[1] = strdup("chi2");
     for (size_t i = 0; i < d; i++)
         r->cols[2 + i] = strdup(lt_like_param_name(l, i));
-    for (int k = 0; k < nder; k++)
+    for (int k = 0; k < *nder; k++)
         r->cols[2 + d + k] = strdup(lt_derived_name(der[k]));
     if (pivot)
-        r->cols[2 + d + nder] = strdup("w_pivot");
+        r->cols[2 + d + *nder] = strdup("w_pivot");
     for (size_t i = 0; i < r->ncols; i++)
         if (!r->cols[i])
-            goto nomem;
-    for (size_t c = 0; c < nc; c++) {
-        size_t k;
-        const double *dr = lt_mcmc_draws(m, c, &k);
-        for (size_t i = 0; i < n; i++) {
-            double *out = r->rows + (c * n + i) * r->ncols;
-            const double *in = dr + i * thin * row;
-            out[LOGPOST] = in[d];
-            out[CHI2] = o->nextra ? in[d + 1] : NAN;
-            memcpy(out + 2, in, d * sizeof *out);
-        }
-    }
-    size_t total = nc * n;
-    if (reweight) {
-        int rc = weigh_rows(l, r, err);
-        if (rc) {
-            lt_posterior_free(r);
-            return rc;
-        }
-    }
+            return -1;
+    return 0;
+}
+
+/*
+ * What every sampled posterior shares once its rows (and weights) are in:
+ * the pivot redshift, the derived columns, the summaries, and the best draw
+ * polished by the optimiser (a single simplex run when quick: the draws'
+ * best is then close enough that restarts and a BFGS stage add evaluations
+ * but not digits of chi2_min). *evals receives the polish's evaluations.
+ */
+static int finish_draws(const lt_like *l, lt_posterior *r, const int *der, int nder, int quick,
+                        size_t *evals, lt_error *err)
+{
+    size_t d = lt_like_dim(l), total = r->nchains * r->ndraws;
+    int iw0 = lt_like_param_index(l, "w0"), iwa = lt_like_param_index(l, "wa");
+    int pivot = iw0 >= 0 && iwa >= 0;
     const double *wt = r->weights;
     lt_posterior_covariance(r);
     r->z_pivot = NAN;
@@ -196,8 +181,9 @@ int lt_pipeline_mcmc_posterior(const lt_like *l, const lt_mcmc *m, size_t reweig
         scale[i] = isfinite(r->stats[2 + i].sd) && r->stats[2 + i].sd > 0 ? r->stats[2 + i].sd : 1.0;
         x0[i] = total ? r->rows[jbest * r->ncols + 2 + i] : 0.0;
     }
-    lt_optim_opts oo = {.dim = d, .nstarts = 1, .starts = x0, .scale = scale, .tol = 1e-10,
-                        .max_evals = 4000 * (d + 1), .stop = NULL};
+    lt_optim_opts oo = {.dim = d, .nstarts = 1, .starts = x0, .scale = scale,
+                        .tol = quick ? 1e-6 : 1e-10, .max_evals = (quick ? 100 : 4000) * (d + 1),
+                        .quick = quick, .stop = NULL};
     lt_optim_info info;
     double f;
     if (lt_optimize(lt_like_neg2logpost, &pc, &oo, r->best, &f, &info, err)) {
@@ -207,19 +193,108 @@ int lt_pipeline_mcmc_posterior(const lt_like *l, const lt_mcmc *m, size_t reweig
     }
     /* weighted draws report the exact chi2 at the point the compressed
      * path found best (off by the square of a tiny shift) */
-    (wt ? lt_like_eval_exact : lt_like_eval)(l, pc.w, r->best, &r->at_best);
+    (wt && r->method == LT_POST_MCMC ? lt_like_eval_exact : lt_like_eval)(l, pc.w, r->best,
+                                                                         &r->at_best);
+    *evals = lt_like_work_evals(pc.w);
     lt_like_work_free(pc.w);
     for (int k = 0; k < nder; k++)
         r->best_derived[k] = lt_like_derived(l, r->best, der[k]);
     measured_at_best(l, r);
     if (pivot)
         r->best_derived[nder] = r->best[iw0] + r->best[iwa] * one_minus_ap;
+    return LT_OK;
+nomem:
+    lt_posterior_free(r);
+    return lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory summarising the draws");
+}
+
+int lt_pipeline_mcmc_posterior(const lt_like *l, const lt_mcmc *m, size_t reweight,
+                               lt_posterior *r, lt_error *err)
+{
+    memset(r, 0, sizeof *r);
+    const lt_mcmc_opts *o = lt_mcmc_options(m);
+    size_t d = lt_like_dim(l), nc = o->nchains, row = lt_mcmc_row_size(m);
+    size_t n = SIZE_MAX;
+    for (size_t c = 0; c < nc; c++) {
+        size_t k;
+        lt_mcmc_draws(m, c, &k);
+        n = k < n ? k : n;
+    }
+    /* to weigh the draws, keep every thin-th of each chain: at most reweight */
+    size_t thin = reweight ? (nc * n + reweight - 1) / reweight : 1, steps = n;
+    thin = thin ? thin : 1;
+    n = (n + thin - 1) / thin;
+    r->nchains = nc, r->ndraws = n, r->thin = thin;
+    int der[LT_NDER + 1], nder;
+    if (alloc_columns(l, nc * n, r, der, &nder))
+        goto nomem;
+    for (size_t c = 0; c < nc; c++) {
+        size_t k;
+        const double *dr = lt_mcmc_draws(m, c, &k);
+        for (size_t i = 0; i < n; i++) {
+            double *out = r->rows + (c * n + i) * r->ncols;
+            const double *in = dr + i * thin * row;
+            out[LOGPOST] = in[d];
+            out[CHI2] = o->nextra ? in[d + 1] : NAN;
+            memcpy(out + 2, in, d * sizeof *out);
+        }
+    }
+    if (reweight) {
+        int rc = weigh_rows(l, r, err);
+        if (rc) {
+            lt_posterior_free(r);
+            return rc;
+        }
+    }
+    size_t polish = 0;
+    int rc = finish_draws(l, r, der, nder, 0, &polish, err);
+    if (rc)
+        return rc;
+    r->evals += polish + (reweight ? nc * n : 0);
     r->converged = lt_mcmc_converged(m);
     r->ln_z = r->ln_z_err = r->information = NAN; /* no evidence from chains */
     if (copy_diag(&r->diag, lt_mcmc_diagnostics(m), d, nc))
         goto nomem;
     r->warmup = o->warmup;
     r->steps = steps;
+    return LT_OK;
+nomem:
+    lt_posterior_free(r);
+    return lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory summarising the draws");
+}
+
+int lt_pipeline_ais_posterior(const lt_like *l, const lt_ais *s, lt_posterior *r, lt_error *err)
+{
+    memset(r, 0, sizeof *r);
+    r->method = LT_POST_IMPORTANCE;
+    size_t d = lt_like_dim(l), n, rs = lt_ais_row_size(s);
+    const double *dr = lt_ais_draws(s, &n), *w = lt_ais_weights(s);
+    const lt_ais_diag *dg = lt_ais_diagnostics(s);
+    r->nchains = 1, r->ndraws = n, r->thin = 1, r->steps = n;
+    int der[LT_NDER + 1], nder;
+    if (alloc_columns(l, n, r, der, &nder) || !(r->weights = malloc((n ? n : 1) * sizeof *w)))
+        goto nomem;
+    double sw = 0.0, sw2 = 0.0;
+    for (size_t j = 0; j < n; j++) {
+        double *out = r->rows + j * r->ncols;
+        out[LOGPOST] = dr[j * rs + d];
+        out[CHI2] = lt_ais_options(s)->nextra ? dr[j * rs + d + 1] : NAN;
+        memcpy(out + 2, dr + j * rs, d * sizeof *out);
+        r->weights[j] = w[j];
+        sw += w[j], sw2 += w[j] * w[j];
+    }
+    r->kish_ess = sw2 > 0.0 ? sw * sw / sw2 : 0.0;
+    size_t polish = 0;
+    int rc = finish_draws(l, r, der, nder, 1, &polish, err);
+    if (rc)
+        return rc;
+    r->evals += polish;
+    r->converged = lt_ais_converged(s);
+    r->pareto_k = dg->pareto_k;
+    r->iterations = dg->iterations;
+    /* the weights' own estimate of the evidence (the mean of p / q) is
+     * not reported: nested sampling gives ln Z where a summary shows one */
+    r->ln_z = r->ln_z_err = r->information = NAN;
     return LT_OK;
 nomem:
     lt_posterior_free(r);

@@ -22,7 +22,11 @@ static void warnings(const lt_like *l, const lt_job *j, const lt_posterior *r,
                      const lt_pipeline_hooks *h)
 {
     char text[768];
-    if (r->weights) {
+    if (r->method == LT_POST_IMPORTANCE && r->pareto_k > LT_PARETO_K_WARN) {
+        lt_report_pareto_warning(r, text, sizeof text);
+        pipeline_say(h, LT_NOTE_WARNING, text);
+    }
+    if (r->weights && r->method == LT_POST_MCMC) {
         lt_report_compression_warning(r, text, sizeof text);
         pipeline_say(h, LT_NOTE_WARNING, text);
         if (r->ess_min_weighted < j->target_ess) {
@@ -78,6 +82,43 @@ static int write(const char *out, const lt_like *l, const lt_job *j, const lt_po
     return rc;
 }
 
+/*
+ * The sampler j asks for: importance sampling (its state in
+ * importance.bin), MCMC (state.bin), or under "auto" importance sampling
+ * and, if it did not converge (within a cap of its own under auto: see
+ * lt_method_importance), MCMC after it, whose summary then counts the
+ * evaluations of both. A resumed auto run finds each part where it was.
+ */
+static int run_sampler(lt_like *l, lt_job *j, const lt_like_spec *spec, const lt_sample_opts *o,
+                       const char *ckdir, int *started, lt_posterior *post, lt_error *err)
+{
+    int is_auto = !strcmp(j->sampler, "auto"), rc;
+    lt_run_mode mode = o->resume ? LT_RUN_RESUME : LT_RUN_FRESH;
+    if (!strcmp(j->sampler, "mcmc")) {
+        lt_run_opts ro = {ckdir, "state.bin", spec, mode, o->stop, o->hooks};
+        return lt_pipeline_run(lt_method_mcmc, l, j, &ro, started, post, err);
+    }
+    lt_run_opts ro = {ckdir, "importance.bin", spec, mode, o->stop, o->hooks};
+    if ((rc = lt_pipeline_run(lt_method_importance, l, j, &ro, started, post, err)))
+        return rc;
+    if (!is_auto || post->converged)
+        return LT_OK;
+    char text[320];
+    snprintf(text, sizeof text,
+             "importance sampling reached ESS %.0f with Pareto k %.2f in %zu draws (%zu "
+             "evaluations): sampling by MCMC instead",
+             post->ess_min_weighted, post->pareto_k, post->ndraws, post->evals);
+    pipeline_say(o->hooks, LT_NOTE_NEWS, text);
+    size_t before = post->evals;
+    lt_posterior_free(post);
+    lt_run_opts mo = {ckdir, "state.bin", NULL, o->resume ? LT_RUN_IF_PRESENT : LT_RUN_FRESH,
+                      o->stop, o->hooks};
+    rc = lt_pipeline_run(lt_method_mcmc, l, j, &mo, NULL, post, err);
+    if (!rc)
+        post->evals += before;
+    return rc;
+}
+
 int lt_pipeline_sample(lt_like *l, lt_job *j, const lt_like_spec *spec, const lt_sample_opts *o,
                        lt_posterior *post, cJSON **summary, int *stage, lt_error *err)
 {
@@ -97,12 +138,12 @@ int lt_pipeline_sample(lt_like *l, lt_job *j, const lt_like_spec *spec, const lt
         if ((rc = lt_outdir_mark(o->out, what, err)))
             goto done;
     }
-    lt_run_opts ro = {ckdir, "state.bin", spec, o->resume ? LT_RUN_RESUME : LT_RUN_FRESH, o->stop,
-                      o->hooks};
-    rc = lt_pipeline_run(lt_method_mcmc, l, j, &ro, &started, post, err);
+    rc = run_sampler(l, j, spec, o, ckdir, &started, post, err);
     *stage = started;
     if (rc)
         goto done;
+    lt_run_opts ro = {ckdir, "state.bin", spec, o->resume ? LT_RUN_RESUME : LT_RUN_FRESH, o->stop,
+                      o->hooks};
     warnings(l, j, post, o->hooks);
     if (o->evidence_label) {
         /* the evidence joins the summary, which is then written whole */

@@ -63,12 +63,17 @@ static void weighted_ess(lt_posterior *p, double *x, double *f)
     for (size_t i = 0; i < p->nparams; i++) {
         for (size_t j = 0; j < total; j++)
             x[j] = p->rows[j * p->ncols + p->first_param + i];
-        double e = lt_diag_ess_weighted(x, p->weights, p->nchains, p->ndraws);
+        /* independent draws (importance sampling): the plain IS estimator;
+         * chains: the one that sees their autocorrelation */
+        int iid = p->method == LT_POST_IMPORTANCE;
+        double e = iid ? lt_diag_ess_is(x, 1, p->weights, total)
+                       : lt_diag_ess_weighted(x, p->weights, p->nchains, p->ndraws);
         for (int t = 0; t < 2; t++) {
             double q = lt_post_quantile(x, p->weights, total, t ? 0.95 : 0.05);
             for (size_t j = 0; j < total; j++)
                 f[j] = isnan(x[j]) ? NAN : x[j] <= q;
-            e = fmin(e, lt_diag_ess_weighted(f, p->weights, p->nchains, p->ndraws));
+            e = fmin(e, iid ? lt_diag_ess_is(f, 1, p->weights, total)
+                            : lt_diag_ess_weighted(f, p->weights, p->nchains, p->ndraws));
         }
         p->ess_weighted[i] = e;
         p->ess_min_weighted = fmin(p->ess_min_weighted, e);
@@ -99,7 +104,7 @@ int lt_posterior_summarise(lt_posterior *p, const lt_prior *priors, lt_error *er
         lt_post_edge_density(x, p->weights, total, priors[i].a, priors[i].b, &p->edge_lo[i],
                              &p->edge_hi[i]);
     }
-    if (p->weights && p->method == LT_POST_MCMC)
+    if (p->weights && (p->method == LT_POST_MCMC || p->method == LT_POST_IMPORTANCE))
         weighted_ess(p, x, f);
     /* the deviance on the chi2 scale of AIC and BIC: the chi2 that enters
      * the likelihood, -2 ln L less its normalisation */

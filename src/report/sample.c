@@ -75,6 +75,26 @@ cJSON *lt_report_sample_json(const lt_like *l, const lt_posterior *r,
     const lt_mcmc_diag *dg = &r->diag;
     cJSON_AddBoolToObject(o, "weighted", r->weights != NULL);
     cJSON *cv = cJSON_AddObjectToObject(o, "convergence");
+    if (r->method == LT_POST_IMPORTANCE) {
+        /* independent weighted draws (DESIGN.md): no R-hat; ess_min the
+         * importance-sampling ESS of the means and 5%/95% quantiles */
+        cJSON_AddItemToObject(cv, "rhat_max", cJSON_CreateNull());
+        cJSON_AddItemToObject(cv, "ess_min", num(r->ess_min_weighted));
+        cJSON_AddStringToObject(cv, "ess_definition", LT_REPORT_ESS_IS_DEFINITION);
+        cJSON_AddItemToObject(cv, "kish_ess", num(r->kish_ess));
+        cJSON_AddItemToObject(cv, "pareto_k", num(r->pareto_k));
+        cJSON_AddItemToObject(cv, "chains", num(1.0));
+        cJSON_AddItemToObject(cv, "draws", num((double)r->ndraws));
+        cJSON_AddItemToObject(cv, "iterations", num((double)r->iterations));
+        cJSON_AddItemToObject(cv, "evaluations", num((double)r->evals));
+        cJSON_AddItemToObject(cv, "ess_per_evaluation",
+                              num(r->evals ? r->ess_min_weighted / (double)r->evals : NAN));
+        cJSON *pp = cJSON_AddObjectToObject(cv, "params");
+        for (size_t i = 0; i < d; i++) {
+            cJSON *p = cJSON_AddObjectToObject(pp, r->cols[r->first_param + i]);
+            cJSON_AddItemToObject(p, "ess_weighted", num(r->ess_weighted[i]));
+        }
+    } else {
     /* weighted draws (DESIGN.md): R-hat null, ess_min the weighted one; the
      * chains' own numbers stay beside them */
     cJSON_AddItemToObject(cv, "rhat_max", r->weights ? cJSON_CreateNull() : num(dg->rhat_max));
@@ -86,6 +106,11 @@ cJSON *lt_report_sample_json(const lt_like *l, const lt_posterior *r,
     }
     cJSON_AddItemToObject(cv, "chains", num((double)r->nchains));
     cJSON_AddItemToObject(cv, "draws", num((double)(r->nchains * r->ndraws)));
+    cJSON_AddItemToObject(cv, "evaluations", num((double)r->evals));
+    cJSON_AddItemToObject(cv, "ess_per_evaluation",
+                          num(r->evals ? (r->weights ? r->ess_min_weighted : dg->ess_min) /
+                                             (double)r->evals
+                                       : NAN));
     cJSON_AddItemToObject(cv, "draws_per_chain", num((double)r->ndraws));
     cJSON_AddItemToObject(cv, "thin", num((double)r->thin));
     cJSON_AddItemToObject(cv, "steps_per_chain", num((double)r->steps));
@@ -106,6 +131,7 @@ cJSON *lt_report_sample_json(const lt_like *l, const lt_posterior *r,
         if (r->weights)
             cJSON_AddItemToObject(p, "ess_weighted", num(r->ess_weighted[i]));
     }
+    }
     cJSON *cov = cJSON_AddObjectToObject(o, "covariance");
     cJSON *names = cJSON_AddArrayToObject(cov, "names");
     cJSON *mat = cJSON_AddArrayToObject(cov, "matrix"), *cor = cJSON_AddArrayToObject(cov, "correlation");
@@ -120,8 +146,12 @@ cJSON *lt_report_sample_json(const lt_like *l, const lt_posterior *r,
         cJSON_AddItemToArray(cor, crow);
     }
     cJSON *sm = cJSON_AddObjectToObject(o, "sampler");
-    cJSON_AddStringToObject(sm, "method", "adaptive Metropolis (Haario et al. 2001)");
+    cJSON_AddStringToObject(sm, "method",
+                            r->method == LT_POST_IMPORTANCE
+                                ? "adaptive importance sampling (Student-t mixture, recycled draws)"
+                                : "adaptive Metropolis (Haario et al. 2001)");
     cJSON_AddItemToObject(sm, "seed", num((double)seed));
+    int reweighted = r->weights && r->method == LT_POST_MCMC; /* by the exact likelihood */
     if (r->compression.checked_ok) {
         cJSON *cp = cJSON_AddObjectToObject(o, "compression");
         const size_t K = r->compression.knots;
@@ -135,8 +165,8 @@ cJSON *lt_report_sample_json(const lt_like *l, const lt_posterior *r,
         cJSON_AddBoolToObject(cp, "resampled", K != r->compression.knots_setup);
         if (K != r->compression.knots_setup)
             cJSON_AddItemToObject(cp, "max_abs_dchi2_first_draws", num(r->compression.first_dchi2));
-        cJSON_AddBoolToObject(cp, "importance_weights", r->weights != NULL);
-        if (r->weights) {
+        cJSON_AddBoolToObject(cp, "importance_weights", reweighted);
+        if (reweighted) {
             cJSON_AddItemToObject(cp, "weighted_draws", num((double)(r->nchains * r->ndraws)));
             cJSON_AddItemToObject(cp, "max_abs_dchi2_weighted_draws", num(r->max_abs_dchi2));
         }
@@ -148,7 +178,15 @@ cJSON *lt_report_sample_json(const lt_like *l, const lt_posterior *r,
         cJSON_AddItemToArray(w, cJSON_CreateString(text));
     }
     if (!r->converged)
-        cJSON_AddItemToArray(w, cJSON_CreateString("the chains did not converge within the step cap"));
+        cJSON_AddItemToArray(w, cJSON_CreateString(
+                                    r->method == LT_POST_IMPORTANCE
+                                        ? "importance sampling did not converge within its draw cap"
+                                        : "the chains did not converge within the step cap"));
+    if (r->method == LT_POST_IMPORTANCE && r->pareto_k > LT_PARETO_K_WARN) {
+        char text[256];
+        lt_report_pareto_warning(r, text, sizeof text);
+        cJSON_AddItemToArray(w, cJSON_CreateString(text));
+    }
     for (size_t i = 0; i < d; i++) {
         char note[256];
         if (lt_post_edge_note(r->cols[r->first_param + i], lt_like_prior(l, i), r->edge_lo[i],
@@ -182,7 +220,9 @@ void lt_report_sample_table(FILE *f, const lt_like *l, const lt_posterior *r,
             fprintf(f, "  derived\n");
         fprintf(f, "  %-10s %11.5g %10.4g %11.5g   [%9.5g, %9.5g]   [%9.5g, %9.5g]", r->cols[col],
                 st->mean, st->sd, best, st->lo68, st->hi68, st->lo95, st->hi95);
-        if (k < r->nparams)
+        if (k < r->nparams && r->method == LT_POST_IMPORTANCE)
+            fprintf(f, " %7s %7.0f", "-", r->ess_weighted[k]);
+        else if (k < r->nparams)
             fprintf(f, " %7.4f %7.0f", r->diag.rhat[k],
                     r->weights ? r->ess_weighted[k] : fmin(r->diag.ess_bulk[k], r->diag.ess_tail[k]));
         fputc('\n', f);
@@ -194,7 +234,12 @@ void lt_report_sample_table(FILE *f, const lt_like *l, const lt_posterior *r,
     lt_report_print_measurements(f, l, r->measured);
     fprintf(f, "\n  chi2_min %.4f for %ld degrees of freedom (the best draw, polished)\n",
             r->at_best.chi2, lt_like_dof(l));
-    if (r->weights)
+    if (r->method == LT_POST_IMPORTANCE)
+        fprintf(f, "  %zu weighted draws of adaptive importance sampling (%zu iterations, %zu "
+                   "likelihood evaluations); smallest ESS %.0f, Pareto k %.2f%s\n",
+                r->ndraws, r->iterations, r->evals, r->ess_min_weighted, r->pareto_k,
+                r->converged ? "" : "; NOT CONVERGED");
+    else if (r->weights)
         fprintf(f, "  %zu chains x %zu draws after %zu warm-up steps, worst R-hat %.4f; weighted by the "
                    "exact likelihood: %zu chains x %zu draws (one in %zu), smallest weighted ESS %.0f%s\n",
                 r->nchains, r->steps, r->warmup, r->diag.rhat_max, r->nchains, r->ndraws, r->thin,
@@ -205,9 +250,18 @@ void lt_report_sample_table(FILE *f, const lt_like *l, const lt_posterior *r,
                 r->converged ? "" : "; NOT CONVERGED");
 }
 
+void lt_report_pareto_warning(const lt_posterior *r, char *buf, size_t size)
+{
+    snprintf(buf, size,
+             "the importance weights' Pareto k is %.2f (above %.1f): their tail is heavy enough "
+             "that the estimates may be off by more than their errors say (Vehtari et al., "
+             "arXiv:1507.02646); try --sampler mcmc",
+             r->pareto_k, LT_PARETO_K_WARN);
+}
+
 void lt_report_compression_warning(const lt_posterior *r, char *buf, size_t size)
 {
-    if (!r->weights) {
+    if (!r->weights || r->method != LT_POST_MCMC) {
         snprintf(buf, size,
                  "the compressed likelihood differs from the exact one by %.2g in chi2 on the "
                  "posterior draws (more than %g; compression.max_abs_dchi2_posterior) and more "
