@@ -17,6 +17,7 @@
 # practice, e.g. Vehtari et al. 2021 sec. 4.3, from memory), never below
 # 0.1 sd. (The quantiles' errors are larger than the mean's: 4/sqrt(ESS)
 # alone would fail a correct sampler's 2.5% quantile about one time in ten.)
+# chi2_min must match the reference's scipy minimum to 1e-3.
 # Nothing here depends on the sampler's chain or draw counts, only on its
 # reported ESS. LANTERN_W0WA_ARGS (extra options, split at spaces, e.g.
 # "--prior wa=uniform:-2.5:2") is for checking that the test fails when
@@ -60,6 +61,15 @@ for name in ("omega_m", "w0", "wa"):
         print(f"  {name:8s} {k:7s} {g[k]:9.4f} {want:10.4f} {d:+8.3f} {tol:8.3f}{flag}")
         if abs(d) > tol:
             bad.append(f"{name} {k}")
+# chi2_min: the reference minimises the same chi2 (A - B^2/C) inside the
+# prior with scipy; 1e-3 is the accuracy lantern's compressed likelihood
+# promises (its summary's compression.bound), far below any sampling noise.
+d = got["chi2_min"] - ref["chi2_min"]
+print(f"  chi2_min         {got['chi2_min']:9.4f} {ref['chi2_min']:10.4f} {d:+8.1e} (absolute; tol 1e-3)")
+if abs(d) > 1e-3:
+    bad.append("chi2_min")
+if got["n_data"] != ref["n_data"]:
+    bad.append(f"n_data {got['n_data']} (SOURCE.md: {ref['n_data']} rows)")
 sys.exit(f"  outside the tolerance: {', '.join(bad)}" if bad else 0)
 PY
 then pass "$NAME"; else fail "$NAME"; fi
