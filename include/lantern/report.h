@@ -43,11 +43,27 @@ struct cJSON *lt_report_sample_json(const lt_like *l, const lt_posterior *r,
 void lt_report_compression_warning(const lt_posterior *r, char *buf, size_t size);
 void lt_report_sample_table(FILE *f, const lt_like *l, const lt_posterior *r,
                             const lt_survey_spec *data);
-/* chains.csv and chains.fits: one row per draw (chain, step, then the
- * columns); FITS header keywords name the model, data, seed, version and
- * convergence. Both written atomically. */
+/* What lt_report_write_chains is asked besides the posterior (NULL: the
+ * defaults, every draw and no progress). */
+typedef struct lt_chains_opts {
+    size_t thin; /* keep every thin-th row of each chain (the first, thin + 1-th, ...):
+                  * ceil(ndraws / thin) rows a chain; 0 or 1: every row */
+    /* rows of file ("chains.csv", then "chains.fits") written so far, of
+     * total, at about every tenth and at the end; NULL: none */
+    void (*progress)(const char *file, size_t rows, size_t total, void *ctx);
+    void *ctx;
+} lt_chains_opts;
+/* chains.csv and chains.fits: one row per kept draw: chain, step (the
+ * draw's place in its chain as sampled, 1-based), weight (only when the
+ * draws are weighted: r->weights), then r's columns. Numbers in the CSV
+ * are lt_format_shortest's (each reads back as exactly the double); the
+ * FITS table (extension CHAINS) has 32-bit integer chain and step columns
+ * and 64-bit float columns, and header keywords naming the model, data,
+ * seed, version, chains, thinning (FILETHIN), weights and convergence.
+ * Both written atomically. */
 int lt_report_write_chains(const char *dir, const lt_like *l, const lt_posterior *r,
-                           const lt_survey_spec *data, unsigned long seed, lt_error *err);
+                           const lt_survey_spec *data, unsigned long seed,
+                           const lt_chains_opts *o, lt_error *err);
 
 /* ---- timing (lantern bench; lt_pipeline_bench fills it) ---- */
 

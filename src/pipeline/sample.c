@@ -70,7 +70,7 @@ static int write(const char *out, const lt_like *l, const lt_job *j, const lt_po
     snprintf(what, sizeof what, "lantern %s sample", LT_VERSION);
     int rc = !path ? LT_ENOMEM
                    : lt_report_write_json(path, json, err) ||
-                             lt_report_write_chains(out, l, r, &j->data, j->seed, err) ||
+                             lt_report_write_chains(out, l, r, &j->data, j->seed, NULL, err) ||
                              lt_outdir_finish(out, what, err)
                          ? err->code
                          : LT_OK;

@@ -109,7 +109,7 @@ int main(int argc, char **argv)
     for (int weighted = 0; weighted < 2 && !bad; weighted++) {
         p.weights = weighted ? w : NULL;
         double t0 = now();
-        int rc = lt_report_write_chains(dir, l, &p, &spec, 1, &err);
+        int rc = lt_report_write_chains(dir, l, &p, &spec, 1, NULL, &err);
         double t1 = now();
         if (rc) {
             fprintf(stderr, "bench: %s\n", err.msg);
