@@ -250,6 +250,9 @@ static size_t source_row(const chain_rows *k, size_t j)
     return (j / k->per_chain) * k->r->ndraws + (j % k->per_chain) * k->thin;
 }
 
+/* A tenth of the rows: how often the caller hears of them. */
+static size_t tenth(const chain_rows *k) { return k->total / 10 ? k->total / 10 : 1; }
+
 /* Tell the caller about rows done of file, at every tenth of them and at
  * the end (a few calls a second at most for files that take a while). */
 static void progress(const chain_rows *k, const char *file, size_t done, size_t *next)
@@ -257,7 +260,7 @@ static void progress(const chain_rows *k, const char *file, size_t done, size_t 
     if (!k->o || !k->o->progress || (done < *next && done < k->total))
         return;
     k->o->progress(file, done, k->total, k->o->ctx);
-    *next = done + (k->total / 10 ? k->total / 10 : 1);
+    *next = done + tenth(k);
 }
 
 /* n as decimal digits at o; returns the end. */
@@ -297,7 +300,7 @@ static int csv_write(const char *path, const chain_rows *k, lt_error *err)
         free(tmp);
         return lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
     }
-    size_t next = 0;
+    size_t next = tenth(k);
     for (size_t j = 0; j < k->total; j++) {
         size_t src = source_row(k, j), c = src / r->ndraws, i = src % r->ndraws;
         char *o = buf + len;
@@ -377,7 +380,7 @@ static int fits_write(const char *path, const lt_like *l, const chain_rows *k,
                                    : "smallest ESS (bulk and tail)", &status);
     int weighted = r->weights != NULL;
     fits_update_key(f, TLOGICAL, "WEIGHTED", &weighted, "draws carry importance weights", &status);
-    size_t next = 0;
+    size_t next = tenth(k);
     for (size_t j0 = 0; j0 < total && !status; j0 += block) {
         size_t n = total - j0 < block ? total - j0 : block;
         LONGLONG first = (LONGLONG)j0 + 1;
