@@ -62,11 +62,11 @@ static char *next_field(char **p)
 }
 
 /* Check the chain file's column names (n of them; the CSV's line 1, the
- * FITS table's TTYPEn) against the summary's: chain, step, an optional
+ * FITS table's TTYPEn, line 0) against the summary's: chain, step, an optional
  * weight, logpost, chi2, then m's columns in order. A column read by
  * position from another layout would be silently wrong. */
-static int header_check(const char *path, char *const *names, size_t n, const lt_run_model *m,
-                        int *weighted, lt_error *err)
+static int header_check(const char *path, long line, char *const *names, size_t n,
+                        const lt_run_model *m, int *weighted, lt_error *err)
 {
     static const char *fixed[] = {"chain", "step", "logpost", "chi2"};
     size_t nc = m->nparams + m->nderived, k = 0;
@@ -78,20 +78,20 @@ static int header_check(const char *path, char *const *names, size_t n, const lt
             continue;
         }
         if (k >= 4 + nc)
-            return lt_error_set(err, LT_EINPUT, path, 1,
+            return lt_error_set(err, LT_EINPUT, path, line,
                                 "column '%s' is more than the summary's %zu parameters and "
                                 "derived quantities",
                                 f, nc);
         const char *want = k < 4 ? fixed[k] : m->names[k - 4];
         if (strcmp(f, want))
-            return lt_error_set(err, LT_EINPUT, path, 1,
+            return lt_error_set(err, LT_EINPUT, path, line,
                                 "column %zu is '%s' where '%s' was expected (chain,step"
                                 "[,weight],logpost,chi2, then the summary's columns in order)",
                                 k + 1 + (size_t)*weighted, f, want);
         k++;
     }
     if (k < 4 + nc)
-        return lt_error_set(err, LT_EINPUT, path, 1,
+        return lt_error_set(err, LT_EINPUT, path, line,
                             "the header ends after %zu columns where '%s' was expected",
                             k + (size_t)*weighted, k < 4 ? fixed[k] : m->names[k - 4]);
     return LT_OK;
@@ -148,7 +148,7 @@ static int chains_parse(const char *path, char *text, lt_run_model *m, lt_error 
     for (size_t i = 0; i < nfields; i++)
         names[i] = next_field(&p);
     int weighted;
-    int rc = header_check(path, names, nfields, m, &weighted, err);
+    int rc = header_check(path, 1, names, nfields, m, &weighted, err);
     free(names);
     if (rc || (rc = alloc_draws(path, m, lines, weighted, err)))
         return rc;
@@ -223,7 +223,7 @@ static int fits_parse(const char *path, lt_run_model *m, lt_error *err)
         names[i] = text[i];
     }
     int weighted;
-    if ((rc = header_check(path, names, n, m, &weighted, err)))
+    if ((rc = header_check(path, 0, names, n, m, &weighted, err)))
         goto done;
     /* each column one number a row; all but chain and step 64-bit floats,
      * so that they read back bit for bit */
