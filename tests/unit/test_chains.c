@@ -10,7 +10,9 @@
  * section 5.12.2 require), and its length is compared with the shortest
  * of glibc's printf "%.*e" at 1 to 17 significant digits that reads back.
  * The FITS columns are read back independently with CFITSIO's
- * fits_read_col and fits_read_key.
+ * fits_read_col and fits_read_key. With LANTERN_TEST_CHAINS_KEEP=DIR set,
+ * the files of each case are also kept in DIR/CASE for test_chains.sh to
+ * read with astropy.
  */
 #include <setjmp.h>
 #include <stdarg.h>
@@ -312,6 +314,16 @@ static void round_trip(int weighted, size_t post_thin, size_t file_thin, const c
     assert_true(pl.calls[1] >= 1 && pl.calls[1] <= 12); /* by blocks of 1365 rows */
     check_fits(folder, &p, file_thin);
     check_load(folder, &p, file_thin); /* from chains.fits */
+    /* for tests/e2e/test_chains.sh, which reads these files with astropy:
+     * the same files in $LANTERN_TEST_CHAINS_KEEP/SUB, kept */
+    const char *keep = getenv("LANTERN_TEST_CHAINS_KEEP");
+    if (keep) {
+        char kept[400];
+        snprintf(kept, sizeof kept, "%s/%s", keep, sub);
+        assert_int_equal(mkdir(kept, 0700), 0);
+        write_summary(kept, "w0");
+        assert_int_equal(lt_report_write_chains(kept, l, &p, &spec, 3, &o, &err), LT_OK);
+    }
     /* the CSV's steps: chain 1's second kept row */
     char path[500], *text;
     size_t len;
