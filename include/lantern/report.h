@@ -135,7 +135,7 @@ int lt_report_write_nested(const char *dir, const lt_model_result *m, lt_error *
 
 /* ---- runs of several models (lantern run, lantern report) ---- */
 
-/* One sampled model as saved in its folder (summary.json, chains.csv). */
+/* One sampled model as saved in its folder (summary.json, chains.fits or chains.csv). */
 typedef struct lt_run_model {
     char *name;                 /* the model, "lcdm-flat" */
     char *label;                /* how tables and legends name it */
@@ -147,7 +147,7 @@ typedef struct lt_run_model {
     lt_post_stats *stats;       /* nparams + nderived */
     size_t nchains, ndraws;     /* draws per chain */
     double *draws;              /* nchains * ndraws rows of nparams + nderived */
-    double *weights;            /* one per row of draws (chains.csv's "weight" column:
+    double *weights;            /* one per row of draws (the chain file's "weight" column:
                                  * importance weights, mean 1, >= 0), NULL when the draws
                                  * are unweighted; everything that turns draws into a
                                  * quantile, density or contour uses them */
@@ -166,11 +166,14 @@ typedef struct lt_run_model {
 } lt_run_model;
 
 /*
- * Read dir/summary.json and dir/chains.csv. The csv's header must be
+ * Read dir/summary.json and the chains: dir/chains.fits (its CHAINS table)
+ * when there is one, else dir/chains.csv. The columns must be
  * chain,step[,weight],logpost,chi2 and then the summary's parameters and
- * derived quantities in its order; another header, a row with another
+ * derived quantities in its order (in the FITS table, one number a row,
+ * 64-bit floats but chain and step); another header, a row with another
  * number of fields, or a weight that is negative or not finite is an input
- * error naming the file and line.
+ * error naming the file and line (in chains.fits, the column or row in the
+ * message, line 0).
  */
 int lt_run_model_load(const char *dir, lt_run_model *m, lt_error *err);
 void lt_run_model_free(lt_run_model *m);
