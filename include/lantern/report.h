@@ -146,6 +146,9 @@ typedef struct lt_run_model {
     double *best;               /* nparams + nderived */
     lt_post_stats *stats;       /* nparams + nderived */
     size_t nchains, ndraws;     /* draws per chain */
+    size_t step_every;          /* sampler steps between a chain's rows (the step column:
+                                 * --thin times the importance weighting's thinning; 1 when
+                                 * every step is kept) */
     double *draws;              /* nchains * ndraws rows of nparams + nderived */
     double *weights;            /* one per row of draws (the chain file's "weight" column:
                                  * importance weights, mean 1, >= 0), NULL when the draws

@@ -119,6 +119,13 @@ static void count_row(long chain, long *last_chain, size_t *per_chain)
     (*per_chain)++;
 }
 
+/* The steps between a chain's rows, from the first two rows' chains and
+ * steps (1 where the first chain has one row, or the steps say nothing). */
+static size_t step_every(long chain0, long step0, long chain1, long step1)
+{
+    return chain0 == chain1 && step1 > step0 ? (size_t)(step1 - step0) : 1;
+}
+
 static int ends_check(const char *path, lt_run_model *m, size_t rows, size_t per_chain,
                       lt_error *err)
 {
@@ -153,7 +160,7 @@ static int chains_parse(const char *path, char *text, lt_run_model *m, lt_error 
     if (rc || (rc = alloc_draws(path, m, lines, weighted, err)))
         return rc;
     size_t rows = 0, per_chain = 0;
-    long last_chain = 0, lineno = 1;
+    long last_chain = 0, lineno = 1, first[2][2] = {{0, 0}, {0, 0}};
     while (eol) {
         line = eol + 1, lineno++;
         if ((eol = strchr(line, '\n')))
@@ -172,7 +179,10 @@ static int chains_parse(const char *path, char *text, lt_run_model *m, lt_error 
         long chain = strtol(cf, &end, 10);
         if (end == cf || *end)
             return lt_error_set(err, LT_EINPUT, path, lineno, "the chain is not a whole number");
-        next_field(&p); /* step: thinned draws may skip steps */
+        /* step: thinned draws skip steps; the first two rows say how many */
+        long step = strtol(next_field(&p), NULL, 10);
+        if (rows < 2)
+            first[rows][0] = chain, first[rows][1] = step;
         if (weighted) {
             f = next_field(&p);
             double w = strtod(f, &end);
@@ -189,6 +199,7 @@ static int chains_parse(const char *path, char *text, lt_run_model *m, lt_error 
         count_row(chain, &last_chain, &per_chain);
         rows++;
     }
+    m->step_every = step_every(first[0][0], first[0][1], first[1][0], first[1][1]);
     return ends_check(path, m, rows, per_chain, err);
 }
 
@@ -259,6 +270,13 @@ static int fits_parse(const char *path, lt_run_model *m, lt_error *err)
         LONGLONG first = (LONGLONG)r0 + 1;
         if (fits_read_col(f, TLONG, 1, first, 1, (LONGLONG)b, NULL, chain, NULL, &status))
             goto fitserr;
+        if (r0 == 0) {
+            /* the steps of the first two rows: how many a row stands for */
+            long step[2] = {0, 0};
+            if (fits_read_col(f, TLONG, 2, 1, 1, b < 2 ? 1 : 2, NULL, step, NULL, &status))
+                goto fitserr;
+            m->step_every = step_every(chain[0], step[0], b < 2 ? 0 : chain[1], step[1]);
+        }
         if (weighted) {
             if (fits_read_col(f, TDOUBLE, 3, first, 1, (LONGLONG)b, NULL, m->weights + r0,
                               NULL, &status))

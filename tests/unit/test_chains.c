@@ -229,6 +229,9 @@ static void check_load(const char *folder, const lt_posterior *p, size_t file_th
     size_t per = (NDRAW + file_thin - 1) / file_thin, nc = NCOL - 2;
     assert_int_equal(m.nchains, NCHAIN);
     assert_int_equal(m.ndraws, per);
+    /* a row stands for file_thin x the posterior's own thinning steps (the
+     * traces place it there) */
+    assert_int_equal(m.step_every, file_thin * p->thin);
     assert_int_equal(m.weighted, p->weights != NULL);
     assert_int_equal(m.weights != NULL, p->weights != NULL);
     for (size_t c = 0; c < NCHAIN; c++)
