@@ -20,7 +20,8 @@
  *   [measurements] NAME = MEAN:SD[, MEAN:SD...]
  *   [fit]          starts, seed
  *   [sampler]      method, seed, chains, threads, warmup, check_every,
- *                  max_steps, target_ess
+ *                  max_steps, target_ess, thin (the chain files keep every
+ *                  thin-th draw)
  *   [nested]       live_points
  *   [output]       dir, format
  * Unknown sections and keys, over-long lines and bad values are errors
@@ -78,6 +79,8 @@ typedef struct lt_job {
     unsigned long seed;
     long starts;
     long chains, threads, warmup, check_every, max_steps;
+    long thin;           /* [sampler] thin: the chain files keep every thin-th draw of
+                          * each chain (summaries use every draw) */
     double target_ess;
     const char *sampler; /* [sampler] method: "auto" (the default), "importance", "mcmc" */
     long live_points;
@@ -87,8 +90,8 @@ typedef struct lt_job {
 } lt_job;
 
 /* The defaults: seed 1, 8 starts, 4 chains, warm-up 0 (max(2000, 1000 d)),
- * checks every 1000 steps, 200000 steps at most, target ESS 1000, 1000 live
- * points, format "table". */
+ * checks every 1000 steps, 200000 steps at most, target ESS 1000, thin 1,
+ * 1000 live points, format "table". */
 void lt_job_init(lt_job *j);
 void lt_job_free(lt_job *j);
 
@@ -202,7 +205,7 @@ typedef enum {
 } lt_note_kind;
 
 /* What a long method tells its caller as it goes (the command line prints
- * it; nothing here does). Either hook may be NULL; a note may come from
+ * it; nothing here does). Any hook may be NULL; a note may come from
  * any thread, whole. */
 typedef struct lt_pipeline_hooks {
     /* after every convergence check of the chains (and its checkpoint) */
@@ -210,6 +213,9 @@ typedef struct lt_pipeline_hooks {
     /* a line to say, without a newline */
     void (*note)(lt_note_kind kind, const char *text, void *ctx);
     void *ctx;
+    /* rows of a chain file ("chains.csv", then "chains.fits") written so
+     * far, of total: about every tenth and at the end (lt_chains_opts) */
+    void (*writing)(const char *file, size_t rows, size_t total, void *ctx);
 } lt_pipeline_hooks;
 
 /*
@@ -366,7 +372,9 @@ typedef struct lt_sample_opts {
  * lt_method_mcmc into o->out: the folder taken (j->force to replace an
  * earlier lantern output) and marked while running, the warnings said
  * (importance weights, prior edges, no convergence), the evidence added
- * where asked, summary.json and the chain files written, the folder marked
+ * where asked, summary.json and the chain files written (every j->thin-th
+ * draw of each chain, told to hooks->writing; the summary's
+ * convergence.file_thin and file_draws_per_chain say so), the folder marked
  * done. post and *summary (the JSON written; the caller deletes it) are
  * filled on LT_OK; free post in every case. *stage says how far a stop or
  * failure came: 0 before sampling began (the best fit), 1 sampling, 2 the

@@ -43,9 +43,6 @@ struct cJSON *lt_report_sample_json(const lt_like *l, const lt_posterior *r,
 void lt_report_compression_warning(const lt_posterior *r, char *buf, size_t size);
 void lt_report_sample_table(FILE *f, const lt_like *l, const lt_posterior *r,
                             const lt_survey_spec *data);
-/* chains.csv and chains.fits: one row per draw (chain, step, then the
- * columns); FITS header keywords name the model, data, seed, version and
- * convergence. Both written atomically. */
 /* What convergence.ess_definition says of importance-sampling draws. */
 #define LT_REPORT_ESS_IS_DEFINITION                                                          \
     "smallest over the parameters of the importance-sampling ESS of the weighted mean and of " \
@@ -57,8 +54,27 @@ void lt_report_sample_table(FILE *f, const lt_like *l, const lt_posterior *r,
 /* The warning for a posterior r of importance sampling whose Pareto k is
  * above LT_PARETO_K_WARN. */
 void lt_report_pareto_warning(const lt_posterior *r, char *buf, size_t size);
+/* What lt_report_write_chains is asked besides the posterior (NULL: the
+ * defaults, every draw and no progress). */
+typedef struct lt_chains_opts {
+    size_t thin; /* keep every thin-th row of each chain (the first, thin + 1-th, ...):
+                  * ceil(ndraws / thin) rows a chain; 0 or 1: every row */
+    /* rows of file ("chains.csv", then "chains.fits") written so far, of
+     * total, at about every tenth and at the end; NULL: none */
+    void (*progress)(const char *file, size_t rows, size_t total, void *ctx);
+    void *ctx;
+} lt_chains_opts;
+/* chains.csv and chains.fits: one row per kept draw: chain, step (the
+ * draw's place in its chain as sampled, 1-based), weight (only when the
+ * draws are weighted: r->weights), then r's columns. Numbers in the CSV
+ * are lt_format_shortest's (each reads back as exactly the double); the
+ * FITS table (extension CHAINS) has 32-bit integer chain and step columns
+ * and 64-bit float columns, and header keywords naming the model, data,
+ * seed, version, chains, thinning (FILETHIN), weights and convergence.
+ * Both written atomically. */
 int lt_report_write_chains(const char *dir, const lt_like *l, const lt_posterior *r,
-                           const lt_survey_spec *data, unsigned long seed, lt_error *err);
+                           const lt_survey_spec *data, unsigned long seed,
+                           const lt_chains_opts *o, lt_error *err);
 
 /* ---- timing (lantern bench; lt_pipeline_bench fills it) ---- */
 
@@ -130,7 +146,7 @@ int lt_report_write_nested(const char *dir, const lt_model_result *m, lt_error *
 
 /* ---- runs of several models (lantern run, lantern report) ---- */
 
-/* One sampled model as saved in its folder (summary.json, chains.csv). */
+/* One sampled model as saved in its folder (summary.json, chains.fits or chains.csv). */
 typedef struct lt_run_model {
     char *name;                 /* the model, "lcdm-flat" */
     char *label;                /* how tables and legends name it */
@@ -141,8 +157,11 @@ typedef struct lt_run_model {
     double *best;               /* nparams + nderived */
     lt_post_stats *stats;       /* nparams + nderived */
     size_t nchains, ndraws;     /* draws per chain */
+    size_t step_every;          /* sampler steps between a chain's rows (the step column:
+                                 * --thin times the importance weighting's thinning; 1 when
+                                 * every step is kept) */
     double *draws;              /* nchains * ndraws rows of nparams + nderived */
-    double *weights;            /* one per row of draws (chains.csv's "weight" column:
+    double *weights;            /* one per row of draws (the chain file's "weight" column:
                                  * importance weights, mean 1, >= 0), NULL when the draws
                                  * are unweighted; everything that turns draws into a
                                  * quantile, density or contour uses them */
@@ -161,11 +180,14 @@ typedef struct lt_run_model {
 } lt_run_model;
 
 /*
- * Read dir/summary.json and dir/chains.csv. The csv's header must be
+ * Read dir/summary.json and the chains: dir/chains.fits (its CHAINS table)
+ * when there is one, else dir/chains.csv. The columns must be
  * chain,step[,weight],logpost,chi2 and then the summary's parameters and
- * derived quantities in its order; another header, a row with another
+ * derived quantities in its order (in the FITS table, one number a row,
+ * 64-bit floats but chain and step); another header, a row with another
  * number of fields, or a weight that is negative or not finite is an input
- * error naming the file and line.
+ * error naming the file and line (in chains.fits, the column or row in the
+ * message, line 0).
  */
 int lt_run_model_load(const char *dir, lt_run_model *m, lt_error *err);
 void lt_run_model_free(lt_run_model *m);

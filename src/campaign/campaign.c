@@ -183,7 +183,7 @@ int lt_campaign_read(const char *path, lt_campaign *c, lt_error *err)
     /* a task runs with the campaign's --threads, and its seed comes from
      * [campaign] seed: run-file keys that would say otherwise are refused */
     static const char *const not_here[][2] = {{"sampler", "threads"}, {"sampler", "seed"},
-                                              {"fit", "seed"}};
+                                              {"fit", "seed"}, {"sampler", "thin"}};
     for (size_t k = 0; k < sizeof not_here / sizeof not_here[0]; k++)
         for (size_t i = 0; i < ini->n; i++)
             if (!strcmp(ini->entries[i].section, not_here[k][0]) &&
@@ -191,8 +191,9 @@ int lt_campaign_read(const char *path, lt_campaign *c, lt_error *err)
                 rc = lt_error_set(err, LT_EINPUT, ini->path, ini->entries[i].line,
                                   "[%s] %s has no place in a campaign (%s)", not_here[k][0],
                                   not_here[k][1],
-                                  k == 0 ? "give lantern campaign --threads"
-                                         : "[campaign] seed seeds every task");
+                                  k == 0   ? "give lantern campaign --threads"
+                                  : k == 3 ? "a campaign writes no chain files"
+                                           : "[campaign] seed seeds every task");
                 goto done;
             }
     if ((rc = read_models(ini, c, err)) || (rc = read_methods(ini, c, err)) ||

@@ -79,14 +79,17 @@ void cli_print_json(struct cJSON *o, int take);
  * stderr: progress lines unless quiet, news and warnings always. */
 void cli_note(lt_note_kind kind, const char *text, void *quiet);
 /* The progress display of a sampling job (progress.c): hooks for the
- * pipeline that print a line per convergence check (in place on a
+ * pipeline that print a line per convergence check and, for chain files of
+ * more than CLI_WRITING_MIN_ROWS rows, while writing them (in place on a
  * terminal; none with --quiet, every one with --verbose) and its notes;
  * cli_progress_end ends a pending line. */
+#define CLI_WRITING_MIN_ROWS 100000
 typedef struct cli_progress {
     struct timespec start;
     int tty, quiet, verbose;
     double target;
     int printed;
+    const char *writing; /* the chain file whose line is pending, or NULL (a check's) */
 } cli_progress;
 lt_pipeline_hooks cli_progress_start(cli_progress *pr, const lt_job *j);
 void cli_progress_end(cli_progress *pr);

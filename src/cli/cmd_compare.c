@@ -64,7 +64,7 @@ int cli_compare(int argc, char **argv)
         }
         j.out = resume;
     }
-    lt_pipeline_hooks hooks = {NULL, cli_note, &j.quiet};
+    lt_pipeline_hooks hooks = {.note = cli_note, .ctx = &j.quiet};
     int rc = lt_pipeline_compare_job(&j, resume != NULL, cli_catch_signals(), &hooks, c, &err);
     if (rc == LT_EINTR && j.out) {
         fprintf(stderr,

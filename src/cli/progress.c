@@ -1,10 +1,12 @@
 /*
  * The progress display of long jobs on stderr: a line per convergence
- * check (rewritten in place on a terminal, one after another with
- * --verbose), and the pipeline's notes, which end a pending line first.
+ * check and, for large chain files, while writing them (rewritten in place
+ * on a terminal, one after another with --verbose), and the pipeline's
+ * notes, which end a pending line first.
  */
 #include <math.h>
 #include <stdio.h>
+#include <string.h>
 #include <time.h>
 #include <unistd.h>
 
@@ -30,7 +32,10 @@ static void on_check(const lt_progress *d, void *p)
     if (isfinite(left) && !d->converged)
         snprintf(eta, sizeof eta, ", about %.0f s left", left);
     int inplace = pr->tty && !pr->verbose;
-    if (d->weighted)
+    if (inplace && pr->printed && pr->writing)
+        fputc('\n', stderr);
+    pr->writing = NULL;
+   if (d->weighted)
         fprintf(stderr,
                 "%simportance sampling: %zu draws, smallest ESS %.0f, Pareto k %.2f, %.1f s%s%s",
                 inplace ? "\r" : "", d->draws_per_chain, d->ess_min, d->pareto_k, t, eta,
@@ -43,6 +48,22 @@ static void on_check(const lt_progress *d, void *p)
     pr->printed = 1;
 }
 
+/* Rows of a chain file written: worth a line only for large files (a
+ * second or more on a slow disk); each file its own line. */
+static void on_writing(const char *file, size_t rows, size_t total, void *p)
+{
+    cli_progress *pr = p;
+    if (pr->quiet || (!pr->tty && !pr->verbose) || total <= CLI_WRITING_MIN_ROWS)
+        return;
+    int inplace = pr->tty && !pr->verbose;
+    if (inplace && pr->printed && (!pr->writing || strcmp(pr->writing, file)))
+        fputc('\n', stderr);
+    pr->writing = file;
+    fprintf(stderr, "%swriting %s: %zu of %zu rows (%.0f%%)%s", inplace ? "\r" : "", file, rows,
+            total, 100.0 * (double)rows / (double)total, inplace ? "   " : "\n");
+    pr->printed = 1;
+}
+
 /* A line from the pipeline: a refinement of the compression restarts the
  * sampling, so the progress clock restarts too. */
 static void on_note(lt_note_kind kind, const char *text, void *p)
@@ -52,7 +73,7 @@ static void on_note(lt_note_kind kind, const char *text, void *p)
         return;
     if (pr->printed && pr->tty && !pr->verbose)
         fputc('\n', stderr);
-    pr->printed = 0;
+    pr->printed = 0, pr->writing = NULL;
     fprintf(stderr, "%s%s\n",
             kind == LT_NOTE_PROGRESS ? ""
             : kind == LT_NOTE_NEWS   ? "lantern: "
@@ -63,14 +84,14 @@ static void on_note(lt_note_kind kind, const char *text, void *p)
 
 lt_pipeline_hooks cli_progress_start(cli_progress *pr, const lt_job *j)
 {
-    *pr = (cli_progress){{0, 0}, isatty(2), j->quiet, j->verbose, j->target_ess, 0};
+    *pr = (cli_progress){{0, 0}, isatty(2), j->quiet, j->verbose, j->target_ess, 0, NULL};
     clock_gettime(CLOCK_MONOTONIC, &pr->start);
-    return (lt_pipeline_hooks){on_check, on_note, pr};
+    return (lt_pipeline_hooks){on_check, on_note, pr, on_writing};
 }
 
 void cli_progress_end(cli_progress *pr)
 {
     if (pr->printed && pr->tty && !pr->verbose)
         fputc('\n', stderr);
-    pr->printed = 0;
+    pr->printed = 0, pr->writing = NULL;
 }

@@ -31,6 +31,7 @@ void lt_job_init(lt_job *j)
     j->check_every = 1000;
     j->max_steps = 200000;
     j->target_ess = 1000;
+    j->thin = 1;
     j->live_points = 1000;
     j->sampler = "mcmc"; /* auto becomes the default once every model converges under it */
 }
@@ -136,6 +137,7 @@ static const rule rules[] = {
     {LT_JOB_SAMPLER, "sampler", "max_steps", "--max-steps", K_LONG, 10, 1000000000,
      AT(max_steps)},
     {LT_JOB_SAMPLER, "sampler", "target_ess", "--target-ess", K_ESS, 0, 0, AT(target_ess)},
+    {LT_JOB_SAMPLER, "sampler", "thin", "--thin", K_LONG, 1, 1000000000, AT(thin)},
     {LT_JOB_NESTED, "nested", "live_points", "--live-points", K_LONG, 20, 100000,
      AT(live_points)},
     {LT_JOB_OUTPUT, "output", "dir", "--out", K_PATH, 0, 0, AT(out)},
@@ -832,8 +834,9 @@ int lt_job_write(const lt_job *j, const lt_like_spec *spec, const char *path, lt
     add(&b, "[fit]\nstarts = %ld\n", j->starts);
     add(&b,
         "[sampler]\nmethod = %s\nseed = %lu\nchains = %ld\nthreads = %ld\nwarmup = %ld\n"
-        "check_every = %ld\nmax_steps = %ld\n",
-        j->sampler, j->seed, j->chains, j->threads, j->warmup, j->check_every, j->max_steps);
+        "check_every = %ld\nmax_steps = %ld\nthin = %ld\n",
+        j->sampler, j->seed, j->chains, j->threads, j->warmup, j->check_every, j->max_steps,
+        j->thin);
     lt_format_double(j->target_ess, x, sizeof x);
     add(&b, "target_ess = %s\n[nested]\nlive_points = %ld\n", x, j->live_points);
     int rc = b.failed ? lt_error_set(err, LT_ENOMEM, path, 0, "out of memory")

@@ -11,6 +11,7 @@
 #include <cjson/cJSON.h>
 
 #include "lantern/file.h"
+#include "lantern/json.h"
 #include "lantern/outdir.h"
 #include "lantern/pipeline.h"
 #include "internal.h"
@@ -68,13 +69,14 @@ static void unconverged(const lt_job *j, const lt_posterior *r, const lt_pipelin
 
 /* The summary and the chains into out, and the folder marked done. */
 static int write(const char *out, const lt_like *l, const lt_job *j, const lt_posterior *r,
-                 const cJSON *json, lt_error *err)
+                 const cJSON *json, const lt_pipeline_hooks *h, lt_error *err)
 {
     char *path = lt_path_join(out, "summary.json", err), what[128];
     snprintf(what, sizeof what, "lantern %s sample", LT_VERSION);
+    lt_chains_opts co = {(size_t)j->thin, h ? h->writing : NULL, h ? h->ctx : NULL};
     int rc = !path ? LT_ENOMEM
                    : lt_report_write_json(path, json, err) ||
-                             lt_report_write_chains(out, l, r, &j->data, j->seed, err) ||
+                             lt_report_write_chains(out, l, r, &j->data, j->seed, &co, err) ||
                              lt_outdir_finish(out, what, err)
                          ? err->code
                          : LT_OK;
@@ -163,7 +165,15 @@ int lt_pipeline_sample(lt_like *l, lt_job *j, const lt_like_spec *spec, const lt
             goto done;
     }
     *summary = lt_report_sample_json(l, post, &j->data, j->seed);
-    if (o->out && (rc = write(o->out, l, j, post, *summary, err)))
+    /* the chain files' own thinning, apart from convergence.thin (the
+     * importance weighting's, which the summaries do see): the files keep
+     * every file_thin-th of the posterior's draws of each chain */
+    cJSON *cv = cJSON_GetObjectItemCaseSensitive(*summary, "convergence");
+    size_t ft = (size_t)j->thin;
+    cJSON_AddItemToObject(cv, "file_thin", lt_json_number((double)ft));
+    cJSON_AddItemToObject(cv, "file_draws_per_chain",
+                          lt_json_number((double)((post->ndraws + ft - 1) / ft)));
+    if (o->out && (rc = write(o->out, l, j, post, *summary, o->hooks, err)))
         goto done;
     if (!post->converged)
         unconverged(j, post, o->hooks);

@@ -459,6 +459,8 @@ static void draw_traces(const void *p)
 {
     const lt_run_model *m = p;
     size_t d = m->nparams, nc = m->nparams + m->nderived, n = m->ndraws;
+    /* rows of thinned files stand for step_every steps each: x is the step */
+    double every = m->step_every ? (double)m->step_every : 1.0;
     plschr(0, 0.75);
     size_t stride = n > 4000 ? n / 4000 : 1; /* at most 4000 points per chain */
     PLFLT *x = malloc((n / stride + 1) * sizeof *x), *y = malloc((n / stride + 1) * sizeof *y);
@@ -467,14 +469,14 @@ static void draw_traces(const void *p)
         range_of(m, k, 1, &lo, &hi); /* the span of the draws as sampled */
         double top = 0.95 - k * (0.87 / (double)d);
         plvpor(0.1, 0.97, top - 0.87 / (double)d + 0.03, top);
-        plwind(1, (double)n, lo, hi);
+        plwind(1, (double)(n - 1) * every + 1, lo, hi);
         plcol0(C_INK);
         plbox(k == d - 1 ? "bcnst" : "bcst", 0, 0, "bcnstv", 0, 0);
         plmtex("l", 4.5, 0.5, 0.5, axis_label(m->names[k]));
         for (size_t c = 0; c < m->nchains; c++) {
             size_t j = 0;
             for (size_t i = 0; i < n; i += stride, j++) {
-                x[j] = (double)(i + 1);
+                x[j] = (double)i * every + 1;
                 y[j] = m->draws[(c * n + i) * nc + k];
             }
             plcol0(C_MODEL + (int)(c % NMODELCOL));
@@ -487,6 +489,9 @@ static void draw_traces(const void *p)
             if (m->weighted)
                 snprintf(t, sizeof t, "traces of %s: %zu chains (colours) x %zu draws as sampled "
                          "(importance weights not shown)", m->label, m->nchains, n);
+            else if (every > 1)
+                snprintf(t, sizeof t, "traces of %s: %zu chains (colours) x %zu draws after "
+                         "warm-up (one in %.0f steps)", m->label, m->nchains, n, every);
             else
                 snprintf(t, sizeof t, "traces of %s: %zu chains (colours) x %zu draws after warm-up",
                          m->label, m->nchains, n);
@@ -495,8 +500,8 @@ static void draw_traces(const void *p)
         }
     }
     plcol0(C_INK);
-    /* weighted draws may be thinned: their index is not the sampler's step */
-    plmtex("b", 3.0, 0.5, 0.5, m->weighted ? "draw after warm-up" : "step after warm-up");
+    /* thinned rows (--thin, the importance weighting) are placed at their steps */
+    plmtex("b", 3.0, 0.5, 0.5, "step after warm-up");
     free(x);
     free(y);
 }

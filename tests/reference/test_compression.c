@@ -410,7 +410,7 @@ static void test_pantheon_weighted(void **state)
     cJSON_Delete(j);
     char dir[] = "/tmp/lantern-weighted-XXXXXX", path[128], line[256];
     assert_non_null(mkdtemp(dir));
-    assert_int_equal(lt_report_write_chains(dir, lc, &rw, &spec, 1, &err), LT_OK);
+    assert_int_equal(lt_report_write_chains(dir, lc, &rw, &spec, 1, NULL, &err), LT_OK);
     snprintf(path, sizeof path, "%s/chains.csv", dir);
     FILE *f = fopen(path, "r");
     assert_non_null(f);
