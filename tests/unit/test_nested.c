@@ -215,10 +215,10 @@ static void test_where_batches_run(void **state)
     probe_iterate(0.0, 100000, q);
     print_message("cheap: %ld + %ld calls, %ld in a parallel region\n", q[0].calls, q[1].calls,
                   q[0].in_parallel + q[1].in_parallel);
-    assert_true(q[0].calls > 1000);
+    assert_true(q[0].calls > 200); /* well past the 8 timed batches of 8 */
     assert_int_equal(q[1].calls, 0);
     assert_int_equal(q[0].in_parallel, 0);
-    probe_iterate(2e-3, 30, q);
+    probe_iterate(2e-3, 120, q);
     print_message("2 ms: %ld + %ld calls, %ld in a parallel region\n", q[0].calls, q[1].calls,
                   q[0].in_parallel + q[1].in_parallel);
     assert_true(q[1].calls > 0);
@@ -254,9 +254,11 @@ static void test_resume(void **state)
     int fd = mkstemp(path);
     assert_true(fd >= 0);
     close(fd);
-    for (long k = 150; k <= 2400; k *= 4) { /* early and late stops */
+    /* early and late stops: a tenth, a half and nine tenths of the calls
+     * after the live points */
+    for (int q = 1; q <= 9; q += 4) {
         stop_flag = 0;
-        calls_left = k;
+        calls_left = 100 + (long)(whole.evals - 100) * q / 10;
         lt_nested *s = lt_nested_alloc(&o, to_box, &b, counting_ll, ctx, &err);
         assert_non_null(s);
         assert_int_equal(lt_nested_iterate(s, &stop_flag, &err), LT_EINTR);
@@ -287,7 +289,9 @@ static void test_resume(void **state)
     FILE *f = fopen(path, "r+b");
     assert_non_null(f);
     fseek(f, 200, SEEK_SET);
-    fputc(0x5a, f);
+    int was = fgetc(f);
+    fseek(f, 200, SEEK_SET);
+    fputc(was ^ 0x5a, f); /* a byte that differs */
     fclose(f);
     assert_null(lt_nested_load(path, 42, &o, to_box, &b, gauss_ll, ctx, &err));
     assert_non_null(strstr(err.msg, "damaged"));
