@@ -33,7 +33,7 @@ int cli_fit(int argc, char **argv)
     }
     cli_print_warnings(s);
     int quiet = 0;
-    lt_pipeline_hooks hooks = {NULL, cli_note, &quiet};
+    lt_pipeline_hooks hooks = {NULL, cli_note, &quiet, NULL};
     if (lt_pipeline_fit(l, &j, cli_catch_signals(), &hooks, &post, &json, &err)) {
         if (err.code == LT_EINTR)
             fputs("lantern: interrupted during the best fit: nothing written\n", stderr);

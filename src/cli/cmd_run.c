@@ -127,7 +127,7 @@ int cli_report_runs(int argc, char **argv)
     }
     prepared = out != NULL;
     int quiet = 0, unconverged = 0;
-    lt_pipeline_hooks hooks = {NULL, cli_note, &quiet};
+    lt_pipeline_hooks hooks = {NULL, cli_note, &quiet, NULL};
     if (lt_pipeline_report(&rs, dir, out ? "joint report" : rs.name, NULL, &hooks, &unconverged,
                            &err))
         status = cli_report(&err);

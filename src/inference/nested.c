@@ -134,20 +134,20 @@ static int fit_ellipsoid(const double *u, const size_t *idx, size_t m, size_t d,
     return 0;
 }
 
-/* 2-means of the m points idx in the frame of their ellipsoid e (so that
- * the shape of the cloud does not decide the split); idx is reordered with
- * the first cluster first, its size returned. Starts: the point farthest
- * from the centre, and the point farthest from that one (no random draws,
- * so the stream of candidates does not depend on the splitting). */
+/* 2-means of the m points idx (Euclidean, in the unit cube, centred on
+ * their ellipsoid e); idx is reordered with the first cluster first, its
+ * size returned. Not in e's whitened frame: whitening by the covariance of
+ * all the points shrinks the direction that separates two clusters (their
+ * separation dominates its variance), so that 2-means would cut each
+ * cluster across instead. Starts: the point farthest from the centre, and
+ * the point farthest from that one (no random draws, so the stream of
+ * candidates does not depend on the splitting). */
 static size_t two_means(const double *u, size_t *idx, size_t m, size_t d, const ellipsoid *e,
                         double *z, unsigned char *lab)
 {
-    for (size_t i = 0; i < m; i++) {
-        double dx[DMAX];
+    for (size_t i = 0; i < m; i++)
         for (size_t k = 0; k < d; k++)
-            dx[k] = u[idx[i] * d + k] - e->mu[k];
-        lsolve(e->l, d, dx, z + i * d);
-    }
+            z[i * d + k] = u[idx[i] * d + k] - e->mu[k];
     size_t a = 0, b = 0;
     double best = -1;
     for (size_t i = 0; i < m; i++) {
@@ -208,21 +208,42 @@ static size_t two_means(const double *u, size_t *idx, size_t m, size_t d, const 
     return m0;
 }
 
-/* Bound the m points idx, whose ellipsoid is e, into b (recursively). */
-static void split(const double *u, size_t *idx, size_t m, size_t d, const ellipsoid *e,
-                  double logx_share, mbound *b, double *z, unsigned char *lab)
+/* An ellipsoid's volume raised to at least ln V = logv (its axes scaled). */
+static void at_least(ellipsoid *e, size_t d, double logv)
+{
+    if (e->logvol < logv) {
+        e->scale *= exp((logv - e->logvol) / (double)d);
+        e->logvol = logv;
+    }
+}
+
+/*
+ * Bound the m points idx, whose ellipsoid is e, into b (recursively), with
+ * room kept for `pending` ellipsoids still to come (the siblings of the
+ * splits above). Each ellipsoid's volume is raised to at least the prior
+ * volume its points are expected to fill, X m / n (Feroz & Hobson 2008,
+ * sec. 5.1.2): the bounding ellipsoid of a few points underestimates their
+ * region, which would both favour splitting and leave the union short of
+ * the region (a biased ln Z).
+ */
+static void split(const double *u, size_t *idx, size_t m, size_t d, ellipsoid *e,
+                  double logx_share, size_t pending, mbound *b, double *z, unsigned char *lab)
 {
     size_t least = 2 * d + 2; /* points for a covariance worth the name */
     ellipsoid c[2];
-    if (b->k + 2 <= EMAX && m >= 2 * least) {
+    at_least(e, d, logx_share);
+    if (b->k + 2 + pending <= EMAX && m >= 2 * least) {
         size_t m0 = two_means(u, idx, m, d, e, z, lab);
         if (m0 >= least && m - m0 >= least && fit_ellipsoid(u, idx, m0, d, &c[0]) == 0 &&
             fit_ellipsoid(u, idx + m0, m - m0, d, &c[1]) == 0) {
+            double frac = log((double)m0 / (double)m), share[2];
+            share[0] = logx_share + frac, share[1] = logx_share + log1p(-exp(frac));
+            at_least(&c[0], d, share[0]);
+            at_least(&c[1], d, share[1]);
             double both = logaddexp(c[0].logvol, c[1].logvol);
             if (both < e->logvol - M_LN2 || (both < e->logvol && e->logvol > logx_share + M_LN2)) {
-                double frac = log((double)m0 / (double)m);
-                split(u, idx, m0, d, &c[0], logx_share + frac, b, z, lab);
-                split(u, idx + m0, m - m0, d, &c[1], logx_share + log1p(-exp(frac)), b, z, lab);
+                split(u, idx, m0, d, &c[0], share[0], pending + 1, b, z, lab);
+                split(u, idx + m0, m - m0, d, &c[1], share[1], pending, b, z, lab);
                 return;
             }
         }
@@ -246,7 +267,7 @@ static int bound_build(const double *u, size_t n, size_t d, double logx, double 
             idx[i] = i;
         if (fit_ellipsoid(u, idx, n, d, &e) == 0) {
             b->k = 0;
-            split(u, idx, n, d, &e, logx, b, z, lab);
+            split(u, idx, n, d, &e, logx, 0, b, z, lab);
             for (size_t k = 0; k < b->k; k++) {
                 b->e[k].scale *= enlarge;
                 b->e[k].logvol += (double)d * log(enlarge);
@@ -320,7 +341,7 @@ struct lt_nested {
     double logz, logx;       /* ln Z so far, ln X (the prior volume left) */
     size_t it, ns, cap;      /* iterations done, dead points kept, their room */
     size_t accepted, proposed, evals;
-    int walk, finished;
+    int walk, finished;      /* walk: 0 the bound, 1 the walk until the next bound, 2 the walk */
     double *theta, *loglike, *logw; /* the dead points (cap) */
     mbound b;                /* the bound, and when it was built (b.k 0: none yet) */
     /* candidates evaluated but not used yet, oldest first (see take_queued) */
@@ -550,11 +571,15 @@ int lt_nested_iterate(lt_nested *s, volatile sig_atomic_t *stop, lt_error *err)
          * acceptable ones of that batch queued */
         if (take_queued(s, lstar, worst))
             continue;
-        if (!s->walk && (s->b.k == 0 || it >= s->b.built + rebuild)) {
-            if (bound_build(u, n, d, s->logx, s->o.enlarge, &s->b) == 0)
+        if (s->walk != 2 && (s->b.k == 0 || it >= s->b.built + rebuild)) {
+            /* a new bound gets a fresh trial, even after the walk took over
+             * from the last one: the region's shape changes as it shrinks */
+            if (bound_build(u, n, d, s->logx, s->o.enlarge, &s->b) == 0) {
                 s->b.built = it;
-            else
-                s->walk = 1;
+                if (s->walk)
+                    s->walk = 0, s->proposed = s->accepted = 0;
+            } else
+                s->walk = 2; /* for good: the live points span no volume */
         }
         int found = 0;
         while (!found) {
@@ -602,8 +627,10 @@ int lt_nested_iterate(lt_nested *s, volatile sig_atomic_t *stop, lt_error *err)
                     s->ql[s->nq++] = bl[b];
                 }
             }
-            /* after a fair trial, a bound that accepts under 5% gives way */
-            if (s->proposed > 200 && (double)s->accepted / (double)s->proposed < 0.05)
+            /* after a fair trial, a bound gives way when a replacement from
+             * it costs more evaluations (1 / its acceptance) than the walk's
+             * 20 d */
+            if (s->proposed > 200 && (double)s->accepted * 20.0 * (double)d < (double)s->proposed)
                 s->walk = 1;
         }
         if (s->proposed > 1000) /* judge the efficiency on recent iterations */

@@ -1,0 +1,166 @@
+/*
+ * The nested sampler on targets whose evidence and means are known in
+ * closed form (tests/targets.h, which names the sources):
+ *  - two well-separated normal modes (bimodal) in 2 and 5 dimensions, which
+ *    one ellipsoid bounds badly;
+ *  - the twisted Gaussian ("banana") of Haario, Saksman & Tamminen 1999
+ *    (Comput. Stat. 14, 375) in 3 dimensions, truncated by its box.
+ * Over 10 seeds: the mean ln Z within 3 standard errors of the closed form;
+ * the mean quoted error within a factor 1.5 of the seeds' scatter; the
+ * banana's posterior means within 4 of their Monte Carlo errors (posterior
+ * sd / sqrt(ESS), Kish's ESS of the weights) of the closed forms.
+ * About the factor 1.5: with 10 seeds the scatter's own relative error is
+ * about 1/sqrt(18) = 24%, so this check is one of calibration to within
+ * that noise (a perfectly calibrated error falls outside about one time in
+ * ten, a common-practice chi-square count, 9 degrees of freedom); the seeds
+ * are the first ten, not chosen.
+ */
+#include <setjmp.h>
+#include <stdarg.h>
+#include <stddef.h>
+#include <stdint.h>
+#include <stdio.h>
+#include <string.h>
+
+#include <cmocka.h>
+#include <gsl/gsl_errno.h>
+
+#include "lantern/lantern.h"
+#include "../targets.h"
+#include "../testutil.h"
+
+#ifndef SEEDS
+#define SEEDS 10
+#endif
+#ifndef NMEANS
+#define NMEANS 3
+#endif
+
+typedef struct {
+    size_t d;
+    double lo[16], hi[16];
+    double (*logl)(const double *y, const void *t);
+    const void *t;
+} target;
+
+static void to_box(const double *u, double *y, void *p)
+{
+    const target *g = p;
+    for (size_t i = 0; i < g->d; i++)
+        y[i] = g->lo[i] + (g->hi[i] - g->lo[i]) * u[i];
+}
+
+static double ll(const double *y, void *p)
+{
+    const target *g = p;
+    return g->logl(y, g->t);
+}
+
+static double bimodal_ll(const double *y, const void *t) { return target_bimodal_logl(y, t); }
+static double banana_ll(const double *y, const void *t) { return target_banana_logl(y, t); }
+
+static lt_nested_result run(target *g, size_t nlive, uint64_t seed)
+{
+    void *ctx[2] = {g, g};
+    lt_nested_opts o = {.dim = g->d, .nlive = nlive, .seed = seed, .dlogz = 0.01,
+                        .enlarge = 1.25, .max_iter = 10000000, .threads = 1};
+    lt_nested_result r;
+    lt_error err;
+    assert_int_equal(lt_nested_run(&o, to_box, g, ll, ctx, &r, &err), LT_OK);
+    assert_true(r.finished);
+    return r;
+}
+
+/* The evidence over SEEDS seeds against want; returns the results' mean
+ * evaluations per iteration. */
+static void check_evidence(const char *name, target *g, size_t nlive, double want)
+{
+    double z[SEEDS], mean = 0, quoted = 0, evals = 0, iters = 0;
+    for (int s = 0; s < SEEDS; s++) {
+        lt_nested_result r = run(g, nlive, 1 + (uint64_t)s);
+        z[s] = r.logz;
+        mean += r.logz / SEEDS, quoted += r.logz_err / SEEDS;
+        evals += (double)r.evals, iters += (double)r.iterations;
+        lt_nested_result_free(&r);
+    }
+    double var = 0;
+    for (int s = 0; s < SEEDS; s++)
+        var += (z[s] - mean) * (z[s] - mean) / (SEEDS - 1);
+    double scatter = sqrt(var), se = scatter / sqrt(SEEDS);
+    print_message("%s: mean ln Z %.4f (closed form %.4f, %.1f standard errors off), quoted error "
+                  "%.4f, scatter %.4f (ratio %.2f), %.2f evaluations per iteration\n",
+                  name, mean, want, fabs(mean - want) / se, quoted, scatter, quoted / scatter,
+                  evals / iters);
+    assert_abs(mean, want, 3 * se);
+    assert_true(quoted / scatter >= 1 / 1.5 && quoted / scatter <= 1.5);
+}
+
+/* closed form: tests/targets.h, target_bimodal_logz (normal masses by erf) */
+static void test_bimodal(void **state)
+{
+    (void)state;
+    size_t dims[] = {2, 5};
+    for (int k = 0; k < 2; k++) {
+        target_bimodal t = {dims[k], 4.0, 1.0, 10.0};
+        target g = {dims[k], {0}, {0}, bimodal_ll, &t};
+        target_bimodal_box(&t, g.lo, g.hi);
+        char name[32];
+        snprintf(name, sizeof name, "bimodal d = %zu", dims[k]);
+        check_evidence(name, &g, 300, target_bimodal_logz(&t));
+    }
+}
+
+static const target_banana banana = {3, 0.03, -15.0, 20.0, -11.0, 17.0, 2.5};
+
+/* closed form: Haario et al. 1999 twisted Gaussian, mass of its truncated
+ * normals (tests/targets.h, target_banana_logz) */
+static void test_banana_evidence(void **state)
+{
+    (void)state;
+    /* the box must hold y2's conditional normal (targets.h) */
+    assert_true(target_banana_margin(&banana) >= 8.0);
+    target g = {banana.d, {0}, {0}, banana_ll, &banana};
+    target_banana_box(&banana, g.lo, g.hi);
+    check_evidence("banana d = 3", &g, 300, target_banana_logz(&banana));
+}
+
+/* closed form: truncated-normal moments (Johnson, Kotz & Balakrishnan,
+ * via tests/targets.h, target_banana_means) */
+static void test_banana_means(void **state)
+{
+    (void)state;
+    target g = {banana.d, {0}, {0}, banana_ll, &banana};
+    target_banana_box(&banana, g.lo, g.hi);
+    double want[2];
+    target_banana_means(&banana, &want[0], &want[1]);
+    for (int s = 0; s < NMEANS; s++) {
+        lt_nested_result r = run(&g, 300, 21 + (uint64_t)s);
+        double sw2 = 0;
+        for (size_t j = 0; j < r.nsamples; j++)
+            sw2 += exp(2 * r.logw[j]);
+        double ess = 1 / sw2;
+        for (int i = 0; i < 2; i++) {
+            double m = 0, m2 = 0;
+            for (size_t j = 0; j < r.nsamples; j++) {
+                double w = exp(r.logw[j]), y = r.theta[j * banana.d + (size_t)i];
+                m += w * y, m2 += w * y * y;
+            }
+            double sd = sqrt(m2 - m * m), tol = 4 * sd / sqrt(ess);
+            print_message("seed %d: E[y%d] = %.4f, closed form %.4f, tolerance %.4f (ESS %.0f)\n",
+                          21 + s, i + 1, m, want[i], tol, ess);
+            assert_abs(m, want[i], tol);
+        }
+        lt_nested_result_free(&r);
+    }
+}
+
+int main(void)
+{
+    gsl_set_error_handler_off();
+    const struct CMUnitTest tests[] = {
+        cmocka_unit_test(test_bimodal),
+        cmocka_unit_test(test_banana_evidence),
+        cmocka_unit_test(test_banana_means),
+    };
+    return cmocka_run_group_tests_name("nested_targets", tests, NULL, NULL);
+}
