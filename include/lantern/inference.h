@@ -221,14 +221,18 @@ lt_mcmc *lt_mcmc_load(const char *path, uint64_t fingerprint, lt_logdensity f, v
  * the end. Replacements come from a union of ellipsoids bounding the live
  * points (Feroz & Hobson 2008, MNRAS 384, 449; Feroz, Hobson & Bridges
  * 2009, MNRAS 398, 1601): the points are split in two by 2-means, again and
- * again, while the two halves' ellipsoids hold much less volume than their
- * parent's; each ellipsoid's axes are enlarged by `enlarge`; the bound is
- * rebuilt every N/20 iterations. A candidate is drawn from an ellipsoid
+ * again (up to 32 ellipsoids), while the halves' ellipsoids hold less than
+ * half their parent's volume, or less than it when the parent is over
+ * twice the volume X m/N its m points are expected to fill; each is made
+ * at least that volume, then its axes are enlarged by `enlarge`; the bound
+ * is rebuilt every N/20 iterations. A candidate is drawn from an ellipsoid
  * chosen in proportion to its volume, uniformly inside it, and kept with
  * probability 1/(ellipsoids holding it), so the union is drawn uniformly;
- * it replaces the worst point when its ln L is above it. When the bound's
- * acceptance falls below 5%, replacements come from a short constrained
- * random walk from a live point instead. Candidates are generated in
+ * it replaces the worst point when its ln L is above it. When a
+ * replacement from the bound costs more evaluations than a short
+ * constrained random walk from a live point (20 d; acceptance below
+ * 1/(20 d)), the walk replaces points until the next bound is built, which
+ * gets a fresh trial. Candidates are generated in
  * fixed batches of 8 from one stream; the first acceptable one in batch
  * order replaces the worst point and the other acceptable ones are queued
  * for the next iterations, used (oldest first) while still above the
