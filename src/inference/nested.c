@@ -104,8 +104,8 @@ static double radius2(const ellipsoid *e, size_t d, const double *x)
 static int fit_ellipsoid(const double *u, const size_t *idx, size_t m, size_t d, ellipsoid *e)
 {
     double cov[DMAX * DMAX] = {0};
+    memset(e, 0, sizeof *e); /* all of it: a checkpoint writes it whole */
     for (size_t k = 0; k < d; k++) {
-        e->mu[k] = 0;
         for (size_t i = 0; i < m; i++)
             e->mu[k] += u[idx[i] * d + k] / (double)m;
     }
