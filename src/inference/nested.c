@@ -768,7 +768,12 @@ lt_nested *lt_nested_load(const char *path, uint64_t fingerprint, const lt_neste
     lt_nested_opts so = *o; /* threads are not part of the state */
     lt_nested *s = NULL;
     if (lt_ckpt_get(&c, magic, sizeof magic) || memcmp(magic, NMAGIC, sizeof NMAGIC) != 0) {
-        lt_error_set(err, LT_EINPUT, path, 0, "not a lantern nested-sampling checkpoint");
+        /* v1 held no bound or queue: it cannot continue this sampler's run */
+        int old = memcmp(magic, "lantern-nest-v1", 16) == 0;
+        lt_error_set(err, LT_EINPUT, path, 0,
+                     old ? "a checkpoint of an older lantern's nested sampler, which this one "
+                           "cannot continue: start the run afresh"
+                         : "not a lantern nested-sampling checkpoint");
         goto fail;
     }
     if (GET(fp) || GET(so.dim) || GET(so.nlive) || GET(so.seed) || GET(so.dlogz) ||

@@ -299,6 +299,13 @@ static void test_resume(void **state)
     truncate(path, 100);
     assert_null(lt_nested_load(path, 42, &o, to_box, &b, gauss_ll, ctx, &err));
     assert_non_null(strstr(err.msg, "damaged"));
+    /* a checkpoint of the sampler before issue 20 (no bound, no queue) */
+    f = fopen(path, "r+b");
+    assert_non_null(f);
+    fwrite("lantern-nest-v1", 1, 16, f);
+    fclose(f);
+    assert_null(lt_nested_load(path, 42, &o, to_box, &b, gauss_ll, ctx, &err));
+    assert_non_null(strstr(err.msg, "older lantern's nested sampler"));
     remove(path);
     lt_nested_result_free(&whole);
 }
