@@ -308,21 +308,48 @@ lt_ais *lt_ais_load(const char *path, uint64_t fingerprint, const lt_ais_opts *o
  * drawn from the prior, the lowest-likelihood one is replaced by a draw
  * from the prior above its likelihood, the prior volume shrinks as
  * X_i = exp(-i/N), Z = sum of L_i (X_{i-1} - X_i) plus the live points at
- * the end. Replacements come from the bounding ellipsoid of the live points,
- * enlarged (Mukherjee, Parkinson & Liddle 2006, ApJ 638, L51), by rejection;
- * when the ellipsoid's acceptance falls below 5%, from a short constrained
- * random walk from a live point instead. The error of ln Z is sqrt(H/N)
- * with H the information (Skilling 2006). Candidates are generated in
+ * the end. Replacements come from a union of ellipsoids bounding the live
+ * points (Feroz & Hobson 2008, MNRAS 384, 449; Feroz, Hobson & Bridges
+ * 2009, MNRAS 398, 1601): the points are split in two by 2-means, again and
+ * again (up to 32 ellipsoids), while the halves' ellipsoids hold less than
+ * half their parent's volume, or less than it when the parent is over
+ * twice the volume X m/N its m points are expected to fill; each is made
+ * at least that volume, then its axes are enlarged by `enlarge`; the bound
+ * is rebuilt every N/20 iterations. A candidate is drawn from an ellipsoid
+ * chosen in proportion to its volume, uniformly inside it, and kept with
+ * probability 1/(ellipsoids holding it), so the union is drawn uniformly;
+ * it replaces the worst point when its ln L is above it. When a
+ * replacement from the bound costs more evaluations than a short
+ * constrained random walk from a live point (20 d; acceptance below
+ * 1/(20 d)), the walk replaces points until the next bound is built, which
+ * gets a fresh trial. Candidates are generated in
  * fixed batches of 8 from one stream; the first acceptable one in batch
- * order wins, so results do not depend on the thread count. A batch is
+ * order replaces the worst point and the other acceptable ones are queued
+ * for the next iterations, used (oldest first) while still above the
+ * rising threshold, so no evaluation above the threshold is wasted; every
+ * evaluation, used or not, counts in evals. Results do not depend on the
+ * thread count, and a checkpoint holds the bound and the queue. A batch is
  * computed in parallel only when one thread takes at least 10 ms over it
  * (timed on the first batches): a parallel region around microseconds of
  * work stalls on a busy machine. Cheap likelihoods are parallelised by the
- * caller instead, e.g. one model per thread.
+ * caller instead, e.g. one model per thread. The error of ln Z comes from
+ * simulated shrinkage (Skilling 2006, sec. 5.2): 48 draws of the volume
+ * ratios t_i ~ Beta(N, 1) give 48 values of ln Z on the run's likelihoods,
+ * and their standard deviation is the error (close to sqrt(H/N)).
  */
 typedef void (*lt_prior_transform)(const double *u, double *theta, void *ctx);
 /* ln L (not the prior) at theta; -inf where impossible; ctx per thread. */
 typedef double (*lt_loglike)(const double *theta, void *ctx);
+
+/* Where a run is, for a progress display: every LT_NESTED_PROGRESS_EVERY
+ * iterations and once at the end. */
+typedef struct lt_nested_status {
+    size_t iterations, evals;
+    double logz;  /* ln Z of the dead points so far */
+    double dlogz; /* what the live points could still add to it (the
+                   * stopping rule's quantity; it stops below opts.dlogz) */
+} lt_nested_status;
+#define LT_NESTED_PROGRESS_EVERY 1000
 
 typedef struct lt_nested_opts {
     size_t dim, nlive;
@@ -332,6 +359,10 @@ typedef struct lt_nested_opts {
     size_t max_iter;
     int threads;      /* 0: OpenMP's default (omp_get_max_threads); ctx must hold
                        * this many contexts */
+    /* NULL, or called on the calling thread with the run's status (not part
+     * of the state: a checkpoint neither holds nor checks it) */
+    void (*progress)(const lt_nested_status *st, void *ctx);
+    void *progress_ctx;
 } lt_nested_opts;
 
 typedef struct lt_nested_result {

@@ -197,6 +197,14 @@ typedef struct lt_progress {
     double pareto_k;
 } lt_progress;
 
+/* How a nested run is doing: every LT_NESTED_PROGRESS_EVERY iterations
+ * and once at its end (lt_nested_status, with the model's name). */
+typedef struct lt_nested_progress {
+    const char *model;
+    size_t iterations, evals;
+    double logz, dlogz; /* ln Z so far; what the live points could still add */
+} lt_nested_progress;
+
 /* The kinds of line a long job has to say. */
 typedef enum {
     LT_NOTE_PROGRESS = 0, /* where it is: "[1/3] lcdm: best fit, then nested sampling ..." */
@@ -205,8 +213,9 @@ typedef enum {
 } lt_note_kind;
 
 /* What a long method tells its caller as it goes (the command line prints
- * it; nothing here does). Any hook may be NULL; a note may come from
- * any thread, whole. */
+ * it; nothing here does). Any hook may be NULL; a note or a nested run's
+ * progress may come from any thread (compare runs models side by side),
+ * whole. */
 typedef struct lt_pipeline_hooks {
     /* after every convergence check of the chains (and its checkpoint) */
     void (*check)(const lt_progress *p, void *ctx);
@@ -216,6 +225,8 @@ typedef struct lt_pipeline_hooks {
     /* rows of a chain file ("chains.csv", then "chains.fits") written so
      * far, of total: about every tenth and at the end (lt_chains_opts) */
     void (*writing)(const char *file, size_t rows, size_t total, void *ctx);
+    /* during a nested run (last, so that {check, note, ctx} still reads) */
+    void (*nested)(const lt_nested_progress *p, void *ctx);
 } lt_pipeline_hooks;
 
 /*

@@ -64,8 +64,10 @@ int cli_compare(int argc, char **argv)
         }
         j.out = resume;
     }
-    lt_pipeline_hooks hooks = {.note = cli_note, .ctx = &j.quiet};
+    cli_progress pr;
+    lt_pipeline_hooks hooks = cli_progress_start(&pr, &j);
     int rc = lt_pipeline_compare_job(&j, resume != NULL, cli_catch_signals(), &hooks, c, &err);
+    cli_progress_end(&pr);
     if (rc == LT_EINTR && j.out) {
         fprintf(stderr,
                 "lantern: interrupted; %s/checkpoint holds the state of every model so far: "

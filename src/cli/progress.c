@@ -1,8 +1,11 @@
 /*
  * The progress display of long jobs on stderr: a line per convergence
- * check and, for large chain files, while writing them (rewritten in place
- * on a terminal, one after another with --verbose), and the pipeline's
- * notes, which end a pending line first.
+ * check of the chains or iteration of importance sampling, per progress
+ * report of a nested run and, for large chain files, while writing them
+ * (rewritten in place on a terminal, one after another with --verbose),
+ * and the pipeline's notes, which end a pending line first. compare runs
+ * models side by side, so the hooks may be called from several threads:
+ * each line is written, and `printed` set, in one critical section.
  */
 #include <math.h>
 #include <stdio.h>
@@ -32,20 +35,23 @@ static void on_check(const lt_progress *d, void *p)
     if (isfinite(left) && !d->converged)
         snprintf(eta, sizeof eta, ", about %.0f s left", left);
     int inplace = pr->tty && !pr->verbose;
-    if (inplace && pr->printed && pr->writing)
-        fputc('\n', stderr);
-    pr->writing = NULL;
-   if (d->weighted)
-        fprintf(stderr,
-                "%simportance sampling: %zu draws, smallest ESS %.0f, Pareto k %.2f, %.1f s%s%s",
-                inplace ? "\r" : "", d->draws_per_chain, d->ess_min, d->pareto_k, t, eta,
-                inplace ? "   " : "\n");
-    else
+#pragma omp critical(cli_progress)
+    {
+        if (inplace && pr->printed && pr->writing)
+            fputc('\n', stderr);
+        pr->writing = NULL;
+        if (d->weighted)
+            fprintf(stderr,
+                    "%simportance sampling: %zu draws, smallest ESS %.0f, Pareto k %.2f, %.1f s%s%s",
+                    inplace ? "\r" : "", d->draws_per_chain, d->ess_min, d->pareto_k, t, eta,
+                    inplace ? "   " : "\n");
+        else
         fprintf(stderr,
                 "%ssampling: %zu draws per chain, worst R-hat %.4f, smallest ESS %.0f, %.1f s%s%s",
                 inplace ? "\r" : "", d->draws_per_chain, d->rhat_max, d->ess_min, t, eta,
                 inplace ? "   " : "\n");
-    pr->printed = 1;
+        pr->printed = 1;
+    }
 }
 
 /* Rows of a chain file written: worth a line only for large files (a
@@ -56,12 +62,35 @@ static void on_writing(const char *file, size_t rows, size_t total, void *p)
     if (pr->quiet || (!pr->tty && !pr->verbose) || total <= CLI_WRITING_MIN_ROWS)
         return;
     int inplace = pr->tty && !pr->verbose;
-    if (inplace && pr->printed && (!pr->writing || strcmp(pr->writing, file)))
-        fputc('\n', stderr);
-    pr->writing = file;
-    fprintf(stderr, "%swriting %s: %zu of %zu rows (%.0f%%)%s", inplace ? "\r" : "", file, rows,
-            total, 100.0 * (double)rows / (double)total, inplace ? "   " : "\n");
-    pr->printed = 1;
+#pragma omp critical(cli_progress)
+    {
+        if (inplace && pr->printed && (!pr->writing || strcmp(pr->writing, file)))
+            fputc('\n', stderr);
+        pr->writing = file;
+        fprintf(stderr, "%swriting %s: %zu of %zu rows (%.0f%%)%s", inplace ? "\r" : "", file,
+                rows, total, 100.0 * (double)rows / (double)total, inplace ? "   " : "\n");
+        pr->printed = 1;
+    }
+}
+
+static void on_nested(const lt_nested_progress *d, void *p)
+{
+    cli_progress *pr = p;
+    if (pr->quiet || (!pr->tty && !pr->verbose))
+        return;
+    int inplace = pr->tty && !pr->verbose;
+#pragma omp critical(cli_progress)
+    {
+        if (inplace && pr->printed && pr->writing)
+            fputc('\n', stderr);
+        pr->writing = NULL;
+        fprintf(stderr,
+                "%snested sampling %s: %zu iterations, %zu likelihood evaluations, ln Z = %.3f, "
+                "the live points could add %.3g%s",
+                inplace ? "\r" : "", d->model, d->iterations, d->evals, d->logz, d->dlogz,
+                inplace ? "   " : "\n");
+        pr->printed = 1;
+    }
 }
 
 /* A line from the pipeline: a refinement of the compression restarts the
@@ -71,22 +100,25 @@ static void on_note(lt_note_kind kind, const char *text, void *p)
     cli_progress *pr = p;
     if (kind == LT_NOTE_PROGRESS && pr->quiet)
         return;
-    if (pr->printed && pr->tty && !pr->verbose)
-        fputc('\n', stderr);
-    pr->printed = 0, pr->writing = NULL;
-    fprintf(stderr, "%s%s\n",
-            kind == LT_NOTE_PROGRESS ? ""
-            : kind == LT_NOTE_NEWS   ? "lantern: "
-                                     : "lantern: warning: ",
-            text);
-    clock_gettime(CLOCK_MONOTONIC, &pr->start);
+#pragma omp critical(cli_progress)
+    {
+        if (pr->printed && pr->tty && !pr->verbose)
+            fputc('\n', stderr);
+        pr->printed = 0, pr->writing = NULL;
+        fprintf(stderr, "%s%s\n",
+                kind == LT_NOTE_PROGRESS ? ""
+                : kind == LT_NOTE_NEWS   ? "lantern: "
+                                         : "lantern: warning: ",
+                text);
+        clock_gettime(CLOCK_MONOTONIC, &pr->start);
+    }
 }
 
 lt_pipeline_hooks cli_progress_start(cli_progress *pr, const lt_job *j)
 {
     *pr = (cli_progress){{0, 0}, isatty(2), j->quiet, j->verbose, j->target_ess, 0, NULL};
     clock_gettime(CLOCK_MONOTONIC, &pr->start);
-    return (lt_pipeline_hooks){on_check, on_note, pr, on_writing};
+    return (lt_pipeline_hooks){on_check, on_note, pr, on_writing, on_nested};
 }
 
 void cli_progress_end(cli_progress *pr)

@@ -59,7 +59,7 @@ static void run_model(lt_model_result *m, size_t k, size_t n, const lt_job *j, i
     lt_job mj = *j;
     mj.pool = NULL, mj.npool = mj.cap = 0; /* the strings stay j's */
     mj.threads = threads;
-    lt_run_opts o = {ckdir, state, NULL, resume ? LT_RUN_IF_PRESENT : LT_RUN_FRESH, stop, NULL};
+    lt_run_opts o = {ckdir, state, NULL, resume ? LT_RUN_IF_PRESENT : LT_RUN_FRESH, stop, h};
     m->rc = lt_pipeline_run(lt_method_nested, m->l, &mj, &o, NULL, &m->post, &m->err);
 }
 

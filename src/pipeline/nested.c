@@ -1,8 +1,9 @@
 /*
  * The nested-sampling method (lt_method_nested): live points drawn from the
  * prior, then iterations until the live points could add less than 0.01 to
- * ln Z. compare's models, run's evidence and campaign tasks run it through
- * lt_pipeline_run.
+ * ln Z, the run's progress passed to the hooks' nested (with the model's
+ * name). compare's models, run's evidence and campaign tasks run it
+ * through lt_pipeline_run.
  */
 #include <stdlib.h>
 #include <string.h>
@@ -21,6 +22,7 @@ typedef struct {
     lt_like_nested *ctx; /* per thread */
     void **cp;
     lt_nested *ns;
+    const lt_pipeline_hooks *h; /* the caller's, during iterate */
 } nested_run;
 
 static void nested_free(void *p)
@@ -61,11 +63,22 @@ static void *nested_alloc(lt_like *l, lt_job *j, const char *ckdir, lt_error *er
     return r;
 }
 
-static lt_nested_opts options(const nested_run *r)
+/* The sampler's status, to the caller's hook with the model's name. */
+static void on_status(const lt_nested_status *st, void *p)
+{
+    const nested_run *r = p;
+    if (r->h && r->h->nested) {
+        lt_nested_progress np = {lt_like_model(r->l)->name, st->iterations, st->evals, st->logz,
+                                 st->dlogz};
+        r->h->nested(&np, r->h->ctx);
+    }
+}
+
+static lt_nested_opts options(nested_run *r)
 {
     return (lt_nested_opts){.dim = lt_like_dim(r->l), .nlive = (size_t)r->live, .seed = r->seed,
                             .dlogz = 0.01, .enlarge = 1.25, .max_iter = 10000000,
-                            .threads = r->threads};
+                            .threads = r->threads, .progress = on_status, .progress_ctx = r};
 }
 
 /* The likelihood's parts; the number stored adds the seed and the live
@@ -102,9 +115,12 @@ static int nested_load(void *p, const char *path, uint64_t fp, lt_error *err)
 static int nested_iterate(void *p, const char *state, uint64_t fp, volatile sig_atomic_t *stop,
                           const lt_pipeline_hooks *h, lt_error *err)
 {
-    (void)state, (void)fp, (void)h;
+    (void)state, (void)fp;
     nested_run *r = p;
-    return lt_nested_iterate(r->ns, stop, err);
+    r->h = h;
+    int rc = lt_nested_iterate(r->ns, stop, err);
+    r->h = NULL;
+    return rc;
 }
 
 static int nested_save(const void *p, const char *path, uint64_t fp, lt_error *err)

@@ -211,6 +211,36 @@ assert sorted(seen) == [("1", "lcdm-flat"), ("2", "wcdm-flat"), ("3", "w0wa-flat
 PY
 then pass "compare on 2 threads: one whole progress line per model on stderr"; else fail "compare on 2 threads: one whole progress line per model on stderr"; fi
 
+# Issue 20: the nested runs' progress, a line per 1000 iterations and one at
+# the end of each model with --verbose (models side by side: lines whole);
+# the last line of each model carries its run's iterations and evaluations
+# (the JSON's) and a remaining dlogz under the stopping rule's 0.01 (printed
+# to 3 digits, so at most 0.01); none with --quiet --verbose, and none off a
+# terminal without --verbose (the 2-thread check above).
+run "$LANTERN" compare "${DATA[@]}" --models lcdm-flat,wcdm-flat,w0wa-flat --live-points 400 --seed 5 \
+    --format json --threads 2 --verbose
+if [ "$STATUS" -eq 0 ] && /usr/bin/python3 - "$ERR" "$OUT" <<'PY'
+import json, re, sys
+lines = open(sys.argv[1]).read().split("\n")
+assert lines[-1] == "", "stderr ends in a whole line"
+runs = {}
+for l in lines[:-1]:
+    m = re.fullmatch(r"nested sampling (\S+): (\d+) iterations, (\d+) likelihood evaluations, "
+                     r"ln Z = (-?[0-9.]+), the live points could add ([0-9.e+-]+)", l)
+    if m:
+        runs.setdefault(m.group(1), []).append((int(m.group(2)), int(m.group(3)), float(m.group(4)), float(m.group(5))))
+j = {m["model"]: m["evidence"] for m in json.load(open(sys.argv[2]))["models"]}
+assert sorted(runs) == sorted(j), (sorted(runs), sorted(j))
+for name, r in runs.items():
+    assert [x[0] for x in r[:-1]] == [1000 * (i + 1) for i in range(len(r) - 1)], r
+    it, ev, lz, left = r[-1]
+    assert it == j[name]["iterations"] and ev == j[name]["evals"], (r[-1], j[name])
+    assert left <= 0.01 and lz <= j[name]["ln_z"] + 1e-3, (r[-1], j[name]["ln_z"])  # printed to 3 digits
+PY
+then pass "compare --verbose: nested progress lines per model, the last one the run's"; else fail "compare --verbose: nested progress lines per model, the last one the run's"; fi
+run "$LANTERN" compare "${DATA[@]}" --models lcdm-flat --live-points 200 --format json --verbose --quiet
+! grep -q "^nested sampling" "$ERR" && pass "compare --quiet: no nested progress" || fail "compare --quiet: no nested progress"
+
 run "$LANTERN" compare "${DATA[@]}" --models lcdm-flat,wcdm-flat,w0wa-flat --live-points 400 --seed 6 --resume "$E2E_TMP/cut"
 expect_error "compare --resume with another seed is refused" 2 "belongs to another run"
 run "$LANTERN" compare "${DATA[@]}" "${CMP[@]}" --resume "$E2E_TMP/nowhere"
