@@ -23,7 +23,7 @@ fi
 run "$LANTERN" sample "${DEMO[@]}" --model lcdm-flat --out "$D" --force --quiet
 left=$(cd "$D" && find . -type f ! -name .lantern-output | sort | tr '\n' ' ')
 if [ "$STATUS" -eq 0 ] &&
-   [ "$left" = "./chains.csv ./chains.fits ./checkpoint/settings.ini ./checkpoint/state.bin ./notes.txt ./summary.json " ]; then
+   [ "$left" = "./chains.csv ./chains.fits ./checkpoint/evaluations.txt ./checkpoint/settings.ini ./checkpoint/state.bin ./notes.txt ./summary.json " ]; then
     pass "sample --force over a fit folder: residuals.csv gone, notes kept"
 else
     fail "sample --force over a fit folder: residuals.csv gone, notes kept (left: $left)"
