@@ -40,7 +40,9 @@ typedef struct {
     char *knots, *counts; /* the checkpoint's compression.txt, evaluations.txt, or NULL */
     size_t evals_before;  /* evaluations before the current sampling began: the best fit,
                            * samplings a refinement replaced */
-    size_t evals_check;   /* the compression checks' */
+    size_t evals_check;   /* the compression checks that led to a refinement */
+    size_t evals_last;    /* the last check's, which found the draws good: not kept in
+                           * evaluations.txt, because a resumed run checks again */
 } ais_run;
 
 /* Fresh work spaces; the evaluations of the old ones, whose draws a
@@ -212,7 +214,10 @@ static int check(ais_run *r, lt_compression_check *chk, lt_error *err)
     size_t m = pipeline_resample(rows, lt_ais_weights(r->s), n, rs, CHECK_RESAMPLE, 0.5, pick);
     int rc = lt_like_check_posterior(r->l, pick, m, rs, LT_CHECK_BOUND, chk, err);
     free(pick);
-    r->evals_check += chk->evals;
+    if (!rc && !chk->refined)
+        r->evals_last = chk->evals;
+    else
+        r->evals_check += chk->evals;
     return rc;
 }
 
@@ -264,7 +269,7 @@ static int ais_result(void *p, const lt_pipeline_hooks *h, lt_posterior *post, l
             lp += lt_prior_logpdf(lt_like_prior(r->l, i), rows[k * rs + i]);
         inside += isfinite(lp);
     }
-    post->evals += r->evals_before + r->evals_check + inside;
+    post->evals += r->evals_before + r->evals_check + r->evals_last + inside;
     return LT_OK;
 }
 

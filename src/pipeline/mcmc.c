@@ -33,7 +33,9 @@ typedef struct {
     char *counts;       /* its evaluations.txt, or NULL */
     size_t evals_before; /* evaluations not in the chains' work spaces: the best fit, a
                           * resumed run's first part (chains a refinement replaced: w.gone) */
-    size_t evals_check;  /* the compression checks' */
+    size_t evals_check;  /* the compression checks that led to a refinement */
+    size_t evals_last;   /* the last check's, which found the draws good: not kept in
+                          * evaluations.txt, because a resumed run checks again */
 } mcmc_run;
 
 /* Every evaluation so far. */
@@ -195,9 +197,12 @@ static int mcmc_iterate(void *p, const char *state, uint64_t fp, volatile sig_at
          * more knots (or the exact path) fix it, sample again with them */
         lt_compression_check chk;
         rc = lt_mcmc_check_compression(r->l, r->m, &chk, err);
-        r->evals_check += chk.evals;
         if (rc)
             return rc;
+        if (!chk.refined)
+            r->evals_last = chk.evals;
+        else
+            r->evals_check += chk.evals;
         if (!pipeline_after_check(h, cmp, &chk))
             return LT_OK;
         lt_mcmc_free(r->m);
@@ -232,7 +237,7 @@ static int mcmc_result(void *p, const lt_pipeline_hooks *h, lt_posterior *post, 
                                         err);
     if (!rc) {
         post->compression = r->cmp;
-        post->evals += evals_now(r);
+        post->evals += evals_now(r) + r->evals_last;
     }
     return rc;
 }
