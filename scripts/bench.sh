@@ -10,6 +10,9 @@ for b in build/tests/bench/bench_*; do
     "$b"
 done
 echo
+echo "== samplers: the whole sample command per model (scripts/bench_samplers.sh; about a minute)"
+bash scripts/bench_samplers.sh
+echo
 echo "== threads under load (scripts/bench_threads.sh; about a minute)"
 bash scripts/bench_threads.sh
 echo

@@ -27,8 +27,10 @@ typedef struct lt_optim_opts {
     const double *scale;  /* dim: a typical size of each parameter's range */
     double tol;           /* simplex size at which to stop, in units of scale */
     size_t max_evals;     /* per start and stage */
-    int quick;            /* one simplex run per start: no restarts, no BFGS polish (a
-                           * sampler's starting point, or a polish from a good start) */
+    int quick;            /* no BFGS polish: simplex runs only, restarted until a restart
+                           * no longer helps (a sampler's starting point, or a polish from
+                           * a good start: one simplex run can stall on a long, curved
+                           * valley, 0.01 off in chi2 for w0-wa, where a restart moves on) */
     /* when set, checked between simplex iterations: a nonzero value stops
      * the search with LT_EINTR (a signal during a long best fit); NULL: none */
     volatile sig_atomic_t *stop;
@@ -240,14 +242,16 @@ double lt_diag_pareto_k(const double *logw, size_t n);
 /*
  * Adaptive importance sampling with recycling (src/inference/importance.c
  * has the method and its sources): a mixture of Student-t components, seeded
- * from a centre and a covariance (the best fit and its Laplace covariance),
+ * from a centre and a covariance (the best fit and its Laplace covariance)
+ * or fitted to draws of a rough posterior (a short nested run),
  * is adapted by weighted EM from iteration to iteration; every draw of every
  * iteration is kept, weighted by p(x) over the mixture of all proposals so
  * far. Iterations stop once an adapted proposal has drawn and every
  * parameter's importance-sampling ESS (the smallest of those of its mean
  * and its 5% and 95% quantile indicators, lt_diag_ess_is) reaches
- * target_ess: converged if Pareto k is then at most max_k (more draws do
- * not lower k, a property of the weights' distribution); or at max_draws
+ * target_ess: converged if Pareto k is then at most max_k; a k above it
+ * is estimated again when the ESS reaches twice the target (on a thousand
+ * or two draws the estimate is noisy), and then decides; or at max_draws
  * (not converged). Draws outside the prior
  * cost no likelihood evaluation (the log-density returns -inf there first).
  * The same seed gives the same draws with any thread count and after save
@@ -259,6 +263,13 @@ typedef struct lt_ais_opts {
     const double *center;  /* dim */
     const double *cov;     /* dim x dim, or NULL (or not positive definite): diag(scale^2) */
     const double *scale;   /* dim */
+    /* A rough posterior to start from (a short nested run), or nseed 0:
+     * the first proposal is then fitted to these draws by weighted EM,
+     * and center and cov are their weighted moments; they are copied, and
+     * they weigh nothing in the estimates (their density is unknown). */
+    const double *seed_draws;   /* nseed x dim */
+    const double *seed_weights; /* nseed, >= 0, any scale */
+    size_t nseed;
     size_t batch;          /* draws of each adapting iteration (0: max(500, 100 dim)) */
     size_t max_draws;      /* 0: 10^6 */
     double target_ess;
@@ -380,7 +391,8 @@ void lt_nested_result_free(lt_nested_result *r);
 
 /*
  * The same run in steps, for interruption and resume: alloc draws and
- * evaluates the live points; iterate runs until the stopping rule (or
+ * evaluates the live points (LT_ENUMERIC if not one of them is possible:
+ * no replacement could ever be found); iterate runs until the stopping rule (or
  * max_iter) and returns LT_OK, or LT_EINTR as soon as *stop is set, between
  * two iterations, so that save then load then iterate gives exactly the
  * result of an uninterrupted run; result_get gives the evidence and
@@ -418,8 +430,8 @@ double lt_like_nested_loglike(const double *theta, void *ctx);
 typedef struct lt_fit_opts {
     unsigned long seed; /* for the random starts */
     size_t starts;      /* how many (the first is the centre of the prior) */
-    int quick;          /* a rough best fit (tolerance 1e-4 of the prior widths, no restarts
-                         * or polish: lt_optim_opts.quick), as a sampler's start */
+    int quick;          /* a rough best fit (tolerance 1e-4 of the prior widths, no
+                         * polish: lt_optim_opts.quick), as a sampler's start */
     volatile sig_atomic_t *stop; /* as in lt_optim_opts; NULL: none */
 } lt_fit_opts;
 

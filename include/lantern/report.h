@@ -168,6 +168,9 @@ typedef struct lt_run_model {
     int weighted;               /* weights present (summary.json "weighted": true must
                                  * come with them); rhat_max is then NaN (null) and
                                  * ess_min the importance-sampling ESS */
+    int independent;            /* the draws are independent, in the order drawn (the
+                                 * summary's sampler.method names importance sampling),
+                                 * not the steps of chains */
     double chi2_min, aic, bic, offset_best, rhat_max, ess_min;
     double ln_z, ln_z_err;      /* NaN where no evidence was computed */
     long dof;

@@ -1,7 +1,7 @@
 /*
- * lantern sample: the posterior by adaptive Metropolis with parallel chains,
- * convergence checks, chain files and checkpoints; --resume continues a
- * stopped run.
+ * lantern sample: the posterior by adaptive importance sampling or adaptive
+ * Metropolis with parallel chains, convergence checks, chain files and
+ * checkpoints; --resume continues a stopped run.
  */
 #include <stdlib.h>
 #include <string.h>
@@ -29,8 +29,12 @@ static int sample_model(lt_job *j, lt_like *l, const lt_like_spec *spec, int res
     int rc = lt_pipeline_sample(l, j, spec, &o, &post, &json, &stage, &err);
     cli_progress_end(&pr);
     if (rc == LT_EINTR) {
-        if (stage == 0)
+        if (stage == 0 && !strcmp(j->sampler, "mcmc"))
             fputs("lantern: interrupted during the best fit, before sampling began\n", stderr);
+        else if (stage == 0)
+            fputs("lantern: interrupted during the nested run that starts the importance "
+                  "sampling, before sampling began\n",
+                  stderr);
         else if (stage == 2)
             fputs("lantern: interrupted during the evidence; the checkpoints are kept\n", stderr);
         else if (out)

@@ -414,6 +414,18 @@ lt_nested *lt_nested_alloc(const lt_nested_opts *o, lt_prior_transform transform
 #pragma omp parallel for schedule(dynamic, 4) num_threads(threads)
     for (size_t i = 0; i < n; i++)
         s->ll[i] = f(s->th + i * d, ctx[omp_get_thread_num()]);
+    /* with no possible live point, no replacement would ever be found */
+    size_t possible = 0;
+    for (size_t i = 0; i < n; i++)
+        possible += isfinite(s->ll[i]) != 0;
+    if (possible == 0) {
+        lt_nested_free(s);
+        lt_error_set(err, LT_ENUMERIC, NULL, 0,
+                     "none of %zu points drawn from the prior is possible (each lies outside "
+                     "the physical domain): the priors hold too few possible points",
+                     n);
+        return NULL;
+    }
     s->evals = n;
     s->logz = -INFINITY;
     s->logx = 0.0;

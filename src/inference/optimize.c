@@ -143,7 +143,7 @@ int lt_optimize(lt_objective f, void *ctx, const lt_optim_opts *o, double *x_bes
         int conv = 0;
         double fk = simplex(&s, u, o->tol, o->max_evals, &conv, o->stop);
         /* restart from the result until the restart no longer helps */
-        for (int r = 0; r < 5 && !o->quick && !(o->stop && *o->stop); r++) {
+        for (int r = 0; r < 5 && !(o->stop && *o->stop); r++) {
             double again = simplex(&s, u, o->tol, o->max_evals, &conv, o->stop);
             int better = again < fk - 1e-12 * (1 + fabs(fk));
             fk = fmin(fk, again);

@@ -1,6 +1,7 @@
 /*
- * The importance-sampling method (lt_method_importance): a rough best fit
- * and its Laplace covariance as the first proposal, adaptive importance
+ * The importance-sampling method (lt_method_importance): a short nested
+ * run (or, for many parameters, a rough best fit and its Laplace
+ * covariance) to fit the first proposal to, adaptive importance
  * sampling (lt_ais) until converged, the compression checked on a weighted
  * resample of the draws (and the sampling done again where more knots fix
  * it). lantern sample and run's models run it through lt_pipeline_run,
@@ -126,29 +127,96 @@ static uint64_t ais_fingerprint(const void *p, lt_fingerprint *fp)
     return lt_fingerprint_value(fp);
 }
 
-/* The first proposal: a rough best fit (one start, no polish) and its
- * Laplace covariance; where that fails (a best fit at a prior edge), a
- * tenth of each prior's width, which the adaptation then corrects. */
+/* Seeding by nested sampling: live points (at least SEED_LIVE_MIN, and
+ * SEED_LIVE_PER_DIM per parameter), stopped once the live points could
+ * add less than SEED_DLOGZ to ln Z, for models of up to SEED_DIM_MAX
+ * parameters (beyond, the ellipsoids of a short run bound the posterior
+ * poorly and a nested run costs more than the sampling). */
+#define SEED_LIVE_MIN 100
+#define SEED_LIVE_PER_DIM 20
+#define SEED_DLOGZ 0.5
+#define SEED_DIM_MAX 16
+
+/* A short nested run from the prior: its dead and live points, weighted,
+ * are a rough posterior that finds curved and prior-bounded shapes (and
+ * several modes) that a Laplace covariance at the best fit misses. The
+ * evaluations join evals_before; nr is filled (free it) on LT_OK. */
+static int seed_nested(ais_run *r, volatile sig_atomic_t *stop, lt_nested_result *nr,
+                       lt_error *err)
+{
+    size_t d = lt_like_dim(r->l), live = SEED_LIVE_PER_DIM * d;
+    lt_like_nested *ctx = calloc(r->w.n, sizeof *ctx);
+    void **cp = calloc(r->w.n, sizeof *cp);
+    if (!ctx || !cp) {
+        free(ctx), free(cp);
+        return lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
+    }
+    for (size_t t = 0; t < r->w.n; t++)
+        ctx[t] = (lt_like_nested){r->w.ctx[t], lt_like_lognorm(r->l)}, cp[t] = &ctx[t];
+    lt_nested_opts no = {.dim = d, .nlive = live > SEED_LIVE_MIN ? live : SEED_LIVE_MIN,
+                         .seed = r->j->seed, .dlogz = SEED_DLOGZ, .enlarge = 1.25,
+                         .max_iter = 10000000, .threads = r->threads};
+    int rc;
+    lt_nested *ns = lt_nested_alloc(&no, lt_like_prior_transform, (void *)r->l,
+                                    lt_like_nested_loglike, cp, err);
+    if (!ns)
+        rc = err->code;
+    else if (!(rc = lt_nested_iterate(ns, stop, err)))
+        rc = lt_nested_result_get(ns, nr, err);
+    if (!rc)
+        r->evals_before += nr->evals;
+    lt_nested_free(ns);
+    free(ctx), free(cp);
+    return rc;
+}
+
+/* The first proposal. Up to SEED_DIM_MAX parameters: fitted to a short
+ * nested run's posterior. Beyond: a rough best fit (one start, no polish)
+ * and its Laplace covariance, or where that fails (a best fit at a prior
+ * edge) a tenth of each prior's width, which the adaptation then corrects. */
 static int ais_start(void *p, volatile sig_atomic_t *stop, lt_error *err)
 {
     ais_run *r = p;
     const lt_job *j = r->j;
     size_t d = lt_like_dim(r->l);
-    lt_fit_opts fo = {.seed = j->seed, .starts = 1, .quick = 1, .stop = stop};
-    lt_fit_result fr;
-    int rc = lt_fit_run(r->l, &fo, &fr, err);
-    r->evals_before += fr.evals;
-    if (rc)
-        return rc;
     double scale[LT_MAX_FREE];
     for (size_t i = 0; i < d; i++) {
         const lt_prior *pr = lt_like_prior(r->l, i);
         scale[i] = pr->kind == LT_PRIOR_UNIFORM ? 0.1 * (pr->b - pr->a) : pr->b;
     }
-    lt_ais_opts ao = {.dim = d, .nextra = 1, .seed = j->seed, .center = fr.best,
-                      .cov = fr.laplace_ok ? fr.cov : NULL, .scale = scale,
+    lt_ais_opts ao = {.dim = d, .nextra = 1, .seed = j->seed, .scale = scale,
                       .max_draws = max_draws(j), .target_ess = j->target_ess,
                       .threads = r->threads};
+    int rc;
+    if (d <= SEED_DIM_MAX) {
+        lt_nested_result nr;
+        if ((rc = seed_nested(r, stop, &nr, err)))
+            return rc;
+        double *w = malloc((nr.nsamples ? nr.nsamples : 1) * sizeof *w);
+        size_t best = 0;
+        for (size_t k = 0; w && k < nr.nsamples; k++) {
+            w[k] = exp(nr.logw[k]);
+            if (nr.loglike[k] > nr.loglike[best])
+                best = k;
+        }
+        if (w) {
+            ao.center = nr.theta + best * d;
+            ao.seed_draws = nr.theta, ao.seed_weights = w, ao.nseed = nr.nsamples;
+            r->s = lt_ais_alloc(&ao, lt_like_logdensity, r->w.ctxp, err);
+        } else {
+            lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
+        }
+        free(w);
+        lt_nested_result_free(&nr);
+        return r->s ? LT_OK : err->code;
+    }
+    lt_fit_opts fo = {.seed = j->seed, .starts = 1, .quick = 1, .stop = stop};
+    lt_fit_result fr;
+    rc = lt_fit_run(r->l, &fo, &fr, err);
+    r->evals_before += fr.evals;
+    if (rc)
+        return rc;
+    ao.center = fr.best, ao.cov = fr.laplace_ok ? fr.cov : NULL;
     r->s = lt_ais_alloc(&ao, lt_like_logdensity, r->w.ctxp, err);
     return r->s ? LT_OK : err->code;
 }

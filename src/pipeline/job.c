@@ -33,7 +33,7 @@ void lt_job_init(lt_job *j)
     j->target_ess = 1000;
     j->thin = 1;
     j->live_points = 1000;
-    j->sampler = "mcmc"; /* auto becomes the default once every model converges under it */
+    j->sampler = "auto";
 }
 
 void lt_job_free(lt_job *j)

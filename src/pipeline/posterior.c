@@ -138,9 +138,9 @@ static int alloc_columns(const lt_like *l, size_t n, lt_posterior *r, int *der, 
 /*
  * What every sampled posterior shares once its rows (and weights) are in:
  * the pivot redshift, the derived columns, the summaries, and the best draw
- * polished by the optimiser (a single simplex run when quick: the draws'
- * best is then close enough that restarts and a BFGS stage add evaluations
- * but not digits of chi2_min). *evals receives the polish's evaluations.
+ * polished by the optimiser (simplex runs only when quick: the draws'
+ * best is then close enough that a BFGS stage adds evaluations but not
+ * digits of chi2_min). *evals receives the polish's evaluations.
  */
 static int finish_draws(const lt_like *l, lt_posterior *r, const int *der, int nder, int quick,
                         size_t *evals, lt_error *err)

@@ -486,7 +486,10 @@ static void draw_traces(const void *p)
             /* the draws as sampled: a trace shows how a chain moved, which
              * importance weights do not change, so it leaves them out */
             char t[200];
-            if (m->weighted)
+            if (m->independent)
+                snprintf(t, sizeof t, "%s: %zu independent draws in the order drawn "
+                         "(importance sampling; weights not shown)", m->label, n);
+            else if (m->weighted)
                 snprintf(t, sizeof t, "traces of %s: %zu chains (colours) x %zu draws as sampled "
                          "(importance weights not shown)", m->label, m->nchains, n);
             else if (every > 1)
@@ -501,7 +504,7 @@ static void draw_traces(const void *p)
     }
     plcol0(C_INK);
     /* thinned rows (--thin, the importance weighting) are placed at their steps */
-    plmtex("b", 3.0, 0.5, 0.5, "step after warm-up");
+    plmtex("b", 3.0, 0.5, 0.5, m->independent ? "draw" : "step after warm-up");
     free(x);
     free(y);
 }

@@ -409,6 +409,9 @@ static int load(const char *path, const char *fits, const char *chains, lt_run_m
     m->ln_z = jnum(ev, "ln_z"), m->ln_z_err = jnum(ev, "ln_z_err");
     m->converged = cJSON_IsTrue(cJSON_GetObjectItemCaseSensitive(j, "converged"));
     m->weighted = cJSON_IsTrue(cJSON_GetObjectItemCaseSensitive(j, "weighted"));
+    const cJSON *smp = cJSON_GetObjectItemCaseSensitive(j, "sampler");
+    const cJSON *smeth = cJSON_GetObjectItemCaseSensitive(smp, "method");
+    m->independent = cJSON_IsString(smeth) && strstr(smeth->valuestring, "importance sampling");
     const cJSON *cv = cJSON_GetObjectItemCaseSensitive(j, "convergence");
     m->rhat_max = jnum(cv, "rhat_max"), m->ess_min = jnum(cv, "ess_min");
     m->nchains = (size_t)jnum(cv, "chains");

@@ -8,7 +8,7 @@ source "$(dirname "$0")/lib.sh"
 P="${LANTERN_SHARED:-$ROOT/../shared}/data/pantheon2018"
 DATA=(--data "$P/lcparam_DS17f.txt" --columns z=zcmb,zhel=zhel,mag=mb,err=dmb --cov "$P/sys_DS17f.txt")
 # 4 chains of about 31000 draws: a file large enough for the progress line
-LONG=(--model lcdm-flat --target-ess 30000 --seed 5)
+LONG=(--model lcdm-flat --sampler mcmc --target-ess 30000 --seed 5)
 
 run "$LANTERN" sample "${DATA[@]}" "${LONG[@]}" --out "$E2E_TMP/all" --verbose
 # the rows in all: the chains' draws as summary.json counts them
@@ -45,6 +45,7 @@ cov = $P/sys_DS17f.txt
 [model]
 name = lcdm-flat
 [sampler]
+method = mcmc
 seed = 5
 target_ess = 30000
 thin = 3
@@ -129,7 +130,7 @@ for bad in 0 -2 1.5 x ""; do
 done
 sed 's/^thin = 3$/thin = 2.5/' "$E2E_TMP/thin3.ini" >"$E2E_TMP/bad.ini"
 run "$LANTERN" sample "$E2E_TMP/bad.ini" --out "$E2E_TMP/bad"
-expect_error "[sampler] thin = 2.5 refused with file:line" 2 "bad.ini:10: thin = '2.5' is not a whole number"
+expect_error "[sampler] thin = 2.5 refused with file:line" 2 "bad.ini:11: thin = '2.5' is not a whole number"
 [ ! -e "$E2E_TMP/bad" ] && pass "a refused thin writes nothing" || fail "a refused thin writes nothing"
 
 # Weighted draws (a weight column after step) in both files, as astropy

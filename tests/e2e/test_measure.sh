@@ -169,7 +169,8 @@ assert j["converged"] is True and set(j["params"]) == {"h0", "omega_m", "offset"
 assert j["params"]["h0"]["prior"] == "U(40, 100)" and j["params"]["offset"]["prior"] == "U(-21, -17)"
 out = []
 for n, (m, sd) in ref.items():
-    ess = j["convergence"]["params"][n]["ess_bulk"]
+    cp = j["convergence"]["params"][n]  # chains: bulk ESS; weighted draws: their IS ESS
+    ess = cp.get("ess_bulk", cp.get("ess_weighted"))
     out.append(pref.close(n + " mean", j["params"][n]["mean"], m, sd, ess))
     out.append(pref.close(n + " sd", j["params"][n]["sd"], sd, sd, ess))
 print("; ".join(out))
@@ -279,7 +280,8 @@ out = []
 for n, sec in (("omega_m", "params"), ("omega_de", "params"), ("omega_k", "derived")):
     m, sd = ref[n]
     # a derived quantity has no ESS of its own: the smallest over the parameters
-    ess = j["convergence"]["params"][n]["ess_bulk"] if sec == "params" else j["convergence"]["ess_min"]
+    cp = j["convergence"]["params"].get(n, {})
+    ess = cp.get("ess_bulk", cp.get("ess_weighted")) if sec == "params" else j["convergence"]["ess_min"]
     out.append(pref.close(n + " mean", j[sec][n]["mean"], m, sd, ess))
     out.append(pref.close(n + " sd", j[sec][n]["sd"], sd, sd, ess))
 print("; ".join(out))

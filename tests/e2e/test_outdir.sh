@@ -23,7 +23,7 @@ fi
 run "$LANTERN" sample "${DEMO[@]}" --model lcdm-flat --out "$D" --force --quiet
 left=$(cd "$D" && find . -type f ! -name .lantern-output | sort | tr '\n' ' ')
 if [ "$STATUS" -eq 0 ] &&
-   [ "$left" = "./chains.csv ./chains.fits ./checkpoint/evaluations.txt ./checkpoint/settings.ini ./checkpoint/state.bin ./notes.txt ./summary.json " ]; then
+   [ "$left" = "./chains.csv ./chains.fits ./checkpoint/evaluations.txt ./checkpoint/importance.bin ./checkpoint/settings.ini ./notes.txt ./summary.json " ]; then
     pass "sample --force over a fit folder: residuals.csv gone, notes kept"
 else
     fail "sample --force over a fit folder: residuals.csv gone, notes kept (left: $left)"
@@ -77,14 +77,15 @@ stop_during_fit() {
     STATUS=$?
 }
 
-# 1000 starts on the 1048 objects make a best fit of tens of seconds: the
+# 1000 starts on the 1048 objects make a best fit of tens of seconds (MCMC
+# starts from it; importance sampling from a nested run instead): the
 # signal lands in it, before any sampler runs (it once killed the process
 # with the default action: status 130 or 143). Now: status 1, a message,
 # and no folder (nothing of the run was written).
 BIG=(--data "$P/lcparam_full_long_zhel.txt" --columns z=zcmb,zhel=zhel,mag=mb,err=dmb --model w0wa --starts 1000)
 for sig in INT TERM; do
     S="$E2E_TMP/sig-$sig"
-    stop_during_fit $sig "$S" "$LANTERN" sample "${BIG[@]}" --out "$S" --quiet
+    stop_during_fit $sig "$S" "$LANTERN" sample "${BIG[@]}" --sampler mcmc --out "$S" --quiet
     if [ "$STATUS" -eq 1 ] && grep -q "interrupted during the best fit" "$ERR" && [ ! -e "$S" ]; then
         pass "sample: SIG$sig during the best fit stops in order (status 1, no folder left)"
     else
@@ -101,6 +102,8 @@ file = $P/lcparam_full_long_zhel.txt
 columns = z=zcmb,zhel=zhel,mag=mb,err=dmb
 [fit]
 starts = 1000
+[sampler]
+method = mcmc
 INI
 R="$E2E_TMP/big-run"
 stop_during_fit TERM "$R" "$LANTERN" run "$E2E_TMP/big.ini" --out "$R" --quiet

@@ -93,7 +93,7 @@ else
 fi
 
 # Issue 16, items 3, 6 and 7: a run on other data (the Pantheon 2018 binned
-# table, 40 bins) whose model stops at a step cap (20000 steps: the chains spread
+# table, 40 bins) whose model stops at a step cap (MCMC, 20000 steps: the chains spread
 # over the exact h0-offset ridge, whatever the seed or BLAS kernel, but mix along it
 # far too slowly to converge: ESS about 7), with h0 free beside a
 # sampled offset (a --prior on offset frees h0: the two are degenerate, so
@@ -110,6 +110,7 @@ cov = $P/sys_DS17f.txt
 [priors]
 offset = uniform:-21:-17
 [sampler]
+method = mcmc
 chains = 4
 seed = 5
 max_steps = 20000

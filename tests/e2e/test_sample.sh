@@ -1,5 +1,6 @@
 #!/usr/bin/env bash
-# End-to-end tests of "lantern sample": the acceptance command, chain files
+# End-to-end tests of "lantern sample --sampler mcmc" (the chains; the
+# importance sampler is test_importance.sh's): the acceptance command, chain files
 # read by astropy, the same chains with 1 and 2 threads, interrupt and
 # resume, the step cap, and the refusals.
 source "$(dirname "$0")/lib.sh"
@@ -7,7 +8,7 @@ P="${LANTERN_SHARED:-$ROOT/../shared}/data/pantheon2018"
 DATA=(--data "$P/lcparam_DS17f.txt" --columns z=zcmb,zhel=zhel,mag=mb,err=dmb --cov "$P/sys_DS17f.txt")
 
 # The acceptance command of issue 5.
-run "$LANTERN" sample "${DATA[@]}" --model lcdm --out "$E2E_TMP/a" --format json
+run "$LANTERN" sample --sampler mcmc "${DATA[@]}" --model lcdm --out "$E2E_TMP/a" --format json
 if [ "$STATUS" -eq 0 ] && /usr/bin/python3 - "$OUT" "$E2E_TMP/a" <<'PY'
 import json, sys
 import numpy as np
@@ -45,22 +46,22 @@ then pass "sample Pantheon 2018 curved LCDM: converged, contract fields, chains 
 [ -s "$E2E_TMP/a/checkpoint/state.bin" ] && [ -s "$E2E_TMP/a/checkpoint/settings.ini" ] && pass "--out keeps the checkpoint" || fail "--out keeps the checkpoint"
 
 # Same seed, one thread and two: identical chain files.
-run "$LANTERN" sample "${DATA[@]}" --model lcdm-flat --threads 1 --seed 7 --out "$E2E_TMP/t1" --quiet
-run "$LANTERN" sample "${DATA[@]}" --model lcdm-flat --threads 2 --seed 7 --out "$E2E_TMP/t2" --quiet
+run "$LANTERN" sample --sampler mcmc "${DATA[@]}" --model lcdm-flat --threads 1 --seed 7 --out "$E2E_TMP/t1" --quiet
+run "$LANTERN" sample --sampler mcmc "${DATA[@]}" --model lcdm-flat --threads 2 --seed 7 --out "$E2E_TMP/t2" --quiet
 if cmp -s "$E2E_TMP/t1/chains.csv" "$E2E_TMP/t2/chains.csv" && cmp -s "$E2E_TMP/t1/chains.fits" "$E2E_TMP/t2/chains.fits" &&
    cmp -s "$E2E_TMP/t1/summary.json" "$E2E_TMP/t2/summary.json"; then
     pass "1 and 2 threads give byte-identical chains and summary"
 else
     fail "1 and 2 threads give byte-identical chains and summary"
 fi
-run "$LANTERN" sample "${DATA[@]}" --model lcdm-flat --threads 2 --seed 8 --out "$E2E_TMP/t3" --quiet
+run "$LANTERN" sample --sampler mcmc "${DATA[@]}" --model lcdm-flat --threads 2 --seed 8 --out "$E2E_TMP/t3" --quiet
 cmp -s "$E2E_TMP/t1/chains.csv" "$E2E_TMP/t3/chains.csv" && fail "another seed, other chains" || pass "another seed, other chains"
 
 # Interrupt (SIGINT) and resume: the same chains as an uninterrupted run.
 LONG=(--model lcdm --target-ess 25000 --seed 3 --threads 2 --quiet)
-run "$LANTERN" sample "${DATA[@]}" "${LONG[@]}" --out "$E2E_TMP/full"
+run "$LANTERN" sample --sampler mcmc "${DATA[@]}" "${LONG[@]}" --out "$E2E_TMP/full"
 expect_status "a long reference run" 0
-interrupt "$E2E_TMP/cut" "$LANTERN" sample "${DATA[@]}" "${LONG[@]}" --out "$E2E_TMP/cut"
+interrupt "$E2E_TMP/cut" "$LANTERN" sample --sampler mcmc "${DATA[@]}" "${LONG[@]}" --out "$E2E_TMP/cut"
 if [ "$STATUS" -eq 1 ] && [ -s "$E2E_TMP/cut/checkpoint/state.bin" ] && [ ! -e "$E2E_TMP/cut/summary.json" ] &&
    [ ! -e "$E2E_TMP/cut/chains.csv" ] && grep -q "resume" "$ERR"; then
     pass "SIGINT: status 1, a checkpoint and no final files"
@@ -80,7 +81,7 @@ fi
 # in the best fit, the warm-up or the sampling; a run that ends before its
 # kill is simply resumed to the same end (--resume of a finished run only
 # rewrites its outputs).
-"$LANTERN" sample "${DATA[@]}" "${LONG[@]}" --out "$E2E_TMP/multi" >"$OUT" 2>"$ERR" &
+"$LANTERN" sample --sampler mcmc "${DATA[@]}" "${LONG[@]}" --out "$E2E_TMP/multi" >"$OUT" 2>"$ERR" &
 pid=$!
 wait_for "$E2E_TMP/multi/checkpoint/settings.ini"
 sleep 0.1
@@ -106,7 +107,7 @@ else
 fi
 
 # The step cap: status 3, results written and marked unconverged.
-run "$LANTERN" sample "${DATA[@]}" --model lcdm --max-steps 200 --check-every 100 --out "$E2E_TMP/cap" --format json
+run "$LANTERN" sample --sampler mcmc "${DATA[@]}" --model lcdm --max-steps 200 --check-every 100 --out "$E2E_TMP/cap" --format json
 if [ "$STATUS" -eq 3 ] && grep -q '"converged":[[:space:]]*false' "$E2E_TMP/cap/summary.json" && grep -q "did not converge" "$ERR"; then
     pass "the step cap: status 3 and \"converged\": false"
 else
@@ -131,7 +132,7 @@ fi
 # exp(-(0.022^2 - 0.002^2) / (2 0.022^2)) = 0.61 of that at 0.32. The real
 # posterior is skewed (lantern fit: 0.296 +- 0.022, giving 0.56), so the
 # upper ratio may lie anywhere in 0.3-0.75; the lower must be near 1.
-run "$LANTERN" sample "${DATA[@]}" --model lcdm-flat --prior omega_m=uniform:0.3:0.32 --target-ess 400 \
+run "$LANTERN" sample --sampler mcmc "${DATA[@]}" --model lcdm-flat --prior omega_m=uniform:0.3:0.32 --target-ess 400 \
     --seed 4 --out "$E2E_TMP/fill" --quiet
 if [ "$STATUS" -eq 0 ] && grep -q "lantern: warning: lcdm-flat: the posterior of omega_m reaches both edges of its prior U(0.3, 0.32)" "$ERR" &&
    /usr/bin/python3 - "$E2E_TMP/fill/summary.json" <<'PY'
@@ -143,7 +144,7 @@ assert lo >= 95 and 30 <= hi <= 75, (lo, hi)
 PY
 then pass "a posterior that fills its prior is warned about, on stderr and in the summary"
 else fail "a posterior that fills its prior is warned about, on stderr and in the summary"; fi
-run "$LANTERN" sample "${DATA[@]}" --model lcdm-flat --target-ess 400 --seed 4 --out "$E2E_TMP/inside" --quiet
+run "$LANTERN" sample --sampler mcmc "${DATA[@]}" --model lcdm-flat --target-ess 400 --seed 4 --out "$E2E_TMP/inside" --quiet
 if [ "$STATUS" -eq 0 ] && ! grep -q "reaches" "$ERR"; then
     pass "a posterior well inside its prior draws no edge warning"
 else fail "a posterior well inside its prior draws no edge warning"; fi
@@ -185,11 +186,11 @@ else fail "the changed covariance is still positive definite"; fi
 run "$LANTERN" sample --resume "$E2E_TMP/othercov"
 expect_error "a checkpoint whose covariance differs only off the diagonal is refused" 2 \
     "belongs to another run: the covariance differs"
-run "$LANTERN" sample "${DATA[@]}" --model lcdm --chains 0
+run "$LANTERN" sample --sampler mcmc "${DATA[@]}" --model lcdm --chains 0
 expect_error "bad --chains" 2 "--chains: '0' is not a whole number from 1 to 256"
-run "$LANTERN" sample "${DATA[@]}" --model lcdm --target-ess x
+run "$LANTERN" sample --sampler mcmc "${DATA[@]}" --model lcdm --target-ess x
 expect_error "bad --target-ess" 2 "--target-ess: 'x'"
-run "$LANTERN" sample "${DATA[@]}" --model lcdm --out "$E2E_TMP/a"
+run "$LANTERN" sample --sampler mcmc "${DATA[@]}" --model lcdm --out "$E2E_TMP/a"
 expect_error "an earlier run is refused without --force" 2 "pass --force"
 run "$LANTERN" sample --help
 expect_stdout "sample --help explains the stopping rule" 'R-hat - 1 < 0.01'
@@ -205,7 +206,7 @@ expect_stdout "sample --help explains the stopping rule" 'R-hat - 1 < 0.01'
 # astro-ph/9905116, eq. 16), mu = 5 log10((1 + zhel) D_M) + const, the offset
 # marginalised analytically (chi2 = A - B^2/C, Goliath et al. 2001).
 PANTHEON=(--data "$P/lcparam_full_long_zhel.txt" --columns z=zcmb,zhel=zhel,mag=mb,err=dmb --zmin 0.8)
-run "$LANTERN" sample "${PANTHEON[@]}" --model w0wa --seed 1 --threads 2 --out "$E2E_TMP/z08" --quiet
+run "$LANTERN" sample --sampler mcmc "${PANTHEON[@]}" --model w0wa --seed 1 --threads 2 --out "$E2E_TMP/z08" --quiet
 if [ "$STATUS" -eq 0 ] && /usr/bin/python3 - "$P/lcparam_full_long_zhel.txt" "$E2E_TMP/z08" <<'PY'
 import json, sys
 import numpy as np
