@@ -38,6 +38,7 @@
 #include <signal.h>
 #include <stddef.h>
 #include <stdint.h>
+#include <stdio.h>
 
 #include "lantern/error.h"
 #include "lantern/ini.h"
@@ -181,7 +182,9 @@ uint64_t lt_fingerprint_value(const lt_fingerprint *fp);
 /* Append the parts to a checkpoint's settings file (lt_job_write's) as a
  * comment line, rewriting it atomically; and check them on resume: LT_OK if
  * the file has no such line (an older checkpoint) or every part matches,
- * else LT_EINPUT naming the parts that differ. */
+ * else LT_EINPUT naming the parts that differ. A part of fp that is 0 is
+ * not compared (a caller that rebuilds the likelihood but not the method:
+ * lantern reweight). */
 int lt_fingerprint_write(const char *settings, const lt_fingerprint *fp, lt_error *err);
 int lt_fingerprint_check(const char *settings, const lt_fingerprint *fp, lt_error *err);
 
@@ -394,6 +397,69 @@ typedef struct lt_sample_opts {
  */
 int lt_pipeline_sample(lt_like *l, lt_job *j, const lt_like_spec *spec, const lt_sample_opts *o,
                        lt_posterior *post, struct cJSON **summary, int *stage, lt_error *err);
+
+/* ---- a finished posterior reweighted by added terms (lantern reweight) ---- */
+
+/* The smallest effective sample size a reweighted posterior may keep
+ * (--min-ess): below about a hundred, the 5% and 95% quantiles of a
+ * parameter rest on a handful of draws (common practice, no source). */
+#define LT_REWEIGHT_MIN_ESS 100.0
+
+typedef struct lt_reweight_opts {
+    const char *run;            /* the folder of a finished 'lantern sample --out' */
+    double min_ess;             /* refuse below this ESS (0: LT_REWEIGHT_MIN_ESS) */
+    const char *out;            /* summary.json and the chain files, or NULL */
+    int threads;                /* 0: OpenMP's default */
+    FILE *table;                /* where to print the result as a table (the sample
+                                 * table and a line on the reweighting), or NULL */
+    const lt_pipeline_hooks *hooks;
+} lt_reweight_opts;
+
+typedef struct lt_reweight_info {
+    size_t draws;               /* the run's rows, reweighted */
+    double ess_before, ess_after; /* the run's ess_min, and the reweighted posterior's
+                                   * (at most kish_after: see reweight.c) */
+    double kish_before, kish_after; /* (sum w)^2 / sum w^2 of the run's weights (all 1 for
+                                     * chains: the rows) and of the new ones */
+    double pareto_k;            /* lt_diag_pareto_k of the added terms' likelihood ratios */
+    double chi2_added_best;     /* the added terms' chi2 at the reweighted best fit */
+} lt_reweight_info;
+
+/*
+ * The posterior of a finished sample run (o->run: its summary, chain files
+ * and checkpoint/settings.ini, which says how it was made) with the terms
+ * of add (its data table, BAO, CMB and measurements; none of its priors or
+ * fixed values) added, by importance reweighting: each draw's weight is
+ * multiplied by the ratio of the combined posterior to the run's, both
+ * evaluated here (2 evaluations a draw). The run's own likelihood is rebuilt
+ * from its settings and checked against the checkpoint's digests (its
+ * data or model changed since: LT_EINPUT naming the parts). Refusals, with
+ * LT_EINPUT: a term of a kind the run already has (one table, one BAO, one
+ * CMB term at most); a combined likelihood with a free parameter the run
+ * did not sample (a supernova run with a marginalised offset holds h0
+ * fixed, so BAO cannot be added to it), naming every missing one. The
+ * posterior (post; LT_POST_IMPORTANCE for a run of independent draws,
+ * LT_POST_MCMC for chains, whose ESS then counts their autocorrelation)
+ * and its summary (*summary, with a "reweighted" object; the caller
+ * deletes it) are filled on LT_OK and on LT_ENUMERIC, which says that the
+ * ESS left is below min_ess: nothing is then written. With o->out the
+ * folder is taken (add->force to replace an earlier output), then
+ * summary.json and the chain files written. Free post in every case.
+ */
+int lt_pipeline_reweight(const lt_job *add, const lt_reweight_opts *o, lt_posterior *post,
+                         struct cJSON **summary, lt_reweight_info *info, lt_error *err);
+
+/*
+ * A posterior (method LT_POST_IMPORTANCE or LT_POST_MCMC) from given rows:
+ * nchains x ndraws parameter vectors theta (l's order, rows stride apart),
+ * their logpost and chi2 under l, and weights w (mean 1; NULL: none); the
+ * derived columns, summaries and the best draw polished (its evaluations
+ * in r->evals). converged is left to the caller.
+ */
+int lt_pipeline_rows_posterior(const lt_like *l, lt_post_method method, size_t nchains,
+                               size_t ndraws, const double *theta, size_t stride,
+                               const double *logpost, const double *chi2, const double *w,
+                               lt_posterior *r, lt_error *err);
 
 /* ---- a run of several models and its report (lantern run, report) ---- */
 

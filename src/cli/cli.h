@@ -107,6 +107,7 @@ int cli_inspect(int argc, char **argv);
 int cli_simulate(int argc, char **argv);
 int cli_fit(int argc, char **argv);
 int cli_sample(int argc, char **argv);
+int cli_reweight(int argc, char **argv);
 int cli_run(int argc, char **argv);
 int cli_compare(int argc, char **argv);
 int cli_bench(int argc, char **argv);

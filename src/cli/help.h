@@ -19,6 +19,7 @@ extern const char cli_help_inspect[];
 extern const char cli_help_simulate[];
 extern const char cli_help_fit[];
 extern const char cli_help_sample[];
+extern const char cli_help_reweight[];
 extern const char cli_help_compare[];
 extern const char cli_help_run[];
 extern const char cli_help_report[];

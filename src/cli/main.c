@@ -28,7 +28,10 @@ static const cli_command commands[] = {
      cli_inspect, 0},
     {"simulate", "simulate a survey from a scenario file", cli_simulate, 1},
     {"fit", "the best fit of a model to a survey, with Laplace errors", cli_fit, 1},
-    {"sample", "the posterior by MCMC, with convergence checks and chain files", cli_sample, 1},
+    {"sample", "the posterior by importance sampling or MCMC, with convergence checks and "
+               "chain files", cli_sample, 1},
+    {"reweight", "add a term (data, BAO, CMB, a measurement) to a finished posterior",
+     cli_reweight, 1},
     {"compare", "compare models: information criteria and Bayesian evidence", cli_compare, 1},
     {"run", "the whole job from a run file: fits, posteriors, comparison, report", cli_run, 1},
     {"report", "rebuild tables and figures from saved runs", cli_report_runs, 1},

@@ -7,6 +7,13 @@
 /* Hand a line to the caller's note hook, if it has one. */
 void pipeline_say(const lt_pipeline_hooks *h, lt_note_kind kind, const char *text);
 
+/* A sampled posterior into its folder out: summary.json (json), the chain
+ * files (every j->thin-th draw, told to h->writing), and the folder marked
+ * done by "lantern VERSION command" (src/pipeline/sample.c). */
+int pipeline_write_posterior(const char *out, const char *command, const lt_like *l,
+                             const lt_job *j, const lt_posterior *r, const struct cJSON *json,
+                             const lt_pipeline_hooks *h, lt_error *err);
+
 /* A refined run's knots file in its checkpoint folder: "KNOTS
  * MAX_ABS_DCHI2", the knots it samples with and the check that asked for
  * them. load applies the knots to l (nothing if the file is absent) and

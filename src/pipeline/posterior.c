@@ -302,6 +302,81 @@ nomem:
 }
 
 
+/* The chains' own diagnostics of r's rows, unweighted (rank-normalised
+ * R-hat, bulk and tail ESS); the acceptance rates and tau are not known
+ * from the rows alone (NaN). */
+static int chains_diag(lt_posterior *r, size_t d)
+{
+    lt_mcmc_diag *g = &r->diag;
+    size_t nc = r->nchains, n = r->ndraws;
+    g->draws_per_chain = n;
+    g->rhat = malloc((d ? d : 1) * sizeof *g->rhat);
+    g->ess_bulk = malloc((d ? d : 1) * sizeof *g->ess_bulk);
+    g->ess_tail = malloc((d ? d : 1) * sizeof *g->ess_tail);
+    g->tau = malloc((d ? d : 1) * sizeof *g->tau);
+    g->acceptance = malloc((nc ? nc : 1) * sizeof *g->acceptance);
+    g->acceptance_first = malloc((nc ? nc : 1) * sizeof *g->acceptance_first);
+    double *x = malloc((nc * n > 0 ? nc * n : 1) * sizeof *x);
+    if (!g->rhat || !g->ess_bulk || !g->ess_tail || !g->tau || !g->acceptance ||
+        !g->acceptance_first || !x) {
+        free(x);
+        return -1;
+    }
+    g->rhat_max = -INFINITY, g->ess_min = INFINITY;
+    for (size_t i = 0; i < d; i++) {
+        for (size_t j = 0; j < nc * n; j++)
+            x[j] = r->rows[j * r->ncols + r->first_param + i];
+        lt_diag_all(x, nc, n, &g->rhat[i], &g->ess_bulk[i], &g->ess_tail[i]);
+        g->tau[i] = NAN;
+        g->rhat_max = fmax(g->rhat_max, g->rhat[i]);
+        g->ess_min = fmin(g->ess_min, fmin(g->ess_bulk[i], g->ess_tail[i]));
+    }
+    for (size_t c = 0; c < nc; c++)
+        g->acceptance[c] = g->acceptance_first[c] = NAN;
+    free(x);
+    return 0;
+}
+
+int lt_pipeline_rows_posterior(const lt_like *l, lt_post_method method, size_t nchains,
+                               size_t ndraws, const double *theta, size_t stride,
+                               const double *logpost, const double *chi2, const double *w,
+                               lt_posterior *r, lt_error *err)
+{
+    memset(r, 0, sizeof *r);
+    r->method = method;
+    size_t d = lt_like_dim(l), n = nchains * ndraws;
+    r->nchains = nchains, r->ndraws = ndraws, r->thin = 1, r->steps = ndraws;
+    int der[LT_NDER + 1], nder;
+    if (alloc_columns(l, n, r, der, &nder) ||
+        (w && !(r->weights = malloc((n ? n : 1) * sizeof *r->weights))))
+        goto nomem;
+    double sw = 0.0, sw2 = 0.0;
+    for (size_t j = 0; j < n; j++) {
+        double *out = r->rows + j * r->ncols;
+        out[LOGPOST] = logpost[j];
+        out[CHI2] = chi2[j];
+        memcpy(out + 2, theta + j * stride, d * sizeof *out);
+        if (w) {
+            r->weights[j] = w[j];
+            sw += w[j], sw2 += w[j] * w[j];
+        }
+    }
+    r->kish_ess = w ? (sw2 > 0.0 ? sw * sw / sw2 : 0.0) : (double)n;
+    size_t polish = 0;
+    int rc = finish_draws(l, r, der, nder, 1, &polish, err);
+    if (rc)
+        return rc;
+    r->evals += polish;
+    r->pareto_k = NAN;
+    r->ln_z = r->ln_z_err = r->information = NAN;
+    if (method == LT_POST_MCMC && chains_diag(r, d))
+        goto nomem;
+    return LT_OK;
+nomem:
+    lt_posterior_free(r);
+    return lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory summarising the draws");
+}
+
 /* Room for a posterior of n rows: logpost, chi2 and l's parameters (no
  * derived columns). */
 static int alloc_rows(const lt_like *l, size_t n, lt_posterior *r)

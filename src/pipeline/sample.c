@@ -67,12 +67,12 @@ static void unconverged(const lt_job *j, const lt_posterior *r, const lt_pipelin
     }
 }
 
-/* The summary and the chains into out, and the folder marked done. */
-static int write(const char *out, const lt_like *l, const lt_job *j, const lt_posterior *r,
-                 const cJSON *json, const lt_pipeline_hooks *h, lt_error *err)
+int pipeline_write_posterior(const char *out, const char *command, const lt_like *l,
+                             const lt_job *j, const lt_posterior *r, const cJSON *json,
+                             const lt_pipeline_hooks *h, lt_error *err)
 {
     char *path = lt_path_join(out, "summary.json", err), what[128];
-    snprintf(what, sizeof what, "lantern %s sample", LT_VERSION);
+    snprintf(what, sizeof what, "lantern %s %s", LT_VERSION, command);
     lt_chains_opts co = {(size_t)j->thin, h ? h->writing : NULL, h ? h->ctx : NULL};
     int rc = !path ? LT_ENOMEM
                    : lt_report_write_json(path, json, err) ||
@@ -173,7 +173,8 @@ int lt_pipeline_sample(lt_like *l, lt_job *j, const lt_like_spec *spec, const lt
     cJSON_AddItemToObject(cv, "file_thin", lt_json_number((double)ft));
     cJSON_AddItemToObject(cv, "file_draws_per_chain",
                           lt_json_number((double)((post->ndraws + ft - 1) / ft)));
-    if (o->out && (rc = write(o->out, l, j, post, *summary, o->hooks, err)))
+    if (o->out && (rc = pipeline_write_posterior(o->out, "sample", l, j, post, *summary, o->hooks,
+                                                err)))
         goto done;
     if (!post->converged)
         unconverged(j, post, o->hooks);

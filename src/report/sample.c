@@ -234,7 +234,13 @@ void lt_report_sample_table(FILE *f, const lt_like *l, const lt_posterior *r,
     lt_report_print_measurements(f, l, r->measured);
     fprintf(f, "\n  chi2_min %.4f for %ld degrees of freedom (the best draw, polished)\n",
             r->at_best.chi2, lt_like_dof(l));
-    if (r->method == LT_POST_IMPORTANCE)
+    if (r->reweighted)
+        fprintf(f, "  %zu %s of the run reweighted by the added terms (%zu likelihood "
+                   "evaluations); smallest weighted ESS %.0f, Kish's ESS %.0f%s\n",
+                r->nchains * r->ndraws,
+                r->method == LT_POST_IMPORTANCE ? "independent draws" : "chain draws", r->evals,
+                r->ess_min_weighted, r->kish_ess, r->converged ? "" : "; NOT CONVERGED");
+    else if (r->method == LT_POST_IMPORTANCE)
         fprintf(f, "  %zu weighted draws of adaptive importance sampling (%zu iterations, %zu "
                    "likelihood evaluations); smallest ESS %.0f, Pareto k %.2f%s\n",
                 r->ndraws, r->iterations, r->evals, r->ess_min_weighted, r->pareto_k,

@@ -10,7 +10,7 @@ DATA=(--data "$P/lcparam_DS17f.txt" --columns z=zcmb,zhel=zhel,mag=mb,err=dmb --
 
 run "$LANTERN" sample "${DATA[@]}" --model lcdm --sampler importance --out "$E2E_TMP/is" --format json --quiet
 cp "$OUT" "$E2E_TMP/is.json"
-run "$LANTERN" sample "${DATA[@]}" --model lcdm --target-ess 4000 --out "$E2E_TMP/mc" --format json --quiet
+run "$LANTERN" sample "${DATA[@]}" --model lcdm --sampler mcmc --target-ess 4000 --out "$E2E_TMP/mc" --format json --quiet
 cp "$OUT" "$E2E_TMP/mc.json"
 # Fields (DESIGN.md: weighted draws have rhat_max null and ess_min the
 # importance-sampling ESS), the chain file's weights (their mean is 1 by

@@ -285,6 +285,33 @@ static void test_threads_same(void **state)
     lt_ais_free(b);
 }
 
+/* The banana made slow (tens of microseconds an evaluation), so that the
+ * first batch takes over 10 ms and the rest are shared out over the
+ * threads (PAR_BATCH_SECONDS in importance.c): the parallel path must give
+ * the same draws as one thread. */
+static double banana_slow_logd(const double *x, void *ctx, double *extra)
+{
+    volatile double busy = 0.0;
+    for (int i = 0; i < 20000; i++)
+        busy = busy + sqrt((double)i);
+    return banana_logd(x, ctx, extra) + 0.0 * busy;
+}
+
+static void test_threads_same_parallel(void **state)
+{
+    (void)state;
+    double c[2] = {0.0, 1.0}, cov[4] = {100, 0, 0, 1}, sc[2] = {10, 1};
+    void *ctx[2] = {NULL, NULL};
+    lt_ais_opts o = {.dim = 2, .seed = 9, .center = c, .cov = cov, .scale = sc,
+                     .target_ess = 1000, .threads = 1};
+    lt_ais *a = run(&o, banana_slow_logd, ctx);
+    o.threads = 2;
+    lt_ais *b = run(&o, banana_slow_logd, ctx);
+    assert_true(same_run(a, b));
+    lt_ais_free(a);
+    lt_ais_free(b);
+}
+
 static void stop_after_two(const lt_ais *s, void *ctx)
 {
     if (lt_ais_diagnostics(s)->iterations >= 2)
@@ -351,6 +378,7 @@ int main(void)
         cmocka_unit_test(test_banana_twisted),
         cmocka_unit_test(test_pareto_k_decides),
         cmocka_unit_test(test_threads_same),
+        cmocka_unit_test(test_threads_same_parallel),
         cmocka_unit_test(test_checkpoint_resume),
     };
     return cmocka_run_group_tests(tests, setup, teardown);
