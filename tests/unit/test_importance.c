@@ -270,19 +270,25 @@ static int same_run(const lt_ais *a, const lt_ais *b)
            memcmp(lt_ais_weights(a), lt_ais_weights(b), na * sizeof *x) == 0;
 }
 
-static void test_threads_same(void **state)
+/* The same draws and weights with one thread and with `threads`. */
+static void check_threads_same(lt_logdensity f, int threads)
 {
-    (void)state;
     double c[2] = {0.0, 1.0}, cov[4] = {100, 0, 0, 1}, sc[2] = {10, 1};
     void *ctx[4] = {NULL, NULL, NULL, NULL};
     lt_ais_opts o = {.dim = 2, .seed = 9, .center = c, .cov = cov, .scale = sc,
                      .target_ess = 1000, .threads = 1};
-    lt_ais *a = run(&o, banana_logd, ctx);
-    o.threads = 4;
-    lt_ais *b = run(&o, banana_logd, ctx);
+    lt_ais *a = run(&o, f, ctx);
+    o.threads = threads;
+    lt_ais *b = run(&o, f, ctx);
     assert_true(same_run(a, b));
     lt_ais_free(a);
     lt_ais_free(b);
+}
+
+static void test_threads_same(void **state)
+{
+    (void)state;
+    check_threads_same(banana_logd, 4);
 }
 
 /* The banana made slow (tens of microseconds an evaluation), so that the
@@ -300,16 +306,7 @@ static double banana_slow_logd(const double *x, void *ctx, double *extra)
 static void test_threads_same_parallel(void **state)
 {
     (void)state;
-    double c[2] = {0.0, 1.0}, cov[4] = {100, 0, 0, 1}, sc[2] = {10, 1};
-    void *ctx[2] = {NULL, NULL};
-    lt_ais_opts o = {.dim = 2, .seed = 9, .center = c, .cov = cov, .scale = sc,
-                     .target_ess = 1000, .threads = 1};
-    lt_ais *a = run(&o, banana_slow_logd, ctx);
-    o.threads = 2;
-    lt_ais *b = run(&o, banana_slow_logd, ctx);
-    assert_true(same_run(a, b));
-    lt_ais_free(a);
-    lt_ais_free(b);
+    check_threads_same(banana_slow_logd, 2);
 }
 
 static void stop_after_two(const lt_ais *s, void *ctx)
