@@ -410,8 +410,6 @@ typedef struct lt_reweight_opts {
     double min_ess;             /* refuse below this ESS (0: LT_REWEIGHT_MIN_ESS) */
     const char *out;            /* summary.json and the chain files, or NULL */
     int threads;                /* 0: OpenMP's default */
-    FILE *table;                /* where to print the result as a table (the sample
-                                 * table and a line on the reweighting), or NULL */
     const lt_pipeline_hooks *hooks;
 } lt_reweight_opts;
 
@@ -438,16 +436,26 @@ typedef struct lt_reweight_info {
  * CMB term at most); a combined likelihood with a free parameter the run
  * did not sample (a supernova run with a marginalised offset holds h0
  * fixed, so BAO cannot be added to it), naming every missing one. The
- * posterior (post; LT_POST_IMPORTANCE for a run of independent draws,
- * LT_POST_MCMC for chains, whose ESS then counts their autocorrelation)
- * and its summary (*summary, with a "reweighted" object; the caller
- * deletes it) are filled on LT_OK and on LT_ENUMERIC, which says that the
- * ESS left is below min_ess: nothing is then written. With o->out the
- * folder is taken (add->force to replace an earlier output), then
- * summary.json and the chain files written. Free post in every case.
+ * result (r: the posterior, LT_POST_IMPORTANCE for a run of independent
+ * draws, LT_POST_MCMC for chains, whose ESS then counts their
+ * autocorrelation; its summary, with a "reweighted" object; the combined
+ * likelihood and its table's spec, for a report) is filled on LT_OK and on
+ * LT_ENUMERIC, which says that the ESS left is below min_ess: nothing is
+ * then written. With o->out the folder is taken (add->force to replace an
+ * earlier output), then summary.json and the chain files written. Free r
+ * in every case.
  */
-int lt_pipeline_reweight(const lt_job *add, const lt_reweight_opts *o, lt_posterior *post,
-                         struct cJSON **summary, lt_reweight_info *info, lt_error *err);
+typedef struct lt_reweight_result {
+    lt_posterior post;
+    struct cJSON *summary;
+    lt_reweight_info info;
+    const lt_like *like;        /* the combination */
+    const lt_survey_spec *data; /* its table (its spec's data NULL: none) */
+    void *own;                  /* what like and data belong to */
+} lt_reweight_result;
+void lt_reweight_result_free(lt_reweight_result *r);
+int lt_pipeline_reweight(const lt_job *add, const lt_reweight_opts *o, lt_reweight_result *r,
+                         lt_error *err);
 
 /*
  * A posterior (method LT_POST_IMPORTANCE or LT_POST_MCMC) from given rows:

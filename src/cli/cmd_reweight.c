@@ -21,9 +21,8 @@ int cli_reweight(int argc, char **argv)
                             {0}};
     int given, status = cli_options(argc, argv, 1, "reweight", cli_help_reweight, opts, &add,
                                     LT_JOB_DATA | LT_JOB_PARAMS | LT_JOB_OUTPUT, &given);
-    lt_posterior post;
-    memset(&post, 0, sizeof post);
-    cJSON *json = NULL;
+    lt_reweight_result r;
+    memset(&r, 0, sizeof r);
     if (status)
         goto done;
     if (!run) {
@@ -52,26 +51,33 @@ int cli_reweight(int argc, char **argv)
         goto done;
     cli_progress pr;
     lt_pipeline_hooks hooks = cli_progress_start(&pr, &add);
-    lt_reweight_opts o = {run, me, add.out, (int)nt, format == CLI_TABLE ? stdout : NULL, &hooks};
-    lt_reweight_info info;
+    lt_reweight_opts o = {run, me, add.out, (int)nt, &hooks};
     lt_error err;
     lt_error_clear(&err);
-    int rc = lt_pipeline_reweight(&add, &o, &post, &json, &info, &err);
+    int rc = lt_pipeline_reweight(&add, &o, &r, &err);
     cli_progress_end(&pr);
-    if (rc == LT_ENUMERIC && json) {
+    if (rc == LT_ENUMERIC && r.summary) {
         /* too few effective samples left: refused, with what is left said */
         cli_report(&err);
         status = CLI_UNCONVERGED;
     } else if (rc) {
         status = cli_report(&err);
     } else {
-        if (format == CLI_JSON)
-            cli_print_json(json, 0);
-        status = post.converged ? CLI_OK : CLI_UNCONVERGED;
+        const lt_reweight_info *in = &r.info;
+        if (format == CLI_JSON) {
+            cli_print_json(r.summary, 0);
+        } else {
+            lt_report_sample_table(stdout, r.like, &r.post, r.data);
+            printf("\nreweighted from %s: %zu draws; effective sample size %.0f before, %.0f "
+                   "after (Kish %.0f -> %.0f); Pareto k of the added terms' ratios %.2f; their "
+                   "chi2 at the best fit %.2f\n",
+                   run, in->draws, in->ess_before, in->ess_after, in->kish_before,
+                   in->kish_after, in->pareto_k, in->chi2_added_best);
+        }
+        status = r.post.converged ? CLI_OK : CLI_UNCONVERGED;
     }
 done:
-    cJSON_Delete(json);
-    lt_posterior_free(&post);
+    lt_reweight_result_free(&r);
     lt_job_free(&add);
     return status < 0 ? CLI_OK : status;
 }

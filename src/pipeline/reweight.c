@@ -180,27 +180,52 @@ static void describe(cJSON *o, const char *run, const lt_job *add, const lt_rewe
     cJSON_AddItemToObject(r, "chi2_added_at_best", lt_json_number(in->chi2_added_best));
 }
 
-int lt_pipeline_reweight(const lt_job *add, const lt_reweight_opts *o, lt_posterior *post,
-                         cJSON **summary, lt_reweight_info *info, lt_error *err)
+/* What a result's like and data belong to. */
+typedef struct {
+    lt_job j;
+    built comb;
+} owned;
+
+void lt_reweight_result_free(lt_reweight_result *r)
 {
-    memset(post, 0, sizeof *post);
-    memset(info, 0, sizeof *info);
-    *summary = NULL;
+    owned *w = r->own;
+    lt_posterior_free(&r->post);
+    cJSON_Delete(r->summary);
+    if (w) {
+        built_free(&w->comb);
+        w->j.out = NULL;
+        lt_job_free(&w->j);
+        free(w);
+    }
+    memset(r, 0, sizeof *r);
+}
+
+int lt_pipeline_reweight(const lt_job *add, const lt_reweight_opts *o, lt_reweight_result *res,
+                         lt_error *err)
+{
+    memset(res, 0, sizeof *res);
+    owned *own = calloc(1, sizeof *own);
+    if (!own)
+        return lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
+    res->own = own;
+    lt_posterior *post = &res->post;
+    lt_reweight_info *info = &res->info;
+    cJSON **summary = &res->summary;
     double min_ess = o->min_ess > 0.0 ? o->min_ess : LT_REWEIGHT_MIN_ESS;
     int threads = o->threads > 0 ? o->threads : omp_get_max_threads();
-    lt_job j;
-    lt_job_init(&j);
+    lt_job *j = &own->j;
+    lt_job_init(j);
     lt_run_model m;
     memset(&m, 0, sizeof m);
-    built run = {0}, comb = {0};
+    built run = {0}, *comb = &own->comb;
     double *buf = NULL;
     char *settings = NULL;
     int rc, prepared = 0;
     /* the run: its settings, its likelihood (as it was: the digests), its draws */
-    if ((rc = lt_job_resume(&j, o->run,
+    if ((rc = lt_job_resume(j, o->run,
                             "reweight reads the folder of a finished 'lantern sample --out'",
                             err)) ||
-        (rc = lt_run_model_load(o->run, &m, err)) || (rc = build(&j, &run, err)))
+        (rc = lt_run_model_load(o->run, &m, err)) || (rc = build(j, &run, err)))
         goto done;
     if (!(settings = lt_path_join(o->run, "checkpoint/settings.ini", err))) {
         rc = LT_ENOMEM;
@@ -212,21 +237,21 @@ int lt_pipeline_reweight(const lt_job *add, const lt_reweight_opts *o, lt_poster
     if ((rc = lt_fingerprint_check(settings, &fp, err)))
         goto done;
     /* the combination */
-    if ((rc = merge(&j, add, err)) || (rc = build(&j, &comb, err)))
+    if ((rc = merge(j, add, err)) || (rc = build(j, comb, err)))
         goto done;
     size_t irun[LT_MAX_FREE], icomb[LT_MAX_FREE];
     if ((rc = map_params(run.l, &m, irun, "the run's folder does not hold", err)) ||
-        (rc = map_params(comb.l, &m, icomb,
+        (rc = map_params(comb->l, &m, icomb,
                          "the added terms need parameters the run did not sample:", err)))
         goto done;
-    size_t n = m.nchains * m.ndraws, dc = lt_like_dim(comb.l), evals = 0;
+    size_t n = m.nchains * m.ndraws, dc = lt_like_dim(comb->l), evals = 0;
     if (!(buf = malloc((n ? n : 1) * (5 + dc) * sizeof *buf))) {
         rc = lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
         goto done;
     }
     double *lp_run = buf, *lp_comb = buf + n, *chi2 = buf + 2 * n, *w = buf + 3 * n,
            *lr = buf + 4 * n, *theta = buf + 5 * n;
-    if ((rc = evaluate(&run, &comb, &m, irun, icomb, threads, lp_run, lp_comb, chi2, theta,
+    if ((rc = evaluate(&run, comb, &m, irun, icomb, threads, lp_run, lp_comb, chi2, theta,
                        &evals, err)))
         goto done;
     /* new weights: old x exp(lp_comb - lp_run), the largest ratio taken
@@ -256,7 +281,7 @@ int lt_pipeline_reweight(const lt_job *add, const lt_reweight_opts *o, lt_poster
     info->kish_before = ow2 > 0.0 ? ow * ow / ow2 : 0.0;
     info->kish_after = (double)n * (double)n / sw2;
     info->pareto_k = lt_diag_pareto_k(lr, n);
-    if ((rc = lt_pipeline_rows_posterior(comb.l, m.independent ? LT_POST_IMPORTANCE : LT_POST_MCMC,
+    if ((rc = lt_pipeline_rows_posterior(comb->l, m.independent ? LT_POST_IMPORTANCE : LT_POST_MCMC,
                                          m.nchains, m.ndraws, theta, dc, lp_comb, chi2, w, post,
                                          err)))
         goto done;
@@ -276,7 +301,7 @@ int lt_pipeline_reweight(const lt_job *add, const lt_reweight_opts *o, lt_poster
         double x[LT_MAX_FREE];
         lt_like_work *wr = lt_like_work_alloc(run.l);
         for (size_t i = 0; i < lt_like_dim(run.l); i++) {
-            ir[i] = (size_t)lt_like_param_index(comb.l, lt_like_param_name(run.l, i));
+            ir[i] = (size_t)lt_like_param_index(comb->l, lt_like_param_name(run.l, i));
             x[i] = post->best[ir[i]];
         }
         lt_like_point p;
@@ -286,7 +311,7 @@ int lt_pipeline_reweight(const lt_job *add, const lt_reweight_opts *o, lt_poster
         }
         lt_like_work_free(wr);
     }
-    *summary = lt_report_sample_json(comb.l, post, &j.data, j.seed);
+    *summary = lt_report_sample_json(comb->l, post, &j->data, j->seed);
     if (!*summary) {
         rc = lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
         goto done;
@@ -301,21 +326,12 @@ int lt_pipeline_reweight(const lt_job *add, const lt_reweight_opts *o, lt_poster
                           info->ess_after, info->ess_before, min_ess);
         goto done;
     }
-    if (o->table) {
-        lt_report_sample_table(o->table, comb.l, post, &j.data);
-        fprintf(o->table,
-                "\nreweighted from %s: %zu draws; effective sample size %.0f before, %.0f after "
-                "(Kish %.0f -> %.0f); Pareto k of the added terms' ratios %.2f; their chi2 at "
-                "the best fit %.2f\n",
-                o->run, n, info->ess_before, info->ess_after, info->kish_before,
-                info->kish_after, info->pareto_k, info->chi2_added_best);
-    }
     if (o->out) {
         if ((rc = lt_outdir_prepare(o->out, add->force, err)))
             goto done;
         prepared = 1;
-        j.thin = 1;
-        if ((rc = pipeline_write_posterior(o->out, "reweight", comb.l, &j, post, *summary,
+        j->thin = 1;
+        if ((rc = pipeline_write_posterior(o->out, "reweight", comb->l, j, post, *summary,
                                            o->hooks, err)))
             goto done;
     }
@@ -325,9 +341,8 @@ done:
     free(buf);
     free(settings);
     built_free(&run);
-    built_free(&comb);
     lt_run_model_free(&m);
-    j.out = NULL;
-    lt_job_free(&j);
+    res->like = comb->l;
+    res->data = &j->data;
     return rc;
 }
