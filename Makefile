@@ -172,10 +172,14 @@ fuzz: deps
 	@$(MAKE) --no-print-directory $(FUZZ_BIN)
 	@FUZZ_SECONDS=$(FUZZ_SECONDS) bash tests/fuzz/run.sh $(FUZZ_BIN)
 
-# The longer checks: fuzzing 30 s a target, and the coverage campaign on all
-# 200 realizations of configs/campaign-coverage.ini (CI runs 40).
+# The longer checks: fuzzing 30 s a target, the coverage campaign on all
+# 200 realizations of configs/campaign-coverage.ini (CI runs 40), and the
+# importance sampler against DRAM chains twenty times longer (ESS 20000;
+# make test runs 4000). About an hour.
 test-long: test
 	@$(MAKE) --no-print-directory fuzz FUZZ_SECONDS=30
+	@SAMPLERS_DRAM_ESS=20000 bash tests/e2e/test_samplers.sh | tee build/samplers-long.log; \
+	! grep -q '^not ok' build/samplers-long.log
 	@COVERAGE_REALIZATIONS=200 bash tests/e2e/test_coverage.sh >build/coverage-long.log 2>&1; \
 	cat build/coverage-long.log; \
 	grep -q '^ok ' build/coverage-long.log && ! grep -q '^not ok' build/coverage-long.log
