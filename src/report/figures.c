@@ -335,8 +335,19 @@ static void group_range(const model_group *g, const char *name, double *lo, doub
 
 /* A legend of the members, one line each from the top of the current
  * viewport (window 0-1 on both axes), starting at y and stepping dy down. */
+/* Are all the members' draws weighted? Then a title says so once and the
+ * legend lines need not (long labels ran out of the legend box). */
+static int all_weighted(const model_group *g)
+{
+    for (size_t j = 0; j < g->k; j++)
+        if (!MEMBER(g, j)->weighted)
+            return 0;
+    return 1;
+}
+
 static void group_legend(const model_group *g, double y, double dy)
 {
+    int mark = !all_weighted(g);
     for (size_t j = 0; j < g->k; j++, y -= dy) {
         PLFLT lx[2] = {0.02, 0.14}, ly[2] = {y, y};
         plcol0(member_colour(g, j));
@@ -346,7 +357,7 @@ static void group_legend(const model_group *g, double y, double dy)
         plcol0(C_INK);
         char lab[320];
         snprintf(lab, sizeof lab, "%s%s", MEMBER(g, j)->label,
-                 MEMBER(g, j)->weighted ? " (weighted draws)" : "");
+                 mark && MEMBER(g, j)->weighted ? " (weighted draws)" : "");
         plptex(0.17, y, 1, 0, 0, lab);
     }
 }
@@ -440,7 +451,8 @@ static void draw_posterior(const void *p)
     /* weighted draws: the densities and regions hold the weight; among
      * several runs the legend says which */
     if (g->k > 1)
-        snprintf(title, sizeof title, "posterior of %s, %zu runs", m->name, g->k);
+        snprintf(title, sizeof title, "posterior of %s, %zu runs%s", m->name, g->k,
+                 all_weighted(g) ? " (weighted draws)" : "");
     else
         snprintf(title, sizeof title, "posterior of %s%s", m->label,
                  m->weighted ? " (weighted draws)" : "");
@@ -585,8 +597,8 @@ static void draw_plane(const void *p)
     plbox("bcnst", 0, 0, "bcnstv", 0, 0); /* again, over the fills */
     char title[200];
     /* weighted draws: the regions hold that much of the weight (among
-     * several runs, the legend says which are weighted) */
-    const char *of = g->k == 1 && m->weighted ? " of the weight" : "";
+     * runs of which only some are weighted, the legend says which) */
+    const char *of = all_weighted(g) ? " of the weight" : "";
     plcol0(C_GREY);
     if (kind == PLANE_W0WA || kind == PLANE_OMW) {
         /* the cosmological constant: the point w0 = -1, wa = 0, or the

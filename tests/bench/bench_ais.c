@@ -79,7 +79,7 @@ static int ais_row(const char *name, const lt_ais_opts *o, void **ctx, target *g
     int ok = fabs(a - m1) <= e1 && fabs(b - m2) <= e2 &&
              fabs(dg->ln_z - lnz) <= fmax(4.0 * dg->ln_z_err, 0.05);
     size_t ev = g->evals;
-    printf("%-22s %10zu %8.0f %10.3f %8.2f %9.4f %9.4f %9.4f %s (k = %.2f%s)\n", name, ev,
+    printf("%-22s %10zu %8.0f %10.4f %8.2f %9.4f %9.4f %9.4f %s (k = %.2f%s)\n", name, ev,
            dg->ess_min, dg->ess_min / (double)ev, wall, a, b, dg->ln_z, ok ? "yes" : "NO",
            dg->pareto_k, lt_ais_converged(s) ? "" : ", not converged");
     lt_ais_free(s);
