@@ -292,7 +292,9 @@ typedef void (*lt_ais_progress)(const lt_ais *s, void *ctx);
 lt_ais *lt_ais_alloc(const lt_ais_opts *o, lt_logdensity f, void **ctx, lt_error *err);
 void lt_ais_free(lt_ais *s);
 /* Iterate until converged or max_draws (LT_OK either way), or LT_EINTR
- * when *stop is set (checked between iterations); progress after each. */
+ * when *stop is set (checked between iterations); progress after each,
+ * once the next proposal is made (or at the end), where a save and a load
+ * resume the same run. */
 int lt_ais_run(lt_ais *s, volatile sig_atomic_t *stop, lt_ais_progress progress, void *pctx,
                lt_error *err);
 int lt_ais_converged(const lt_ais *s);

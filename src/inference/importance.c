@@ -846,10 +846,16 @@ int lt_ais_run(lt_ais *s, volatile sig_atomic_t *stop, lt_ais_progress progress,
             s->finished = 1;
             s->converged = s->diag.pareto_k <= s->o.max_k;
         }
-        if (progress)
-            progress(s, pctx);
-        if (s->finished || s->n >= s->o.max_draws)
+        /* the hook (where the pipeline saves its checkpoint) runs only
+         * where the state is whole: finished, or with the next proposal
+         * made. Called before adapt, a checkpoint held a proposal that had
+         * drawn already, and a run resumed from it drew from it again with
+         * wrong weights (test_checkpoint_from_hook). */
+        if (s->finished || s->n >= s->o.max_draws) {
+            if (progress)
+                progress(s, pctx);
             break;
+        }
         /* the next batch: while adapting, the first batch's size; then what
          * the ESS per draw of the newest proposal says the target needs,
          * with a tenth more, but never more than doubling the draws */
@@ -876,6 +882,8 @@ int lt_ais_run(lt_ais *s, volatile sig_atomic_t *stop, lt_ais_progress progress,
         s->next = want;
         if (adapt(s, s->parallel ? threads : 1))
             return lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory adapting the proposal");
+        if (progress)
+            progress(s, pctx);
     }
     return LT_OK;
 }
@@ -960,7 +968,11 @@ lt_ais *lt_ais_load(const char *path, uint64_t fingerprint, const lt_ais_opts *o
         weigh(a);
         if (diagnose(a))
             goto nomem_closed;
-        a->diag.iterations = a->nq;
+        /* the proposals that have drawn (a newest one, made but not yet
+         * drawn from, does not count) */
+        a->diag.iterations = 0;
+        for (size_t t = 0; t < a->nq; t++)
+            a->diag.iterations += a->q[t].n > 0;
     }
     return a;
 damaged:

@@ -352,6 +352,46 @@ static void test_checkpoint_resume(void **state)
     remove(path);
 }
 
+/* The pipeline saves its checkpoint from the progress hook, and a run
+ * killed after it (SIGKILL, a power cut) resumes from that file: saved at
+ * the second iteration, loaded and run on, it must give the same draws and
+ * weights as the run never stopped. */
+typedef struct {
+    const char *path;
+    int saved;
+} save_at;
+
+static void save_at_second(const lt_ais *s, void *ctx)
+{
+    save_at *a = ctx;
+    lt_error err;
+    if (lt_ais_diagnostics(s)->iterations == 2 && !a->saved)
+        a->saved = lt_ais_save(s, a->path, 7, &err) == LT_OK;
+}
+
+static void test_checkpoint_from_hook(void **state)
+{
+    (void)state;
+    double c[2] = {0.0, 3.0}, cov[4] = {100, 0, 0, 1}, sc[2] = {10, 1};
+    void *ctx[1] = {NULL};
+    lt_ais_opts o = {.dim = 2, .seed = 17, .center = c, .cov = cov, .scale = sc,
+                     .target_ess = 1500, .threads = 1};
+    char path[300];
+    snprintf(path, sizeof path, "%s/hook.bin", dir);
+    save_at a = {path, 0};
+    lt_error err = {0};
+    lt_ais *whole = lt_ais_alloc(&o, banana_logd, ctx, &err);
+    assert_int_equal(lt_ais_run(whole, NULL, save_at_second, &a, &err), LT_OK);
+    assert_true(a.saved);
+    lt_ais *back = lt_ais_load(path, 7, &o, banana_logd, ctx, &err);
+    assert_non_null(back);
+    assert_int_equal(lt_ais_run(back, NULL, NULL, NULL, &err), LT_OK);
+    assert_true(same_run(whole, back));
+    lt_ais_free(whole);
+    lt_ais_free(back);
+    remove(path);
+}
+
 static int setup(void **state)
 {
     (void)state;
@@ -377,6 +417,7 @@ int main(void)
         cmocka_unit_test(test_threads_same),
         cmocka_unit_test(test_threads_same_parallel),
         cmocka_unit_test(test_checkpoint_resume),
+        cmocka_unit_test(test_checkpoint_from_hook),
     };
     return cmocka_run_group_tests(tests, setup, teardown);
 }
