@@ -298,6 +298,9 @@ void lt_ais_free(lt_ais *s);
 int lt_ais_run(lt_ais *s, volatile sig_atomic_t *stop, lt_ais_progress progress, void *pctx,
                lt_error *err);
 int lt_ais_converged(const lt_ais *s);
+/* The ESS target was reached (converged, or stopped on its Pareto k);
+ * 0 when the draws ran out first. */
+int lt_ais_finished(const lt_ais *s);
 const lt_ais_diag *lt_ais_diagnostics(const lt_ais *s);
 const lt_ais_opts *lt_ais_options(const lt_ais *s);
 /* The n draws: rows of (dim params, logdensity, nextra extras); and their

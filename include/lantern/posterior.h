@@ -135,7 +135,8 @@ typedef struct lt_posterior {
     size_t live_points, iterations;
     size_t evals;             /* likelihood evaluations of the whole method: best fit, warm-up
                                * or adaptation, sampling, checks, polish (lt_like_work_evals) */
-    int finished;             /* stopped by its tolerance, not its iteration cap */
+    int finished;             /* stopped by its tolerance, not its iteration cap (nested);
+                               * importance sampling: the ESS target reached */
     int reweighted;           /* an earlier run's draws with added terms' weights
                                * (lantern reweight): evals counts the reweighting's */
     double *loglike;          /* nested: each draw's ln L as the sampler kept it; else NULL */

@@ -36,6 +36,9 @@ int lt_report_write_residuals(const char *path, const lt_like *l, const double *
 
 /* ---- sampled posteriors ---- */
 
+/* Why r did not converge, in a sentence for warnings: the chains' step
+ * cap, importance sampling's draw cap or its Pareto k, a reweighting. */
+const char *lt_report_unconverged_text(const lt_posterior *r);
 struct cJSON *lt_report_sample_json(const lt_like *l, const lt_posterior *r,
                                     const lt_survey_spec *data, unsigned long seed);
 /* The warning for a compression that the posterior check found off and

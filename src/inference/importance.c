@@ -94,6 +94,7 @@ struct lt_ais {
 
 size_t lt_ais_row_size(const lt_ais *s) { return s->o.dim + 1 + s->o.nextra; }
 int lt_ais_converged(const lt_ais *s) { return s->converged; }
+int lt_ais_finished(const lt_ais *s) { return s->finished; }
 const lt_ais_diag *lt_ais_diagnostics(const lt_ais *s) { return &s->diag; }
 const lt_ais_opts *lt_ais_options(const lt_ais *s) { return &s->o; }
 const double *lt_ais_weights(const lt_ais *s) { return s->w; }

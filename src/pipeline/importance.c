@@ -46,12 +46,29 @@ typedef struct {
                            * evaluations.txt, because a resumed run checks again */
 } ais_run;
 
-/* Fresh work spaces; the evaluations of the old ones, whose draws a
- * refinement throws away, join evals_before. */
+/* The sampling's evaluations: every draw inside the prior (the
+ * likelihood is not called outside it), counted from the draws so that a
+ * resumed run counts its first part too. */
+static size_t inside_draws(const ais_run *r)
+{
+    size_t n, rs = lt_ais_row_size(r->s), d = lt_like_dim(r->l), inside = 0;
+    const double *rows = lt_ais_draws(r->s, &n);
+    for (size_t k = 0; k < n; k++) {
+        double lp = 0.0;
+        for (size_t i = 0; i < d; i++)
+            lp += lt_prior_logpdf(lt_like_prior(r->l, i), rows[k * rs + i]);
+        inside += isfinite(lp);
+    }
+    return inside;
+}
+
+/* Fresh work spaces (after a refinement the old ones belong to the old
+ * compression). Evaluations are counted from the draws (inside_draws) and
+ * the nested start's own count, not from the work spaces, which a resumed
+ * run does not have for its first part. */
 static int works(ais_run *r, lt_error *err)
 {
     int rc = pipeline_works_renew(&r->w, err);
-    r->evals_before += r->w.gone;
     r->w.gone = 0;
     return rc;
 }
@@ -316,6 +333,7 @@ static int ais_iterate(void *p, const char *state, uint64_t fp, volatile sig_ato
             return rc;
         if (!pipeline_after_check(h, cmp, &chk))
             return LT_OK;
+        r->evals_before += inside_draws(r); /* the draws thrown away */
         lt_ais_free(r->s);
         r->s = NULL;
         if ((rc = works(r, err)) || (rc = ais_start(r, stop, err)))
@@ -334,18 +352,7 @@ static int ais_result(void *p, const lt_pipeline_hooks *h, lt_posterior *post, l
     if (rc)
         return rc;
     post->compression = r->cmp;
-    /* the sampling's evaluations: every draw inside the prior (the
-     * likelihood is not called outside it), counted from the draws so that
-     * a resumed run counts its first part too */
-    size_t n, rs = lt_ais_row_size(r->s), d = lt_like_dim(r->l), inside = 0;
-    const double *rows = lt_ais_draws(r->s, &n);
-    for (size_t k = 0; k < n; k++) {
-        double lp = 0.0;
-        for (size_t i = 0; i < d; i++)
-            lp += lt_prior_logpdf(lt_like_prior(r->l, i), rows[k * rs + i]);
-        inside += isfinite(lp);
-    }
-    post->evals += r->evals_before + r->evals_check + r->evals_last + inside;
+    post->evals += r->evals_before + r->evals_check + r->evals_last + inside_draws(r);
     return LT_OK;
 }
 

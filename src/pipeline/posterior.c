@@ -290,6 +290,7 @@ int lt_pipeline_ais_posterior(const lt_like *l, const lt_ais *s, lt_posterior *r
         return rc;
     r->evals += polish;
     r->converged = lt_ais_converged(s);
+    r->finished = lt_ais_finished(s);
     r->pareto_k = dg->pareto_k;
     r->iterations = dg->iterations;
     /* the weights' own estimate of the evidence (the mean of p / q) is

@@ -52,12 +52,14 @@ static void warnings(const lt_like *l, const lt_job *j, const lt_posterior *r,
  * once the chains mix). */
 static void unconverged(const lt_job *j, const lt_posterior *r, const lt_pipeline_hooks *h)
 {
-    pipeline_say(h, LT_NOTE_WARNING,
-        "the chains did not converge within --max-steps; the results are written and marked "
-        "\"converged\": false");
+    char text[320];
+    snprintf(text, sizeof text, "%s; the results are written and marked \"converged\": false",
+             lt_report_unconverged_text(r));
+    pipeline_say(h, LT_NOTE_WARNING, text);
+    if (r->method == LT_POST_IMPORTANCE)
+        return;
     double e = r->diag.ess_min;
     if (isfinite(e) && e > 0.0 && e < j->target_ess) {
-        char text[256];
         snprintf(text, sizeof text,
                  "the smallest ESS is %.0f after %zu draws per chain; at that rate --max-steps "
                  "%.0f should reach %g",

@@ -35,6 +35,18 @@ static cJSON *stats_json(const lt_post_stats *s, double best)
     return o;
 }
 
+const char *lt_report_unconverged_text(const lt_posterior *r)
+{
+    if (r->reweighted)
+        return "the reweighted draws keep fewer effective samples than asked, or the run "
+               "reweighted had not converged";
+    if (r->method != LT_POST_IMPORTANCE)
+        return "the chains did not converge within --max-steps";
+    return r->finished ? "importance sampling reached its ESS target, but the weights' Pareto "
+                         "k is above 0.7: not converged"
+                       : "importance sampling did not reach its ESS target within its draw cap";
+}
+
 cJSON *lt_report_sample_json(const lt_like *l, const lt_posterior *r,
                              const lt_survey_spec *data, unsigned long seed)
 {
@@ -178,10 +190,7 @@ cJSON *lt_report_sample_json(const lt_like *l, const lt_posterior *r,
         cJSON_AddItemToArray(w, cJSON_CreateString(text));
     }
     if (!r->converged)
-        cJSON_AddItemToArray(w, cJSON_CreateString(
-                                    r->method == LT_POST_IMPORTANCE
-                                        ? "importance sampling did not converge within its draw cap"
-                                        : "the chains did not converge within the step cap"));
+        cJSON_AddItemToArray(w, cJSON_CreateString(lt_report_unconverged_text(r)));
     if (r->method == LT_POST_IMPORTANCE && r->pareto_k > LT_PARETO_K_WARN) {
         char text[256];
         lt_report_pareto_warning(r, text, sizeof text);
