@@ -27,6 +27,12 @@ static void warnings(const lt_like *l, const lt_job *j, const lt_posterior *r,
         lt_report_pareto_warning(r, text, sizeof text);
         pipeline_say(h, LT_NOTE_WARNING, text);
     }
+    if (r->method == LT_POST_IMPORTANCE && r->compression.checked_ok &&
+        r->compression.posterior_dchi2 > LT_CHECK_BOUND) {
+        /* as the summary's warnings say it */
+        lt_report_compression_warning(r, text, sizeof text);
+        pipeline_say(h, LT_NOTE_WARNING, text);
+    }
     if (r->weights && r->method == LT_POST_MCMC) {
         lt_report_compression_warning(r, text, sizeof text);
         pipeline_say(h, LT_NOTE_WARNING, text);
