@@ -112,15 +112,20 @@ int lt_cov_inspect(const lt_cov *c, lt_cov_info *info, lt_error *err);
 /* Surveys                                                                 */
 /* ---------------------------------------------------------------------- */
 
-typedef enum { LT_OBS_MU = 0, LT_OBS_MAG, LT_OBS_DL } lt_obs;
-const char *lt_obs_name(lt_obs k); /* "mu", "mag", "dl" */
+/* LT_OBS_MB: a light-curve table, the observable the peak magnitude mb,
+ * to be standardised with x1 and color (lt_lightcurve). */
+typedef enum { LT_OBS_MU = 0, LT_OBS_MAG, LT_OBS_DL, LT_OBS_MB } lt_obs;
+const char *lt_obs_name(lt_obs k); /* "mu", "mag", "dl", "mb" */
 
 #define LT_SURVEY_MAX_COV 16
 
 /* What to read. Paths may be FITS extended names ("file.fits[2]"). */
 typedef struct lt_survey_spec {
     const char *data;     /* the table */
-    const char *columns;  /* "role=name,..."; roles z, zhel, mu|mag|dl, err, id */
+    const char *columns;  /* "role=name,..."; roles z, zhel, mu|mag|dl, err, id; or, for a
+                           * light-curve table, mb, err_mb, x1, color, mass, err_mass, err_x1,
+                           * err_color, cov_mb_x1, cov_mb_color, cov_x1_color, dz, group,
+                           * calibrator, calib_mu, err_calib_mu */
     const char *cov[LT_SURVEY_MAX_COV];
     size_t ncov;
     const char *modes;    /* N x k mode table, or NULL */
@@ -132,6 +137,25 @@ typedef struct lt_survey_spec {
 
 void lt_survey_spec_init(lt_survey_spec *s);
 
+/*
+ * The light-curve columns of a table whose observable is mb (Tripp 1998,
+ * A&A 331, 815: mb, the stretch x1, the colour c, the host's log10 stellar
+ * mass), per object; an array is NULL where its role is unmapped. The
+ * survey's obs holds mb and err err_mb.
+ */
+typedef struct lt_lightcurve {
+    double *x1, *color;               /* always */
+    double *mass, *err_mass;          /* log10 M / M_sun, and its error (> 0) */
+    double *err_x1, *err_color;       /* > 0 */
+    double *cov_mb_x1, *cov_mb_color, *cov_x1_color; /* |correlation| <= 1 */
+    double *dz;                       /* redshift error, >= 0 */
+    int *calibrator;                  /* 0 or 1 (NULL: none is) */
+    double *calib_mu, *err_calib_mu;  /* a calibrator's external distance modulus; NaN
+                                       * for the others */
+    char **group;                     /* survey or subsample labels */
+    size_t ncalibrators;
+} lt_lightcurve;
+
 typedef struct lt_survey {
     size_t n;
     lt_obs kind;
@@ -142,6 +166,7 @@ typedef struct lt_survey {
     char **id;    /* NULL if the table has no id column */
     long *row;    /* each object's 1-based data row in the table */
     lt_cov *cov;  /* the total covariance, factored */
+    lt_lightcurve *lc; /* kind LT_OBS_MB: the light-curve columns; else NULL */
     size_t n_read;     /* objects in the table before cuts */
     size_t nwarnings;
     char **warnings;   /* things worth saying that are not errors */
@@ -162,6 +187,9 @@ typedef struct lt_survey {
  *    column, is an error: columns never shift.
  *  - Values are checked only in mapped columns; the id column is text.
  *  - FITS binary tables by CFITSIO's extended names; errors name the row.
+ * Light-curve tables (mb with x1 and color; the roles in lt_survey_spec's
+ * columns): err_x1, err_color and err_calib_mu > 0, dz >= 0, calibrator 0
+ * or 1 and a calibrator's calib_mu given, |cov_a_b| <= err_a err_b.
  * Checks: finite numbers, z > 0, zhel > 0, err > 0, dl > 0, no duplicate
  * header names, the covariance sizes, symmetry (|C_ij - C_ji| <= 1e-6
  * sqrt(C_ii C_jj); the mean of the two is used) and positive definiteness.
@@ -175,7 +203,29 @@ int lt_survey_warn(lt_survey *s, const char *fmt, ...) __attribute__((format(pri
 
 /* Summary numbers of a survey, for lantern inspect. */
 #define LT_HIST_MAX 64
+#define LT_GROUPS_MAX 64
+/* A host mass below this (log10 M / M_sun) is a placeholder for a host
+ * without a measurement (JLA writes 5 for them; real SN Ia hosts lie above
+ * about 7: common practice, no source). */
+#define LT_MASS_PLACEHOLDER 7.0
+/* The host-mass split of the standardisation's step (JLA's, Betoule et al.
+ * 2014). */
+#define LT_MASS_SPLIT 10.0
+typedef struct lt_lightcurve_stats {
+    double x1_min, x1_max, color_min, color_max;
+    double mass_min, mass_max;            /* over real masses (NaN: no mass column) */
+    size_t n_mass_high, n_mass_low;       /* real masses >= LT_MASS_SPLIT, below it */
+    size_t n_mass_placeholder;            /* below LT_MASS_PLACEHOLDER */
+    size_t ngroups;                       /* distinct labels (at most LT_GROUPS_MAX; more
+                                           * are counted in groups_more) */
+    const char *group[LT_GROUPS_MAX];     /* first seen first; point into the survey */
+    size_t group_n[LT_GROUPS_MAX];
+    size_t groups_more;
+    size_t ncalibrators;
+} lt_lightcurve_stats;
+
 typedef struct lt_survey_stats {
+    lt_lightcurve_stats lc;                        /* light-curve tables only */
     double z_min, z_max, zhel_min, zhel_max, obs_min, obs_max;
     double err_min, err_median, err_max, err_mean; /* NaN without errors */
     size_t nbins;                                  /* histogram of z */

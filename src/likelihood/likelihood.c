@@ -277,6 +277,14 @@ lt_like *lt_like_alloc(const lt_survey *s, const lt_like_spec *spec, lt_error *e
                      "or a measurement (--measure)");
         return NULL;
     }
+    if (s && s->kind == LT_OBS_MB) {
+        /* a light-curve table needs the standardisation term (issue 21's
+         * next step); until it exists, inspect reads such tables */
+        lt_error_set(err, LT_EINPUT, "--columns", 0,
+                     "a light-curve table (mb, x1, color) needs the standardisation term, "
+                     "which lantern does not have yet; 'lantern inspect' reads it");
+        return NULL;
+    }
     int offset = offset_mode(s, spec, err);
     if (offset < 0)
         return NULL;

@@ -36,6 +36,28 @@ cJSON *lt_report_survey_json(const lt_survey_spec *spec, const lt_survey *s,
         cJSON_AddItemToObject(e, "mean", lt_json_number(st->err_mean));
         cJSON_AddItemToObject(e, "max", lt_json_number(st->err_max));
     }
+    if (s->lc) {
+        const lt_lightcurve_stats *lc = &st->lc;
+        cJSON *l = cJSON_AddObjectToObject(o, "lightcurve");
+        cJSON_AddItemToObject(l, "x1_min", lt_json_number(lc->x1_min));
+        cJSON_AddItemToObject(l, "x1_max", lt_json_number(lc->x1_max));
+        cJSON_AddItemToObject(l, "color_min", lt_json_number(lc->color_min));
+        cJSON_AddItemToObject(l, "color_max", lt_json_number(lc->color_max));
+        cJSON_AddBoolToObject(l, "mass", s->lc->mass != NULL);
+        if (s->lc->mass) {
+            cJSON_AddItemToObject(l, "mass_min", lt_json_number(lc->mass_min));
+            cJSON_AddItemToObject(l, "mass_max", lt_json_number(lc->mass_max));
+            cJSON_AddItemToObject(l, "mass_split", lt_json_number(LT_MASS_SPLIT));
+            cJSON_AddItemToObject(l, "n_mass_high", lt_json_number((double)lc->n_mass_high));
+            cJSON_AddItemToObject(l, "n_mass_low", lt_json_number((double)lc->n_mass_low));
+            cJSON_AddItemToObject(l, "n_mass_placeholder",
+                                  lt_json_number((double)lc->n_mass_placeholder));
+        }
+        cJSON *g = cJSON_AddObjectToObject(l, "groups");
+        for (size_t k = 0; k < lc->ngroups; k++)
+            cJSON_AddItemToObject(g, lc->group[k], lt_json_number((double)lc->group_n[k]));
+        cJSON_AddItemToObject(l, "n_calibrators", lt_json_number((double)lc->ncalibrators));
+    }
     cJSON *c = cJSON_AddObjectToObject(o, "covariance");
     cJSON_AddStringToObject(c, "kind", lt_cov_kind_name(ci->kind));
     cJSON_AddBoolToObject(c, "positive_definite", ci->positive_definite);
@@ -65,7 +87,8 @@ void lt_report_survey_table(FILE *f, const lt_survey_spec *spec, const lt_survey
 {
     static const char *obs_text[] = {"distance modulus mu (mag)",
                                      "standardised magnitude mag (mu + unknown offset)",
-                                     "luminosity distance dl (Mpc)"};
+                                     "luminosity distance dl (Mpc)",
+                                     "peak magnitude mb, to be standardised with x1 and color"};
     fprintf(f, "survey     %s\n", spec->data);
     fprintf(f, "objects    %zu", s->n);
     if (s->n != s->n_read)
@@ -78,6 +101,27 @@ void lt_report_survey_table(FILE *f, const lt_survey_spec *spec, const lt_survey
                st->err_median, st->err_mean, st->err_max);
     else
         fprintf(f, "errors     none in the table (the covariance holds them)\n");
+    if (s->lc) {
+        const lt_lightcurve_stats *lc = &st->lc;
+        fprintf(f, "stretch    x1 from %.4g to %.4g; colour from %.4g to %.4g\n", lc->x1_min,
+                lc->x1_max, lc->color_min, lc->color_max);
+        if (s->lc->mass)
+            fprintf(f, "host mass  log10 M from %.4g to %.4g: %zu at or above %g, %zu below; "
+                       "%zu placeholders (below %g)\n",
+                    lc->mass_min, lc->mass_max, lc->n_mass_high, LT_MASS_SPLIT, lc->n_mass_low,
+                    lc->n_mass_placeholder, LT_MASS_PLACEHOLDER);
+        else
+            fprintf(f, "host mass  no column (no host-mass step)\n");
+        if (lc->ngroups) {
+            fprintf(f, "groups     %zu:", lc->ngroups + (lc->groups_more ? 1 : 0));
+            for (size_t k = 0; k < lc->ngroups; k++)
+                fprintf(f, "%s %s (%zu)", k ? "," : "", lc->group[k], lc->group_n[k]);
+            if (lc->groups_more)
+                fprintf(f, ", and %zu objects in further groups", lc->groups_more);
+            fputc('\n', f);
+        }
+        fprintf(f, "calibrators %zu\n", lc->ncalibrators);
+    }
     fprintf(f, "\n  z from      to   objects\n");
     size_t most = 1;
     for (size_t b = 0; b < st->nbins; b++)

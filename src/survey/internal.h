@@ -21,7 +21,33 @@ void lt_fits_close_failed(fitsfile *f);
 /* Scan a FITS file's headers (fitscheck.c) before CFITSIO reads them. */
 int lt_fits_check(const char *path, lt_error *err);
 /* ---- roles of table columns ---- */
-enum { LT_ROLE_Z, LT_ROLE_ZHEL, LT_ROLE_OBS, LT_ROLE_ERR, LT_ROLE_ID, LT_ROLE_COUNT };
+/* Numeric roles first (below LT_ROLE_ID), then the text ones. OBS holds
+ * mu, mag, dl or, in a light-curve table, mb; ERR its error (err, or
+ * err_mb). The light-curve roles (X1 to ERR_CALIB_MU, and GROUP) go with
+ * mb only. */
+enum {
+    LT_ROLE_Z,
+    LT_ROLE_ZHEL,
+    LT_ROLE_OBS,
+    LT_ROLE_ERR,
+    LT_ROLE_X1,
+    LT_ROLE_COLOR,
+    LT_ROLE_MASS,
+    LT_ROLE_ERR_MASS,
+    LT_ROLE_ERR_X1,
+    LT_ROLE_ERR_COLOR,
+    LT_ROLE_COV_MB_X1,
+    LT_ROLE_COV_MB_COLOR,
+    LT_ROLE_COV_X1_COLOR,
+    LT_ROLE_DZ,
+    LT_ROLE_CALIBRATOR,
+    LT_ROLE_CALIB_MU,
+    LT_ROLE_ERR_CALIB_MU,
+    LT_ROLE_ID,
+    LT_ROLE_GROUP,
+    LT_ROLE_COUNT
+};
+#define LT_ROLE_NTEXT (LT_ROLE_COUNT - LT_ROLE_ID)
 
 typedef struct lt_colmap {
     char *name[LT_ROLE_COUNT]; /* column names, NULL where a role is unmapped */
@@ -37,8 +63,8 @@ const char *lt_role_name(int role, lt_obs kind);
 /* The mapped columns of a table, before any cut. */
 typedef struct lt_rawtable {
     size_t n;
-    double *v[LT_ROLE_ID]; /* z, zhel, obs, err; NULL where unmapped */
-    char **id;             /* NULL where unmapped */
+    double *v[LT_ROLE_ID]; /* the numeric roles; NULL where unmapped */
+    char **text[LT_ROLE_NTEXT]; /* id, group; NULL where unmapped */
     long *row;             /* 1-based data-row numbers */
     long *line;            /* source lines (text), or 0 (FITS) */
     char *warning;         /* one warning, or NULL */

@@ -11,6 +11,45 @@ static int cmp_double(const void *a, const void *b)
     return (x > y) - (x < y);
 }
 
+/* The light-curve columns' ranges, the host-mass split, the groups and
+ * the calibrators. */
+static void lightcurve_stats(const lt_survey *s, lt_lightcurve_stats *lc)
+{
+    const lt_lightcurve *c = s->lc;
+    lc->x1_min = lc->color_min = lc->mass_min = INFINITY;
+    lc->x1_max = lc->color_max = lc->mass_max = -INFINITY;
+    for (size_t i = 0; i < s->n; i++) {
+        lc->x1_min = fmin(lc->x1_min, c->x1[i]);
+        lc->x1_max = fmax(lc->x1_max, c->x1[i]);
+        lc->color_min = fmin(lc->color_min, c->color[i]);
+        lc->color_max = fmax(lc->color_max, c->color[i]);
+        if (c->mass && c->mass[i] < LT_MASS_PLACEHOLDER) {
+            lc->n_mass_placeholder++;
+        } else if (c->mass) {
+            lc->mass_min = fmin(lc->mass_min, c->mass[i]);
+            lc->mass_max = fmax(lc->mass_max, c->mass[i]);
+            if (c->mass[i] >= LT_MASS_SPLIT)
+                lc->n_mass_high++;
+            else
+                lc->n_mass_low++;
+        }
+        if (c->group) {
+            size_t g = 0;
+            while (g < lc->ngroups && strcmp(lc->group[g], c->group[i]))
+                g++;
+            if (g == lc->ngroups && g < LT_GROUPS_MAX)
+                lc->group[lc->ngroups++] = c->group[i];
+            if (g < lc->ngroups)
+                lc->group_n[g]++;
+            else
+                lc->groups_more++;
+        }
+    }
+    if (!(lc->mass_min <= lc->mass_max))
+        lc->mass_min = lc->mass_max = NAN;
+    lc->ncalibrators = c->ncalibrators;
+}
+
 int lt_survey_stats_compute(const lt_survey *s, size_t nbins, lt_survey_stats *st,
                             lt_error *err)
 {
@@ -44,6 +83,8 @@ int lt_survey_stats_compute(const lt_survey *s, size_t nbins, lt_survey_stats *s
         st->err_mean = sum / (double)s->n;
         free(e);
     }
+    if (s->lc)
+        lightcurve_stats(s, &st->lc);
     st->nbins = nbins;
     double w = (st->z_max - st->z_min) / (double)nbins;
     for (size_t b = 0; b <= nbins; b++)

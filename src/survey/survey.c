@@ -19,6 +19,121 @@ void lt_survey_spec_init(lt_survey_spec *s)
     s->zmax = NAN;
 }
 
+static void lc_free(lt_lightcurve *lc, size_t n)
+{
+    if (!lc)
+        return;
+    double *arr[] = {lc->x1,           lc->color,        lc->mass,         lc->err_mass, lc->err_x1,
+                     lc->err_color,    lc->cov_mb_x1,    lc->cov_mb_color, lc->cov_x1_color,
+                     lc->dz,           lc->calib_mu,     lc->err_calib_mu};
+    for (size_t k = 0; k < sizeof arr / sizeof arr[0]; k++)
+        free(arr[k]);
+    free(lc->calibrator);
+    if (lc->group)
+        for (size_t i = 0; i < n; i++)
+            free(lc->group[i]);
+    free(lc->group);
+    free(lc);
+}
+
+/* Where row i of a table is, for a message: its line (text) or "row N"
+ * (FITS). */
+static void row_where(const char *path, const lt_rawtable *t, size_t i, char *buf, size_t size,
+                      long *line)
+{
+    *line = t->line[i];
+    if (t->line[i] > 0)
+        snprintf(buf, size, "%s", path);
+    else
+        snprintf(buf, size, "%s: row %ld", path, t->row[i]);
+}
+
+/* The checks of a light-curve table that take more than one column: a
+ * calibrator's calib_mu, and each covariance within its two errors
+ * (|correlation| <= 1, with 1e-6 of slack for rounded files). */
+static int check_lightcurve(const char *path, const lt_colmap *map, const lt_rawtable *t,
+                            lt_error *err)
+{
+    static const int pairs[3][3] = {{LT_ROLE_COV_MB_X1, LT_ROLE_ERR, LT_ROLE_ERR_X1},
+                                    {LT_ROLE_COV_MB_COLOR, LT_ROLE_ERR, LT_ROLE_ERR_COLOR},
+                                    {LT_ROLE_COV_X1_COLOR, LT_ROLE_ERR_X1, LT_ROLE_ERR_COLOR}};
+    for (size_t i = 0; i < t->n; i++) {
+        char where[600];
+        long line;
+        row_where(path, t, i, where, sizeof where, &line);
+        if (t->v[LT_ROLE_CALIBRATOR] && t->v[LT_ROLE_CALIBRATOR][i] == 1.0 &&
+            !map->name[LT_ROLE_CALIB_MU])
+            return lt_error_set(err, LT_EINPUT, where, line,
+                                "a calibrator (column '%s' is 1) without calib_mu: map the "
+                                "column of its external distance modulus (calib_mu=NAME)",
+                                map->name[LT_ROLE_CALIBRATOR]);
+        for (int k = 0; k < 3; k++) {
+            if (!map->name[pairs[k][0]])
+                continue;
+            double c = t->v[pairs[k][0]][i], a = t->v[pairs[k][1]][i], b = t->v[pairs[k][2]][i];
+            if (!(fabs(c) <= a * b * (1.0 + 1e-6)))
+                return lt_error_set(err, LT_EINPUT, where, line,
+                                    "column '%s' (%s) is %g, beyond the product of the two "
+                                    "errors (%g x %g): a correlation above 1",
+                                    map->name[pairs[k][0]],
+                                    lt_role_name(pairs[k][0], map->kind), c, a, b);
+        }
+    }
+    return LT_OK;
+}
+
+/* The light-curve columns of the kept rows idx[0..m-1] into s->lc (the
+ * group strings moved over). */
+static int take_lightcurve(const lt_colmap *map, lt_rawtable *t, const size_t *idx, size_t m,
+                           lt_survey *s)
+{
+    lt_lightcurve *lc = s->lc = calloc(1, sizeof *lc);
+    if (!lc)
+        return -1;
+    struct {
+        int role;
+        double **to;
+    } cols[] = {{LT_ROLE_X1, &lc->x1},
+                {LT_ROLE_COLOR, &lc->color},
+                {LT_ROLE_MASS, &lc->mass},
+                {LT_ROLE_ERR_MASS, &lc->err_mass},
+                {LT_ROLE_ERR_X1, &lc->err_x1},
+                {LT_ROLE_ERR_COLOR, &lc->err_color},
+                {LT_ROLE_COV_MB_X1, &lc->cov_mb_x1},
+                {LT_ROLE_COV_MB_COLOR, &lc->cov_mb_color},
+                {LT_ROLE_COV_X1_COLOR, &lc->cov_x1_color},
+                {LT_ROLE_DZ, &lc->dz},
+                {LT_ROLE_CALIB_MU, &lc->calib_mu},
+                {LT_ROLE_ERR_CALIB_MU, &lc->err_calib_mu}};
+    for (size_t k = 0; k < sizeof cols / sizeof cols[0]; k++) {
+        if (!map->name[cols[k].role])
+            continue;
+        double *v = *cols[k].to = malloc((m ? m : 1) * sizeof *v);
+        if (!v)
+            return -1;
+        for (size_t a = 0; a < m; a++)
+            v[a] = t->v[cols[k].role][idx[a]];
+    }
+    if (map->name[LT_ROLE_CALIBRATOR]) {
+        if (!(lc->calibrator = malloc((m ? m : 1) * sizeof *lc->calibrator)))
+            return -1;
+        for (size_t a = 0; a < m; a++) {
+            lc->calibrator[a] = t->v[LT_ROLE_CALIBRATOR][idx[a]] == 1.0;
+            lc->ncalibrators += (size_t)lc->calibrator[a];
+            if (lc->calib_mu && !lc->calibrator[a]) /* only calibrators have one */
+                lc->calib_mu[a] = NAN;
+        }
+    }
+    char **g = t->text[LT_ROLE_GROUP - LT_ROLE_ID];
+    if (g) {
+        if (!(lc->group = calloc(m ? m : 1, sizeof *lc->group)))
+            return -1;
+        for (size_t a = 0; a < m; a++)
+            lc->group[a] = g[idx[a]], g[idx[a]] = NULL;
+    }
+    return 0;
+}
+
 void lt_survey_free(lt_survey *s)
 {
     if (!s)
@@ -33,6 +148,7 @@ void lt_survey_free(lt_survey *s)
     free(s->id);
     free(s->row);
     lt_cov_free(s->cov);
+    lc_free(s->lc, s->n);
     for (size_t i = 0; i < s->nwarnings; i++)
         free(s->warnings[i]);
     free(s->warnings);
@@ -165,16 +281,16 @@ static int build_cov(const lt_survey_spec *spec, const lt_rawtable *t, lt_survey
             snprintf(num, sizeof num, "%zu", i + 1);
             long label;
             int numeric = lt_parse_long(ids[i], 1, 2147483647L, &label) == LT_OK;
-            if (!t->id && !numeric) {
+            if (!t->text[0] && !numeric) {
                 unchecked = 1;
                 continue;
             }
-            if (strcmp(ids[i], num) != 0 && !(t->id && strcmp(ids[i], t->id[i]) == 0))
+            if (strcmp(ids[i], num) != 0 && !(t->text[0] && strcmp(ids[i], t->text[0][i]) == 0))
                 rc = lt_error_set(err, LT_EINPUT, spec->modes, 0,
                                   "object row %zu is labelled '%s', but the table's object "
                                   "%zu is %s%s%s: rows must follow the table's order",
-                                  i + 1, ids[i], i + 1, t->id ? "'" : "row ",
-                                  t->id ? t->id[i] : num, t->id ? "'" : "");
+                                  i + 1, ids[i], i + 1, t->text[0] ? "'" : "row ",
+                                  t->text[0] ? t->text[0][i] : num, t->text[0] ? "'" : "");
         }
         if (!rc && unchecked)
             lt_survey_warn(s, "%s: the mode rows are labelled by id but the table has no id "
@@ -207,7 +323,7 @@ static int select_rows(const lt_survey_spec *spec, const lt_rawtable *t, lt_surv
 {
     idlist keep = {0}, drop = {0};
     int rc = LT_OK;
-    if ((spec->keep_ids || spec->drop_ids) && !t->id)
+    if ((spec->keep_ids || spec->drop_ids) && !t->text[0])
         return lt_error_set(err, LT_EINPUT, "--columns", 0,
                             "id lists need an id column: add id=NAME to --columns");
     if (spec->keep_ids && (rc = idlist_read(spec->keep_ids, &keep, err)))
@@ -227,9 +343,9 @@ static int select_rows(const lt_survey_spec *spec, const lt_rawtable *t, lt_surv
             continue;
         if (!isnan(spec->zmax) && z > spec->zmax)
             continue;
-        if (spec->keep_ids && !idlist_has(&keep, t->id[i]))
+        if (spec->keep_ids && !idlist_has(&keep, t->text[0][i]))
             continue;
-        if (spec->drop_ids && idlist_has(&drop, t->id[i]))
+        if (spec->drop_ids && idlist_has(&drop, t->text[0][i]))
             continue;
         idx[k++] = i;
     }
@@ -283,8 +399,11 @@ lt_survey *lt_survey_read(const lt_survey_spec *spec, lt_error *err)
         return NULL;
     if (!map.name[LT_ROLE_ERR] && !spec->no_err_diag) {
         lt_error_set(err, LT_EINPUT, "--columns", 0,
-                     "map the error column (err=NAME), or give --no-err-diag with a --cov "
-                     "that holds the statistical errors");
+                     map.kind == LT_OBS_MB
+                         ? "map the error column of mb (err_mb=NAME), or give --no-err-diag "
+                           "with a --cov that holds the statistical errors"
+                         : "map the error column (err=NAME), or give --no-err-diag with a "
+                           "--cov that holds the statistical errors");
         lt_colmap_free(&map);
         return NULL;
     }
@@ -302,6 +421,8 @@ lt_survey *lt_survey_read(const lt_survey_spec *spec, lt_error *err)
         lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
         goto fail;
     }
+    if (map.kind == LT_OBS_MB && check_lightcurve(spec->data, &map, &t, err))
+        goto fail;
     s->kind = map.kind;
     s->n_read = t.n;
     if (t.warning)
@@ -320,10 +441,10 @@ lt_survey *lt_survey_read(const lt_survey_spec *spec, lt_error *err)
     s->row = malloc(m * sizeof *s->row);
     if (map.name[LT_ROLE_ERR])
         s->err = malloc(m * sizeof *s->err);
-    if (t.id)
+    if (t.text[0])
         s->id = calloc(m, sizeof *s->id);
     if (!s->z || !s->zhel || !s->obs || !s->row || (map.name[LT_ROLE_ERR] && !s->err) ||
-        (t.id && !s->id)) {
+        (t.text[0] && !s->id)) {
         lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
         goto fail;
     }
@@ -336,9 +457,13 @@ lt_survey *lt_survey_read(const lt_survey_spec *spec, lt_error *err)
             s->err[a] = t.v[LT_ROLE_ERR][i];
         s->row[a] = t.row[i];
         if (s->id) { /* move the strings over */
-            s->id[a] = t.id[i];
-            t.id[i] = NULL;
+            s->id[a] = t.text[0][i];
+            t.text[0][i] = NULL;
         }
+    }
+    if (map.kind == LT_OBS_MB && take_lightcurve(&map, &t, idx, m, s)) {
+        lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
+        goto fail;
     }
     warn_duplicate_ids(s);
     s->cov = m == t.n ? full : lt_cov_select(full, m, idx, err);

@@ -20,20 +20,56 @@ const char *lt_obs_name(lt_obs k)
     case LT_OBS_MU: return "mu";
     case LT_OBS_MAG: return "mag";
     case LT_OBS_DL: return "dl";
+    case LT_OBS_MB: return "mb";
     default: return "?";
     }
 }
 
+/* Every role's name, as --columns spells it (OBS and ERR by the kind). */
+static const struct {
+    const char *name;
+    int role;
+} roles[] = {
+    {"z", LT_ROLE_Z},
+    {"zhel", LT_ROLE_ZHEL},
+    {"mu", LT_ROLE_OBS},
+    {"mag", LT_ROLE_OBS},
+    {"dl", LT_ROLE_OBS},
+    {"mb", LT_ROLE_OBS},
+    {"err", LT_ROLE_ERR},
+    {"err_mb", LT_ROLE_ERR},
+    {"x1", LT_ROLE_X1},
+    {"color", LT_ROLE_COLOR},
+    {"mass", LT_ROLE_MASS},
+    {"err_mass", LT_ROLE_ERR_MASS},
+    {"err_x1", LT_ROLE_ERR_X1},
+    {"err_color", LT_ROLE_ERR_COLOR},
+    {"cov_mb_x1", LT_ROLE_COV_MB_X1},
+    {"cov_mb_color", LT_ROLE_COV_MB_COLOR},
+    {"cov_x1_color", LT_ROLE_COV_X1_COLOR},
+    {"dz", LT_ROLE_DZ},
+    {"calibrator", LT_ROLE_CALIBRATOR},
+    {"calib_mu", LT_ROLE_CALIB_MU},
+    {"err_calib_mu", LT_ROLE_ERR_CALIB_MU},
+    {"id", LT_ROLE_ID},
+    {"group", LT_ROLE_GROUP},
+};
+#define NROLES (sizeof roles / sizeof roles[0])
+#define ROLE_LIST                                                                              \
+    "z, zhel, mu, mag, dl, err, id; for light-curve tables mb, err_mb, x1, color, mass, "     \
+    "err_mass, err_x1, err_color, cov_mb_x1, cov_mb_color, cov_x1_color, dz, group, calibrator, "      \
+    "calib_mu, err_calib_mu"
+
 const char *lt_role_name(int role, lt_obs kind)
 {
-    switch (role) {
-    case LT_ROLE_Z: return "z";
-    case LT_ROLE_ZHEL: return "zhel";
-    case LT_ROLE_OBS: return lt_obs_name(kind);
-    case LT_ROLE_ERR: return "err";
-    case LT_ROLE_ID: return "id";
-    default: return "?";
-    }
+    if (role == LT_ROLE_OBS)
+        return lt_obs_name(kind);
+    if (role == LT_ROLE_ERR)
+        return kind == LT_OBS_MB ? "err_mb" : "err";
+    for (size_t k = 0; k < NROLES; k++)
+        if (roles[k].role == role)
+            return roles[k].name;
+    return "?";
 }
 
 void lt_colmap_free(lt_colmap *map)
@@ -52,54 +88,91 @@ int lt_colmap_parse(const char *text, lt_colmap *map, lt_error *err)
     map->text = strdup(text);
     if (!map->text)
         return lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
-    int have_obs = 0;
+    int have_obs = 0, err_name_mb = -1;
     char *save = NULL;
     for (char *item = strtok_r(map->text, ",", &save); item; item = strtok_r(NULL, ",", &save)) {
         char *eq = strchr(item, '=');
         if (!eq || eq == item || !eq[1]) {
-            lt_error_set(err, LT_EINPUT, "--columns", 0,
-                         "'%s' is not role=column (roles: z, zhel, mu, mag, dl, err, id)",
-                         item);
+            lt_error_set(err, LT_EINPUT, "--columns", 0, "'%s' is not role=column (roles: %s)",
+                         item, ROLE_LIST);
             goto fail;
         }
         *eq = '\0';
         const char *role = item, *name = eq + 1;
         int r = -1;
         lt_obs kind = LT_OBS_MU;
-        if (strcmp(role, "z") == 0)
-            r = LT_ROLE_Z;
-        else if (strcmp(role, "zhel") == 0)
-            r = LT_ROLE_ZHEL;
-        else if (strcmp(role, "err") == 0)
-            r = LT_ROLE_ERR;
-        else if (strcmp(role, "id") == 0)
-            r = LT_ROLE_ID;
-        else if (strcmp(role, "mu") == 0)
-            r = LT_ROLE_OBS, kind = LT_OBS_MU;
-        else if (strcmp(role, "mag") == 0)
-            r = LT_ROLE_OBS, kind = LT_OBS_MAG;
-        else if (strcmp(role, "dl") == 0)
-            r = LT_ROLE_OBS, kind = LT_OBS_DL;
+        for (size_t k = 0; k < NROLES && r < 0; k++)
+            if (strcmp(role, roles[k].name) == 0)
+                r = roles[k].role;
         if (r < 0) {
-            lt_error_set(err, LT_EINPUT, "--columns", 0,
-                         "unknown role '%s' (roles: z, zhel, mu, mag, dl, err, id)", role);
+            lt_error_set(err, LT_EINPUT, "--columns", 0, "unknown role '%s' (roles: %s)", role,
+                         ROLE_LIST);
             goto fail;
         }
+        if (r == LT_ROLE_OBS)
+            kind = !strcmp(role, "mu")    ? LT_OBS_MU
+                   : !strcmp(role, "mag") ? LT_OBS_MAG
+                   : !strcmp(role, "dl")  ? LT_OBS_DL
+                                          : LT_OBS_MB;
         if (map->name[r]) {
             lt_error_set(err, LT_EINPUT, "--columns", 0,
-                         r == LT_ROLE_OBS ? "more than one observable (mu, mag, dl) mapped"
-                                          : "role '%s' mapped twice",
+                         r == LT_ROLE_OBS   ? "more than one observable (mu, mag, dl, mb) mapped"
+                         : r == LT_ROLE_ERR ? "more than one error column (err, err_mb) mapped"
+                                            : "role '%s' mapped twice",
                          role);
             goto fail;
         }
         map->name[r] = (char *)name;
         if (r == LT_ROLE_OBS)
             map->kind = kind, have_obs = 1;
+        if (r == LT_ROLE_ERR)
+            err_name_mb = !strcmp(role, "err_mb");
     }
     if (!map->name[LT_ROLE_Z] || !have_obs) {
         lt_error_set(err, LT_EINPUT, "--columns", 0,
-                     "map at least z and one observable (mu, mag or dl), e.g. "
-                     "z=zcmb,mag=mb,err=dmb");
+                     "map at least z and one observable (mu, mag or dl; or mb, x1 and color "
+                     "for a light-curve table), e.g. z=zcmb,mag=mb,err=dmb");
+        goto fail;
+    }
+    int lc = map->kind == LT_OBS_MB;
+    if (err_name_mb >= 0 && err_name_mb != lc) {
+        lt_error_set(err, LT_EINPUT, "--columns", 0,
+                     lc ? "a light-curve table's error of mb is err_mb, not err"
+                        : "err_mb is the error of mb, in a light-curve table; here use err");
+        goto fail;
+    }
+    if (lc && (!map->name[LT_ROLE_X1] || !map->name[LT_ROLE_COLOR])) {
+        lt_error_set(err, LT_EINPUT, "--columns", 0,
+                     "a light-curve table (mb) needs x1 and color mapped too");
+        goto fail;
+    }
+    for (int r = LT_ROLE_X1; !lc && r < LT_ROLE_COUNT; r++)
+        if (r != LT_ROLE_ID && map->name[r]) {
+            lt_error_set(err, LT_EINPUT, "--columns", 0,
+                         "%s is a light-curve role: it goes with mb (the peak magnitude), x1 "
+                         "and color, not with %s",
+                         lt_role_name(r, map->kind), lt_obs_name(map->kind));
+            goto fail;
+        }
+    /* a covariance term needs both errors of its pair (the correlation is
+     * checked against them) */
+    static const int pairs[3][3] = {{LT_ROLE_COV_MB_X1, LT_ROLE_ERR, LT_ROLE_ERR_X1},
+                                    {LT_ROLE_COV_MB_COLOR, LT_ROLE_ERR, LT_ROLE_ERR_COLOR},
+                                    {LT_ROLE_COV_X1_COLOR, LT_ROLE_ERR_X1, LT_ROLE_ERR_COLOR}};
+    for (int k = 0; k < 3; k++)
+        if (map->name[pairs[k][0]] && (!map->name[pairs[k][1]] || !map->name[pairs[k][2]])) {
+            lt_error_set(err, LT_EINPUT, "--columns", 0, "%s needs %s and %s mapped too",
+                         lt_role_name(pairs[k][0], map->kind),
+                         lt_role_name(pairs[k][1], map->kind),
+                         lt_role_name(pairs[k][2], map->kind));
+            goto fail;
+        }
+    if (map->name[LT_ROLE_ERR_MASS] && !map->name[LT_ROLE_MASS]) {
+        lt_error_set(err, LT_EINPUT, "--columns", 0, "err_mass needs mass mapped too");
+        goto fail;
+    }
+    if (map->name[LT_ROLE_ERR_CALIB_MU] && !map->name[LT_ROLE_CALIB_MU]) {
+        lt_error_set(err, LT_EINPUT, "--columns", 0, "err_calib_mu needs calib_mu mapped too");
         goto fail;
     }
     for (int a = 0; a < LT_ROLE_COUNT; a++)
@@ -122,10 +195,12 @@ void lt_rawtable_free(lt_rawtable *t)
 {
     for (int r = 0; r < LT_ROLE_ID; r++)
         free(t->v[r]);
-    if (t->id)
-        for (size_t i = 0; i < t->n; i++)
-            free(t->id[i]);
-    free(t->id);
+    for (int k = 0; k < LT_ROLE_NTEXT; k++) {
+        if (t->text[k])
+            for (size_t i = 0; i < t->n; i++)
+                free(t->text[k][i]);
+        free(t->text[k]);
+    }
     free(t->row);
     free(t->line);
     free(t->warning);
@@ -143,11 +218,13 @@ static int grow(lt_rawtable *t, const lt_colmap *map, size_t cap)
             return -1;
         t->v[r] = v;
     }
-    if (map->name[LT_ROLE_ID]) {
-        char **id = realloc(t->id, cap * sizeof *id);
-        if (!id)
+    for (int k = 0; k < LT_ROLE_NTEXT; k++) {
+        if (!map->name[LT_ROLE_ID + k])
+            continue;
+        char **txt = realloc(t->text[k], cap * sizeof *txt);
+        if (!txt)
             return -1;
-        t->id = id;
+        t->text[k] = txt;
     }
     long *row = realloc(t->row, cap * sizeof *row);
     if (!row)
@@ -177,6 +254,17 @@ static int check_value(const char *path, long line, const lt_colmap *map, int ro
         return lt_error_set(err, LT_EINPUT, path, line,
                             "column '%s' (dl) is %g: luminosity distances must be > 0", col,
                             v);
+    if ((role == LT_ROLE_ERR_X1 || role == LT_ROLE_ERR_COLOR || role == LT_ROLE_ERR_CALIB_MU ||
+         role == LT_ROLE_ERR_MASS) &&
+        !(v > 0.0))
+        return lt_error_set(err, LT_EINPUT, path, line,
+                            "column '%s' (%s) is %g: errors must be > 0", col, rn, v);
+    if (role == LT_ROLE_DZ && !(v >= 0.0))
+        return lt_error_set(err, LT_EINPUT, path, line,
+                            "column '%s' (dz) is %g: a redshift error must be >= 0", col, v);
+    if (role == LT_ROLE_CALIBRATOR && v != 0.0 && v != 1.0)
+        return lt_error_set(err, LT_EINPUT, path, line,
+                            "column '%s' (calibrator) is %g: it must be 0 or 1", col, v);
     return LT_OK;
 }
 
@@ -357,9 +445,11 @@ int lt_table_read_text(const char *path, const lt_colmap *map, lt_rawtable *t, l
                 goto done;
             t->v[r][i] = v;
         }
-        if (col[LT_ROLE_ID] >= 0) {
-            t->id[i] = strdup(fields[col[LT_ROLE_ID]]);
-            if (!t->id[i]) {
+        for (int k = 0; k < LT_ROLE_NTEXT; k++) {
+            if (col[LT_ROLE_ID + k] < 0)
+                continue;
+            t->text[k][i] = strdup(fields[col[LT_ROLE_ID + k]]);
+            if (!t->text[k][i]) {
                 rc = lt_error_set(err, LT_ENOMEM, path, it.line, "out of memory");
                 goto done;
             }
@@ -450,9 +540,10 @@ int lt_table_read_fits(const char *path, const lt_colmap *map, lt_rawtable *t, l
         rc = lt_error_set(err, LT_ENOMEM, path, 0, "out of memory for %zu rows", n);
         goto done;
     }
-    if (t->id)
-        for (size_t i = 0; i < n; i++)
-            t->id[i] = NULL; /* so that a failure part-way frees only what it made */
+    for (int k = 0; k < LT_ROLE_NTEXT; k++)
+        if (t->text[k])
+            for (size_t i = 0; i < n; i++)
+                t->text[k][i] = NULL; /* so that a failure part-way frees only what it made */
     ids_ready = 1;
     for (int r = 0; r < LT_ROLE_ID; r++) {
         if (!col[r])
@@ -486,10 +577,13 @@ int lt_table_read_fits(const char *path, const lt_colmap *map, lt_rawtable *t, l
                 goto done;
         }
     }
-    if (col[LT_ROLE_ID]) {
+    for (int k = 0; k < LT_ROLE_NTEXT; k++) {
+        int c = col[LT_ROLE_ID + k];
+        if (!c)
+            continue;
         int typecode;
         long repeat, width;
-        fits_get_coltype(f, col[LT_ROLE_ID], &typecode, &repeat, &width, &status);
+        fits_get_coltype(f, c, &typecode, &repeat, &width, &status);
         long w = typecode == TSTRING ? repeat : 32;
         for (size_t i = 0; i < n && !status; i++) {
             char *cell = calloc((size_t)w + 1, 1);
@@ -497,13 +591,13 @@ int lt_table_read_fits(const char *path, const lt_colmap *map, lt_rawtable *t, l
                 rc = lt_error_set(err, LT_ENOMEM, path, 0, "out of memory");
                 goto done;
             }
-            t->id[i] = cell;
+            t->text[k][i] = cell;
             int anynul = 0;
-            fits_read_col(f, TSTRING, col[LT_ROLE_ID], (LONGLONG)i + 1, 1, 1, "", &t->id[i],
-                          &anynul, &status);
+            fits_read_col(f, TSTRING, c, (LONGLONG)i + 1, 1, 1, "", &t->text[k][i], &anynul,
+                          &status);
         }
         if (status) {
-            rc = fits_fail(path, status, "cannot read the id column", err);
+            rc = fits_fail(path, status, "cannot read a text column", err);
             goto done;
         }
     }
