@@ -563,13 +563,13 @@ static double temper(const double *w, size_t n, double want, double *out)
  * scale). Gaussian responsibilities under next's components (their
  * covariances, not the t scales); per-row terms in parallel, sums in fixed
  * chunks added in order. A component with fewer than d + 2 effective draws
- * is dropped; if none is left, next takes back from's components. -1 when
- * out of memory.
+ * is dropped; if none is left, next takes back from's first k (its
+ * components on entry). -1 when out of memory.
  */
 static int em(const lt_ais *s, mixture *next, const mixture *from, const double *x0,
               size_t stride, const double *w, size_t n, int steps, int threads)
 {
-    size_t d = s->o.dim, k = next->k;
+    size_t d = s->o.dim, k = next->k, k0 = next->k;
     size_t width = 2 + d + d * d; /* per component: sum w r, sum (w r)^2, sum w r x, sum w r x x^T */
     size_t nchunk = (n + CHUNK - 1) / CHUNK;
     double *part = calloc((nchunk ? nchunk : 1) * KMAX * width, sizeof *part);
@@ -656,8 +656,9 @@ static int em(const lt_ais *s, mixture *next, const mixture *from, const double 
                 continue;
             next->alpha[kept++] = o[0];
         }
-        if (kept == 0) { /* nothing usable: the components we started from */
-            mix_copy(next, from, from->k, d);
+        if (kept == 0) { /* nothing usable: the k0 components we started from (from's
+                          * defensive one, past them, is not adapted) */
+            mix_copy(next, from, k0, d);
             break;
         }
         k = next->k = kept;
