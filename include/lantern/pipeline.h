@@ -458,16 +458,18 @@ int lt_pipeline_reweight(const lt_job *add, const lt_reweight_opts *o, lt_reweig
                          lt_error *err);
 
 /*
- * A posterior (method LT_POST_IMPORTANCE or LT_POST_MCMC) from given rows:
- * nchains x ndraws parameter vectors theta (l's order, rows stride apart),
- * their logpost and chi2 under l, and weights w (mean 1; NULL: none); the
- * derived columns, summaries and the best draw polished (its evaluations
- * in r->evals). converged is left to the caller.
+ * A posterior (method LT_POST_IMPORTANCE or LT_POST_MCMC) from given rows,
+ * nchains x ndraws of them, stride apart, each l's parameters (in l's
+ * order), then their logpost under l, then chi2 (NaN where stride leaves
+ * no room for it), as lt_ais draws its rows; and weights w (mean 1; NULL:
+ * none): the derived columns, summaries, Kish's ESS, for chains their
+ * unweighted R-hat and ESS, and the best draw polished (its evaluations in
+ * r->evals). converged and the method's own numbers are left to the
+ * caller. lt_pipeline_ais_posterior is this on lt_ais's draws.
  */
 int lt_pipeline_rows_posterior(const lt_like *l, lt_post_method method, size_t nchains,
-                               size_t ndraws, const double *theta, size_t stride,
-                               const double *logpost, const double *chi2, const double *w,
-                               lt_posterior *r, lt_error *err);
+                               size_t ndraws, const double *rows, size_t stride,
+                               const double *w, lt_posterior *r, lt_error *err);
 
 /* ---- a run of several models and its report (lantern run, report) ---- */
 

@@ -265,41 +265,20 @@ nomem:
 
 int lt_pipeline_ais_posterior(const lt_like *l, const lt_ais *s, lt_posterior *r, lt_error *err)
 {
-    memset(r, 0, sizeof *r);
-    r->method = LT_POST_IMPORTANCE;
-    size_t d = lt_like_dim(l), n, rs = lt_ais_row_size(s);
-    const double *dr = lt_ais_draws(s, &n), *w = lt_ais_weights(s);
+    size_t n;
+    const double *dr = lt_ais_draws(s, &n);
     const lt_ais_diag *dg = lt_ais_diagnostics(s);
-    r->nchains = 1, r->ndraws = n, r->thin = 1, r->steps = n;
-    int der[LT_NDER + 1], nder;
-    if (alloc_columns(l, n, r, der, &nder) || !(r->weights = malloc((n ? n : 1) * sizeof *w)))
-        goto nomem;
-    double sw = 0.0, sw2 = 0.0;
-    for (size_t j = 0; j < n; j++) {
-        double *out = r->rows + j * r->ncols;
-        out[LOGPOST] = dr[j * rs + d];
-        out[CHI2] = lt_ais_options(s)->nextra ? dr[j * rs + d + 1] : NAN;
-        memcpy(out + 2, dr + j * rs, d * sizeof *out);
-        r->weights[j] = w[j];
-        sw += w[j], sw2 += w[j] * w[j];
-    }
-    r->kish_ess = sw2 > 0.0 ? sw * sw / sw2 : 0.0;
-    size_t polish = 0;
-    int rc = finish_draws(l, r, der, nder, 1, &polish, err);
+    int rc = lt_pipeline_rows_posterior(l, LT_POST_IMPORTANCE, 1, n, dr, lt_ais_row_size(s),
+                                        lt_ais_weights(s), r, err);
     if (rc)
         return rc;
-    r->evals += polish;
     r->converged = lt_ais_converged(s);
     r->finished = lt_ais_finished(s);
     r->pareto_k = dg->pareto_k;
     r->iterations = dg->iterations;
     /* the weights' own estimate of the evidence (the mean of p / q) is
      * not reported: nested sampling gives ln Z where a summary shows one */
-    r->ln_z = r->ln_z_err = r->information = NAN;
     return LT_OK;
-nomem:
-    lt_posterior_free(r);
-    return lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory summarising the draws");
 }
 
 
@@ -339,9 +318,8 @@ static int chains_diag(lt_posterior *r, size_t d)
 }
 
 int lt_pipeline_rows_posterior(const lt_like *l, lt_post_method method, size_t nchains,
-                               size_t ndraws, const double *theta, size_t stride,
-                               const double *logpost, const double *chi2, const double *w,
-                               lt_posterior *r, lt_error *err)
+                               size_t ndraws, const double *rows, size_t stride,
+                               const double *w, lt_posterior *r, lt_error *err)
 {
     memset(r, 0, sizeof *r);
     r->method = method;
@@ -354,9 +332,10 @@ int lt_pipeline_rows_posterior(const lt_like *l, lt_post_method method, size_t n
     double sw = 0.0, sw2 = 0.0;
     for (size_t j = 0; j < n; j++) {
         double *out = r->rows + j * r->ncols;
-        out[LOGPOST] = logpost[j];
-        out[CHI2] = chi2[j];
-        memcpy(out + 2, theta + j * stride, d * sizeof *out);
+        const double *in = rows + j * stride;
+        out[LOGPOST] = in[d];
+        out[CHI2] = stride > d + 1 ? in[d + 1] : NAN;
+        memcpy(out + 2, in, d * sizeof *out);
         if (w) {
             r->weights[j] = w[j];
             sw += w[j], sw2 += w[j] * w[j];

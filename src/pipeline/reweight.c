@@ -107,11 +107,12 @@ static int map_params(const lt_like *l, const lt_run_model *m, size_t *idx, cons
 }
 
 /* Both likelihoods at every draw, in parallel (each draw's results in its
- * own slot: the same whatever the threads). */
+ * own slot: the same whatever the threads): lp_run[j], and rows of the
+ * combination's parameters, logpost and chi2 (lt_pipeline_rows_posterior's
+ * layout, dc + 2 apart). */
 static int evaluate(const built *run, const built *comb, const lt_run_model *m,
                     const size_t *irun, const size_t *icomb, int threads, double *lp_run,
-                    double *lp_comb, double *chi2_comb, double *theta, size_t *evals,
-                    lt_error *err)
+                    double *rows, size_t *evals, lt_error *err)
 {
     size_t n = m->nchains * m->ndraws, nc = m->nparams + m->nderived;
     size_t dr = lt_like_dim(run->l), dc = lt_like_dim(comb->l);
@@ -129,7 +130,7 @@ static int evaluate(const built *run, const built *comb, const lt_run_model *m,
             if (!wr || !wc)
                 continue;
             const double *row = m->draws + j * nc;
-            double xr[LT_MAX_FREE], *xc = theta + j * dc;
+            double xr[LT_MAX_FREE], *xc = rows + j * (dc + 2);
             for (size_t i = 0; i < dr; i++)
                 xr[i] = row[irun[i]];
             for (size_t i = 0; i < dc; i++)
@@ -138,8 +139,8 @@ static int evaluate(const built *run, const built *comb, const lt_run_model *m,
             lt_like_eval(run->l, wr, xr, &pr);
             lt_like_eval(comb->l, wc, xc, &pc);
             lp_run[j] = pr.logpost;
-            lp_comb[j] = pc.domain_ok ? pc.logpost : -INFINITY;
-            chi2_comb[j] = pc.domain_ok ? pc.chi2 : NAN;
+            xc[dc] = pc.domain_ok ? pc.logpost : -INFINITY;
+            xc[dc + 1] = pc.domain_ok ? pc.chi2 : NAN;
         }
         if (wr)
             count += lt_like_work_evals(wr);
@@ -245,22 +246,21 @@ int lt_pipeline_reweight(const lt_job *add, const lt_reweight_opts *o, lt_reweig
                          "the added terms need parameters the run did not sample:", err)))
         goto done;
     size_t n = m.nchains * m.ndraws, dc = lt_like_dim(comb->l), evals = 0;
-    if (!(buf = malloc((n ? n : 1) * (5 + dc) * sizeof *buf))) {
+    if (!(buf = malloc((n ? n : 1) * (5 + dc) * sizeof *buf))) { /* lp_run, w, lr, rows */
         rc = lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
         goto done;
     }
-    double *lp_run = buf, *lp_comb = buf + n, *chi2 = buf + 2 * n, *w = buf + 3 * n,
-           *lr = buf + 4 * n, *theta = buf + 5 * n;
-    if ((rc = evaluate(&run, comb, &m, irun, icomb, threads, lp_run, lp_comb, chi2, theta,
-                       &evals, err)))
+    double *lp_run = buf, *w = buf + n, *lr = buf + 2 * n, *rows = buf + 3 * n;
+    if ((rc = evaluate(&run, comb, &m, irun, icomb, threads, lp_run, rows, &evals, err)))
         goto done;
     /* new weights: old x exp(lp_comb - lp_run), the largest ratio taken
      * out before the exponential; mean 1 */
     double top = -INFINITY, sw = 0.0, sw2 = 0.0, ow = 0.0, ow2 = 0.0;
     for (size_t k = 0; k < n; k++) {
         double w0 = m.weights ? m.weights[k] : 1.0;
-        lr[k] = w0 > 0.0 && isfinite(lp_run[k]) && isfinite(lp_comb[k]) ? lp_comb[k] - lp_run[k]
-                                                                          : -INFINITY;
+        double lp_comb = rows[k * (dc + 2) + dc];
+        lr[k] = w0 > 0.0 && isfinite(lp_run[k]) && isfinite(lp_comb) ? lp_comb - lp_run[k]
+                                                                      : -INFINITY;
         w[k] = lr[k] + (w0 > 0.0 ? log(w0) : -INFINITY);
         top = fmax(top, w[k]);
         ow += w0, ow2 += w0 * w0;
@@ -282,8 +282,7 @@ int lt_pipeline_reweight(const lt_job *add, const lt_reweight_opts *o, lt_reweig
     info->kish_after = (double)n * (double)n / sw2;
     info->pareto_k = lt_diag_pareto_k(lr, n);
     if ((rc = lt_pipeline_rows_posterior(comb->l, m.independent ? LT_POST_IMPORTANCE : LT_POST_MCMC,
-                                         m.nchains, m.ndraws, theta, dc, lp_comb, chi2, w, post,
-                                         err)))
+                                         m.nchains, m.ndraws, rows, dc + 2, w, post, err)))
         goto done;
     post->evals += evals;
     post->reweighted = 1;
