@@ -283,6 +283,9 @@ typedef struct lt_sample_compression {
     double posterior_dchi2; /* on the draws reported */
     int checked_ok;         /* the check ran (0: no "compression" field) */
 } lt_sample_compression;
+/* The check ran and found the draws' compressed chi2 off by more than
+ * LT_CHECK_BOUND: what the warnings and the MCMC's exact weighting go by. */
+int lt_sample_compression_missed(const lt_sample_compression *c);
 
 int lt_like_check_posterior(lt_like *l, const double *draws, size_t n, size_t stride, double bound,
                             lt_compression_check *out, lt_error *err);

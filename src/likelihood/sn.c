@@ -593,3 +593,8 @@ int lt_like_predict(const lt_like *l, lt_like_work *w, const double *theta, doub
         model[i] = l->sn->s->obs[i] - sw->r[i] + shift;
     return LT_OK;
 }
+
+int lt_sample_compression_missed(const lt_sample_compression *c)
+{
+    return c->checked_ok && c->posterior_dchi2 > LT_CHECK_BOUND;
+}

@@ -225,7 +225,7 @@ static int mcmc_iterate(void *p, const char *state, uint64_t fp, volatile sig_at
 static int mcmc_result(void *p, const lt_pipeline_hooks *h, lt_posterior *post, lt_error *err)
 {
     mcmc_run *r = p;
-    int off = r->cmp.checked_ok && r->cmp.posterior_dchi2 > LT_CHECK_BOUND;
+    int off = lt_sample_compression_missed(&r->cmp);
     if (off) {
         char text[160];
         snprintf(text, sizeof text,

@@ -27,8 +27,7 @@ static void warnings(const lt_like *l, const lt_job *j, const lt_posterior *r,
         lt_report_pareto_warning(r, text, sizeof text);
         pipeline_say(h, LT_NOTE_WARNING, text);
     }
-    if (r->method == LT_POST_IMPORTANCE && r->compression.checked_ok &&
-        r->compression.posterior_dchi2 > LT_CHECK_BOUND) {
+    if (r->method == LT_POST_IMPORTANCE && lt_sample_compression_missed(&r->compression)) {
         /* as the summary's warnings say it */
         lt_report_compression_warning(r, text, sizeof text);
         pipeline_say(h, LT_NOTE_WARNING, text);

@@ -184,7 +184,7 @@ cJSON *lt_report_sample_json(const lt_like *l, const lt_posterior *r,
         }
     }
     cJSON *w = lt_report_add_data(o, data, l);
-    if (r->compression.checked_ok && r->compression.posterior_dchi2 > LT_CHECK_BOUND) {
+    if (lt_sample_compression_missed(&r->compression)) {
         char text[512];
         lt_report_compression_warning(r, text, sizeof text);
         cJSON_AddItemToArray(w, cJSON_CreateString(text));

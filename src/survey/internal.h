@@ -48,6 +48,10 @@ enum {
     LT_ROLE_COUNT
 };
 #define LT_ROLE_NTEXT (LT_ROLE_COUNT - LT_ROLE_ID)
+/* Each light-curve covariance role and the two error roles of its pair:
+ * mapped together (lt_colmap_parse), and |cov| <= their product (checked
+ * by lt_survey_read). */
+extern const int lt_role_cov_pairs[3][3];
 
 typedef struct lt_colmap {
     char *name[LT_ROLE_COUNT]; /* column names, NULL where a role is unmapped */

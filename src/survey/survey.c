@@ -54,9 +54,7 @@ static void row_where(const char *path, const lt_rawtable *t, size_t i, char *bu
 static int check_lightcurve(const char *path, const lt_colmap *map, const lt_rawtable *t,
                             lt_error *err)
 {
-    static const int pairs[3][3] = {{LT_ROLE_COV_MB_X1, LT_ROLE_ERR, LT_ROLE_ERR_X1},
-                                    {LT_ROLE_COV_MB_COLOR, LT_ROLE_ERR, LT_ROLE_ERR_COLOR},
-                                    {LT_ROLE_COV_X1_COLOR, LT_ROLE_ERR_X1, LT_ROLE_ERR_COLOR}};
+    const int(*pairs)[3] = lt_role_cov_pairs;
     for (size_t i = 0; i < t->n; i++) {
         char where[600];
         long line;

@@ -60,6 +60,10 @@ static const struct {
     "err_mass, err_x1, err_color, cov_mb_x1, cov_mb_color, cov_x1_color, dz, group, calibrator, "      \
     "calib_mu, err_calib_mu"
 
+const int lt_role_cov_pairs[3][3] = {{LT_ROLE_COV_MB_X1, LT_ROLE_ERR, LT_ROLE_ERR_X1},
+                                     {LT_ROLE_COV_MB_COLOR, LT_ROLE_ERR, LT_ROLE_ERR_COLOR},
+                                     {LT_ROLE_COV_X1_COLOR, LT_ROLE_ERR_X1, LT_ROLE_ERR_COLOR}};
+
 const char *lt_role_name(int role, lt_obs kind)
 {
     if (role == LT_ROLE_OBS)
@@ -156,9 +160,7 @@ int lt_colmap_parse(const char *text, lt_colmap *map, lt_error *err)
         }
     /* a covariance term needs both errors of its pair (the correlation is
      * checked against them) */
-    static const int pairs[3][3] = {{LT_ROLE_COV_MB_X1, LT_ROLE_ERR, LT_ROLE_ERR_X1},
-                                    {LT_ROLE_COV_MB_COLOR, LT_ROLE_ERR, LT_ROLE_ERR_COLOR},
-                                    {LT_ROLE_COV_X1_COLOR, LT_ROLE_ERR_X1, LT_ROLE_ERR_COLOR}};
+    const int(*pairs)[3] = lt_role_cov_pairs;
     for (int k = 0; k < 3; k++)
         if (map->name[pairs[k][0]] && (!map->name[pairs[k][1]] || !map->name[pairs[k][2]])) {
             lt_error_set(err, LT_EINPUT, "--columns", 0, "%s needs %s and %s mapped too",
