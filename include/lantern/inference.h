@@ -444,6 +444,12 @@ typedef struct lt_fit_result {
     size_t dim;                       /* arrays by free position (lt_like_param_name) */
     double best[LT_MAX_FREE];
     double sd[LT_MAX_FREE];           /* Laplace sigma; NaN without one */
+    int edge[LT_MAX_FREE];            /* -1, 1: the best fit is on the lower, upper edge of
+                                       * a uniform prior (held there for the others' Laplace
+                                       * errors; sd NaN); 0 inside */
+    double limit[LT_MAX_FREE];        /* at an edge: the 95% one-sided limit, -2 ln P up by
+                                       * 2.71 with the others at their best (NaN: none
+                                       * inside the prior) */
     double cov[LT_MAX_FREE * LT_MAX_FREE]; /* Laplace covariance */
     int laplace_ok;
     char laplace_note[LT_ERROR_MSG_MAX]; /* why not, if not */
@@ -466,5 +472,25 @@ typedef struct lt_fit_result {
 /* Fit l: starts drawn from the prior (seeded), lt_optimize, then
  * lt_laplace; derived parameters with errors by the delta method. */
 int lt_fit_run(const lt_like *l, const lt_fit_opts *o, lt_fit_result *r, lt_error *err);
+
+/* The Laplace covariance as a sampler's start: r->cov with a parameter at
+ * an edge given the variance ((limit - edge) / 2)^2 (a tenth of its prior
+ * width squared without a limit), uncorrelated with the rest. cov: d x d. */
+void lt_fit_start_cov(const lt_like *l, const lt_fit_result *r, double *cov);
+
+/* The most parameters nested sampling takes (its ellipsoids' fixed arrays):
+ * beyond it there is no evidence, and importance sampling starts from a
+ * fit instead of a short nested run. */
+#define LT_NESTED_DIM_MAX 16
+
+/*
+ * The chi2 standardisation's fit: lt_fit_run and lt_like_scatter_tune in
+ * turn until no sigma_int moves by 1e-6 (r is then the fit at the scatter
+ * l holds, tune the last tuning), at most LT_SCATTER_ITERATIONS rounds
+ * (LT_ENUMERIC beyond). Changes l.
+ */
+#define LT_SCATTER_ITERATIONS 30
+int lt_fit_scatter(lt_like *l, const lt_fit_opts *o, lt_fit_result *r, lt_scatter_tune *tune,
+                   int *iterations, lt_error *err);
 
 #endif

@@ -58,13 +58,14 @@ void lt_prior_format(const lt_prior *p, char *buf, size_t size);
 /* ---- parameters ---- */
 
 #define LT_NAME_MAX 32   /* a parameter's name, with its terminating NUL */
-#define LT_MAX_PARAMS 32 /* parameters of one likelihood, free and fixed */
-#define LT_MAX_FREE 24   /* free parameters of one likelihood: the length of
-                          * arrays indexed by free-parameter position */
+#define LT_MAX_PARAMS 64 /* parameters of one likelihood, free and fixed */
+#define LT_MAX_FREE 48   /* free parameters of one likelihood: the length of
+                          * arrays indexed by free-parameter position (the
+                          * latent standardisation of four groups has 25) */
 
 typedef struct lt_param {
     char name[LT_NAME_MAX]; /* "omega_m", "offset" */
-    const char *label;      /* LaTeX, without $: "\\Omega_m" */
+    char label[64];         /* LaTeX, without $: "\\Omega_m", "\\sigma_\\mathrm{int}^{(2)}" */
     const char *unit;       /* "" (none), "km/s/Mpc", "mag", "K" */
     lt_prior prior;         /* of a free parameter */
     int free;
@@ -72,8 +73,13 @@ typedef struct lt_param {
 } lt_param;
 
 /* Whether name is a parameter some model or term can have: the
- * cosmological ones (m_nu and omega_b_h2 included), offset and rd_h. */
+ * cosmological ones (m_nu and omega_b_h2 included), offset, rd_h, and the
+ * standardisation's (alpha, beta, gamma, sigma_int, x1_mean, x1_sd,
+ * color_mean, color_sd; offset, sigma_int and the last four also per group
+ * as NAME@GROUP). */
 int lt_param_known(const char *name);
+/* Whether name is one of the standardisation's (lt_param_known's list). */
+int lt_param_is_standardisation(const char *name);
 /* Whether a likelihood of model m can have parameter name: offset always
  * (where the data need one); omega_de not in a flat model, where it is
  * derived; the model's cosmological parameters. */
@@ -83,9 +89,49 @@ const char *lt_param_known_list(void);
 /* The default prior of a parameter for an observable (DESIGN.md):
  * omega_m U(0,1), omega_de U(0,1.6), w0 U(-2,0), wa U(-3,2), h0 U(40,100),
  * omega_b_h2 U(0.005,0.1), rd_h U(50,150) (Mpc), offset U(-21,-17) for mag
- * data and U(-2,2) otherwise; U(0, 0) for a name without one (m_nu: fixed
- * unless given a prior). */
+ * and mb data and U(-2,2) otherwise; the standardisation's alpha U(0,1),
+ * beta U(0,10), gamma U(-0.5,0.5), sigma_int U(0,1), x1_mean U(-5,5),
+ * x1_sd U(0,5), color_mean U(-1,1), color_sd U(0,1), offset@GROUP
+ * U(-1,1); U(0, 0) for a name without one (m_nu: fixed unless given a
+ * prior). */
 lt_prior lt_param_default_prior(const char *name, lt_obs kind);
+
+/* The part of a name before '@' (the whole name without one) into base
+ * (LT_NAME_MAX); the group after it, or NULL. */
+const char *lt_param_split(const char *name, char *base);
+
+/*
+ * The standardisation of a light-curve table (Tripp 1998, A&A 331, 815):
+ *     mu_obs = mb - M - gamma P(high mass) + alpha x1 - beta c,
+ * M the offset (plus offset@GROUP where asked for), P the probability that
+ * the host's log10 mass is at least mass_split (a step without err_mass).
+ * Each object's magnitude also scatters by sigma_int (one per group unless
+ * shared), by its redshift error and peculiar velocity,
+ *     sigma_z = (5 / ln 10) sqrt(dz^2 + (v / c)^2) (1 + z) / (z (1 + z/2))
+ * (the formula lantern simulate uses), and by lensing, 0.055 z (Jonsson et
+ * al. 2010, MNRAS 405, 535). Two likelihoods (src/likelihood/standard.c):
+ *   latent (the default): the true x1 and c of each object drawn from a
+ *     Gaussian population per group (x1_mean, x1_sd, color_mean, color_sd)
+ *     and integrated out analytically with the true magnitude's scatter
+ *     (March et al. 2011, MNRAS 418, 2308): a normalised likelihood of
+ *     (mb, x1, c), so sigma_int is a parameter and ln Z means something;
+ *   chi2: the residuals of mu_obs against C(alpha, beta) without its ln
+ *     det (Conley et al. 2011, ApJS 192, 1), sigma_int fixed, set per group
+ *     so that its chi2 per degree of freedom is 1 (lt_like_scatter_tune).
+ */
+typedef enum { LT_STD_LATENT = 0, LT_STD_CHI2 } lt_std_method;
+const char *lt_std_method_name(lt_std_method m); /* "latent", "chi2" */
+int lt_std_method_parse(const char *text);        /* -1 if neither */
+typedef struct lt_std_spec {
+    lt_std_method method;
+    int shared_scatter;         /* 1: one sigma_int for every group */
+    double velocity_dispersion; /* km/s (150, as JLA) */
+    double mass_split;          /* log10 M / M_sun (LT_MASS_SPLIT) */
+} lt_std_spec;
+
+/* Groups of one light-curve table (each has its own scatter and, for the
+ * latent method, populations). */
+#define LT_STD_GROUPS_MAX 16
 
 typedef enum { LT_OFFSET_DEFAULT = -1, LT_OFFSET_NONE = 0, LT_OFFSET_MARGINAL,
                LT_OFFSET_SAMPLED } lt_offset_mode;
@@ -140,6 +186,8 @@ typedef struct lt_like_spec {
      * refused: a run file's priors serve every probe combination it lists.
      * A parameter the model lacks is refused all the same. */
     int lenient;
+    lt_std_spec std; /* for a light-curve table */
+    int std_given;   /* 1: std was asked for (refused without a light-curve table) */
 } lt_like_spec;
 
 void lt_like_spec_init(lt_like_spec *s, const lt_cosmo_model *m);
@@ -187,7 +235,12 @@ int lt_like_param_index(const lt_like *l, const char *name);
 size_t lt_like_nfixed(const lt_like *l);
 const lt_param *lt_like_fixed(const lt_like *l, size_t k);
 lt_offset_mode lt_like_offset_mode(const lt_like *l);
-/* The supernova survey, or NULL when there is no supernova term. */
+/* The table of the supernova or standardisation term, or NULL. */
+const lt_survey *lt_like_table(const lt_like *l);
+/* The standardisation's options, or NULL without a light-curve table. */
+const lt_std_spec *lt_like_std(const lt_like *l);
+/* The supernova survey, or NULL when there is no supernova term (a
+ * light-curve table's is not one: its magnitudes are not distances). */
 const lt_survey *lt_like_survey(const lt_like *l);
 /* The BAO term's table, or NULL without one; *rd_free (if not NULL): it
  * samples rd_h rather than r_d from the formula. */
@@ -304,6 +357,36 @@ size_t lt_like_reweight_draws(const lt_like *l);
  * resumed run does to sample with the knots its first part used. */
 int lt_like_compression_set(lt_like *l, size_t K, lt_error *err);
 
+/*
+ * The chi2 method's intrinsic scatter (lt_std_method): the sigma_int
+ * entries no setting fixed are set, at theta (a best fit), so that the
+ * chi2 of the objects each serves, r_g^T (C^-1 r)_g (these sum to the whole
+ * chi2), equals their share of the degrees of freedom, N_g (1 - dim / N);
+ * an entry whose objects' chi2 is below that even at 0 is set to 0. The
+ * entries are solved one at a time by bisection, in sweeps until none
+ * moves by 1e-9 (one sweep when the covariance is diagonal). A fit then
+ * iterates fit and tune (lt_fit_scatter) until they agree. Changes l.
+ */
+typedef struct lt_scatter_tune {
+    size_t n;                                 /* entries tuned */
+    const char *name[LT_STD_GROUPS_MAX];      /* "sigma_int@2" (l's strings) */
+    double sigma[LT_STD_GROUPS_MAX];
+    double dof[LT_STD_GROUPS_MAX];            /* the chi2 each was set to */
+    size_t nobj[LT_STD_GROUPS_MAX];
+    int at_zero[LT_STD_GROUPS_MAX];           /* chi2 below dof even without scatter */
+    double max_change;                        /* largest change of a sigma */
+} lt_scatter_tune;
+int lt_like_scatter_tune(lt_like *l, const double *theta, lt_scatter_tune *out, lt_error *err);
+/* 1 if l has scatter entries to tune and lt_like_scatter_tune has not run. */
+int lt_like_scatter_untuned(const lt_like *l);
+/* The tuned entries' names and values (either may be NULL); their number. */
+size_t lt_like_scatter_tuned(const lt_like *l, const char **names, double *sigma);
+
+/* A fit's first start: the centre of each prior (the mean of a Gaussian
+ * one), where a term has no better guess from its data (the
+ * standardisation's populations and scatter). */
+void lt_like_guess(const lt_like *l, double *theta);
+
 /* The cosmology at theta (for derived quantities); LT_EDOMAIN etc. */
 int lt_like_cosmo(const lt_like *l, const double *theta, lt_cosmo *c, lt_error *err);
 
@@ -362,20 +445,24 @@ typedef struct lt_term_out {
     double offset;   /* the supernova offset, best or sampled; else untouched */
 } lt_term_out;
 
-/* A parameter a term brings, free with this default prior. */
+/* A parameter a term brings, free with this default prior, or fixed at
+ * value (the setting of the name, if any, decides). */
 typedef struct lt_term_param {
-    const char *name;
+    char name[LT_NAME_MAX];
     lt_prior prior;
+    int fixed;
+    double value;
 } lt_term_param;
 
 /* What a term needs of the parameter table, declared before the table is
  * built (DESIGN.md: add_params): h0 free, the early universe (radiation
  * on), omega_b_h2, and parameters of its own. */
-#define LT_TERM_OWN_MAX 4
+#define LT_TERM_OWN_MAX LT_MAX_FREE
 typedef struct lt_term_needs {
     int h0, early, omega_b_h2;
     size_t nown;
     lt_term_param own[LT_TERM_OWN_MAX];
+    int overflow; /* a term asked for more than LT_TERM_OWN_MAX */
 } lt_term_needs;
 
 typedef struct lt_term_type {
@@ -393,6 +480,11 @@ typedef struct lt_term_type {
     size_t (*ndata)(const void *state);
     double (*lognorm)(const void *state);
     void (*free)(void *state);
+    /* Optional (NULL: none): a starting point for a fit, from the term's
+     * data, written into the table values of its free parameters (values
+     * holds the prior centres); lt_like_guess keeps it only inside the
+     * prior. */
+    void (*guess)(const void *state, double *values);
 } lt_term_type;
 
 /*

@@ -73,6 +73,9 @@ typedef struct lt_job {
     const char *bao, *bao_cov; /* [data] bao, bao_cov: the BAO term's files */
     const char *rd;      /* [data] rd: "formula" (the default) or "free" */
     const char *cmb, *cmb_cov; /* [data] cmb, cmb_cov: the CMB term's files */
+    const char *standardise, *scatter; /* [data] standardise (latent|chi2), scatter
+                                        * (per-group|shared), or NULL */
+    double velocity_dispersion, mass_split; /* [data] ...; NaN: the defaults */
     const char *model, *offset;
     lt_job_entry priors[LT_JOB_MAX_ENTRIES], fixes[LT_JOB_MAX_ENTRIES],
         measures[LT_JOB_MAX_ENTRIES];

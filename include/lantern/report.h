@@ -312,6 +312,10 @@ int lt_report_write_figures(const char *dir, const lt_run_model *models, size_t 
  * warnings array for the caller to extend. */
 struct cJSON *lt_report_add_data(struct cJSON *o, const lt_survey_spec *data,
                                  const lt_like *l);
+/* Add "standardisation" ({method, scatter, velocity_dispersion_km_s,
+ * mass_split, lensing_per_z, tuned_sigma_int: {NAME: value}}) to o where l
+ * standardises a light-curve table. */
+void lt_report_std_json(struct cJSON *o, const lt_like *l);
 /* Print "FILE: N objects, observable mag; 1 measurement" (the parts there
  * are) to f, with the file's whole name however long. */
 void lt_report_describe_data(FILE *f, const lt_like *l, const lt_survey_spec *data);

@@ -108,6 +108,28 @@ typedef struct lt_cov_info {
 /* Describe a factored covariance. */
 int lt_cov_inspect(const lt_cov *c, lt_cov_info *info, lt_error *err);
 
+/*
+ * A covariance whose diagonal changes from one evaluation to the next,
+ * C(d) = F + diag(d) with F a survey's covariance (what the
+ * standardisation needs: each object's variance depends on alpha, beta and
+ * the intrinsic scatter, the systematic part does not). For F = diag(b) +
+ * U U^T a solve costs N k^2 (Woodbury with the capacitance matrix rebuilt);
+ * for a dense F, N^3 / 3 (a Cholesky factorisation of F + diag(d)).
+ */
+typedef struct lt_dcov lt_dcov;
+/* The fixed part F = c, copied (c may be freed after). */
+lt_dcov *lt_dcov_alloc(const lt_cov *c, lt_error *err);
+void lt_dcov_free(lt_dcov *v);
+/* 1 if F is dense (a solve costs N^3 / 3), 0 if diagonal plus modes. */
+int lt_dcov_dense(const lt_dcov *v);
+/* Scratch space, in doubles, that lt_dcov_solve needs. */
+size_t lt_dcov_work_size(const lt_dcov *v);
+/* With C = F + diag(d): *chi2 = r^T C^-1 r, *logdet = ln det C and, if x is
+ * not NULL, x = C^-1 r (n values, not aliasing r). Returns -1 (outputs
+ * undefined) if C is not positive definite. Allocates nothing. */
+int lt_dcov_solve(const lt_dcov *v, const double *d, const double *r, double *x, double *work,
+                  double *chi2, double *logdet);
+
 /* ---------------------------------------------------------------------- */
 /* Surveys                                                                 */
 /* ---------------------------------------------------------------------- */
@@ -189,7 +211,8 @@ typedef struct lt_survey {
  *  - FITS binary tables by CFITSIO's extended names; errors name the row.
  * Light-curve tables (mb with x1 and color; the roles in lt_survey_spec's
  * columns): err_x1, err_color and err_calib_mu > 0, dz >= 0, calibrator 0
- * or 1 and a calibrator's calib_mu given, |cov_a_b| <= err_a err_b.
+ * or 1 and a calibrator's calib_mu given, |cov_a_b| <= err_a err_b, group
+ * labels of 1 to LT_GROUP_NAME_MAX characters without = : , . @ or blanks.
  * Checks: finite numbers, z > 0, zhel > 0, err > 0, dl > 0, no duplicate
  * header names, the covariance sizes, symmetry (|C_ij - C_ji| <= 1e-6
  * sqrt(C_ii C_jj); the mean of the two is used) and positive definiteness.
@@ -201,6 +224,11 @@ void lt_survey_free(lt_survey *s);
 /* Add a warning (copied) to s; returns LT_ENOMEM on failure. */
 int lt_survey_warn(lt_survey *s, const char *fmt, ...) __attribute__((format(printf, 2, 3)));
 
+/* Add a light-curve table's own columns (x1, colour, masses, their errors
+ * and covariances, dz, calibrators, group labels) to the FNV-1a digest *h
+ * (lantern/digest.h); nothing for other tables. */
+void lt_survey_digest_lightcurve(const lt_survey *s, uint64_t *h);
+
 /* Summary numbers of a survey, for lantern inspect. */
 #define LT_HIST_MAX 64
 #define LT_GROUPS_MAX 64
@@ -211,6 +239,9 @@ int lt_survey_warn(lt_survey *s, const char *fmt, ...) __attribute__((format(pri
 /* The host-mass split of the standardisation's step (JLA's, Betoule et al.
  * 2014). */
 #define LT_MASS_SPLIT 10.0
+/* The longest group label: parameters are named NAME@GROUP within
+ * LT_NAME_MAX (32) characters, and the longest NAME is color_mean. */
+#define LT_GROUP_NAME_MAX 20
 typedef struct lt_lightcurve_stats {
     double x1_min, x1_max, color_min, color_max;
     double mass_min, mass_max;            /* over real masses (NaN: no mass column) */

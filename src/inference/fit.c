@@ -71,18 +71,110 @@ double lt_like_nested_loglike(const double *theta, void *ctx)
     return pt.domain_ok && isfinite(pt.logprior) ? pt.loglike + c->norm : -INFINITY;
 }
 
-/* A point inside the prior: the centre, or a random draw. */
-static void prior_point(const lt_prior *p, gsl_rng *r, int centre, double *x)
+/* A random point of the prior. */
+static void prior_point(const lt_prior *p, gsl_rng *r, double *x)
 {
     if (p->kind == LT_PRIOR_UNIFORM)
-        *x = centre ? 0.5 * (p->a + p->b) : p->a + (p->b - p->a) * gsl_rng_uniform(r);
+        *x = p->a + (p->b - p->a) * gsl_rng_uniform(r);
     else
-        *x = centre ? p->a : p->a + p->b * gsl_ran_gaussian(r, 1.0);
+        *x = p->a + p->b * gsl_ran_gaussian(r, 1.0);
 }
 
 static double prior_scale(const lt_prior *p)
 {
     return p->kind == LT_PRIOR_UNIFORM ? p->b - p->a : 4.0 * p->b;
+}
+
+/* -2 ln P over the parameters not at an edge: the others held at it. */
+typedef struct {
+    lt_like_chain *ctx;
+    size_t d, m;          /* all, and those inside */
+    size_t inside[LT_MAX_FREE];
+    double full[LT_MAX_FREE];
+} held;
+
+static double held_f(const double *x, void *p)
+{
+    held *h = p;
+    for (size_t k = 0; k < h->m; k++)
+        h->full[h->inside[k]] = x[k];
+    return lt_like_neg2logpost(h->full, h->ctx);
+}
+
+/* Free standardisation parameters (a scatter or a population width, whose
+ * 0 is a physical bound, not a choice of prior) whose best fit lies on an
+ * edge of a uniform prior (within 1e-5 of its width, where the optimiser
+ * stops short of it): moved onto the edge when that is no worse, and
+ * marked. A cosmological parameter at its prior's edge keeps the Laplace
+ * step's refusal, which says to widen the prior.
+ * For each, the 95% one-sided limit at which -2 ln P has risen by 2.71
+ * along it, the others held at their best fit (a conditional limit). */
+static void find_edges(const lt_like *l, lt_like_chain *ctx, lt_fit_result *r)
+{
+    size_t d = r->dim;
+    double y[LT_MAX_FREE];
+    for (size_t i = 0; i < d; i++) {
+        const lt_prior *p = lt_like_prior(l, i);
+        r->edge[i] = 0, r->limit[i] = NAN;
+        if (p->kind != LT_PRIOR_UNIFORM || !lt_param_is_standardisation(lt_like_param_name(l, i)))
+            continue;
+        double w = p->b - p->a, x = r->best[i];
+        int side = x - p->a < 1e-5 * w ? -1 : p->b - x < 1e-5 * w ? 1 : 0;
+        if (!side)
+            continue;
+        memcpy(y, r->best, d * sizeof *y);
+        y[i] = side < 0 ? p->a : p->b;
+        double f = lt_like_neg2logpost(y, ctx);
+        if (!(f <= r->f_best + 1e-6))
+            continue;
+        r->best[i] = y[i], r->f_best = fmin(f, r->f_best);
+        r->edge[i] = side;
+        /* the limit: bisection between the edge and the far side */
+        double lo = y[i], hi = side < 0 ? p->b : p->a, target = r->f_best + 2.71;
+        y[i] = hi;
+        double fh = lt_like_neg2logpost(y, ctx);
+        if (!(fh > target)) /* no limit inside the prior */
+            continue;
+        for (int it = 0; it < 60; it++) {
+            y[i] = 0.5 * (lo + hi);
+            if (lt_like_neg2logpost(y, ctx) > target)
+                hi = y[i];
+            else
+                lo = y[i];
+        }
+        r->limit[i] = 0.5 * (lo + hi);
+    }
+}
+
+/* The Laplace covariance of the parameters inside their priors, with those
+ * at an edge held there (their rows and columns 0, their sd NaN). */
+static int laplace_inside(lt_like_chain *ctx, lt_fit_result *r,
+                          const double *scale, size_t *bad, lt_error *err)
+{
+    size_t d = r->dim;
+    held h = {.ctx = ctx, .d = d};
+    double x[LT_MAX_FREE], sc[LT_MAX_FREE];
+    memcpy(h.full, r->best, d * sizeof *h.full);
+    for (size_t i = 0; i < d; i++)
+        if (!r->edge[i])
+            x[h.m] = r->best[i], sc[h.m] = scale[i], h.inside[h.m++] = i;
+    if (h.m == d)
+        return lt_laplace(lt_like_neg2logpost, ctx, d, r->best, scale, r->cov, bad, err);
+    for (size_t a = 0; a < d * d; a++)
+        r->cov[a] = 0.0;
+    if (h.m == 0)
+        return LT_OK;
+    double *cov = malloc(h.m * h.m * sizeof *cov);
+    if (!cov)
+        return *bad = d, lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
+    size_t b;
+    int rc = lt_laplace(held_f, &h, h.m, x, sc, cov, &b, err);
+    *bad = b < h.m ? h.inside[b] : d;
+    for (size_t a = 0; a < h.m; a++)
+        for (size_t c = 0; c < h.m; c++)
+            r->cov[h.inside[a] * d + h.inside[c]] = cov[a * h.m + c];
+    free(cov);
+    return rc;
 }
 
 int lt_fit_run(const lt_like *l, const lt_fit_opts *o, lt_fit_result *r, lt_error *err)
@@ -109,8 +201,11 @@ int lt_fit_run(const lt_like *l, const lt_fit_opts *o, lt_fit_result *r, lt_erro
         double *x = starts + k * d;
         int tries = 0;
         do {
-            for (size_t i = 0; i < d; i++)
-                prior_point(lt_like_prior(l, i), rng, k == 0 && tries == 0, &x[i]);
+            if (k == 0 && tries == 0)
+                lt_like_guess(l, x); /* the prior's centre, or the terms' guess */
+            else
+                for (size_t i = 0; i < d; i++)
+                    prior_point(lt_like_prior(l, i), rng, &x[i]);
         } while (!isfinite(lt_like_neg2logpost(x, &ctx)) && ++tries < 10000);
     }
     lt_optim_opts oo = {.dim = d, .nstarts = nstarts, .starts = starts, .scale = scale,
@@ -124,7 +219,8 @@ int lt_fit_run(const lt_like *l, const lt_fit_opts *o, lt_fit_result *r, lt_erro
 
     size_t bad;
     lt_error lerr;
-    r->laplace_ok = lt_laplace(lt_like_neg2logpost, &ctx, d, r->best, scale, r->cov, &bad, &lerr) == LT_OK;
+    find_edges(l, &ctx, r);
+    r->laplace_ok = laplace_inside(&ctx, r, scale, &bad, &lerr) == LT_OK;
     if (!r->laplace_ok) {
         snprintf(r->laplace_note, sizeof r->laplace_note, "%s", lerr.msg);
         if (bad < d)
@@ -134,7 +230,7 @@ int lt_fit_run(const lt_like *l, const lt_fit_opts *o, lt_fit_result *r, lt_erro
                      lt_like_param_name(l, bad));
     }
     for (size_t i = 0; i < d; i++)
-        r->sd[i] = r->laplace_ok ? sqrt(r->cov[i * d + i]) : NAN;
+        r->sd[i] = r->laplace_ok && !r->edge[i] ? sqrt(r->cov[i * d + i]) : NAN;
 
     r->dof = lt_like_dof(l);
     r->k_counted = lt_like_nparams_counted(l);
@@ -191,4 +287,40 @@ done:
     r->evals = lt_like_work_evals(ctx.w);
     lt_like_work_free(ctx.w);
     return rc;
+}
+
+int lt_fit_scatter(lt_like *l, const lt_fit_opts *o, lt_fit_result *r, lt_scatter_tune *tune,
+                   int *iterations, lt_error *err)
+{
+    int rc = LT_OK;
+    *iterations = 0;
+    memset(tune, 0, sizeof *tune);
+    /* fit, tune at the best fit, refit: the scatter moves the residuals'
+     * weights and alpha, beta move the residuals, so they settle together;
+     * the last fit is at the scatter reported */
+    for (int it = 0; it < LT_SCATTER_ITERATIONS; it++) {
+        if ((rc = lt_fit_run(l, o, r, err)) || (rc = lt_like_scatter_tune(l, r->best, tune, err)))
+            return rc;
+        *iterations = it + 1;
+        if (tune->max_change < 1e-6)
+            return LT_OK;
+    }
+    return lt_error_set(err, LT_ENUMERIC, NULL, 0,
+                        "the chi2 method's sigma_int did not settle in %d rounds of fit and "
+                        "tune (the last moved by %.2g)",
+                        LT_SCATTER_ITERATIONS, tune->max_change);
+}
+
+void lt_fit_start_cov(const lt_like *l, const lt_fit_result *r, double *cov)
+{
+    size_t d = r->dim;
+    memcpy(cov, r->cov, d * d * sizeof *cov);
+    for (size_t i = 0; i < d; i++) {
+        if (!r->edge[i])
+            continue;
+        const lt_prior *p = lt_like_prior(l, i);
+        double s = isfinite(r->limit[i]) ? 0.5 * fabs(r->limit[i] - r->best[i])
+                                         : 0.1 * (p->b - p->a);
+        cov[i * d + i] = s * s;
+    }
 }

@@ -12,7 +12,7 @@
 #include "lantern/inference.h"
 
 #define BATCH 8     /* candidates per batch: fixed, for determinism */
-#define DMAX 16
+#define DMAX LT_NESTED_DIM_MAX
 /*
  * A batch goes to the threads only when it is long enough to pay for a
  * parallel region. A region costs little on an idle machine, but on a busy

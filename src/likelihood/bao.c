@@ -49,7 +49,7 @@ static void bao_needs(const void *config, lt_term_needs *needs)
     const lt_probe_config *cf = config;
     if (cf->rd_free) {
         if (needs->nown < LT_TERM_OWN_MAX)
-            needs->own[needs->nown++] = (lt_term_param){"rd_h", {LT_PRIOR_UNIFORM, 50, 150}};
+            needs->own[needs->nown++] = (lt_term_param){"rd_h", {LT_PRIOR_UNIFORM, 50, 150}, 0, 0.0};
     } else {
         needs->h0 = needs->early = needs->omega_b_h2 = 1;
     }

@@ -37,6 +37,11 @@ struct lt_like {
     lt_measurement meas[LT_MAX_MEASUREMENTS];
     const lt_probe *bao, *cmb;     /* the BAO and CMB terms' tables, or NULL */
     int rd_free;
+    struct lt_std *std;            /* the standardisation term's state, or NULL */
+    lt_std_spec std_spec;          /* its options */
+    size_t ntune;                  /* the chi2 method's scatter entries to tune */
+    int tune_at[LT_STD_GROUPS_MAX];
+    int tuned;                     /* lt_like_scatter_tune has set them */
 };
 
 struct lt_like_work {
@@ -78,6 +83,22 @@ extern const lt_term_type lt_term_sn;
  * points are drawn from the priors of every free parameter); lt_like_alloc
  * calls it unless the spec asks for the exact path. */
 int lt_sn_compress(lt_like *l, lt_error *err);
+
+/* ---- the standardisation term (standard.c) ---- */
+#define LT_STD_LENSING 0.055 /* sigma_lens = 0.055 z (Jonsson et al. 2010, MNRAS 405, 535) */
+typedef struct lt_std_config {
+    const lt_survey *s;
+    const lt_like_spec *spec; /* its settings ask for offset@GROUP */
+    lt_std_spec std;
+    int has_groups;           /* the table has a group column */
+    size_t ngroups;           /* 1 without one */
+    char group[LT_STD_GROUPS_MAX][LT_GROUP_NAME_MAX + 1]; /* sorted by strcmp */
+} lt_std_config;
+/* The groups of light-curve survey s and spec's options into cf;
+ * LT_EINPUT for more than LT_STD_GROUPS_MAX groups, or calibrators. */
+int lt_std_configure(lt_std_config *cf, const lt_survey *s, const lt_like_spec *spec,
+                     lt_error *err);
+extern const lt_term_type lt_term_std;
 
 /* ---- measurements (measure.c) ---- */
 extern const lt_term_type lt_term_measure;

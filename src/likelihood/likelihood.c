@@ -10,8 +10,9 @@
 
 #include "internal.h"
 
-/* LaTeX labels and units of the parameters the table can hold. */
-static void label_of(const char *name, const char **label, const char **unit)
+/* The LaTeX label (size LT_LABEL) and unit of a parameter the table can
+ * hold; a per-group one (NAME@GROUP) carries its group as a superscript. */
+static void label_of(const char *name, char *label, size_t size, const char **unit)
 {
     static const struct {
         const char *name, *label, *unit;
@@ -20,11 +21,22 @@ static void label_of(const char *name, const char **label, const char **unit)
              {"wa", "w_a", ""},                    {"t_cmb", "T_\\mathrm{CMB}", "K"},
              {"n_eff", "N_\\mathrm{eff}", ""},      {"offset", "M", "mag"},
              {"m_nu", "\\sum m_\\nu", "eV"},       {"omega_b_h2", "\\Omega_\\mathrm{b} h^2", ""},
-             {"rd_h", "r_\\mathrm{d} h", "Mpc"}};
-    *label = name, *unit = "";
+             {"rd_h", "r_\\mathrm{d} h", "Mpc"},    {"alpha", "\\alpha", ""},
+             {"beta", "\\beta", ""},                {"gamma", "\\gamma", "mag"},
+             {"sigma_int", "\\sigma_\\mathrm{int}", "mag"},
+             {"x1_mean", "\\bar{x}_1", ""},         {"x1_sd", "R_{x_1}", ""},
+             {"color_mean", "\\bar{c}", ""},        {"color_sd", "R_c", ""}};
+    char base[LT_NAME_MAX];
+    const char *group = lt_param_split(name, base);
+    const char *lab = name;
+    *unit = "";
     for (size_t i = 0; i < sizeof t / sizeof t[0]; i++)
-        if (!strcmp(t[i].name, name))
-            *label = t[i].label, *unit = t[i].unit;
+        if (!strcmp(t[i].name, base))
+            lab = t[i].label, *unit = t[i].unit;
+    if (group && lab != name)
+        snprintf(label, size, "%s^{(%s)}", lab, group);
+    else
+        snprintf(label, size, "%s", lab == name ? name : lab);
 }
 
 size_t lt_like_ndata(const lt_like *l)
@@ -76,6 +88,14 @@ static int offset_mode(const lt_survey *s, const lt_like_spec *spec, lt_error *e
                             lt_offset_name(offset)), -1;
     if (!s)
         return LT_OFFSET_NONE;
+    if (s->kind == LT_OBS_MB) {
+        /* the standardisation samples M beside alpha and beta */
+        if (offset != LT_OFFSET_DEFAULT && offset != LT_OFFSET_SAMPLED)
+            return lt_error_set(err, LT_EINPUT, "--offset", 0,
+                                "a light-curve table's offset (M) is always sampled, beside "
+                                "alpha and beta"), -1;
+        return LT_OFFSET_SAMPLED;
+    }
     if (offset == LT_OFFSET_DEFAULT)
         offset = prior ? LT_OFFSET_SAMPLED : s->kind == LT_OBS_MAG ? LT_OFFSET_MARGINAL
                                                                    : LT_OFFSET_NONE;
@@ -109,6 +129,7 @@ typedef struct {
     const lt_term_type *type[LT_MAX_TERMS];
     const void *config[LT_MAX_TERMS];
     lt_sn_config sn;
+    lt_std_config std;
     lt_probe_config bao, cmb;
     lt_term_needs needs;
     int radiation; /* on: the early universe is needed or t_cmb fixed > 0 */
@@ -140,7 +161,20 @@ static int check_settings(const lt_survey *s, const lt_like_spec *spec, lt_offse
         const char *absent = NULL;
         char text[200];
         int id = lt_cosmo_param_find(name);
-        if (!strcmp(name, "rd_h")) {
+        if (lt_param_is_standardisation(name)) {
+            if (!s || s->kind != LT_OBS_MB)
+                absent = text, snprintf(text, sizeof text,
+                                        "%s belongs to the standardisation of a light-curve "
+                                        "table (--columns mb=...,x1=...,color=...)",
+                                        name);
+            else if (!st->fixed && spec->std.method == LT_STD_CHI2 &&
+                     !strncmp(name, "sigma_int", 9))
+                return lt_error_set(err, LT_EINPUT, what, line,
+                                    "the chi2 method sets %s so that chi2/dof = 1 in its "
+                                    "group; fix it (--fix) to choose it yourself, or give "
+                                    "--standardise latent to sample it",
+                                    name);
+        } else if (!strcmp(name, "rd_h")) {
             if (!spec->bao || !spec->rd_free)
                 absent = "rd_h (r_d h) is a parameter only of BAO with --rd free";
         } else if (!strcmp(name, "offset")) {
@@ -164,7 +198,7 @@ static int check_settings(const lt_survey *s, const lt_like_spec *spec, lt_offse
             continue;
         if (absent)
             return lt_error_set(err, LT_EINPUT, what, line, "%s", absent);
-        if (!strcmp(name, "rd_h") || !strcmp(name, "offset"))
+        if (!strcmp(name, "rd_h") || !strcmp(name, "offset") || lt_param_is_standardisation(name))
             continue;
         if (id == LT_P_T_CMB && st->fixed && st->value == 0.0 && pl->needs.early)
             return lt_error_set(err, LT_EINPUT, what, line,
@@ -200,7 +234,7 @@ static int add_entry(lt_like *l, const char *name, int cosmo_id, int can_be_free
     lt_param *p = &l->par[l->npar];
     memset(p, 0, sizeof *p);
     snprintf(p->name, sizeof p->name, "%s", name);
-    label_of(name, &p->label, &p->unit);
+    label_of(name, p->label, sizeof p->label, &p->unit);
     p->free = free_par;
     p->prior = st && !st->fixed ? st->prior : dflt_prior;
     p->value = st && st->fixed ? st->value : dflt;
@@ -259,9 +293,40 @@ static int build_table(lt_like *l, const lt_like_spec *spec, const plan *pl, lt_
         const lt_term_param *tp = &pl->needs.own[k];
         if (!strcmp(tp->name, "offset"))
             l->offset_at = (int)l->npar;
-        if (add_entry(l, tp->name, -1, 1, 0.0, tp->prior, spec, err))
+        if (add_entry(l, tp->name, -1, !tp->fixed, tp->value, tp->prior, spec, err))
             return err ? err->code : LT_EINPUT;
     }
+    return LT_OK;
+}
+
+/* The standardisation's settings name entries of the table (a group it
+ * has, a method that has the parameter); the chi2 method's scatter
+ * entries no setting fixed are the ones to tune. */
+static int check_standardisation(lt_like *l, const lt_like_spec *spec, lt_error *err)
+{
+    for (size_t k = 0; k < spec->nsettings; k++) {
+        const lt_param_setting *st = &spec->settings[k];
+        if (!lt_param_is_standardisation(st->name) || lt_like_entry(l, st->name) >= 0 ||
+            spec->lenient)
+            continue;
+        char list[1024] = "";
+        for (size_t e = 0; e < l->npar; e++)
+            if (lt_param_is_standardisation(l->par[e].name) && strlen(list) < 900)
+                snprintf(list + strlen(list), sizeof list - strlen(list), "%s%s",
+                         list[0] ? ", " : "", l->par[e].name);
+        return lt_error_set(err, LT_EINPUT,
+                            st->origin ? st->origin : st->fixed ? "--fix" : "--prior", st->line,
+                            "this standardisation (%s, %s scatter) has no parameter '%s'; it "
+                            "has %s",
+                            lt_std_method_name(spec->std.method),
+                            spec->std.shared_scatter ? "shared" : "per-group", st->name, list);
+    }
+    if (spec->std.method != LT_STD_CHI2)
+        return LT_OK;
+    for (size_t e = 0; e < l->npar; e++)
+        if (!strncmp(l->par[e].name, "sigma_int", 9) && !l->par[e].free &&
+            !lt_like_spec_setting(spec, l->par[e].name) && l->ntune < LT_STD_GROUPS_MAX)
+            l->tune_at[l->ntune++] = (int)e;
     return LT_OK;
 }
 
@@ -277,12 +342,10 @@ lt_like *lt_like_alloc(const lt_survey *s, const lt_like_spec *spec, lt_error *e
                      "or a measurement (--measure)");
         return NULL;
     }
-    if (s && s->kind == LT_OBS_MB) {
-        /* a light-curve table needs the standardisation term (issue 21's
-         * next step); until it exists, inspect reads such tables */
-        lt_error_set(err, LT_EINPUT, "--columns", 0,
-                     "a light-curve table (mb, x1, color) needs the standardisation term, "
-                     "which lantern does not have yet; 'lantern inspect' reads it");
+    if (spec->std_given && (!s || s->kind != LT_OBS_MB)) {
+        lt_error_set(err, LT_EINPUT, "--standardise", 0,
+                     "the standardisation's options apply to a light-curve table (--columns "
+                     "mb=...,x1=...,color=...)");
         return NULL;
     }
     int offset = offset_mode(s, spec, err);
@@ -311,7 +374,11 @@ lt_like *lt_like_alloc(const lt_survey *s, const lt_like_spec *spec, lt_error *e
     }
     /* the terms: supernovae first, the sum then adds the others to its
      * chi2; their needs make the table */
-    if (s) {
+    if (s && s->kind == LT_OBS_MB) {
+        if (lt_std_configure(&pl->std, s, spec, err))
+            goto fail;
+        plan_add(pl, &lt_term_std, &pl->std);
+    } else if (s) {
         pl->sn = (lt_sn_config){.s = s, .offset = l->offset, .kind = kind};
         plan_add(pl, &lt_term_sn, &pl->sn);
     }
@@ -327,7 +394,15 @@ lt_like *lt_like_alloc(const lt_survey *s, const lt_like_spec *spec, lt_error *e
         plan_add(pl, &lt_term_measure, &l->meas[k]);
     const lt_param_setting *tcmb = lt_like_spec_setting(spec, "t_cmb");
     pl->radiation = pl->needs.early || (tcmb && tcmb->fixed && tcmb->value > 0.0);
-    if (check_settings(s, spec, l->offset, pl, err) || build_table(l, spec, pl, kind, err))
+    if (pl->needs.overflow) {
+        lt_error_set(err, LT_EINPUT, NULL, 0,
+                     "the terms bring more than %d parameters of their own (the "
+                     "standardisation has %zu groups: give --scatter shared, or merge groups)",
+                     LT_TERM_OWN_MAX, pl->std.ngroups);
+        goto fail;
+    }
+    if (check_settings(s, spec, l->offset, pl, err) || build_table(l, spec, pl, kind, err) ||
+        check_standardisation(l, spec, err))
         goto fail;
     const lt_param_setting *h0 = lt_like_spec_setting(spec, "h0");
     l->h0_known = pl->needs.h0 || (h0 && h0->fixed);
@@ -344,6 +419,8 @@ lt_like *lt_like_alloc(const lt_survey *s, const lt_like_spec *spec, lt_error *e
             goto fail;
         if (pl->type[t] == &lt_term_sn) /* the later terms may ask for it */
             l->sn = l->term[l->sn_term].state, l->s_survey = s;
+        if (pl->type[t] == &lt_term_std)
+            l->std = l->term[l->nterms - 1].state, l->s_survey = s, l->std_spec = spec->std;
         /* the tables, kept here so that the accessors (table.c) need not
          * call back into the terms */
         if (pl->type[t] == &lt_term_bao)
@@ -351,7 +428,7 @@ lt_like *lt_like_alloc(const lt_survey *s, const lt_like_spec *spec, lt_error *e
         if (pl->type[t] == &lt_term_cmb)
             l->cmb = lt_cmb_table(l->term[l->nterms - 1].state);
     }
-    if (s && !spec->exact && s->kind != LT_OBS_DL && lt_sn_compress(l, err))
+    if (l->sn && !spec->exact && s->kind != LT_OBS_DL && lt_sn_compress(l, err))
         goto fail;
     free(pl);
     return l;

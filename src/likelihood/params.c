@@ -63,15 +63,60 @@ void lt_prior_format(const lt_prior *p, char *buf, size_t size)
 }
 
 /* ---- the parameters lantern knows ---- */
+
+/* The standardisation's parameters; group: may also be NAME@GROUP. */
+static const struct {
+    const char *name;
+    int group;
+    lt_prior prior;
+} std_params[] = {{"alpha", 0, {LT_PRIOR_UNIFORM, 0, 1}},
+                  {"beta", 0, {LT_PRIOR_UNIFORM, 0, 10}},
+                  {"gamma", 0, {LT_PRIOR_UNIFORM, -0.5, 0.5}},
+                  {"sigma_int", 1, {LT_PRIOR_UNIFORM, 0, 1}},
+                  {"x1_mean", 1, {LT_PRIOR_UNIFORM, -5, 5}},
+                  {"x1_sd", 1, {LT_PRIOR_UNIFORM, 0, 5}},
+                  {"color_mean", 1, {LT_PRIOR_UNIFORM, -1, 1}},
+                  {"color_sd", 1, {LT_PRIOR_UNIFORM, 0, 1}}};
+#define NSTD (sizeof std_params / sizeof std_params[0])
+
+const char *lt_param_split(const char *name, char *base)
+{
+    const char *at = strchr(name, '@');
+    size_t n = at ? (size_t)(at - name) : strlen(name);
+    if (n >= LT_NAME_MAX)
+        n = LT_NAME_MAX - 1;
+    memcpy(base, name, n);
+    base[n] = '\0';
+    return at ? at + 1 : NULL;
+}
+
+/* The std_params index of name (per group or not), or -1; offset@GROUP
+ * is NSTD. */
+static int std_find(const char *name)
+{
+    char base[LT_NAME_MAX];
+    const char *group = lt_param_split(name, base);
+    if (group && (!*group || strlen(group) > LT_GROUP_NAME_MAX || strpbrk(group, "=:,.@ \t")))
+        return -1;
+    if (group && !strcmp(base, "offset"))
+        return (int)NSTD;
+    for (size_t i = 0; i < NSTD; i++)
+        if (!strcmp(std_params[i].name, base) && (!group || std_params[i].group))
+            return (int)i;
+    return -1;
+}
+
+int lt_param_is_standardisation(const char *name) { return name && std_find(name) >= 0; }
+
 int lt_param_known(const char *name)
 {
     return name && (!strcmp(name, "offset") || !strcmp(name, "rd_h") ||
-                    lt_cosmo_param_find(name) >= 0);
+                    lt_cosmo_param_find(name) >= 0 || std_find(name) >= 0);
 }
 
 int lt_param_of_model(const lt_cosmo_model *m, const char *name)
 {
-    if (!strcmp(name, "offset") || !strcmp(name, "rd_h"))
+    if (!strcmp(name, "offset") || !strcmp(name, "rd_h") || std_find(name) >= 0)
         return 1;
     int id = lt_cosmo_param_find(name);
     if (id < 0 || (id == LT_P_OMEGA_DE && m->flat))
@@ -81,7 +126,9 @@ int lt_param_of_model(const lt_cosmo_model *m, const char *name)
 
 const char *lt_param_known_list(void)
 {
-    return "h0, omega_m, omega_de, w0, wa, t_cmb, n_eff, m_nu, omega_b_h2, offset, rd_h";
+    return "h0, omega_m, omega_de, w0, wa, t_cmb, n_eff, m_nu, omega_b_h2, offset, rd_h, and "
+           "for light-curve tables alpha, beta, gamma, sigma_int, x1_mean, x1_sd, color_mean, "
+           "color_sd (per group: NAME@GROUP)";
 }
 
 lt_prior lt_param_default_prior(const char *name, lt_obs kind)
@@ -95,12 +142,28 @@ lt_prior lt_param_default_prior(const char *name, lt_obs kind)
              {"omega_b_h2", {LT_PRIOR_UNIFORM, 0.005, 0.1}},
              {"rd_h", {LT_PRIOR_UNIFORM, 50, 150}}};
     if (!strcmp(name, "offset"))
-        return kind == LT_OBS_MAG ? (lt_prior){LT_PRIOR_UNIFORM, -21, -17}
-                                  : (lt_prior){LT_PRIOR_UNIFORM, -2, 2};
+        return kind == LT_OBS_MAG || kind == LT_OBS_MB ? (lt_prior){LT_PRIOR_UNIFORM, -21, -17}
+                                                       : (lt_prior){LT_PRIOR_UNIFORM, -2, 2};
+    int k = std_find(name);
+    if (k == (int)NSTD) /* offset@GROUP: a group's shift from M */
+        return (lt_prior){LT_PRIOR_UNIFORM, -1, 1};
+    if (k >= 0)
+        return std_params[k].prior;
     for (size_t i = 0; i < sizeof t / sizeof t[0]; i++)
         if (!strcmp(t[i].name, name))
             return t[i].p;
     return (lt_prior){LT_PRIOR_UNIFORM, 0, 0};
+}
+
+const char *lt_std_method_name(lt_std_method m) { return m == LT_STD_CHI2 ? "chi2" : "latent"; }
+
+int lt_std_method_parse(const char *text)
+{
+    if (!strcmp(text, "latent"))
+        return LT_STD_LATENT;
+    if (!strcmp(text, "chi2"))
+        return LT_STD_CHI2;
+    return -1;
 }
 
 const char *lt_offset_name(lt_offset_mode m)
@@ -130,6 +193,7 @@ void lt_like_spec_init(lt_like_spec *s, const lt_cosmo_model *m)
     memset(s, 0, sizeof *s);
     s->model = m;
     s->offset = LT_OFFSET_DEFAULT;
+    s->std = (lt_std_spec){LT_STD_LATENT, 0, 150.0, LT_MASS_SPLIT};
 }
 
 const lt_param_setting *lt_like_spec_setting(const lt_like_spec *s, const char *name)

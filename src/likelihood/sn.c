@@ -51,7 +51,7 @@ static void sn_needs(const void *config, lt_term_needs *needs)
         needs->h0 = 1;
     if (cf->offset == LT_OFFSET_SAMPLED && needs->nown < LT_TERM_OWN_MAX)
         needs->own[needs->nown++] =
-            (lt_term_param){"offset", lt_param_default_prior("offset", cf->kind)};
+            (lt_term_param){"offset", lt_param_default_prior("offset", cf->kind), 0, 0.0};
 }
 
 static void *sn_setup(const void *config, const lt_like *l, lt_error *err)

@@ -4,6 +4,7 @@
  * read the table only, so the terms may use them without calling the sum
  * that calls the terms (see include/lantern/likelihood.h).
  */
+#include <math.h>
 #include <string.h>
 
 #include "internal.h"
@@ -17,6 +18,8 @@ size_t lt_like_nfixed(const lt_like *l) { return l->nfixed; }
 const lt_param *lt_like_fixed(const lt_like *l, size_t k) { return &l->par[l->fixed_at[k]]; }
 lt_offset_mode lt_like_offset_mode(const lt_like *l) { return l->offset; }
 const lt_survey *lt_like_survey(const lt_like *l) { return l->sn ? l->s_survey : NULL; }
+const lt_std_spec *lt_like_std(const lt_like *l) { return l->std ? &l->std_spec : NULL; }
+const lt_survey *lt_like_table(const lt_like *l) { return l->s_survey; }
 const lt_probe *lt_like_bao(const lt_like *l, int *rd_free)
 {
     if (rd_free)
@@ -65,4 +68,24 @@ int lt_like_cosmo(const lt_like *l, const double *theta, lt_cosmo *c, lt_error *
     lt_cosmo_params p;
     lt_like_values(l, theta, values, &p);
     return lt_cosmo_init(c, l->model, &p, err);
+}
+
+void lt_like_guess(const lt_like *l, double *theta)
+{
+    double values[LT_MAX_PARAMS];
+    for (size_t k = 0; k < l->npar; k++) {
+        const lt_prior *p = &l->par[k].prior;
+        values[k] = !l->par[k].free ? l->par[k].value
+                    : p->kind == LT_PRIOR_UNIFORM ? 0.5 * (p->a + p->b) : p->a;
+    }
+    for (size_t t = 0; t < l->nterms; t++)
+        if (l->term[t].type->guess)
+            l->term[t].type->guess(l->term[t].state, values);
+    for (size_t i = 0; i < l->dim; i++) {
+        const lt_param *p = &l->par[l->free_at[i]];
+        double v = values[l->free_at[i]], centre = p->prior.kind == LT_PRIOR_UNIFORM
+                                                       ? 0.5 * (p->prior.a + p->prior.b)
+                                                       : p->prior.a;
+        theta[i] = isfinite(lt_prior_logpdf(&p->prior, v)) ? v : centre;
+    }
 }

@@ -23,7 +23,7 @@ static const char *part_words[LT_FP_NPARTS] = {
 
 void lt_fingerprint_like(const lt_like *l, lt_fingerprint *fp)
 {
-    const lt_survey *s = lt_like_survey(l);
+    const lt_survey *s = lt_like_table(l);
     uint64_t h = LT_DIGEST_START;
     if (s) { /* none for measurements alone */
         int kind = (int)s->kind;
@@ -32,6 +32,7 @@ void lt_fingerprint_like(const lt_like *l, lt_fingerprint *fp)
         lt_digest_add(&h, s->z, s->n * sizeof *s->z);
         lt_digest_add(&h, s->zhel, s->n * sizeof *s->zhel);
         lt_digest_add(&h, s->obs, s->n * sizeof *s->obs);
+        lt_survey_digest_lightcurve(s, &h);
     }
     /* the measurements are data too (the likelihood holds them by name, so
      * their order as given does not matter) */
@@ -81,6 +82,13 @@ void lt_fingerprint_like(const lt_like *l, lt_fingerprint *fp)
     }
     int offset = lt_like_offset_mode(l);
     lt_digest_add(&h, &offset, sizeof offset);
+    const lt_std_spec *std = lt_like_std(l);
+    if (std) { /* nothing without one: other runs' fingerprints are as they were */
+        int v[2] = {(int)std->method, std->shared_scatter};
+        double x[2] = {std->velocity_dispersion, std->mass_split};
+        lt_digest_add(&h, v, sizeof v);
+        lt_digest_add(&h, x, sizeof x);
+    }
     fp->part[LT_FP_MODEL] = h;
     fp->part[LT_FP_SETTINGS] = LT_DIGEST_START;
 }

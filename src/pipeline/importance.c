@@ -160,7 +160,7 @@ static uint64_t ais_fingerprint(const void *p, lt_fingerprint *fp)
 #define SEED_LIVE_MIN 250
 #define SEED_LIVE_PER_DIM 25
 #define SEED_DLOGZ 0.5
-#define SEED_DIM_MAX 16
+#define SEED_DIM_MAX LT_NESTED_DIM_MAX
 
 /* A short nested run from the prior: its dead and live points, weighted,
  * are a rough posterior that finds curved and prior-bounded shapes (and
@@ -241,7 +241,9 @@ static int ais_start(void *p, volatile sig_atomic_t *stop, lt_error *err)
     r->evals_before += fr.evals;
     if (rc)
         return rc;
-    ao.center = fr.best, ao.cov = fr.laplace_ok ? fr.cov : NULL;
+    double start_cov[LT_MAX_FREE * LT_MAX_FREE];
+    lt_fit_start_cov(r->l, &fr, start_cov);
+    ao.center = fr.best, ao.cov = fr.laplace_ok ? start_cov : NULL;
     r->s = lt_ais_alloc(&ao, lt_like_logdensity, r->w.ctxp, err);
     return r->s ? LT_OK : err->code;
 }

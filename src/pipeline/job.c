@@ -34,6 +34,7 @@ void lt_job_init(lt_job *j)
     j->thin = 1;
     j->live_points = 1000;
     j->sampler = "auto";
+    j->velocity_dispersion = j->mass_split = NAN; /* unset: the standardisation's defaults */
 }
 
 void lt_job_free(lt_job *j)
@@ -90,7 +91,11 @@ typedef enum {
     K_ESS,   /* a number >= 1 */
     K_ENTRY, /* NAME=VALUE from a flag into a list ([priors], ...) */
     K_RD,    /* how the BAO term makes r_d: free or formula */
-    K_METHOD /* the sampler: auto, importance or mcmc */
+    K_METHOD, /* the sampler: auto, importance or mcmc */
+    K_STD,    /* the standardisation: latent or chi2 */
+    K_SCATTER,/* the scatter: per-group or shared */
+    K_NONNEG, /* a number >= 0 */
+    K_NUMBER  /* a finite number */
 } kind;
 
 typedef struct {
@@ -120,6 +125,11 @@ static const rule rules[] = {
     {LT_JOB_DATA, "data", "rd", "--rd", K_RD, 0, 0, AT(rd)},
     {LT_JOB_DATA, "data", "cmb", "--cmb", K_PATH, 0, 0, AT(cmb)},
     {LT_JOB_DATA, "data", "cmb_cov", "--cmb-cov", K_PATH, 0, 0, AT(cmb_cov)},
+    {LT_JOB_DATA, "data", "standardise", "--standardise", K_STD, 0, 0, AT(standardise)},
+    {LT_JOB_DATA, "data", "scatter", "--scatter", K_SCATTER, 0, 0, AT(scatter)},
+    {LT_JOB_DATA, "data", "velocity_dispersion", "--velocity-dispersion", K_NONNEG, 0, 0,
+     AT(velocity_dispersion)},
+    {LT_JOB_DATA, "data", "mass_split", "--mass-split", K_NUMBER, 0, 0, AT(mass_split)},
     {LT_JOB_MODEL, "model", "name", "--model", K_TEXT, 0, 0, AT(model)},
     {LT_JOB_MODEL, "model", "offset", "--offset", K_TEXT, 0, 0, AT(offset)},
     {LT_JOB_PARAMS, "priors", NULL, "--prior", K_ENTRY, 0, 0, AT(priors)},
@@ -218,7 +228,17 @@ static int apply(lt_job *j, const rule *r, const char *key, const char *value,
                       "auto (importance sampling, then MCMC if its weights are poor), importance "
                       "or mcmc",
                       err);
+    if (r->k == K_STD && lt_std_method_parse(value) < 0)
+        return refuse(r, value, origin, line, from_file,
+                      "latent (the populations of x1 and colour integrated out; the default) "
+                      "or chi2 (sigma_int set so that chi2/dof = 1 per group)",
+                      err);
+    if (r->k == K_SCATTER && strcmp(value, "per-group") && strcmp(value, "shared"))
+        return refuse(r, value, origin, line, from_file,
+                      "per-group (one sigma_int for each group; the default) or shared", err);
     switch (r->k) {
+    case K_STD:
+    case K_SCATTER:
     case K_METHOD:
     case K_RD: /* checked above; kept as text */
     case K_TEXT: {
@@ -289,6 +309,13 @@ static int apply(lt_job *j, const rule *r, const char *key, const char *value,
         *(unsigned long *)slot = (unsigned long)v;
         return LT_OK;
     }
+    case K_NONNEG:
+    case K_NUMBER:
+        if (lt_parse_double(value, (double *)slot) ||
+            (r->k == K_NONNEG && !(*(double *)slot >= 0)))
+            return refuse(r, value, origin, line, from_file,
+                          r->k == K_NONNEG ? "a number >= 0" : "a number", err);
+        return LT_OK;
     case K_ESS:
         if (lt_parse_double(value, (double *)slot) || !(*(double *)slot >= 1))
             return refuse(r, value, origin, line, from_file, "a number >= 1", err);
@@ -573,6 +600,16 @@ int lt_job_like_spec(const lt_job *j, const lt_cosmo_model *m, lt_like_spec *spe
                                     pair[k].what)
                      : lt_error_set(err, LT_EINPUT, pair[k].flag, 0, "%s", pair[k].what);
         }
+    if (j->standardise)
+        spec->std.method = (lt_std_method)lt_std_method_parse(j->standardise);
+    if (j->scatter)
+        spec->std.shared_scatter = !strcmp(j->scatter, "shared");
+    if (!isnan(j->velocity_dispersion))
+        spec->std.velocity_dispersion = j->velocity_dispersion;
+    if (!isnan(j->mass_split))
+        spec->std.mass_split = j->mass_split;
+    spec->std_given = j->standardise || j->scatter || !isnan(j->velocity_dispersion) ||
+                      !isnan(j->mass_split);
     if (j->offset) {
         int mode = lt_offset_parse(j->offset);
         if (mode < 0)
@@ -769,6 +806,15 @@ int lt_job_write(const lt_job *j, const lt_like_spec *spec, const char *path, lt
             add_path(&b, terms[k][0], terms[k][1]);
     if (j->rd)
         add(&b, "rd = %s\n", j->rd);
+    if (j->standardise)
+        add(&b, "standardise = %s\n", j->standardise);
+    if (j->scatter)
+        add(&b, "scatter = %s\n", j->scatter);
+    if (!isnan(j->velocity_dispersion))
+        lt_format_double(j->velocity_dispersion, x, sizeof x),
+            add(&b, "velocity_dispersion = %s\n", x);
+    if (!isnan(j->mass_split))
+        lt_format_double(j->mass_split, x, sizeof x), add(&b, "mass_split = %s\n", x);
     if (j->model)
         add(&b, "[model]\nname = %s\n", j->model);
     else

@@ -119,13 +119,14 @@ static int mcmc_start(void *p, volatile sig_atomic_t *stop, lt_error *err)
     r->evals_before += fr.evals;
     if (rc)
         return rc;
-    double scale[LT_MAX_FREE];
+    double scale[LT_MAX_FREE], start_cov[LT_MAX_FREE * LT_MAX_FREE];
+    lt_fit_start_cov(r->l, &fr, start_cov);
     for (size_t i = 0; i < d; i++) {
         const lt_prior *pr = lt_like_prior(r->l, i);
         scale[i] = pr->kind == LT_PRIOR_UNIFORM ? pr->b - pr->a : 4 * pr->b;
     }
     lt_mcmc_opts mo = {.dim = d, .nextra = 1, .nchains = r->nchains, .seed = j->seed,
-                       .center = fr.best, .cov = fr.laplace_ok ? fr.cov : NULL, .scale = scale,
+                       .center = fr.best, .cov = fr.laplace_ok ? start_cov : NULL, .scale = scale,
                        .warmup = (size_t)j->warmup, .check_every = (size_t)j->check_every,
                        .max_steps = (size_t)j->max_steps, .target_ess = j->target_ess,
                        .rhat_tol = 0.01, .threads = (int)j->threads, .memory_limit = 0};

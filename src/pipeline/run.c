@@ -13,6 +13,32 @@
 #include "lantern/pipeline.h"
 #include "internal.h"
 
+/* The chi2 standardisation's sigma_int, set with the fit before any method
+ * runs (the same seed and starts give the same values, so a resumed run
+ * gets its first part's scatter back; the fingerprint checks it). */
+static int tune_scatter(lt_like *l, const lt_job *j, const lt_run_opts *o, lt_error *err)
+{
+    pipeline_say(o->hooks, LT_NOTE_PROGRESS,
+                 "setting sigma_int so that chi2/dof = 1 in each group, with the fit");
+    lt_fit_opts fo = {.seed = j->seed, .starts = (size_t)j->starts, .stop = o->stop};
+    lt_fit_result *r = malloc(sizeof *r);
+    if (!r)
+        return lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
+    lt_scatter_tune tune;
+    int iterations;
+    int rc = lt_fit_scatter(l, &fo, r, &tune, &iterations, err);
+    free(r);
+    if (rc)
+        return rc;
+    char text[512];
+    size_t at = (size_t)snprintf(text, sizeof text, "sigma_int after %d rounds:", iterations);
+    for (size_t e = 0; e < tune.n && at < sizeof text; e++)
+        at += (size_t)snprintf(text + at, sizeof text - at, " %s = %.4f%s", tune.name[e],
+                               tune.sigma[e], tune.at_zero[e] ? " (chi2 below dof at 0)" : "");
+    pipeline_say(o->hooks, LT_NOTE_NEWS, text);
+    return LT_OK;
+}
+
 int lt_pipeline_run(const lt_method_type *t, lt_like *l, lt_job *j, const lt_run_opts *o,
                     int *started, lt_posterior *post, lt_error *err)
 {
@@ -21,6 +47,8 @@ int lt_pipeline_run(const lt_method_type *t, lt_like *l, lt_job *j, const lt_run
         *started = 0;
     char *state = NULL, *settings = NULL;
     int rc = LT_OK;
+    if (lt_like_scatter_untuned(l) && (rc = tune_scatter(l, j, o, err)))
+        return rc;
     void *s = t->alloc(l, j, o->ckdir, err);
     if (!s)
         return err->code;

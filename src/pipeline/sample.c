@@ -154,7 +154,14 @@ int lt_pipeline_sample(lt_like *l, lt_job *j, const lt_like_spec *spec, const lt
     lt_run_opts ro = {ckdir, "state.bin", spec, o->resume ? LT_RUN_RESUME : LT_RUN_FRESH, o->stop,
                       o->hooks};
     warnings(l, j, post, o->hooks);
-    if (o->evidence_label) {
+    if (o->evidence_label && lt_like_dim(l) > LT_NESTED_DIM_MAX) {
+        char text[200];
+        snprintf(text, sizeof text,
+                 "%s: no evidence (ln Z): nested sampling takes at most %d parameters and this "
+                 "model has %zu",
+                 o->evidence_label, LT_NESTED_DIM_MAX, lt_like_dim(l));
+        pipeline_say(o->hooks, LT_NOTE_WARNING, text);
+    } else if (o->evidence_label) {
         /* the evidence joins the summary, which is then written whole */
         char text[160];
         snprintf(text, sizeof text, "%s: evidence by nested sampling", o->evidence_label);

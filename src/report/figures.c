@@ -370,6 +370,11 @@ static size_t group_params(const model_group *g, const char **names)
     size_t d = 0;
     for (size_t j = 0; j < g->k; j++)
         for (size_t c = 0; c < MEMBER(g, j)->nparams; c++) {
+            /* a standardisation's per-group nuisances (sigma_int@G, the
+             * populations x1_mean@G ...) stay in the tables: twenty-odd
+             * panels a side would leave none readable */
+            if (strchr(MEMBER(g, j)->names[c], '@'))
+                continue;
             size_t i = 0;
             while (i < d && strcmp(names[i], MEMBER(g, j)->names[c]))
                 i++;
@@ -808,7 +813,8 @@ int lt_report_write_figures(const char *dir, const lt_run_model *models, size_t 
 {
     if (n == 0 || !models)
         return lt_error_set(err, LT_EINPUT, dir, 0, "a report needs at least one model");
-    /* the Hubble diagram where there is a survey (measurements alone have none) */
+    /* the Hubble diagram where there is a survey of distances (measurements
+     * alone have none) */
     /* the models fitted to the survey drawn, as the first of them was: one
      * combination of probes (a run's BAO-only fit has no offset to meet
      * these data, and others' curves would only crowd the diagram) */
@@ -820,7 +826,10 @@ int lt_report_write_figures(const char *dir, const lt_run_model *models, size_t 
         if (first == n || lt_run_model_same_data(&models[first], &models[i]))
             shown[ns++] = models[i];
     hubble_ctx h = {shown, ns, s};
-    int rc = s ? figure(dir, "hubble", 1, 1100, 800, draw_hubble, &h, err) : LT_OK;
+    /* a light-curve table's magnitudes are not distances until standardised:
+     * its Hubble diagram needs the standardised mu, not drawn yet */
+    int rc = s && s->kind != LT_OBS_MB ? figure(dir, "hubble", 1, 1100, 800, draw_hubble, &h, err)
+                                       : LT_OK;
     for (size_t i = 0; !rc && i < n; i++) {
         /* the models of this name: the figures of the first one show them all */
         model_group g = {models, {0}, 0};

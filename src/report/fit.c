@@ -44,7 +44,7 @@ static cJSON *num(double v) { return lt_json_number(v); }
 static void data_digest(const lt_like *l, char *out, size_t size)
 {
     uint64_t h = LT_DIGEST_START;
-    const lt_survey *s = lt_like_survey(l);
+    const lt_survey *s = lt_like_table(l);
     if (s) {
         int kind = (int)s->kind;
         lt_digest_add(&h, &s->n, sizeof s->n);
@@ -58,6 +58,7 @@ static void data_digest(const lt_like *l, char *out, size_t size)
             lt_digest_add(&h, diag, s->n * sizeof *diag);
         }
         free(diag);
+        lt_survey_digest_lightcurve(s, &h);
     }
     for (size_t k = 0; k < lt_like_nmeasurements(l); k++) {
         const lt_measurement *m = lt_like_measurement(l, k);
@@ -86,7 +87,7 @@ static void data_digest(const lt_like *l, char *out, size_t size)
 
 cJSON *lt_report_add_data(cJSON *o, const lt_survey_spec *data, const lt_like *l)
 {
-    const lt_survey *s = lt_like_survey(l);
+    const lt_survey *s = lt_like_table(l);
     cJSON *files = cJSON_AddObjectToObject(o, "data");
     cJSON_AddStringToObject(files, "file", data->data ? data->data : "");
     char digest[64];
@@ -130,11 +131,35 @@ cJSON *lt_report_add_data(cJSON *o, const lt_survey_spec *data, const lt_like *l
     return w;
 }
 
+void lt_report_std_json(cJSON *o, const lt_like *l)
+{
+    const lt_std_spec *std = lt_like_std(l);
+    if (!std)
+        return;
+    cJSON *j = cJSON_AddObjectToObject(o, "standardisation");
+    cJSON_AddStringToObject(j, "method", lt_std_method_name(std->method));
+    cJSON_AddStringToObject(j, "scatter", std->shared_scatter ? "shared" : "per-group");
+    cJSON_AddItemToObject(j, "velocity_dispersion_km_s", num(std->velocity_dispersion));
+    cJSON_AddItemToObject(j, "mass_split", num(std->mass_split));
+    cJSON_AddItemToObject(j, "lensing_per_z", num(0.055));
+    const char *names[LT_STD_GROUPS_MAX];
+    double sigma[LT_STD_GROUPS_MAX];
+    size_t n = lt_like_scatter_tuned(l, names, sigma);
+    if (!n)
+        return;
+    cJSON *t = cJSON_AddObjectToObject(j, "tuned_sigma_int");
+    for (size_t e = 0; e < n; e++)
+        cJSON_AddItemToObject(t, names[e], num(sigma[e]));
+}
+
 void lt_report_describe_data(FILE *f, const lt_like *l, const lt_survey_spec *data)
 {
-    const lt_survey *s = lt_like_survey(l);
+    const lt_survey *s = lt_like_table(l);
     size_t nm = lt_like_nmeasurements(l);
-    if (s)
+    if (s && s->kind == LT_OBS_MB)
+        fprintf(f, "%s: %zu objects, light curves (mb, x1, color) standardised", data->data,
+                s->n);
+    else if (s)
         fprintf(f, "%s: %zu objects, observable %s", data->data, s->n, lt_obs_name(s->kind));
     int rd_free;
     const lt_probe *bao = lt_like_bao(l, &rd_free);
@@ -207,12 +232,17 @@ cJSON *lt_report_fit_json(const lt_like *l, const lt_fit_result *r, const lt_sur
     cJSON_AddBoolToObject(o, "laplace_ok", r->laplace_ok);
     if (!r->laplace_ok)
         cJSON_AddStringToObject(o, "laplace_note", r->laplace_note);
+    lt_report_std_json(o, l);
 
     cJSON *params = cJSON_AddObjectToObject(o, "params");
     for (size_t i = 0; i < d; i++) {
         cJSON *p = cJSON_AddObjectToObject(params, lt_like_param_name(l, i));
         cJSON_AddItemToObject(p, "best", num(r->best[i]));
         cJSON_AddItemToObject(p, "sd", num(r->sd[i]));
+        if (r->edge[i]) { /* at a prior edge: a one-sided limit instead of an error */
+            cJSON_AddStringToObject(p, "edge", r->edge[i] < 0 ? "lower" : "upper");
+            cJSON_AddItemToObject(p, "limit95", num(r->limit[i]));
+        }
         char buf[64];
         lt_prior_format(lt_like_prior(l, i), buf, sizeof buf);
         cJSON_AddStringToObject(p, "prior", buf);
@@ -290,11 +320,17 @@ void lt_report_fit_table(FILE *f, const lt_like *l, const lt_fit_result *r,
     fputs("\n\n", f);
     fprintf(f, "  %-12s %12s %12s   %s\n", "parameter", "best", "+-sigma", "prior");
     char sd[32];
+    size_t edges = 0;
     for (size_t i = 0; i < r->dim; i++) {
         char prior[64];
         lt_prior_format(lt_like_prior(l, i), prior, sizeof prior);
-        fprintf(f, "  %-12s %12.6g %12s   %s\n", lt_like_param_name(l, i), r->best[i],
-                sigma_text(r->sd[i], sd, sizeof sd), prior);
+        if (r->edge[i] && isfinite(r->limit[i]))
+            snprintf(sd, sizeof sd, "%s %.4g", r->edge[i] < 0 ? "<" : ">", r->limit[i]);
+        else
+            sigma_text(r->sd[i], sd, sizeof sd);
+        fprintf(f, "  %-12s %12.6g %12s   %s\n", lt_like_param_name(l, i), r->best[i], sd,
+                prior);
+        edges += r->edge[i] != 0;
     }
     fprintf(f, "\n  %-12s %12s %12s\n", "derived", "best", "+-sigma");
     for (int k = 0; k < LT_NDER; k++)
@@ -338,6 +374,20 @@ void lt_report_fit_table(FILE *f, const lt_like *l, const lt_fit_result *r,
     if (!r->laplace_ok)
         fprintf(f, "  note: %s%s\n", r->laplace_note,
                 r->dim ? " (the sigmas shown as -)" : "");
+    if (edges)
+        fprintf(f, "  note: %zu parameter%s at an edge of the prior, held there for the "
+                   "others' errors; '<' or '>' gives the 95%% one-sided limit with the others "
+                   "at their best fit ('lantern sample' gives the marginal one)\n",
+                edges, edges == 1 ? " lies" : "s lie");
+    const lt_std_spec *std = lt_like_std(l);
+    if (std)
+        fprintf(f, "  standardisation: %s likelihood, %s scatter, host-mass step at %g, "
+                   "peculiar velocities %g km/s, lensing 0.055 z%s\n",
+                lt_std_method_name(std->method), std->shared_scatter ? "one shared" : "per-group",
+                std->mass_split, std->velocity_dispersion,
+                std->method == LT_STD_CHI2 ? "; sigma_int (fixed above) set so that chi2/dof = 1 "
+                                             "in each group"
+                                           : "");
 }
 
 int lt_report_write_residuals(const char *path, const lt_like *l, const double *model,

@@ -3,6 +3,7 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "lantern/digest.h"
 #include "lantern/survey.h"
 
 static int cmp_double(const void *a, const void *b)
@@ -97,4 +98,24 @@ int lt_survey_stats_compute(const lt_survey *s, size_t nbins, lt_survey_stats *s
         st->counts[b]++;
     }
     return LT_OK;
+}
+
+void lt_survey_digest_lightcurve(const lt_survey *s, uint64_t *h)
+{
+    const lt_lightcurve *lc = s->lc;
+    if (!lc)
+        return;
+    const double *cols[] = {lc->x1,           lc->color,        lc->mass,     lc->err_mass,
+                            lc->err_x1,       lc->err_color,    lc->cov_mb_x1, lc->cov_mb_color,
+                            lc->cov_x1_color, lc->dz,           lc->calib_mu, lc->err_calib_mu};
+    for (size_t k = 0; k < sizeof cols / sizeof cols[0]; k++) {
+        int present = cols[k] != NULL;
+        lt_digest_add(h, &present, sizeof present);
+        if (present) /* NaN calib_mu of non-calibrators: the same bytes each time */
+            lt_digest_add(h, cols[k], s->n * sizeof *cols[k]);
+    }
+    if (lc->calibrator)
+        lt_digest_add(h, lc->calibrator, s->n * sizeof *lc->calibrator);
+    for (size_t i = 0; lc->group && i < s->n; i++)
+        lt_digest_add(h, lc->group[i], strlen(lc->group[i]) + 1);
 }

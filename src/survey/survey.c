@@ -48,9 +48,10 @@ static void row_where(const char *path, const lt_rawtable *t, size_t i, char *bu
         snprintf(buf, size, "%s: row %ld", path, t->row[i]);
 }
 
-/* The checks of a light-curve table that take more than one column: a
- * calibrator's calib_mu, and each covariance within its two errors
- * (|correlation| <= 1, with 1e-6 of slack for rounded files). */
+/* The checks of a light-curve table that take more than one column (a
+ * calibrator's calib_mu, and each covariance within its two errors:
+ * |correlation| <= 1, with 1e-6 of slack for rounded files) or text (the
+ * group labels, which become parts of parameter names). */
 static int check_lightcurve(const char *path, const lt_colmap *map, const lt_rawtable *t,
                             lt_error *err)
 {
@@ -65,6 +66,14 @@ static int check_lightcurve(const char *path, const lt_colmap *map, const lt_raw
                                 "a calibrator (column '%s' is 1) without calib_mu: map the "
                                 "column of its external distance modulus (calib_mu=NAME)",
                                 map->name[LT_ROLE_CALIBRATOR]);
+        const char *g = t->text[LT_ROLE_GROUP - LT_ROLE_ID]
+                            ? t->text[LT_ROLE_GROUP - LT_ROLE_ID][i] : NULL;
+        if (g && (!*g || strlen(g) > LT_GROUP_NAME_MAX || strpbrk(g, "=:,. \t@")))
+            return lt_error_set(err, LT_EINPUT, where, line,
+                                "group label '%s' (column '%s'): labels name parameters "
+                                "(sigma_int@GROUP), so they need 1 to %d characters and none "
+                                "of = : , . @ or blanks",
+                                g, map->name[LT_ROLE_GROUP], LT_GROUP_NAME_MAX);
         for (int k = 0; k < 3; k++) {
             if (!map->name[pairs[k][0]])
                 continue;

@@ -120,5 +120,9 @@ run "$LANTERN" inspect --data "$J" --columns z=zcmb,mag=mb,err=dmb,x1=x1
 expect_error "a light-curve role with mag refused" 2 "x1 is a light-curve role: it goes with mb"
 run "$LANTERN" inspect --data "$J" --columns z=zcmb,mb=mb,err=dmb,x1=x1,color=color
 expect_error "err (not err_mb) in a light-curve table refused" 2 "error of mb is err_mb, not err"
-run "$LANTERN" fit --data "$J" --columns z=zcmb,mb=mb,err_mb=dmb,x1=x1,color=color --model lcdm-flat
-expect_error "fit on a light-curve table says what it needs" 2 "needs the standardisation term"
+run "$LANTERN" fit --data "$J" --columns z=zcmb,mb=mb,err_mb=dmb,x1=x1,color=color --model lcdm-flat --offset marginal
+expect_error "a light-curve table's offset cannot be marginalised" 2 "always sampled"
+run "$LANTERN" fit --data "$J" --columns z=zcmb,mb=mb,err_mb=dmb,x1=x1,color=color --model lcdm-flat --standardise median
+expect_error "an unknown standardisation refused" 2 "--standardise: 'median' is not latent"
+run "$LANTERN" fit --data "$ROOT/data/lamplighter/survey.csv" --columns z=z,mag=mag,err=err --model lcdm-flat --standardise chi2
+expect_error "--standardise without a light-curve table refused" 2 "apply to a light-curve table"
