@@ -88,7 +88,7 @@ static double prior_scale(const lt_prior *p)
 /* -2 ln P over the parameters not at an edge: the others held at it. */
 typedef struct {
     lt_like_chain *ctx;
-    size_t d, m;          /* all, and those inside */
+    size_t m;             /* parameters inside their priors */
     size_t inside[LT_MAX_FREE];
     double full[LT_MAX_FREE];
 } held;
@@ -152,7 +152,7 @@ static int laplace_inside(lt_like_chain *ctx, lt_fit_result *r,
                           const double *scale, size_t *bad, lt_error *err)
 {
     size_t d = r->dim;
-    held h = {.ctx = ctx, .d = d};
+    held h = {.ctx = ctx};
     double x[LT_MAX_FREE], sc[LT_MAX_FREE];
     memcpy(h.full, r->best, d * sizeof *h.full);
     for (size_t i = 0; i < d; i++)

@@ -79,6 +79,12 @@ typedef struct lt_sn_config {
 
 extern const lt_term_type lt_term_sn;
 
+/* The distance modulus 5 log10((1 + zhel) D_M(z) / Mpc) + 25 of the
+ * grid's redshifts into mu (the grid's size; D_M goes there first); -1
+ * outside the domain or where a distance is not positive. What both the
+ * supernova and the standardisation terms compare with. */
+int lt_like_distmod(const lt_cosmo *c, const lt_zgrid *g, const double *zhel, double *mu);
+
 /* Set up the compressed path once the whole likelihood exists (its test
  * points are drawn from the priors of every free parameter); lt_like_alloc
  * calls it unless the spec asks for the exact path. */

@@ -139,23 +139,35 @@ static void *sn_work_alloc(const void *state)
 
 /* Residuals observed - prediction (without any offset) into w->r; -1 if the
  * parameters are outside the physical domain. */
+int lt_like_distmod(const lt_cosmo *c, const lt_zgrid *g, const double *zhel, double *mu)
+{
+    lt_cosmo_table t = {.transverse = mu};
+    if (lt_cosmo_eval(c, g, &t, NULL) != LT_OK)
+        return -1;
+    for (size_t i = 0; i < lt_zgrid_size(g); i++) {
+        double dl = (1.0 + zhel[i]) * mu[i];
+        if (!(dl > 0.0))
+            return -1; /* a negative distance: beyond the antipode's reach */
+        mu[i] = 5.0 * log10(dl) + 25.0;
+    }
+    return 0;
+}
+
 static int residuals(const lt_sn *sn, lt_sn_work *w, const lt_cosmo *c)
 {
-    lt_cosmo_table t = {.transverse = w->dm};
-    if (lt_cosmo_eval(c, sn->grid, &t, NULL) != LT_OK)
-        return -1;
     const lt_survey *s = sn->s;
     if (s->kind == LT_OBS_DL) {
+        lt_cosmo_table t = {.transverse = w->dm};
+        if (lt_cosmo_eval(c, sn->grid, &t, NULL) != LT_OK)
+            return -1;
         for (size_t i = 0; i < s->n; i++)
             w->r[i] = s->obs[i] - (1.0 + s->zhel[i]) * w->dm[i];
-    } else {
-        for (size_t i = 0; i < s->n; i++) {
-            double dl = (1.0 + s->zhel[i]) * w->dm[i];
-            if (!(dl > 0.0))
-                return -1; /* a negative distance: beyond the antipode's reach */
-            w->r[i] = s->obs[i] - (5.0 * log10(dl) + 25.0);
-        }
+        return 0;
     }
+    if (lt_like_distmod(c, sn->grid, s->zhel, w->dm))
+        return -1;
+    for (size_t i = 0; i < s->n; i++)
+        w->r[i] = s->obs[i] - w->dm[i];
     return 0;
 }
 

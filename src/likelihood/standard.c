@@ -56,7 +56,8 @@ typedef struct lt_std {
 } lt_std;
 
 typedef struct lt_std_work {
-    double *dm, *r, *d, *x, *cov_work;
+    double *dm; /* the distance moduli */
+    double *r, *d, *x, *cov_work;
 } lt_std_work;
 
 /* ---- groups and parameters ---- */
@@ -309,20 +310,16 @@ static void *std_work_alloc(const void *state)
 static int residuals(const lt_std *t, lt_std_work *w, const lt_cosmo *c, const double *values,
                      double *q_xc, double *ld_xc)
 {
-    lt_cosmo_table tab = {.transverse = w->dm};
-    if (lt_cosmo_eval(c, t->grid, &tab, NULL) != LT_OK)
-        return -1;
     const lt_survey *s = t->s;
+    if (lt_like_distmod(c, t->grid, s->zhel, w->dm))
+        return -1;
     const lt_lightcurve *lc = s->lc;
     double alpha = values[t->alpha_at], beta = values[t->beta_at];
     double gamma = t->gamma_at >= 0 ? values[t->gamma_at] : 0.0, m0 = values[t->offset_at];
     double q = 0.0, ld = 0.0;
     for (size_t i = 0; i < t->n; i++) {
-        double dl = (1.0 + s->zhel[i]) * w->dm[i];
-        if (!(dl > 0.0))
-            return -1;
         size_t g = t->g[i];
-        double mu = 5.0 * log10(dl) + 25.0;
+        double mu = w->dm[i];
         double mg = m0 + (t->goff_at[g] >= 0 ? values[t->goff_at[g]] : 0.0) +
                     gamma * t->p_high[i];
         double sig = values[t->sig_at[g]];
@@ -437,6 +434,24 @@ static int group_chi2(const lt_std *t, lt_std_work *w, const double *values,
     return 0;
 }
 
+/* The chi2 of the objects whose scatter is table entry at, with that entry
+ * set to x (left there), into *res; LT_EDOMAIN if C is not positive
+ * definite. */
+static int entry_chi2(const lt_std *t, lt_std_work *w, double *values, const lt_cosmo *c, int at,
+                      double x, double *res, lt_error *err)
+{
+    double chi2_g[LT_STD_GROUPS_MAX];
+    values[at] = x;
+    if (group_chi2(t, w, values, c, chi2_g))
+        return lt_error_set(err, LT_EDOMAIN, NULL, 0,
+                            "the covariance is not positive definite while tuning sigma_int");
+    *res = 0.0;
+    for (size_t g = 0; g < t->ngroups; g++)
+        if (t->sig_at[g] == at)
+            *res += chi2_g[g];
+    return LT_OK;
+}
+
 int lt_like_scatter_tune(lt_like *l, const double *theta, lt_scatter_tune *out, lt_error *err)
 {
     memset(out, 0, sizeof *out);
@@ -446,7 +461,7 @@ int lt_like_scatter_tune(lt_like *l, const double *theta, lt_scatter_tune *out, 
     lt_std_work *w = std_work_alloc(t);
     if (!w)
         return lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
-    double values[LT_MAX_PARAMS], chi2_g[LT_STD_GROUPS_MAX];
+    double values[LT_MAX_PARAMS];
     lt_cosmo_params p;
     lt_like_values(l, theta, values, &p);
     lt_cosmo c;
@@ -473,33 +488,21 @@ int lt_like_scatter_tune(lt_like *l, const double *theta, lt_scatter_tune *out, 
                 if (t->sig_at[g] == at)
                     ne += nobj[g];
             double target = (double)ne * frac, old = values[at];
-            /* chi2 of the entry's objects at scatter x */
-#define ENTRY_CHI2(x, res)                                                                \
-    do {                                                                                  \
-        values[at] = (x);                                                                 \
-        if (group_chi2(t, w, values, &c, chi2_g)) {                                    \
-            rc = lt_error_set(err, LT_EDOMAIN, NULL, 0,                                   \
-                              "the covariance is not positive definite while tuning "    \
-                              "sigma_int");                                              \
-            goto done;                                                                    \
-        }                                                                                 \
-        (res) = 0.0;                                                                      \
-        for (size_t g = 0; g < t->ngroups; g++)                                           \
-            if (t->sig_at[g] == at)                                                       \
-                (res) += chi2_g[g];                                                       \
-    } while (0)
-            double f0, lo = 0.0, hi = 0.5, fhi;
-            ENTRY_CHI2(0.0, f0);
-            double sigma = 0.0;
+            double f0, lo = 0.0, hi = 0.5, fhi, sigma = 0.0;
+            if ((rc = entry_chi2(t, w, values, &c, at, 0.0, &f0, err)))
+                goto done;
             if (f0 > target) {
-                ENTRY_CHI2(hi, fhi);
+                if ((rc = entry_chi2(t, w, values, &c, at, hi, &fhi, err)))
+                    goto done;
                 while (fhi > target && hi < 100.0) {
                     lo = hi, hi *= 2.0;
-                    ENTRY_CHI2(hi, fhi);
+                    if ((rc = entry_chi2(t, w, values, &c, at, hi, &fhi, err)))
+                        goto done;
                 }
                 for (int it = 0; it < 100 && hi - lo > 1e-10; it++) {
                     double mid = 0.5 * (lo + hi), fm;
-                    ENTRY_CHI2(mid, fm);
+                    if ((rc = entry_chi2(t, w, values, &c, at, mid, &fm, err)))
+                        goto done;
                     if (fm > target)
                         lo = mid;
                     else
@@ -507,7 +510,6 @@ int lt_like_scatter_tune(lt_like *l, const double *theta, lt_scatter_tune *out, 
                 }
                 sigma = 0.5 * (lo + hi);
             }
-#undef ENTRY_CHI2
             values[at] = sigma;
             moved = fmax(moved, fabs(sigma - old));
             out->name[e] = l->par[at].name;

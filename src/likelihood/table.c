@@ -70,22 +70,23 @@ int lt_like_cosmo(const lt_like *l, const double *theta, lt_cosmo *c, lt_error *
     return lt_cosmo_init(c, l->model, &p, err);
 }
 
+/* The centre of a prior: a uniform one's midpoint, a Gaussian one's mean. */
+static double prior_centre(const lt_prior *p)
+{
+    return p->kind == LT_PRIOR_UNIFORM ? 0.5 * (p->a + p->b) : p->a;
+}
+
 void lt_like_guess(const lt_like *l, double *theta)
 {
     double values[LT_MAX_PARAMS];
-    for (size_t k = 0; k < l->npar; k++) {
-        const lt_prior *p = &l->par[k].prior;
-        values[k] = !l->par[k].free ? l->par[k].value
-                    : p->kind == LT_PRIOR_UNIFORM ? 0.5 * (p->a + p->b) : p->a;
-    }
+    for (size_t k = 0; k < l->npar; k++)
+        values[k] = l->par[k].free ? prior_centre(&l->par[k].prior) : l->par[k].value;
     for (size_t t = 0; t < l->nterms; t++)
         if (l->term[t].type->guess)
             l->term[t].type->guess(l->term[t].state, values);
     for (size_t i = 0; i < l->dim; i++) {
         const lt_param *p = &l->par[l->free_at[i]];
-        double v = values[l->free_at[i]], centre = p->prior.kind == LT_PRIOR_UNIFORM
-                                                       ? 0.5 * (p->prior.a + p->prior.b)
-                                                       : p->prior.a;
-        theta[i] = isfinite(lt_prior_logpdf(&p->prior, v)) ? v : centre;
+        double v = values[l->free_at[i]];
+        theta[i] = isfinite(lt_prior_logpdf(&p->prior, v)) ? v : prior_centre(&p->prior);
     }
 }
