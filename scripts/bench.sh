@@ -13,6 +13,9 @@ echo
 echo "== samplers: the whole sample command per model (scripts/bench_samplers.sh; about a minute)"
 bash scripts/bench_samplers.sh
 echo
+echo "== standardisation: JLA light curves (scripts/bench_standardise.sh; about a minute)"
+bash scripts/bench_standardise.sh
+echo
 echo "== threads under load (scripts/bench_threads.sh; about a minute)"
 bash scripts/bench_threads.sh
 echo
