@@ -312,10 +312,29 @@ int lt_report_write_figures(const char *dir, const lt_run_model *models, size_t 
  * warnings array for the caller to extend. */
 struct cJSON *lt_report_add_data(struct cJSON *o, const lt_survey_spec *data,
                                  const lt_like *l);
-/* Add "standardisation" ({method, scatter, velocity_dispersion_km_s,
- * mass_split, lensing_per_z, tuned_sigma_int: {NAME: value}}) to o where l
- * standardises a light-curve table. */
-void lt_report_std_json(struct cJSON *o, const lt_like *l);
+/* Add "standardisation" ({n_objects, method, scatter, velocity_dispersion_km_s,
+ * mass_split, lensing_per_z, tuned_sigma_int: {NAME: value}, calibrators:
+ * {n, h0_offset_correlation}}) to o where l standardises a light-curve
+ * table; cov is the covariance of l's free parameters (dim x dim). */
+void lt_report_std_json(struct cJSON *o, const lt_like *l, const double *cov);
+
+/* The text line "standardisation: METHOD likelihood, ..." (nothing
+ * without a standardisation). */
+void lt_report_std_line(FILE *f, const lt_like *l);
+
+/* What calibrators measure: H0 and M (offset) with their correlation. */
+typedef struct lt_calibrated {
+    size_t ncal;              /* calibrator rows */
+    size_t h0_at, offset_at;  /* indices among l's free parameters */
+    double correlation;       /* of h0 and offset, from the covariance given */
+} lt_calibrated;
+/* Fill c from cov (dim x dim over l's free parameters); 1 where l's table
+ * has calibrators and h0 and offset are both free, else 0. */
+int lt_report_calibrated(const lt_like *l, const double *cov, lt_calibrated *c);
+/* The text line "calibrators: N ...: H0 = ..., M = ..., correlation r",
+ * with value and sd indexed like l's free parameters. */
+void lt_report_calibrated_line(FILE *f, const lt_calibrated *c, const double *value,
+                               const double *sd);
 /* Print "FILE: N objects, observable mag; 1 measurement" (the parts there
  * are) to f, with the file's whole name however long. */
 void lt_report_describe_data(FILE *f, const lt_like *l, const lt_survey_spec *data);

@@ -101,7 +101,7 @@ typedef struct lt_std_config {
     char group[LT_STD_GROUPS_MAX][LT_GROUP_NAME_MAX + 1]; /* sorted by strcmp */
 } lt_std_config;
 /* The groups of light-curve survey s and spec's options into cf;
- * LT_EINPUT for more than LT_STD_GROUPS_MAX groups, or calibrators. */
+ * LT_EINPUT for more than LT_STD_GROUPS_MAX groups. */
 int lt_std_configure(lt_std_config *cf, const lt_survey *s, const lt_like_spec *spec,
                      lt_error *err);
 extern const lt_term_type lt_term_std;

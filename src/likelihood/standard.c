@@ -29,6 +29,10 @@
  *   and the 2 x 2 ones enter chi2_eff, so the likelihood is normalised.
  *   As xs_g, cs_g grow the conditional of mb tends to the chi2 method's
  *   residual and variance (tests/unit/test_standard.c checks it).
+ *
+ * Calibrators (hosts with an external distance modulus calib_mu) take
+ * calib_mu in place of mu_i(z) and its error in place of sigma_z and
+ * lensing; everything else is shared, so they fix M and h0 is freed.
  */
 #include <math.h>
 #include <stdio.h>
@@ -45,7 +49,8 @@ typedef struct lt_std {
     lt_zgrid *grid;
     lt_dcov *cov;
     double *p_high;     /* P(log10 mass >= split) */
-    double *v_extra;    /* sigma_z^2 + sigma_lens^2 */
+    double *v_extra;    /* sigma_z^2 + sigma_lens^2; a calibrator's err_calib_mu^2 */
+    const double *calib_mu; /* a calibrator's distance modulus, NaN for the others; or NULL */
     double *vx, *vc, *cmx, *cmc, *cxc; /* measurement (co)variances; 0 where unmapped */
     int alpha_at, beta_at, gamma_at, offset_at; /* table indices (gamma: -1 without mass) */
     int goff_at[LT_STD_GROUPS_MAX];   /* offset@GROUP, or -1 */
@@ -73,11 +78,6 @@ int lt_std_configure(lt_std_config *cf, const lt_survey *s, const lt_like_spec *
     memset(cf, 0, sizeof *cf);
     cf->s = s, cf->spec = spec, cf->std = spec->std;
     const lt_lightcurve *lc = s->lc;
-    if (lc->ncalibrators)
-        return lt_error_set(err, LT_EINPUT, "--columns", 0,
-                            "the table has %zu calibrator rows; the standardisation does not "
-                            "use calibrators yet: drop the calibrator column or those rows",
-                            lc->ncalibrators);
     if (!lc->group) {
         cf->ngroups = 1;
         return LT_OK;
@@ -131,11 +131,14 @@ static void push(lt_term_needs *needs, const char *name, int fixed, double value
 
 /* alpha, beta, gamma (with masses), offset, offset@GROUP where a setting
  * asks for one, sigma_int (shared or per group; fixed for the chi2 method),
- * and the latent method's populations. h0 only with calibrators. */
+ * and the latent method's populations. h0 only with calibrators: without
+ * them it is degenerate with M (offset is then M at h0 = 70). */
 static void std_needs(const void *config, lt_term_needs *needs)
 {
     const lt_std_config *cf = config;
     char name[LT_NAME_MAX];
+    if (cf->s->lc->ncalibrators)
+        needs->h0 = 1;
     push(needs, "alpha", 0, 0.0);
     push(needs, "beta", 0, 0.0);
     if (cf->s->lc->mass)
@@ -214,6 +217,7 @@ static void *std_setup(const void *config, const lt_like *l, lt_error *err)
     column(t->cmc, lc->cov_mb_color, n, 0);
     column(t->cxc, lc->cov_x1_color, n, 0);
     const double k5 = 5.0 / M_LN10, beta_v = cf->std.velocity_dispersion / LT_C_KM_S;
+    t->calib_mu = lc->ncalibrators ? lc->calib_mu : NULL;
     for (size_t i = 0; i < n; i++) {
         double z = s->z[i], dz = lc->dz ? lc->dz[i] : 0.0;
         /* lantern simulate's sigma_pv, with the redshift error beside the
@@ -221,6 +225,12 @@ static void *std_setup(const void *config, const lt_like *l, lt_error *err)
         double sz = k5 * sqrt(dz * dz + beta_v * beta_v) * (1.0 + z) / (z * (1.0 + 0.5 * z));
         double sl = LT_STD_LENSING * z;
         t->v_extra[i] = sz * sz + sl * sl;
+        /* a calibrator's distance is its own (Cepheids, TRGB): neither its
+         * redshift nor lensing enters, only the distance's error */
+        if (lc->calibrator && lc->calibrator[i]) {
+            double e = lc->err_calib_mu ? lc->err_calib_mu[i] : 0.0;
+            t->v_extra[i] = e * e;
+        }
         if (!lc->mass)
             t->p_high[i] = 0.0;
         else if (lc->err_mass)
@@ -319,7 +329,7 @@ static int residuals(const lt_std *t, lt_std_work *w, const lt_cosmo *c, const d
     double q = 0.0, ld = 0.0;
     for (size_t i = 0; i < t->n; i++) {
         size_t g = t->g[i];
-        double mu = w->dm[i];
+        double mu = t->calib_mu && !isnan(t->calib_mu[i]) ? t->calib_mu[i] : w->dm[i];
         double mg = m0 + (t->goff_at[g] >= 0 ? values[t->goff_at[g]] : 0.0) +
                     gamma * t->p_high[i];
         double sig = values[t->sig_at[g]];

@@ -131,12 +131,49 @@ cJSON *lt_report_add_data(cJSON *o, const lt_survey_spec *data, const lt_like *l
     return w;
 }
 
-void lt_report_std_json(cJSON *o, const lt_like *l)
+int lt_report_calibrated(const lt_like *l, const double *cov, lt_calibrated *c)
+{
+    memset(c, 0, sizeof *c);
+    const lt_survey *s = lt_like_table(l);
+    if (!s || !s->lc || !s->lc->ncalibrators)
+        return 0;
+    c->ncal = s->lc->ncalibrators;
+    size_t d = lt_like_dim(l), ih = d, im = d;
+    for (size_t i = 0; i < d; i++) {
+        if (!strcmp(lt_like_param_name(l, i), "h0"))
+            ih = i;
+        if (!strcmp(lt_like_param_name(l, i), "offset"))
+            im = i;
+    }
+    if (ih == d || im == d)
+        return 0;
+    c->h0_at = ih, c->offset_at = im;
+    c->correlation = cov[ih * d + im] / sqrt(cov[ih * d + ih] * cov[im * d + im]);
+    return 1;
+}
+
+void lt_report_calibrated_line(FILE *f, const lt_calibrated *c, const double *value,
+                               const double *sd)
+{
+    fprintf(f, "  calibrators: %zu external distances set M, so H0 is measured: H0 = %.2f +- "
+               "%.2f km/s/Mpc, M = %.4f +- %.4f, correlation %.3f\n",
+            c->ncal, value[c->h0_at], sd[c->h0_at], value[c->offset_at], sd[c->offset_at],
+            c->correlation);
+}
+
+void lt_report_std_json(cJSON *o, const lt_like *l, const double *cov)
 {
     const lt_std_spec *std = lt_like_std(l);
     if (!std)
         return;
     cJSON *j = cJSON_AddObjectToObject(o, "standardisation");
+    cJSON_AddItemToObject(j, "n_objects", num((double)lt_like_table(l)->n));
+    lt_calibrated c;
+    if (lt_report_calibrated(l, cov, &c)) {
+        cJSON *k = cJSON_AddObjectToObject(j, "calibrators");
+        cJSON_AddItemToObject(k, "n", num((double)c.ncal));
+        cJSON_AddItemToObject(k, "h0_offset_correlation", num(c.correlation));
+    }
     cJSON_AddStringToObject(j, "method", lt_std_method_name(std->method));
     cJSON_AddStringToObject(j, "scatter", std->shared_scatter ? "shared" : "per-group");
     cJSON_AddItemToObject(j, "velocity_dispersion_km_s", num(std->velocity_dispersion));
@@ -215,13 +252,13 @@ static const char *h0_note(const lt_like *l)
 cJSON *lt_report_fit_json(const lt_like *l, const lt_fit_result *r, const lt_survey_spec *data,
                           unsigned long seed)
 {
-    const lt_survey *s = lt_like_survey(l);
     size_t d = r->dim;
     cJSON *o = cJSON_CreateObject();
     cJSON_AddStringToObject(o, "command", "fit");
     cJSON_AddStringToObject(o, "model", lt_like_model(l)->name);
     cJSON_AddItemToObject(o, "n_data", num((double)lt_like_ndata(l)));
-    cJSON_AddStringToObject(o, "observable", s ? lt_obs_name(s->kind) : "none");
+    const lt_survey *table = lt_like_table(l); /* light-curve tables too */
+    cJSON_AddStringToObject(o, "observable", table ? lt_obs_name(table->kind) : "none");
     cJSON_AddItemToObject(o, "chi2_min", num(r->at_best.chi2));
     cJSON_AddItemToObject(o, "dof", num((double)r->dof));
     cJSON_AddItemToObject(o, "p_value", num(r->p_value));
@@ -232,7 +269,7 @@ cJSON *lt_report_fit_json(const lt_like *l, const lt_fit_result *r, const lt_sur
     cJSON_AddBoolToObject(o, "laplace_ok", r->laplace_ok);
     if (!r->laplace_ok)
         cJSON_AddStringToObject(o, "laplace_note", r->laplace_note);
-    lt_report_std_json(o, l);
+    lt_report_std_json(o, l, r->cov);
 
     cJSON *params = cJSON_AddObjectToObject(o, "params");
     for (size_t i = 0; i < d; i++) {
@@ -379,15 +416,29 @@ void lt_report_fit_table(FILE *f, const lt_like *l, const lt_fit_result *r,
                    "others' errors; '<' or '>' gives the 95%% one-sided limit with the others "
                    "at their best fit ('lantern sample' gives the marginal one)\n",
                 edges, edges == 1 ? " lies" : "s lie");
+    lt_calibrated cal;
+    if (r->laplace_ok && lt_report_calibrated(l, r->cov, &cal))
+        lt_report_calibrated_line(f, &cal, r->best, r->sd);
+    lt_report_std_line(f, l);
+}
+
+void lt_report_std_line(FILE *f, const lt_like *l)
+{
     const lt_std_spec *std = lt_like_std(l);
-    if (std)
-        fprintf(f, "  standardisation: %s likelihood, %s scatter, host-mass step at %g, "
-                   "peculiar velocities %g km/s, lensing 0.055 z%s\n",
-                lt_std_method_name(std->method), std->shared_scatter ? "one shared" : "per-group",
-                std->mass_split, std->velocity_dispersion,
-                std->method == LT_STD_CHI2 ? "; sigma_int (fixed above) set so that chi2/dof = 1 "
-                                             "in each group"
-                                           : "");
+    if (!std)
+        return;
+    const lt_survey *s = lt_like_table(l);
+    char step[64] = "no host-mass step (no mass column)";
+    if (s->lc->mass)
+        snprintf(step, sizeof step, "host-mass step at %g", std->mass_split);
+    fprintf(f, "  standardisation: %s likelihood, %s scatter, %s, peculiar velocities %g km/s, "
+               "lensing 0.055 z%s\n",
+            lt_std_method_name(std->method),
+            std->shared_scatter || !s->lc->group ? "one shared" : "per-group", step,
+            std->velocity_dispersion,
+            std->method == LT_STD_CHI2 ? "; sigma_int (fixed above) set so that chi2/dof = 1 "
+                                         "in each group"
+                                       : "");
 }
 
 int lt_report_write_residuals(const char *path, const lt_like *l, const double *model,

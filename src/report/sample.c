@@ -50,13 +50,13 @@ const char *lt_report_unconverged_text(const lt_posterior *r)
 cJSON *lt_report_sample_json(const lt_like *l, const lt_posterior *r,
                              const lt_survey_spec *data, unsigned long seed)
 {
-    const lt_survey *s = lt_like_survey(l);
     size_t d = r->nparams;
     cJSON *o = cJSON_CreateObject();
     cJSON_AddStringToObject(o, "command", "sample");
     cJSON_AddStringToObject(o, "model", lt_like_model(l)->name);
     cJSON_AddItemToObject(o, "n_data", num((double)lt_like_ndata(l)));
-    cJSON_AddStringToObject(o, "observable", s ? lt_obs_name(s->kind) : "none");
+    const lt_survey *table = lt_like_table(l); /* light-curve tables too */
+    cJSON_AddStringToObject(o, "observable", table ? lt_obs_name(table->kind) : "none");
     cJSON_AddItemToObject(o, "chi2_min", num(r->at_best.chi2));
     cJSON_AddItemToObject(o, "dof", num((double)lt_like_dof(l)));
     size_t kp = lt_like_nparams_counted(l);
@@ -65,6 +65,7 @@ cJSON *lt_report_sample_json(const lt_like *l, const lt_posterior *r,
     cJSON_AddItemToObject(o, "bic", num(r->at_best.chi2 + (double)kp * log((double)lt_like_ndata(l))));
     cJSON_AddBoolToObject(o, "converged", r->converged);
     lt_report_add_fixed(o, l, r->measured);
+    lt_report_std_json(o, l, r->cov);
     cJSON *params = cJSON_AddObjectToObject(o, "params");
     for (size_t i = 0; i < d; i++) {
         cJSON *p = stats_json(&r->stats[r->first_param + i], r->best[i]);
@@ -243,6 +244,14 @@ void lt_report_sample_table(FILE *f, const lt_like *l, const lt_posterior *r,
     lt_report_print_measurements(f, l, r->measured);
     fprintf(f, "\n  chi2_min %.4f for %ld degrees of freedom (the best draw, polished)\n",
             r->at_best.chi2, lt_like_dof(l));
+    lt_calibrated cal;
+    if (lt_report_calibrated(l, r->cov, &cal)) {
+        double mean[LT_MAX_FREE], sd[LT_MAX_FREE];
+        for (size_t i = 0; i < r->nparams; i++)
+            mean[i] = r->stats[r->first_param + i].mean, sd[i] = r->stats[r->first_param + i].sd;
+        lt_report_calibrated_line(f, &cal, mean, sd);
+    }
+    lt_report_std_line(f, l);
     if (r->reweighted)
         fprintf(f, "  %zu %s of the run reweighted by the added terms (%zu likelihood "
                    "evaluations); smallest weighted ESS %.0f, Kish's ESS %.0f%s\n",

@@ -66,6 +66,16 @@ static int check_lightcurve(const char *path, const lt_colmap *map, const lt_raw
                                 "a calibrator (column '%s' is 1) without calib_mu: map the "
                                 "column of its external distance modulus (calib_mu=NAME)",
                                 map->name[LT_ROLE_CALIBRATOR]);
+        for (int k = 0; k < 2; k++) {
+            int r = k ? LT_ROLE_ERR_CALIB_MU : LT_ROLE_CALIB_MU;
+            if (t->v[LT_ROLE_CALIBRATOR] && t->v[LT_ROLE_CALIBRATOR][i] == 1.0 && t->v[r] &&
+                isnan(t->v[r][i]))
+                return lt_error_set(err, LT_EINPUT, where, line,
+                                    "a calibrator (column '%s' is 1) whose %s (column '%s') is "
+                                    "a placeholder: a calibrator needs a number there",
+                                    map->name[LT_ROLE_CALIBRATOR], lt_role_name(r, map->kind),
+                                    map->name[r]);
+        }
         const char *g = t->text[LT_ROLE_GROUP - LT_ROLE_ID]
                             ? t->text[LT_ROLE_GROUP - LT_ROLE_ID][i] : NULL;
         if (g && (!*g || strlen(g) > LT_GROUP_NAME_MAX || strpbrk(g, "=:,. \t@")))
@@ -346,9 +356,13 @@ static int select_rows(const lt_survey_spec *spec, const lt_rawtable *t, lt_surv
     }
     for (size_t i = 0; i < t->n; i++) {
         double z = t->v[LT_ROLE_Z][i];
-        if (!isnan(spec->zmin) && z < spec->zmin)
+        /* calibrators are exempt from the redshift cuts: their distances
+         * are external, and a Hubble-flow cut (zmin 0.023, say) would
+         * drop every one of them */
+        int calib = t->v[LT_ROLE_CALIBRATOR] && t->v[LT_ROLE_CALIBRATOR][i] == 1.0;
+        if (!calib && !isnan(spec->zmin) && z < spec->zmin)
             continue;
-        if (!isnan(spec->zmax) && z > spec->zmax)
+        if (!calib && !isnan(spec->zmax) && z > spec->zmax)
             continue;
         if (spec->keep_ids && !idlist_has(&keep, t->text[0][i]))
             continue;

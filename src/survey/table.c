@@ -6,6 +6,7 @@
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
+#include <strings.h>
 
 #include <fitsio.h>
 
@@ -239,6 +240,18 @@ static int grow(lt_rawtable *t, const lt_colmap *map, size_t cap)
     return 0;
 }
 
+/* A calibrator's distance columns mean nothing on the other rows, which
+ * may hold a placeholder there: empty, '-', 'nan' or 'NA' (any case). */
+static int placeholder_ok(int role)
+{
+    return role == LT_ROLE_CALIB_MU || role == LT_ROLE_ERR_CALIB_MU;
+}
+
+static int is_placeholder(const char *f)
+{
+    return !*f || !strcmp(f, "-") || !strcasecmp(f, "nan") || !strcasecmp(f, "na");
+}
+
 /* Check one value of a mapped numeric column; the message says what to do. */
 static int check_value(const char *path, long line, const lt_colmap *map, int role,
                        double v, lt_error *err)
@@ -437,6 +450,10 @@ int lt_table_read_text(const char *path, const lt_colmap *map, lt_rawtable *t, l
                 continue;
             double v;
             const char *f = fields[col[r]];
+            if (placeholder_ok(r) && is_placeholder(f)) {
+                t->v[r][i] = NAN; /* a non-calibrator's; check_lightcurve checks */
+                continue;
+            }
             if (lt_parse_double(f, &v)) {
                 rc = lt_error_set(err, LT_EINPUT, path, it.line,
                                   "column '%s' (%s): '%s' is not a finite number",
@@ -567,6 +584,8 @@ int lt_table_read_fits(const char *path, const lt_colmap *map, lt_rawtable *t, l
             goto done;
         }
         for (size_t i = 0; i < n; i++) {
+            if (placeholder_ok(r) && isnan(t->v[r][i]))
+                continue; /* a non-calibrator's; check_lightcurve checks */
             if (!isfinite(t->v[r][i])) {
                 rc = lt_error_set(err, LT_EINPUT, path, 0,
                                   "row %zu: column '%s' (%s) is not a finite number", i + 1,

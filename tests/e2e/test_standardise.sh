@@ -4,7 +4,7 @@
 # fit of flat LCDM with alpha, beta, the host-mass step, a sigma_int per
 # sample, 150 km/s of peculiar velocities and lensing 0.055 z, by both
 # likelihoods, against an independent numpy/scipy implementation of the
-# same likelihoods (tests/reference/jla_standardise_numpy.py): best fits
+# same likelihoods (tests/reference/helpers/jla_standardise_numpy.py): best fits
 # within 0.05 of the reference's Laplace sigma, the sigmas within 1%, a
 # sigma_int at 0 reported as a one-sided limit, the chi2 method's tuned
 # sigma_int. The published values are printed beside them for the reader;
@@ -13,7 +13,7 @@ source "$(dirname "$0")/lib.sh"
 J="${LANTERN_SHARED:-$ROOT/../shared}/data/jla2014/jla_lcparams.txt"
 COLS="z=zcmb,zhel=zhel,mb=mb,err_mb=dmb,x1=x1,err_x1=dx1,color=color,err_color=dcolor,mass=3rdvar,cov_mb_x1=cov_m_s,cov_mb_color=cov_m_c,cov_x1_color=cov_s_c,dz=dz,group=set,id=name"
 
-/usr/bin/python3 "$ROOT/tests/reference/jla_standardise_numpy.py" "$J" >"$E2E_TMP/ref.json" 2>"$E2E_TMP/ref.err"
+/usr/bin/python3 "$ROOT/tests/reference/helpers/jla_standardise_numpy.py" "$J" >"$E2E_TMP/ref.json" 2>"$E2E_TMP/ref.err"
 if [ $? -eq 0 ]; then pass "the numpy reference ran"; else STATUS=1; cp "$E2E_TMP/ref.err" "$ERR"; : >"$OUT"; fail "the numpy reference ran"; fi
 
 echo "# published (Betoule et al. 2014, with the systematic covariance the file lacks; SOURCE.md):"
