@@ -8,7 +8,8 @@
 #   make asan       every test again, built with AddressSanitizer and UBSan
 #   make valgrind   the end-to-end tests under valgrind
 #   make fuzz       each libFuzzer target for FUZZ_SECONDS (default 30)
-#   make test-long  make test, then the longer checks (fuzzing, the 200-survey coverage)
+#   make test-long  make test, then the longer checks (fuzzing, the 200-survey coverage,
+#                   300 simulated light-curve surveys)
 #   make install PREFIX=/usr/local
 #   make clean
 
@@ -183,6 +184,9 @@ test-long: test
 	@COVERAGE_REALIZATIONS=200 bash tests/e2e/test_coverage.sh >build/coverage-long.log 2>&1; \
 	cat build/coverage-long.log; \
 	grep -q '^ok ' build/coverage-long.log && ! grep -q '^not ok' build/coverage-long.log
+	@STD_BIAS_REALIZATIONS=300 bash tests/e2e/test_standardise_bias.sh >build/std-bias-long.log 2>&1; \
+	cat build/std-bias-long.log; \
+	grep -q '^ok ' build/std-bias-long.log && ! grep -q '^not ok' build/std-bias-long.log
 
 bench: all $(BENCH_BIN)
 	@bash scripts/bench.sh

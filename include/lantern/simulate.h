@@ -28,6 +28,21 @@
  *
  * For dl data the same magnitude noise is applied as a factor 10^(d/5) and
  * errors are dl (ln 10 / 5) sigma.
+ *
+ * Light curves (observable = mb) follow the generative model of the latent
+ * standardisation (March et al. 2011; lantern/likelihood.h), so that a fit
+ * can be checked for bias: in tier t, true x1 ~ N(x1_mean, x1_sd), true
+ * c ~ N(color_mean, color_sd), log10 host mass ~ N(mass_mean, mass_sd)
+ * (recorded exactly), and
+ *
+ *   mb = mu(z, zhel) + M + gamma [mass >= mass_split] - alpha x1 + beta c
+ *        + d_t + N(0, intrinsic_t) + N(0, sigma_pv(z)) + N(0, 0.055 z)
+ *        + N(0, error_t),
+ *
+ * observed x1 and c with N(0, err_x1_t) and N(0, err_color_t); err_mb is
+ * error_t alone (the fit adds the scatter, velocities and lensing). A tier
+ * of calibrators (calibrators = yes) has calib_mu = mu + N(0, calib_error)
+ * and neither velocities nor lensing in mb: its distance is its own.
  */
 #ifndef LANTERN_SIMULATE_H
 #define LANTERN_SIMULATE_H
@@ -43,6 +58,13 @@ typedef struct lt_sim_tier {
     double error;       /* measurement error, mag */
     double calibration; /* calibration-offset amplitude, mag */
     int volume;         /* 1: redshifts follow the comoving volume; 0: uniform in z */
+    /* light curves (observable mb) only */
+    double intrinsic;                        /* this tier's sigma_int, mag */
+    double x1_mean, x1_sd, color_mean, color_sd; /* the true populations */
+    double err_x1, err_color;                /* measurement errors */
+    double mass_mean, mass_sd;               /* log10 host mass */
+    int calibrators;                         /* 1: every object is a calibrator */
+    double calib_error;                      /* a calibrator's distance error, mag */
 } lt_sim_tier;
 
 typedef struct lt_scenario {
@@ -50,7 +72,9 @@ typedef struct lt_scenario {
     char *name;
     unsigned long seed;
     lt_obs kind;
-    double offset;              /* absolute magnitude M for mag data */
+    double offset;              /* absolute magnitude M for mag and mb data */
+    double alpha, beta, gamma;  /* mb: the standardisation (Tripp 1998) */
+    double mass_split;          /* mb: gamma applies at log10 mass >= this */
     double intrinsic;           /* mag */
     double velocity_dispersion; /* km/s */
     double solar_motion;        /* km/s */
@@ -77,7 +101,16 @@ typedef struct lt_sim {
     size_t n, ntiers;
     double *modes;      /* n x ntiers: the unit tier indicators (dl: scaled) */
     double *amplitude;  /* ntiers */
+    double *x1_true, *color_true; /* mb: each object's true x1 and colour */
 } lt_sim;
+
+/* The true value of a fitted parameter's name in scenario sc, or NaN when
+ * the scenario does not set it: cosmological parameters; offset (M, shifted
+ * by 5 log10(h0_fixed / h0) when the fit holds h0 at h0_fixed, NaN for
+ * h0_fixed free); and for light curves alpha, beta, gamma, sigma_int,
+ * x1_mean, x1_sd, color_mean, color_sd, with @TIER for a tier's (sigma_int
+ * alone only where every tier has the same). */
+double lt_scenario_truth(const lt_scenario *sc, const char *name, double h0_fixed);
 
 /* Simulate; the same scenario (and seed) gives the same survey, bit for bit. */
 int lt_simulate(const lt_scenario *sc, lt_sim *out, lt_error *err);
@@ -88,6 +121,11 @@ void lt_sim_free(lt_sim *sim);
  * already make 800 MB): the modes carry the same covariance in N k. */
 #define LT_SIM_TEXT_COV_MAX 2000
 #define LT_SIM_DENSE_MAX 10000
+
+/* The --columns option that reads sim's survey.csv, into buf (size at
+ * least LT_SIM_COLUMNS_MAX holds it). */
+#define LT_SIM_COLUMNS_MAX 256
+void lt_sim_columns(const lt_sim *sim, char *buf, size_t size);
 
 /* The dense covariance file's name for n objects, or NULL when none is
  * written. */

@@ -213,6 +213,14 @@ int lt_campaign_read(const char *path, lt_campaign *c, lt_error *err)
         if ((rc = lt_job_set(&c->job, "model", "offset", e->value, ini->path, e->line, 1, err)))
             goto done;
     }
+    /* a light-curve data set's standardisation (the run file's [data]
+     * keys; lantern fit --help) */
+    static const char *const std_keys[] = {"standardise", "scatter", "velocity_dispersion",
+                                           "mass_split"};
+    for (size_t k = 0; k < sizeof std_keys / sizeof std_keys[0]; k++)
+        if ((e = lt_ini_get(ini, "campaign", std_keys[k])) &&
+            (rc = lt_job_set(&c->job, "data", std_keys[k], e->value, ini->path, e->line, 1, err)))
+            goto done;
     /* every model's priors and fixed values, checked now rather than in
      * the middle of the campaign */
     for (size_t k = 0; k < c->nmodels; k++) {

@@ -112,6 +112,13 @@ int lt_forecast_run(const lt_scenario *sc, const lt_like_spec *spec, lt_forecast
                     lt_error *err)
 {
     memset(f, 0, sizeof *f);
+    /* a forecast sets every observable at its truth; for light curves the
+     * observed x1 and colour would keep their noise, so it would not be
+     * the noiseless design a Fisher matrix needs */
+    if (sc->kind == LT_OBS_MB)
+        return lt_error_set(err, LT_EINPUT, sc->path, 0,
+                            "observable = mb: forecasts take mu, mag or dl scenarios; simulate "
+                            "light-curve surveys and fit them (lantern campaign) instead");
     lt_sim sim;
     int rc = lt_simulate(sc, &sim, err);
     if (rc)
@@ -144,7 +151,7 @@ int lt_forecast_run(const lt_scenario *sc, const lt_like_spec *spec, lt_forecast
     double h[LT_MAX_FREE], H[LT_MAX_FREE * LT_MAX_FREE];
     for (size_t i = 0; i < d; i++) {
         snprintf(f->names[i], sizeof f->names[i], "%s", lt_like_param_name(l, i));
-        f->fiducial[i] = c.x[i] = campaign_truth(sc, f->names[i]);
+        f->fiducial[i] = c.x[i] = lt_scenario_truth(sc, f->names[i], campaign_h0_fixed(l));
         const lt_prior *p = lt_like_prior(l, i);
         h[i] = 1e-4 * (p->kind == LT_PRIOR_UNIFORM ? p->b - p->a : 4 * p->b);
     }

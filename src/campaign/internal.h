@@ -5,8 +5,8 @@
 #include "lantern/ini.h"
 #include "lantern/campaign.h"
 
-/* The true value of parameter id in scenario sc (the offset: M for mag
- * data, none otherwise). */
-double campaign_truth(const lt_scenario *sc, const char *name);
+/* The value at which l holds h0, or NaN where h0 is free (the truth of
+ * the offset depends on it: lt_scenario_truth). */
+double campaign_h0_fixed(const lt_like *l);
 
 #endif

@@ -81,13 +81,12 @@ cJSON *lt_campaign_task_failed(const lt_campaign *c, size_t index, const lt_erro
     return o;
 }
 
-double campaign_truth(const lt_scenario *sc, const char *name)
+double campaign_h0_fixed(const lt_like *l)
 {
-    if (!strcmp(name, "offset"))
-        return sc->kind == LT_OBS_MAG ? sc->offset : 0.0;
-    lt_cosmo_params p = sc->params;
-    int id = lt_cosmo_param_find(name);
-    return id >= 0 ? *lt_cosmo_params_slot(&p, id) : NAN;
+    for (size_t k = 0; k < lt_like_nfixed(l); k++)
+        if (!strcmp(lt_like_fixed(l, k)->name, "h0"))
+            return lt_like_fixed(l, k)->value;
+    return NAN;
 }
 
 int lt_campaign_task_run(const lt_campaign *c, size_t index, int threads,
@@ -148,6 +147,7 @@ int lt_campaign_task_run(const lt_campaign *c, size_t index, int threads,
     cJSON_AddBoolToObject(o, "converged", post.converged);
     method_fields(o, &post);
     cJSON *params = cJSON_AddObjectToObject(o, "params");
+    double h0_fixed = campaign_h0_fixed(l);
     for (size_t i = 0; i < dim; i++) {
         const char *name = lt_like_param_name(l, i);
         const lt_post_stats *st = &post.stats[post.first_param + i];
@@ -155,7 +155,8 @@ int lt_campaign_task_run(const lt_campaign *c, size_t index, int threads,
         double est = t.method == LT_METHOD_FIT ? post.best[i] : st->mean;
         cJSON *q = cJSON_AddObjectToObject(params, name);
         if (d->simulated)
-            cJSON_AddItemToObject(q, "truth", num(campaign_truth(&d->scenario, name)));
+            cJSON_AddItemToObject(q, "truth",
+                                  num(lt_scenario_truth(&d->scenario, name, h0_fixed)));
         cJSON_AddItemToObject(q, "estimate", num(est));
         cJSON_AddItemToObject(q, "sd", num(st->sd));
         cJSON_AddItemToObject(q, "lo68", num(st->lo68));

@@ -49,10 +49,17 @@ int cli_simulate(int argc, char **argv)
         printf("simulated %zu objects of scenario %s (model %s, seed %lu) into %s/\n", sim.n,
                sc.name, sc.model->name, sc.seed, out);
         const char *cov = lt_sim_cov_name(sim.n);
-        printf("read it with: --data %s/survey.csv --columns z=z,zhel=zhel,%s=%s,err=err,id=id "
-               "%s %s/%s\n",
-               out, lt_obs_name(sc.kind), lt_obs_name(sc.kind), cov ? "--cov" : "--modes", out,
-               cov ? cov : "modes.csv");
+        char columns[LT_SIM_COLUMNS_MAX];
+        lt_sim_columns(&sim, columns, sizeof columns);
+        /* without calibration offsets the systematic part is zero: a zero
+         * --cov would only make the fit factor a dense matrix for nothing */
+        int sys = 0;
+        for (size_t t = 0; t < sc.ntiers; t++)
+            sys |= sc.tiers[t].calibration > 0.0;
+        printf("read it with: --data %s/survey.csv --columns %s", out, columns);
+        if (sys)
+            printf(" %s %s/%s", cov ? "--cov" : "--modes", out, cov ? cov : "modes.csv");
+        printf("\n");
     }
     lt_sim_free(&sim);
     lt_scenario_free(&sc);

@@ -355,7 +355,11 @@ void lt_report_fit_table(FILE *f, const lt_like *l, const lt_fit_result *r,
     fprintf(f, "best fit of %s (%s) to ", m->name, m->summary);
     lt_report_describe_data(f, l, data);
     fputs("\n\n", f);
-    fprintf(f, "  %-12s %12s %12s   %s\n", "parameter", "best", "+-sigma", "prior");
+    /* names like color_mean@GROUP widen the first column */
+    int w = 12;
+    for (size_t i = 0; i < r->dim; i++)
+        w = (int)fmax(w, (double)strlen(lt_like_param_name(l, i)));
+    fprintf(f, "  %-*s %12s %12s   %s\n", w, "parameter", "best", "+-sigma", "prior");
     char sd[32];
     size_t edges = 0;
     for (size_t i = 0; i < r->dim; i++) {
@@ -365,19 +369,19 @@ void lt_report_fit_table(FILE *f, const lt_like *l, const lt_fit_result *r,
             snprintf(sd, sizeof sd, "%s %.4g", r->edge[i] < 0 ? "<" : ">", r->limit[i]);
         else
             sigma_text(r->sd[i], sd, sizeof sd);
-        fprintf(f, "  %-12s %12.6g %12s   %s\n", lt_like_param_name(l, i), r->best[i], sd,
+        fprintf(f, "  %-*s %12.6g %12s   %s\n", w, lt_like_param_name(l, i), r->best[i], sd,
                 prior);
         edges += r->edge[i] != 0;
     }
-    fprintf(f, "\n  %-12s %12s %12s\n", "derived", "best", "+-sigma");
+    fprintf(f, "\n  %-*s %12s %12s\n", w, "derived", "best", "+-sigma");
     for (int k = 0; k < LT_NDER; k++)
         if (r->has_der[k])
-            fprintf(f, "  %-12s %12.6g %12s\n", lt_derived_name(k), r->der_best[k],
+            fprintf(f, "  %-*s %12.6g %12s\n", w, lt_derived_name(k), r->der_best[k],
                     sigma_text(r->der_sd[k], sd, sizeof sd));
     if (r->has_pivot) {
-        fprintf(f, "  %-12s %12.6g %12s\n", "w_pivot", r->w_pivot,
+        fprintf(f, "  %-*s %12.6g %12s\n", w, "w_pivot", r->w_pivot,
                 sigma_text(r->w_pivot_sd, sd, sizeof sd));
-        fprintf(f, "  %-12s %12.6g\n", "z_pivot", r->z_pivot);
+        fprintf(f, "  %-*s %12.6g\n", w, "z_pivot", r->z_pivot);
     }
     lt_cosmo_params base = *lt_like_base(l);
     int first = 1;

@@ -220,7 +220,10 @@ void lt_report_sample_table(FILE *f, const lt_like *l, const lt_posterior *r,
     fprintf(f, "posterior of %s (%s) given ", lt_like_model(l)->name, lt_like_model(l)->summary);
     lt_report_describe_data(f, l, data);
     fputs("\n\n", f);
-    fprintf(f, "  %-10s %11s %10s %11s %23s %23s %7s %7s\n", "parameter", "mean", "sd", "best",
+    int w = 10; /* names like color_mean@GROUP widen the first column */
+    for (size_t k = 0; k < r->nparams + r->nderived; k++)
+        w = (int)fmax(w, (double)strlen(r->cols[r->first_param + k]));
+    fprintf(f, "  %-*s %11s %10s %11s %23s %23s %7s %7s\n", w, "parameter", "mean", "sd", "best",
             "68% interval", "95% interval", "R-hat", "ESS");
     for (size_t k = 0; k < r->nparams + r->nderived; k++) {
         size_t col = r->first_param + k;
@@ -228,7 +231,7 @@ void lt_report_sample_table(FILE *f, const lt_like *l, const lt_posterior *r,
         double best = k < r->nparams ? r->best[k] : r->best_derived[k - r->nparams];
         if (k == r->nparams)
             fprintf(f, "  derived\n");
-        fprintf(f, "  %-10s %11.5g %10.4g %11.5g   [%9.5g, %9.5g]   [%9.5g, %9.5g]", r->cols[col],
+        fprintf(f, "  %-*s %11.5g %10.4g %11.5g   [%9.5g, %9.5g]   [%9.5g, %9.5g]", w, r->cols[col],
                 st->mean, st->sd, best, st->lo68, st->hi68, st->lo95, st->hi95);
         if (k < r->nparams && r->method == LT_POST_IMPORTANCE)
             fprintf(f, " %7s %7.0f", "-", r->ess_weighted[k]);

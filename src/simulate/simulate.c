@@ -60,17 +60,29 @@ static int read_survey_section(lt_ini *ini, lt_scenario *sc, lt_error *err)
         sc->kind = LT_OBS_MAG;
     else if (!strcmp(obs, "dl"))
         sc->kind = LT_OBS_DL;
+    else if (!strcmp(obs, "mb"))
+        sc->kind = LT_OBS_MB;
     else
         return lt_error_set(err, LT_EINPUT, ini->path, oe ? oe->line : 0,
-                            "observable = '%s': use mu, mag or dl", obs);
+                            "observable = '%s': use mu, mag, dl or mb (light curves)", obs);
     sc->offset = -19.3; /* a typical SN Ia absolute magnitude (common practice) */
     sc->intrinsic = 0.1;
     sc->velocity_dispersion = 300.0;
     sc->solar_motion = 369.0;
     lt_ini_entry *off = lt_ini_get(ini, "survey", "offset");
-    if (off && sc->kind != LT_OBS_MAG)
+    if (off && sc->kind != LT_OBS_MAG && sc->kind != LT_OBS_MB)
         return lt_error_set(err, LT_EINPUT, ini->path, off->line,
-                            "offset (the absolute magnitude) applies to observable = mag only");
+                            "offset (the absolute magnitude) applies to observable = mag or "
+                            "mb only");
+    /* the standardisation of common practice (Betoule et al. 2014: alpha
+     * 0.141, beta 3.101, a host-mass step of -0.07 at 10^10 M_sun) */
+    sc->alpha = 0.14, sc->beta = 3.1, sc->gamma = -0.07, sc->mass_split = 10.0;
+    if (sc->kind == LT_OBS_MB &&
+        ((rc = lt_ini_double(ini, "survey", "alpha", 0, &sc->alpha, err)) ||
+         (rc = lt_ini_double(ini, "survey", "beta", 0, &sc->beta, err)) ||
+         (rc = lt_ini_double(ini, "survey", "gamma", 0, &sc->gamma, err)) ||
+         (rc = lt_ini_double(ini, "survey", "mass_split", 0, &sc->mass_split, err))))
+        return rc;
     if ((rc = lt_ini_double(ini, "survey", "offset", 0, &sc->offset, err)) ||
         (rc = lt_ini_double(ini, "survey", "intrinsic_scatter", 0, &sc->intrinsic, err)) ||
         (rc = lt_ini_double(ini, "survey", "velocity_dispersion", 0, &sc->velocity_dispersion,
@@ -116,7 +128,58 @@ static int read_cosmology_section(lt_ini *ini, lt_scenario *sc, lt_error *err)
     return LT_OK;
 }
 
-static int read_tier(lt_ini *ini, const char *section, lt_sim_tier *t, lt_error *err)
+/* A light-curve tier's keys (observable = mb); other scenarios leave them
+ * unread, so lt_ini_check_used refuses them. */
+static int read_lightcurve_tier(lt_ini *ini, const char *section, const lt_scenario *sc,
+                                lt_sim_tier *t, long line, lt_error *err)
+{
+    int rc;
+    const char *cal = "no";
+    /* populations like those of the JLA samples (x1 spread about 1, colour
+     * about 0.1, host masses about 10 +- 0.6; from memory) */
+    t->intrinsic = sc->intrinsic;
+    t->x1_mean = 0.0, t->x1_sd = 1.0, t->color_mean = 0.0, t->color_sd = 0.1;
+    t->err_x1 = 0.1, t->err_color = 0.03, t->mass_mean = 10.0, t->mass_sd = 0.6;
+    t->calib_error = 0.05;
+    struct {
+        const char *key;
+        double *v;
+        int positive; /* > 0; else >= 0 */
+    } k[] = {{"intrinsic_scatter", &t->intrinsic, 0}, {"x1_mean", &t->x1_mean, -1},
+             {"x1_sd", &t->x1_sd, 0},                 {"color_mean", &t->color_mean, -1},
+             {"color_sd", &t->color_sd, 0},           {"err_x1", &t->err_x1, 1},
+             {"err_color", &t->err_color, 1},         {"mass_mean", &t->mass_mean, -1},
+             {"mass_sd", &t->mass_sd, 0},             {"calib_error", &t->calib_error, 1}};
+    for (size_t i = 0; i < sizeof k / sizeof k[0]; i++) {
+        if ((rc = lt_ini_double(ini, section, k[i].key, 0, k[i].v, err)))
+            return rc;
+        if ((k[i].positive > 0 && !(*k[i].v > 0.0)) || (k[i].positive == 0 && !(*k[i].v >= 0.0))) {
+            lt_ini_entry *e = lt_ini_get(ini, section, k[i].key);
+            return lt_error_set(err, LT_EINPUT, ini->path, e ? e->line : line,
+                                "[%s]: %s must be %s 0", section, k[i].key,
+                                k[i].positive > 0 ? ">" : ">=");
+        }
+    }
+    if ((rc = lt_ini_string(ini, section, "calibrators", 0, &cal, err)))
+        return rc;
+    if (strcmp(cal, "yes") && strcmp(cal, "no"))
+        return lt_error_set(err, LT_EINPUT, ini->path,
+                            lt_ini_get(ini, section, "calibrators")->line,
+                            "calibrators = '%s': use yes or no", cal);
+    t->calibrators = !strcmp(cal, "yes");
+    /* the tier names the group column, whose labels become parameter
+     * names (sigma_int@TIER) */
+    const char *name = section + 5;
+    if (strlen(name) > LT_GROUP_NAME_MAX || strpbrk(name, "=:,.@ \t"))
+        return lt_error_set(err, LT_EINPUT, ini->path, line,
+                            "[%s]: a light-curve tier's name is its group label (sigma_int@%s): "
+                            "1 to %d characters, none of = : , . @ or blanks",
+                            section, name, LT_GROUP_NAME_MAX);
+    return LT_OK;
+}
+
+static int read_tier(lt_ini *ini, const char *section, const lt_scenario *sc, lt_sim_tier *t,
+                     lt_error *err)
 {
     int rc;
     const char *spread = "volume";
@@ -139,6 +202,8 @@ static int read_tier(lt_ini *ini, const char *section, lt_sim_tier *t, lt_error 
     if (t->error < 0 || t->calibration < 0)
         return lt_error_set(err, LT_EINPUT, ini->path, line,
                             "[%s]: error and calibration must be >= 0", section);
+    if (sc->kind == LT_OBS_MB && (rc = read_lightcurve_tier(ini, section, sc, t, line, err)))
+        return rc;
     if (!strcmp(spread, "volume"))
         t->volume = 1;
     else if (!strcmp(spread, "uniform"))
@@ -208,7 +273,7 @@ int lt_scenario_from_ini(lt_ini *ini, lt_scenario *sc, lt_error *err)
         memset(&sc->tiers[sc->ntiers], 0, sizeof *nt);
         sc->ntiers++;
         ini->section_used[i] = 1;
-        if ((rc = read_tier(ini, ini->sections[i], &sc->tiers[sc->ntiers - 1], err)))
+        if ((rc = read_tier(ini, ini->sections[i], sc, &sc->tiers[sc->ntiers - 1], err)))
             goto done;
     }
     if (sc->ntiers == 0) {
@@ -231,6 +296,50 @@ done:
     return rc;
 }
 
+double lt_scenario_truth(const lt_scenario *sc, const char *name, double h0_fixed)
+{
+    lt_cosmo_params p = sc->params;
+    if (!strcmp(name, "offset")) {
+        if (sc->kind != LT_OBS_MAG && sc->kind != LT_OBS_MB)
+            return 0.0;
+        /* with h0 held at h0_fixed the offset absorbs 5 log10(h0_fixed / h0) */
+        return isnan(h0_fixed) ? sc->offset : sc->offset + 5.0 * log10(h0_fixed / p.h0);
+    }
+    int id = lt_cosmo_param_find(name);
+    if (id >= 0)
+        return *lt_cosmo_params_slot(&p, id);
+    if (sc->kind != LT_OBS_MB)
+        return NAN;
+    if (!strcmp(name, "alpha"))
+        return sc->alpha;
+    if (!strcmp(name, "beta"))
+        return sc->beta;
+    if (!strcmp(name, "gamma"))
+        return sc->gamma;
+    /* a tier's own: NAME@TIER, or NAME where all tiers agree */
+    char base[64];
+    snprintf(base, sizeof base, "%s", name);
+    char *at = strchr(base, '@');
+    if (at)
+        *at++ = '\0';
+    double v = NAN;
+    for (size_t t = 0; t < sc->ntiers; t++) {
+        const lt_sim_tier *tr = &sc->tiers[t];
+        if (at && strcmp(at, tr->name))
+            continue;
+        double x = !strcmp(base, "sigma_int")    ? tr->intrinsic
+                   : !strcmp(base, "x1_mean")    ? tr->x1_mean
+                   : !strcmp(base, "x1_sd")      ? tr->x1_sd
+                   : !strcmp(base, "color_mean") ? tr->color_mean
+                   : !strcmp(base, "color_sd")   ? tr->color_sd
+                                                 : NAN;
+        if (isnan(x) || (!isnan(v) && x != v))
+            return NAN;
+        v = x;
+    }
+    return v;
+}
+
 void lt_sim_free(lt_sim *sim)
 {
     lt_survey_free(sim->survey);
@@ -239,6 +348,8 @@ void lt_sim_free(lt_sim *sim)
     free(sim->calib);
     free(sim->modes);
     free(sim->amplitude);
+    free(sim->x1_true);
+    free(sim->color_true);
     memset(sim, 0, sizeof *sim);
 }
 
@@ -304,6 +415,55 @@ static int draw_redshifts(const lt_cosmo *c, const lt_sim_tier *t, gsl_rng *r, d
     return LT_OK;
 }
 
+/* The light-curve columns of survey s (n objects) and sim's true x1 and
+ * colour; -1 when out of memory (lt_sim_free frees what was made). */
+static int lightcurve_alloc(lt_survey *s, lt_sim *sim)
+{
+    size_t n = s->n ? s->n : 1;
+    lt_lightcurve *lc = s->lc = calloc(1, sizeof *lc);
+    if (!lc)
+        return -1;
+    double **arr[] = {&lc->x1,       &lc->color,      &lc->mass,         &lc->err_x1,
+                      &lc->err_color, &lc->calib_mu, &lc->err_calib_mu, &sim->x1_true,
+                      &sim->color_true};
+    for (size_t k = 0; k < sizeof arr / sizeof arr[0]; k++)
+        if (!(*arr[k] = malloc(n * sizeof **arr[k])))
+            return -1;
+    lc->calibrator = calloc(n, sizeof *lc->calibrator);
+    lc->group = calloc(n, sizeof *lc->group);
+    return lc->calibrator && lc->group ? 0 : -1;
+}
+
+/* One light-curve object i of tier t: its true x1, colour and host mass,
+ * its noise in mb (all but the measurement error's scale, which is
+ * sigma[i] = error_t, the file's err_mb) and its observed x1 and colour.
+ * A calibrator's distance error is drawn here and added to mu later. */
+static int draw_lightcurve(const lt_sim_tier *tier, size_t t, size_t i, double pv, gsl_rng *r,
+                           lt_sim *out, double *noise, double *sigma)
+{
+    lt_lightcurve *lc = out->survey->lc;
+    double z = out->survey->z[i];
+    double xt = tier->x1_mean + tier->x1_sd * gsl_ran_gaussian(r, 1.0);
+    double ct = tier->color_mean + tier->color_sd * gsl_ran_gaussian(r, 1.0);
+    lc->mass[i] = tier->mass_mean + tier->mass_sd * gsl_ran_gaussian(r, 1.0);
+    double g_int = gsl_ran_gaussian(r, 1.0), g_pv = gsl_ran_gaussian(r, 1.0),
+           g_lens = gsl_ran_gaussian(r, 1.0), g_mb = gsl_ran_gaussian(r, 1.0),
+           g_x1 = gsl_ran_gaussian(r, 1.0), g_c = gsl_ran_gaussian(r, 1.0),
+           g_cal = gsl_ran_gaussian(r, 1.0);
+    int cal = tier->calibrators;
+    noise[i] = g_int * tier->intrinsic + g_mb * tier->error + out->calib[t] +
+               (cal ? 0.0 : g_pv * pv + g_lens * 0.055 * z); /* lensing: Jonsson et al. 2010 */
+    sigma[i] = tier->error;
+    out->x1_true[i] = xt, out->color_true[i] = ct;
+    lc->x1[i] = xt + tier->err_x1 * g_x1, lc->err_x1[i] = tier->err_x1;
+    lc->color[i] = ct + tier->err_color * g_c, lc->err_color[i] = tier->err_color;
+    lc->calibrator[i] = cal;
+    lc->ncalibrators += (size_t)cal;
+    lc->calib_mu[i] = cal ? g_cal * tier->calib_error : NAN; /* mu added with the truth */
+    lc->err_calib_mu[i] = cal ? tier->calib_error : NAN;
+    return (lc->group[i] = strdup(tier->name)) ? 0 : -1;
+}
+
 int lt_simulate(const lt_scenario *sc, lt_sim *out, lt_error *err)
 {
     memset(out, 0, sizeof *out);
@@ -338,7 +498,7 @@ int lt_simulate(const lt_scenario *sc, lt_sim *out, lt_error *err)
     out->amplitude = malloc(nt * sizeof *out->amplitude);
     if (!s || !r || !dm || !sigma || !noise || !s->z || !s->zhel || !s->obs || !s->err ||
         !s->id || !s->row || !out->tier || !out->truth || !out->calib || !out->modes ||
-        !out->amplitude) {
+        !out->amplitude || (sc->kind == LT_OBS_MB && lightcurve_alloc(s, out))) {
         rc = lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory for %zu objects", n);
         goto done;
     }
@@ -362,10 +522,18 @@ int lt_simulate(const lt_scenario *sc, lt_sim *out, lt_error *err)
             s->zhel[i] = (1.0 + z) * (1.0 + sc->solar_motion * cos_theta / c_km_s) - 1.0;
             double pv = k5 * (sc->velocity_dispersion / c_km_s) * (1.0 + z) /
                         (z * (1.0 + 0.5 * z));
-            double g1 = gsl_ran_gaussian(r, 1.0), g2 = gsl_ran_gaussian(r, 1.0),
-                   g3 = gsl_ran_gaussian(r, 1.0);
-            noise[i] = g1 * tier->error + g2 * sc->intrinsic + g3 * pv + out->calib[t];
-            sigma[i] = sqrt(tier->error * tier->error + sc->intrinsic * sc->intrinsic + pv * pv);
+            if (sc->kind == LT_OBS_MB) {
+                if (draw_lightcurve(tier, t, i, pv, r, out, noise, sigma)) {
+                    rc = lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
+                    goto done;
+                }
+            } else {
+                double g1 = gsl_ran_gaussian(r, 1.0), g2 = gsl_ran_gaussian(r, 1.0),
+                       g3 = gsl_ran_gaussian(r, 1.0);
+                noise[i] = g1 * tier->error + g2 * sc->intrinsic + g3 * pv + out->calib[t];
+                sigma[i] =
+                    sqrt(tier->error * tier->error + sc->intrinsic * sc->intrinsic + pv * pv);
+            }
             out->tier[i] = t;
             s->row[i] = (long)i + 1;
             char id[96];
@@ -398,6 +566,17 @@ int lt_simulate(const lt_scenario *sc, lt_sim *out, lt_error *err)
             s->obs[i] = dl * pow(10.0, noise[i] / 5.0);
             s->err[i] = lin * sigma[i];
             out->modes[i * nt + t] = lin;
+        } else if (sc->kind == LT_OBS_MB) {
+            /* the noiseless mb of the true x1 and colour */
+            lt_lightcurve *lc = s->lc;
+            double mu = 5.0 * log10(dl) + 25.0;
+            out->truth[i] = mu + sc->offset + sc->gamma * (lc->mass[i] >= sc->mass_split) -
+                            sc->alpha * out->x1_true[i] + sc->beta * out->color_true[i];
+            s->obs[i] = out->truth[i] + noise[i];
+            s->err[i] = sigma[i];
+            if (lc->calibrator[i])
+                lc->calib_mu[i] += mu;
+            out->modes[i * nt + t] = 1.0;
         } else {
             double mu = 5.0 * log10(dl) + 25.0;
             out->truth[i] = mu + (sc->kind == LT_OBS_MAG ? sc->offset : 0.0);

@@ -4,6 +4,7 @@
  * to a temporary name first; only when all are complete are they renamed.
  */
 #include <errno.h>
+#include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -35,6 +36,42 @@ static int close_checked(FILE *f, const char *path, lt_error *err)
     return LT_OK;
 }
 
+/* The numeric columns of the table after id and tier, in order: z, zhel,
+ * the observable and its error, and for light curves x1, err_x1, color,
+ * err_color, mass and, with calibrators, calibrator (0/1, from icol),
+ * calib_mu and err_calib_mu (NaN for the other rows). */
+typedef struct {
+    const char *name, *unit;
+    const double *v; /* NULL: the calibrator flags */
+} column;
+
+static size_t columns_of(const lt_sim *sim, column *c)
+{
+    const lt_survey *s = sim->survey;
+    const char *u = s->kind == LT_OBS_DL ? "Mpc" : "mag";
+    size_t k = 0;
+    c[k++] = (column){"z", "", s->z};
+    c[k++] = (column){"zhel", "", s->zhel};
+    c[k++] = (column){lt_obs_name(s->kind), u, s->obs};
+    c[k++] = (column){s->kind == LT_OBS_MB ? "err_mb" : "err", u, s->err};
+    const lt_lightcurve *lc = s->lc;
+    if (!lc)
+        return k;
+    c[k++] = (column){"x1", "", lc->x1};
+    c[k++] = (column){"err_x1", "", lc->err_x1};
+    c[k++] = (column){"color", "mag", lc->color};
+    c[k++] = (column){"err_color", "mag", lc->err_color};
+    c[k++] = (column){"mass", "log10(Msun)", lc->mass};
+    if (lc->ncalibrators) {
+        c[k++] = (column){"calibrator", "", NULL};
+        c[k++] = (column){"calib_mu", "mag", lc->calib_mu};
+        c[k++] = (column){"err_calib_mu", "mag", lc->err_calib_mu};
+    }
+    return k;
+}
+
+enum { MAX_COLUMNS = 16 };
+
 static int write_csv(const lt_sim *sim, const lt_scenario *sc, const char *path,
                      lt_error *err)
 {
@@ -42,16 +79,23 @@ static int write_csv(const lt_sim *sim, const lt_scenario *sc, const char *path,
     if (!f)
         return lt_error_set(err, LT_EIO, path, 0, "cannot write: %s", strerror(errno));
     const lt_survey *s = sim->survey;
-    fprintf(f, "id,tier,z,zhel,%s,err\n", lt_obs_name(s->kind));
+    column col[MAX_COLUMNS];
+    size_t nc = columns_of(sim, col);
+    fputs("id,tier", f);
+    for (size_t k = 0; k < nc; k++)
+        fprintf(f, ",%s", col[k].name);
+    fputc('\n', f);
     for (size_t i = 0; i < s->n; i++) {
-        fprintf(f, "%s,%s,", s->id[i], sc->tiers[sim->tier[i]].name);
-        put_double(f, s->z[i]);
-        fputc(',', f);
-        put_double(f, s->zhel[i]);
-        fputc(',', f);
-        put_double(f, s->obs[i]);
-        fputc(',', f);
-        put_double(f, s->err[i]);
+        fprintf(f, "%s,%s", s->id[i], sc->tiers[sim->tier[i]].name);
+        for (size_t k = 0; k < nc; k++) {
+            fputc(',', f);
+            if (!col[k].v)
+                fputc(s->lc->calibrator[i] ? '1' : '0', f);
+            else if (isnan(col[k].v[i]))
+                fputs("nan", f); /* a placeholder the reader accepts there */
+            else
+                put_double(f, col[k].v[i]);
+        }
         fputc('\n', f);
     }
     return close_checked(f, path, err);
@@ -92,16 +136,22 @@ static int write_fits_table(const lt_sim *sim, const lt_scenario *sc, const char
     char fid[24], ftier[24];
     snprintf(fid, sizeof fid, "%zuA", wid);
     snprintf(ftier, sizeof ftier, "%zuA", wtier);
-    char *ttype[] = {"id", "tier", "z", "zhel", (char *)lt_obs_name(s->kind), "err"};
-    char *tform[] = {fid, ftier, "1D", "1D", "1D", "1D"};
-    char *tunit[] = {"", "", "", "", s->kind == LT_OBS_DL ? "Mpc" : "mag",
-                     s->kind == LT_OBS_DL ? "Mpc" : "mag"};
+    column col[MAX_COLUMNS];
+    size_t nc = columns_of(sim, col);
+    char *ttype[MAX_COLUMNS + 2] = {"id", "tier"}, *tform[MAX_COLUMNS + 2] = {fid, ftier},
+         *tunit[MAX_COLUMNS + 2] = {"", ""};
+    for (size_t k = 0; k < nc; k++) {
+        ttype[k + 2] = (char *)col[k].name;
+        tform[k + 2] = col[k].v ? "1D" : "1J";
+        tunit[k + 2] = (char *)col[k].unit;
+    }
     fitsfile *f = NULL;
     int status = 0;
     remove(path);
     if (fits_create_file(&f, path, &status))
         return fits_error(path, status, err);
-    fits_create_tbl(f, BINARY_TBL, (LONGLONG)s->n, 6, ttype, tform, tunit, "SURVEY", &status);
+    fits_create_tbl(f, BINARY_TBL, (LONGLONG)s->n, (int)nc + 2, ttype, tform, tunit, "SURVEY",
+                    &status);
     provenance(f, sc, &status);
     char **tiers = malloc(s->n * sizeof *tiers);
     if (!tiers) {
@@ -112,10 +162,14 @@ static int write_fits_table(const lt_sim *sim, const lt_scenario *sc, const char
         tiers[i] = sc->tiers[sim->tier[i]].name;
     fits_write_col(f, TSTRING, 1, 1, 1, (LONGLONG)s->n, s->id, &status);
     fits_write_col(f, TSTRING, 2, 1, 1, (LONGLONG)s->n, tiers, &status);
-    fits_write_col(f, TDOUBLE, 3, 1, 1, (LONGLONG)s->n, s->z, &status);
-    fits_write_col(f, TDOUBLE, 4, 1, 1, (LONGLONG)s->n, s->zhel, &status);
-    fits_write_col(f, TDOUBLE, 5, 1, 1, (LONGLONG)s->n, s->obs, &status);
-    fits_write_col(f, TDOUBLE, 6, 1, 1, (LONGLONG)s->n, s->err, &status);
+    for (size_t k = 0; k < nc; k++) {
+        if (col[k].v)
+            fits_write_col(f, TDOUBLE, (int)k + 3, 1, 1, (LONGLONG)s->n, (double *)col[k].v,
+                           &status);
+        else
+            fits_write_col(f, TINT, (int)k + 3, 1, 1, (LONGLONG)s->n, s->lc->calibrator,
+                           &status);
+    }
     free(tiers);
     int st2 = 0;
     fits_close_file(f, status ? &st2 : &status);
@@ -204,6 +258,21 @@ static int write_modes(const lt_sim *sim, const lt_scenario *sc, const char *pat
     return close_checked(f, path, err);
 }
 
+void lt_sim_columns(const lt_sim *sim, char *buf, size_t size)
+{
+    const lt_survey *s = sim->survey;
+    if (s->kind == LT_OBS_MB)
+        snprintf(buf, size,
+                 "z=z,zhel=zhel,mb=mb,err_mb=err_mb,x1=x1,err_x1=err_x1,color=color,"
+                 "err_color=err_color,mass=mass,group=tier,id=id%s",
+                 s->lc->ncalibrators
+                     ? ",calibrator=calibrator,calib_mu=calib_mu,err_calib_mu=err_calib_mu"
+                     : "");
+    else
+        snprintf(buf, size, "z=z,zhel=zhel,%s=%s,err=err,id=id", lt_obs_name(s->kind),
+                 lt_obs_name(s->kind));
+}
+
 const char *lt_sim_cov_name(size_t n)
 {
     if (n > LT_SIM_DENSE_MAX)
@@ -226,8 +295,14 @@ static int write_truth(const lt_sim *sim, const lt_scenario *sc, const char *cov
         if (lt_cosmo_model_uses(sc->model, id) || id == LT_P_OMEGA_DE)
             cJSON_AddItemToObject(p, lt_cosmo_param_name(id), lt_json_number(*lt_cosmo_params_slot(&q, id)));
     cJSON_AddItemToObject(p, "omega_k", lt_json_number(c.omega_k));
-    if (sc->kind == LT_OBS_MAG)
+    if (sc->kind == LT_OBS_MAG || sc->kind == LT_OBS_MB)
         cJSON_AddItemToObject(p, "offset", lt_json_number(sc->offset));
+    if (sc->kind == LT_OBS_MB) {
+        cJSON_AddItemToObject(p, "alpha", lt_json_number(sc->alpha));
+        cJSON_AddItemToObject(p, "beta", lt_json_number(sc->beta));
+        cJSON_AddItemToObject(p, "gamma", lt_json_number(sc->gamma));
+        cJSON_AddItemToObject(p, "mass_split", lt_json_number(sc->mass_split));
+    }
     cJSON_AddStringToObject(o, "observable", lt_obs_name(sc->kind));
     cJSON_AddItemToObject(o, "n_data", lt_json_number((double)sim->n));
     cJSON_AddItemToObject(o, "intrinsic_scatter", lt_json_number(sc->intrinsic));
@@ -245,6 +320,21 @@ static int write_truth(const lt_sim *sim, const lt_scenario *sc, const char *cov
         cJSON_AddItemToObject(x, "calibration", lt_json_number(tr->calibration));
         cJSON_AddItemToObject(x, "calibration_offset_drawn", lt_json_number(sim->calib[t]));
         cJSON_AddStringToObject(x, "spread", tr->volume ? "volume" : "uniform");
+        if (sc->kind == LT_OBS_MB) {
+            struct {
+                const char *key;
+                double v;
+            } k[] = {{"intrinsic_scatter", tr->intrinsic}, {"x1_mean", tr->x1_mean},
+                     {"x1_sd", tr->x1_sd},                 {"color_mean", tr->color_mean},
+                     {"color_sd", tr->color_sd},           {"err_x1", tr->err_x1},
+                     {"err_color", tr->err_color},         {"mass_mean", tr->mass_mean},
+                     {"mass_sd", tr->mass_sd}};
+            for (size_t m = 0; m < sizeof k / sizeof k[0]; m++)
+                cJSON_AddItemToObject(x, k[m].key, lt_json_number(k[m].v));
+            cJSON_AddBoolToObject(x, "calibrators", tr->calibrators);
+            if (tr->calibrators)
+                cJSON_AddItemToObject(x, "calib_error", lt_json_number(tr->calib_error));
+        }
         cJSON_AddItemToArray(tiers, x);
     }
     cJSON *files = cJSON_AddObjectToObject(o, "files");
@@ -255,9 +345,8 @@ static int write_truth(const lt_sim *sim, const lt_scenario *sc, const char *cov
     else
         cJSON_AddNullToObject(files, "covariance");
     cJSON_AddStringToObject(files, "modes", "modes.csv");
-    char columns[64];
-    snprintf(columns, sizeof columns, "z=z,zhel=zhel,%s=%s,err=err,id=id",
-             lt_obs_name(sc->kind), lt_obs_name(sc->kind));
+    char columns[LT_SIM_COLUMNS_MAX];
+    lt_sim_columns(sim, columns, sizeof columns);
     cJSON_AddStringToObject(files, "columns", columns);
     char *text = cJSON_Print(o);
     cJSON_Delete(o);

@@ -3,6 +3,7 @@
  * written files read back bit for bit, dense and mode forms of the same
  * covariance, and scenario-file errors.
  */
+#include <math.h>
 #include <setjmp.h>
 #include <stdarg.h>
 #include <stddef.h>
@@ -267,6 +268,155 @@ static void test_distance_data(void **state)
     lt_scenario_free(&sc);
 }
 
+/* Light curves (observable = mb): the generative model of the latent
+ * standardisation. With 30000 objects per tier: the observed x1 and colour
+ * have the population means and variances plus the measurement variance
+ * (means within 4 standard errors; variances within 4 sd of a sample
+ * variance, sqrt(2/N) relative); mb minus its noiseless value given the
+ * true x1 and colour has the variance of the noise model; calibrators hold
+ * calib_mu = mu + N(0, calib_error) and no velocity or lensing scatter;
+ * the files read back with the printed columns; and the truth of every
+ * fitted name. The variances are the model's, written out here (common
+ * practice for a Gaussian sum; no outside source needed). */
+static const char *lightcurves =
+    "[survey]\nseed = 12\nobservable = mb\noffset = -19.2\nalpha = 0.15\nbeta = 3.0\n"
+    "gamma = -0.05\nmass_split = 10.2\nvelocity_dispersion = 200\n"
+    "[cosmology]\nmodel = lcdm-flat\nh0 = 72\nomega_m = 0.3\n"
+    "[tier.cal]\nz_min = 0.004\nz_max = 0.01\ncount = 30000\nerror = 0.07\n"
+    "intrinsic_scatter = 0.08\ncalibrators = yes\ncalib_error = 0.04\nspread = uniform\n"
+    "[tier.flow]\nz_min = 0.05\nz_max = 0.8\ncount = 30000\nerror = 0.1\n"
+    "x1_mean = 0.4\nx1_sd = 0.9\ncolor_mean = -0.03\ncolor_sd = 0.08\nerr_x1 = 0.2\n"
+    "err_color = 0.05\nmass_mean = 10.3\nmass_sd = 0.5\ncalibration = 0.02\n";
+
+static void test_lightcurves(void **state)
+{
+    (void)state;
+    lt_scenario sc;
+    lt_sim sim;
+    simulate(lightcurves, &sc, &sim);
+    const lt_survey *s = sim.survey;
+    const lt_lightcurve *lc = s->lc;
+    assert_int_equal(s->kind, LT_OBS_MB);
+    assert_non_null(lc);
+    assert_int_equal(lc->ncalibrators, 30000);
+    for (size_t t = 0; t < 2; t++) {
+        const lt_sim_tier *tr = &sc.tiers[t];
+        double n = 0, sx = 0, sxx = 0, sc_ = 0, scc = 0, sm = 0, smm = 0, hi = 0, sr = 0, srr = 0;
+        for (size_t i = 0; i < sim.n; i++) {
+            if (sim.tier[i] != t)
+                continue;
+            double x = lc->x1[i], c = lc->color[i], m = lc->mass[i], z = s->z[i];
+            n += 1, sx += x, sxx += x * x, sc_ += c, scc += c * c, sm += m, smm += m * m;
+            hi += m >= 10.2;
+            assert_string_equal(lc->group[i], tr->name);
+            assert_true(lc->calibrator[i] == tr->calibrators);
+            assert_true(s->err[i] == tr->error && lc->err_x1[i] == tr->err_x1 &&
+                        lc->err_color[i] == tr->err_color);
+            /* mb's noise about its noiseless value, less the tier's offset */
+            double d = (s->obs[i] - sim.truth[i] - sim.calib[t]);
+            double pv = 5 / log(10.0) * 200 / 299792.458 * (1 + z) / (z * (1 + z / 2));
+            double v = tr->error * tr->error + tr->intrinsic * tr->intrinsic +
+                       (tr->calibrators ? 0.0 : pv * pv + 0.055 * z * 0.055 * z);
+            sr += d / sqrt(v), srr += d * d / v;
+            if (tr->calibrators) /* calib_mu itself: below */
+                assert_true(lc->err_calib_mu[i] == 0.04);
+            else
+                assert_true(isnan(lc->calib_mu[i]) && isnan(lc->err_calib_mu[i]));
+        }
+        double mx = sx / n, vx = sxx / n - mx * mx, mc = sc_ / n, vc = scc / n - mc * mc;
+        double mm = sm / n, vm = smm / n - mm * mm;
+        double wx = tr->x1_sd * tr->x1_sd + tr->err_x1 * tr->err_x1;
+        double wc = tr->color_sd * tr->color_sd + tr->err_color * tr->err_color;
+        assert_abs(mx, tr->x1_mean, 4 * sqrt(wx / n));
+        assert_abs(mc, tr->color_mean, 4 * sqrt(wc / n));
+        assert_abs(mm, tr->mass_mean, 4 * tr->mass_sd / sqrt(n));
+        assert_rel(vx, wx, 4 * sqrt(2 / n));
+        assert_rel(vc, wc, 4 * sqrt(2 / n));
+        assert_rel(vm, tr->mass_sd * tr->mass_sd, 4 * sqrt(2 / n));
+        double pm = sr / n, pv2 = srr / n - pm * pm;
+        assert_abs(pm, 0.0, 4 / sqrt(n));
+        assert_abs(pv2, 1.0, 4 * sqrt(2 / n));
+        /* the host-mass fraction above the split: Phi((mean - split) / sd) */
+        double frac = 0.5 * erfc(-(tr->mass_mean - 10.2) / (tr->mass_sd * sqrt(2.0)));
+        assert_abs(hi / n, frac, 4 * sqrt(frac * (1 - frac) / n));
+    }
+    /* calibrators: calib_mu - mu ~ N(0, calib_error), mu from the truth */
+    double sum = 0, sum2 = 0, n = 0;
+    for (size_t i = 0; i < sim.n; i++) {
+        if (!lc->calibrator[i])
+            continue;
+        double m = lc->mass[i];
+        double mu = sim.truth[i] - (-19.2 - 0.05 * (m >= 10.2) - 0.15 * sim.x1_true[i] +
+                                    3.0 * sim.color_true[i]);
+        double d = (lc->calib_mu[i] - mu) / 0.04;
+        sum += d, sum2 += d * d, n += 1;
+    }
+    assert_abs(sum / n, 0.0, 4 / sqrt(n));
+    assert_abs(sum2 / n - (sum / n) * (sum / n), 1.0, 4 * sqrt(2 / n));
+    /* the truths a campaign compares fits with */
+    assert_true(lt_scenario_truth(&sc, "alpha", NAN) == 0.15);
+    assert_true(lt_scenario_truth(&sc, "beta", NAN) == 3.0);
+    assert_true(lt_scenario_truth(&sc, "gamma", NAN) == -0.05);
+    assert_true(lt_scenario_truth(&sc, "h0", NAN) == 72);
+    assert_true(lt_scenario_truth(&sc, "offset", NAN) == -19.2);
+    /* h0 held at 70: the offset absorbs 5 log10(70/72) */
+    assert_rel(lt_scenario_truth(&sc, "offset", 70), -19.2 + 5 * log10(70.0 / 72.0), 1e-15);
+    assert_true(lt_scenario_truth(&sc, "sigma_int@cal", NAN) == 0.08);
+    assert_true(lt_scenario_truth(&sc, "sigma_int@flow", NAN) == 0.1);
+    assert_true(isnan(lt_scenario_truth(&sc, "sigma_int", NAN))); /* the tiers differ */
+    assert_true(lt_scenario_truth(&sc, "x1_mean@flow", NAN) == 0.4);
+    assert_true(lt_scenario_truth(&sc, "color_sd@flow", NAN) == 0.08);
+    assert_true(isnan(lt_scenario_truth(&sc, "x1_mean@nowhere", NAN)));
+    assert_true(isnan(lt_scenario_truth(&sc, "delta", NAN)));
+
+    /* written and read back with the columns simulate prints */
+    char out[512], csv[600], fits[600], columns[LT_SIM_COLUMNS_MAX];
+    snprintf(out, sizeof out, "%s/lc", dir);
+    lt_error err;
+    assert_int_equal(lt_outdir_prepare(out, 0, &err), LT_OK);
+    assert_int_equal(lt_sim_write(&sc, &sim, out, &err), LT_OK);
+    snprintf(csv, sizeof csv, "%s/survey.csv", out);
+    snprintf(fits, sizeof fits, "%s/survey.fits", out);
+    lt_sim_columns(&sim, columns, sizeof columns);
+    const char *files[] = {csv, fits};
+    for (int f = 0; f < 2; f++) {
+        lt_survey_spec spec;
+        lt_survey_spec_init(&spec);
+        spec.data = files[f];
+        spec.columns = columns;
+        lt_survey *r = lt_survey_read(&spec, &err);
+        if (!r)
+            print_error("%s:%ld: %s\n", err.file, err.line, err.msg);
+        assert_non_null(r);
+        assert_int_equal(r->n, sim.n);
+        assert_memory_equal(r->obs, s->obs, sim.n * sizeof(double));
+        assert_memory_equal(r->lc->x1, lc->x1, sim.n * sizeof(double));
+        assert_memory_equal(r->lc->color, lc->color, sim.n * sizeof(double));
+        assert_memory_equal(r->lc->mass, lc->mass, sim.n * sizeof(double));
+        assert_int_equal(r->lc->ncalibrators, 30000);
+        for (size_t i = 0; i < sim.n; i += 101) {
+            assert_string_equal(r->lc->group[i], lc->group[i]);
+            if (lc->calibrator[i])
+                assert_true(r->lc->calib_mu[i] == lc->calib_mu[i]);
+        }
+        lt_survey_free(r);
+    }
+    lt_sim_free(&sim);
+    lt_scenario_free(&sc);
+    /* the same seed, the same light curves */
+    lt_sim again;
+    simulate(lightcurves, &sc, &again);
+    lt_sim first;
+    lt_scenario sc2;
+    simulate(lightcurves, &sc2, &first);
+    assert_memory_equal(again.survey->obs, first.survey->obs, again.n * sizeof(double));
+    assert_memory_equal(again.survey->lc->x1, first.survey->lc->x1, again.n * sizeof(double));
+    lt_sim_free(&again);
+    lt_sim_free(&first);
+    lt_scenario_free(&sc);
+    lt_scenario_free(&sc2);
+}
+
 static void expect_scenario_error(const char *text, long line, const char *what)
 {
     lt_scenario sc;
@@ -312,6 +462,24 @@ static void test_scenario_errors(void **state)
                           "[tier.t]\nz_min = 0.1\nz_max = 0.5\ncount = 5\nerror = 0.1\n"
                           "spread = log\n",
                           10, "spread = 'log'");
+    /* light-curve keys belong to observable = mb */
+    CASE("[survey]\nseed = 1\nobservable = mag\nalpha = 0.1\n[cosmology]\nmodel = lcdm\n", 4,
+         "unknown key 'alpha'");
+    expect_scenario_error("[survey]\nseed = 1\n[cosmology]\nmodel = lcdm\n"
+                          "[tier.t]\nz_min = 0.1\nz_max = 0.5\ncount = 5\nerror = 0.1\n"
+                          "x1_sd = 1\n",
+                          10, "unknown key 'x1_sd'");
+    expect_scenario_error("[survey]\nseed = 1\nobservable = mb\n[cosmology]\nmodel = lcdm\n"
+                          "[tier.a.b]\nz_min = 0.1\nz_max = 0.5\ncount = 5\nerror = 0.1\n",
+                          6, "group label");
+    expect_scenario_error("[survey]\nseed = 1\nobservable = mb\n[cosmology]\nmodel = lcdm\n"
+                          "[tier.t]\nz_min = 0.1\nz_max = 0.5\ncount = 5\nerror = 0.1\n"
+                          "err_color = 0\n",
+                          11, "err_color must be > 0");
+    expect_scenario_error("[survey]\nseed = 1\nobservable = mb\n[cosmology]\nmodel = lcdm\n"
+                          "[tier.t]\nz_min = 0.1\nz_max = 0.5\ncount = 5\nerror = 0.1\n"
+                          "calibrators = maybe\n",
+                          11, "calibrators = 'maybe'");
 #undef CASE
 }
 
@@ -334,7 +502,7 @@ int main(void)
         cmocka_unit_test(test_reproducible),   cmocka_unit_test(test_noise_model),
         cmocka_unit_test(test_peculiar_velocity_limit), cmocka_unit_test(test_volume_spread),
         cmocka_unit_test(test_round_trip),     cmocka_unit_test(test_scenario_errors),
-        cmocka_unit_test(test_distance_data),
+        cmocka_unit_test(test_distance_data), cmocka_unit_test(test_lightcurves),
     };
     return cmocka_run_group_tests_name("simulate", tests, setup, teardown);
 }
