@@ -13,7 +13,11 @@
  * Run files (our own layout; paths are relative to the run file's folder):
  *   [run]          name, models (M1, M2, ...)
  *   [data]         file, columns, cov (comma-separated), modes,
- *                  no_err_diag, zmin, zmax, keep_ids, drop_ids
+ *                  no_err_diag, zmin, zmax, keep_ids, drop_ids (the table);
+ *                  cross_cov, bao, bao_cov, rd, cmb, cmb_cov, standardise,
+ *                  scatter, velocity_dispersion, mass_split
+ *   [survey.NAME]  the table keys of [data], one section per table joined
+ *                  into one survey (then [data] has none of them)
  *   [model]        name, offset (none | marginal | sampled)
  *   [priors]       PARAM = uniform:LO:HI | gauss:MEAN:SD
  *   [fixed]        PARAM = VALUE
@@ -68,7 +72,12 @@ typedef struct lt_job {
     const char *models;  /* [run] models: a comma-separated list */
     const char *probes;  /* [run] probes: combinations, "sn, bao, sn+bao" (NULL: one,
                           * of every term given) */
-    lt_survey_spec data;
+    lt_survey_spec data; /* the table; with several, the first ([survey.NAME] or the
+                          * first --data), data.more pointing at parts */
+    lt_survey_spec parts[LT_SURVEY_MAX_PARTS - 1]; /* the tables after the first */
+    size_t nparts;
+    int data_flags;      /* --data flags so far: the second and later add parts, and
+                          * the table flags after one apply to its table */
     int cov_from_flags;  /* a --cov flag replaced the run file's list */
     const char *bao, *bao_cov; /* [data] bao, bao_cov: the BAO term's files */
     const char *rd;      /* [data] rd: "formula" (the default) or "free" */

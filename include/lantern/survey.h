@@ -77,6 +77,11 @@ void lt_cov_solve(const lt_cov *c, const double *b, double *x, double *work);
 /* The sub-covariance of the objects idx[0..m-1] (in that order), unfactored. */
 lt_cov *lt_cov_select(const lt_cov *c, size_t m, const size_t *idx, lt_error *err);
 
+/* The block-diagonal covariance of np parts (factored or not), unfactored:
+ * their bases on the diagonal (dense if any part's is) and their modes as
+ * columns of their own. */
+lt_cov *lt_cov_join(lt_cov *const *parts, size_t np, lt_error *err);
+
 /* The diagonal C_ii (N values) into out. */
 void lt_cov_diagonal(const lt_cov *c, double *out);
 
@@ -155,7 +160,18 @@ typedef struct lt_survey_spec {
     double zmin, zmax;    /* keep zmin <= z <= zmax; NaN for no cut */
     const char *keep_ids; /* a file of ids to keep (one a line), or NULL */
     const char *drop_ids; /* a file of ids to drop, or NULL */
+    /* Several tables joined into one survey: this one, then more[0..nmore-1]
+     * (each with its own columns, covariances and cuts), in that order. */
+    const char *name;     /* the table's name, the group label of its rows when
+                           * it has no group column (NULL: the file's stem) */
+    const struct lt_survey_spec *more;
+    size_t nmore;
+    const char *cross_cov; /* added to the joined covariance: a matrix over every
+                            * row of every table, in order, before cuts (or NULL) */
 } lt_survey_spec;
+
+/* At most this many tables join into one survey. */
+#define LT_SURVEY_MAX_PARTS 16
 
 void lt_survey_spec_init(lt_survey_spec *s);
 
@@ -218,8 +234,21 @@ typedef struct lt_survey {
  * sqrt(C_ii C_jj); the mean of the two is used) and positive definiteness.
  * Cuts apply to the table and the covariance together.
  */
+/*
+ * With spec->nmore > 0 the tables are read each by its own spec and joined:
+ * rows in order, the covariance block-diagonal (lt_cov_join) plus
+ * spec->cross_cov, every table with the same observable (and, for light
+ * curves, all with a mass column or none). A light-curve row's group is
+ * its table's group column, else the table's name (spec->name, or the
+ * file's stem), which must then be a group label; row numbers stay those
+ * of each table. Warnings are prefixed with the table's name.
+ */
 lt_survey *lt_survey_read(const lt_survey_spec *spec, lt_error *err);
 void lt_survey_free(lt_survey *s);
+
+/* The name of the table spec reads: spec->name, or the file's stem (no
+ * folders, no extension, no FITS [..] suffix), into buf. */
+void lt_survey_spec_name(const lt_survey_spec *spec, char *buf, size_t size);
 
 /* Add a warning (copied) to s; returns LT_ENOMEM on failure. */
 int lt_survey_warn(lt_survey *s, const char *fmt, ...) __attribute__((format(printf, 2, 3)));

@@ -120,6 +120,7 @@ static const rule rules[] = {
     {LT_JOB_DATA, "data", "zmax", "--zmax", K_Z, 0, 0, AT(data.zmax)},
     {LT_JOB_DATA, "data", "keep_ids", "--keep-ids", K_PATH, 0, 0, AT(data.keep_ids)},
     {LT_JOB_DATA, "data", "drop_ids", "--drop-ids", K_PATH, 0, 0, AT(data.drop_ids)},
+    {LT_JOB_DATA, "data", "cross_cov", "--cross-cov", K_PATH, 0, 0, AT(data.cross_cov)},
     {LT_JOB_DATA, "data", "bao", "--bao", K_PATH, 0, 0, AT(bao)},
     {LT_JOB_DATA, "data", "bao_cov", "--bao-cov", K_PATH, 0, 0, AT(bao_cov)},
     {LT_JOB_DATA, "data", "rd", "--rd", K_RD, 0, 0, AT(rd)},
@@ -215,10 +216,46 @@ static int parse_bool(const char *v, int *out)
 
 /* Apply one rule. base: the file relative paths are relative to (NULL for
  * flags). */
+/* The table keys: a table's own (each [survey.NAME] has them; a --data
+ * flag starts a table that the ones after it describe). */
+static int table_key(const rule *r)
+{
+    return r->off >= offsetof(lt_job, data) && r->off < offsetof(lt_job, data) + sizeof(lt_survey_spec) &&
+           r->off != offsetof(lt_job, data.cross_cov);
+}
+
+/* The table a setting describes: the last added by a flag or section. */
+static lt_survey_spec *current_table(lt_job *j)
+{
+    return j->nparts ? &j->parts[j->nparts - 1] : &j->data;
+}
+
+/* A second or later --data flag: a table of its own. The first replaces
+ * the run file's tables (their other keys stay, as for one table). */
+static int data_flag(lt_job *j, const char *origin, lt_error *err)
+{
+    if (j->data_flags++ == 0) {
+        j->nparts = 0, j->data.more = NULL, j->data.nmore = 0, j->data.name = NULL;
+        return LT_OK;
+    }
+    if (j->nparts == LT_SURVEY_MAX_PARTS - 1)
+        return lt_error_set(err, LT_EINPUT, origin, 0, "more than %d tables to join",
+                            LT_SURVEY_MAX_PARTS);
+    lt_survey_spec_init(&j->parts[j->nparts++]);
+    j->data.more = j->parts, j->data.nmore = j->nparts;
+    return LT_OK;
+}
+
 static int apply(lt_job *j, const rule *r, const char *key, const char *value,
                  const char *origin, long line, int from_file, const char *base, lt_error *err)
 {
-    char *slot = (char *)j + r->off;
+    if (!from_file && r->off == offsetof(lt_job, data.data)) {
+        int rc = data_flag(j, origin, err);
+        if (rc)
+            return rc;
+    }
+    lt_survey_spec *table = table_key(r) ? current_table(j) : &j->data;
+    char *slot = table_key(r) ? (char *)table + (r->off - offsetof(lt_job, data)) : (char *)j + r->off;
     if (r->k == K_RD && strcmp(value, "free") && strcmp(value, "formula"))
         return refuse(r, value, origin, line, from_file,
                       "free (sample r_d h) or formula (r_d from omega_b_h2 and omega_m h^2)", err);
@@ -257,30 +294,31 @@ static int apply(lt_job *j, const rule *r, const char *key, const char *value,
     }
     case K_COV:
         if (!from_file) {
-            /* a --cov flag adds to the flags' list, which replaces the file's */
-            if (!j->cov_from_flags)
+            /* a --cov flag adds to the flags' list, which replaces the file's
+             * (a table added by a flag starts with none) */
+            if (table == &j->data && !j->cov_from_flags)
                 j->data.ncov = 0, j->cov_from_flags = 1;
-            if (j->data.ncov == LT_SURVEY_MAX_COV)
+            if (table->ncov == LT_SURVEY_MAX_COV)
                 return lt_error_set(err, LT_EINPUT, origin, 0, "given more than %d times",
                                     LT_SURVEY_MAX_COV);
             const char *s = resolve(j, NULL, value, err);
             if (!s)
                 return LT_ENOMEM;
-            j->data.cov[j->data.ncov++] = s;
+            table->cov[table->ncov++] = s;
             return LT_OK;
         } else {
             char *list = (char *)keep(j, strdup(value), err), *save = NULL;
             if (!list)
                 return LT_ENOMEM;
-            j->data.ncov = 0;
+            table->ncov = 0;
             for (char *p = strtok_r(list, ",", &save); p; p = strtok_r(NULL, ",", &save)) {
                 p = lt_text_trim(p);
                 if (!*p)
                     continue;
-                if (j->data.ncov == LT_SURVEY_MAX_COV)
+                if (table->ncov == LT_SURVEY_MAX_COV)
                     return lt_error_set(err, LT_EINPUT, origin, line,
                                         "cov lists more than %d files", LT_SURVEY_MAX_COV);
-                if (!(j->data.cov[j->data.ncov++] = resolve(j, base, p, err)))
+                if (!(table->cov[table->ncov++] = resolve(j, base, p, err)))
                     return LT_ENOMEM;
             }
             return LT_OK;
@@ -386,6 +424,57 @@ static int apply_section(lt_job *j, lt_ini *ini, const char *s, const char *rs, 
     return LT_OK;
 }
 
+/* The [survey.NAME] sections of ini, in file order: the first is j->data,
+ * the others parts. Only table keys belong there, and then none in
+ * [data]. */
+static int survey_sections(lt_job *j, lt_ini *ini, lt_error *err)
+{
+    size_t count = 0;
+    for (size_t i = 0; i < ini->nsections; i++) {
+        const char *sec = ini->sections[i];
+        if (strncmp(sec, "survey.", 7))
+            continue;
+        long line = ini->section_lines[i];
+        const char *name = sec + 7;
+        if (!*name)
+            return lt_error_set(err, LT_EINPUT, ini->path, line,
+                                "[survey.NAME]: name the table after the dot");
+        for (size_t e = 0; e < ini->n; e++) {
+            const lt_ini_entry *en = &ini->entries[e];
+            const rule *r = find_rule("data", en->key);
+            if (!strcmp(en->section, "data") && r && table_key(r))
+                return lt_error_set(err, LT_EINPUT, ini->path, en->line,
+                                    "[data] %s describes a table, and the run file names its "
+                                    "tables in [survey.NAME] sections: move it into one",
+                                    en->key);
+            if (!strcmp(en->section, sec) && !(r && table_key(r)))
+                return lt_error_set(err, LT_EINPUT, ini->path, en->line,
+                                    "[%s] %s: a survey section takes a table's keys (file, "
+                                    "columns, cov, modes, no_err_diag, zmin, zmax, keep_ids, "
+                                    "drop_ids); %s",
+                                    sec, en->key,
+                                    r ? "this one goes in [data]" : "this one is unknown");
+        }
+        if (count > 0) {
+            if (j->nparts == LT_SURVEY_MAX_PARTS - 1)
+                return lt_error_set(err, LT_EINPUT, ini->path, line,
+                                    "more than %d tables to join", LT_SURVEY_MAX_PARTS);
+            lt_survey_spec_init(&j->parts[j->nparts++]);
+            j->data.more = j->parts, j->data.nmore = j->nparts;
+        }
+        lt_survey_spec *t = current_table(j);
+        if (!(t->name = keep(j, strdup(name), err)))
+            return LT_ENOMEM;
+        int rc = apply_section(j, ini, sec, "data", err);
+        if (rc)
+            return rc;
+        if (!t->data)
+            return lt_error_set(err, LT_EINPUT, ini->path, line, "[%s] needs file = TABLE", sec);
+        count++;
+    }
+    return LT_OK;
+}
+
 int lt_job_apply_ini(lt_job *j, lt_ini *ini, unsigned mask, lt_error *err)
 {
     /* each section once, in the table's order */
@@ -397,7 +486,7 @@ int lt_job_apply_ini(lt_job *j, lt_ini *ini, unsigned mask, lt_error *err)
         if (rc)
             return rc;
     }
-    return LT_OK;
+    return mask & LT_JOB_DATA ? survey_sections(j, ini, err) : LT_OK;
 }
 
 int lt_job_data_section(lt_job *j, lt_ini *ini, const char *section, lt_survey_spec *spec,
@@ -760,6 +849,37 @@ static void add_final(text *b, const lt_job *j, int prior)
             add(b, "%s = %s\n", all[k]->name, all[k]->value);
 }
 
+/* A table's keys (as [data] or a [survey.NAME] section has them). */
+static void write_table(text *b, const lt_survey_spec *t)
+{
+    char x[32];
+    if (t->data) /* none for measurements alone */
+        add_path(b, "file", t->data);
+    if (t->columns)
+        add(b, "columns = %s\n", t->columns);
+    if (t->ncov) {
+        add(b, "cov = ");
+        for (size_t i = 0; i < t->ncov; i++) {
+            char *p = absolute(t->cov[i]);
+            add(b, "%s%s", i ? ", " : "", p ? p : "");
+            b->failed |= !p;
+            free(p);
+        }
+        add(b, "\n");
+    }
+    if (t->modes)
+        add_path(b, "modes", t->modes);
+    add(b, "no_err_diag = %s\n", t->no_err_diag ? "true" : "false");
+    if (!isnan(t->zmin))
+        lt_format_double(t->zmin, x, sizeof x), add(b, "zmin = %s\n", x);
+    if (!isnan(t->zmax))
+        lt_format_double(t->zmax, x, sizeof x), add(b, "zmax = %s\n", x);
+    if (t->keep_ids)
+        add_path(b, "keep_ids", t->keep_ids);
+    if (t->drop_ids)
+        add_path(b, "drop_ids", t->drop_ids);
+}
+
 int lt_job_write(const lt_job *j, const lt_like_spec *spec, const char *path, lt_error *err)
 {
     text b = {malloc(4096), 0, 4096, 0};
@@ -773,31 +893,10 @@ int lt_job_write(const lt_job *j, const lt_like_spec *spec, const char *path, lt
     if (j->models)
         add(&b, "models = %s\n", j->models);
     add(&b, "[data]\n");
-    if (j->data.data) /* none for measurements alone */
-        add_path(&b, "file", j->data.data);
-    if (j->data.columns)
-        add(&b, "columns = %s\n", j->data.columns);
-    if (j->data.ncov) {
-        add(&b, "cov = ");
-        for (size_t i = 0; i < j->data.ncov; i++) {
-            char *p = absolute(j->data.cov[i]);
-            add(&b, "%s%s", i ? ", " : "", p ? p : "");
-            b.failed |= !p;
-            free(p);
-        }
-        add(&b, "\n");
-    }
-    if (j->data.modes)
-        add_path(&b, "modes", j->data.modes);
-    add(&b, "no_err_diag = %s\n", j->data.no_err_diag ? "true" : "false");
-    if (!isnan(j->data.zmin))
-        lt_format_double(j->data.zmin, x, sizeof x), add(&b, "zmin = %s\n", x);
-    if (!isnan(j->data.zmax))
-        lt_format_double(j->data.zmax, x, sizeof x), add(&b, "zmax = %s\n", x);
-    if (j->data.keep_ids)
-        add_path(&b, "keep_ids", j->data.keep_ids);
-    if (j->data.drop_ids)
-        add_path(&b, "drop_ids", j->data.drop_ids);
+    if (!j->nparts)
+        write_table(&b, &j->data);
+    if (j->data.cross_cov)
+        add_path(&b, "cross_cov", j->data.cross_cov);
     /* the other terms' files, and how r_d is made */
     const char *const terms[4][2] = {
         {"bao", j->bao}, {"bao_cov", j->bao_cov}, {"cmb", j->cmb}, {"cmb_cov", j->cmb_cov}};
@@ -815,6 +914,14 @@ int lt_job_write(const lt_job *j, const lt_like_spec *spec, const char *path, lt
             add(&b, "velocity_dispersion = %s\n", x);
     if (!isnan(j->mass_split))
         lt_format_double(j->mass_split, x, sizeof x), add(&b, "mass_split = %s\n", x);
+    /* several tables: one [survey.NAME] section each, in order */
+    for (size_t p = 0; j->nparts && p <= j->nparts; p++) {
+        const lt_survey_spec *t = p ? &j->parts[p - 1] : &j->data;
+        char name[256];
+        lt_survey_spec_name(t, name, sizeof name);
+        add(&b, "[survey.%s]\n", name);
+        write_table(&b, t);
+    }
     if (j->model)
         add(&b, "[model]\nname = %s\n", j->model);
     else

@@ -85,6 +85,17 @@ static void data_digest(const lt_like *l, char *out, size_t size)
     snprintf(out, size, "fnv1a64:%016llx", (unsigned long long)h);
 }
 
+/* A table's columns, covariance files and modes into o. */
+static void table_json(cJSON *o, const lt_survey_spec *t)
+{
+    cJSON_AddStringToObject(o, "columns", t->columns ? t->columns : "");
+    cJSON *covs = cJSON_AddArrayToObject(o, "cov");
+    for (size_t i = 0; i < t->ncov; i++)
+        cJSON_AddItemToArray(covs, cJSON_CreateString(t->cov[i]));
+    if (t->modes)
+        cJSON_AddStringToObject(o, "modes", t->modes);
+}
+
 cJSON *lt_report_add_data(cJSON *o, const lt_survey_spec *data, const lt_like *l)
 {
     const lt_survey *s = lt_like_table(l);
@@ -103,12 +114,22 @@ cJSON *lt_report_add_data(cJSON *o, const lt_survey_spec *data, const lt_like *l
             snprintf(probes + strlen(probes), sizeof probes - strlen(probes), "%s%s",
                      probes[0] ? "+" : "", has[k]);
     cJSON_AddStringToObject(files, "probes", probes);
-    cJSON_AddStringToObject(files, "columns", data->columns ? data->columns : "");
-    cJSON *covs = cJSON_AddArrayToObject(files, "cov");
-    for (size_t i = 0; i < data->ncov; i++)
-        cJSON_AddItemToArray(covs, cJSON_CreateString(data->cov[i]));
-    if (data->modes)
-        cJSON_AddStringToObject(files, "modes", data->modes);
+    table_json(files, data);
+    if (data->nmore) { /* several tables joined: each by name (file and cov above: the first's) */
+        cJSON *tables = cJSON_AddArrayToObject(files, "tables");
+        for (size_t p = 0; p <= data->nmore; p++) {
+            const lt_survey_spec *t = p ? &data->more[p - 1] : data;
+            char name[256];
+            lt_survey_spec_name(t, name, sizeof name);
+            cJSON *e = cJSON_CreateObject();
+            cJSON_AddStringToObject(e, "name", name);
+            cJSON_AddStringToObject(e, "file", t->data ? t->data : "");
+            table_json(e, t);
+            cJSON_AddItemToArray(tables, e);
+        }
+        if (data->cross_cov)
+            cJSON_AddStringToObject(files, "cross_cov", data->cross_cov);
+    }
     int rd_free;
     const lt_probe *bao = lt_like_bao(l, &rd_free);
     if (bao) {
@@ -193,11 +214,18 @@ void lt_report_describe_data(FILE *f, const lt_like *l, const lt_survey_spec *da
 {
     const lt_survey *s = lt_like_table(l);
     size_t nm = lt_like_nmeasurements(l);
+    if (s) {
+        fputs(data->data, f);
+        for (size_t p = 0; p < data->nmore; p++)
+            fprintf(f, " + %s", data->more[p].data);
+        if (data->nmore)
+            fprintf(f, " (%zu tables joined%s)", data->nmore + 1,
+                    data->cross_cov ? ", with a cross-covariance" : "");
+    }
     if (s && s->kind == LT_OBS_MB)
-        fprintf(f, "%s: %zu objects, light curves (mb, x1, color) standardised", data->data,
-                s->n);
+        fprintf(f, ": %zu objects, light curves (mb, x1, color) standardised", s->n);
     else if (s)
-        fprintf(f, "%s: %zu objects, observable %s", data->data, s->n, lt_obs_name(s->kind));
+        fprintf(f, ": %zu objects, observable %s", s->n, lt_obs_name(s->kind));
     int rd_free;
     const lt_probe *bao = lt_like_bao(l, &rd_free);
     if (bao)

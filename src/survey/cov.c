@@ -430,6 +430,44 @@ nomem:
     return NULL;
 }
 
+lt_cov *lt_cov_join(lt_cov *const *parts, size_t np, lt_error *err)
+{
+    size_t n = 0, k = 0;
+    int dense = 0;
+    for (size_t p = 0; p < np; p++)
+        n += parts[p]->n, k += parts[p]->k, dense |= parts[p]->dense != NULL;
+    lt_cov *c = lt_cov_alloc(n, err);
+    if (!c)
+        return NULL;
+    /* a dense part makes the whole base dense (zero between the blocks);
+     * otherwise the diagonals line up */
+    if (dense && !(c->dense = calloc(at_least1(n * n), sizeof *c->dense)))
+        goto nomem;
+    if (k && !(c->u = calloc(at_least1(n * k), sizeof *c->u)))
+        goto nomem;
+    c->k = k;
+    size_t row = 0, col = 0;
+    for (size_t p = 0; p < np; p++) {
+        const lt_cov *q = parts[p];
+        for (size_t a = 0; a < q->n; a++) {
+            if (dense)
+                for (size_t b = 0; b < q->n; b++)
+                    c->dense[(row + a) * n + row + b] = base_at(q, a, b);
+            else
+                c->diag[row + a] = q->diag[a];
+            /* each part's modes are columns of their own, zero elsewhere */
+            if (q->k)
+                memcpy(c->u + (row + a) * k + col, q->u + a * q->k, q->k * sizeof *c->u);
+        }
+        row += q->n, col += q->k;
+    }
+    return c;
+nomem:
+    lt_cov_free(c);
+    lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory joining covariances of %zu objects", n);
+    return NULL;
+}
+
 /* Eigenvalues (ascending) of a symmetric k x k or n x n row-major matrix
  * a, destroyed. */
 static int eigenvalues(double *a, size_t n, double *ev, lt_error *err)

@@ -4,6 +4,7 @@
  */
 #include <math.h>
 #include <stdarg.h>
+#include <stddef.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -409,7 +410,45 @@ static void warn_duplicate_ids(lt_survey *s)
     free(sorted);
 }
 
+static lt_survey *read_joined(const lt_survey_spec *spec, lt_error *err);
+
+/* Factor s's covariance; a failure says which matrices made it. */
+static int factor(const lt_survey_spec *spec, lt_survey *s, lt_error *err)
+{
+    int rc = lt_cov_factor(s->cov, err);
+    if (!rc)
+        return LT_OK;
+    /* Say which matrix and which object, so the user can look. */
+    char what[512] = "diag(err^2)";
+    if (spec->no_err_diag)
+        what[0] = '\0';
+    for (size_t f = 0; f < spec->ncov; f++)
+        snprintf(what + strlen(what), sizeof what - strlen(what), "%s%s", what[0] ? " + " : "",
+                 spec->cov[f]);
+    if (spec->modes)
+        snprintf(what + strlen(what), sizeof what - strlen(what), "%smodes %s",
+                 what[0] ? " + " : "", spec->modes);
+    char msg[LT_ERROR_MSG_MAX + sizeof what + 32];
+    snprintf(msg, sizeof msg, "%s; the total is %s", err ? err->msg : "", what);
+    return lt_error_set(err, rc, spec->ncov ? spec->cov[0] : spec->data, 0, "%s", msg);
+}
+
+static lt_survey *read_table(const lt_survey_spec *spec, lt_error *err);
+
 lt_survey *lt_survey_read(const lt_survey_spec *spec, lt_error *err)
+{
+    if (spec->nmore)
+        return read_joined(spec, err);
+    lt_survey *s = read_table(spec, err);
+    if (s && factor(spec, s, err)) {
+        lt_survey_free(s);
+        return NULL;
+    }
+    return s;
+}
+
+/* One table, its covariance built and cut but not factored. */
+static lt_survey *read_table(const lt_survey_spec *spec, lt_error *err)
 {
     if (!spec->data) {
         lt_error_set(err, LT_EINPUT, "--data", 0, "no data table given (--data FILE)");
@@ -493,22 +532,6 @@ lt_survey *lt_survey_read(const lt_survey_spec *spec, lt_error *err)
     if (s->cov != full)
         lt_cov_free(full);
     full = NULL;
-    if ((rc = lt_cov_factor(s->cov, err))) {
-        /* Say which matrix and which object, so the user can look. */
-        char what[512] = "diag(err^2)";
-        if (spec->no_err_diag)
-            what[0] = '\0';
-        for (size_t f = 0; f < spec->ncov; f++)
-            snprintf(what + strlen(what), sizeof what - strlen(what), "%s%s",
-                     what[0] ? " + " : "", spec->cov[f]);
-        if (spec->modes)
-            snprintf(what + strlen(what), sizeof what - strlen(what), "%smodes %s",
-                     what[0] ? " + " : "", spec->modes);
-        char msg[LT_ERROR_MSG_MAX + sizeof what + 32];
-        snprintf(msg, sizeof msg, "%s; the total is %s", err ? err->msg : "", what);
-        lt_error_set(err, rc, spec->ncov ? spec->cov[0] : spec->data, 0, "%s", msg);
-        goto fail;
-    }
     free(idx);
     lt_rawtable_free(&t);
     lt_colmap_free(&map);
@@ -519,5 +542,239 @@ fail:
     lt_survey_free(s);
     lt_rawtable_free(&t);
     lt_colmap_free(&map);
+    return NULL;
+}
+
+/* ---- several tables as one survey ---- */
+
+void lt_survey_spec_name(const lt_survey_spec *spec, char *buf, size_t size)
+{
+    if (spec->name) {
+        snprintf(buf, size, "%s", spec->name);
+        return;
+    }
+    const char *path = spec->data ? spec->data : "";
+    const char *base = strrchr(path, '/') ? strrchr(path, '/') + 1 : path;
+    size_t n = strcspn(base, ".[");
+    snprintf(buf, size, "%.*s", (int)n, base);
+}
+
+/* Concatenate the parts' arrays of doubles at offset off of lt_lightcurve
+ * (or of lt_survey when lc is 0) into *out; a part without the array gives
+ * fill. NULL *out when no part has it. */
+static int join_doubles(lt_survey *const *part, size_t np, size_t n, size_t off, int lc,
+                        double fill, double **out)
+{
+    *out = NULL;
+    int any = 0;
+    for (size_t p = 0; p < np; p++)
+        any |= *(double **)((char *)(lc ? (void *)part[p]->lc : (void *)part[p]) + off) != NULL;
+    if (!any)
+        return 0;
+    if (!(*out = malloc((n ? n : 1) * sizeof **out)))
+        return -1;
+    size_t i = 0;
+    for (size_t p = 0; p < np; p++) {
+        const double *a = *(double **)((char *)(lc ? (void *)part[p]->lc : (void *)part[p]) + off);
+        for (size_t k = 0; k < part[p]->n; k++)
+            (*out)[i++] = a ? a[k] : fill;
+    }
+    return 0;
+}
+
+/* The joined light-curve columns of the parts into s->lc: rows keep their
+ * group label, else take their table's name. */
+static int join_lightcurve(lt_survey *const *part, char (*name)[256],
+                           size_t np, lt_survey *s)
+{
+    lt_lightcurve *lc = s->lc = calloc(1, sizeof *lc);
+    if (!lc)
+        return -1;
+    static const struct {
+        size_t off;
+        double fill;
+    } cols[] = {{offsetof(lt_lightcurve, x1), 0},           {offsetof(lt_lightcurve, color), 0},
+                {offsetof(lt_lightcurve, mass), 0},         {offsetof(lt_lightcurve, err_mass), 0},
+                {offsetof(lt_lightcurve, err_x1), 0},       {offsetof(lt_lightcurve, err_color), 0},
+                {offsetof(lt_lightcurve, cov_mb_x1), 0},    {offsetof(lt_lightcurve, cov_mb_color), 0},
+                {offsetof(lt_lightcurve, cov_x1_color), 0}, {offsetof(lt_lightcurve, dz), 0},
+                {offsetof(lt_lightcurve, calib_mu), NAN},   {offsetof(lt_lightcurve, err_calib_mu), NAN}};
+    for (size_t c = 0; c < sizeof cols / sizeof cols[0]; c++)
+        if (join_doubles(part, np, s->n, cols[c].off, 1, cols[c].fill,
+                         (double **)((char *)lc + cols[c].off)))
+            return -1;
+    size_t m = s->n ? s->n : 1;
+    if (!(lc->group = calloc(m, sizeof *lc->group)))
+        return -1;
+    int cal = 0;
+    for (size_t p = 0; p < np; p++)
+        cal |= part[p]->lc->calibrator != NULL;
+    if (cal && !(lc->calibrator = calloc(m, sizeof *lc->calibrator)))
+        return -1;
+    size_t i = 0;
+    for (size_t p = 0; p < np; p++) {
+        const lt_lightcurve *q = part[p]->lc;
+        for (size_t k = 0; k < part[p]->n; k++, i++) {
+            if (!(lc->group[i] = strdup(q->group ? q->group[k] : name[p])))
+                return -1;
+            if (q->calibrator)
+                lc->calibrator[i] = q->calibrator[k];
+        }
+        lc->ncalibrators += q->ncalibrators;
+    }
+    return 0;
+}
+
+/* The cross-covariance file over every row of every table before cuts
+ * (offsets first[p] into it), at the kept rows, added to s->cov. */
+static int add_cross(const lt_survey_spec *spec, lt_survey *const *part, size_t np,
+                     lt_survey *s, lt_error *err)
+{
+    double *m = NULL, *x = NULL;
+    size_t mn = 0, total = 0, first[LT_SURVEY_MAX_PARTS + 1];
+    for (size_t p = 0; p < np; p++)
+        first[p] = total, total += part[p]->n_read;
+    int rc = lt_matrix_read(spec->cross_cov, &m, &mn, err);
+    if (rc)
+        return rc;
+    if (mn != total) {
+        /* the size is what line 1 gives: N, or a row of N values */
+        rc = lt_error_set(err, LT_EINPUT, spec->cross_cov, lt_path_is_fits(spec->cross_cov) ? 0 : 1,
+                          "the matrix is %zu x %zu but the %zu joined tables have %zu rows (the "
+                          "cross-covariance covers every row of every table, in order, before "
+                          "cuts)",
+                          mn, mn, np, total);
+        goto done;
+    }
+    size_t n = s->n, *at = malloc((n ? n : 1) * sizeof *at);
+    if (!at || !(x = malloc((n ? n * n : 1) * sizeof *x))) {
+        free(at);
+        rc = lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
+        goto done;
+    }
+    size_t i = 0;
+    for (size_t p = 0; p < np; p++)
+        for (size_t k = 0; k < part[p]->n; k++)
+            at[i++] = first[p] + (size_t)part[p]->row[k] - 1;
+    for (size_t a = 0; a < n; a++)
+        for (size_t b = 0; b < n; b++)
+            x[a * n + b] = m[at[a] * mn + at[b]];
+    free(at);
+    rc = lt_cov_add_dense(s->cov, x, err);
+done:
+    free(m);
+    free(x);
+    return rc;
+}
+
+static lt_survey *read_joined(const lt_survey_spec *spec, lt_error *err)
+{
+    size_t np = 1 + spec->nmore;
+    if (np > LT_SURVEY_MAX_PARTS) {
+        lt_error_set(err, LT_EINPUT, spec->more[LT_SURVEY_MAX_PARTS - 1].data, 0,
+                     "more than %d tables to join", LT_SURVEY_MAX_PARTS);
+        return NULL;
+    }
+    const lt_survey_spec *sp[LT_SURVEY_MAX_PARTS];
+    lt_survey *part[LT_SURVEY_MAX_PARTS] = {NULL};
+    char name[LT_SURVEY_MAX_PARTS][256];
+    lt_cov *covs[LT_SURVEY_MAX_PARTS];
+    lt_survey *s = NULL;
+    for (size_t p = 0; p < np; p++)
+        sp[p] = p ? &spec->more[p - 1] : spec;
+    for (size_t p = 0; p < np; p++) {
+        if (!(part[p] = read_table(sp[p], err)))
+            goto fail;
+        covs[p] = part[p]->cov;
+        char nm[256];
+        lt_survey_spec_name(sp[p], nm, sizeof nm);
+        const lt_lightcurve *lc = part[p]->lc;
+        /* a table name labels the rows of a light-curve table without a
+         * group column, so it must be a usable label */
+        if (lc && !lc->group &&
+            (!*nm || strlen(nm) > LT_GROUP_NAME_MAX || strpbrk(nm, "=:,. \t@"))) {
+            lt_error_set(err, LT_EINPUT, sp[p]->data, 0,
+                         "the table's name '%s' labels its rows' group (sigma_int@NAME): it needs "
+                         "1 to %d characters and none of = : , . @ or blanks; name the table "
+                         "([survey.NAME] in a run file) or give it a group column",
+                         nm, LT_GROUP_NAME_MAX);
+            goto fail;
+        }
+        memcpy(name[p], nm, sizeof nm);
+        for (size_t q = 0; q < p; q++)
+            if (!strcmp(name[q], name[p])) {
+                lt_error_set(err, LT_EINPUT, sp[p]->data, 0,
+                             "two joined tables are named '%s' (%s and %s): name them apart "
+                             "([survey.NAME] sections in a run file)",
+                             nm, sp[q]->data, sp[p]->data);
+                goto fail;
+            }
+        if (part[p]->kind != part[0]->kind) {
+            lt_error_set(err, LT_EINPUT, sp[p]->data, 0,
+                         "its observable is %s but %s's is %s: tables joined into one survey "
+                         "share their observable",
+                         lt_obs_name(part[p]->kind), sp[0]->data, lt_obs_name(part[0]->kind));
+            goto fail;
+        }
+        if (lc && ((lc->mass != NULL) != (part[0]->lc->mass != NULL) ||
+                   (lc->err_mass != NULL) != (part[0]->lc->err_mass != NULL))) {
+            lt_error_set(err, LT_EINPUT, sp[p]->data, 0,
+                         "host masses (mass, err_mass) are mapped for some of the joined tables "
+                         "and not for others: the host-mass step needs them in every table or "
+                         "in none");
+            goto fail;
+        }
+    }
+    if (!(s = calloc(1, sizeof *s))) {
+        lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
+        goto fail;
+    }
+    s->kind = part[0]->kind;
+    int all_err = 1, all_id = 1;
+    for (size_t p = 0; p < np; p++) {
+        s->n += part[p]->n, s->n_read += part[p]->n_read;
+        all_err &= part[p]->err != NULL, all_id &= part[p]->id != NULL;
+        for (size_t w = 0; w < part[p]->nwarnings; w++)
+            lt_survey_warn(s, "%s: %s", name[p], part[p]->warnings[w]);
+    }
+    size_t m = s->n ? s->n : 1;
+    if (join_doubles(part, np, s->n, offsetof(lt_survey, z), 0, 0, &s->z) ||
+        join_doubles(part, np, s->n, offsetof(lt_survey, zhel), 0, 0, &s->zhel) ||
+        join_doubles(part, np, s->n, offsetof(lt_survey, obs), 0, 0, &s->obs) ||
+        (all_err && join_doubles(part, np, s->n, offsetof(lt_survey, err), 0, 0, &s->err)) ||
+        !(s->row = malloc(m * sizeof *s->row)) ||
+        (all_id && !(s->id = calloc(m, sizeof *s->id))) ||
+        (s->kind == LT_OBS_MB && join_lightcurve(part, name, np, s)))
+        goto nomem;
+    size_t i = 0;
+    for (size_t p = 0; p < np; p++)
+        for (size_t k = 0; k < part[p]->n; k++, i++) {
+            s->row[i] = part[p]->row[k];
+            if (s->id) { /* moved over */
+                s->id[i] = part[p]->id[k];
+                part[p]->id[k] = NULL;
+            }
+        }
+    warn_duplicate_ids(s);
+    if (!(s->cov = lt_cov_join(covs, np, err)) ||
+        (spec->cross_cov && add_cross(spec, part, np, s, err)))
+        goto fail;
+    if (lt_cov_factor(s->cov, err)) {
+        char msg[LT_ERROR_MSG_MAX];
+        snprintf(msg, sizeof msg, "%s", err ? err->msg : "");
+        lt_error_set(err, LT_EINPUT, spec->cross_cov ? spec->cross_cov : spec->data, 0,
+                     "%s; the total is the %zu tables' own covariances%s", msg, np,
+                     spec->cross_cov ? " plus this cross-covariance" : "");
+        goto fail;
+    }
+    for (size_t p = 0; p < np; p++)
+        lt_survey_free(part[p]);
+    return s;
+nomem:
+    lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
+fail:
+    for (size_t p = 0; p < np; p++)
+        lt_survey_free(part[p]);
+    lt_survey_free(s);
     return NULL;
 }

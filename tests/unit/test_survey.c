@@ -259,6 +259,164 @@ static void test_select(void **state)
     lt_cov_free(b);
 }
 
+/* lt_cov_join: the block-diagonal matrix of its parts, element by element
+ * (written out here from the parts' own dense forms), keeping the cheap
+ * form where it can: diagonal parts stay diagonal, modes stay modes in
+ * columns of their own, a dense part makes the base dense. Parts already
+ * factored join as well (their values, not their factors). */
+static void test_cov_join(void **state)
+{
+    (void)state;
+    enum { NA = 7, NB = 5, NC = 4, N = NA + NB + NC };
+    unsigned long long seed = 5;
+    double da[NA], db[NB], dc[NC], ua[NA * 2], mc[NC * NC];
+    for (int i = 0; i < NA; i++)
+        da[i] = lt_test_uniform(&seed, 0.5, 1.5);
+    for (int i = 0; i < NB; i++)
+        db[i] = lt_test_uniform(&seed, 0.5, 1.5);
+    for (int i = 0; i < NC; i++)
+        dc[i] = lt_test_uniform(&seed, 0.5, 1.5);
+    for (int i = 0; i < NA * 2; i++)
+        ua[i] = lt_test_uniform(&seed, -1, 1);
+    for (int i = 0; i < NC; i++)
+        for (int j = 0; j < NC; j++)
+            mc[i * NC + j] = (i == j ? 2.0 : 0.3) * (1 + 0.1 * (i + j));
+    lt_error err;
+    lt_cov *a = lt_cov_alloc(NA, &err), *b = lt_cov_alloc(NB, &err), *c = lt_cov_alloc(NC, &err);
+    lt_cov_add_diag(a, da, &err);
+    lt_cov_add_modes(a, 2, ua, NULL, &err);
+    lt_cov_add_diag(b, db, &err);
+    lt_cov_add_diag(c, dc, &err);
+    lt_cov_add_dense(c, mc, &err);
+    assert_int_equal(lt_cov_factor(a, &err), LT_OK); /* factored parts join too */
+    static double fa[NA * NA], fb[NB * NB], fc[NC * NC], want[N * N], got[N * N];
+    lt_cov_to_dense(a, fa);
+    lt_cov_to_dense(b, fb);
+    lt_cov_to_dense(c, fc);
+    memset(want, 0, sizeof want);
+    for (int i = 0; i < NA; i++)
+        for (int j = 0; j < NA; j++)
+            want[i * N + j] = fa[i * NA + j];
+    for (int i = 0; i < NB; i++)
+        for (int j = 0; j < NB; j++)
+            want[(NA + i) * N + NA + j] = fb[i * NB + j];
+    for (int i = 0; i < NC; i++)
+        for (int j = 0; j < NC; j++)
+            want[(NA + NB + i) * N + NA + NB + j] = fc[i * NC + j];
+    lt_cov *ab[] = {a, b}, *abc[] = {a, b, c}, *bb[] = {b, b};
+    lt_cov *j2 = lt_cov_join(ab, 2, &err), *j3 = lt_cov_join(abc, 3, &err);
+    lt_cov *jd = lt_cov_join(bb, 2, &err);
+    assert_int_equal(lt_cov_kind_of(j2), LT_COV_STRUCTURED);
+    assert_int_equal(lt_cov_nmodes(j2), 2);
+    assert_int_equal(lt_cov_kind_of(j3), LT_COV_DENSE_MODES);
+    assert_int_equal(lt_cov_kind_of(jd), LT_COV_DIAGONAL);
+    assert_int_equal(lt_cov_size(j3), N);
+    lt_cov_to_dense(j3, got);
+    for (int i = 0; i < N * N; i++)
+        assert_rel(got[i], want[i], 1e-15);
+    static double g2[(NA + NB) * (NA + NB)];
+    lt_cov_to_dense(j2, g2);
+    for (int i = 0; i < NA + NB; i++)
+        for (int j = 0; j < NA + NB; j++)
+            assert_rel(g2[i * (NA + NB) + j], want[i * N + j], 1e-15);
+    /* and it factors and solves like the matrix it is */
+    assert_int_equal(lt_cov_factor(j3, &err), LT_OK);
+    lt_cov *ref = lt_cov_alloc(N, &err);
+    lt_cov_add_dense(ref, want, &err);
+    assert_int_equal(lt_cov_factor(ref, &err), LT_OK);
+    double r[N], work[4 * N * N];
+    for (int i = 0; i < N; i++)
+        r[i] = lt_test_uniform(&seed, -1, 1);
+    assert_rel(lt_cov_chi2(j3, r, work), lt_cov_chi2(ref, r, work), 1e-12);
+    assert_rel(lt_cov_logdet(j3), lt_cov_logdet(ref), 1e-12);
+    lt_cov *all[] = {a, b, c, j2, j3, jd, ref};
+    for (size_t k = 0; k < sizeof all / sizeof all[0]; k++)
+        lt_cov_free(all[k]);
+}
+
+/* Two tables read as one: rows in order, each with its own cuts; a light
+ * curve's group from its column, else the table's name; errors for mixed
+ * observables, masses in one table only, twin names and a cross-covariance
+ * of the wrong size, each naming the file. */
+static void test_join_tables(void **state)
+{
+    (void)state;
+    const char *a = TMP("ja.csv", "name,z,mb,dmb,x1,c,m,set\n"
+                                  "a1,0.01,14.0,0.1,0.5,0.01,10.5,s1\n"
+                                  "a2,0.05,17.0,0.1,-0.5,0.02,9.5,s2\n"
+                                  "a3,0.30,21.0,0.1,0.1,0.0,10.1,s1\n");
+    const char *b = TMP("jb.csv", "name,z,mb,dmb,x1,c,m\n"
+                                  "b1,0.02,15.0,0.2,0.3,0.05,11.0\n"
+                                  "b2,0.40,22.0,0.2,0.2,-0.1,10.0\n");
+    const char *cross = TMP("jx.txt", "5\n"
+                                      "0.01 0 0 0.002 0.003\n"
+                                      "0 0.01 0 0 0\n"
+                                      "0 0 0.01 0 0\n"
+                                      "0.002 0 0 0.01 0\n"
+                                      "0.003 0 0 0 0.01\n");
+    lt_survey_spec sa, more[1];
+    lt_survey_spec_init(&sa);
+    lt_survey_spec_init(&more[0]);
+    sa.data = a;
+    sa.columns = "z=z,mb=mb,err_mb=dmb,x1=x1,color=c,mass=m,group=set,id=name";
+    sa.zmax = 0.2; /* a3 goes */
+    more[0].data = b;
+    more[0].columns = "z=z,mb=mb,err_mb=dmb,x1=x1,color=c,mass=m,id=name";
+    sa.more = more, sa.nmore = 1;
+    sa.cross_cov = cross;
+    lt_error err;
+    lt_survey *s = lt_survey_read(&sa, &err);
+    if (!s)
+        print_error("%s:%ld: %s\n", err.file, err.line, err.msg);
+    assert_non_null(s);
+    assert_int_equal(s->n, 4);
+    assert_int_equal(s->n_read, 5);
+    const char *ids[] = {"a1", "a2", "b1", "b2"}, *groups[] = {"s1", "s2", "jb", "jb"};
+    const double obs[] = {14.0, 17.0, 15.0, 22.0};
+    const long rows[] = {1, 2, 1, 2};
+    for (int i = 0; i < 4; i++) {
+        assert_string_equal(s->id[i], ids[i]);
+        assert_string_equal(s->lc->group[i], groups[i]);
+        assert_true(s->obs[i] == obs[i] && s->row[i] == rows[i]);
+    }
+    /* diag(err^2) of each table, plus the cross matrix at rows 1, 2, 4, 5 */
+    double c[16];
+    lt_cov_to_dense(s->cov, c);
+    const double want[16] = {0.01 + 0.01, 0, 0.002, 0.003,
+                             0, 0.01 + 0.01, 0, 0,
+                             0.002, 0, 0.04 + 0.01, 0,
+                             0.003, 0, 0, 0.04 + 0.01};
+    for (int i = 0; i < 16; i++)
+        assert_abs(c[i], want[i], 1e-15);
+    lt_survey_free(s);
+
+    /* refusals */
+    sa.cross_cov = TMP("jx4.txt", "4\n1 0 0 0\n0 1 0 0\n0 0 1 0\n0 0 0 1\n");
+    assert_null(lt_survey_read(&sa, &err));
+    assert_string_equal(err.file, sa.cross_cov);
+    assert_int_equal(err.line, 1);
+    assert_non_null(strstr(err.msg, "4 x 4 but the 2 joined tables have 5 rows"));
+    sa.cross_cov = NULL;
+    more[0].columns = "z=z,mb=mb,err_mb=dmb,x1=x1,color=c,id=name";
+    assert_null(lt_survey_read(&sa, &err));
+    assert_string_equal(err.file, b);
+    assert_non_null(strstr(err.msg, "host masses"));
+    more[0].columns = "z=z,mag=mb,err=dmb,id=name";
+    assert_null(lt_survey_read(&sa, &err));
+    assert_non_null(strstr(err.msg, "its observable is mag"));
+    more[0] = sa;
+    more[0].more = NULL, more[0].nmore = 0;
+    assert_null(lt_survey_read(&sa, &err));
+    assert_non_null(strstr(err.msg, "two joined tables are named 'ja'"));
+    more[0].name = "a b";
+    more[0].columns = "z=z,mb=mb,err_mb=dmb,x1=x1,color=c,mass=m,id=name";
+    assert_null(lt_survey_read(&sa, &err));
+    assert_non_null(strstr(err.msg, "the table's name 'a b' labels its rows' group"));
+    char name[64];
+    lt_survey_spec_name(&sa, name, sizeof name);
+    assert_string_equal(name, "ja");
+}
+
 static void test_not_positive_definite(void **state)
 {
     (void)state;
@@ -443,7 +601,8 @@ int main(void)
         cmocka_unit_test(test_dense_vs_structured), cmocka_unit_test(test_select),
         cmocka_unit_test(test_not_positive_definite), cmocka_unit_test(test_matrix_forms),
         cmocka_unit_test(test_stats),             cmocka_unit_test(test_cuts),
-        cmocka_unit_test(test_cov_digest),
+        cmocka_unit_test(test_cov_digest),        cmocka_unit_test(test_cov_join),
+        cmocka_unit_test(test_join_tables),
     };
     return cmocka_run_group_tests_name("survey", tests, setup, teardown);
 }
