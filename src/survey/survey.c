@@ -272,8 +272,8 @@ static int build_cov(const lt_survey_spec *spec, const lt_rawtable *t, lt_survey
         double *m = NULL;
         size_t mn = 0;
         rc = lt_matrix_read(spec->cov[f], &m, &mn, err);
-        if (!rc && mn != n)
-            rc = lt_error_set(err, LT_EINPUT, spec->cov[f], 0,
+        if (!rc && mn != n) /* the size is what line 1 gives: N, or a row of N values */
+            rc = lt_error_set(err, LT_EINPUT, spec->cov[f], lt_path_is_fits(spec->cov[f]) ? 0 : 1,
                               "the matrix is %zu x %zu but the table %s has %zu objects "
                               "(the covariance must cover every row, before cuts)",
                               mn, mn, spec->data, n);

@@ -23,6 +23,25 @@ static int valid_name(const char *s)
     return 1;
 }
 
+/* A key: a name, optionally NAME@GROUP (a per-group parameter of the
+ * standardisation, sigma_int@SNLS), the group a label of printable
+ * characters without blanks, '=', ':', ',', '.' or '@' (lantern/survey.h). */
+static int valid_key(const char *s)
+{
+    const char *at = strchr(s, '@');
+    if (!at)
+        return valid_name(s);
+    if (at == s || !at[1])
+        return 0;
+    for (const char *p = s; p < at; p++)
+        if (!is_name_char((unsigned char)*p))
+            return 0;
+    for (const char *p = at + 1; *p; p++)
+        if (!isgraph((unsigned char)*p) || strchr("=:,.@", *p))
+            return 0;
+    return 1;
+}
+
 void lt_ini_free(lt_ini *ini)
 {
     if (!ini)
@@ -128,9 +147,11 @@ static int parse_line(lt_ini *ini, char *raw, long line, lt_error *err)
                             "expected 'key = value', '[section]' or a comment, got: %s", s);
     *eq = '\0';
     char *key = lt_text_trim(s), *value = eq + 1;
-    if (!valid_name(key))
+    if (!valid_key(key))
         return lt_error_set(err, LT_EINPUT, ini->path, line,
-                            "key '%s' may hold only letters, digits, '_', '.' and '-'", key);
+                            "key '%s' may hold only letters, digits, '_', '.' and '-' (and "
+                            "'@GROUP' after a parameter's name)",
+                            key);
     /* An inline comment starts at a '#' or ';' that follows a blank. */
     for (char *p = value; *p; p++) {
         if ((*p == '#' || *p == ';') && (p == value || p[-1] == ' ' || p[-1] == '\t')) {

@@ -82,3 +82,22 @@ if [ "$STATUS" -eq 0 ] && grep -qE "^  sigma_int@1 +0 +< 0\.[0-9]+ +U\(0, 1\)" "
 else
     fail "the fit table shows a scatter at 0 as a limit and names the standardisation"
 fi
+
+# a per-group prior in a run file: a known group is taken, an unknown one
+# is refused with the file and line, naming the parameters there are
+cat >"$E2E_TMP/groups.ini" <<INI
+[data]
+file = $J
+columns = $COLS
+[model]
+name = lcdm-flat
+[priors]
+sigma_int@7 = uniform:0:0.5
+INI
+run "$LANTERN" fit "$E2E_TMP/groups.ini"
+expect_error "an unknown group in a per-group prior: file and line" 2 "groups.ini:7: this standardisation \(latent, per-group scatter\) has no parameter 'sigma_int@7'; it has alpha, beta, gamma, sigma_int@1"
+sed -i 's/^sigma_int@7 = .*/x1_sd@4 = uniform:0:7/' "$E2E_TMP/groups.ini"
+run "$LANTERN" fit "$E2E_TMP/groups.ini" --format json
+if [ "$STATUS" -eq 0 ] && grep -q '"prior":	"U(0, 7)"' "$OUT"; then
+    pass "a per-group prior in a run file applies to its group"
+else fail "a per-group prior in a run file applies to its group"; fi

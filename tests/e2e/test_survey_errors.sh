@@ -43,7 +43,7 @@ bad "NUL byte"                "$B/nul_byte.txt"            "NUL byte"           
 bad "a directory"             "$B"                         "is a directory"               --data "$B" --columns $MU
 bad "missing file"            "$B/no_such_file.txt"        "cannot open"                  --data "$B/no_such_file.txt" --columns $MU
 bad "FITS file that is not"   "$B/two_rows.fits"           "cannot open a FITS table"     --data "$B/two_rows.fits" --columns $MU
-bad "wrong covariance size"   "$B/cov_wrong_size.txt"      "is 3 x 3 but the table"       --data "$B/two_rows.txt" --columns $MU --cov "$B/cov_wrong_size.txt"
+bad "wrong covariance size"   "$B/cov_wrong_size.txt:1"    "is 3 x 3 but the table"       --data "$B/two_rows.txt" --columns $MU --cov "$B/cov_wrong_size.txt"
 bad "truncated covariance"    "$B/cov_truncated.txt:4"     "truncated after 3"            --data "$B/two_rows.txt" --columns $MU --cov "$B/cov_truncated.txt"
 bad "asymmetric covariance"   "$B/cov_asymmetric.txt:3"    "not symmetric"                --data "$B/two_rows.txt" --columns $MU --cov "$B/cov_asymmetric.txt"
 bad "covariance not pos. def" "$B/cov_not_positive_definite.txt" "not positive definite"  --data "$B/two_rows.txt" --columns $MU --cov "$B/cov_not_positive_definite.txt" --no-err-diag

@@ -123,6 +123,18 @@ static void test_errors(void **state)
     expect_fail("[s] x\n", 1, "unexpected text");
     expect_fail("[s s]\n", 1, "section name");
     expect_fail("[s]\nbad key = 1\n", 2, "key 'bad key'");
+    /* NAME@GROUP keys: a name, then a group label (no blanks, = : , . @) */
+    expect_fail("[s]\nsigma_int@ = 1\n", 2, "'@GROUP' after a parameter's name");
+    expect_fail("[s]\n@SNLS = 1\n", 2, "key '@SNLS'");
+    expect_fail("[s]\nsigma_int@a.b = 1\n", 2, "key 'sigma_int@a.b'");
+    expect_fail("[s]\nsigma_int@a@b = 1\n", 2, "key 'sigma_int@a@b'");
+    expect_fail("[s]\nsig ma@a = 1\n", 2, "key 'sig ma@a'");
+    lt_error e2;
+    lt_ini *ok = read_text("[priors]\nsigma_int@SNLS = uniform:0:1\noffset@low-z_2 = 0\n", &e2);
+    assert_non_null(ok);
+    assert_non_null(lt_ini_get(ok, "priors", "sigma_int@SNLS"));
+    assert_non_null(lt_ini_get(ok, "priors", "offset@low-z_2"));
+    lt_ini_free(ok);
     /* over-long lines are refused, never cut */
     size_t n = LT_INI_LINE_MAX + 100;
     char *text = malloc(n + 32);
