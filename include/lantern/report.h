@@ -312,10 +312,11 @@ int lt_report_write_figures(const char *dir, const lt_run_model *models, size_t 
  * warnings array for the caller to extend. */
 struct cJSON *lt_report_add_data(struct cJSON *o, const lt_survey_spec *data,
                                  const lt_like *l);
-/* Add "standardisation" ({n_objects, method, scatter, velocity_dispersion_km_s,
- * mass_split, lensing_per_z, tuned_sigma_int: {NAME: value}, calibrators:
- * {n, h0_offset_correlation}}) to o where l standardises a light-curve
- * table; cov is the covariance of l's free parameters (dim x dim). */
+/* Add "calibrators" ({n, h0_offset_correlation}) to o where l's table has
+ * calibrators, and "standardisation" ({n_objects, method, scatter,
+ * velocity_dispersion_km_s, mass_split, lensing_per_z, tuned_sigma_int:
+ * {NAME: value}}) where l standardises a light-curve table; cov is the
+ * covariance of l's free parameters (dim x dim). */
 void lt_report_std_json(struct cJSON *o, const lt_like *l, const double *cov);
 
 /* The text line "standardisation: METHOD likelihood, ..." (nothing

@@ -96,9 +96,17 @@ static int offset_mode(const lt_survey *s, const lt_like_spec *spec, lt_error *e
                                 "alpha and beta"), -1;
         return LT_OFFSET_SAMPLED;
     }
+    /* calibrators measure M itself: marginalising it would throw that away */
+    int calibrated = s->lc && s->lc->ncalibrators;
+    if (calibrated && offset != LT_OFFSET_DEFAULT && offset != LT_OFFSET_SAMPLED)
+        return lt_error_set(err, LT_EINPUT, "--offset", 0,
+                            "the table has %zu calibrators, which measure the offset (M): it "
+                            "is sampled, not %s",
+                            s->lc->ncalibrators, lt_offset_name(offset)), -1;
     if (offset == LT_OFFSET_DEFAULT)
-        offset = prior ? LT_OFFSET_SAMPLED : s->kind == LT_OBS_MAG ? LT_OFFSET_MARGINAL
-                                                                   : LT_OFFSET_NONE;
+        offset = prior || calibrated ? LT_OFFSET_SAMPLED
+                 : s->kind == LT_OBS_MAG ? LT_OFFSET_MARGINAL
+                                         : LT_OFFSET_NONE;
     if (offset != LT_OFFSET_NONE && s->kind == LT_OBS_DL)
         return lt_error_set(err, LT_EINPUT, "--offset", 0, "dl data have no offset"), -1;
     if (offset == LT_OFFSET_NONE && s->kind == LT_OBS_MAG)

@@ -166,8 +166,10 @@ static int residuals(const lt_sn *sn, lt_sn_work *w, const lt_cosmo *c)
     }
     if (lt_like_distmod(c, sn->grid, s->zhel, w->dm))
         return -1;
+    /* a calibrator's distance modulus is its own (mag - M = calib_mu) */
+    const double *cal = s->lc && s->lc->ncalibrators ? s->lc->calib_mu : NULL;
     for (size_t i = 0; i < s->n; i++)
-        w->r[i] = s->obs[i] - w->dm[i];
+        w->r[i] = s->obs[i] - (cal && !isnan(cal[i]) ? cal[i] : w->dm[i]);
     return 0;
 }
 
@@ -322,6 +324,8 @@ int lt_sn_compress(lt_like *l, lt_error *err)
         K = 12;
     if (2 * K > s->n)
         return LT_OK; /* a survey this small is cheaper to evaluate exactly */
+    if (s->lc && s->lc->ncalibrators)
+        return LT_OK; /* calibrators are not on the Hubble diagram the knots describe */
     lt_cosmo fid;
     if (fiducial(l, &fid, err))
         return err ? err->code : LT_EINPUT;

@@ -184,17 +184,17 @@ void lt_report_calibrated_line(FILE *f, const lt_calibrated *c, const double *va
 
 void lt_report_std_json(cJSON *o, const lt_like *l, const double *cov)
 {
+    lt_calibrated c;
+    if (lt_report_calibrated(l, cov, &c)) {
+        cJSON *k = cJSON_AddObjectToObject(o, "calibrators");
+        cJSON_AddItemToObject(k, "n", num((double)c.ncal));
+        cJSON_AddItemToObject(k, "h0_offset_correlation", num(c.correlation));
+    }
     const lt_std_spec *std = lt_like_std(l);
     if (!std)
         return;
     cJSON *j = cJSON_AddObjectToObject(o, "standardisation");
     cJSON_AddItemToObject(j, "n_objects", num((double)lt_like_table(l)->n));
-    lt_calibrated c;
-    if (lt_report_calibrated(l, cov, &c)) {
-        cJSON *k = cJSON_AddObjectToObject(j, "calibrators");
-        cJSON_AddItemToObject(k, "n", num((double)c.ncal));
-        cJSON_AddItemToObject(k, "h0_offset_correlation", num(c.correlation));
-    }
     cJSON_AddStringToObject(j, "method", lt_std_method_name(std->method));
     cJSON_AddStringToObject(j, "scatter", std->shared_scatter ? "shared" : "per-group");
     cJSON_AddItemToObject(j, "velocity_dispersion_km_s", num(std->velocity_dispersion));

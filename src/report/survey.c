@@ -36,7 +36,9 @@ cJSON *lt_report_survey_json(const lt_survey_spec *spec, const lt_survey *s,
         cJSON_AddItemToObject(e, "mean", lt_json_number(st->err_mean));
         cJSON_AddItemToObject(e, "max", lt_json_number(st->err_max));
     }
-    if (s->lc) {
+    if (s->lc && !s->lc->x1) /* a standardised table with calibrators */
+        cJSON_AddItemToObject(o, "n_calibrators", lt_json_number((double)st->lc.ncalibrators));
+    if (s->lc && s->lc->x1) {
         const lt_lightcurve_stats *lc = &st->lc;
         cJSON *l = cJSON_AddObjectToObject(o, "lightcurve");
         cJSON_AddItemToObject(l, "x1_min", lt_json_number(lc->x1_min));
@@ -101,7 +103,9 @@ void lt_report_survey_table(FILE *f, const lt_survey_spec *spec, const lt_survey
                st->err_median, st->err_mean, st->err_max);
     else
         fprintf(f, "errors     none in the table (the covariance holds them)\n");
-    if (s->lc) {
+    if (s->lc && !s->lc->x1)
+        fprintf(f, "calibrators %zu\n", st->lc.ncalibrators);
+    if (s->lc && s->lc->x1) {
         const lt_lightcurve_stats *lc = &st->lc;
         fprintf(f, "stretch    x1 from %.4g to %.4g; colour from %.4g to %.4g\n", lc->x1_min,
                 lc->x1_max, lc->color_min, lc->color_max);

@@ -17,6 +17,10 @@ static int cmp_double(const void *a, const void *b)
 static void lightcurve_stats(const lt_survey *s, lt_lightcurve_stats *lc)
 {
     const lt_lightcurve *c = s->lc;
+    lc->ncalibrators = c->ncalibrators;
+    lc->x1_min = lc->color_min = lc->mass_min = lc->x1_max = lc->color_max = lc->mass_max = NAN;
+    if (!c->x1) /* a standardised table's calibrators alone */
+        return;
     lc->x1_min = lc->color_min = lc->mass_min = INFINITY;
     lc->x1_max = lc->color_max = lc->mass_max = -INFINITY;
     for (size_t i = 0; i < s->n; i++) {
@@ -48,7 +52,6 @@ static void lightcurve_stats(const lt_survey *s, lt_lightcurve_stats *lc)
     }
     if (!(lc->mass_min <= lc->mass_max))
         lc->mass_min = lc->mass_max = NAN;
-    lc->ncalibrators = c->ncalibrators;
 }
 
 int lt_survey_stats_compute(const lt_survey *s, size_t nbins, lt_survey_stats *st,

@@ -263,8 +263,14 @@ static int build_cov(const lt_survey_spec *spec, const lt_rawtable *t, lt_survey
             lt_cov_free(c);
             return lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
         }
-        for (size_t i = 0; i < n; i++)
+        for (size_t i = 0; i < n; i++) {
             var[i] = t->v[LT_ROLE_ERR][i] * t->v[LT_ROLE_ERR][i];
+            /* a standardised table's calibrator: its distance's error too
+             * (a light-curve table's standardisation adds it itself) */
+            if (s->kind == LT_OBS_MAG && t->v[LT_ROLE_CALIBRATOR] &&
+                t->v[LT_ROLE_CALIBRATOR][i] == 1.0 && t->v[LT_ROLE_ERR_CALIB_MU])
+                var[i] += t->v[LT_ROLE_ERR_CALIB_MU][i] * t->v[LT_ROLE_ERR_CALIB_MU][i];
+        }
         rc = lt_cov_add_diag(c, var, err);
         free(var);
     }
@@ -481,7 +487,10 @@ static lt_survey *read_table(const lt_survey_spec *spec, lt_error *err)
         lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
         goto fail;
     }
-    if (map.kind == LT_OBS_MB && check_lightcurve(spec->data, &map, &t, err))
+    /* a standardised (mag) table may carry calibrators: their columns
+     * live in s->lc too, the light-curve ones left NULL */
+    int has_lc = map.kind == LT_OBS_MB || map.name[LT_ROLE_CALIBRATOR];
+    if (has_lc && check_lightcurve(spec->data, &map, &t, err))
         goto fail;
     s->kind = map.kind;
     s->n_read = t.n;
@@ -521,7 +530,7 @@ static lt_survey *read_table(const lt_survey_spec *spec, lt_error *err)
             t.text[0][i] = NULL;
         }
     }
-    if (map.kind == LT_OBS_MB && take_lightcurve(&map, &t, idx, m, s)) {
+    if (has_lc && take_lightcurve(&map, &t, idx, m, s)) {
         lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
         goto fail;
     }
@@ -567,19 +576,24 @@ static int join_doubles(lt_survey *const *part, size_t np, size_t n, size_t off,
 {
     *out = NULL;
     int any = 0;
+    /* a part without light-curve columns (a standardised table without
+     * calibrators) has none of the arrays */
+#define ARRAY(p) (lc && !part[p]->lc ? NULL \
+                  : *(double **)((char *)(lc ? (void *)part[p]->lc : (void *)part[p]) + off))
     for (size_t p = 0; p < np; p++)
-        any |= *(double **)((char *)(lc ? (void *)part[p]->lc : (void *)part[p]) + off) != NULL;
+        any |= ARRAY(p) != NULL;
     if (!any)
         return 0;
     if (!(*out = malloc((n ? n : 1) * sizeof **out)))
         return -1;
     size_t i = 0;
     for (size_t p = 0; p < np; p++) {
-        const double *a = *(double **)((char *)(lc ? (void *)part[p]->lc : (void *)part[p]) + off);
+        const double *a = ARRAY(p);
         for (size_t k = 0; k < part[p]->n; k++)
             (*out)[i++] = a ? a[k] : fill;
     }
     return 0;
+#undef ARRAY
 }
 
 /* The joined light-curve columns of the parts into s->lc: rows keep their
@@ -608,19 +622,19 @@ static int join_lightcurve(lt_survey *const *part, char (*name)[256],
         return -1;
     int cal = 0;
     for (size_t p = 0; p < np; p++)
-        cal |= part[p]->lc->calibrator != NULL;
+        cal |= part[p]->lc && part[p]->lc->calibrator;
     if (cal && !(lc->calibrator = calloc(m, sizeof *lc->calibrator)))
         return -1;
     size_t i = 0;
     for (size_t p = 0; p < np; p++) {
         const lt_lightcurve *q = part[p]->lc;
         for (size_t k = 0; k < part[p]->n; k++, i++) {
-            if (!(lc->group[i] = strdup(q->group ? q->group[k] : name[p])))
+            if (!(lc->group[i] = strdup(q && q->group ? q->group[k] : name[p])))
                 return -1;
-            if (q->calibrator)
+            if (q && q->calibrator)
                 lc->calibrator[i] = q->calibrator[k];
         }
-        lc->ncalibrators += q->ncalibrators;
+        lc->ncalibrators += q ? q->ncalibrators : 0;
     }
     return 0;
 }
@@ -716,7 +730,7 @@ static lt_survey *read_joined(const lt_survey_spec *spec, lt_error *err)
                          lt_obs_name(part[p]->kind), sp[0]->data, lt_obs_name(part[0]->kind));
             goto fail;
         }
-        if (lc && ((lc->mass != NULL) != (part[0]->lc->mass != NULL) ||
+        if (lc && lc->x1 && ((lc->mass != NULL) != (part[0]->lc->mass != NULL) ||
                    (lc->err_mass != NULL) != (part[0]->lc->err_mass != NULL))) {
             lt_error_set(err, LT_EINPUT, sp[p]->data, 0,
                          "host masses (mass, err_mass) are mapped for some of the joined tables "
@@ -730,10 +744,11 @@ static lt_survey *read_joined(const lt_survey_spec *spec, lt_error *err)
         goto fail;
     }
     s->kind = part[0]->kind;
-    int all_err = 1, all_id = 1;
+    int all_err = 1, all_id = 1, any_lc = 0;
     for (size_t p = 0; p < np; p++) {
         s->n += part[p]->n, s->n_read += part[p]->n_read;
         all_err &= part[p]->err != NULL, all_id &= part[p]->id != NULL;
+        any_lc |= part[p]->lc != NULL;
         for (size_t w = 0; w < part[p]->nwarnings; w++)
             lt_survey_warn(s, "%s: %s", name[p], part[p]->warnings[w]);
     }
@@ -744,7 +759,7 @@ static lt_survey *read_joined(const lt_survey_spec *spec, lt_error *err)
         (all_err && join_doubles(part, np, s->n, offsetof(lt_survey, err), 0, 0, &s->err)) ||
         !(s->row = malloc(m * sizeof *s->row)) ||
         (all_id && !(s->id = calloc(m, sizeof *s->id))) ||
-        (s->kind == LT_OBS_MB && join_lightcurve(part, name, np, s)))
+        (any_lc && join_lightcurve(part, name, np, s)))
         goto nomem;
     size_t i = 0;
     for (size_t p = 0; p < np; p++)

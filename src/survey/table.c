@@ -151,11 +151,19 @@ int lt_colmap_parse(const char *text, lt_colmap *map, lt_error *err)
                      "a light-curve table (mb) needs x1 and color mapped too");
         goto fail;
     }
+    /* a standardised table may hold calibrators (mag - M = calib_mu) */
+    int calib_role_ok = map->kind == LT_OBS_MAG;
     for (int r = LT_ROLE_X1; !lc && r < LT_ROLE_COUNT; r++)
-        if (r != LT_ROLE_ID && map->name[r]) {
+        if (r != LT_ROLE_ID && map->name[r] &&
+            !(calib_role_ok && (r == LT_ROLE_CALIBRATOR || r == LT_ROLE_CALIB_MU ||
+                                r == LT_ROLE_ERR_CALIB_MU))) {
             lt_error_set(err, LT_EINPUT, "--columns", 0,
-                         "%s is a light-curve role: it goes with mb (the peak magnitude), x1 "
-                         "and color, not with %s",
+                         r == LT_ROLE_CALIBRATOR || r == LT_ROLE_CALIB_MU ||
+                                 r == LT_ROLE_ERR_CALIB_MU
+                             ? "%s is a calibrators' role: it goes with mb (light curves) or "
+                               "mag (standardised magnitudes), not with %s"
+                             : "%s is a light-curve role: it goes with mb (the peak magnitude), "
+                               "x1 and color, not with %s",
                          lt_role_name(r, map->kind), lt_obs_name(map->kind));
             goto fail;
         }

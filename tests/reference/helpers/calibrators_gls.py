@@ -14,7 +14,9 @@ variances are err_mb^2 + sigma_int^2 + (0.055 z)^2 for the Hubble flow
 (lensing, Jonsson et al. 2010; no peculiar velocities: the fit is run with
 --velocity-dispersion 0) and err_mb^2 + sigma_int^2 + err_calib_mu^2 for a
 calibrator. H0 = 70 10^(y/5); its sd by the delta method (exact for the
-Laplace error at the mode, where the gradient vanishes).
+Laplace error at the mode, where the gradient vanishes). Under "mag": the
+same table read as standardised magnitudes (mag = mb), whose variances are
+err_mb^2, plus err_calib_mu^2 for a calibrator.
 
 usage: calibrators_gls.py TABLE.csv > reference.json
 """
@@ -63,18 +65,26 @@ def main(path):
     var = err_mb**2 + SIG**2 + np.where(cal == 1, e_cal**2, (0.055 * z)**2)
     X = np.column_stack([np.ones(n), np.where(cal == 1, 0.0, -1.0)])[keep]
     base = np.where(cal == 1, calib_mu, mu70)[keep]
-    W = 1.0 / var[keep]
-    A = X.T @ (W[:, None] * X)
-    theta = np.linalg.solve(A, X.T @ (W * (mb[keep] - base)))
-    cov = np.linalg.inv(A)
-    M, y = theta
-    h0 = 70.0 * 10 ** (y / 5)
-    sd_m, sd_y = np.sqrt(np.diag(cov))
-    sd_h0 = h0 * np.log(10) / 5 * sd_y
-    corr = cov[0, 1] / (sd_m * sd_y)  # h0 rises with y: the same sign
-    json.dump({"M": M, "sd_M": sd_m, "h0": h0, "sd_h0": sd_h0, "corr": corr,
-               "n_kept": int(keep.sum()), "n_cal": ncal, "h0_true": H0_TRUE,
-               "M_true": M_TRUE}, sys.stdout)
+
+    def gls(var):
+        W = 1.0 / var[keep]
+        A = X.T @ (W[:, None] * X)
+        theta = np.linalg.solve(A, X.T @ (W * (mb[keep] - base)))
+        cov = np.linalg.inv(A)
+        M, y = theta
+        h0 = 70.0 * 10 ** (y / 5)
+        sd_m, sd_y = np.sqrt(np.diag(cov))
+        sd_h0 = h0 * np.log(10) / 5 * sd_y
+        corr = cov[0, 1] / (sd_m * sd_y)  # h0 rises with y: the same sign
+        return {"M": M, "sd_M": sd_m, "h0": h0, "sd_h0": sd_h0, "corr": corr,
+                "n_kept": int(keep.sum()), "n_cal": ncal, "h0_true": H0_TRUE,
+                "M_true": M_TRUE}
+
+    out = gls(var)
+    # the same table read as standardised magnitudes (mag = mb, err = dmb):
+    # no scatter or lensing is added, only a calibrator's distance error
+    out["mag"] = gls(err_mb**2 + np.where(cal == 1, e_cal**2, 0.0))
+    json.dump(out, sys.stdout)
 
 
 if __name__ == "__main__":
