@@ -160,6 +160,8 @@ typedef struct lt_survey_spec {
     double zmin, zmax;    /* keep zmin <= z <= zmax; NaN for no cut */
     const char *keep_ids; /* a file of ids to keep (one a line), or NULL */
     const char *drop_ids; /* a file of ids to drop, or NULL */
+    const char *calib_cov; /* the calibrators' own covariance (one row and column per
+                            * calibrator, in table order, before cuts), added as modes */
     /* Several tables joined into one survey: this one, then more[0..nmore-1]
      * (each with its own columns, covariances and cuts), in that order. */
     const char *name;     /* the table's name, the group label of its rows when

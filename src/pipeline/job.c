@@ -120,6 +120,7 @@ static const rule rules[] = {
     {LT_JOB_DATA, "data", "zmax", "--zmax", K_Z, 0, 0, AT(data.zmax)},
     {LT_JOB_DATA, "data", "keep_ids", "--keep-ids", K_PATH, 0, 0, AT(data.keep_ids)},
     {LT_JOB_DATA, "data", "drop_ids", "--drop-ids", K_PATH, 0, 0, AT(data.drop_ids)},
+    {LT_JOB_DATA, "data", "calib_cov", "--calib-cov", K_PATH, 0, 0, AT(data.calib_cov)},
     {LT_JOB_DATA, "data", "cross_cov", "--cross-cov", K_PATH, 0, 0, AT(data.cross_cov)},
     {LT_JOB_DATA, "data", "bao", "--bao", K_PATH, 0, 0, AT(bao)},
     {LT_JOB_DATA, "data", "bao_cov", "--bao-cov", K_PATH, 0, 0, AT(bao_cov)},
@@ -451,7 +452,7 @@ static int survey_sections(lt_job *j, lt_ini *ini, lt_error *err)
                 return lt_error_set(err, LT_EINPUT, ini->path, en->line,
                                     "[%s] %s: a survey section takes a table's keys (file, "
                                     "columns, cov, modes, no_err_diag, zmin, zmax, keep_ids, "
-                                    "drop_ids); %s",
+                                    "drop_ids, calib_cov); %s",
                                     sec, en->key,
                                     r ? "this one goes in [data]" : "this one is unknown");
         }
@@ -878,6 +879,8 @@ static void write_table(text *b, const lt_survey_spec *t)
         add_path(b, "keep_ids", t->keep_ids);
     if (t->drop_ids)
         add_path(b, "drop_ids", t->drop_ids);
+    if (t->calib_cov)
+        add_path(b, "calib_cov", t->calib_cov);
 }
 
 int lt_job_write(const lt_job *j, const lt_like_spec *spec, const char *path, lt_error *err)

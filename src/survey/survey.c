@@ -9,6 +9,8 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include <lapacke.h>
+
 #include "lantern/text.h"
 #include "lantern/file.h"
 #include "internal.h"
@@ -249,6 +251,77 @@ static int idlist_has(const idlist *l, const char *id)
 }
 
 /* The covariance terms given as files, over all n rows of the table. */
+/* The calibrators' own covariance K (spec->calib_cov: one row and column
+ * per calibrator, in table order, before cuts) as modes of c: with K =
+ * V diag(l) V^T (LAPACK dsyevd), each eigenvector a mode of amplitude
+ * sqrt(l) on the calibrator rows, so the covariance keeps its cheap
+ * diagonal-plus-modes form (a dense block would cost a factorisation of
+ * the whole matrix at every evaluation of a standardisation). */
+static int add_calib_cov(const lt_survey_spec *spec, const lt_rawtable *t, lt_cov *c,
+                         lt_error *err)
+{
+    const char *path = spec->calib_cov;
+    if (!t->v[LT_ROLE_CALIBRATOR])
+        return lt_error_set(err, LT_EINPUT, path, 0,
+                            "a calibrators' covariance needs a calibrator column "
+                            "(calibrator=NAME in --columns)");
+    size_t n = t->n, ncal = 0;
+    for (size_t i = 0; i < n; i++)
+        ncal += t->v[LT_ROLE_CALIBRATOR][i] == 1.0;
+    double *m = NULL, *ev = NULL, *u = NULL, *amp = NULL;
+    size_t mn = 0;
+    int rc = lt_matrix_read(path, &m, &mn, err);
+    if (rc)
+        return rc;
+    if (mn != ncal) {
+        rc = lt_error_set(err, LT_EINPUT, path, lt_path_is_fits(path) ? 0 : 1,
+                          "the matrix is %zu x %zu but the table %s has %zu calibrators (one "
+                          "row and column each, in table order)",
+                          mn, mn, spec->data, ncal);
+        goto done;
+    }
+    ev = malloc((ncal ? ncal : 1) * sizeof *ev);
+    u = calloc(n && ncal ? n * ncal : 1, sizeof *u);
+    amp = malloc((ncal ? ncal : 1) * sizeof *amp);
+    if (!ev || !u || !amp) {
+        rc = lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
+        goto done;
+    }
+    double scale = 0.0;
+    for (size_t i = 0; i < ncal; i++)
+        scale = fmax(scale, fabs(m[i * ncal + i]));
+    /* row-major symmetric m is its own column-major transpose */
+    if (ncal && LAPACKE_dsyevd(LAPACK_COL_MAJOR, 'V', 'U', (lapack_int)ncal, m,
+                               (lapack_int)ncal, ev) != 0) {
+        rc = lt_error_set(err, LT_ENUMERIC, path, 0, "LAPACK dsyevd failed");
+        goto done;
+    }
+    for (size_t k = 0; k < ncal; k++) {
+        if (ev[k] < -1e-10 * scale) {
+            rc = lt_error_set(err, LT_EINPUT, path, 0,
+                              "not positive semi-definite: an eigenvalue is %g", ev[k]);
+            goto done;
+        }
+        amp[k] = sqrt(fmax(ev[k], 0.0));
+    }
+    /* column k of m (column-major) is eigenvector k; calibrator a's row */
+    size_t a = 0;
+    for (size_t i = 0; i < n; i++) {
+        if (t->v[LT_ROLE_CALIBRATOR][i] != 1.0)
+            continue;
+        for (size_t k = 0; k < ncal; k++)
+            u[i * ncal + k] = m[k * ncal + a];
+        a++;
+    }
+    rc = lt_cov_add_modes(c, ncal, u, amp, err);
+done:
+    free(m);
+    free(ev);
+    free(u);
+    free(amp);
+    return rc;
+}
+
 static int build_cov(const lt_survey_spec *spec, const lt_rawtable *t, lt_survey *s,
                      lt_cov **out, lt_error *err)
 {
@@ -329,6 +402,8 @@ static int build_cov(const lt_survey_spec *spec, const lt_rawtable *t, lt_survey
         free(u);
         free(amp);
     }
+    if (!rc && spec->calib_cov)
+        rc = add_calib_cov(spec, t, c, err);
     if (!rc && spec->no_err_diag && spec->ncov == 0 && !spec->modes)
         rc = lt_error_set(err, LT_EINPUT, "--no-err-diag", 0,
                           "leaves no covariance: give --cov with the full matrix, or drop "

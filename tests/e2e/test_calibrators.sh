@@ -46,6 +46,28 @@ if [ "$STATUS" -eq 0 ] && grep -q "calibrators: 40 external distances set M, so 
     pass "the text report gives H0, M and their correlation"
 else fail "the text report gives H0, M and their correlation"; fi
 
+# the calibrators' covariance as a file of its own (their errors plus a
+# shared 0.02 mag anchor) instead of err_calib_mu, against the GLS with
+# the full matrix
+CALCOLS="z=z,mb=mb,err_mb=dmb,x1=x1,err_x1=dx1,color=c,err_color=dc,calibrator=cal,calib_mu=mu_ext,id=name"
+run "$LANTERN" fit --data "$T" --columns "$CALCOLS" --calib-cov "$T.calib_cov.txt" "${FIX[@]}" --format json
+if [ "$STATUS" -eq 0 ] && /usr/bin/python3 - "$OUT" "$E2E_TMP/ref.json" <<'PY'
+import json, sys
+j, r = json.load(open(sys.argv[1])), json.load(open(sys.argv[2]))["calib_cov"]
+p = j["params"]
+print("# calib_cov: H0 lantern %.5f +- %.5f, GLS %.5f +- %.5f" % (
+    p["h0"]["best"], p["h0"]["sd"], r["h0"], r["sd_h0"]))
+sys.exit(0 if (abs(p["h0"]["best"] - r["h0"]) < 1e-3 * r["sd_h0"]
+               and abs(p["offset"]["best"] - r["M"]) < 1e-3 * r["sd_M"]
+               and abs(p["h0"]["sd"] / r["sd_h0"] - 1) < 0.005
+               and abs(p["offset"]["sd"] / r["sd_M"] - 1) < 0.005) else 1)
+PY
+then pass "a calibrators' covariance file (--calib-cov) matches the GLS solution with the full matrix"
+else fail "a calibrators' covariance file (--calib-cov) matches the GLS solution with the full matrix"; fi
+{ echo 3; echo "1 0 0"; echo "0 1 0"; echo "0 0 1"; } >"$E2E_TMP/k3.txt"
+run "$LANTERN" fit --data "$T" --columns "$CALCOLS" --calib-cov "$E2E_TMP/k3.txt" "${FIX[@]}"
+expect_error "a calibrators' covariance of the wrong size: file and line" 2 "k3.txt:1: the matrix is 3 x 3 but the table .* has 40 calibrators"
+
 # the same table as standardised magnitudes (mag = mb): mag - M = calib_mu
 # for calibrators, the offset sampled, against the GLS with err^2 (+
 # err_calib_mu^2) weights

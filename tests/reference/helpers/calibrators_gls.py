@@ -16,11 +16,14 @@ variances are err_mb^2 + sigma_int^2 + (0.055 z)^2 for the Hubble flow
 calibrator. H0 = 70 10^(y/5); its sd by the delta method (exact for the
 Laplace error at the mode, where the gradient vanishes). Under "mag": the
 same table read as standardised magnitudes (mag = mb), whose variances are
-err_mb^2, plus err_calib_mu^2 for a calibrator.
+err_mb^2, plus err_calib_mu^2 for a calibrator. Under "calib_cov": the
+light-curve case with the calibrators' covariance given as a matrix (their
+errors squared plus a shared 0.02^2), written to TABLE.calib_cov.txt.
 
 usage: calibrators_gls.py TABLE.csv > reference.json
 """
 import json
+import math
 import sys
 
 import numpy as np
@@ -81,6 +84,25 @@ def main(path):
                 "M_true": M_TRUE}
 
     out = gls(var)
+    # the calibrators' own covariance instead of err_calib_mu: their
+    # errors plus a shared 0.02 mag anchor (written beside the table, for
+    # --calib-cov); the GLS then needs the full matrix
+    kcal = np.diag(e_cal[cal == 1] ** 2) + 0.02 ** 2
+    with open(path + ".calib_cov.txt", "w") as f:
+        f.write("%d\n" % kcal.shape[0])
+        for row in kcal:
+            f.write(" ".join(repr(v) for v in row) + "\n")
+    C = np.diag(np.where(cal == 1, err_mb**2 + SIG**2, var))
+    ic = np.flatnonzero(cal == 1)
+    C[np.ix_(ic, ic)] += kcal
+    C = C[np.ix_(keep, keep)]
+    Ci = np.linalg.inv(C)
+    A = X.T @ Ci @ X
+    theta = np.linalg.solve(A, X.T @ Ci @ (mb[keep] - base))
+    cv = np.linalg.inv(A)
+    h0 = 70.0 * 10 ** (theta[1] / 5)
+    out["calib_cov"] = {"M": theta[0], "sd_M": math.sqrt(cv[0, 0]), "h0": h0,
+                        "sd_h0": h0 * np.log(10) / 5 * math.sqrt(cv[1, 1])}
     # the same table read as standardised magnitudes (mag = mb, err = dmb):
     # no scatter or lensing is added, only a calibrator's distance error
     out["mag"] = gls(err_mb**2 + np.where(cal == 1, e_cal**2, 0.0))
