@@ -78,13 +78,13 @@ else fail "[survey.NAME] sections fit as the whole table; data.tables names them
 # a cross-covariance: a shared 0.02 mag offset of the harbor objects, and
 # a shared 0.05 mag one of the lanterns with harbor's first ten objects (an
 # invented systematic; two rank-one parts, so positive semi-definite), over
-# the 190 rows of the two tables before cuts. A dense covariance costs a
+# the 230 rows of the two tables before cuts. A dense covariance costs a
 # Cholesky factorisation per evaluation, so this fit is small: the chi2
 # method with omega_m, alpha, beta and gamma fixed (H0 and M free).
 /usr/bin/python3 - "$E2E_TMP" <<'PY'
 import sys
-a = [0.0] * 40 + [0.02] * 150
-b = [0.05] * 40 + [0.05] * 10 + [0.0] * 140
+a = [0.0] * 80 + [0.02] * 150
+b = [0.05] * 80 + [0.05] * 10 + [0.0] * 140
 N = len(a)
 with open(sys.argv[1] + "/cross.txt", "w") as f:
     f.write("%d\n" % N)
@@ -109,7 +109,7 @@ else fail "a cross-covariance over joined tables acts as the same --cov on the w
 # refusals, each with file and line
 { echo 10; for i in $(seq 10); do echo "0 0 0 0 0 0 0 0 0 0"; done; } >"$E2E_TMP/small.txt"
 run "$LANTERN" fit "$E2E_TMP/joined.ini" --cross-cov "$E2E_TMP/small.txt"
-expect_error "a cross-covariance of the wrong size: file and line" 2 "small.txt:1: the matrix is 10 x 10 but the 3 joined tables have 490 rows"
+expect_error "a cross-covariance of the wrong size: file and line" 2 "small.txt:1: the matrix is 10 x 10 but the 3 joined tables have 530 rows"
 run "$LANTERN" fit --data "$E2E_TMP/lanterns.csv" --columns "$COLS" --data "$ROOT/data/lamplighter/survey.csv" \
     --columns z=z,zhel=zhel,mag=mag,err=err,id=id --model lcdm-flat
 expect_error "tables with different observables refused" 2 "survey.csv: its observable is mag but .*lanterns.csv's is mb"
