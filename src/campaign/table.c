@@ -26,13 +26,16 @@ static void print_group(FILE *f, const lt_campaign_group *g)
         snprintf(h68, sizeof h68, "cover %.4g%% (p)", 100 * g->params[0].s.nominal68);
         snprintf(h95, sizeof h95, "cover %.4g%% (p)", 100 * g->params[0].s.nominal95);
     }
-    fprintf(f, "  %-9s %9s %21s %15s %15s %17s %17s\n", "parameter", "truth", "bias",
+    int w = 9; /* names like sigma_int@GROUP widen the first column */
+    for (size_t j = 0; j < g->nparams; j++)
+        w = (int)fmax(w, (double)strlen(g->params[j].name));
+    fprintf(f, "  %-*s %9s %21s %15s %15s %17s %17s\n", w, "parameter", "truth", "bias",
             "pull mean", "pull width", h68, h95);
     for (size_t j = 0; j < g->nparams; j++) {
         const lt_bias_stats *s = &g->params[j].s;
-        fprintf(f, "  %-9s %9.4g %10.3g +- %7.2g %6.3f +- %5.3f %6.3f +- %5.3f %6.3f (%6.2g) "
+        fprintf(f, "  %-*s %9.4g %10.3g +- %7.2g %6.3f +- %5.3f %6.3f +- %5.3f %6.3f (%6.2g) "
                    "%6.3f (%6.2g)\n",
-                g->params[j].name, s->truth, s->bias_mean, s->bias_err, s->pull_mean,
+                w, g->params[j].name, s->truth, s->bias_mean, s->bias_err, s->pull_mean,
                 s->pull_mean_err, s->pull_width, s->pull_width_err, s->cover68, s->cover68_p,
                 s->cover95, s->cover95_p);
     }
