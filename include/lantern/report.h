@@ -316,7 +316,7 @@ struct cJSON *lt_report_add_data(struct cJSON *o, const lt_survey_spec *data,
  * calibrators, and "standardisation" ({n_objects, method, scatter,
  * velocity_dispersion_km_s, mass_split, lensing_per_z, tuned_sigma_int:
  * {NAME: value}}) where l standardises a light-curve table; cov is the
- * covariance of l's free parameters (dim x dim). */
+ * covariance of l's free parameters (dim x dim), or NULL (no correlation). */
 void lt_report_std_json(struct cJSON *o, const lt_like *l, const double *cov);
 
 /* The text line "standardisation: METHOD likelihood, ..." (nothing
@@ -329,8 +329,9 @@ typedef struct lt_calibrated {
     size_t h0_at, offset_at;  /* indices among l's free parameters */
     double correlation;       /* of h0 and offset, from the covariance given */
 } lt_calibrated;
-/* Fill c from cov (dim x dim over l's free parameters); 1 where l's table
- * has calibrators and h0 and offset are both free, else 0. */
+/* Fill c from cov (dim x dim over l's free parameters; NULL: correlation
+ * NaN); 1 where l's table has calibrators and h0 and offset are both free,
+ * else 0. */
 int lt_report_calibrated(const lt_like *l, const double *cov, lt_calibrated *c);
 /* The text line "calibrators: N ...: H0 = ..., M = ..., correlation r",
  * with value and sd indexed like l's free parameters. */

@@ -106,8 +106,8 @@ typedef struct lt_sim {
 
 /* The true value of a fitted parameter's name in scenario sc, or NaN when
  * the scenario does not set it: cosmological parameters; offset (M, shifted
- * by 5 log10(h0_fixed / h0) when the fit holds h0 at h0_fixed, NaN for
- * h0_fixed free); and for light curves alpha, beta, gamma, sigma_int,
+ * by 5 log10(h0_fixed / h0) when the fit holds h0 at h0_fixed; M itself
+ * for h0_fixed NaN, h0 free); and for light curves alpha, beta, gamma, sigma_int,
  * x1_mean, x1_sd, color_mean, color_sd, with @TIER for a tier's (sigma_int
  * alone only where every tier has the same). */
 double lt_scenario_truth(const lt_scenario *sc, const char *name, double h0_fixed);

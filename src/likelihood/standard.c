@@ -228,7 +228,9 @@ static void *std_setup(const void *config, const lt_like *l, lt_error *err)
         /* a calibrator's distance is its own (Cepheids, TRGB): neither its
          * redshift nor lensing enters, only the distance's error */
         if (lc->calibrator && lc->calibrator[i]) {
-            double e = lc->err_calib_mu ? lc->err_calib_mu[i] : 0.0;
+            double e = lc->err_calib_mu && !isnan(lc->err_calib_mu[i]) ? lc->err_calib_mu[i]
+                                                                      : 0.0; /* NaN: a joined
+                                                                              * table without */
             t->v_extra[i] = e * e;
         }
         if (!lc->mass)

@@ -121,6 +121,7 @@ static const rule rules[] = {
     {LT_JOB_DATA, "data", "keep_ids", "--keep-ids", K_PATH, 0, 0, AT(data.keep_ids)},
     {LT_JOB_DATA, "data", "drop_ids", "--drop-ids", K_PATH, 0, 0, AT(data.drop_ids)},
     {LT_JOB_DATA, "data", "calib_cov", "--calib-cov", K_PATH, 0, 0, AT(data.calib_cov)},
+    {LT_JOB_DATA, "data", "name", "--table-name", K_TEXT, 0, 0, AT(data.name)},
     {LT_JOB_DATA, "data", "cross_cov", "--cross-cov", K_PATH, 0, 0, AT(data.cross_cov)},
     {LT_JOB_DATA, "data", "bao", "--bao", K_PATH, 0, 0, AT(bao)},
     {LT_JOB_DATA, "data", "bao_cov", "--bao-cov", K_PATH, 0, 0, AT(bao_cov)},
@@ -236,6 +237,11 @@ static lt_survey_spec *current_table(lt_job *j)
 static int data_flag(lt_job *j, const char *origin, lt_error *err)
 {
     if (j->data_flags++ == 0) {
+        /* one table from the run file keeps its other keys (a new file,
+         * the same columns); several [survey.NAME] tables are replaced
+         * whole, cross-covariance included */
+        if (j->nparts)
+            lt_survey_spec_init(&j->data), j->cov_from_flags = 0;
         j->nparts = 0, j->data.more = NULL, j->data.nmore = 0, j->data.name = NULL;
         return LT_OK;
     }
@@ -255,6 +261,12 @@ static int apply(lt_job *j, const rule *r, const char *key, const char *value,
         if (rc)
             return rc;
     }
+    /* with a run file's several tables, a table flag would not say which */
+    if (!from_file && table_key(r) && j->nparts && !j->data_flags)
+        return lt_error_set(err, LT_EINPUT, origin, 0,
+                            "the run file joins %zu tables ([survey.NAME]): give this key in a "
+                            "table's section, or --data to replace the tables",
+                            j->nparts + 1);
     lt_survey_spec *table = table_key(r) ? current_table(j) : &j->data;
     char *slot = table_key(r) ? (char *)table + (r->off - offsetof(lt_job, data)) : (char *)j + r->off;
     if (r->k == K_RD && strcmp(value, "free") && strcmp(value, "formula"))
@@ -448,6 +460,9 @@ static int survey_sections(lt_job *j, lt_ini *ini, lt_error *err)
                                     "[data] %s describes a table, and the run file names its "
                                     "tables in [survey.NAME] sections: move it into one",
                                     en->key);
+            if (!strcmp(en->section, sec) && r && r->off == offsetof(lt_job, data.name))
+                return lt_error_set(err, LT_EINPUT, ini->path, en->line,
+                                    "[%s] name: the section names its table (%s)", sec, name);
             if (!strcmp(en->section, sec) && !(r && table_key(r)))
                 return lt_error_set(err, LT_EINPUT, ini->path, en->line,
                                     "[%s] %s: a survey section takes a table's keys (file, "
@@ -773,10 +788,10 @@ static char *absolute(const char *path)
 
 int lt_job_absolute(lt_job *j, lt_survey_spec *spec, lt_error *err)
 {
-    const char **paths[8 + LT_SURVEY_MAX_COV] = {
-        &spec->data, &spec->modes, &spec->keep_ids, &spec->drop_ids,
-        &j->bao,     &j->bao_cov,  &j->cmb,         &j->cmb_cov};
-    size_t n = 8;
+    const char **paths[10 + LT_SURVEY_MAX_COV] = {
+        &spec->data, &spec->modes, &spec->keep_ids, &spec->drop_ids,  &j->bao,
+        &j->bao_cov, &j->cmb,      &j->cmb_cov,     &spec->calib_cov, &spec->cross_cov};
+    size_t n = 10;
     for (size_t i = 0; i < spec->ncov; i++)
         paths[n++] = &spec->cov[i];
     for (size_t i = 0; i < n; i++)
@@ -850,8 +865,9 @@ static void add_final(text *b, const lt_job *j, int prior)
             add(b, "%s = %s\n", all[k]->name, all[k]->value);
 }
 
-/* A table's keys (as [data] or a [survey.NAME] section has them). */
-static void write_table(text *b, const lt_survey_spec *t)
+/* A table's keys (as [data] or a [survey.NAME] section has them; a
+ * section's header is its name). */
+static void write_table(text *b, const lt_survey_spec *t, int section)
 {
     char x[32];
     if (t->data) /* none for measurements alone */
@@ -881,6 +897,8 @@ static void write_table(text *b, const lt_survey_spec *t)
         add_path(b, "drop_ids", t->drop_ids);
     if (t->calib_cov)
         add_path(b, "calib_cov", t->calib_cov);
+    if (t->name && !section)
+        add(b, "name = %s\n", t->name);
 }
 
 int lt_job_write(const lt_job *j, const lt_like_spec *spec, const char *path, lt_error *err)
@@ -897,7 +915,7 @@ int lt_job_write(const lt_job *j, const lt_like_spec *spec, const char *path, lt
         add(&b, "models = %s\n", j->models);
     add(&b, "[data]\n");
     if (!j->nparts)
-        write_table(&b, &j->data);
+        write_table(&b, &j->data, 0);
     if (j->data.cross_cov)
         add_path(&b, "cross_cov", j->data.cross_cov);
     /* the other terms' files, and how r_d is made */
@@ -923,7 +941,7 @@ int lt_job_write(const lt_job *j, const lt_like_spec *spec, const char *path, lt
         char name[256];
         lt_survey_spec_name(t, name, sizeof name);
         add(&b, "[survey.%s]\n", name);
-        write_table(&b, t);
+        write_table(&b, t, 1);
     }
     if (j->model)
         add(&b, "[model]\nname = %s\n", j->model);

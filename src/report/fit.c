@@ -169,7 +169,7 @@ int lt_report_calibrated(const lt_like *l, const double *cov, lt_calibrated *c)
     if (ih == d || im == d)
         return 0;
     c->h0_at = ih, c->offset_at = im;
-    c->correlation = cov[ih * d + im] / sqrt(cov[ih * d + ih] * cov[im * d + im]);
+    c->correlation = cov ? cov[ih * d + im] / sqrt(cov[ih * d + ih] * cov[im * d + im]) : NAN;
     return 1;
 }
 
@@ -297,7 +297,7 @@ cJSON *lt_report_fit_json(const lt_like *l, const lt_fit_result *r, const lt_sur
     cJSON_AddBoolToObject(o, "laplace_ok", r->laplace_ok);
     if (!r->laplace_ok)
         cJSON_AddStringToObject(o, "laplace_note", r->laplace_note);
-    lt_report_std_json(o, l, r->cov);
+    lt_report_std_json(o, l, r->laplace_ok ? r->cov : NULL);
 
     cJSON *params = cJSON_AddObjectToObject(o, "params");
     for (size_t i = 0; i < d; i++) {

@@ -204,6 +204,11 @@ static int read_tier(lt_ini *ini, const char *section, const lt_scenario *sc, lt
                             "[%s]: error and calibration must be >= 0", section);
     if (sc->kind == LT_OBS_MB && (rc = read_lightcurve_tier(ini, section, sc, t, line, err)))
         return rc;
+    /* a light-curve table's err_mb is the tier's error alone: 0 would make
+     * its covariance singular */
+    if (sc->kind == LT_OBS_MB && !(t->error > 0))
+        return lt_error_set(err, LT_EINPUT, ini->path, lt_ini_get(ini, section, "error")->line,
+                            "[%s]: error (err_mb) must be > 0 for light curves", section);
     if (!strcmp(spread, "volume"))
         t->volume = 1;
     else if (!strcmp(spread, "uniform"))

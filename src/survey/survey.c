@@ -2,6 +2,7 @@
  * Reading a survey: the table, the covariance terms, the cuts, and the
  * factorisation that proves the total covariance positive definite.
  */
+#include <ctype.h>
 #include <math.h>
 #include <stdarg.h>
 #include <stddef.h>
@@ -134,6 +135,9 @@ static int take_lightcurve(const lt_colmap *map, lt_rawtable *t, const size_t *i
         for (size_t a = 0; a < m; a++)
             v[a] = t->v[cols[k].role][idx[a]];
     }
+    /* calib_mu means nothing without a calibrator column: no row is one */
+    for (size_t a = 0; lc->calib_mu && !map->name[LT_ROLE_CALIBRATOR] && a < m; a++)
+        lc->calib_mu[a] = NAN;
     if (map->name[LT_ROLE_CALIBRATOR]) {
         if (!(lc->calibrator = malloc((m ? m : 1) * sizeof *lc->calibrator)))
             return -1;
@@ -520,6 +524,12 @@ lt_survey *lt_survey_read(const lt_survey_spec *spec, lt_error *err)
 {
     if (spec->nmore)
         return read_joined(spec, err);
+    if (spec->cross_cov) {
+        lt_error_set(err, LT_EINPUT, spec->cross_cov, 0,
+                     "a cross-covariance joins several tables, and there is one: give it "
+                     "with --cov instead");
+        return NULL;
+    }
     lt_survey *s = read_table(spec, err);
     if (s && factor(spec, s, err)) {
         lt_survey_free(s);
@@ -778,14 +788,18 @@ static lt_survey *read_joined(const lt_survey_spec *spec, lt_error *err)
         char nm[256];
         lt_survey_spec_name(sp[p], nm, sizeof nm);
         const lt_lightcurve *lc = part[p]->lc;
-        /* a table name labels the rows of a light-curve table without a
-         * group column, so it must be a usable label */
-        if (lc && !lc->group &&
-            (!*nm || strlen(nm) > LT_GROUP_NAME_MAX || strpbrk(nm, "=:,. \t@"))) {
+        /* a table's name heads its [survey.NAME] section in the settings
+         * a resume reads, and labels the group of light-curve rows
+         * without a group column (sigma_int@NAME) */
+        int name_ok = *nm && strlen(nm) <= LT_GROUP_NAME_MAX;
+        for (const char *c = nm; *c; c++)
+            name_ok &= isalnum((unsigned char)*c) || *c == '_' || *c == '-';
+        if (!name_ok) {
             lt_error_set(err, LT_EINPUT, sp[p]->data, 0,
-                         "the table's name '%s' labels its rows' group (sigma_int@NAME): it needs "
-                         "1 to %d characters and none of = : , . @ or blanks; name the table "
-                         "([survey.NAME] in a run file) or give it a group column",
+                         "the table's name '%s' (it names the table's section in the settings "
+                         "and its rows' group, sigma_int@NAME) needs 1 to %d letters, digits, "
+                         "'_' or '-': name it (--table-name NAME, or [survey.NAME] in a run "
+                         "file)",
                          nm, LT_GROUP_NAME_MAX);
             goto fail;
         }
@@ -794,7 +808,7 @@ static lt_survey *read_joined(const lt_survey_spec *spec, lt_error *err)
             if (!strcmp(name[q], name[p])) {
                 lt_error_set(err, LT_EINPUT, sp[p]->data, 0,
                              "two joined tables are named '%s' (%s and %s): name them apart "
-                             "([survey.NAME] sections in a run file)",
+                             "(--table-name NAME, or [survey.NAME] sections in a run file)",
                              nm, sp[q]->data, sp[p]->data);
                 goto fail;
             }
@@ -849,10 +863,11 @@ static lt_survey *read_joined(const lt_survey_spec *spec, lt_error *err)
     if (!(s->cov = lt_cov_join(covs, np, err)) ||
         (spec->cross_cov && add_cross(spec, part, np, s, err)))
         goto fail;
-    if (lt_cov_factor(s->cov, err)) {
+    int frc;
+    if ((frc = lt_cov_factor(s->cov, err))) {
         char msg[LT_ERROR_MSG_MAX];
         snprintf(msg, sizeof msg, "%s", err ? err->msg : "");
-        lt_error_set(err, LT_EINPUT, spec->cross_cov ? spec->cross_cov : spec->data, 0,
+        lt_error_set(err, frc, spec->cross_cov ? spec->cross_cov : spec->data, 0,
                      "%s; the total is the %zu tables' own covariances%s", msg, np,
                      spec->cross_cov ? " plus this cross-covariance" : "");
         goto fail;

@@ -116,7 +116,21 @@ expect_error "tables with different observables refused" 2 "survey.csv: its obse
 cp "$E2E_TMP/beacon.csv" "$E2E_TMP/beacon_of_the_deep_fields.csv"
 run "$LANTERN" fit --data "$E2E_TMP/lanterns.csv" --columns "$COLS" --data "$E2E_TMP/beacon_of_the_deep_fields.csv" \
     --columns "$NOGROUP" --model lcdm-flat
-expect_error "a table name that cannot be a group label refused" 2 "beacon_of_the_deep_fields.csv: the table's name 'beacon_of_the_deep_fields' labels its rows' group"
+expect_error "a table name that cannot be a group label refused" 2 "beacon_of_the_deep_fields.csv: the table's name 'beacon_of_the_deep_fields' \(it names the table's section"
+# --table-name names it; two tables of one stem need it
+run "$LANTERN" fit --data "$E2E_TMP/lanterns.csv" --columns "$COLS" --data "$E2E_TMP/beacon_of_the_deep_fields.csv" \
+    --columns "$NOGROUP" --table-name deep --model lcdm-flat --format json --starts 1
+if [ "$STATUS" -eq 0 ] && grep -q '"sigma_int@deep"' "$OUT"; then
+    pass "--table-name names a table and its rows' group"
+else fail "--table-name names a table and its rows' group"; fi
+# a table flag with a run file's several tables, before any --data: refused
+run "$LANTERN" fit "$E2E_TMP/joined.ini" --zmin 0.05
+expect_error "a table flag with several run-file tables is refused" 2 "--zmin: the run file joins 3 tables"
+# a --data flag replaces the run file's tables whole (their columns too)
+run "$LANTERN" fit "$E2E_TMP/joined.ini" --data "$D/survey.csv" --format json
+expect_error "--data replaces a run file's tables whole (their columns too)" 2 "--columns: no column mapping given"
+run "$LANTERN" fit --data "$D/survey.csv" --columns "$COLS" --cross-cov "$E2E_TMP/cross.txt" --model lcdm-flat
+expect_error "a cross-covariance with one table is refused" 2 "cross.txt: a cross-covariance joins several tables, and there is one"
 { echo "[data]"; echo "file = beacon.csv"; echo "[survey.a]"; echo "file = harbor.csv"; echo "[model]"; echo "name = lcdm-flat"; } >"$E2E_TMP/bad.ini"
 run "$LANTERN" fit "$E2E_TMP/bad.ini"
 expect_error "[data] file beside [survey.NAME] sections: file and line" 2 "bad.ini:2: \[data\] file describes a table"

@@ -480,6 +480,9 @@ static void test_scenario_errors(void **state)
                           "[tier.t]\nz_min = 0.1\nz_max = 0.5\ncount = 5\nerror = 0.1\n"
                           "calibrators = maybe\n",
                           11, "calibrators = 'maybe'");
+    expect_scenario_error("[survey]\nseed = 1\nobservable = mb\n[cosmology]\nmodel = lcdm\n"
+                          "[tier.t]\nz_min = 0.1\nz_max = 0.5\ncount = 5\nerror = 0\n",
+                          10, "error (err_mb) must be > 0");
 #undef CASE
 }
 

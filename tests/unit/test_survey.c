@@ -5,6 +5,7 @@
  * The malformed-file corpus is exercised end to end in
  * tests/e2e/test_survey_errors.sh.
  */
+#include <math.h>
 #include <setjmp.h>
 #include <stdarg.h>
 #include <stddef.h>
@@ -411,7 +412,21 @@ static void test_join_tables(void **state)
     more[0].name = "a b";
     more[0].columns = "z=z,mb=mb,err_mb=dmb,x1=x1,color=c,mass=m,id=name";
     assert_null(lt_survey_read(&sa, &err));
-    assert_non_null(strstr(err.msg, "the table's name 'a b' labels its rows' group"));
+    assert_non_null(strstr(err.msg, "the table's name 'a b' (it names the table's section"));
+    /* one table: a cross-covariance has nothing to join */
+    sa.nmore = 0;
+    sa.cross_cov = cross;
+    assert_null(lt_survey_read(&sa, &err));
+    assert_string_equal(err.file, cross);
+    assert_non_null(strstr(err.msg, "a cross-covariance joins several tables"));
+    sa.cross_cov = NULL;
+    /* calib_mu without a calibrator column: no row is a calibrator */
+    const char *jc = TMP("jc.csv", "z,mb,dmb,x1,c,mu\n0.01,14,0.1,0,0,33.1\n0.02,15,0.1,0,0,34.6\n");
+    lt_survey *sc = read_survey(jc, "z=z,mb=mb,err_mb=dmb,x1=x1,color=c,calib_mu=mu", &err);
+    assert_non_null(sc);
+    assert_true(isnan(sc->lc->calib_mu[0]) && isnan(sc->lc->calib_mu[1]));
+    assert_int_equal(sc->lc->ncalibrators, 0);
+    lt_survey_free(sc);
     char name[64];
     lt_survey_spec_name(&sa, name, sizeof name);
     assert_string_equal(name, "ja");
