@@ -522,8 +522,13 @@ int lt_job_data_section(lt_job *j, lt_ini *ini, const char *section, lt_survey_s
  * replace the key's value in ini, or add the key. */
 static int override(lt_ini *ini, const char *flag, const char *text, lt_error *err)
 {
-    const char *dot = strchr(text, '.'), *eq = strchr(text, '=');
-    if (!dot || !eq || dot > eq || dot == text || eq == dot + 1)
+    /* the key follows the last dot before '=': sections may hold dots
+     * ([survey.NAME]), keys do not */
+    const char *eq = strchr(text, '='), *dot = NULL;
+    for (const char *p = text; eq && p < eq; p++)
+        if (*p == '.')
+            dot = p;
+    if (!dot || !eq || dot == text || eq == dot + 1)
         return lt_error_set(err, LT_EINPUT, flag, 0, "'%s' is not section.key=value", text);
     char *section = strndup(text, (size_t)(dot - text));
     char *key = strndup(dot + 1, (size_t)(eq - dot - 1)), *value = strdup(eq + 1);

@@ -106,6 +106,10 @@ if compare "$E2E_TMP/whole_cov.json" "$E2E_TMP/joined_cov.json" 0.01 &&
     pass "a cross-covariance over joined tables acts as the same --cov on the whole table (and changes the fit)"
 else fail "a cross-covariance over joined tables acts as the same --cov on the whole table"; fi
 
+# --override reaches a table's section (its name holds the section's dot)
+run "$LANTERN" run "$E2E_TMP/joined.ini" --override run.models=lcdm-flat --override survey.harbor.file=no-such-table.csv --out "$E2E_TMP/ovr" --quiet
+expect_error "--override survey.NAME.key=value reaches that table" 2 "no-such-table.csv: cannot open"
+
 # refusals, each with file and line
 { echo 10; for i in $(seq 10); do echo "0 0 0 0 0 0 0 0 0 0"; done; } >"$E2E_TMP/small.txt"
 run "$LANTERN" fit "$E2E_TMP/joined.ini" --cross-cov "$E2E_TMP/small.txt"
