@@ -18,7 +18,7 @@ CC ?= cc
 PKG_CONFIG ?= pkg-config
 
 # Every library lantern uses, by pkg-config name.
-PKGS := gsl cfitsio libcjson inih lapacke openblas plplot
+PKGS := gsl cfitsio libcjson inih lapacke openblas plplot cairo
 TEST_PKGS := cmocka
 
 PKG_CFLAGS := $(shell $(PKG_CONFIG) --cflags $(PKGS) 2>/dev/null)

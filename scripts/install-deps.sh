@@ -6,7 +6,7 @@ set -eu
 
 PACKAGES="build-essential pkg-config
 libgsl-dev libcfitsio-dev libopenblas-dev liblapacke-dev
-libplplot-dev plplot-driver-cairo
+libplplot-dev plplot-driver-cairo libcairo2-dev
 libinih-dev libcjson-dev libcmocka-dev
 libopenmpi-dev openmpi-bin
 python3 python3-astropy python3-scipy python3-numpy

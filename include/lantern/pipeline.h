@@ -27,7 +27,7 @@
  *                  max_steps, target_ess, thin (the chain files keep every
  *                  thin-th draw)
  *   [nested]       live_points
- *   [output]       dir, format
+ *   [output]       dir, format, figure_size
  * Unknown sections and keys, over-long lines and bad values are errors
  * naming the file and line (or the flag).
  *
@@ -98,6 +98,8 @@ typedef struct lt_job {
     const char *sampler; /* [sampler] method: "auto" (the default), "importance", "mcmc" */
     long live_points;
     const char *out, *format;
+    double figure_width; /* [output] figure_size, --figure-size: the figures' width in
+                          * inches (lt_report_figure_width; 0: a double column) */
     int force, quiet, verbose;
     int lenient;         /* priors and fixes apply to the models that have them */
 } lt_job;

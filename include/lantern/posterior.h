@@ -81,6 +81,67 @@ int lt_post_edge_density(const double *x, const double *w, size_t n, double a, d
 int lt_post_edge_note(const char *name, const lt_prior *p, double lo, double hi, char *buf,
                       size_t size);
 
+/* ---- smoothed densities (the figures' contours and marginals) ---- */
+
+/*
+ * A Gaussian kernel density estimate of weighted draws on a grid: what the
+ * figures draw contours and marginal curves from.
+ *
+ * The kernel's covariance is f^2 times the draws' weighted covariance (the
+ * unbiased divisor W - sum w^2 / W), with Scott's factor f = n^(-1/(d+4))
+ * for d dimensions (D. W. Scott, Multivariate Density Estimation, 1992,
+ * eq. 6.42; scipy.stats.gaussian_kde's default), n the effective sample
+ * size: Kish's (sum w)^2 / sum w^2, or ess when that is smaller and
+ * positive (the draws of a Markov chain are correlated: n draws hold about
+ * ess draws' worth of information, and a bandwidth for n would draw noise
+ * as islands). bw_scale (0: 1) multiplies f.
+ *
+ * Where a uniform prior bounds a parameter, the density is reflected at
+ * the bound (Silverman 1986, section 2.10): the kernel mass of each draw
+ * beyond the edge is folded back, so the estimate is not halved at a hard
+ * edge. edge[k] (NULL: none) gives the bounds: {xlo, xhi, ylo, yhi},
+ * -INFINITY / INFINITY where there is none.
+ *
+ * The density is evaluated at the centres of an nx x ny grid of cells on
+ * [x0, x1] x [y0, y1] (g[ix * ny + iy]), normalised so that it integrates
+ * to the weight of all draws over the whole plane (1 if everything is in
+ * view); mass outside the window is counted in *outside (may be NULL):
+ * the fraction of the density's integral not on the grid. Draws are
+ * binned linearly on a grid of the same spacing before the convolution
+ * (Wand & Jones, Kernel Smoothing, 1995, appendix D): the estimate agrees
+ * with the direct sum to O((cell/bandwidth)^2).
+ *
+ * NaN draws and weights that are not positive and finite are left out
+ * (w NULL: equal weights). Returns LT_EINPUT for fewer than two usable
+ * draws, a degenerate spread (zero variance) or a bad window, LT_ENOMEM.
+ */
+typedef struct lt_kde_opts {
+    double bw_scale; /* 0: 1 */
+    double ess;      /* effective sample size to use if smaller than Kish's; <= 0: none */
+    const double *edge; /* {xlo, xhi, ylo, yhi} (1-D: {lo, hi}), or NULL */
+} lt_kde_opts;
+int lt_post_kde2d(const double *x, const double *y, const double *w, size_t n,
+                  const lt_kde_opts *o, double x0, double x1, double y0, double y1, int nx,
+                  int ny, double *g, double *outside, lt_error *err);
+/* The same in one dimension: f = n^(-1/5), edge {lo, hi}; nx points. */
+int lt_post_kde1d(const double *x, const double *w, size_t n, const lt_kde_opts *o, double x0,
+                  double x1, int nx, double *g, double *outside, lt_error *err);
+/*
+ * The levels of a density grid g of n cells of area da (for 1-D, length)
+ * above which the highest-density region holds each fraction p[k] of the
+ * total mass, total = sum g da + outside (lt_post_kde2d's *outside: mass not
+ * on the grid counts, so a region is never drawn larger than it should be
+ * merely because the window clips the tails). levels[k] is 0 if the grid
+ * cannot hold p[k]. The region {g >= level} is the HPD region on the grid.
+ */
+void lt_post_hpd_levels(const double *g, size_t n, double da, double outside, const double *p,
+                        size_t np, double *levels);
+/* The masses the figures' regions hold: those of the one- and two-sigma
+ * intervals of a Gaussian, erf(1/sqrt 2) and erf(2/sqrt 2) (common
+ * practice: such regions are called "68%" and "95%"). */
+#define LT_POST_MASS_1SIGMA 0.682689492137086
+#define LT_POST_MASS_2SIGMA 0.954499736103642
+
 /* ---- posteriors ---- */
 
 /*

@@ -147,6 +147,22 @@ void lt_report_compare_warnings(const lt_model_result *m, char *edges, size_t es
  * nested sample; written atomically. */
 int lt_report_write_nested(const char *dir, const lt_model_result *m, lt_error *err);
 
+/* ---- how people write names (labels.c) ---- */
+
+/* The forms of a label: LaTeX (math in $...$) for tables, PLplot's text
+ * (#d, #u: subscript and back; UTF-8 Greek letters and minus sign) for
+ * figures. */
+typedef enum { LT_LABEL_TEX = 0, LT_LABEL_PLOT } lt_label_form;
+/* A parameter's symbol with its unit where it has one ("omega_m":
+ * "$\Omega_\mathrm{m}$", "Ω#dm#u"); a per-group name NAME@GROUP is NAME's
+ * symbol with the group after it in brackets; a name with no symbol comes
+ * back as written (LaTeX: in \texttt, its specials escaped). Into buf
+ * (truncated to size); returns buf. */
+const char *lt_report_param_label(const char *name, lt_label_form f, char *buf, size_t size);
+/* A model's name for people ("lcdm-flat": "flat $\Lambda$CDM", "flat
+ * ΛCDM"); an unknown name as written. Into buf; returns buf. */
+const char *lt_report_model_label(const char *name, lt_label_form f, char *buf, size_t size);
+
 /* ---- runs of several models (lantern run, lantern report) ---- */
 
 /* One sampled model as saved in its folder (summary.json, chains.fits or chains.csv). */
@@ -254,17 +270,6 @@ lt_quote lt_quote_of(const lt_run_model *m, size_t col);
 int lt_report_write_tables(const char *dir, const lt_run_model *models, size_t n,
                            lt_error *err);
 
-/*
- * The histogram the figures draw m's densities and contours from: columns
- * cx, cy binned on [x0, x1) x [y0, y1) into nx x ny cells, g[ix * ny + iy]
- * the sum of the weights of the draws in a cell (1 a draw when unweighted);
- * draws outside are left out. ny = 1 bins cx alone (y ignored). Returns the
- * weight binned. The 68% and 95% contours are the levels of this histogram
- * (smoothed) above which it holds those fractions of its weight.
- */
-double lt_run_model_histogram(const lt_run_model *m, size_t cx, size_t cy, double x0, double x1,
-                              double y0, double y1, int nx, int ny, double *g);
-
 /* ---- the report of saved runs (lantern run, lantern report) ---- */
 
 #define LT_REPORT_MAX_MODELS 32
@@ -278,6 +283,7 @@ typedef struct lt_report_set {
     char *name;                          /* the first run's name, from its summary */
     lt_survey *survey;                   /* the first model's data (lt_report_set_add_run) */
     size_t loaded;
+    double figure_width_in;              /* the figures' width (0: double column) */
     lt_run_model models[LT_REPORT_MAX_MODELS];
 } lt_report_set;
 void lt_report_set_init(lt_report_set *rs);
@@ -300,12 +306,27 @@ int lt_report_set_add_run(lt_report_set *rs, const char *run, int label, lt_erro
 int lt_report_set_write(lt_report_set *rs, const char *dir, const char *name,
                         const lt_survey *s, lt_error *err);
 
-/* Figures (PLplot, cairo drivers), PNG and PDF: hubble.*, and per model
- * posterior_<model>.*, plane_<model>.* (curved and w0-wa models) and
- * traces_<model>.png. The survey s gives the Hubble diagram's data (NULL:
- * no Hubble diagram, for measurements alone). */
+/* The printed widths of figures: a journal's single and double column,
+ * in inches (about 8.6 and 17.8 cm; common practice across journals). */
+#define LT_FIGURE_SINGLE_IN 3.4
+#define LT_FIGURE_DOUBLE_IN 7.0
+/* A figure width from text: "single" (LT_FIGURE_SINGLE_IN), "double"
+ * (LT_FIGURE_DOUBLE_IN) or inches from 2 to 20 ("5.5"). Returns 0, or -1
+ * for anything else (*width_in unchanged). */
+int lt_report_figure_width(const char *text, double *width_in);
+#define LT_FIGURE_WIDTH_TEXT                                                                   \
+    "single (a journal's column, 3.4 in), double (two columns, 7 in; the default) or a width " \
+    "in inches from 2 to 20"
+
+/* Figures (PLplot through cairo), each a PNG at 300 dpi and a vector PDF
+ * of width_in inches (0: LT_FIGURE_DOUBLE_IN): hubble.*, and per model
+ * posterior_<model>.*, plane_<model>.* (curved, flat wCDM and w0-wa
+ * models) and traces_<model>.*. The survey s gives the Hubble diagram's
+ * data (NULL: no Hubble diagram, for measurements alone). Regions are
+ * the highest-density regions holding 68.27% and 95.45% of a Gaussian
+ * kernel density estimate of the draws (lt_post_kde2d). */
 int lt_report_write_figures(const char *dir, const lt_run_model *models, size_t n,
-                            const lt_survey *s, lt_error *err);
+                            const lt_survey *s, double width_in, lt_error *err);
 
 /* Add the "data" block (files, columns, a digest of the survey and the
  * measurements) and the "warnings" list of l's survey to o; returns the

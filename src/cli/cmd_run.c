@@ -98,10 +98,11 @@ done:
 /* ---- lantern report ---- */
 int cli_report_runs(int argc, char **argv)
 {
-    const char *runs[MAX_MODELS], *out = NULL;
+    const char *runs[MAX_MODELS], *out = NULL, *size = NULL;
     size_t nr = 0;
     int force = 0;
     const cli_opt opts[] = {{"--out", .text = &out}, {"--force", .flag = &force},
+                            {"--figure-size", .text = &size},
                             {"", .list = runs, .n = &nr, .max = MAX_MODELS}, {0}};
     int status = cli_options(argc, argv, 1, "report", cli_help_report, opts, NULL, 0, NULL);
     if (status)
@@ -114,6 +115,8 @@ int cli_report_runs(int argc, char **argv)
     lt_error_clear(&err);
     lt_report_set rs;
     lt_report_set_init(&rs);
+    if (size && lt_report_figure_width(size, &rs.figure_width_in))
+        return cli_usage_error("--figure-size", "'%s' is not %s", size, LT_FIGURE_WIDTH_TEXT);
     int prepared = 0;
     for (size_t r = 0; r < nr; r++)
         if (lt_report_set_add_run(&rs, runs[r], nr > 1, &err)) {

@@ -95,7 +95,8 @@ typedef enum {
     K_STD,    /* the standardisation: latent or chi2 */
     K_SCATTER,/* the scatter: per-group or shared */
     K_NONNEG, /* a number >= 0 */
-    K_NUMBER  /* a finite number */
+    K_NUMBER, /* a finite number */
+    K_FIGSIZE /* single, double or a width in inches (lt_report_figure_width) */
 } kind;
 
 typedef struct {
@@ -155,6 +156,7 @@ static const rule rules[] = {
      AT(live_points)},
     {LT_JOB_OUTPUT, "output", "dir", "--out", K_PATH, 0, 0, AT(out)},
     {LT_JOB_OUTPUT, "output", "format", "--format", K_TEXT, 0, 0, AT(format)},
+    {LT_JOB_OUTPUT, "output", "figure_size", "--figure-size", K_FIGSIZE, 0, 0, AT(figure_width)},
 };
 #undef AT
 #define NRULES (sizeof rules / sizeof rules[0])
@@ -366,6 +368,10 @@ static int apply(lt_job *j, const rule *r, const char *key, const char *value,
             (r->k == K_NONNEG && !(*(double *)slot >= 0)))
             return refuse(r, value, origin, line, from_file,
                           r->k == K_NONNEG ? "a number >= 0" : "a number", err);
+        return LT_OK;
+    case K_FIGSIZE:
+        if (lt_report_figure_width(value, (double *)slot))
+            return refuse(r, value, origin, line, from_file, LT_FIGURE_WIDTH_TEXT, err);
         return LT_OK;
     case K_ESS:
         if (lt_parse_double(value, (double *)slot) || !(*(double *)slot >= 1))

@@ -293,6 +293,7 @@ int lt_pipeline_run_job(lt_job *j, const lt_run_job_opts *o, char **dir, int *un
     lt_survey *s = NULL;
     lt_report_set rs;
     lt_report_set_init(&rs);
+    rs.figure_width_in = j->figure_width;
     int rc, prepared = 0;
     j->lenient = 1; /* a prior applies to the models that have the parameter */
     combos cb;

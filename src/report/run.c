@@ -221,7 +221,8 @@ int lt_report_set_write(lt_report_set *rs, const char *dir, const char *name,
         }
     }
     if ((rc = lt_report_write_tables(dir, rs->models, rs->n, err)) ||
-        (rc = lt_report_write_figures(dir, rs->models, rs->n, s ? s : rs->survey, err)) ||
+        (rc = lt_report_write_figures(dir, rs->models, rs->n, s ? s : rs->survey,
+                                           rs->figure_width_in, err)) ||
         (rc = write_summary(dir, name, rs, err)))
         return rc;
     return LT_OK;

@@ -475,25 +475,6 @@ int lt_run_model_load(const char *dir, lt_run_model *m, lt_error *err)
     return rc;
 }
 
-double lt_run_model_histogram(const lt_run_model *m, size_t cx, size_t cy, double x0, double x1,
-                              double y0, double y1, int nx, int ny, double *g)
-{
-    size_t n = m->nchains * m->ndraws, nc = m->nparams + m->nderived;
-    double total = 0;
-    memset(g, 0, (size_t)nx * (size_t)ny * sizeof *g);
-    for (size_t i = 0; i < n; i++) {
-        double x = m->draws[i * nc + cx], y = m->draws[i * nc + cy];
-        int ix = (int)floor((x - x0) / (x1 - x0) * nx);
-        int iy = ny == 1 ? 0 : (int)floor((y - y0) / (y1 - y0) * ny);
-        if (ix >= 0 && ix < nx && iy >= 0 && iy < ny) {
-            /* weighted: the 68% and 95% levels then hold that much of the weight */
-            double w = m->weights ? m->weights[i] : 1.0;
-            g[ix * ny + iy] += w;
-            total += w;
-        }
-    }
-    return total;
-}
 
 int lt_run_model_same_data(const lt_run_model *a, const lt_run_model *b)
 {

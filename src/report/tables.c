@@ -147,47 +147,6 @@ static long col_of(const lt_run_model *m, const char *name)
     return -1;
 }
 
-/* A parameter's name in LaTeX: its symbol, or for a name without one the
- * name itself in typewriter type with its underscores escaped. Returns a
- * constant or buf. */
-static const char *tex_name(const char *p, char *buf, size_t size)
-{
-    static const struct {
-        const char *name, *tex;
-    } t[] = {{"omega_m", "$\\Omega_\\mathrm{m}$"}, {"omega_de", "$\\Omega_\\mathrm{DE}$"},
-             {"omega_k", "$\\Omega_k$"},         {"w0", "$w_0$"},
-             {"wa", "$w_a$"},                     {"h0", "$H_0$ [km\\,s$^{-1}$\\,Mpc$^{-1}$]"},
-             {"offset", "$M$ [mag]"},            {"q0", "$q_0$"},
-             {"z_t", "$z_\\mathrm{t}$"},          {"age_gyr", "age [Gyr]"},
-             {"w_pivot", "$w_\\mathrm{p}$"},       {"omega_b_h2", "$\\Omega_\\mathrm{b} h^2$"},
-             {"m_nu", "$\\sum m_\\nu$ [eV]"},      {"rd_h", "$r_\\mathrm{d} h$ [Mpc]"},
-             {"rd", "$r_\\mathrm{d}$ [Mpc]"}};
-    for (size_t i = 0; i < sizeof t / sizeof t[0]; i++)
-        if (!strcmp(t[i].name, p))
-            return t[i].tex;
-    size_t k = (size_t)snprintf(buf, size, "\\texttt{");
-    for (; *p && k + 3 < size; p++) {
-        if (*p == '_')
-            buf[k++] = '\\';
-        buf[k++] = *p;
-    }
-    snprintf(buf + k, size - k, "}");
-    return buf;
-}
-
-static const char *tex_model(const char *m)
-{
-    static const struct {
-        const char *name, *tex;
-    } t[] = {{"lcdm-flat", "flat $\\Lambda$CDM"}, {"lcdm", "$\\Lambda$CDM"},
-             {"wcdm-flat", "flat $w$CDM"},        {"wcdm", "$w$CDM"},
-             {"w0wa-flat", "flat $w_0w_a$"},      {"w0wa", "$w_0w_a$"}};
-    for (size_t i = 0; i < sizeof t / sizeof t[0]; i++)
-        if (!strcmp(t[i].name, m))
-            return t[i].tex;
-    return m;
-}
-
 /* The probes of a column for its TeX header: "sn+bao+cmb" as
  * "SN+BAO+CMB" ("-" for a summary that does not say). Returns buf. */
 static const char *tex_probes(const char *probes, char *buf, size_t size)
@@ -214,10 +173,12 @@ static const char *tex_probes(const char *probes, char *buf, size_t size)
  * columns' probes differ. Returns a constant or buf. */
 static const char *tex_column(const lt_run_model *m, int with_probes, char *buf, size_t size)
 {
+    char probes[128], model[128];
+    lt_report_model_label(m->name, LT_LABEL_TEX, model, sizeof model);
     if (!with_probes)
-        return tex_model(m->name);
-    char probes[128];
-    snprintf(buf, size, "%s (%s)", tex_model(m->name), tex_probes(m->probes, probes, sizeof probes));
+        snprintf(buf, size, "%s", model);
+    else
+        snprintf(buf, size, "%s (%s)", model, tex_probes(m->probes, probes, sizeof probes));
     return buf;
 }
 
@@ -401,7 +362,8 @@ int lt_report_write_tables(const char *dir, const lt_run_model *models, size_t n
         fputc('c', f);
     fputs("}\n\\toprule\nParameter", f);
     for (size_t i = 0; i < n; i++)
-        fprintf(f, " & %s%s", tex_model(models[i].name), models[i].converged ? "" : "$^\\ddagger$");
+        fprintf(f, " & %s%s", lt_report_model_label(models[i].name, LT_LABEL_TEX, cell, sizeof cell),
+                models[i].converged ? "" : "$^\\ddagger$");
     if (t.many_probes) { /* a second header row: the probes of each column */
         fputs(" \\\\\n", f);
         for (size_t i = 0; i < n; i++)
@@ -409,7 +371,7 @@ int lt_report_write_tables(const char *dir, const lt_run_model *models, size_t n
     }
     fputs(" \\\\\n\\midrule\n", f);
     for (size_t p = 0; p < nn; p++) {
-        fprintf(f, "%s", tex_name(names[p], cell, sizeof cell));
+        fprintf(f, "%s", lt_report_param_label(names[p], LT_LABEL_TEX, cell, sizeof cell));
         for (size_t i = 0; i < n; i++) {
             long c = col_of(&models[i], names[p]);
             if (c < 0) {

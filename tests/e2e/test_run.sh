@@ -158,10 +158,10 @@ cmp = json.load(open(d + "/summary.json"))["comparison"]
 assert cmp[-1]["delta_aic"] is None and cmp[-1]["ln_b"] is None and not cmp[-1]["same_data_as_first"]
 assert cmp[1]["delta_aic"] is not None and cmp[1]["same_data_as_first"]
 # both runs' lcdm-flat in posterior_lcdm-flat.png, in the colours of the
-# first and second members of an overlay, (31, 119, 180) and (214, 39, 40),
-# as figures.c's palette has them
+# first and second members of an overlay, blue (0, 114, 178) and vermillion
+# (213, 94, 0), as plotkit.c's palette has them (Okabe and Ito's)
 png = d + "/posterior_lcdm-flat.png"
-blue, red = figures.png_colour_count(png, (31, 119, 180)), figures.png_colour_count(png, (214, 39, 40))
+blue, red = figures.png_colour_count(png, (0, 114, 178)), figures.png_colour_count(png, (213, 94, 0))
 assert blue > 100 and red > 100, (blue, red)
 PY
 then pass "report across runs of other data: comparison cells blank with a footnote, same-named models overlaid"

@@ -1,7 +1,7 @@
 /*
  * Unit tests of reading a sampled model back (lt_run_model_load) with and
  * without importance weights, and of what the tables and figures take from
- * the weighted draws (lt_quote_of, lt_run_model_histogram).
+ * the weighted draws (lt_quote_of, the densities of lt_post_kde1d and lt_post_kde2d).
  *
  * The folder is written here by hand: draws of N(0, 1) (truncated below at
  * -0.1) for omega_m and of |N(0, 1)| for omega_de, each weighted by the
@@ -115,7 +115,7 @@ static const char *write_folder(const char *sub, const layout *L)
     return folder;
 }
 
-/* The weight-weighted mean of the bin centres of a 1-D histogram on [x0, x1). */
+/* The mean of a density on the centres of nb cells on [x0, x1). */
 static double hist_mean(const double *h, int nb, double x0, double x1)
 {
     double s = 0, sw = 0;
@@ -178,36 +178,46 @@ static void test_weighted_folder(void **state)
     assert_int_equal(q.kind, LT_QUOTE_UPPER);
     assert_abs(q.value, want, 0.025);
 
-    /* the figures' histogram: the weighted mean of omega_m on [-0.1, 2.9)
-     * is that of N(0.5, 0.6^2) truncated at a = -0.1, mu + sd phi(-1) /
-     * (1 - Phi(-1)) = 0.6726 (closed form of the truncated normal; Phi from
-     * gsl_cdf_ugaussian_P); unweighted it would be phi(-0.1) / (1 -
-     * Phi(-0.1)) = 0.7353. Bin centres move the mean by well under 0.002
-     * here (bins of 0.05); Monte Carlo error about 0.004. */
+    /* the figures' densities (lt_post_kde1d, lt_post_kde2d on the loaded
+     * draws and weights, reflected at omega_m's truncation): the weighted
+     * mean of omega_m's density on [-0.1, 2.9) is that of N(0.5, 0.6^2)
+     * truncated at a = -0.1, mu + sd phi(-1) / (1 - Phi(-1)) = 0.6726
+     * (closed form of the truncated normal; Phi from gsl_cdf_ugaussian_P);
+     * unweighted it would be phi(-0.1) / (1 - Phi(-0.1)) = 0.7353. The
+     * kernel moves the mean by well under 0.005 here; Monte Carlo error
+     * about 0.004. */
     enum { NB = 60 };
-    double h[NB], g[NB * NB];
+    static double h[NB], g[NB * NB], xs[N], ys[N];
+    for (size_t i = 0; i < N; i++)
+        xs[i] = m.draws[i * (m.nparams + m.nderived)], ys[i] = m.draws[i * (m.nparams + m.nderived) + 1];
     double phi1 = exp(-0.5) / sqrt(2 * M_PI);
     double mean_a = 0.5 + 0.6 * phi1 / (1 - gsl_cdf_ugaussian_P(-1.0));
-    double total = lt_run_model_histogram(&m, 0, 0, -0.1, 2.9, -0.1, 2.9, NB, 1, h);
-    print_message("histogram of omega_m: mean %.4f (closed form %.4f), weight %.1f of %d\n",
-                  hist_mean(h, NB, -0.1, 2.9), mean_a, total, N);
+    double edge[4] = {-0.1, INFINITY, 0.0, INFINITY};
+    lt_kde_opts o = {.edge = edge};
+    assert_int_equal(lt_post_kde1d(xs, m.weights, N, &o, -0.1, 2.9, NB, h, NULL, &err), LT_OK);
+    print_message("density of omega_m: mean %.4f (closed form %.4f)\n", hist_mean(h, NB, -0.1, 2.9),
+                  mean_a);
     assert_abs(hist_mean(h, NB, -0.1, 2.9), mean_a, 0.012);
-    /* the fraction of the weight below the mean 0.5 (a bin edge): (Phi(0) -
+    /* the fraction of the mass below the mean 0.5 (a cell edge): (Phi(0) -
      * Phi(-1)) / (1 - Phi(-1)) = 0.4057; unweighted 0.4285 */
-    double below = 0;
+    double below = 0, total = 0;
+    for (int i = 0; i < NB; i++)
+        total += h[i];
     for (int i = 0; i < 12; i++)
         below += h[i] / total;
     double want_below = (0.5 - gsl_cdf_ugaussian_P(-1.0)) / (1 - gsl_cdf_ugaussian_P(-1.0));
     assert_abs(below, want_below, 0.008);
-    /* the 2-D histogram the contours come from: its omega_de margin is
+    /* the 2-D density the regions come from: its omega_de margin is
      * |N(0, 0.6^2)|, mean 0.6 sqrt(2/pi) = 0.4787 (closed form); unweighted
      * sqrt(2/pi) = 0.798 */
-    lt_run_model_histogram(&m, 0, 1, -0.1, 2.9, 0.0, 3.0, NB, NB, g);
+    assert_int_equal(lt_post_kde2d(xs, ys, m.weights, N, &o, -0.1, 2.9, 0.0, 3.0, NB, NB, g, NULL,
+                                   &err),
+                     LT_OK);
     double margin[NB] = {0};
     for (int i = 0; i < NB; i++)
         for (int k = 0; k < NB; k++)
             margin[k] += g[i * NB + k];
-    print_message("2-D histogram, omega_de margin: mean %.4f (closed form %.4f)\n",
+    print_message("2-D density, omega_de margin: mean %.4f (closed form %.4f)\n",
                   hist_mean(margin, NB, 0.0, 3.0), 0.6 * sqrt(2 / M_PI));
     assert_abs(hist_mean(margin, NB, 0.0, 3.0), 0.6 * sqrt(2 / M_PI), 0.012);
 
