@@ -111,9 +111,13 @@ int lt_post_edge_note(const char *name, const lt_prior *p, double lo, double hi,
  * (Wand & Jones, Kernel Smoothing, 1995, appendix D): the estimate agrees
  * with the direct sum to O((cell/bandwidth)^2).
  *
+ * A kernel narrower than a cell (sd) in some direction (two columns tied
+ * to each other, as Omega_DE = 1 - Omega_m in a flat model) is widened to
+ * a cell there, so that the grid can draw it without islands.
+ *
  * NaN draws and weights that are not positive and finite are left out
  * (w NULL: equal weights). Returns LT_EINPUT for fewer than two usable
- * draws, a degenerate spread (zero variance) or a bad window, LT_ENOMEM.
+ * draws, a column without spread (zero variance) or a bad window, LT_ENOMEM.
  */
 typedef struct lt_kde_opts {
     double bw_scale; /* 0: 1 */

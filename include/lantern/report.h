@@ -213,6 +213,23 @@ typedef struct lt_run_model {
  */
 int lt_run_model_load(const char *dir, lt_run_model *m, lt_error *err);
 void lt_run_model_free(lt_run_model *m);
+/*
+ * Draws from a plain table (lantern plot): a text file whose first line
+ * that is not blank names the columns (after a '#' if it has one), split at
+ * commas when that line has one and at blanks otherwise, with '#' lines
+ * after it taken as comments; or a FITS binary table (".fits", ".fit",
+ * ".fits.gz", with CFITSIO's extended names: file.fits[2]), its numeric
+ * columns by their TTYPEn names. Every column is a parameter but "weight"
+ * (the rows' weights: finite, >= 0) and lantern's own chain, step, logpost
+ * and chi2, so that a chains.csv reads as a table too. m gets no priors
+ * (NULL), no best fit (NaN), one chain of every row, and the file's name
+ * without folder and extension as its name and label. A column with an
+ * empty name (the row index pandas' to_csv writes first) is left out. A row
+ * with another number of fields, a value that is not a number (nan is
+ * allowed) or a column named twice is an input error naming the file and
+ * line.
+ */
+int lt_run_model_load_table(const char *path, lt_run_model *m, lt_error *err);
 
 /* m's worst R-hat as text for a note: "1.31", or "- (importance-weighted
  * draws)" where there is none (weighted draws have no R-hat). Returns buf. */
@@ -327,6 +344,63 @@ int lt_report_figure_width(const char *text, double *width_in);
  * kernel density estimate of the draws (lt_post_kde2d). */
 int lt_report_write_figures(const char *dir, const lt_run_model *models, size_t n,
                             const lt_survey *s, double width_in, lt_error *err);
+
+/* ---- lantern plot: posteriors of any runs or tables in one figure ---- */
+
+#define LT_PLOT_MAX_SERIES 16
+typedef struct lt_plot_range {
+    const char *name;
+    double lo, hi;
+} lt_plot_range;
+typedef struct lt_plot_text {
+    const char *name, *text; /* text: PLplot's (UTF-8; #d, #u for sub- and superscripts) */
+} lt_plot_text;
+typedef struct lt_plot_value {
+    const char *name;
+    double value;
+} lt_plot_value;
+/* What lt_report_plot draws; zeros and NULLs are the defaults. */
+typedef struct lt_plot_opts {
+    const char *const *params; /* the parameters, in order (NULL: every free parameter
+                                * of the models, as the run figures have them) */
+    size_t nparams;
+    int pair;                  /* one 2-D panel of exactly two parameters, not a matrix */
+    double width_in, height_in; /* 0: LT_FIGURE_DOUBLE_IN; 0: the layout's own height */
+    const char *const *labels; /* a legend label per model (NULL, or a NULL entry: its own) */
+    const lt_plot_range *ranges; /* axis ranges that replace the automatic ones */
+    size_t nranges;
+    const lt_plot_text *axis; /* axis labels that replace the typeset names */
+    size_t naxis;
+    const lt_plot_value *truth; /* values marked with a "+" and dotted lines */
+    size_t ntruth;
+    int no_best;               /* leave out the best fits' marks */
+} lt_plot_opts;
+/*
+ * The posteriors of n models (runs' models, or tables of draws from
+ * lt_run_model_load_table) overlaid in one figure at path: a PDF (vector)
+ * or PNG (300 dpi) by its extension. Each model has its colour, its
+ * regions of 68.27% and 95.45% of the mass and its marginals, as the run
+ * figures draw them; best fits and truths are marked and kept in view.
+ * A parameter no model has, a range or label for a parameter not drawn, a
+ * range with lo >= hi, more than LT_PLOT_MAX_SERIES models, a pair layout
+ * without exactly two parameters or another extension is an input error.
+ */
+int lt_report_plot(const char *path, const lt_run_model *models, size_t n,
+                   const lt_plot_opts *o, lt_error *err);
+/*
+ * The draws lantern plot reads from each of nsrc sources, into out[0..*n):
+ *  - a run's folder (its summary.json lists model folders): every model,
+ *    or those named model when model is not NULL;
+ *  - a sampled model's folder (summary.json and chains.csv: lantern
+ *    sample --out, or a model's folder in a run), and its chains.csv or
+ *    chains.fits named alone: its draws with their priors and best fit;
+ *  - any other file: a plain table (lt_run_model_load_table).
+ * With several sources each legend label starts with its source (a run's
+ * name, or the path). At most max models; on failure none is kept (the
+ * error names the source).
+ */
+int lt_report_plot_sources(const char *const *src, size_t nsrc, const char *model,
+                           lt_run_model *out, size_t max, size_t *n, lt_error *err);
 
 /* Add the "data" block (files, columns, a digest of the survey and the
  * measurements) and the "warnings" list of l's survey to o; returns the

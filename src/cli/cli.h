@@ -113,6 +113,7 @@ int cli_compare(int argc, char **argv);
 int cli_bench(int argc, char **argv);
 int cli_campaign(int argc, char **argv);
 int cli_forecast(int argc, char **argv);
+int cli_plot(int argc, char **argv);
 /* Ctrl-C, SIGTERM and SIGHUP set the flag returned, for the samplers to
  * stop at their next safe point (args.c). */
 volatile sig_atomic_t *cli_catch_signals(void);

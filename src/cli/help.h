@@ -26,6 +26,7 @@ extern const char cli_help_report[];
 extern const char cli_help_bench[];
 extern const char cli_help_campaign[];
 extern const char cli_help_forecast[];
+extern const char cli_help_plot[];
 /* The DATA and MODEL options, which the commands' texts include. */
 extern const char cli_help_data[];
 extern const char cli_help_model[];

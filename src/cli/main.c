@@ -35,6 +35,7 @@ static const cli_command commands[] = {
     {"compare", "compare models: information criteria and Bayesian evidence", cli_compare, 1},
     {"run", "the whole job from a run file: fits, posteriors, comparison, report", cli_run, 1},
     {"report", "rebuild tables and figures from saved runs", cli_report_runs, 1},
+    {"plot", "one figure of the posteriors of runs and tables of draws, overlaid", cli_plot, 0},
     {"bench", "time the likelihood on given data: rate, set-up, memory, accuracy", cli_bench, 0},
     {"campaign", "many tasks over data sets, models and methods: bias and coverage", cli_campaign,
      1},

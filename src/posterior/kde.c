@@ -75,6 +75,19 @@ static int kde_core(const double *x, const double *y, const double *w, size_t n,
     double h[4] = {0, 0, 0, 0}, inv[4] = {0, 0, 0, 0}, det;
     for (int i = 0; i < k->d * k->d; i++)
         h[i] = f * f * cov[i];
+    if (k->d == 2 && cov[0] > 0 && cov[3] > 0) {
+        /* a kernel narrower than a cell across (two columns nearly
+         * or exactly tied, as Omega_DE = 1 - Omega_m of a flat model) would
+         * fall between the grid's points and break the band into islands:
+         * widen it to a cell (its sd) in its narrowest direction, in cell units */
+        double a = h[0] / (k->step[0] * k->step[0]), c = h[3] / (k->step[1] * k->step[1]);
+        double b = h[1] / (k->step[0] * k->step[1]);
+        double lmin = 0.5 * (a + c) - sqrt(0.25 * (a - c) * (a - c) + b * b);
+        if (lmin < 1.0) {
+            h[0] += (1.0 - lmin) * k->step[0] * k->step[0];
+            h[3] += (1.0 - lmin) * k->step[1] * k->step[1];
+        }
+    }
     if (k->d == 1) {
         det = h[0];
         inv[0] = 1 / h[0];
@@ -84,8 +97,7 @@ static int kde_core(const double *x, const double *y, const double *w, size_t n,
     }
     if (!(det > 0) || !isfinite(det))
         return lt_error_set(err, LT_EINPUT, NULL, 0,
-                            "the draws have no spread to smooth (a zero variance, or a perfect "
-                            "correlation of the two columns)");
+                            "the draws have no spread to smooth (a column of one value)");
     for (int a = 0; a < k->d; a++) {
         double reach = REACH_SD * sqrt(h[a * k->d + a]) / k->step[a];
         /* wider than three windows: the rest of the kernel is nearly flat

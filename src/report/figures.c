@@ -9,6 +9,7 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <strings.h>
 
 #include <plplot.h>
 
@@ -60,9 +61,47 @@ typedef struct {
     size_t idx[MAX_OVERLAY];    /* the members (colours follow the index) */
     size_t k;
     double width;               /* the page's width, inches */
+    const lt_plot_opts *opts;   /* lantern plot's choices, or NULL */
 } model_group;
 
 #define MEMBER(g, j) (&(g)->models[(g)->idx[j]])
+
+/* Member j's legend label: lantern plot's, or its own typeset. */
+static const char *member_label(const model_group *g, size_t j, char *buf, size_t size)
+{
+    if (g->opts && g->opts->labels && g->opts->labels[j]) {
+        snprintf(buf, size, "%s", g->opts->labels[j]);
+        return buf;
+    }
+    return series_label(MEMBER(g, j), buf, size);
+}
+
+/* lantern plot's override for name in a list, or NULL. */
+static const lt_plot_text *axis_of(const model_group *g, const char *name)
+{
+    for (size_t i = 0; g->opts && i < g->opts->naxis; i++)
+        if (!strcmp(g->opts->axis[i].name, name))
+            return &g->opts->axis[i];
+    return NULL;
+}
+
+/* The axis label of name: lantern plot's, or the typeset name. */
+static const char *axis_label(const model_group *g, const char *name, char *buf, size_t size)
+{
+    const lt_plot_text *t = axis_of(g, name);
+    return t ? t->text : pk_param_label(name, buf, size);
+}
+
+/* The truth of name (lantern plot --truth), or NaN. */
+static double truth_of(const model_group *g, const char *name)
+{
+    for (size_t i = 0; g->opts && i < g->opts->ntruth; i++)
+        if (!strcmp(g->opts->truth[i].name, name))
+            return g->opts->truth[i].value;
+    return NAN;
+}
+
+static int show_best(const model_group *g) { return !(g->opts && g->opts->no_best); }
 
 /* Member j's colour: its model's alone, its place among several (the
  * combinations of probes of a run then keep one colour each in every
@@ -76,6 +115,11 @@ static int member_colour(const model_group *g, size_t j)
  * holding every member's best fit inside. */
 static void group_range(const model_group *g, const char *name, double *lo, double *hi)
 {
+    for (size_t i = 0; g->opts && i < g->opts->nranges; i++)
+        if (!strcmp(g->opts->ranges[i].name, name)) { /* the user's, as given */
+            *lo = g->opts->ranges[i].lo, *hi = g->opts->ranges[i].hi;
+            return;
+        }
     *lo = INFINITY, *hi = -INFINITY;
     for (size_t j = 0; j < g->k; j++) {
         long c = pk_column(MEMBER(g, j), name);
@@ -87,11 +131,12 @@ static void group_range(const model_group *g, const char *name, double *lo, doub
     }
     if (!(*lo < *hi))
         *lo = 0, *hi = 1;
-    for (size_t j = 0; j < g->k; j++) {
+    for (size_t j = 0; show_best(g) && j < g->k; j++) {
         long c = pk_column(MEMBER(g, j), name);
         if (c >= 0)
             pk_range_hold(MEMBER(g, j)->best[c], lo, hi);
     }
+    pk_range_hold(truth_of(g, name), lo, hi);
 }
 
 /* A legend's size in inches: one line per member (a swatch of its two
@@ -103,7 +148,7 @@ static void legend_size(const model_group *g, const char *const *note, size_t nn
     double li = line_in(g->width);
     *w = 0;
     for (size_t j = 0; j < g->k + nnote; j++)
-        *w = fmax(*w, j < g->k ? text_in(series_label(MEMBER(g, j), lab, sizeof lab), g->width) +
+        *w = fmax(*w, j < g->k ? text_in(member_label(g, j, lab, sizeof lab), g->width) +
                                      2.4 * li
                                : text_in(note[j - g->k], g->width) + 0.12);
     *h = (double)(g->k + nnote) * li + 0.08;
@@ -140,7 +185,7 @@ static void group_legend(const model_group *g, double x, double y, const char *c
         plline(4, sx, sy);
         pk_width(0.6);
         plcol0(PK_INK);
-        plptex(0.1 + 2 * s, ly, 1, 0, 0, series_label(MEMBER(g, j), lab, sizeof lab));
+        plptex(0.1 + 2 * s, ly, 1, 0, 0, member_label(g, j, lab, sizeof lab));
     }
 }
 
@@ -169,22 +214,89 @@ static size_t group_params(const model_group *g, const char **names)
 
 /* The page of a posterior matrix of d parameters at width w: square, or
  * a strip for one parameter. */
-static double matrix_height(size_t d, double w) { return d < 2 ? 0.62 * w : w - 0.24; }
+/* The notes under a legend: what is shaded, and the marks drawn. */
+static size_t marks_note(const model_group *g, const char **note)
+{
+    size_t n = 0;
+    note[n++] = "shaded: 68.27%, 95.45%";
+    note[n++] = "of the posterior mass";
+    int best = 0;
+    for (size_t j = 0; show_best(g) && j < g->k; j++)
+        for (size_t c = 0; c < MEMBER(g, j)->nparams; c++)
+            best |= isfinite(MEMBER(g, j)->best[c]);
+    if (best)
+        note[n++] = "×: best fit";
+    if (g->opts && g->opts->ntruth)
+        note[n++] = "+: truth";
+    return n;
+}
 
-/* The notes under a posterior figure's legend. */
-static const char *const region_note[] = {"shaded: 68.27%, 95.45%", "of the posterior mass",
-                                          "×: best fit"};
+static double matrix_base(size_t d, double w) { return d < 2 ? 0.62 * w : w - 0.24; }
+
+/* Room above a matrix for its legend, in inches: none when the legend fits
+ * in the empty upper right (right of the first column, beside the strip
+ * for one parameter), else its height (two parameters in one column). */
+static double matrix_legend_room(const model_group *g, size_t d, size_t nnote)
+{
+    const char *note[4] = {"shaded: 68.27%, 95.45%", "of the posterior mass", "", ""};
+    double W = g->width, lw, lh;
+    legend_size(g, note, nnote, &lw, &lh);
+    double side = fmin((W - 0.82) / (double)d, (matrix_base(d, W) - 0.58) / (double)d);
+    double room = d < 2 ? W - 0.12 - (0.7 + side * 0.55) : W - 0.12 - (0.7 + side);
+    return lw <= room && (d >= 2 || lh <= matrix_base(d, W) - 0.2) ? 0.0 : lh + 0.06;
+}
+
+static double matrix_height(const model_group *g, size_t d)
+{
+    const char *note[4];
+    return matrix_base(d, g->width) + matrix_legend_room(g, d, marks_note(g, note));
+}
+
+
+/* The parameters a matrix shows: lantern plot's, or the members'. */
+static size_t shown_params(const model_group *g, const char **names)
+{
+    if (!g->opts || !g->opts->nparams)
+        return group_params(g, names);
+    size_t d = g->opts->nparams < LT_MAX_FREE ? g->opts->nparams : LT_MAX_FREE;
+    for (size_t i = 0; i < d; i++)
+        names[i] = g->opts->params[i];
+    return d;
+}
+
+/* A truth's marks in the current window: a dotted line on a marginal, a
+ * "+" at the pair (dotted lines where only one of the two is known). */
+static void truth_marks(double tx, double ty, double x0, double x1, double y0, double y1)
+{
+    plcol0(PK_INK);
+    pllsty(3);
+    pk_width(0.6);
+    if (isfinite(tx)) {
+        PLFLT lx[2] = {tx, tx}, ly[2] = {y0, y1};
+        plline(2, lx, ly);
+    }
+    if (isfinite(ty)) {
+        PLFLT lx[2] = {x0, x1}, ly[2] = {ty, ty};
+        plline(2, lx, ly);
+    }
+    pllsty(1);
+    if (isfinite(tx) && isfinite(ty)) {
+        pk_font(PK_PT_TITLE);
+        plstring(1, &tx, &ty, "+");
+    }
+}
 
 static void draw_posterior(const void *p)
 {
     const model_group *g = p;
-    const char *names[LT_MAX_FREE];
-    size_t d = group_params(g, names);
+    const char *names[LT_MAX_FREE], *note[4];
+    size_t d = shown_params(g, names), nnote = marks_note(g, note);
     double lo[LT_MAX_FREE], hi[LT_MAX_FREE];
     for (size_t i = 0; i < d; i++)
         group_range(g, names[i], &lo[i], &hi[i]);
-    double W = g->width, H = matrix_height(d, W);
-    double left = 0.7, bottom = 0.5, top = 0.08, right = 0.12;
+    double W = g->width, room = matrix_legend_room(g, d, nnote);
+    double H = g->opts && g->opts->height_in > 0 ? g->opts->height_in : matrix_height(g, d);
+    double left = 0.7, bottom = 0.5, top = 0.08 + room, right = 0.12;
     double side = fmin((W - left - right) / (double)d, (H - top - bottom) / (double)d);
     int nl = side > 1.6 ? 4 : side > 0.95 ? 3 : 2; /* tick labels a panel */
     char lab[160];
@@ -222,13 +334,20 @@ static void draw_posterior(const void *p)
                     pk_marginal(mj, (size_t)cx, lo[c], hi[c], col);
                     PLFLT bx[2] = {mj->best[cx], mj->best[cx]}, by[2] = {0, 1.08};
                     plcol0(g->k > 1 ? col : PK_INK);
-                    pllsty(3);
-                    plline(2, bx, by);
+                    pllsty(2);
+                    if (show_best(g) && isfinite(mj->best[cx]))
+                        plline(2, bx, by);
                     pllsty(1);
-                } else if (isfinite(mj->best[cx]) && isfinite(mj->best[cy])) {
+                } else if (show_best(g) && isfinite(mj->best[cx]) && isfinite(mj->best[cy])) {
+                    pk_font(PK_PT_LABEL);
                     plstring(1, &mj->best[cx], &mj->best[cy], "×");
                 }
             }
+            if (r == c)
+                truth_marks(truth_of(g, names[c]), NAN, lo[c], hi[c], 0, 1.08);
+            else
+                truth_marks(truth_of(g, names[c]), truth_of(g, names[r]), lo[c], hi[c], lo[r],
+                            hi[r]);
             plcol0(PK_INK);
             pk_font(PK_PT_TICK);
             if (r == c)
@@ -237,12 +356,12 @@ static void draw_posterior(const void *p)
                 pk_box_inner(xo, xs, yo, ys);
             pk_font(PK_PT_LABEL);
             if (r == d - 1)
-                plmtex("b", 2.6, 0.5, 0.5, pk_param_label(names[c], lab, sizeof lab));
+                plmtex("b", 2.6, 0.5, 0.5, axis_label(g, names[c], lab, sizeof lab));
             if (c == 0 && r > 0)
-                plmtex("l", 5.0, 0.5, 0.5, pk_param_label(names[r], lab, sizeof lab));
+                plmtex("l", 5.0, 0.5, 0.5, axis_label(g, names[r], lab, sizeof lab));
         }
-    /* the legend in the empty upper right */
-    group_legend(g, W - right, H - top - 0.05, region_note, 3);
+    /* the legend in the empty upper right, or above the matrix */
+    group_legend(g, W - right, H - top - 0.05 + room, note, nnote);
 }
 
 /* ---- traces ---- */
@@ -640,7 +759,7 @@ int lt_report_write_figures(const char *dir, const lt_run_model *models, size_t 
                  : LT_OK;
     for (size_t i = 0; !rc && i < n; i++) {
         /* the models of this name: the figures of the first one show them all */
-        model_group g = {models, {0}, 0, W};
+        model_group g = {models, {0}, 0, W, NULL};
         size_t seen = 0; /* earlier models of the same name */
         for (size_t j = 0; j < n; j++)
             if (!strcmp(models[j].name, models[i].name)) {
@@ -654,7 +773,7 @@ int lt_report_write_figures(const char *dir, const lt_run_model *models, size_t 
         size_t d = models[i].nparams, dg = group_params(&g, pnames);
         if (!seen) {
             snprintf(name, sizeof name, "posterior_%s", models[i].name);
-            rc = pk_figure(dir, name, both, W, matrix_height(dg, W), draw_posterior, &g, err);
+            rc = pk_figure(dir, name, both, W, matrix_height(&g, dg), draw_posterior, &g, err);
             if (!rc && plane_of(&models[i]) != PLANE_NONE) {
                 snprintf(name, sizeof name, "plane_%s", models[i].name);
                 rc = pk_figure(dir, name, both, W, plane_height(W), draw_plane, &g, err);
@@ -681,6 +800,144 @@ int lt_report_write_figures(const char *dir, const lt_run_model *models, size_t 
         }
     }
     return rc;
+}
+
+/* ---- lantern plot ---- */
+
+/* A pair figure's height: the plane's, and room above for the legend. */
+static double pair_height(const model_group *g, size_t nnote)
+{
+    double lw, lh;
+    const char *note[4] = {"", "", "", ""};
+    legend_size(g, note, nnote, &lw, &lh);
+    return plane_height(g->width) + lh;
+}
+
+/* One 2-D panel of the pair of parameters lantern plot names: every
+ * model's regions, widest first, marks, and the legend above the frame. */
+static void draw_pair(const void *p)
+{
+    const model_group *g = p;
+    const char *xn = g->opts->params[0], *yn = g->opts->params[1], *note[4];
+    size_t nnote = marks_note(g, note);
+    double x0, x1, y0, y1, lw, lh;
+    group_range(g, xn, &x0, &x1);
+    group_range(g, yn, &y0, &y1);
+    double W = g->width;
+    legend_size(g, note, nnote, &lw, &lh);
+    double H = g->opts->height_in > 0 ? g->opts->height_in : pair_height(g, nnote);
+    pk_viewport(0.7, W - 0.15, 0.48, H - 0.06 - lh);
+    plwind(x0, x1, y0, y1);
+    size_t order[MAX_OVERLAY];
+    double area[MAX_OVERLAY];
+    for (size_t j = 0; j < g->k; j++) {
+        long jx = pk_column(MEMBER(g, j), xn), jy = pk_column(MEMBER(g, j), yn);
+        area[j] = jx >= 0 && jy >= 0 ? pk_region_area(MEMBER(g, j), (size_t)jx, (size_t)jy, x0,
+                                                      x1, y0, y1)
+                                     : 0;
+        size_t at = j;
+        for (; at > 0 && area[order[at - 1]] < area[j]; at--)
+            order[at] = order[at - 1];
+        order[at] = j;
+    }
+    for (unsigned part = PK_PART_FILL; part <= PK_PART_LINES; part <<= 1)
+        for (size_t o = 0; o < g->k; o++) {
+            const lt_run_model *mj = MEMBER(g, order[o]);
+            long jx = pk_column(mj, xn), jy = pk_column(mj, yn);
+            if (jx >= 0 && jy >= 0)
+                pk_regions(mj, (size_t)jx, (size_t)jy, x0, x1, y0, y1, member_colour(g, order[o]),
+                           part);
+        }
+    for (size_t j = 0; show_best(g) && j < g->k; j++) {
+        const lt_run_model *mj = MEMBER(g, j);
+        long jx = pk_column(mj, xn), jy = pk_column(mj, yn);
+        if (jx < 0 || jy < 0 || !isfinite(mj->best[jx]) || !isfinite(mj->best[jy]))
+            continue;
+        plcol0(g->k > 1 ? member_colour(g, j) : PK_INK);
+        pk_font(PK_PT_LABEL);
+        plstring(1, &mj->best[jx], &mj->best[jy], "×");
+    }
+    truth_marks(truth_of(g, xn), truth_of(g, yn), x0, x1, y0, y1);
+    char xl[160], yl[160];
+    plcol0(PK_INK);
+    pk_font(PK_PT_TICK);
+    pk_box("bcnst", pk_tick_step(x0, x1, 5), "bcnstv", pk_tick_step(y0, y1, 5));
+    pk_font(PK_PT_LABEL);
+    plmtex("b", 2.6, 0.5, 0.5, axis_label(g, xn, xl, sizeof xl));
+    plmtex("l", 5.0, 0.5, 0.5, axis_label(g, yn, yl, sizeof yl));
+    group_legend(g, W - 0.15, H - 0.04, note, nnote);
+}
+
+/* Does some member have column name? */
+static int group_has(const model_group *g, const char *name)
+{
+    for (size_t j = 0; j < g->k; j++)
+        if (pk_column(MEMBER(g, j), name) >= 0)
+            return 1;
+    return 0;
+}
+
+/* Is name among the parameters drawn? */
+static int drawn(const char *const *names, size_t d, const char *name)
+{
+    for (size_t i = 0; i < d; i++)
+        if (!strcmp(names[i], name))
+            return 1;
+    return 0;
+}
+
+int lt_report_plot(const char *path, const lt_run_model *models, size_t n,
+                   const lt_plot_opts *o, lt_error *err)
+{
+    static const lt_plot_opts none = {0};
+    if (!o)
+        o = &none;
+    size_t len = strlen(path);
+    pk_format fmt = len > 4 && !strcasecmp(path + len - 4, ".pdf")   ? PK_PDF
+                    : len > 4 && !strcasecmp(path + len - 4, ".png") ? PK_PNG
+                                                                     : 0;
+    if (!fmt)
+        return lt_error_set(err, LT_EINPUT, path, 0, "the figure's name must end in .pdf or .png");
+    if (n == 0 || n > LT_PLOT_MAX_SERIES)
+        return lt_error_set(err, LT_EINPUT, path, 0, "%zu sets of draws: give 1 to %d", n,
+                            LT_PLOT_MAX_SERIES);
+    model_group g = {models, {0}, n, o->width_in > 0 ? o->width_in : LT_FIGURE_DOUBLE_IN, o};
+    for (size_t j = 0; j < n; j++)
+        g.idx[j] = j;
+    const char *names[LT_MAX_FREE];
+    size_t d = shown_params(&g, names);
+    if (o->nparams > LT_MAX_FREE)
+        return lt_error_set(err, LT_EINPUT, path, 0, "at most %d parameters in one figure",
+                            LT_MAX_FREE);
+    if (d == 0)
+        return lt_error_set(err, LT_EINPUT, path, 0, "no parameter to draw");
+    for (size_t i = 0; i < d; i++)
+        if (!group_has(&g, names[i])) {
+            char have[512] = "";
+            for (size_t c = 0; c < models[0].nparams + models[0].nderived; c++)
+                snprintf(have + strlen(have), sizeof have - strlen(have), "%s%s", c ? ", " : "",
+                         models[0].names[c]);
+            return lt_error_set(err, LT_EINPUT, names[i], 0,
+                                "no set of draws has this parameter (the first has %s)", have);
+        }
+    for (size_t i = 0; i < o->nranges; i++)
+        if (!drawn(names, d, o->ranges[i].name) || !(o->ranges[i].lo < o->ranges[i].hi))
+            return lt_error_set(err, LT_EINPUT, o->ranges[i].name, 0,
+                                !(o->ranges[i].lo < o->ranges[i].hi)
+                                    ? "a range needs LO < HI"
+                                    : "a range for a parameter that is not drawn");
+    for (size_t i = 0; i < o->naxis; i++)
+        if (!drawn(names, d, o->axis[i].name))
+            return lt_error_set(err, LT_EINPUT, o->axis[i].name, 0,
+                                "a label for a parameter that is not drawn");
+    if (o->pair && d != 2)
+        return lt_error_set(err, LT_EINPUT, path, 0,
+                            "a pair figure draws two parameters (%zu given)", d);
+    const char *note[4];
+    double h = o->height_in > 0 ? o->height_in
+               : o->pair        ? pair_height(&g, marks_note(&g, note))
+                                : matrix_height(&g, d);
+    return pk_write(path, fmt, g.width, h, o->pair ? draw_pair : draw_posterior, &g, err);
 }
 
 /* ---- campaigns: pulls and coverage ---- */

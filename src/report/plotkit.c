@@ -357,7 +357,8 @@ void pk_range(const lt_run_model *m, size_t c, int as_sampled, double *lo, doubl
     }
     double pad = 0.15 * (b - a > 0 ? b - a : 1.0);
     *lo = a - pad, *hi = b + pad;
-    if (c < m->nparams && m->priors[c].kind == LT_PRIOR_UNIFORM && isfinite(m->priors[c].a)) {
+    if (c < m->nparams && m->priors && m->priors[c].kind == LT_PRIOR_UNIFORM &&
+        isfinite(m->priors[c].a)) {
         *lo = fmax(*lo, m->priors[c].a);
         *hi = fmin(*hi, m->priors[c].b);
     }

@@ -5,6 +5,7 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <strings.h>
 
 #include <unistd.h>
 
@@ -13,6 +14,7 @@
 
 #include "lantern/file.h"
 #include "lantern/report.h"
+#include "lantern/text.h"
 
 void lt_run_model_free(lt_run_model *m)
 {
@@ -497,4 +499,261 @@ long lt_run_model_reference(const lt_run_model *models, size_t n, size_t i)
     /* alone on its data, it compares with nothing (the first model is
      * the reference of its own all the same) */
     return others || i == 0 ? (long)ref : -1;
+}
+
+/* ---- draws from a plain table (lantern plot) ---- */
+
+/* Columns that are not parameters: lantern's own bookkeeping, and the
+ * weight, which weighs the rows. */
+static int bookkeeping(const char *name)
+{
+    return !strcmp(name, "chain") || !strcmp(name, "step") || !strcmp(name, "logpost") ||
+           !strcmp(name, "chi2");
+}
+
+/* The file's name without folder and extension, for a legend. */
+static char *stem_of(const char *path)
+{
+    const char *b = strrchr(path, '/');
+    b = b ? b + 1 : path;
+    size_t n = strcspn(b, ".[");
+    char *s = malloc(n + 1);
+    if (s)
+        memcpy(s, b, n), s[n] = '\0';
+    return s;
+}
+
+/* m's columns named by names[keep[k]] (n of them): names, no priors, no
+ * best fit (NaN), the stem as name and label. */
+static int table_model(const char *path, char *const *names, const size_t *keep, size_t n,
+                       lt_run_model *m, lt_error *err)
+{
+    m->nparams = n;
+    m->names = calloc(n ? n : 1, sizeof *m->names);
+    m->best = malloc((n ? n : 1) * sizeof *m->best);
+    m->stats = calloc(n ? n : 1, sizeof *m->stats);
+    m->name = stem_of(path);
+    m->label = m->name ? strdup(m->name) : NULL;
+    if (!m->names || !m->best || !m->stats || !m->label)
+        return lt_error_set(err, LT_ENOMEM, path, 0, "out of memory");
+    for (size_t k = 0; k < n; k++) {
+        if (!(m->names[k] = strdup(names[keep[k]])))
+            return lt_error_set(err, LT_ENOMEM, path, 0, "out of memory");
+        m->best[k] = NAN;
+    }
+    m->nchains = 1;
+    m->step_every = 1;
+    m->chi2_min = m->aic = m->bic = m->offset_best = m->rhat_max = m->ess_min = NAN;
+    m->ln_z = m->ln_z_err = NAN;
+    m->converged = 1;
+    return LT_OK;
+}
+
+/* Which columns are parameters and which is the weight; a parameter named
+ * twice or a table without one is an input error. A column without a name
+ * (the index pandas writes first) is left out. */
+static int table_columns(const char *path, long line, char *const *names, size_t n, size_t *keep,
+                         size_t *nkeep, long *wcol, lt_error *err)
+{
+    *nkeep = 0, *wcol = -1;
+    for (size_t i = 0; i < n; i++) {
+        if (!names[i][0])
+            continue; /* the unnamed index column pandas writes: row numbers */
+        for (size_t j = 0; j < i; j++)
+            if (!strcmp(names[i], names[j]))
+                return lt_error_set(err, LT_EINPUT, path, line, "column '%s' is named twice",
+                                    names[i]);
+        if (!strcmp(names[i], "weight"))
+            *wcol = (long)i;
+        else if (!bookkeeping(names[i]))
+            keep[(*nkeep)++] = i;
+    }
+    if (!*nkeep)
+        return lt_error_set(err, LT_EINPUT, path, line,
+                            "the header names no parameter (only chain, step, weight, logpost "
+                            "or chi2)");
+    return LT_OK;
+}
+
+static int weight_check(const char *path, long line, double w, lt_error *err)
+{
+    return isfinite(w) && w >= 0
+               ? LT_OK
+               : lt_error_set(err, LT_EINPUT, path, line, "weight %g is not a finite number >= 0", w);
+}
+
+#define TABLE_MAX_COLS 256
+
+static int table_text(const char *path, lt_run_model *m, lt_error *err)
+{
+    char *text = NULL, *fields[TABLE_MAX_COLS + 1], *names[TABLE_MAX_COLS];
+    size_t size, keep[TABLE_MAX_COLS], nkeep = 0, rows = 0, cap = 0;
+    long wcol = -1, ncol = 0, hline = 0;
+    int rc = lt_file_read(path, (size_t)1 << 31, &text, &size, err);
+    if (rc)
+        return rc;
+    int csv = 0;
+    lt_lines it;
+    lt_lines_start(&it, text);
+    char *line;
+    size_t len;
+    while (!rc && (line = lt_lines_next(&it, &len))) {
+        if (lt_line_blank(line))
+            continue;
+        if (!hline) { /* the header: names, after a '#' if there is one */
+            char *h = line + strspn(line, " \t");
+            if (*h == '#')
+                h++;
+            csv = strchr(h, ',') != NULL;
+            ncol = lt_line_split(h, csv, fields, TABLE_MAX_COLS);
+            if (ncol < 0) {
+                rc = lt_error_set(err, LT_EINPUT, path, it.line, "more than %d columns",
+                                  TABLE_MAX_COLS);
+                break;
+            }
+            for (long i = 0; i < ncol; i++)
+                names[i] = fields[i];
+            hline = it.line;
+            if ((rc = table_columns(path, hline, names, (size_t)ncol, keep, &nkeep, &wcol, err)) ||
+                (rc = table_model(path, names, keep, nkeep, m, err)))
+                break;
+            continue;
+        }
+        if (line[strspn(line, " \t")] == '#')
+            continue; /* a comment */
+        long nf = lt_line_split(line, csv, fields, TABLE_MAX_COLS);
+        if (nf != ncol) {
+            rc = lt_error_set(err, LT_EINPUT, path, it.line, "%ld fields where the header has %ld",
+                              nf < 0 ? (long)TABLE_MAX_COLS + 1 : nf, ncol);
+            break;
+        }
+        if (rows == cap) {
+            cap = cap ? 2 * cap : 1024;
+            double *d = realloc(m->draws, cap * nkeep * sizeof *d);
+            double *w = d && wcol >= 0 ? realloc(m->weights, cap * sizeof *w) : m->weights;
+            if (d)
+                m->draws = d;
+            if (w)
+                m->weights = w;
+            if (!d || (wcol >= 0 && !w)) {
+                rc = lt_error_set(err, LT_ENOMEM, path, 0, "out of memory");
+                break;
+            }
+        }
+        for (size_t k = 0; k < nkeep && !rc; k++) {
+            const char *v = fields[keep[k]];
+            double *d = &m->draws[rows * nkeep + k];
+            if (!strcasecmp(v, "nan")) /* a derived quantity may be undefined */
+                *d = NAN;
+            else if (lt_parse_double(v, d))
+                rc = lt_error_set(err, LT_EINPUT, path, it.line, "%s: '%s' is not a number",
+                                  m->names[k], v);
+        }
+        if (!rc && wcol >= 0)
+            rc = lt_parse_double(fields[wcol], &m->weights[rows])
+                     ? lt_error_set(err, LT_EINPUT, path, it.line, "weight '%s' is not a number",
+                                    fields[wcol])
+                     : weight_check(path, it.line, m->weights[rows], err);
+        rows++;
+    }
+    if (!rc && !hline)
+        rc = lt_error_set(err, LT_EINPUT, path, 0, "the file is empty: no header of names");
+    if (!rc && rows < 2)
+        rc = lt_error_set(err, LT_EINPUT, path, 0, "%zu rows of draws: a density needs two or more",
+                          rows);
+    m->weighted = wcol >= 0;
+    m->ndraws = rows;
+    free(text);
+    return rc;
+}
+
+static int table_fits(const char *path, lt_run_model *m, lt_error *err)
+{
+    fitsfile *f = NULL;
+    int status = 0, ncol = 0;
+    long nrows = 0;
+    char msg[FLEN_STATUS];
+    if (fits_open_table(&f, path, READONLY, &status) || fits_get_num_cols(f, &ncol, &status) ||
+        fits_get_num_rows(f, &nrows, &status)) {
+        fits_get_errstatus(status, msg);
+        if (f)
+            fits_close_file(f, &status);
+        return lt_error_set(err, LT_EINPUT, path, 0, "cannot read a FITS table: %s", msg);
+    }
+    char *names[TABLE_MAX_COLS], buf[TABLE_MAX_COLS][FLEN_VALUE];
+    size_t keep[TABLE_MAX_COLS], nkeep = 0, numeric[TABLE_MAX_COLS], nnum = 0;
+    long wcol = -1;
+    int rc = LT_OK;
+    if (ncol > TABLE_MAX_COLS)
+        rc = lt_error_set(err, LT_EINPUT, path, 0, "more than %d columns", TABLE_MAX_COLS);
+    /* the numeric columns by their names (TTYPEn); text columns are left out */
+    for (int c = 1; !rc && c <= ncol; c++) {
+        char key[FLEN_KEYWORD];
+        int type;
+        long repeat, width;
+        snprintf(key, sizeof key, "TTYPE%d", c);
+        if (fits_read_key(f, TSTRING, key, buf[nnum], NULL, &status) ||
+            fits_get_coltype(f, c, &type, &repeat, &width, &status)) {
+            fits_get_errstatus(status, msg);
+            rc = lt_error_set(err, LT_EINPUT, path, 0, "column %d: %s", c, msg);
+            break;
+        }
+        if (type == TSTRING || type == TLOGICAL || type == TBIT || repeat != 1)
+            continue;
+        names[nnum] = buf[nnum];
+        numeric[nnum++] = (size_t)c;
+    }
+    if (!rc)
+        rc = table_columns(path, 0, names, nnum, keep, &nkeep, &wcol, err);
+    if (!rc)
+        rc = table_model(path, names, keep, nkeep, m, err);
+    if (!rc && nrows < 2)
+        rc = lt_error_set(err, LT_EINPUT, path, 0, "%ld rows of draws: a density needs two or more",
+                          nrows);
+    double *col = rc ? NULL : malloc((size_t)nrows * sizeof *col);
+    if (!rc) {
+        m->draws = malloc((size_t)nrows * nkeep * sizeof *m->draws);
+        m->weights = wcol >= 0 ? malloc((size_t)nrows * sizeof *m->weights) : NULL;
+        if (!col || !m->draws || (wcol >= 0 && !m->weights))
+            rc = lt_error_set(err, LT_ENOMEM, path, 0, "out of memory");
+    }
+    for (size_t k = 0; !rc && k <= nkeep; k++) {
+        if (k == nkeep && wcol < 0)
+            break;
+        int c = (int)numeric[k < nkeep ? keep[k] : (size_t)wcol];
+        double nul = NAN;
+        int any = 0;
+        if (fits_read_col(f, TDOUBLE, c, 1, 1, nrows, &nul, col, &any, &status)) {
+            fits_get_errstatus(status, msg);
+            rc = lt_error_set(err, LT_EINPUT, path, 0, "column %s: %s", names[k < nkeep ? keep[k] : (size_t)wcol], msg);
+            break;
+        }
+        for (long r = 0; r < nrows && !rc; r++) {
+            if (k < nkeep)
+                m->draws[(size_t)r * nkeep + k] = col[r];
+            else if (!(rc = weight_check(path, 0, col[r], err)))
+                m->weights[r] = col[r];
+        }
+    }
+    free(col);
+    status = 0;
+    fits_close_file(f, &status);
+    m->weighted = wcol >= 0;
+    m->ndraws = (size_t)nrows;
+    return rc;
+}
+
+int lt_run_model_load_table(const char *path, lt_run_model *m, lt_error *err)
+{
+    memset(m, 0, sizeof *m);
+    size_t n = strcspn(path, "[");
+    int fits = (n >= 5 && !strncasecmp(path + n - 5, ".fits", 5)) ||
+               (n >= 4 && !strncasecmp(path + n - 4, ".fit", 4)) ||
+               (n >= 8 && !strncasecmp(path + n - 8, ".fits.gz", 8));
+    int rc = fits ? table_fits(path, m, err) : table_text(path, m, err);
+    if (rc) {
+        lt_run_model_free(m);
+        memset(m, 0, sizeof *m);
+    }
+    return rc;
 }

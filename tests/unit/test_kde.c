@@ -16,7 +16,8 @@
  *    N(1, 1);
  *  - no islands from noise: the 95.45% region of 2000 draws of a 2-D normal
  *    is one connected piece for every seed tried, where a kernel five
- *    times narrower breaks it up (so the check can fail).
+ *    times narrower breaks it up (so the check can fail); so is the band
+ *    of two columns tied exactly, y = 1 - x.
  * The draws come from lantern's own seeded generator (src/inference/rng.c,
  * itself tested against its published reference outputs).
  */
@@ -244,6 +245,19 @@ static void test_no_islands(void **state)
     print_message("a kernel 5x narrower than Scott's left islands for %d of 10 seeds\n",
                   narrow_islands);
     assert_true(narrow_islands >= 5);
+    /* two columns tied exactly (Omega_DE = 1 - Omega_m of a flat model):
+     * a band along the line, in one piece */
+    lt_rng r;
+    lt_rng_seed(&r, 11, 4);
+    for (size_t i = 0; i < M; i++)
+        x[i] = 0.3 + 0.02 * lt_rng_normal(&r), y[i] = 1 - x[i];
+    double out, lev;
+    lt_error err;
+    assert_int_equal(lt_post_kde2d(x, y, NULL, M, NULL, 0.2, 0.4, 0.6, 0.8, G, G, g, &out, &err),
+                     LT_OK);
+    lt_post_hpd_levels(g, G * G, 0.002 * 0.002, out, p, 1, &lev);
+    assert_true(lev > 0);
+    assert_int_equal(pieces(g, G, G, lev), 1);
 }
 
 static void test_kde_errors(void **state)
@@ -254,8 +268,8 @@ static void test_kde_errors(void **state)
     assert_int_equal(lt_post_kde1d(x, NULL, 3, NULL, 0, 2, 4, g, NULL, &err), LT_EINPUT);
     assert_int_equal(lt_post_kde1d(y, NULL, 1, NULL, 0, 2, 4, g, NULL, &err), LT_EINPUT);
     assert_int_equal(lt_post_kde1d(y, NULL, 3, NULL, 2, 0, 4, g, NULL, &err), LT_EINPUT);
-    /* perfectly correlated columns have no 2-D spread */
-    assert_int_equal(lt_post_kde2d(y, y, NULL, 3, NULL, 0, 4, 0, 4, 2, 2, g, NULL, &err), LT_EINPUT);
+    /* a column of one value has no spread in 2-D either */
+    assert_int_equal(lt_post_kde2d(x, y, NULL, 3, NULL, 0, 4, 0, 4, 2, 2, g, NULL, &err), LT_EINPUT);
 }
 
 int main(void)

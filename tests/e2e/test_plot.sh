@@ -1,0 +1,122 @@
+#!/usr/bin/env bash
+# lantern plot (issue 22): the demo's flat LCDM posterior overlaid with the
+# binned Pantheon 2018 one (Scolnic et al. 2018; ../shared/data) and with a
+# plain CSV of weighted draws written by numpy, in one matrix; the same from
+# a FITS table (astropy.io.fits); and the refusals, each naming its source.
+. "$(dirname "$0")/lib.sh"
+PY=/usr/bin/python3
+S="$ROOT/../shared/data"
+D="$E2E_TMP/demo"
+run "$LANTERN" run "$ROOT/configs/demo.ini" --out "$D" --quiet
+expect_status "the demo runs" 0
+P="$S/pantheon2018"
+run "$LANTERN" sample --data "$P/lcparam_DS17f.txt" --columns z=zcmb,zhel=zhel,mag=mb,err=dmb \
+    --cov "$P/sys_DS17f.txt" --model lcdm-flat --out "$E2E_TMP/pan" --quiet
+expect_status "Pantheon 2018 binned, flat LCDM, sampled" 0
+
+# numpy's draws: a Gaussian in omega_m importance-weighted towards 0.36
+# (weights N(0.36, 0.02) / N(0.30, 0.03)), with pandas' unnamed index column
+$PY - "$E2E_TMP" <<'PY'
+import sys
+import numpy as np
+from astropy.io import fits
+d = sys.argv[1]
+rng = np.random.default_rng(22)
+x = rng.normal(0.30, 0.03, 20000)
+w = np.exp(-0.5 * ((x - 0.36) / 0.02) ** 2 + 0.5 * ((x - 0.30) / 0.03) ** 2)
+with open(d + "/draws.csv", "w") as f:
+    f.write(",omega_m,weight\n")
+    for i, (a, b) in enumerate(zip(x, w)):
+        f.write("%d,%.10g,%.10g\n" % (i, a, b))
+cols = [fits.Column(name="omega_m", format="D", array=x), fits.Column(name="weight", format="D", array=w),
+        fits.Column(name="tag", format="8A", array=np.array(["a"] * len(x)))]
+fits.BinTableHDU.from_columns(cols).writeto(d + "/draws.fits", overwrite=True)
+PY
+
+run "$LANTERN" plot "$D" --model lcdm-flat "$E2E_TMP/pan" "$E2E_TMP/draws.csv" \
+    --label "Lamplighter" --label "Pantheon 2018" --label "numpy draws" --truth omega_m=0.3 \
+    --out "$E2E_TMP/three.pdf"
+expect_status "plot overlays a run's model, a sample folder and a CSV of weighted draws" 0
+run "$LANTERN" plot "$D" --model lcdm-flat "$E2E_TMP/pan" "$E2E_TMP/draws.fits" \
+    --out "$E2E_TMP/three.png" --size single
+expect_status "the same with a FITS table, as a single-column PNG" 0
+# the figure: a double-column PDF naming the three in its legend; the PNG
+# holds each series' colour (plotkit.c's palette: blue, vermillion, green)
+if msg=$($PY - "$E2E_TMP" "$ROOT/tests/e2e" 2>&1 <<'PY'
+import re, subprocess, sys
+d = sys.argv[1]
+sys.path.insert(0, sys.argv[2])
+import figures
+info = subprocess.run(["pdfinfo", d + "/three.pdf"], capture_output=True, text=True).stdout
+assert re.search(r"Page size:\s+504 x", info), info
+text = subprocess.run(["pdftotext", d + "/three.pdf", "-"], capture_output=True, text=True).stdout
+for want in ("Lamplighter", "Pantheon 2018", "numpy draws", "truth", "best fit"):
+    assert want in text, (want, text)
+counts = [figures.png_colour_count(d + "/three.png", c) for c in ((0, 114, 178), (213, 94, 0), (0, 158, 115))]
+assert all(c > 50 for c in counts), counts
+w, h, bpp, rows = figures.png_rows(d + "/three.png")
+assert w == 1020, w
+print("legend and colours of the three sets of draws", counts)
+PY
+); then pass "plot's figure: legend, colours, sizes ($msg)"; else fail "plot's figure: legend, colours, sizes ($msg)"; fi
+
+# the weighted draws' marginal peaks at the weighted mean, 0.36 (a Gaussian
+# times a Gaussian: N(0.3, 0.03^2) N(0.36, 0.02^2) / N(0.3, 0.03^2)); with
+# the weights ignored it would peak at 0.30. A --pair figure of the CSV
+# alone, its 95.45% region read from the PNG: the fill's x extent straddles
+# 0.36, not 0.30. (Window 0.2-0.45 set with --range.)
+printf 'omega_m,omega_de,weight\n' > "$E2E_TMP/pair.csv"
+$PY - "$E2E_TMP" <<'PY'
+import sys
+import numpy as np
+rng = np.random.default_rng(23)
+x = rng.normal(0.30, 0.03, 20000)
+y = rng.normal(0.70, 0.03, 20000)
+w = np.exp(-0.5 * ((x - 0.36) / 0.02) ** 2 + 0.5 * ((x - 0.30) / 0.03) ** 2)
+with open(sys.argv[1] + "/pair.csv", "a") as f:
+    for a, b, c in zip(x, y, w):
+        f.write("%.10g,%.10g,%.10g\n" % (a, b, c))
+PY
+run "$LANTERN" plot "$E2E_TMP/pair.csv" --params omega_m,omega_de --pair --range omega_m=0.2:0.45 \
+    --range omega_de=0.55:0.85 --out "$E2E_TMP/pair.png"
+if [ "$STATUS" -eq 0 ] && msg=$($PY - "$E2E_TMP/pair.png" "$ROOT/tests/e2e" 2>&1 <<'PY'
+import sys
+sys.path.insert(0, sys.argv[2])
+import figures
+w, h, bpp, rows = figures.png_rows(sys.argv[1])
+# the 68.27% fill: blue at 55% against white (plotkit.c)
+tint = tuple(round(255 - 0.55 * (255 - c)) for c in (0, 114, 178))
+xs = [x for row in rows for x in range(w) if tuple(row[x * bpp:x * bpp + 3]) == tint]
+assert xs, "no 68% fill"
+# the frame: 0.7 in from the left, 0.15 in from the right, at 300 dpi
+x0, x1 = 0.7 * 300, w - 0.15 * 300
+mid = 0.2 + 0.25 * ((min(xs) + max(xs)) / 2 - x0) / (x1 - x0)
+assert abs(mid - 0.36) < 0.01, mid
+print("the 68%% region is centred at omega_m = %.3f (weighted 0.36, unweighted 0.30)" % mid)
+PY
+); then pass "plot honours a CSV's weight column ($msg)"; else fail "plot honours a CSV's weight column ($msg)"; fi
+
+# ---- refusals ----
+run "$LANTERN" plot "$E2E_TMP/pan" --params omega_m,w0 --out "$E2E_TMP/x.pdf"
+expect_error "a parameter no source has is refused, listing what there is" 2 "w0: no set of draws has this parameter \(the first has omega_m"
+run "$LANTERN" plot "$E2E_TMP/pan" --out "$E2E_TMP/x.svg"
+expect_error "a figure name without .pdf or .png is refused" 2 "x.svg: the figure's name must end in .pdf or .png"
+printf 'omega_m,weight\n0.3,1\n0.31\n' > "$E2E_TMP/short.csv"
+run "$LANTERN" plot "$E2E_TMP/short.csv" --out "$E2E_TMP/x.pdf"
+expect_error "a row with too few fields names its file and line" 2 "short.csv:3: 1 fields where the header has 2"
+printf 'omega_m,weight\n0.3,1\n0.31,-2\n' > "$E2E_TMP/negw.csv"
+run "$LANTERN" plot "$E2E_TMP/negw.csv" --out "$E2E_TMP/x.pdf"
+expect_error "a negative weight names its file and line" 2 "negw.csv:3: weight -2 is not a finite number >= 0"
+run "$LANTERN" plot "$E2E_TMP/pan" --range omega_m=0.4:0.2 --out "$E2E_TMP/x.pdf"
+expect_error "a range with LO >= HI is refused" 2 "omega_m: a range needs LO < HI"
+run "$LANTERN" plot "$E2E_TMP/pan" --params omega_m,omega_de,q0 --pair --out "$E2E_TMP/x.pdf"
+expect_error "--pair with three parameters is refused" 2 "a pair figure draws two parameters \(3 given\)"
+run "$LANTERN" plot "$E2E_TMP/pan" --label a --label b --out "$E2E_TMP/x.pdf"
+expect_error "more labels than sets of draws are refused" 2 "--label: 2 labels for 1 sets of draws"
+run "$LANTERN" plot "$D" --model wcdm --out "$E2E_TMP/x.pdf"
+expect_error "a run without the model asked for is refused" 2 "the run has no model wcdm"
+run "$LANTERN" plot "$E2E_TMP/nothere.csv" --out "$E2E_TMP/x.pdf"
+expect_error "a missing source is refused" 2 "nothere.csv: cannot open"
+run "$LANTERN" plot "$E2E_TMP/pan" --size tiny --out "$E2E_TMP/x.pdf"
+expect_error "an unknown size is refused" 2 "--size: 'tiny' is not single"
+[ ! -e "$E2E_TMP/x.pdf" ] && pass "no refusal leaves a figure" || fail "no refusal leaves a figure"
