@@ -98,8 +98,8 @@ typedef struct lt_job {
     const char *sampler; /* [sampler] method: "auto" (the default), "importance", "mcmc" */
     long live_points;
     const char *out, *format;
-    double figure_width; /* [output] figure_size, --figure-size: the figures' width in
-                          * inches (lt_report_figure_width; 0: a double column) */
+    double figure_width; /* [output] figure_size (run --figure-size): the figures' width
+                          * in inches (lt_report_figure_width; 0: a double column) */
     int force, quiet, verbose;
     int lenient;         /* priors and fixes apply to the models that have them */
 } lt_job;

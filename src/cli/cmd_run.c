@@ -24,7 +24,7 @@ static void print_constraints(const char *dir)
 
 int cli_run(int argc, char **argv)
 {
-    const char *file = NULL, *out = NULL, *resume = NULL, *threads = NULL;
+    const char *file = NULL, *out = NULL, *resume = NULL, *threads = NULL, *fsize = NULL;
     const char *sets[64], *set_flags[64];
     size_t nsets = 0;
     int force = 0, quiet = 0, verbose = 0;
@@ -32,6 +32,7 @@ int cli_run(int argc, char **argv)
      * (distance) --set sets parameter values, and it will only mean that */
     const cli_opt opts[] = {
         {"--out", .text = &out}, {"--resume", .text = &resume}, {"--threads", .text = &threads},
+        {"--figure-size", .text = &fsize},
         {"--force", .flag = &force}, {"--quiet", .flag = &quiet}, {"--verbose", .flag = &verbose},
         {"--override", .list = sets, .origin = set_flags, .n = &nsets, .max = 64},
         {"--set", .list = sets, .origin = set_flags, .n = &nsets, .max = 64},
@@ -56,6 +57,10 @@ int cli_run(int argc, char **argv)
     lt_error_clear(&err);
     if ((status = cli_job_load(&j, file, sets, set_flags, nsets)))
         goto done;
+    if (fsize && lt_report_figure_width(fsize, &j.figure_width)) {
+        status = cli_usage_error("--figure-size", "'%s' is not %s", fsize, LT_FIGURE_WIDTH_TEXT);
+        goto done;
+    }
     /* --threads by the run file's rule, which names the flag */
     if (threads && lt_job_flag(&j, "--threads", threads, &err)) {
         status = cli_report(&err);

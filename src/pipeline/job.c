@@ -156,7 +156,9 @@ static const rule rules[] = {
      AT(live_points)},
     {LT_JOB_OUTPUT, "output", "dir", "--out", K_PATH, 0, 0, AT(out)},
     {LT_JOB_OUTPUT, "output", "format", "--format", K_TEXT, 0, 0, AT(format)},
-    {LT_JOB_OUTPUT, "output", "figure_size", "--figure-size", K_FIGSIZE, 0, 0, AT(figure_width)},
+    /* a run file's key; run and report take --figure-size themselves (the
+     * other commands draw no figures) */
+    {LT_JOB_OUTPUT, "output", "figure_size", NULL, K_FIGSIZE, 0, 0, AT(figure_width)},
 };
 #undef AT
 #define NRULES (sizeof rules / sizeof rules[0])
