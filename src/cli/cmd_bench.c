@@ -14,7 +14,7 @@ int cli_bench(int argc, char **argv)
     int exact = 0, given;
     long evals = 20000;
     const cli_opt opts[] = {{"--evals", .text = &evals_text}, {"--exact", .flag = &exact}, {0}};
-    int status = cli_job_args(argc, argv, "bench", cli_help_bench,
+    int status = cli_job_args(argc, argv, "bench",
                               LT_JOB_DATA | LT_JOB_MODEL | LT_JOB_PARAMS | LT_JOB_FIT |
                                   LT_JOB_OUTPUT,
                               opts, &j, &given);
@@ -38,5 +38,5 @@ int cli_bench(int argc, char **argv)
         lt_report_bench_table(stdout, &b);
 done:
     lt_job_free(&j);
-    return status < 0 ? CLI_OK : status;
+    return status;
 }
