@@ -91,10 +91,14 @@ static void print_help(const cli_command *c)
 
 static int is_help_flag(const char *arg) { return !strcmp(arg, "-h") || !strcmp(arg, "--help"); }
 
+static int print_version(void) { return printf("lantern %s\n", LT_VERSION), CLI_OK; }
+
 int cli_help_answer(int argc, char **argv, int speak)
 {
     const cli_command *c = find(argv[0]);
-    /* the first of them wins; "help" is a command's word only in first place */
+    /* the first of them counts ("fit --version --help" prints the version);
+     * the word "help" is a command only in first place, not here, where it
+     * may be a file's name */
     for (int i = 1; c && i < argc; i++) {
         int help = is_help_flag(argv[i]);
         if (!help && strcmp(argv[i], "--version") != 0)
@@ -102,7 +106,7 @@ int cli_help_answer(int argc, char **argv, int speak)
         if (speak && help)
             print_help(c);
         else if (speak)
-            printf("lantern %s\n", LT_VERSION);
+            print_version();
         return 1;
     }
     return 0;
@@ -116,10 +120,8 @@ int cli_main(int argc, char **argv)
         usage(stderr);
         return CLI_USAGE;
     }
-    if (strcmp(argv[1], "--version") == 0) {
-        printf("lantern %s\n", LT_VERSION);
-        return CLI_OK;
-    }
+    if (strcmp(argv[1], "--version") == 0)
+        return print_version();
     /* lantern help [COMMAND], and -h or --help in its place */
     if (is_help_flag(argv[1]) || !strcmp(argv[1], "help")) {
         const cli_command *c = argc > 2 ? find(argv[2]) : NULL;
