@@ -209,10 +209,14 @@ candidates=$(cat "$ROOT"/src/cli/*.c "$ROOT"/src/pipeline/job.c "$HELP"/*.txt |
     grep -oE -- '--[a-z]([a-z0-9-]*[a-z0-9])?' | sort -u | grep -vxE -- '--help|--version')
 [ "$(echo "$candidates" | wc -w)" -ge 40 ] && pass "candidate options found" ||
     fail "candidate options found"
+# Some 800 calls: under make valgrind (1.5 s a call) they run the binary the
+# wrapper runs, directly; its error paths are checked under valgrind above.
+PROBE=$LANTERN
+[ "$(basename "$LANTERN")" = valgrind-lantern ] && PROBE="$ROOT/bin/lantern"
 for cmd in $commands; do
     undocumented="" accepted=0
     for opt in $candidates; do
-        timeout 20 "$LANTERN" "$cmd" "$opt" >/dev/null 2>"$ERR" </dev/null
+        timeout 20 "$PROBE" "$cmd" "$opt" >/dev/null 2>"$ERR" </dev/null
         grep -q "unknown argument '$opt'" "$ERR" && continue
         accepted=$((accepted + 1))
         grep -qE -- "$opt([^a-z0-9-]|\$)" "$E2E_TMP/help-$cmd" || undocumented="$undocumented $opt"
