@@ -27,7 +27,9 @@ int cli_usage_error(const char *where, const char *fmt, ...)
 {
     va_list ap;
     va_start(ap, fmt);
-    fprintf(stderr, "lantern: %s: ", where);
+    fputs("lantern: ", stderr);
+    if (where)
+        fprintf(stderr, "%s: ", where);
     vfprintf(stderr, fmt, ap);
     fputc('\n', stderr);
     va_end(ap);
@@ -76,7 +78,7 @@ static int take_opt(scan *a, const cli_opt *o, const char *command)
 {
     const char *v = a->argv[a->i];
     if (!o->name[0]) { /* a positional: not a flag, and a free slot */
-        if (!strncmp(v, "--", 2) || (o->text && *o->text))
+        if (v[0] == '-' || (o->text && *o->text))
             return 0;
         a->i++;
     } else if (o->flag)
@@ -132,16 +134,11 @@ static int take_job(scan *a, lt_job *j, unsigned sections)
     return 1;
 }
 
-int cli_options(int argc, char **argv, int first, const char *command, const char *help,
-                const cli_opt *opts, lt_job *j, unsigned sections, int *given)
+int cli_options(int argc, char **argv, int first, const char *command, const cli_opt *opts,
+                lt_job *j, unsigned sections, int *given)
 {
     scan a = {argc, argv, first, 0};
     while (!a.failed && a.i < argc) {
-        if (flag(&a, "--help")) {
-            if (help)
-                fputs(help, stdout);
-            return -1;
-        }
         int taken = 0;
         for (const cli_opt *o = opts; o && o->name && !taken && !a.failed; o++)
             taken = take_opt(&a, o, command);
@@ -156,13 +153,13 @@ int cli_options(int argc, char **argv, int first, const char *command, const cha
     return a.failed ? CLI_USAGE : CLI_OK;
 }
 
-int cli_job_args(int argc, char **argv, const char *command, const char *help,
-                 unsigned sections, const cli_opt *opts, lt_job *j, int *given)
+int cli_job_args(int argc, char **argv, const char *command, unsigned sections,
+                 const cli_opt *opts, lt_job *j, int *given)
 {
-    *given = argc > 1 && strncmp(argv[1], "--", 2) != 0;
+    /* "-x" is an unknown flag to report as such, not a run file to open */
+    *given = argc > 1 && argv[1][0] != '-';
     int status = *given ? cli_job_load(j, argv[1], NULL, NULL, 0) : CLI_OK;
-    return status ? status
-                  : cli_options(argc, argv, 1 + *given, command, help, opts, j, sections, given);
+    return status ? status : cli_options(argc, argv, 1 + *given, command, opts, j, sections, given);
 }
 
 int cli_job_load(lt_job *j, const char *path, const char *const *overrides,

@@ -28,7 +28,8 @@ int cli_status(int code);
  * status for its code. */
 int cli_report(const lt_error *err);
 
-/* Print "lantern: WHERE: message" to stderr and return CLI_USAGE. */
+/* Print "lantern: WHERE: message" (where NULL: "lantern: message") to
+ * stderr and return CLI_USAGE. */
 int cli_usage_error(const char *where, const char *fmt, ...)
     __attribute__((format(printf, 2, 3)));
 
@@ -50,14 +51,15 @@ typedef struct cli_opt {
 /* Scan argv[first..] by opts, then (j not NULL) the flags of the run
  * description (lantern/pipeline.h) in sections (LT_JOB_ bits; with
  * LT_JOB_OUTPUT also --quiet, --verbose and --force) into j, setting
- * *given (if not NULL). --help prints help (if not NULL) and returns -1;
- * otherwise the exit status, any usage error printed. */
-int cli_options(int argc, char **argv, int first, const char *command, const char *help,
-                const cli_opt *opts, lt_job *j, unsigned sections, int *given);
-/* The same after RUN.ini, when argv[1] is not a flag (read into j, and
- * *given set, as by a run-description flag). */
-int cli_job_args(int argc, char **argv, const char *command, const char *help,
-                 unsigned sections, const cli_opt *opts, lt_job *j, int *given);
+ * *given (if not NULL). Returns the exit status, any usage error printed.
+ * An argument that starts with '-' is never a positional one. (-h, --help
+ * and --version never reach a command: cli_help_answer takes them first.) */
+int cli_options(int argc, char **argv, int first, const char *command, const cli_opt *opts,
+                lt_job *j, unsigned sections, int *given);
+/* The same after RUN.ini, when argv[1] does not start with '-' (read into
+ * j, and *given set, as by a run-description flag). */
+int cli_job_args(int argc, char **argv, const char *command, unsigned sections,
+                 const cli_opt *opts, lt_job *j, int *given);
 /* lt_job_read, printing any error; returns the exit status. */
 int cli_job_load(lt_job *j, const char *path, const char *const *overrides,
                  const char *const *origins, size_t n);
@@ -96,8 +98,17 @@ void cli_progress_end(cli_progress *pr);
 /* Print the survey's warnings to stderr. */
 void cli_print_warnings(const lt_survey *s);
 
-/* The whole command line: set-up, then the command argv[1]. */
+/* The whole command line: set-up, then the command argv[1]; 'lantern help
+ * [COMMAND]' (or -h, --help in its place) prints the help of COMMAND or
+ * the list of commands. */
 int cli_main(int argc, char **argv);
+/* For the command argv[0]: if -h, --help or --version is among argv[1..]
+ * (the first of them counts, wherever it stands), print (if speak) the
+ * command's help or the version on stdout and return 1, the command not
+ * to run (exit status 0); else 0. */
+int cli_help_answer(int argc, char **argv, int speak);
+/* lantern distance --help, with the list of models (cmd_distance.c). */
+void cli_distance_help(FILE *f);
 /* The set-up every entry does once: third-party global state (main.c). */
 void cli_setup(void);
 

@@ -10,14 +10,26 @@ int cli_bench(int argc, char **argv)
 {
     lt_job j;
     lt_job_init(&j);
-    const char *evals_text = NULL;
+    const char *evals_text = NULL, *fmt = NULL, *seed = NULL;
     int exact = 0, given;
     long evals = 20000;
-    const cli_opt opts[] = {{"--evals", .text = &evals_text}, {"--exact", .flag = &exact}, {0}};
-    int status = cli_job_args(argc, argv, "bench", cli_help_bench,
-                              LT_JOB_DATA | LT_JOB_MODEL | LT_JOB_PARAMS | LT_JOB_FIT |
-                                  LT_JOB_OUTPUT,
+    /* of the fit's and the output's flags only those that act here: bench
+     * fits from 4 starts, writes no files and shows no progress, so
+     * --starts, --out, --force, --quiet and --verbose are refused */
+    const cli_opt opts[] = {{"--evals", .text = &evals_text},
+                            {"--exact", .flag = &exact},
+                            {"--format", .text = &fmt},
+                            {"--seed", .text = &seed},
+                            {0}};
+    int status = cli_job_args(argc, argv, "bench", LT_JOB_DATA | LT_JOB_MODEL | LT_JOB_PARAMS,
                               opts, &j, &given);
+    lt_error err;
+    lt_error_clear(&err);
+    if (fmt)
+        j.format = fmt;
+    /* --seed by the run description's rule, which names the flag */
+    if (!status && seed && lt_job_flag(&j, "--seed", seed, &err))
+        status = cli_report(&err);
     cli_format format;
     lt_like_spec spec;
     if (!status && evals_text && lt_parse_long(evals_text, 1, 1000000000, &evals))
@@ -27,8 +39,6 @@ int cli_bench(int argc, char **argv)
         (status = cli_job_model(&j, &spec)))
         goto done;
     spec.exact = exact;
-    lt_error err;
-    lt_error_clear(&err);
     lt_bench b;
     if (lt_pipeline_bench(&j, &spec, evals, &b, &err))
         status = cli_report(&err);
@@ -38,5 +48,5 @@ int cli_bench(int argc, char **argv)
         lt_report_bench_table(stdout, &b);
 done:
     lt_job_free(&j);
-    return status < 0 ? CLI_OK : status;
+    return status;
 }

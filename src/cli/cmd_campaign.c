@@ -120,11 +120,9 @@ int cli_campaign_main(int argc, char **argv, const cli_campaign_runner *runner, 
                             {"--format", .text = &fmt},      {"--threads", .text = &threads_text},
                             {"--force", .flag = &force},     {"--quiet", .flag = &quiet},
                             {"", .text = &file},             {0}};
-    /* only rank 0 speaks: the others would print the same words again */
-    int status = cli_options(argc, argv, 1, "campaign", is_root ? cli_help_campaign : NULL, opts,
-                             NULL, 0, NULL);
+    int status = cli_options(argc, argv, 1, "campaign", opts, NULL, 0, NULL);
     if (status)
-        return status < 0 ? CLI_OK : status;
+        return status;
     if (threads_text && lt_parse_long(threads_text, 0, 1024, &threads))
         return cli_usage_error("--threads", "'%s' is not a number from 0 to 1024", threads_text);
     cli_format format;

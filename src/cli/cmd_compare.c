@@ -25,7 +25,7 @@ int cli_compare(int argc, char **argv)
     lt_comparison *c = calloc(1, sizeof *c); /* large: on the heap */
     if (!c)
         return cli_usage_error("compare", "out of memory");
-    status = cli_job_args(argc, argv, "compare", cli_help_compare,
+    status = cli_job_args(argc, argv, "compare",
                           LT_JOB_RUN | LT_JOB_DATA | LT_JOB_MODEL | LT_JOB_PARAMS | LT_JOB_FIT |
                               LT_JOB_NESTED | LT_JOB_OUTPUT,
                           opts, &j, &options);
@@ -89,5 +89,5 @@ done:
     lt_comparison_free(c);
     free(c);
     lt_job_free(&j);
-    return status < 0 ? CLI_OK : status;
+    return status;
 }

@@ -9,7 +9,7 @@
 #include "cli.h"
 #include "lantern/report.h"
 
-static void usage(FILE *f)
+void cli_distance_help(FILE *f)
 {
     fputs(cli_help_distance, f);
     for (size_t i = 0; i < lt_cosmo_model_count(); i++) {
@@ -31,11 +31,9 @@ int cli_distance(int argc, char **argv)
                             {"--format", .text = &format_text},
                             {0}};
     cli_format format;
-    int status = cli_options(argc, argv, 1, "distance", NULL, opts, NULL, 0, NULL);
-    if (status < 0)
-        usage(stdout);
+    int status = cli_options(argc, argv, 1, "distance", opts, NULL, 0, NULL);
     if (status || (status = cli_parse_format(format_text, 7u, &format)))
-        return status < 0 ? CLI_OK : status;
+        return status;
     if (!model_name)
         return cli_usage_error("distance", "--model is required (see 'lantern distance "
                                            "--help' for the models)");

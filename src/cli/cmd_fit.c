@@ -17,7 +17,7 @@ int cli_fit(int argc, char **argv)
     lt_posterior post = {0};
     cli_format format;
     lt_like_spec spec;
-    int status = cli_job_args(argc, argv, "fit", cli_help_fit,
+    int status = cli_job_args(argc, argv, "fit",
                               LT_JOB_DATA | LT_JOB_MODEL | LT_JOB_PARAMS | LT_JOB_FIT |
                                   LT_JOB_OUTPUT,
                               NULL, &j, &given);
@@ -50,5 +50,5 @@ done:
     lt_like_free(l);
     lt_survey_free(s);
     lt_job_free(&j);
-    return status < 0 ? CLI_OK : status;
+    return status;
 }

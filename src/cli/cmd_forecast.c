@@ -14,9 +14,9 @@ int cli_forecast(int argc, char **argv)
                             {"--out", .text = &out},     {"--force", .flag = &force},
                             {"--exact", .flag = &exact}, {"", .text = &file},
                             {0}};
-    int status = cli_options(argc, argv, 1, "forecast", cli_help_forecast, opts, NULL, 0, NULL);
+    int status = cli_options(argc, argv, 1, "forecast", opts, NULL, 0, NULL);
     if (status)
-        return status < 0 ? CLI_OK : status;
+        return status;
     if (!file) {
         fputs(cli_help_forecast, stderr);
         return CLI_USAGE;

@@ -20,8 +20,7 @@ int cli_inspect(int argc, char **argv)
     lt_survey *s = NULL;
     const cli_opt opts[] = {{"--format", .text = &format_text}, {0}};
     cli_format format;
-    int status = cli_options(argc, argv, 1, "inspect", cli_help_inspect, opts, &j, LT_JOB_DATA,
-                             NULL);
+    int status = cli_options(argc, argv, 1, "inspect", opts, &j, LT_JOB_DATA, NULL);
     if (status ||
         (status = cli_parse_format(format_text, (1u << CLI_TABLE) | (1u << CLI_JSON), &format)))
         goto done;
@@ -45,5 +44,5 @@ int cli_inspect(int argc, char **argv)
 done:
     lt_survey_free(s);
     lt_job_free(&j);
-    return status < 0 ? CLI_OK : status;
+    return status;
 }

@@ -54,9 +54,9 @@ int cli_plot(int argc, char **argv)
                             {"--truth", .list = truths_in, .n = &ntruth, .max = MAX_OPTS},
                             {"", .list = src, .n = &nsrc, .max = MAX_SOURCES},
                             {0}};
-    int status = cli_options(argc, argv, 1, "plot", cli_help_plot, opts, NULL, 0, NULL);
+    int status = cli_options(argc, argv, 1, "plot", opts, NULL, 0, NULL);
     if (status)
-        return status < 0 ? CLI_OK : status;
+        return status;
     if (!nsrc)
         return cli_usage_error("plot", "give at least one run folder, chain file or table");
     if (!out)

@@ -19,7 +19,7 @@ int cli_reweight(int argc, char **argv)
                             {"--min-ess", .text = &min_ess},
                             {"--threads", .text = &threads},
                             {0}};
-    int given, status = cli_options(argc, argv, 1, "reweight", cli_help_reweight, opts, &add,
+    int given, status = cli_options(argc, argv, 1, "reweight", opts, &add,
                                     LT_JOB_DATA | LT_JOB_PARAMS | LT_JOB_OUTPUT, &given);
     lt_reweight_result r;
     memset(&r, 0, sizeof r);
@@ -79,5 +79,5 @@ int cli_reweight(int argc, char **argv)
 done:
     lt_reweight_result_free(&r);
     lt_job_free(&add);
-    return status < 0 ? CLI_OK : status;
+    return status;
 }

@@ -37,9 +37,9 @@ int cli_run(int argc, char **argv)
         {"--override", .list = sets, .origin = set_flags, .n = &nsets, .max = 64},
         {"--set", .list = sets, .origin = set_flags, .n = &nsets, .max = 64},
         {"", .text = &file}, {0}};
-    int status = cli_options(argc, argv, 1, "run", cli_help_run, opts, NULL, 0, NULL);
+    int status = cli_options(argc, argv, 1, "run", opts, NULL, 0, NULL);
     if (status)
-        return status < 0 ? CLI_OK : status;
+        return status;
     if (!file)
         return cli_usage_error("run", "give the run file (see 'lantern run --help')");
     for (size_t i = 0; i < nsets; i++)
@@ -109,9 +109,9 @@ int cli_report_runs(int argc, char **argv)
     const cli_opt opts[] = {{"--out", .text = &out}, {"--force", .flag = &force},
                             {"--figure-size", .text = &size},
                             {"", .list = runs, .n = &nr, .max = MAX_MODELS}, {0}};
-    int status = cli_options(argc, argv, 1, "report", cli_help_report, opts, NULL, 0, NULL);
+    int status = cli_options(argc, argv, 1, "report", opts, NULL, 0, NULL);
     if (status)
-        return status < 0 ? CLI_OK : status;
+        return status;
     if (nr == 0)
         return cli_usage_error("report", "give at least one run folder");
     if (nr > 1 && !out)

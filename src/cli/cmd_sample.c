@@ -71,7 +71,7 @@ int cli_sample(int argc, char **argv)
     lt_like *l = NULL;
     lt_error err;
     lt_error_clear(&err);
-    status = cli_job_args(argc, argv, "sample", cli_help_sample,
+    status = cli_job_args(argc, argv, "sample",
                           LT_JOB_DATA | LT_JOB_MODEL | LT_JOB_PARAMS | LT_JOB_FIT |
                               LT_JOB_SAMPLER | LT_JOB_OUTPUT,
                           opts, &j, &options);
@@ -106,5 +106,5 @@ done:
     lt_like_free(l);
     lt_survey_free(s);
     lt_job_free(&j);
-    return status < 0 ? CLI_OK : status;
+    return status;
 }

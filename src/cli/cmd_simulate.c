@@ -13,9 +13,9 @@ int cli_simulate(int argc, char **argv)
     int force = 0;
     const cli_opt opts[] = {
         {"--out", .text = &out}, {"--force", .flag = &force}, {"", .text = &scenario}, {0}};
-    int status = cli_options(argc, argv, 1, "simulate", cli_help_simulate, opts, NULL, 0, NULL);
+    int status = cli_options(argc, argv, 1, "simulate", opts, NULL, 0, NULL);
     if (status)
-        return status < 0 ? CLI_OK : status;
+        return status;
     if (!scenario)
         return cli_usage_error("simulate", "give a scenario file (see 'lantern simulate --help')");
     if (!out)

@@ -6,6 +6,10 @@
 #   main*.txt       'lantern --help' around the list of commands
 #   data.txt, model.txt   included by the commands' texts
 # A file that fits none of these fails, so a new text cannot go unchecked.
+# Then, for every command that 'lantern --help' lists: -h, --help, 'lantern
+# help CMD' give the same text anywhere on the line, --version works after
+# it, its help explains exit statuses 0-3 and every option it accepts, and
+# usage errors carry one 'lantern:' prefix.
 . "$(dirname "$0")/lib.sh"
 
 HELP="$ROOT/src/cli/help"
@@ -122,3 +126,132 @@ fi
 run "$LANTERN" --help
 (around "probe" "$HELP/fit.txt" "$HELP/main-tail.txt" '^  [a-z]+ +[^ ]') | grep -q '^not ok' &&
     pass "a wrong head is told apart" || fail "a wrong head is told apart"
+
+# ---- every command, read from 'lantern --help' so that a new one is covered ----
+# The help of a command is the same text (stdout, status 0, nothing on
+# stderr) by -h, --help, 'lantern help CMD' and 'lantern -h CMD', wherever
+# the flag stands; --version after any command prints what 'lantern
+# --version' prints.
+run "$LANTERN" --help
+commands=$(sed -n '/^commands:$/,/^$/s/^  \([a-z][a-z-]*\) .*/\1/p' "$OUT")
+ncommands=$(echo "$commands" | wc -w)
+[ "$ncommands" -ge 12 ] && pass "lantern --help lists the commands ($ncommands)" ||
+    fail "lantern --help lists the commands (found $ncommands)"
+cp "$OUT" "$E2E_TMP/main-help"
+for form in "help" "-h" "--help"; do
+    run "$LANTERN" $form
+    if [ "$STATUS" -eq 0 ] && [ ! -s "$ERR" ] && cmp -s "$OUT" "$E2E_TMP/main-help"; then
+        pass "lantern $form prints the main help"
+    else
+        fail "lantern $form prints the main help"
+    fi
+done
+run "$LANTERN" --version
+version=$(cat "$OUT")
+[ "$STATUS" -eq 0 ] && echo "$version" | grep -qE '^lantern [0-9]+\.[0-9]+\.[0-9]+$' &&
+    pass "lantern --version: $version" || fail "lantern --version"
+
+# the same text, status 0 and a quiet stderr from every form: shown CMD FORM...
+shown() {
+    local cmd=$1
+    shift
+    run "$LANTERN" "$@"
+    if [ "$STATUS" -eq 0 ] && [ ! -s "$ERR" ] && cmp -s "$OUT" "$E2E_TMP/help-$cmd"; then
+        pass "lantern $* prints the help of $cmd"
+    else
+        fail "lantern $* prints the help of $cmd"
+    fi
+}
+for cmd in $commands; do
+    run "$LANTERN" "$cmd" --help
+    cp "$OUT" "$E2E_TMP/help-$cmd"
+    if [ "$STATUS" -eq 0 ] && [ ! -s "$ERR" ] && head -1 "$OUT" | grep -q "^usage: lantern $cmd "; then
+        pass "lantern $cmd --help: its usage, status 0"
+    else
+        fail "lantern $cmd --help: its usage, status 0"
+    fi
+    shown "$cmd" "$cmd" -h
+    shown "$cmd" help "$cmd"
+    shown "$cmd" -h "$cmd"
+    shown "$cmd" --help "$cmd"
+    # after other arguments, even ones that would fail: nothing is read or run
+    shown "$cmd" "$cmd" "$E2E_TMP/no-such-file.ini" --format json -h
+    shown "$cmd" "$cmd" --no-such-option --help
+    run "$LANTERN" "$cmd" "$E2E_TMP/no-such-file.ini" --version
+    [ "$STATUS" -eq 0 ] && [ "$(cat "$OUT")" = "$version" ] && [ ! -s "$ERR" ] &&
+        pass "lantern $cmd ... --version prints the version" ||
+        fail "lantern $cmd ... --version prints the version"
+    # every help ends with the exit statuses, 0 to 3, each explained
+    if [ "$(sed -n '/^exit status:$/,$p' "$E2E_TMP/help-$cmd" | grep -oE '^  [0-3]  [a-z]' |
+        sort -u | wc -l)" -eq 4 ]; then
+        pass "lantern $cmd --help explains exit statuses 0, 1, 2 and 3"
+    else
+        fail "lantern $cmd --help explains exit statuses 0, 1, 2 and 3"
+    fi
+    # an unknown option, long or short: one line, one prefix, status 2
+    for bad in --no-such-option -x; do
+        run "$LANTERN" "$cmd" "$bad"
+        if [ "$STATUS" -eq 2 ] && [ ! -s "$OUT" ] && [ "$(wc -l <"$ERR")" -eq 1 ] &&
+            grep -qx "lantern: $cmd: unknown argument '$bad' (see 'lantern $cmd --help')" "$ERR"; then
+            pass "lantern $cmd $bad: one usage error, status 2"
+        else
+            fail "lantern $cmd $bad: one usage error, status 2"
+        fi
+    done
+done
+
+# Every option a command accepts is in its help. The candidates are every
+# --flag named in the sources of the command line, the run description's
+# flags (src/pipeline/job.c) and the help texts; a command accepts one when
+# it does not answer "unknown argument" (without a value, a flag that takes
+# one says it needs one; no command has data to work on here, so none runs).
+candidates=$(cat "$ROOT"/src/cli/*.c "$ROOT"/src/pipeline/job.c "$HELP"/*.txt |
+    grep -oE -- '--[a-z]([a-z0-9-]*[a-z0-9])?' | sort -u | grep -vxE -- '--help|--version')
+[ "$(echo "$candidates" | wc -w)" -ge 40 ] && pass "candidate options found" ||
+    fail "candidate options found"
+# Some 800 calls: under make valgrind (1.5 s a call) they run the binary the
+# wrapper runs, directly; its error paths are checked under valgrind above.
+PROBE=$LANTERN
+[ "$(basename "$LANTERN")" = valgrind-lantern ] && PROBE="$ROOT/bin/lantern"
+for cmd in $commands; do
+    undocumented="" accepted=0
+    for opt in $candidates; do
+        timeout 20 "$PROBE" "$cmd" "$opt" >/dev/null 2>"$ERR" </dev/null
+        grep -q "unknown argument '$opt'" "$ERR" && continue
+        accepted=$((accepted + 1))
+        grep -qE -- "$opt([^a-z0-9-]|\$)" "$E2E_TMP/help-$cmd" || undocumented="$undocumented $opt"
+    done
+    if [ -z "$undocumented" ] && [ "$accepted" -gt 0 ]; then
+        pass "lantern $cmd --help documents all $accepted options it accepts"
+    else
+        fail "lantern $cmd --help documents every option it accepts (missing:$undocumented)"
+    fi
+done
+
+# help for what is not a command, and an unknown command: usage errors with
+# one 'lantern:' prefix
+run "$LANTERN" help no-such-command
+[ "$STATUS" -eq 2 ] && [ ! -s "$OUT" ] &&
+    grep -qx "lantern: help: no command 'no-such-command' (see 'lantern --help')" "$ERR" &&
+    pass "lantern help NOSUCH: a usage error, status 2" || fail "lantern help NOSUCH: a usage error, status 2"
+run "$LANTERN" help fit sample
+expect_error "lantern help with two commands: a usage error" 2 "help: takes one command"
+for bad in bogus --bogus -x; do
+    run "$LANTERN" "$bad"
+    [ "$STATUS" -eq 2 ] && [ ! -s "$OUT" ] &&
+        grep -qx "lantern: unknown command '$bad' (see 'lantern --help')" "$ERR" &&
+        pass "lantern $bad: unknown command, one prefix, status 2" ||
+        fail "lantern $bad: unknown command, one prefix, status 2"
+done
+
+# lantern-mpi answers -h and --version for its campaign as bin/lantern does
+if [ -z "${LANTERN_SANITIZE:-}" ] && [ -x "$MPI_BIN" ]; then
+    run "$MPI_BIN" campaign -h
+    cmp -s "$OUT" "$E2E_TMP/help-campaign" && [ "$STATUS" -eq 0 ] &&
+        pass "lantern-mpi campaign -h prints the help of campaign" ||
+        fail "lantern-mpi campaign -h prints the help of campaign"
+    run "$MPI_BIN" campaign "$E2E_TMP/no-such-file.ini" --version
+    [ "$STATUS" -eq 0 ] && [ "$(cat "$OUT")" = "$version" ] &&
+        pass "lantern-mpi campaign --version prints the version" ||
+        fail "lantern-mpi campaign --version prints the version"
+fi

@@ -148,7 +148,10 @@ int main(int argc, char **argv)
         status = cli_main(argc, argv);
     else if (argc >= 2 && !strcmp(argv[1], "campaign")) {
         cli_setup();
-        status = cli_campaign_main(argc - 1, argv + 1, &mpi_runner, world_rank == 0);
+        /* only rank 0 speaks: the others would print the same words again */
+        status = cli_help_answer(argc - 1, argv + 1, world_rank == 0)
+                     ? CLI_OK
+                     : cli_campaign_main(argc - 1, argv + 1, &mpi_runner, world_rank == 0);
         /* the outcome is rank 0's: the others only ran tasks */
         MPI_Bcast(&status, 1, MPI_INT, 0, MPI_COMM_WORLD);
     } else {
