@@ -65,6 +65,15 @@ for mode, name in ((csv.QUOTE_MINIMAL, "minimal.csv"), (csv.QUOTE_ALL, "all.csv"
         w.writerow(names)
         for k, r in enumerate(body):
             w.writerow(quirky(r, k))
+# the mode table (data/lamplighter/modes.csv) with the same ids, so that
+# its rows are matched to the table's by id
+modes = list(csv.reader(open(src.replace("survey.csv", "modes.csv"), newline="")))
+with open(out + "/modes.csv", "w", newline="") as f:
+    w = csv.writer(f)
+    w.writerows(modes[:2])
+    for r, m in zip(body, modes[2:]):
+        assert m[0] == r[col["id"]]
+        w.writerow([quirky(r, 0)[0]] + m[1:])
 with open(out + "/keep.txt", "w") as f:
     for r in body[:3]:
         f.write(quirky(r, 0)[0] + "\n")
@@ -107,6 +116,16 @@ same_fit "csv.writer QUOTE_ALL (quoted header names and numbers) fits as the pla
 run "$LANTERN" inspect --data "$T/minimal.csv" --columns "$PLAIN,id=id" --keep-ids "$T/keep.txt"
 expect_stdout "ids holding commas and quotes read as Python wrote them (--keep-ids finds 3)" \
     '^objects +3 \(of 800 read\)$'
+
+# a mode table in the same quoting, matched by those ids
+PLAIN_REF=$REF
+run "$LANTERN" fit --data "$SURVEY" --columns "$PLAIN,id=id" --modes "$ROOT/data/lamplighter/modes.csv" \
+    --model lcdm-flat --format json
+REF=$(fit_numbers)
+[ "$REF" != "$PLAIN_REF" ] && pass "the modes change the fit" || fail "the modes change the fit"
+same_fit "quoted ids in a table and its csv.writer mode table match as the plain ones" \
+    --data "$T/minimal.csv" --columns "$PLAIN,id=id" --modes "$T/modes.csv"
+REF=$PLAIN_REF
 
 # pandas' unnamed index column: ignored, nothing shifts
 same_fit "pandas' to_csv layout (an unnamed index column) fits as the plain table" \
