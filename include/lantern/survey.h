@@ -13,8 +13,10 @@
  * amplitudes. The modes are never expanded to N x N: solves go through the
  * Woodbury identity, so memory grows as N k.
  *
- * Tables are whitespace-separated text, CSV or FITS binary tables; the rules
- * for headers, comments and short rows are in docs of lt_survey_read below.
+ * Tables are whitespace-separated text, CSV (RFC 4180) or FITS binary
+ * tables, with a header or (text) without one; the rules for headers,
+ * quotes, comments, names and short rows are in the docs of lt_survey_read
+ * below.
  */
 #ifndef LANTERN_SURVEY_H
 #define LANTERN_SURVEY_H
@@ -149,7 +151,8 @@ const char *lt_obs_name(lt_obs k); /* "mu", "mag", "dl", "mb" */
 /* What to read. Paths may be FITS extended names ("file.fits[2]"). */
 typedef struct lt_survey_spec {
     const char *data;     /* the table */
-    const char *columns;  /* "role=name,..."; roles z, zhel, mu|mag|dl, err, id; or, for a
+    const char *columns;  /* "role=name,..." (name: a column number in a table without a
+                           * header); roles z, zhel, mu|mag|dl, err, id; or, for a
                            * light-curve table, mb, err_mb, x1, color, mass, err_mass, err_x1,
                            * err_color, cov_mb_x1, cov_mb_color, cov_x1_color, dz, group,
                            * calibrator, calib_mu, err_calib_mu */
@@ -216,15 +219,37 @@ typedef struct lt_survey {
  * Read a survey. Tables:
  *  - Text: the header is the first non-blank line and may start with '#';
  *    later lines starting with '#' are comments; blank lines, CRLF line
- *    ends, a UTF-8 byte-order mark and tabs are accepted. A header holding
- *    a comma makes the file CSV (fields split at commas and trimmed),
- *    otherwise fields are split at runs of blanks and tabs.
+ *    ends, a UTF-8 byte-order mark and tabs are accepted. A first line
+ *    holding a comma makes the file CSV, otherwise fields are split at runs
+ *    of blanks and tabs.
+ *  - CSV is RFC 4180's (lt_line_split): fields split at commas and trimmed;
+ *    a field in double quotes may hold commas, and "" in it is one quote;
+ *    header names may be quoted too. A quoted field must close on its line:
+ *    one holding a line break is refused at the line where it opens (a
+ *    record is one line, so every error names its line).
+ *  - No header: a first line that does not start with '#' and whose every
+ *    field is a number is the first data row of a table without a header.
+ *    Its columns are mapped by number, counting from 1 as awk and cut do
+ *    ("z=1,mu=2,err=3"), and only by number. In a table with a header an
+ *    all-digit name is a name ("z=1" wants a column named 1, as pandas
+ *    names unnamed columns 0, 1, ...). So a header made only of numbers
+ *    reads as data, and a header-less table whose first row holds text
+ *    (ids) reads that row as its header: give such a table a header.
+ *  - Names match exactly, else ignoring ASCII case when just one column
+ *    does ("z=zcmb" finds ZCMB); when several columns differ from the name
+ *    only in case and none matches exactly, the mapping is refused as
+ *    ambiguous. An exact match wins, so that a table with both zcmb and
+ *    ZCMB reads each by its own spelling. FITS column names (TTYPEn) go by
+ *    the same rule. Two roles may not reach one column (z and zhel may).
+ *  - An empty header name (the unnamed index column pandas' to_csv writes
+ *    first, ",z,mu,err") is a column that no role can map; it keeps the
+ *    other columns in place.
  *  - Every data row must have the same number of fields as the first one.
  *    A row may have fewer fields than the header has names only if the
- *    names left over are trailing, filled by no row and mapped to no role:
- *    they are ignored with one warning (the Pantheon 2018 files have one
- *    such name). A row with more fields than names, or a missing mapped
- *    column, is an error: columns never shift.
+ *    names left over are trailing, filled by no row and mapped to no role,
+ *    and no name is empty: they are ignored with one warning (the Pantheon
+ *    2018 files have one such name). A row with more fields than names, or
+ *    a missing mapped column, is an error: columns never shift.
  *  - Values are checked only in mapped columns; the id column is text.
  *  - FITS binary tables by CFITSIO's extended names; errors name the row.
  * Light-curve tables (mb with x1 and color; the roles in lt_survey_spec's

@@ -32,10 +32,29 @@ char *lt_lines_next(lt_lines *it, size_t *len);
 /* Is the line empty or only blanks and tabs? */
 int lt_line_blank(const char *s);
 
-/* Split line in place into fields: at commas (csv, fields trimmed of blanks
- * and tabs) or at runs of blanks and tabs. Returns the count, or -1 if
- * there are more than max. */
+/* Is the line one that tables skip: blank, or a comment (its first
+ * non-blank character '#')? */
+int lt_line_skipped(const char *s);
+
+/*
+ * Split line in place into fields: at runs of blanks and tabs, or (csv) as
+ * one record of RFC 4180 CSV: fields separated by commas and trimmed of
+ * blanks and tabs, a field that starts with '"' quoted up to its closing
+ * '"' (commas inside it kept, "" read as one quote, the text inside taken
+ * as it is, blanks too). A quote inside an unquoted field is an ordinary
+ * character. Returns the count, or a negative LT_SPLIT_* code:
+ * LT_SPLIT_TOO_MANY if there are more than max fields, LT_SPLIT_OPEN_QUOTE
+ * if a quoted field is not closed on the line (the line breaks RFC 4180
+ * allows inside quotes are refused: every reader here counts a record as
+ * one line, the number its errors name), LT_SPLIT_AFTER_QUOTE if text
+ * follows a closing quote (a quote not doubled).
+ */
+#define LT_SPLIT_TOO_MANY (-1)
+#define LT_SPLIT_OPEN_QUOTE (-2)
+#define LT_SPLIT_AFTER_QUOTE (-3)
 long lt_line_split(char *line, int csv, char **fields, long max);
+/* What a negative count of lt_line_split means, for an error message. */
+const char *lt_split_error(long code);
 
 /*
  * Strict parsing of one number: the whole of text (no leading or trailing

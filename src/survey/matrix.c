@@ -315,8 +315,9 @@ int lt_modes_read(const char *path, size_t *nout, size_t *kout, double **uout,
     long h = lt_line_split(s, csv, fields, LT_TABLE_FIELDS_MAX);
     long header_line = it.line;
     if (h < 2) {
-        rc = lt_error_set(err, LT_EINPUT, path, header_line,
-                          "the header must name an id column and at least one mode");
+        rc = lt_error_set(err, LT_EINPUT, path, header_line, "%s",
+                          h < 0 ? lt_split_error(h)
+                                : "the header must name an id column and at least one mode");
         goto done;
     }
     k = (size_t)h - 1;
@@ -327,14 +328,13 @@ int lt_modes_read(const char *path, size_t *nout, size_t *kout, double **uout,
     }
     int have_amp = 0;
     while ((s = lt_lines_next(&it, &len))) {
-        if (lt_line_blank(s))
-            continue;
-        char *q = s;
-        while (*q == ' ' || *q == '\t')
-            q++;
-        if (*q == '#')
+        if (lt_line_skipped(s))
             continue;
         long nf = lt_line_split(s, csv, fields, LT_TABLE_FIELDS_MAX);
+        if (nf < 0) {
+            rc = lt_error_set(err, LT_EINPUT, path, it.line, "%s", lt_split_error(nf));
+            goto done;
+        }
         if (nf != h) {
             rc = lt_error_set(err, LT_EINPUT, path, it.line,
                               "row has %ld fields but the header (line %ld) names %ld", nf,

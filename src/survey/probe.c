@@ -78,8 +78,10 @@ static int read_table(lt_probe *p, const char *path, const char *cov_path, char 
             continue;
         long nf = lt_line_split(s, 1, f, PROBE_FIELDS);
         if (nf < 0)
-            return lt_error_set(err, LT_EINPUT, path, it.line, "more than %d columns",
-                                PROBE_FIELDS);
+            return nf == LT_SPLIT_TOO_MANY
+                       ? lt_error_set(err, LT_EINPUT, path, it.line, "more than %d columns",
+                                      PROBE_FIELDS)
+                       : lt_error_set(err, LT_EINPUT, path, it.line, "%s", lt_split_error(nf));
         if (!nhead) { /* the header */
             nhead = nf, head_line = it.line;
             cq = column(f, nf, "quantity"), cv = column(f, nf, "value");

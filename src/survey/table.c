@@ -291,6 +291,120 @@ static int check_value(const char *path, long line, const lt_colmap *map, int ro
     return LT_OK;
 }
 
+/* ---- finding the mapped columns ---- */
+
+/* "a, b, c": names[0..n-1] for a message, an unnamed column as '', cut
+ * short near the end of buf. */
+static void list_names(const char *const *names, long n, char *buf, size_t size)
+{
+    buf[0] = '\0';
+    for (long a = 0; a < n && strlen(buf) + 100 < size; a++)
+        snprintf(buf + strlen(buf), size - strlen(buf), "%s%s", a ? ", " : "",
+                 *names[a] ? names[a] : "''");
+}
+
+/* A name of digits only is a 1-based column number: 1 and *pos if it is
+ * one, 0 if the name is not all digits, -1 if it is 0 or too large. */
+static int column_number(const char *name, long *pos)
+{
+    if (!*name || name[strspn(name, "0123456789")])
+        return 0;
+    return lt_parse_long(name, 1, LT_TABLE_FIELDS_MAX, pos) == LT_OK ? 1 : -1;
+}
+
+/*
+ * The column (0-based) of each mapped role into col (-1 where unmapped).
+ * names[0..n-1] are the table's column names ("" for an unnamed one), or
+ * NULL for a text table without a header, whose n columns go by number.
+ * A name matches exactly, else ignoring ASCII case if just one column
+ * does so; two roles may share a column only as z and zhel. Errors name
+ * path:line; listed says what lists the names ("the header names").
+ */
+static int find_columns(const char *path, long line, const char *const *names, long n,
+                        const char *listed, const lt_colmap *map, long col[LT_ROLE_COUNT],
+                        lt_error *err)
+{
+    char list[1024];
+    for (int r = 0; r < LT_ROLE_COUNT; r++) {
+        const char *want = map->name[r], *rn = lt_role_name(r, map->kind);
+        long pos;
+        col[r] = -1;
+        if (!want)
+            continue;
+        if (!names) {
+            int isnum = column_number(want, &pos);
+            if (isnum < 0)
+                return lt_error_set(err, LT_EINPUT, path, line,
+                                    "%s=%s: column numbers count from 1", rn, want);
+            if (!isnum)
+                return lt_error_set(err, LT_EINPUT, path, line,
+                                    "the table has no header (its first line holds only "
+                                    "numbers), so its columns go by number from 1: map %s "
+                                    "to one (%s=1 for the first), not to '%s'",
+                                    rn, rn, want);
+            if (pos > n)
+                return lt_error_set(err, LT_EINPUT, path, line,
+                                    "%s=%s: the first row has only %ld fields", rn, want, n);
+            col[r] = pos - 1;
+            continue;
+        }
+        long exact = -1, folded = -1, nexact = 0, nfolded = 0;
+        for (long a = 0; a < n; a++)
+            if (strcmp(names[a], want) == 0)
+                nexact++, exact = a;
+            else if (strcasecmp(names[a], want) == 0 && nfolded++ == 0)
+                folded = a;
+        if (nexact > 1)
+            return lt_error_set(err, LT_EINPUT, path, line,
+                                "more than one column is named '%s' (%s); rename one", want,
+                                rn);
+        if (!nexact && nfolded > 1) {
+            long other = -1;
+            for (long a = folded + 1; a < n && other < 0; a++)
+                if (strcasecmp(names[a], want) == 0)
+                    other = a;
+            return lt_error_set(err, LT_EINPUT, path, line,
+                                "'%s' (%s) matches columns %ld '%s' and %ld '%s', which differ "
+                                "only in case; name one exactly as written",
+                                want, rn, folded + 1, names[folded], other + 1, names[other]);
+        }
+        col[r] = nexact ? exact : folded;
+        if (col[r] < 0) {
+            list_names(names, n, list, sizeof list);
+            return lt_error_set(err, LT_EINPUT, path, line, "no column '%s' for %s (%s: %s)%s",
+                                want, rn, listed, list,
+                                column_number(want, &pos)
+                                    ? "; a number names a column by its position only in a "
+                                      "text table without a header (its first line all "
+                                      "numbers)"
+                                    : "");
+        }
+    }
+    for (int a = 0; a < LT_ROLE_COUNT; a++)
+        for (int b = a + 1; b < LT_ROLE_COUNT; b++)
+            if (col[a] >= 0 && col[a] == col[b] && !(a == LT_ROLE_Z && b == LT_ROLE_ZHEL)) {
+                char which[64];
+                snprintf(which, sizeof which, "%ld", col[a] + 1);
+                return lt_error_set(err, LT_EINPUT, path, line,
+                                    "column %s%s%s is mapped to both %s (as '%s') and %s (as "
+                                    "'%s')",
+                                    names ? "'" : "", names ? names[col[a]] : which,
+                                    names ? "'" : "", lt_role_name(a, map->kind), map->name[a],
+                                    lt_role_name(b, map->kind), map->name[b]);
+            }
+    return LT_OK;
+}
+
+/* Is every field a number? A first line like that is data: no header. */
+static int all_numbers(char *const *fields, long n)
+{
+    double v;
+    for (long a = 0; a < n; a++)
+        if (lt_parse_double(fields[a], &v))
+            return 0;
+    return n > 0;
+}
+
 int lt_table_read_text(const char *path, const lt_colmap *map, lt_rawtable *t, lt_error *err)
 {
     memset(t, 0, sizeof *t);
@@ -320,7 +434,9 @@ int lt_table_read_text(const char *path, const lt_colmap *map, lt_rawtable *t, l
     lt_lines_start(&it, buf);
     char *s;
     size_t len;
-    /* The header: the first non-blank line. */
+    /* The header: the first non-blank line, unless that holds only
+     * numbers (and no '#'): then it is the first row of a table without a
+     * header. */
     while ((s = lt_lines_next(&it, &len)) && lt_line_blank(s))
         ;
     if (!s) {
@@ -333,78 +449,73 @@ int lt_table_read_text(const char *path, const lt_colmap *map, lt_rawtable *t, l
         goto done;
     }
     long header_line = it.line;
+    while (*s == ' ' || *s == '\t')
+        s++;
+    int hashed = *s == '#';
     while (*s == '#' || *s == ' ' || *s == '\t')
         s++;
     int csv = strchr(s, ',') != NULL;
     long h = lt_line_split(s, csv, fields, LT_TABLE_FIELDS_MAX);
     if (h <= 0) {
-        rc = lt_error_set(err, LT_EINPUT, path, header_line,
-                          h < 0 ? "header has more than %d names" : "header names no columns",
-                          LT_TABLE_FIELDS_MAX);
-        goto done;
-    }
-    header = malloc((size_t)h * sizeof *header);
-    if (!header) {
-        rc = lt_error_set(err, LT_ENOMEM, path, 0, "out of memory");
-        goto done;
-    }
-    memcpy(header, fields, (size_t)h * sizeof *header);
-    for (long a = 0; a < h; a++) {
-        if (!*header[a]) {
+        if (h == LT_SPLIT_TOO_MANY || h == 0)
             rc = lt_error_set(err, LT_EINPUT, path, header_line,
-                              "header name number %ld is empty", a + 1);
+                              h ? "header has more than %d names" : "header names no columns",
+                              LT_TABLE_FIELDS_MAX);
+        else
+            rc = lt_error_set(err, LT_EINPUT, path, header_line, "%s", lt_split_error(h));
+        goto done;
+    }
+    int headerless = !hashed && all_numbers(fields, h), unnamed = 0;
+    if (!headerless) {
+        header = malloc((size_t)h * sizeof *header);
+        if (!header) {
+            rc = lt_error_set(err, LT_ENOMEM, path, 0, "out of memory");
             goto done;
         }
-        for (long b = 0; b < a; b++)
-            if (strcmp(header[a], header[b]) == 0) {
-                rc = lt_error_set(err, LT_EINPUT, path, header_line,
-                                  "header names '%s' twice (columns %ld and %ld); rename one",
-                                  header[a], b + 1, a + 1);
-                goto done;
-            }
+        memcpy(header, fields, (size_t)h * sizeof *header);
+        /* an unnamed column (pandas writes its index so) cannot be mapped,
+         * and is read only to keep the others in place */
+        for (long a = 0; a < h; a++) {
+            unnamed += !*header[a];
+            for (long b = 0; b < a && *header[a]; b++)
+                if (strcmp(header[a], header[b]) == 0) {
+                    rc = lt_error_set(err, LT_EINPUT, path, header_line,
+                                      "header names '%s' twice (columns %ld and %ld); rename "
+                                      "one",
+                                      header[a], b + 1, a + 1);
+                    goto done;
+                }
+        }
     }
-    /* Which field holds each mapped role. */
     long col[LT_ROLE_COUNT];
-    for (int r = 0; r < LT_ROLE_COUNT; r++) {
-        col[r] = -1;
-        if (!map->name[r])
-            continue;
-        for (long a = 0; a < h; a++)
-            if (strcmp(header[a], map->name[r]) == 0)
-                col[r] = a;
-        if (col[r] < 0) {
-            char names[1024] = "";
-            for (long a = 0; a < h && strlen(names) < 900; a++)
-                snprintf(names + strlen(names), sizeof names - strlen(names), "%s%s",
-                         a ? ", " : "", header[a]);
-            rc = lt_error_set(err, LT_EINPUT, path, header_line,
-                              "no column '%s' for %s (the header names: %s)", map->name[r],
-                              lt_role_name(r, map->kind), names);
-            goto done;
-        }
-    }
+    if ((rc = find_columns(path, header_line, (const char *const *)header, h,
+                           "the header names", map, col, err)))
+        goto done;
 
     long first_fields = -1, first_line = 0;
     size_t cap = 0;
-    while ((s = lt_lines_next(&it, &len))) {
-        if (len > LT_TABLE_LINE_MAX) {
-            rc = lt_error_set(err, LT_EINPUT, path, it.line, "line is longer than %u bytes",
-                              LT_TABLE_LINE_MAX);
-            goto done;
+    int pending = headerless; /* the first line, split already, is the first row */
+    while (pending || (s = lt_lines_next(&it, &len))) {
+        long nf = h;
+        if (!pending) {
+            if (len > LT_TABLE_LINE_MAX) {
+                rc = lt_error_set(err, LT_EINPUT, path, it.line,
+                                  "line is longer than %u bytes", LT_TABLE_LINE_MAX);
+                goto done;
+            }
+            if (lt_line_skipped(s))
+                continue;
+            nf = lt_line_split(s, csv, fields, LT_TABLE_FIELDS_MAX);
+            if (nf < 0) {
+                if (nf == LT_SPLIT_TOO_MANY)
+                    rc = lt_error_set(err, LT_EINPUT, path, it.line, "more than %d fields",
+                                      LT_TABLE_FIELDS_MAX);
+                else
+                    rc = lt_error_set(err, LT_EINPUT, path, it.line, "%s", lt_split_error(nf));
+                goto done;
+            }
         }
-        if (lt_line_blank(s))
-            continue;
-        char *q = s;
-        while (*q == ' ' || *q == '\t')
-            q++;
-        if (*q == '#')
-            continue;
-        long nf = lt_line_split(s, csv, fields, LT_TABLE_FIELDS_MAX);
-        if (nf < 0) {
-            rc = lt_error_set(err, LT_EINPUT, path, it.line, "more than %d fields",
-                              LT_TABLE_FIELDS_MAX);
-            goto done;
-        }
+        pending = 0;
         if (first_fields < 0) {
             first_fields = nf, first_line = it.line;
             if (nf > h) {
@@ -412,6 +523,14 @@ int lt_table_read_text(const char *path, const lt_colmap *map, lt_rawtable *t, l
                                   "row has %ld fields but the header (line %ld) names %ld "
                                   "columns: columns would shift; fix the header",
                                   nf, header_line, h);
+                goto done;
+            }
+            if (nf < h && unnamed) {
+                rc = lt_error_set(err, LT_EINPUT, path, it.line,
+                                  "row has %ld fields but the header (line %ld) names %ld "
+                                  "columns, %d of them unnamed: columns would shift; fix the "
+                                  "header",
+                                  nf, header_line, h, unnamed);
                 goto done;
             }
             if (nf < h) {
@@ -424,10 +543,8 @@ int lt_table_read_text(const char *path, const lt_colmap *map, lt_rawtable *t, l
                                           col[r] + 1, nf);
                         goto done;
                     }
-                char names[512] = "";
-                for (long a = nf; a < h && strlen(names) < 400; a++)
-                    snprintf(names + strlen(names), sizeof names - strlen(names), "%s%s",
-                             a > nf ? ", " : "", header[a]);
+                char names[512];
+                list_names((const char *const *)header + nf, h - nf, names, sizeof names);
                 char msg[768];
                 snprintf(msg, sizeof msg,
                          "%s:%ld: the header names %ld columns but rows have %ld fields; "
@@ -533,35 +650,29 @@ int lt_table_read_fits(const char *path, const lt_colmap *map, lt_rawtable *t, l
         rc = lt_error_set(err, LT_EINPUT, path, 0, "the FITS table has no rows");
         goto done;
     }
-    int col[LT_ROLE_COUNT];
-    for (int r = 0; r < LT_ROLE_COUNT; r++) {
-        col[r] = 0;
-        if (!map->name[r])
-            continue;
-        /* exact names only: CFITSIO would read '*' and '#' as wildcards */
-        char key[FLEN_KEYWORD], val[FLEN_VALUE];
-        for (int c = 1; c <= ncols && !col[r]; c++) {
-            int st = 0;
-            snprintf(key, sizeof key, "TTYPE%d", c);
-            if (fits_read_key(f, TSTRING, key, val, NULL, &st) == 0 &&
-                strcmp(val, map->name[r]) == 0)
-                col[r] = c;
-        }
-        if (!col[r]) {
-            char names[1024] = "";
-            for (int c = 1; c <= ncols && strlen(names) < 900; c++) {
-                int st = 0;
-                snprintf(key, sizeof key, "TTYPE%d", c);
-                if (fits_read_key(f, TSTRING, key, val, NULL, &st) == 0)
-                    snprintf(names + strlen(names), sizeof names - strlen(names), "%s%s",
-                             c > 1 ? ", " : "", val);
-            }
-            fits_clear_errmsg();
-            rc = lt_error_set(err, LT_EINPUT, path, 0, "no column '%s' for %s (columns: %s)",
-                              map->name[r], lt_role_name(r, map->kind), names);
-            goto done;
-        }
+    /* The names by their TTYPEn keys as written: CFITSIO's own lookup
+     * would read '*' and '#' in a name as wildcards. A column without a
+     * TTYPEn has no name. */
+    char(*ttype)[FLEN_VALUE] = calloc((size_t)ncols + 1, sizeof *ttype);
+    const char **names = calloc((size_t)ncols + 1, sizeof *names);
+    long col[LT_ROLE_COUNT];
+    if (!ttype || !names)
+        rc = lt_error_set(err, LT_ENOMEM, path, 0, "out of memory");
+    for (int c = 0; !rc && c < ncols; c++) {
+        char key[FLEN_KEYWORD];
+        int st = 0;
+        snprintf(key, sizeof key, "TTYPE%d", c + 1);
+        if (fits_read_key(f, TSTRING, key, ttype[c], NULL, &st))
+            ttype[c][0] = '\0';
+        names[c] = ttype[c];
     }
+    fits_clear_errmsg();
+    if (!rc)
+        rc = find_columns(path, 0, names, ncols, "columns", map, col, err);
+    free(names);
+    free(ttype);
+    if (rc)
+        goto done;
     n = (size_t)nrows;
     if (grow(t, map, n)) {
         rc = lt_error_set(err, LT_ENOMEM, path, 0, "out of memory for %zu rows", n);
@@ -573,11 +684,11 @@ int lt_table_read_fits(const char *path, const lt_colmap *map, lt_rawtable *t, l
                 t->text[k][i] = NULL; /* so that a failure part-way frees only what it made */
     ids_ready = 1;
     for (int r = 0; r < LT_ROLE_ID; r++) {
-        if (!col[r])
+        if (col[r] < 0)
             continue;
         int typecode;
         long repeat, width;
-        fits_get_coltype(f, col[r], &typecode, &repeat, &width, &status);
+        fits_get_coltype(f, (int)col[r] + 1, &typecode, &repeat, &width, &status);
         if (!status && (typecode == TSTRING || repeat != 1)) {
             rc = lt_error_set(err, LT_EINPUT, path, 0,
                               "column '%s' (%s) is not a scalar numeric column",
@@ -586,7 +697,7 @@ int lt_table_read_fits(const char *path, const lt_colmap *map, lt_rawtable *t, l
         }
         double nul = NAN;
         int anynul = 0;
-        fits_read_col(f, TDOUBLE, col[r], 1, 1, nrows, &nul, t->v[r], &anynul, &status);
+        fits_read_col(f, TDOUBLE, (int)col[r] + 1, 1, 1, nrows, &nul, t->v[r], &anynul, &status);
         if (status) {
             rc = fits_fail(path, status, "cannot read a column", err);
             goto done;
@@ -607,9 +718,9 @@ int lt_table_read_fits(const char *path, const lt_colmap *map, lt_rawtable *t, l
         }
     }
     for (int k = 0; k < LT_ROLE_NTEXT; k++) {
-        int c = col[LT_ROLE_ID + k];
-        if (!c)
+        if (col[LT_ROLE_ID + k] < 0)
             continue;
+        int c = (int)col[LT_ROLE_ID + k] + 1;
         int typecode;
         long repeat, width;
         fits_get_coltype(f, c, &typecode, &repeat, &width, &status);

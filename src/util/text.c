@@ -40,6 +40,13 @@ int lt_line_blank(const char *s)
     return 1;
 }
 
+int lt_line_skipped(const char *s)
+{
+    while (*s == ' ' || *s == '\t')
+        s++;
+    return !*s || *s == '#';
+}
+
 char *lt_text_trim(char *s)
 {
     while (*s == ' ' || *s == '\t')
@@ -50,22 +57,58 @@ char *lt_text_trim(char *s)
     return s;
 }
 
+/* One RFC 4180 field at p (blanks before it skipped): quoted, with "" for a
+ * quote, or bare up to the next comma (trimmed). *f gets the field, cut in
+ * place; returns where the next field starts, NULL after the last, or sets
+ * *bad (a quote left open, or text after a closing quote). */
+static char *csv_field(char *p, char **f, long *bad)
+{
+    while (*p == ' ' || *p == '\t')
+        p++;
+    if (*p != '"') {
+        char *comma = strchr(p, ',');
+        if (comma)
+            *comma = '\0';
+        *f = lt_text_trim(p);
+        return comma ? comma + 1 : NULL;
+    }
+    /* the unquoted text is never longer than the quoted, so it is written
+     * over it from the opening quote on */
+    char *w = p, *q = p + 1;
+    *f = w;
+    for (;;) {
+        if (!*q) {
+            *bad = LT_SPLIT_OPEN_QUOTE;
+            return NULL;
+        }
+        if (*q == '"' && q[1] == '"')
+            *w++ = '"', q += 2;
+        else if (*q == '"')
+            break;
+        else
+            *w++ = *q++;
+    }
+    *w = '\0';
+    for (q++; *q == ' ' || *q == '\t'; q++)
+        ;
+    if (*q && *q != ',')
+        *bad = LT_SPLIT_AFTER_QUOTE;
+    return *q == ',' ? q + 1 : NULL;
+}
+
 long lt_line_split(char *line, int csv, char **fields, long max)
 {
     long n = 0;
     if (csv) {
         char *p = line;
-        for (;;) {
-            char *comma = strchr(p, ',');
-            if (comma)
-                *comma = '\0';
+        do {
+            long bad = 0;
             if (n == max)
-                return -1;
-            fields[n++] = lt_text_trim(p);
-            if (!comma)
-                break;
-            p = comma + 1;
-        }
+                return LT_SPLIT_TOO_MANY;
+            p = csv_field(p, &fields[n++], &bad);
+            if (bad)
+                return bad;
+        } while (p);
         return n;
     }
     char *p = line;
@@ -75,7 +118,7 @@ long lt_line_split(char *line, int csv, char **fields, long max)
         if (!*p)
             break;
         if (n == max)
-            return -1;
+            return LT_SPLIT_TOO_MANY;
         fields[n++] = p;
         while (*p && *p != ' ' && *p != '\t')
             p++;
@@ -83,4 +126,18 @@ long lt_line_split(char *line, int csv, char **fields, long max)
             *p++ = '\0';
     }
     return n;
+}
+
+const char *lt_split_error(long code)
+{
+    switch (code) {
+    case LT_SPLIT_OPEN_QUOTE:
+        return "a quoted field is not closed on its line (a quoted field may not hold a line "
+               "break)";
+    case LT_SPLIT_AFTER_QUOTE:
+        return "text after a quoted field's closing quote (write a quote inside a quoted field "
+               "twice: \"\")";
+    default:
+        return "too many fields";
+    }
 }

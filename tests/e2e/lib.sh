@@ -47,6 +47,23 @@ expect_stdout() {
     fi
 }
 
+# bad NAME WHERE PATTERN ARGS...: "lantern inspect ARGS" refuses its input:
+# status 2, nothing on stdout, and stderr starting "lantern: WHERE: " (WHERE
+# the "FILE:LINE", or "FILE", taken literally) and matching PATTERN (grep -E).
+bad() {
+    local name=$1 where=$2 pattern=$3
+    shift 3
+    run "$LANTERN" inspect "$@"
+    # the message must start with "lantern: WHERE: ", taken literally
+    local prefix="lantern: $where: "
+    if [ "$STATUS" -eq 2 ] && [ ! -s "$OUT" ] && [ "$(head -c ${#prefix} "$ERR")" = "$prefix" ] &&
+        grep -qE -- "$pattern" "$ERR"; then
+        pass "$name"
+    else
+        fail "$name (want status 2 and stderr starting '$prefix' and matching '$pattern')"
+    fi
+}
+
 # wait_for PATH: until PATH exists (at most 30 s). Interrupt tests wait for
 # the checkpoint folder, made once lantern catches signals: a background job
 # of a script starts with SIGINT ignored, so an earlier Ctrl-C would be lost.

@@ -6,22 +6,6 @@ source "$(dirname "$0")/lib.sh"
 B="$ROOT/tests/data/bad"
 MU="z=z,mu=mu,err=err"
 
-# bad NAME WHERE PATTERN ARGS...: WHERE is the "FILE:LINE" (or "FILE") the
-# message must start with, PATTERN what it must say.
-bad() {
-    local name=$1 where=$2 pattern=$3
-    shift 3
-    run "$LANTERN" inspect "$@"
-    # the message must start with "lantern: WHERE: ", taken literally
-    local prefix="lantern: $where: "
-    if [ "$STATUS" -eq 2 ] && [ ! -s "$OUT" ] && [ "$(head -c ${#prefix} "$ERR")" = "$prefix" ] &&
-        grep -qE -- "$pattern" "$ERR"; then
-        pass "$name"
-    else
-        fail "$name (want status 2 and stderr starting '$prefix' and matching '$pattern')"
-    fi
-}
-
 bad "non-numeric value"       "$B/nonnumeric.txt:3"        "'abc' is not a finite number" --data "$B/nonnumeric.txt" --columns $MU
 bad "nan value"               "$B/nan_value.txt:3"         "'nan' is not a finite number" --data "$B/nan_value.txt" --columns $MU
 bad "infinite value (CSV)"    "$B/inf_value.csv:3"         "'inf' is not a finite number" --data "$B/inf_value.csv" --columns $MU

@@ -134,6 +134,33 @@ static void test_text(void **state)
     assert_string_equal(lt_text_trim(e), "");
 }
 
+/* CSV records by RFC 4180 (Shafranovich 2005, sect. 2, rules 5-7): quoted
+ * fields keep commas, "" is one quote; our own additions: blanks around a
+ * field are trimmed, a quote inside a bare field is a character, and a
+ * record must end on its line. */
+static void test_csv_split(void **state)
+{
+    (void)state;
+    char *f[8];
+    char a[] = "\"a, b\", \"say \"\"hi\"\"\" ,x\"y, \"\",,\" k \"";
+    assert_int_equal(lt_line_split(a, 1, f, 8), 6);
+    assert_string_equal(f[0], "a, b");
+    assert_string_equal(f[1], "say \"hi\"");
+    assert_string_equal(f[2], "x\"y");
+    assert_string_equal(f[3], "");
+    assert_string_equal(f[4], "");
+    assert_string_equal(f[5], " k ");
+    char b[] = "1,\"open, 2";
+    assert_int_equal(lt_line_split(b, 1, f, 8), LT_SPLIT_OPEN_QUOTE);
+    char c[] = "1,\"a\"b,2";
+    assert_int_equal(lt_line_split(c, 1, f, 8), LT_SPLIT_AFTER_QUOTE);
+    char d[] = "1,\"a,b\",3";
+    assert_int_equal(lt_line_split(d, 1, f, 2), LT_SPLIT_TOO_MANY);
+    assert_non_null(strstr(lt_split_error(LT_SPLIT_OPEN_QUOTE), "not closed on its line"));
+    /* blank and comment lines */
+    assert_true(lt_line_skipped(" \t") && lt_line_skipped("  # x") && !lt_line_skipped(" x#"));
+}
+
 /* Random streams keep their numbers: a change here changes every seeded
  * result. The values come from an independent Python transcription of the
  * published generators (splitmix64: Steele, Lea & Flood 2014; xoshiro256**:
@@ -284,6 +311,7 @@ int main(void)
         cmocka_unit_test(test_parse_long),
         cmocka_unit_test(test_outdir_command),
         cmocka_unit_test(test_text),
+        cmocka_unit_test(test_csv_split),
         cmocka_unit_test(test_rng_streams),
         cmocka_unit_test(test_digest),
         cmocka_unit_test(test_path_join),
