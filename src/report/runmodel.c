@@ -607,8 +607,10 @@ static int table_text(const char *path, lt_run_model *m, lt_error *err)
             csv = strchr(h, ',') != NULL;
             ncol = lt_line_split(h, csv, fields, TABLE_MAX_COLS);
             if (ncol < 0) {
-                rc = lt_error_set(err, LT_EINPUT, path, it.line, "more than %d columns",
-                                  TABLE_MAX_COLS);
+                rc = ncol == LT_SPLIT_TOO_MANY
+                         ? lt_error_set(err, LT_EINPUT, path, it.line, "more than %d columns",
+                                        TABLE_MAX_COLS)
+                         : lt_error_set(err, LT_EINPUT, path, it.line, "%s", lt_split_error(ncol));
                 break;
             }
             for (long i = 0; i < ncol; i++)
@@ -622,6 +624,10 @@ static int table_text(const char *path, lt_run_model *m, lt_error *err)
         if (line[strspn(line, " \t")] == '#')
             continue; /* a comment */
         long nf = lt_line_split(line, csv, fields, TABLE_MAX_COLS);
+        if (nf < 0 && nf != LT_SPLIT_TOO_MANY) {
+            rc = lt_error_set(err, LT_EINPUT, path, it.line, "%s", lt_split_error(nf));
+            break;
+        }
         if (nf != ncol) {
             rc = lt_error_set(err, LT_EINPUT, path, it.line, "%ld fields where the header has %ld",
                               nf < 0 ? (long)TABLE_MAX_COLS + 1 : nf, ncol);
