@@ -173,9 +173,11 @@ int lt_pipeline_compare_job(lt_job *j, int resume, volatile sig_atomic_t *stop,
         char edges[512], dic[256], text[600];
         lt_report_compare_warnings(&c->m[k], edges, sizeof edges, dic, sizeof dic);
         if (edges[0])
-            snprintf(text, sizeof text, "%s: %s", c->m[k].name, edges), pipeline_warn(h, LT_WARN_PRIOR_EDGE, text);
+            snprintf(text, sizeof text, "%s: %s", c->m[k].name, edges),
+                pipeline_warn(h, LT_WARN_PRIOR_EDGE, text);
         if (dic[0])
-            snprintf(text, sizeof text, "%s: %s", c->m[k].name, dic), pipeline_warn(h, LT_WARN_DIC, text);
+            snprintf(text, sizeof text, "%s: %s", c->m[k].name, dic),
+                pipeline_warn(h, LT_WARN_DIC, text);
     }
     /* final files only once every model is done: an interrupted comparison
      * leaves nothing but its checkpoints */

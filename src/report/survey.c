@@ -174,7 +174,8 @@ cJSON *lt_report_survey_json(const lt_survey_spec *spec, const lt_survey *s,
 static void diagnosis_table(FILE *f, const lt_survey_spec *spec, const lt_survey *s,
                             const lt_cov_diagnosis *d)
 {
-    fprintf(f, "           %zu negative eigenvalue%s", d->n_negative, d->n_negative == 1 ? "" : "s");
+    fprintf(f, "           %zu negative eigenvalue%s", d->n_negative,
+            d->n_negative == 1 ? "" : "s");
     if (d->n_zero)
         fprintf(f, ", %zu zero within rounding (|lambda| <= %.3g)", d->n_zero, d->tolerance);
     fprintf(f, "; the smallest:");

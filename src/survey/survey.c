@@ -428,8 +428,9 @@ static int build_cov(const lt_survey_spec *spec, const lt_rawtable *t, lt_survey
                                   t->text[0] ? t->text[0][i] : num, t->text[0] ? "'" : "");
         }
         if (!rc && unchecked)
-            lt_survey_warn(s, LT_WARN_MODES_ORDER, "%s: the mode rows are labelled by id but the table has no id "
-                              "column, so their order is not checked; map id=NAME to check it",
+            lt_survey_warn(s, LT_WARN_MODES_ORDER,
+                           "%s: the mode rows are labelled by id but the table has no id "
+                           "column, so their order is not checked; map id=NAME to check it",
                            spec->modes);
         if (!rc)
             rc = lt_cov_add_modes(c, k, u, amp, err);
@@ -525,7 +526,8 @@ static void warn_duplicate_ids(lt_survey *s)
             dups++;
         }
     if (dups)
-        lt_survey_warn(s, LT_WARN_DUPLICATE_IDS, "%zu ids appear more than once (the first: '%s')", dups, first);
+        lt_survey_warn(s, LT_WARN_DUPLICATE_IDS, "%zu ids appear more than once (the first: '%s')",
+                       dups, first);
     free(sorted);
 }
 
@@ -632,7 +634,8 @@ static lt_survey *read_table(const lt_survey_spec *spec, lt_error *err)
     if (t.warning)
         lt_survey_warn(s, LT_WARN_HEADER_EXTRA, "%s", t.warning); /* the only one */
     if (!map.name[LT_ROLE_ZHEL])
-        lt_survey_warn(s, LT_WARN_NO_ZHEL, "no zhel column: heliocentric redshifts are taken equal to z");
+        lt_survey_warn(s, LT_WARN_NO_ZHEL,
+                       "no zhel column: heliocentric redshifts are taken equal to z");
     if (build_cov(spec, &t, s, &full, err))
         goto fail;
     if (select_rows(spec, &t, s, &idx, &m, err))
@@ -809,7 +812,9 @@ static int add_cross(const lt_survey_spec *spec, lt_survey *const *part, size_t 
         for (size_t b = 0; b < n; b++)
             x[a * n + b] = m[at[a] * mn + at[b]];
     /* the errors of the rows whose table adds diag(err^2), 0 for the
-     * others (which the double-diagonal check then skips) */
+     * others (which the double-diagonal check then skips); when a table
+     * has no err column the joined survey keeps none, and the check is
+     * left out */
     double *e = s->err ? malloc((n ? n : 1) * sizeof *e) : NULL;
     for (size_t p = 0, a = 0; e && p < np; p++)
         for (size_t k = 0; k < part[p]->n; k++, a++)
