@@ -16,7 +16,9 @@
 
 #define NBINS 10
 
-/* The refusal, without its pointer to lantern inspect: this is it. */
+/* The refusal, without its pointer to lantern inspect: this is it. (A
+ * message cut short at LT_ERROR_MSG_MAX may have lost the pointer, or its
+ * end: then it stays as it is.) */
 static void report_refusal(lt_error *err)
 {
     size_t n = strlen(err->msg), h = strlen(LT_SURVEY_INSPECT_HINT);

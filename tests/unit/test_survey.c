@@ -646,6 +646,7 @@ static void test_diagnose_closed_form(void **state)
     for (int t = 2; t < LT_DIAG_TOP; t++)
         assert_abs(d.weight[t], 0.0, 1e-12);
     assert_abs(d.pair_correlation, 1.5, 1e-14);
+    assert_rel(d.tolerance, 6 * 2.220446049250313e-16 * 2.5, 1e-14); /* n eps |lambda|max */
     lt_cov_free(c);
 }
 
@@ -759,6 +760,41 @@ static void test_double_diagonal(void **state)
     }
 }
 
+
+/* The hint's rule (lt_report_cov_hint), branch by branch, on diagnoses made
+ * by hand: a pair beyond 1 first, then --no-err-diag, then an eigenvalue
+ * within rounding of the largest, else the general words. */
+static void test_cov_hint(void **state)
+{
+    (void)state;
+    const char *p = TMP("hint.txt", "id z mu err\na 0.1 38 0.1\nb 0.2 40 0.1\nc 0.3 41 0.1\n");
+    lt_error err;
+    lt_survey *s = read_survey(p, "z=z,mu=mu,err=err,id=id", &err);
+    assert_non_null(s);
+    lt_survey_spec spec;
+    lt_survey_spec_init(&spec);
+    lt_cov_diagnosis d = {.n = 3, .n_negative = 1, .max_eigenvalue = 2.0, .neigen = 3,
+                          .eigen = {-0.5, 1, 2}, .ntop = 3, .top = {2, 0, 1},
+                          .weight = {0.8, -0.6, 0}, .pair_correlation = 1.25};
+    char hint[1024];
+    lt_report_cov_hint(&spec, s, &d, hint, sizeof hint);
+    assert_non_null(strstr(hint, "objects 'c' and 'a' are correlated beyond 1"));
+    assert_non_null(strstr(hint, "= 1.25"));
+    d.pair_correlation = 0.9;
+    spec.no_err_diag = 1;
+    lt_report_cov_hint(&spec, s, &d, hint, sizeof hint);
+    assert_non_null(strstr(hint, "drop --no-err-diag"));
+    spec.no_err_diag = 0;
+    d.eigen[0] = -2e-6; /* 1e-6 of the largest: within rounding */
+    lt_report_cov_hint(&spec, s, &d, hint, sizeof hint);
+    assert_non_null(strstr(hint, "the smallest eigenvalue is 1e-06 of the largest"));
+    assert_non_null(strstr(hint, "too few digits"));
+    d.eigen[0] = -3e-6;
+    lt_report_cov_hint(&spec, s, &d, hint, sizeof hint);
+    assert_non_null(strstr(hint, "not a covariance as given"));
+    lt_survey_free(s);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -770,6 +806,7 @@ int main(void)
         cmocka_unit_test(test_cov_digest),        cmocka_unit_test(test_cov_join),
         cmocka_unit_test(test_join_tables),       cmocka_unit_test(test_diagnose_closed_form),
         cmocka_unit_test(test_diagnose_vs_gsl),   cmocka_unit_test(test_double_diagonal),
+        cmocka_unit_test(test_cov_hint),
     };
     return cmocka_run_group_tests_name("survey", tests, setup, teardown);
 }
