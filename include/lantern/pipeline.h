@@ -15,7 +15,9 @@
  *   [data]         file, columns, cov (comma-separated), modes,
  *                  no_err_diag, zmin, zmax, keep_ids, drop_ids (the table);
  *                  cross_cov, bao, bao_cov, rd, cmb, cmb_cov, standardise,
- *                  scatter, velocity_dispersion, mass_split
+ *                  scatter, velocity_dispersion, mass_split; no_warn (kinds
+ *                  of warning not to print, comma-separated: the section
+ *                  every command that reads data reads)
  *   [survey.NAME]  the table keys of [data], one section per table joined
  *                  into one survey (then [data] has none of them)
  *   [model]        name, offset (none | marginal | sampled)
@@ -101,6 +103,7 @@ typedef struct lt_job {
     double figure_width; /* [output] figure_size (run --figure-size): the figures' width
                           * in inches (lt_report_figure_width; 0: a double column) */
     int force, quiet, verbose;
+    uint64_t no_warn;    /* [data] no_warn, --no-warn: bit k silences lt_warning_kinds()[k] */
     int lenient;         /* priors and fixes apply to the models that have them */
 } lt_job;
 
@@ -115,6 +118,31 @@ void lt_job_free(lt_job *j);
  * section of the file must be one of the list above. */
 int lt_job_read(lt_job *j, const char *path, const char *const *overrides,
                 const char *const *origins, size_t noverrides, lt_error *err);
+
+/*
+ * Kinds of warning. Every warning lantern prints has a stable short id
+ * (printed with it, "lantern: warning [ID]: ..."), so that one kind can be
+ * silenced (--no-warn ID, [data] no_warn): the survey's (LT_WARN_* in
+ * lantern/survey.h) and those below. Silencing concerns what is printed
+ * only: JSON summaries keep every warning.
+ */
+#define LT_WARN_IMPORTANCE_WEIGHTS "importance-weights" /* Pareto k of the weights high */
+#define LT_WARN_COMPRESSION "compression"      /* compressed vs exact likelihood */
+#define LT_WARN_WEIGHTED_ESS "weighted-ess"    /* weighted draws' ESS below the target */
+#define LT_WARN_PRIOR_EDGE "prior-edge"        /* a posterior against its prior's edge */
+#define LT_WARN_NOT_CONVERGED "not-converged"  /* a run that did not converge */
+#define LT_WARN_NO_EVIDENCE "no-evidence"      /* too many parameters for nested sampling */
+#define LT_WARN_LAPLACE "laplace"              /* no Laplace errors at the best fit */
+#define LT_WARN_DIC "dic"                      /* DIC a poor guide for a model */
+#define LT_WARN_RENAMED_FLAG "renamed-flag"    /* a flag's old name (run --set) */
+typedef struct lt_warning_kind {
+    const char *id, *what; /* what: a few words, for lists of the ids */
+} lt_warning_kind;
+/* Every kind, ended by {NULL, NULL}; at most 64. */
+const lt_warning_kind *lt_warning_kinds(void);
+/* 1 if j (NULL: none) lets warnings of kind id (NULL: of no kind) be
+ * printed. */
+int lt_job_warning_shown(const lt_job *j, const char *id);
 
 /* The sections lt_job_apply_ini reads, as a mask. */
 enum {
@@ -236,8 +264,9 @@ typedef enum {
 typedef struct lt_pipeline_hooks {
     /* after every convergence check of the chains (and its checkpoint) */
     void (*check)(const lt_progress *p, void *ctx);
-    /* a line to say, without a newline */
-    void (*note)(lt_note_kind kind, const char *text, void *ctx);
+    /* a line to say, without a newline; id: a warning's kind (LT_WARN_*),
+     * NULL for the other kinds of line */
+    void (*note)(lt_note_kind kind, const char *id, const char *text, void *ctx);
     void *ctx;
     /* rows of a chain file ("chains.csv", then "chains.fits") written so
      * far, of total: about every tenth and at the end (lt_chains_opts) */

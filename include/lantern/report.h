@@ -117,12 +117,25 @@ struct cJSON *lt_report_distance_json(const lt_cosmo *c, const lt_cosmo_early *e
 
 /* A survey as read (s from spec), its summary numbers st and covariance
  * check ci: n_data, n_read, observable, the redshift and observable
- * ranges, z_histogram, err, covariance, files, warnings. */
+ * ranges, z_histogram, err, covariance, files, warnings (every one, silenced
+ * or not) and warning_ids (their kinds, in the same order). With a
+ * covariance that is not positive definite, d (else NULL) its diagnosis:
+ * covariance.diagnosis = {n_negative, n_zero, tolerance,
+ * smallest_eigenvalues, direction: [{object, row, id, z, weight}],
+ * pair_correlation, hint}. */
 struct cJSON *lt_report_survey_json(const lt_survey_spec *spec, const lt_survey *s,
-                                    const lt_survey_stats *st, const lt_cov_info *ci);
+                                    const lt_survey_stats *st, const lt_cov_info *ci,
+                                    const lt_cov_diagnosis *d);
 /* The same as a readable table, with the redshift histogram drawn. */
 void lt_report_survey_table(FILE *f, const lt_survey_spec *spec, const lt_survey *s,
-                            const lt_survey_stats *st, const lt_cov_info *ci);
+                            const lt_survey_stats *st, const lt_cov_info *ci,
+                            const lt_cov_diagnosis *d);
+/* What most likely makes a covariance fail, read from its diagnosis d and
+ * spec (a pair correlated beyond 1; --no-err-diag with a systematics-only
+ * matrix; a negative eigenvalue within rounding of the matrix's digits; a
+ * matrix that is not a covariance as given), into buf. */
+void lt_report_cov_hint(const lt_survey_spec *spec, const lt_survey *s,
+                        const lt_cov_diagnosis *d, char *buf, size_t size);
 
 /* ---- comparisons (lantern compare) ---- */
 

@@ -116,6 +116,34 @@ typedef struct lt_cov_info {
 int lt_cov_inspect(const lt_cov *c, lt_cov_info *info, lt_error *err);
 
 /*
+ * Why a covariance is not positive definite (lantern inspect): its
+ * eigenvalues by LAPACK dsyevd, the eigenvector of the smallest by LAPACK
+ * dsyevr, and the objects that weigh most in that direction. Works on a
+ * covariance that lt_cov_factor refused (it restores the matrix) or any
+ * other; O(N^3), so callers keep to moderate N.
+ */
+#define LT_DIAG_EIGEN 5 /* the smallest eigenvalues reported */
+#define LT_DIAG_TOP 5   /* the objects reported */
+typedef struct lt_cov_diagnosis {
+    size_t n;
+    size_t n_negative, n_zero; /* eigenvalues below -tolerance; within +-tolerance */
+    double tolerance;          /* n eps max|eigenvalue|: rounding's reach */
+    double max_eigenvalue;
+    size_t neigen;
+    double eigen[LT_DIAG_EIGEN]; /* the smallest eigenvalues, ascending */
+    /* the unit eigenvector v of eigen[0] at its ntop largest |components|,
+     * largest first: object index top[i] (0-based, as in the covariance)
+     * and v_i (signed so that weight[0] > 0) */
+    size_t ntop;
+    size_t top[LT_DIAG_TOP];
+    double weight[LT_DIAG_TOP];
+    /* C_ab / sqrt(C_aa C_bb) of the two heaviest objects (a correlation
+     * beyond +-1 is a pair that alone breaks the matrix); NaN for n < 2 */
+    double pair_correlation;
+} lt_cov_diagnosis;
+int lt_cov_diagnose(const lt_cov *c, lt_cov_diagnosis *d, lt_error *err);
+
+/*
  * A covariance whose diagonal changes from one evaluation to the next,
  * C(d) = F + diag(d) with F a survey's covariance (what the
  * standardisation needs: each object's variance depends on alpha, beta and
@@ -213,7 +241,35 @@ typedef struct lt_survey {
     size_t n_read;     /* objects in the table before cuts */
     size_t nwarnings;
     char **warnings;   /* things worth saying that are not errors */
+    const char **warning_ids; /* the kind of each (one of LT_WARN_*, static strings) */
 } lt_survey;
+
+/*
+ * The kinds of warning a survey gives: stable short ids, printed with each
+ * warning and named by --no-warn ID (the pipeline's list, lt_warning_kinds,
+ * holds these and its own).
+ */
+#define LT_WARN_HEADER_EXTRA "header-extra-names" /* trailing header names no row fills */
+#define LT_WARN_NO_ZHEL "no-zhel"                 /* zhel taken equal to z */
+#define LT_WARN_MODES_ORDER "modes-order-unchecked" /* mode rows by id, table without ids */
+#define LT_WARN_CUTS "cuts"                       /* cuts keep M of N objects */
+#define LT_WARN_DUPLICATE_IDS "duplicate-ids"     /* an id on more than one row */
+#define LT_WARN_COV_DOUBLE_DIAG "cov-double-diagonal" /* a --cov holding err^2, added again */
+
+/*
+ * The rule of LT_WARN_COV_DOUBLE_DIAG: a --cov file (or a cross-covariance)
+ * whose diagonal reaches the table's err^2, C_ii >= (1 - LT_DOUBLE_DIAG_SLACK)
+ * err_i^2, on at least LT_DOUBLE_DIAG_SHARE of the rows with err > 0 already
+ * holds the statistical errors (alone, or with systematics on top), and
+ * diag(err^2) added to it counts them twice. A systematics-only matrix sits
+ * below err^2 on most rows: Pantheon 2018's sys_DS17f.txt reaches it on 1 of
+ * its 40 rows (its C_ii / dmb^2 run from 0.058 to 1.14, median 0.27). The
+ * slack allows for files written with few digits. A sample whose
+ * systematics exceed its statistical errors almost everywhere would trip the
+ * rule: the warning says so, and --no-warn cov-double-diagonal silences it.
+ */
+#define LT_DOUBLE_DIAG_SLACK 0.02
+#define LT_DOUBLE_DIAG_SHARE 0.9
 
 /*
  * Read a survey. Tables:
@@ -273,12 +329,26 @@ typedef struct lt_survey {
 lt_survey *lt_survey_read(const lt_survey_spec *spec, lt_error *err);
 void lt_survey_free(lt_survey *s);
 
+/* lt_survey_read in its two steps: everything but the factorisation (the
+ * covariance built and cut, not yet proved positive definite), then
+ * lt_survey_factor, which factors s->cov and, on failure, says which
+ * matrices made it (LT_EINPUT for a matrix that is not positive definite,
+ * whose message ends with LT_SURVEY_INSPECT_HINT; s->cov is then left as
+ * built, for lt_cov_diagnose). lantern inspect takes the two steps to
+ * diagnose what the others refuse. */
+lt_survey *lt_survey_read_unfactored(const lt_survey_spec *spec, lt_error *err);
+int lt_survey_factor(const lt_survey_spec *spec, lt_survey *s, lt_error *err);
+#define LT_SURVEY_INSPECT_HINT \
+    " ('lantern inspect' with the same data options shows its negative directions)"
+
 /* The name of the table spec reads: spec->name, or the file's stem (no
  * folders, no extension, no FITS [..] suffix), into buf. */
 void lt_survey_spec_name(const lt_survey_spec *spec, char *buf, size_t size);
 
-/* Add a warning (copied) to s; returns LT_ENOMEM on failure. */
-int lt_survey_warn(lt_survey *s, const char *fmt, ...) __attribute__((format(printf, 2, 3)));
+/* Add a warning (copied) of kind id (an LT_WARN_* string, kept as given)
+ * to s; returns LT_ENOMEM on failure. */
+int lt_survey_warn(lt_survey *s, const char *id, const char *fmt, ...)
+    __attribute__((format(printf, 3, 4)));
 
 /* Add a light-curve table's own columns (x1, colour, masses, their errors
  * and covariances, dz, calibrators, group labels) to the FNV-1a digest *h

@@ -206,10 +206,20 @@ const lt_cosmo_model *cli_model(const char *name)
 
 /* ---- printing ---- */
 
-void cli_print_warnings(const lt_survey *s)
+void cli_warning(const lt_job *j, const char *id, const char *text)
+{
+    if (!lt_job_warning_shown(j, id))
+        return;
+    if (id)
+        fprintf(stderr, "lantern: warning [%s]: %s\n", id, text);
+    else
+        fprintf(stderr, "lantern: warning: %s\n", text);
+}
+
+void cli_print_warnings(const lt_survey *s, const lt_job *j)
 {
     for (size_t i = 0; s && i < s->nwarnings; i++)
-        fprintf(stderr, "lantern: warning: %s\n", s->warnings[i]);
+        cli_warning(j, s->warning_ids[i], s->warnings[i]);
 }
 
 void cli_print_json(cJSON *o, int take)
@@ -221,11 +231,14 @@ void cli_print_json(cJSON *o, int take)
         cJSON_Delete(o);
 }
 
-void cli_note(lt_note_kind kind, const char *text, void *quiet)
+void cli_note(lt_note_kind kind, const char *id, const char *text, void *notes)
 {
-    if (kind != LT_NOTE_PROGRESS)
-        fprintf(stderr, "lantern: %s%s\n", kind == LT_NOTE_WARNING ? "warning: " : "", text);
-    else if (!*(const int *)quiet)
+    const cli_notes *n = notes;
+    if (kind == LT_NOTE_WARNING)
+        cli_warning(n->job, id, text);
+    else if (kind == LT_NOTE_NEWS)
+        fprintf(stderr, "lantern: %s\n", text);
+    else if (!n->quiet)
         fprintf(stderr, "%s\n", text);
 }
 

@@ -77,9 +77,17 @@ int cli_parse_format(const char *text, unsigned allowed, cli_format *out);
 /* Print o as JSON on stdout (with a newline); take: delete it after. */
 struct cJSON;
 void cli_print_json(struct cJSON *o, int take);
-/* The pipeline's notes (lt_pipeline_hooks.note; ctx an int, quiet) on
- * stderr: progress lines unless quiet, news and warnings always. */
-void cli_note(lt_note_kind kind, const char *text, void *quiet);
+/* The pipeline's notes (lt_pipeline_hooks.note; ctx a cli_notes) on
+ * stderr: progress lines unless quiet, news always, warnings unless the
+ * job silences their kind (job NULL: none silenced). */
+typedef struct cli_notes {
+    int quiet;
+    const lt_job *job;
+} cli_notes;
+void cli_note(lt_note_kind kind, const char *id, const char *text, void *notes);
+/* A warning of kind id (NULL: none) on stderr, "lantern: warning [ID]:
+ * text", unless j silences the kind (--no-warn ID). */
+void cli_warning(const lt_job *j, const char *id, const char *text);
 /* The progress display of a sampling job (progress.c): hooks for the
  * pipeline that print a line per convergence check and, for chain files of
  * more than CLI_WRITING_MIN_ROWS rows, while writing them (in place on a
@@ -92,11 +100,12 @@ typedef struct cli_progress {
     double target;
     int printed;
     const char *writing; /* the chain file whose line is pending, or NULL (a check's) */
+    const lt_job *job;   /* its --no-warn */
 } cli_progress;
 lt_pipeline_hooks cli_progress_start(cli_progress *pr, const lt_job *j);
 void cli_progress_end(cli_progress *pr);
-/* Print the survey's warnings to stderr. */
-void cli_print_warnings(const lt_survey *s);
+/* Print the survey's warnings to stderr, but those j silences. */
+void cli_print_warnings(const lt_survey *s, const lt_job *j);
 
 /* The whole command line: set-up, then the command argv[1]; 'lantern help
  * [COMMAND]' (or -h, --help in its place) prints the help of COMMAND or

@@ -31,9 +31,9 @@ int cli_fit(int argc, char **argv)
         status = cli_report(&err);
         goto done;
     }
-    cli_print_warnings(s);
-    int quiet = 0;
-    lt_pipeline_hooks hooks = {.note = cli_note, .ctx = &quiet};
+    cli_print_warnings(s, &j);
+    cli_notes notes = {0, &j};
+    lt_pipeline_hooks hooks = {.note = cli_note, .ctx = &notes};
     if (lt_pipeline_fit(l, &j, cli_catch_signals(), &hooks, &post, &json, &err)) {
         if (err.code == LT_EINTR)
             fputs("lantern: interrupted during the best fit: nothing written\n", stderr);

@@ -25,8 +25,8 @@ static void print_constraints(const char *dir)
 int cli_run(int argc, char **argv)
 {
     const char *file = NULL, *out = NULL, *resume = NULL, *threads = NULL, *fsize = NULL;
-    const char *sets[64], *set_flags[64];
-    size_t nsets = 0;
+    const char *sets[64], *set_flags[64], *no_warn[64];
+    size_t nsets = 0, nno_warn = 0;
     int force = 0, quiet = 0, verbose = 0;
     /* --set is --override's old name, kept for one release: elsewhere
      * (distance) --set sets parameter values, and it will only mean that */
@@ -36,19 +36,13 @@ int cli_run(int argc, char **argv)
         {"--force", .flag = &force}, {"--quiet", .flag = &quiet}, {"--verbose", .flag = &verbose},
         {"--override", .list = sets, .origin = set_flags, .n = &nsets, .max = 64},
         {"--set", .list = sets, .origin = set_flags, .n = &nsets, .max = 64},
+        {"--no-warn", .list = no_warn, .n = &nno_warn, .max = 64},
         {"", .text = &file}, {0}};
     int status = cli_options(argc, argv, 1, "run", opts, NULL, 0, NULL);
     if (status)
         return status;
     if (!file)
         return cli_usage_error("run", "give the run file (see 'lantern run --help')");
-    for (size_t i = 0; i < nsets; i++)
-        if (!strcmp(set_flags[i], "--set")) {
-            fputs("lantern: warning: 'run --set section.key=value' is now 'run --override "
-                  "section.key=value'; --set will be refused here in a later release\n",
-                  stderr);
-            break;
-        }
     lt_job j;
     lt_job_init(&j);
     char *dir = NULL;
@@ -61,11 +55,23 @@ int cli_run(int argc, char **argv)
         status = cli_usage_error("--figure-size", "'%s' is not %s", fsize, LT_FIGURE_WIDTH_TEXT);
         goto done;
     }
-    /* --threads by the run file's rule, which names the flag */
+    /* --threads and --no-warn by the run file's rules, which name the flags */
     if (threads && lt_job_flag(&j, "--threads", threads, &err)) {
         status = cli_report(&err);
         goto done;
     }
+    for (size_t i = 0; i < nno_warn; i++)
+        if (lt_job_flag(&j, "--no-warn", no_warn[i], &err)) {
+            status = cli_report(&err);
+            goto done;
+        }
+    for (size_t i = 0; i < nsets; i++)
+        if (!strcmp(set_flags[i], "--set")) {
+            cli_warning(&j, LT_WARN_RENAMED_FLAG,
+                        "'run --set section.key=value' is now 'run --override "
+                        "section.key=value'; --set will be refused here in a later release");
+            break;
+        }
     j.quiet |= quiet, j.verbose |= verbose;
     cli_progress pr;
     lt_pipeline_hooks hooks = cli_progress_start(&pr, &j);
@@ -134,8 +140,9 @@ int cli_report_runs(int argc, char **argv)
         goto done;
     }
     prepared = out != NULL;
-    int quiet = 0, unconverged = 0;
-    lt_pipeline_hooks hooks = {.note = cli_note, .ctx = &quiet};
+    int unconverged = 0;
+    cli_notes notes = {0, NULL}; /* a saved run: nothing to silence */
+    lt_pipeline_hooks hooks = {.note = cli_note, .ctx = &notes};
     if (lt_pipeline_report(&rs, dir, out ? "joint report" : rs.name, NULL, &hooks, &unconverged,
                            &err))
         status = cli_report(&err);

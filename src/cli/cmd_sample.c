@@ -100,7 +100,7 @@ int cli_sample(int argc, char **argv)
         status = cli_report(&err);
         goto done;
     }
-    cli_print_warnings(s);
+    cli_print_warnings(s, &j);
     status = sample_model(&j, l, &spec, resume != NULL, format);
 done:
     lt_like_free(l);

@@ -95,28 +95,28 @@ static void on_nested(const lt_nested_progress *d, void *p)
 
 /* A line from the pipeline: a refinement of the compression restarts the
  * sampling, so the progress clock restarts too. */
-static void on_note(lt_note_kind kind, const char *text, void *p)
+static void on_note(lt_note_kind kind, const char *id, const char *text, void *p)
 {
     cli_progress *pr = p;
-    if (kind == LT_NOTE_PROGRESS && pr->quiet)
+    if ((kind == LT_NOTE_PROGRESS && pr->quiet) ||
+        (kind == LT_NOTE_WARNING && !lt_job_warning_shown(pr->job, id)))
         return;
 #pragma omp critical(cli_progress)
     {
         if (pr->printed && pr->tty && !pr->verbose)
             fputc('\n', stderr);
         pr->printed = 0, pr->writing = NULL;
-        fprintf(stderr, "%s%s\n",
-                kind == LT_NOTE_PROGRESS ? ""
-                : kind == LT_NOTE_NEWS   ? "lantern: "
-                                         : "lantern: warning: ",
-                text);
+        if (kind == LT_NOTE_WARNING)
+            cli_warning(NULL, id, text); /* shown: checked above */
+        else
+            fprintf(stderr, "%s%s\n", kind == LT_NOTE_NEWS ? "lantern: " : "", text);
         clock_gettime(CLOCK_MONOTONIC, &pr->start);
     }
 }
 
 lt_pipeline_hooks cli_progress_start(cli_progress *pr, const lt_job *j)
 {
-    *pr = (cli_progress){{0, 0}, isatty(2), j->quiet, j->verbose, j->target_ess, 0, NULL};
+    *pr = (cli_progress){{0, 0}, isatty(2), j->quiet, j->verbose, j->target_ess, 0, NULL, j};
     clock_gettime(CLOCK_MONOTONIC, &pr->start);
     return (lt_pipeline_hooks){on_check, on_note, pr, on_writing, on_nested};
 }

@@ -163,7 +163,7 @@ int lt_pipeline_compare_job(lt_job *j, int resume, volatile sig_atomic_t *stop,
             goto done;
     }
     for (size_t i = 0; c->survey && i < c->survey->nwarnings; i++)
-        pipeline_say(h, LT_NOTE_WARNING, c->survey->warnings[i]);
+        pipeline_warn(h, c->survey->warning_ids[i], c->survey->warnings[i]);
     /* the likelihoods, one after another (this may refuse the input), then
      * the models side by side */
     if ((rc = lt_pipeline_compare_setup(c->m, c->n, j, c->survey, err)) ||
@@ -173,9 +173,11 @@ int lt_pipeline_compare_job(lt_job *j, int resume, volatile sig_atomic_t *stop,
         char edges[512], dic[256], text[600];
         lt_report_compare_warnings(&c->m[k], edges, sizeof edges, dic, sizeof dic);
         if (edges[0])
-            snprintf(text, sizeof text, "%s: %s", c->m[k].name, edges), pipeline_say(h, LT_NOTE_WARNING, text);
+            snprintf(text, sizeof text, "%s: %s", c->m[k].name, edges),
+                pipeline_warn(h, LT_WARN_PRIOR_EDGE, text);
         if (dic[0])
-            snprintf(text, sizeof text, "%s: %s", c->m[k].name, dic), pipeline_say(h, LT_NOTE_WARNING, text);
+            snprintf(text, sizeof text, "%s: %s", c->m[k].name, dic),
+                pipeline_warn(h, LT_WARN_DIC, text);
     }
     /* final files only once every model is done: an interrupted comparison
      * leaves nothing but its checkpoints */

@@ -53,7 +53,7 @@ int lt_pipeline_fit(lt_like *l, lt_job *j, volatile sig_atomic_t *stop,
     int rc = lt_pipeline_run(lt_method_fit, l, j, &o, NULL, post, err);
     if (!rc) {
         if (!post->fit.laplace_ok)
-            pipeline_say(hooks, LT_NOTE_WARNING, post->fit.laplace_note);
+            pipeline_warn(hooks, LT_WARN_LAPLACE, post->fit.laplace_note);
         *summary = lt_report_fit_json(l, &post->fit, &j->data, j->seed);
         if (!*summary)
             rc = lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory");
@@ -61,7 +61,7 @@ int lt_pipeline_fit(lt_like *l, lt_job *j, volatile sig_atomic_t *stop,
     if (!rc && j->out)
         rc = write(j->out, l, &post->fit, *summary, err);
     if (!rc && !post->fit.info.converged)
-        pipeline_say(hooks, LT_NOTE_WARNING,
+        pipeline_warn(hooks, LT_WARN_NOT_CONVERGED,
                      "the optimiser did not converge; the result is marked \"converged\": false");
     if (rc && j->out)
         lt_outdir_abandon(j->out);

@@ -4,8 +4,14 @@
 
 #include "lantern/pipeline.h"
 
-/* Hand a line to the caller's note hook, if it has one. */
+/* Hand a line to the caller's note hook, if it has one: pipeline_say for
+ * progress and news, pipeline_warn for a warning of kind id (LT_WARN_*). */
 void pipeline_say(const lt_pipeline_hooks *h, lt_note_kind kind, const char *text);
+void pipeline_warn(const lt_pipeline_hooks *h, const char *id, const char *text);
+/* The index of warning kind id in lt_warning_kinds() (-1: unknown), and
+ * every id, comma-separated, into buf (src/pipeline/warnings.c). */
+int pipeline_warning_index(const char *id);
+void pipeline_warning_ids(char *buf, size_t size);
 
 /* A sampled posterior into its folder out: summary.json (json), the chain
  * files (every j->thin-th draw, told to h->writing), and the folder marked

@@ -17,6 +17,7 @@
 #include "lantern/pipeline.h"
 #include "lantern/text.h"
 #include "lantern/version.h"
+#include "internal.h"
 
 void lt_job_init(lt_job *j)
 {
@@ -96,7 +97,8 @@ typedef enum {
     K_SCATTER,/* the scatter: per-group or shared */
     K_NONNEG, /* a number >= 0 */
     K_NUMBER, /* a finite number */
-    K_FIGSIZE /* single, double or a width in inches (lt_report_figure_width) */
+    K_FIGSIZE, /* single, double or a width in inches (lt_report_figure_width) */
+    K_WARN     /* kinds of warning (comma-separated ids), added to a mask */
 } kind;
 
 typedef struct {
@@ -134,6 +136,9 @@ static const rule rules[] = {
     {LT_JOB_DATA, "data", "velocity_dispersion", "--velocity-dispersion", K_NONNEG, 0, 0,
      AT(velocity_dispersion)},
     {LT_JOB_DATA, "data", "mass_split", "--mass-split", K_NUMBER, 0, 0, AT(mass_split)},
+    /* in [data]: every command that reads data reads that section (inspect
+     * no other), so the flag works wherever a warning can come from */
+    {LT_JOB_DATA, "data", "no_warn", "--no-warn", K_WARN, 0, 0, AT(no_warn)},
     {LT_JOB_MODEL, "model", "name", "--model", K_TEXT, 0, 0, AT(model)},
     {LT_JOB_MODEL, "model", "offset", "--offset", K_TEXT, 0, 0, AT(offset)},
     {LT_JOB_PARAMS, "priors", NULL, "--prior", K_ENTRY, 0, 0, AT(priors)},
@@ -209,6 +214,36 @@ static int add_entry(lt_job *j, const rule *r, const char *name, const char *val
                          : lt_error_set(err, LT_EINPUT, origin, 0, "given too many times");
     list[(*n)++] = (lt_job_entry){name, copy, origin, from_file ? line : 0, from_file};
     return LT_OK;
+}
+
+/* "ID[,ID...]" into the mask *mask (bits of lt_warning_kinds()); an unknown
+ * id is refused with the list of the known ones. */
+static int add_warnings(const char *value, uint64_t *mask, const char *origin, long line,
+                        lt_error *err)
+{
+    char item[64];
+    int any = 0;
+    for (const char *p = value; *p;) {
+        size_t n = strcspn(p, ",");
+        snprintf(item, sizeof item, "%.*s", (int)(n < sizeof item ? n : sizeof item - 1), p);
+        char *id = lt_text_trim(item);
+        p += n + (p[n] == ',');
+        if (!*id)
+            continue;
+        int k = pipeline_warning_index(id);
+        if (k < 0) {
+            char ids[1024];
+            pipeline_warning_ids(ids, sizeof ids);
+            return lt_error_set(err, LT_EINPUT, origin, line,
+                                "unknown kind of warning '%s' (the kinds: %s)", id, ids);
+        }
+        *mask |= (uint64_t)1 << k;
+        any = 1;
+    }
+    return any ? LT_OK
+               : lt_error_set(err, LT_EINPUT, origin, line,
+                              "name a kind of warning (ID, or ID,ID,...; each warning prints "
+                              "its id in brackets)");
 }
 
 static int parse_bool(const char *v, int *out)
@@ -381,6 +416,8 @@ static int apply(lt_job *j, const rule *r, const char *key, const char *value,
         return LT_OK;
     case K_ENTRY:
         return add_entry(j, r, key, value, origin, line, from_file, err);
+    case K_WARN:
+        return add_warnings(value, (uint64_t *)slot, origin, from_file ? line : 0, err);
     }
     return LT_OK;
 }
@@ -948,6 +985,13 @@ int lt_job_write(const lt_job *j, const lt_like_spec *spec, const char *path, lt
             add(&b, "velocity_dispersion = %s\n", x);
     if (!isnan(j->mass_split))
         lt_format_double(j->mass_split, x, sizeof x), add(&b, "mass_split = %s\n", x);
+    if (j->no_warn) {
+        add(&b, "no_warn = ");
+        for (size_t k = 0, first = 1; lt_warning_kinds()[k].id; k++)
+            if (j->no_warn >> k & 1u)
+                add(&b, "%s%s", first ? "" : ", ", lt_warning_kinds()[k].id), first = 0;
+        add(&b, "\n");
+    }
     /* several tables: one [survey.NAME] section each, in order */
     for (size_t p = 0; j->nparts && p <= j->nparts; p++) {
         const lt_survey_spec *t = p ? &j->parts[p - 1] : &j->data;

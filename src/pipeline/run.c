@@ -110,7 +110,7 @@ done:
 void pipeline_say(const lt_pipeline_hooks *h, lt_note_kind kind, const char *text)
 {
     if (h && h->note)
-        h->note(kind, text, h->ctx);
+        h->note(kind, NULL, text, h->ctx);
 }
 
 /* ---- the best fit ---- */

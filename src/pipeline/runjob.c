@@ -32,7 +32,7 @@ int lt_pipeline_report(lt_report_set *rs, const char *dir, const char *name, con
                      "%s did not converge (worst R-hat %s, smallest ESS %.0f): its numbers are "
                      "provisional; the tables mark it with a double dagger",
                      m[i].label, lt_run_model_rhat_text(&m[i], rhat, sizeof rhat), m[i].ess_min);
-            pipeline_say(h, LT_NOTE_WARNING, text);
+            pipeline_warn(h, LT_WARN_NOT_CONVERGED, text);
             *unconverged = 1;
         }
         if (lt_run_model_reference(m, rs->n, i) < 0) {
@@ -328,7 +328,7 @@ int lt_pipeline_run_job(lt_job *j, const lt_run_job_opts *o, char **dir, int *un
     if ((rc = lt_job_survey(j, &s, err)))
         goto done;
     for (size_t i = 0; s && i < s->nwarnings; i++)
-        pipeline_say(o->hooks, LT_NOTE_WARNING, s->warnings[i]);
+        pipeline_warn(o->hooks, s->warning_ids[i], s->warnings[i]);
     snprintf(what, sizeof what, "lantern %s run (running)", LT_VERSION);
     if ((rc = lt_outdir_mark(*dir, what, err)))
         goto done;

@@ -25,21 +25,21 @@ static void warnings(const lt_like *l, const lt_job *j, const lt_posterior *r,
     char text[768];
     if (r->method == LT_POST_IMPORTANCE && r->pareto_k > LT_PARETO_K_WARN) {
         lt_report_pareto_warning(r, text, sizeof text);
-        pipeline_say(h, LT_NOTE_WARNING, text);
+        pipeline_warn(h, LT_WARN_IMPORTANCE_WEIGHTS, text);
     }
     if (r->method == LT_POST_IMPORTANCE && lt_sample_compression_missed(&r->compression)) {
         /* as the summary's warnings say it */
         lt_report_compression_warning(r, text, sizeof text);
-        pipeline_say(h, LT_NOTE_WARNING, text);
+        pipeline_warn(h, LT_WARN_COMPRESSION, text);
     }
     if (r->weights && r->method == LT_POST_MCMC) {
         lt_report_compression_warning(r, text, sizeof text);
-        pipeline_say(h, LT_NOTE_WARNING, text);
+        pipeline_warn(h, LT_WARN_COMPRESSION, text);
         if (r->ess_min_weighted < j->target_ess) {
             snprintf(text, sizeof text,
                      "the weighted draws' effective sample size %.0f is below --target-ess %g",
                      r->ess_min_weighted, j->target_ess);
-            pipeline_say(h, LT_NOTE_WARNING, text);
+            pipeline_warn(h, LT_WARN_WEIGHTED_ESS, text);
         }
     }
     for (size_t i = 0; i < r->nparams; i++) {
@@ -47,7 +47,7 @@ static void warnings(const lt_like *l, const lt_job *j, const lt_posterior *r,
         if (lt_post_edge_note(r->cols[r->first_param + i], lt_like_prior(l, i), r->edge_lo[i],
                               r->edge_hi[i], note, sizeof note)) {
             snprintf(text, sizeof text, "%s: %s", lt_like_model(l)->name, note);
-            pipeline_say(h, LT_NOTE_WARNING, text);
+            pipeline_warn(h, LT_WARN_PRIOR_EDGE, text);
         }
     }
 }
@@ -60,7 +60,7 @@ static void unconverged(const lt_job *j, const lt_posterior *r, const lt_pipelin
     char text[320];
     snprintf(text, sizeof text, "%s; the results are written and marked \"converged\": false",
              lt_report_unconverged_text(r));
-    pipeline_say(h, LT_NOTE_WARNING, text);
+    pipeline_warn(h, LT_WARN_NOT_CONVERGED, text);
     if (r->method == LT_POST_IMPORTANCE)
         return;
     double e = r->diag.ess_min;
@@ -160,7 +160,7 @@ int lt_pipeline_sample(lt_like *l, lt_job *j, const lt_like_spec *spec, const lt
                  "%s: no evidence (ln Z): nested sampling takes at most %d parameters and this "
                  "model has %zu",
                  o->evidence_label, LT_NESTED_DIM_MAX, lt_like_dim(l));
-        pipeline_say(o->hooks, LT_NOTE_WARNING, text);
+        pipeline_warn(o->hooks, LT_WARN_NO_EVIDENCE, text);
     } else if (o->evidence_label) {
         /* the evidence joins the summary, which is then written whole */
         char text[160];

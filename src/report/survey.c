@@ -2,6 +2,7 @@
  * A survey described (lantern inspect): its size, redshifts, errors and
  * covariance, as JSON and as a table.
  */
+#include <math.h>
 #include <stdio.h>
 #include <string.h>
 
@@ -10,8 +11,88 @@
 #include "lantern/json.h"
 #include "lantern/report.h"
 
+/* Object k of the survey as a reader finds it: its id, else its row. */
+static void object_name(const lt_survey *s, size_t k, char *buf, size_t size)
+{
+    if (s->id)
+        snprintf(buf, size, "'%s'", s->id[k]);
+    else
+        snprintf(buf, size, "row %ld", s->row[k]);
+}
+
+/* Below this |lambda_min| / lambda_max a negative eigenvalue is what
+ * rounding the matrix's elements to a few digits can make (a file with 6
+ * significant digits perturbs each element by ~1e-6 of its size; common
+ * practice, no source). */
+#define ROUNDING_SCALE 1e-6
+
+void lt_report_cov_hint(const lt_survey_spec *spec, const lt_survey *s,
+                        const lt_cov_diagnosis *d, char *buf, size_t size)
+{
+    char a[300] = "", b[300] = "";
+    if (d->ntop >= 2)
+        object_name(s, d->top[0], a, sizeof a), object_name(s, d->top[1], b, sizeof b);
+    double lo = d->neigen ? d->eigen[0] : NAN;
+    if (d->ntop >= 2 && fabs(d->pair_correlation) > 1.0)
+        snprintf(buf, size,
+                 "objects %s and %s are correlated beyond 1 (C_ab / sqrt(C_aa C_bb) = %.4g): "
+                 "no covariance can hold that pair; check their elements in the --cov files "
+                 "(a sign, a scale, or rows in another order than the table's)",
+                 a, b, d->pair_correlation);
+    else if (spec->no_err_diag)
+        snprintf(buf, size,
+                 "with --no-err-diag the --cov files alone make the covariance: if they hold "
+                 "only systematics (no statistical errors), they are singular or nearly so; "
+                 "drop --no-err-diag so that diag(err^2) is added");
+    else if (-lo <= ROUNDING_SCALE * d->max_eigenvalue)
+        snprintf(buf, size,
+                 "the smallest eigenvalue is %.3g of the largest, as small as rounding makes "
+                 "it: a matrix written with too few digits, or two rows that are copies of one "
+                 "another (the same object twice); write the matrix with more digits, or drop "
+                 "the copy",
+                 -lo / d->max_eigenvalue);
+    else
+        snprintf(buf, size,
+                 "a negative direction this large means the matrix is not a covariance as "
+                 "given: a part subtracted instead of added, a matrix whose rows follow another "
+                 "order than the table's, or files that double-count one another; look at the "
+                 "objects above in each --cov file");
+}
+
+static cJSON *diagnosis_json(const lt_survey_spec *spec, const lt_survey *s,
+                             const lt_cov_diagnosis *d)
+{
+    cJSON *o = cJSON_CreateObject();
+    cJSON_AddItemToObject(o, "n_negative", lt_json_number((double)d->n_negative));
+    cJSON_AddItemToObject(o, "n_zero", lt_json_number((double)d->n_zero));
+    cJSON_AddItemToObject(o, "tolerance", lt_json_number(d->tolerance));
+    cJSON *ev = cJSON_AddArrayToObject(o, "smallest_eigenvalues");
+    for (size_t k = 0; k < d->neigen; k++)
+        cJSON_AddItemToArray(ev, lt_json_number(d->eigen[k]));
+    cJSON *dir = cJSON_AddArrayToObject(o, "direction");
+    for (size_t t = 0; t < d->ntop; t++) {
+        size_t k = d->top[t];
+        cJSON *x = cJSON_CreateObject();
+        cJSON_AddItemToObject(x, "object", lt_json_number((double)(k + 1)));
+        cJSON_AddItemToObject(x, "row", lt_json_number((double)s->row[k]));
+        if (s->id)
+            cJSON_AddStringToObject(x, "id", s->id[k]);
+        else
+            cJSON_AddNullToObject(x, "id");
+        cJSON_AddItemToObject(x, "z", lt_json_number(s->z[k]));
+        cJSON_AddItemToObject(x, "weight", lt_json_number(d->weight[t]));
+        cJSON_AddItemToArray(dir, x);
+    }
+    cJSON_AddItemToObject(o, "pair_correlation", lt_json_number(d->pair_correlation));
+    char hint[1024];
+    lt_report_cov_hint(spec, s, d, hint, sizeof hint);
+    cJSON_AddStringToObject(o, "hint", hint);
+    return o;
+}
+
 cJSON *lt_report_survey_json(const lt_survey_spec *spec, const lt_survey *s,
-                             const lt_survey_stats *st, const lt_cov_info *ci)
+                             const lt_survey_stats *st, const lt_cov_info *ci,
+                             const lt_cov_diagnosis *d)
 {
     cJSON *o = cJSON_CreateObject();
     cJSON_AddItemToObject(o, "n_data", lt_json_number((double)s->n));
@@ -69,6 +150,8 @@ cJSON *lt_report_survey_json(const lt_survey_spec *spec, const lt_survey *s,
     cJSON_AddStringToObject(c, "method", ci->method);
     cJSON_AddItemToObject(c, "n_modes", lt_json_number((double)lt_cov_nmodes(s->cov)));
     cJSON_AddBoolToObject(c, "err_diag", !spec->no_err_diag);
+    if (d)
+        cJSON_AddItemToObject(c, "diagnosis", diagnosis_json(spec, s, d));
     cJSON *files = cJSON_AddObjectToObject(o, "files");
     cJSON_AddStringToObject(files, "data", spec->data);
     cJSON *covs = cJSON_AddArrayToObject(files, "cov");
@@ -81,11 +164,44 @@ cJSON *lt_report_survey_json(const lt_survey_spec *spec, const lt_survey *s,
     cJSON *w = cJSON_AddArrayToObject(o, "warnings");
     for (size_t i = 0; i < s->nwarnings; i++)
         cJSON_AddItemToArray(w, cJSON_CreateString(s->warnings[i]));
+    cJSON *wi = cJSON_AddArrayToObject(o, "warning_ids");
+    for (size_t i = 0; i < s->nwarnings; i++)
+        cJSON_AddItemToArray(wi, cJSON_CreateString(s->warning_ids[i]));
     return o;
 }
 
+/* The diagnosis of a covariance that is not positive definite. */
+static void diagnosis_table(FILE *f, const lt_survey_spec *spec, const lt_survey *s,
+                            const lt_cov_diagnosis *d)
+{
+    fprintf(f, "           %zu negative eigenvalue%s", d->n_negative,
+            d->n_negative == 1 ? "" : "s");
+    if (d->n_zero)
+        fprintf(f, ", %zu zero within rounding (|lambda| <= %.3g)", d->n_zero, d->tolerance);
+    fprintf(f, "; the smallest:");
+    for (size_t k = 0; k < d->neigen; k++)
+        fprintf(f, "%s %.6g", k ? "," : "", d->eigen[k]);
+    fprintf(f, "\n           the direction of the smallest (unit eigenvector), its heaviest "
+               "objects:\n");
+    int w = 2;
+    for (size_t t = 0; t < d->ntop; t++) {
+        int len = s->id ? (int)strlen(s->id[d->top[t]]) : 0;
+        w = len > w ? len : w;
+    }
+    fprintf(f, "             object     row  %-*s  %9s  %8s\n", w, "id", "z", "weight");
+    for (size_t t = 0; t < d->ntop; t++) {
+        size_t k = d->top[t];
+        fprintf(f, "           %8zu %7ld  %-*s  %9.5f  %8.4f\n", k + 1, s->row[k], w,
+                s->id ? s->id[k] : "-", s->z[k], d->weight[t]);
+    }
+    char hint[1024];
+    lt_report_cov_hint(spec, s, d, hint, sizeof hint);
+    fprintf(f, "           hint: %s\n", hint);
+}
+
 void lt_report_survey_table(FILE *f, const lt_survey_spec *spec, const lt_survey *s,
-                            const lt_survey_stats *st, const lt_cov_info *ci)
+                            const lt_survey_stats *st, const lt_cov_info *ci,
+                            const lt_cov_diagnosis *d)
 {
     static const char *obs_text[] = {"distance modulus mu (mag)",
                                      "standardised magnitude mag (mu + unknown offset)",
@@ -147,7 +263,9 @@ void lt_report_survey_table(FILE *f, const lt_survey_spec *spec, const lt_survey
     if (spec->modes)
         fprintf(f, "%smodes %s", spec->ncov ? " + " : "", spec->modes);
     fprintf(f, "\n           positive definite: %s\n", ci->positive_definite ? "yes" : "no");
-    if (!strcmp(ci->method, "estimate"))
+    if (d)
+        diagnosis_table(f, spec, s, d);
+    else if (!strcmp(ci->method, "estimate"))
         fprintf(f, "           condition number ~ %.4g (LAPACK 1-norm estimate)\n", ci->condition);
     else if (!strcmp(ci->method, "bound"))
         fprintf(f, "           condition number <= %.4g, smallest eigenvalue >= %.4g (bounds)\n",

@@ -555,6 +555,79 @@ int lt_cov_inspect(const lt_cov *c, lt_cov_info *info, lt_error *err)
     return LT_OK;
 }
 
+int lt_cov_diagnose(const lt_cov *c, lt_cov_diagnosis *d, lt_error *err)
+{
+    size_t n = c->n;
+    memset(d, 0, sizeof *d);
+    d->n = n;
+    d->pair_correlation = NAN;
+    if (n == 0)
+        return LT_OK;
+    double *a = malloc(n * n * sizeof *a), *ev = malloc(n * sizeof *ev);
+    double *v = malloc(n * sizeof *v);
+    lapack_int *support = malloc(2 * sizeof *support);
+    int rc = LT_OK;
+    if (!a || !ev || !v || !support) {
+        rc = lt_error_set(err, LT_ENOMEM, NULL, 0, "out of memory for a %zu x %zu eigen-problem",
+                          n, n);
+        goto done;
+    }
+    /* every eigenvalue (to count the negative ones), then the eigenvector
+     * of the smallest alone (dsyevr computes just the ones asked for) */
+    lt_cov_to_dense(c, a);
+    if ((rc = eigenvalues(a, n, ev, err)))
+        goto done;
+    double big = fmax(fabs(ev[0]), fabs(ev[n - 1]));
+    d->max_eigenvalue = ev[n - 1];
+    d->tolerance = (double)n * 2.220446049250313e-16 * big; /* n eps |lambda|max */
+    for (size_t i = 0; i < n; i++) {
+        d->n_negative += ev[i] < -d->tolerance;
+        d->n_zero += fabs(ev[i]) <= d->tolerance;
+    }
+    d->neigen = n < LT_DIAG_EIGEN ? n : LT_DIAG_EIGEN;
+    memcpy(d->eigen, ev, d->neigen * sizeof *ev);
+    lt_cov_to_dense(c, a);
+    lapack_int found = 0;
+    double lowest;
+    /* row-major symmetric a is its own column-major transpose */
+    lapack_int info = LAPACKE_dsyevr(LAPACK_COL_MAJOR, 'V', 'I', 'U', (lapack_int)n, a,
+                                     (lapack_int)n, 0.0, 0.0, 1, 1, 0.0, &found, &lowest, v,
+                                     (lapack_int)n, support);
+    if (info != 0 || found != 1) {
+        rc = lt_error_set(err, LT_ENUMERIC, NULL, 0, "LAPACK dsyevr failed (%d)", (int)info);
+        goto done;
+    }
+    /* the heaviest components, largest |v_i| first (ties: the earlier
+     * object), by selection: LT_DIAG_TOP passes over n */
+    d->ntop = n < LT_DIAG_TOP ? n : LT_DIAG_TOP;
+    for (size_t t = 0; t < d->ntop; t++) {
+        size_t best = n;
+        for (size_t i = 0; i < n; i++) {
+            int taken = 0;
+            for (size_t q = 0; q < t; q++)
+                taken |= d->top[q] == i;
+            if (!taken && (best == n || fabs(v[i]) > fabs(v[best])))
+                best = i;
+        }
+        d->top[t] = best;
+    }
+    /* an eigenvector's sign is arbitrary: fix it by the heaviest */
+    double sign = v[d->top[0]] < 0 ? -1.0 : 1.0;
+    for (size_t t = 0; t < d->ntop; t++)
+        d->weight[t] = sign * v[d->top[t]];
+    if (n >= 2) {
+        size_t i = d->top[0], j = d->top[1];
+        lt_cov_to_dense(c, a);
+        d->pair_correlation = a[i * n + j] / sqrt(a[i * n + i] * a[j * n + j]);
+    }
+done:
+    free(a);
+    free(ev);
+    free(v);
+    free(support);
+    return rc;
+}
+
 /* ---- a covariance whose diagonal changes: F + diag(d) ---- */
 
 /*

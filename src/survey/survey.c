@@ -176,10 +176,11 @@ void lt_survey_free(lt_survey *s)
     for (size_t i = 0; i < s->nwarnings; i++)
         free(s->warnings[i]);
     free(s->warnings);
+    free(s->warning_ids);
     free(s);
 }
 
-int lt_survey_warn(lt_survey *s, const char *fmt, ...)
+int lt_survey_warn(lt_survey *s, const char *id, const char *fmt, ...)
 {
     char buf[1024];
     va_list ap;
@@ -190,9 +191,13 @@ int lt_survey_warn(lt_survey *s, const char *fmt, ...)
     if (!w)
         return LT_ENOMEM;
     s->warnings = w;
+    const char **ids = realloc(s->warning_ids, (s->nwarnings + 1) * sizeof *ids);
+    if (!ids)
+        return LT_ENOMEM;
+    s->warning_ids = ids;
     if (!(w[s->nwarnings] = strdup(buf)))
         return LT_ENOMEM;
-    s->nwarnings++;
+    ids[s->nwarnings++] = id;
     return LT_OK;
 }
 
@@ -326,6 +331,31 @@ done:
     return rc;
 }
 
+/* Say so when the diagonal of a covariance file (m, n x n) already holds
+ * the statistical errors e[0..n-1] (rows with e = 0 skipped) that
+ * diag(err^2) adds again: the rule of
+ * LT_WARN_COV_DOUBLE_DIAG (lantern/survey.h). A sure sign, since
+ * double-counted errors raise every sigma quietly (Pantheon 2018's binned
+ * Omega_m: 0.0217 to 0.0256) and the fit still looks well. */
+static void warn_double_diagonal(lt_survey *s, const char *path, const double *m,
+                                 const double *e, size_t n, const char *fix)
+{
+    size_t rows = 0, reach = 0;
+    for (size_t i = 0; i < n; i++) {
+        if (!(e[i] > 0.0))
+            continue;
+        rows++;
+        reach += m[i * n + i] >= (1.0 - LT_DOUBLE_DIAG_SLACK) * e[i] * e[i];
+    }
+    if (rows && (double)reach >= LT_DOUBLE_DIAG_SHARE * (double)rows)
+        lt_survey_warn(s, LT_WARN_COV_DOUBLE_DIAG,
+                       "%s: its diagonal reaches err^2 on %zu of %zu rows, so it holds the "
+                       "statistical errors already and diag(err^2) adds them a second time "
+                       "(every sigma comes out too large): %s. If it holds only systematics "
+                       "that exceed the errors, silence this with --no-warn %s",
+                       path, reach, rows, fix, LT_WARN_COV_DOUBLE_DIAG);
+}
+
 static int build_cov(const lt_survey_spec *spec, const lt_rawtable *t, lt_survey *s,
                      lt_cov **out, lt_error *err)
 {
@@ -360,6 +390,10 @@ static int build_cov(const lt_survey_spec *spec, const lt_rawtable *t, lt_survey
                               "the matrix is %zu x %zu but the table %s has %zu objects "
                               "(the covariance must cover every row, before cuts)",
                               mn, mn, spec->data, n);
+        if (!rc && !spec->no_err_diag)
+            warn_double_diagonal(s, spec->cov[f], m, t->v[LT_ROLE_ERR], n,
+                                 "give --no-err-diag (no_err_diag = true in a run file) so "
+                                 "that the matrix alone makes the covariance");
         if (!rc)
             rc = lt_cov_add_dense(c, m, err);
         free(m);
@@ -394,8 +428,9 @@ static int build_cov(const lt_survey_spec *spec, const lt_rawtable *t, lt_survey
                                   t->text[0] ? t->text[0][i] : num, t->text[0] ? "'" : "");
         }
         if (!rc && unchecked)
-            lt_survey_warn(s, "%s: the mode rows are labelled by id but the table has no id "
-                              "column, so their order is not checked; map id=NAME to check it",
+            lt_survey_warn(s, LT_WARN_MODES_ORDER,
+                           "%s: the mode rows are labelled by id but the table has no id "
+                           "column, so their order is not checked; map id=NAME to check it",
                            spec->modes);
         if (!rc)
             rc = lt_cov_add_modes(c, k, u, amp, err);
@@ -463,7 +498,7 @@ static int select_rows(const lt_survey_spec *spec, const lt_rawtable *t, lt_surv
         goto done;
     }
     if (k < t->n)
-        lt_survey_warn(s, "cuts keep %zu of the %zu objects read", k, t->n);
+        lt_survey_warn(s, LT_WARN_CUTS, "cuts keep %zu of the %zu objects read", k, t->n);
     *out = idx;
     *m = k;
 done:
@@ -491,18 +526,30 @@ static void warn_duplicate_ids(lt_survey *s)
             dups++;
         }
     if (dups)
-        lt_survey_warn(s, "%zu ids appear more than once (the first: '%s')", dups, first);
+        lt_survey_warn(s, LT_WARN_DUPLICATE_IDS, "%zu ids appear more than once (the first: '%s')",
+                       dups, first);
     free(sorted);
 }
 
 static lt_survey *read_joined(const lt_survey_spec *spec, lt_error *err);
 
 /* Factor s's covariance; a failure says which matrices made it. */
-static int factor(const lt_survey_spec *spec, lt_survey *s, lt_error *err)
+int lt_survey_factor(const lt_survey_spec *spec, lt_survey *s, lt_error *err)
 {
     int rc = lt_cov_factor(s->cov, err);
     if (!rc)
         return LT_OK;
+    /* a matrix that is not positive definite (rather than a failure of
+     * memory or LAPACK) gets the way to its diagnosis */
+    const char *hint = rc == LT_EINPUT ? LT_SURVEY_INSPECT_HINT : "";
+    if (spec->nmore) {
+        char msg[LT_ERROR_MSG_MAX];
+        snprintf(msg, sizeof msg, "%s", err ? err->msg : "");
+        return lt_error_set(err, rc, spec->cross_cov ? spec->cross_cov : spec->data, 0,
+                            "%s; the total is the %zu tables' own covariances%s%s", msg,
+                            spec->nmore + 1,
+                            spec->cross_cov ? " plus this cross-covariance" : "", hint);
+    }
     /* Say which matrix and which object, so the user can look. */
     char what[512] = "diag(err^2)";
     if (spec->no_err_diag)
@@ -513,14 +560,14 @@ static int factor(const lt_survey_spec *spec, lt_survey *s, lt_error *err)
     if (spec->modes)
         snprintf(what + strlen(what), sizeof what - strlen(what), "%smodes %s",
                  what[0] ? " + " : "", spec->modes);
-    char msg[LT_ERROR_MSG_MAX + sizeof what + 32];
-    snprintf(msg, sizeof msg, "%s; the total is %s", err ? err->msg : "", what);
+    char msg[LT_ERROR_MSG_MAX + sizeof what + sizeof LT_SURVEY_INSPECT_HINT + 32];
+    snprintf(msg, sizeof msg, "%s; the total is %s%s", err ? err->msg : "", what, hint);
     return lt_error_set(err, rc, spec->ncov ? spec->cov[0] : spec->data, 0, "%s", msg);
 }
 
 static lt_survey *read_table(const lt_survey_spec *spec, lt_error *err);
 
-lt_survey *lt_survey_read(const lt_survey_spec *spec, lt_error *err)
+lt_survey *lt_survey_read_unfactored(const lt_survey_spec *spec, lt_error *err)
 {
     if (spec->nmore)
         return read_joined(spec, err);
@@ -530,8 +577,13 @@ lt_survey *lt_survey_read(const lt_survey_spec *spec, lt_error *err)
                      "with --cov instead");
         return NULL;
     }
-    lt_survey *s = read_table(spec, err);
-    if (s && factor(spec, s, err)) {
+    return read_table(spec, err);
+}
+
+lt_survey *lt_survey_read(const lt_survey_spec *spec, lt_error *err)
+{
+    lt_survey *s = lt_survey_read_unfactored(spec, err);
+    if (s && lt_survey_factor(spec, s, err)) {
         lt_survey_free(s);
         return NULL;
     }
@@ -580,9 +632,10 @@ static lt_survey *read_table(const lt_survey_spec *spec, lt_error *err)
     s->kind = map.kind;
     s->n_read = t.n;
     if (t.warning)
-        lt_survey_warn(s, "%s", t.warning);
+        lt_survey_warn(s, LT_WARN_HEADER_EXTRA, "%s", t.warning); /* the only one */
     if (!map.name[LT_ROLE_ZHEL])
-        lt_survey_warn(s, "no zhel column: heliocentric redshifts are taken equal to z");
+        lt_survey_warn(s, LT_WARN_NO_ZHEL,
+                       "no zhel column: heliocentric redshifts are taken equal to z");
     if (build_cov(spec, &t, s, &full, err))
         goto fail;
     if (select_rows(spec, &t, s, &idx, &m, err))
@@ -758,6 +811,20 @@ static int add_cross(const lt_survey_spec *spec, lt_survey *const *part, size_t 
     for (size_t a = 0; a < n; a++)
         for (size_t b = 0; b < n; b++)
             x[a * n + b] = m[at[a] * mn + at[b]];
+    /* the errors of the rows whose table adds diag(err^2), 0 for the
+     * others (which the double-diagonal check then skips); when a table
+     * has no err column the joined survey keeps none, and the check is
+     * left out */
+    double *e = s->err ? malloc((n ? n : 1) * sizeof *e) : NULL;
+    for (size_t p = 0, a = 0; e && p < np; p++)
+        for (size_t k = 0; k < part[p]->n; k++, a++)
+            e[a] = (p ? spec->more[p - 1].no_err_diag : spec->no_err_diag) ? 0.0 : s->err[a];
+    if (e)
+        warn_double_diagonal(s, spec->cross_cov, x, e, n,
+                             "give no_err_diag = true in each [survey.NAME] (--no-err-diag "
+                             "after each --data) so that the tables add no diag(err^2) of their "
+                             "own");
+    free(e);
     free(at);
     rc = lt_cov_add_dense(s->cov, x, err);
 done:
@@ -839,7 +906,7 @@ static lt_survey *read_joined(const lt_survey_spec *spec, lt_error *err)
         all_err &= part[p]->err != NULL, all_id &= part[p]->id != NULL;
         any_lc |= part[p]->lc != NULL;
         for (size_t w = 0; w < part[p]->nwarnings; w++)
-            lt_survey_warn(s, "%s: %s", name[p], part[p]->warnings[w]);
+            lt_survey_warn(s, part[p]->warning_ids[w], "%s: %s", name[p], part[p]->warnings[w]);
     }
     size_t m = s->n ? s->n : 1;
     if (join_doubles(part, np, s->n, offsetof(lt_survey, z), 0, 0, &s->z) ||
@@ -863,15 +930,6 @@ static lt_survey *read_joined(const lt_survey_spec *spec, lt_error *err)
     if (!(s->cov = lt_cov_join(covs, np, err)) ||
         (spec->cross_cov && add_cross(spec, part, np, s, err)))
         goto fail;
-    int frc;
-    if ((frc = lt_cov_factor(s->cov, err))) {
-        char msg[LT_ERROR_MSG_MAX];
-        snprintf(msg, sizeof msg, "%s", err ? err->msg : "");
-        lt_error_set(err, frc, spec->cross_cov ? spec->cross_cov : spec->data, 0,
-                     "%s; the total is the %zu tables' own covariances%s", msg, np,
-                     spec->cross_cov ? " plus this cross-covariance" : "");
-        goto fail;
-    }
     for (size_t p = 0; p < np; p++)
         lt_survey_free(part[p]);
     return s;

@@ -47,13 +47,14 @@ expect_stdout() {
     fi
 }
 
-# bad NAME WHERE PATTERN ARGS...: "lantern inspect ARGS" refuses its input:
+# bad NAME WHERE PATTERN ARGS...: "lantern inspect ARGS" (CMD, if set, in
+# place of inspect) refuses its input:
 # status 2, nothing on stdout, and stderr starting "lantern: WHERE: " (WHERE
 # the "FILE:LINE", or "FILE", taken literally) and matching PATTERN (grep -E).
 bad() {
     local name=$1 where=$2 pattern=$3
     shift 3
-    run "$LANTERN" inspect "$@"
+    run "$LANTERN" "${CMD:-inspect}" "$@"
     # the message must start with "lantern: WHERE: ", taken literally
     local prefix="lantern: $where: "
     if [ "$STATUS" -eq 2 ] && [ ! -s "$OUT" ] && [ "$(head -c ${#prefix} "$ERR")" = "$prefix" ] &&

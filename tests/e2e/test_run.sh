@@ -118,8 +118,8 @@ check_every = 1000
 EOF
 PB="$E2E_TMP/pbins"
 run "$LANTERN" run "$E2E_TMP/pbins.ini" --out "$PB" --quiet
-if [ "$STATUS" -eq 3 ] && grep -q "lantern: warning: lcdm-flat did not converge (worst R-hat .*, smallest ESS [0-9]*): its numbers are provisional; the tables mark it" "$ERR" &&
-   grep -q "lantern: warning: lcdm-flat: the posterior of h0 reaches" "$ERR" &&
+if [ "$STATUS" -eq 3 ] && grep -q "lantern: warning \[not-converged\]: lcdm-flat did not converge (worst R-hat .*, smallest ESS [0-9]*): its numbers are provisional; the tables mark it" "$ERR" &&
+   grep -q "lantern: warning \[prior-edge\]: lcdm-flat: the posterior of h0 reaches" "$ERR" &&
    /usr/bin/python3 - "$PB" <<'PY'
 import csv, sys
 d = sys.argv[1]
@@ -141,7 +141,7 @@ else fail "an unconverged model and a prior-filling h0 are marked in the tables,
 # Delta BIC or ln B across them, and one figure per model name for both runs
 run "$LANTERN" report "$D" "$PB" --out "$E2E_TMP/across"
 if [ "$STATUS" -eq 3 ] && grep -q "lantern: note: pbins: lcdm-flat was fitted to other data (40 objects) than demo: lcdm-flat (800 objects)" "$ERR" &&
-   grep -q "lantern: warning: pbins: lcdm-flat did not converge" "$ERR" &&
+   grep -q "lantern: warning \[not-converged\]: pbins: lcdm-flat did not converge" "$ERR" &&
    /usr/bin/python3 - "$E2E_TMP/across" "$ROOT/tests/e2e" <<'PY'
 import json, sys
 d = sys.argv[1]
@@ -229,7 +229,7 @@ run "$LANTERN" run "$ROOT/configs/demo.ini" --set run.models=lcdm-flat \
     --set sampler.target_ess=300 --out "$E2E_TMP/ovr2" --quiet
 if [ "$ovr" -eq 0 ] && [ "$STATUS" -eq 0 ] && [ "$(ls "$E2E_TMP/ovr" | grep -c '^lcdm')" -eq 1 ] &&
    cmp -s "$E2E_TMP/ovr/lcdm-flat/summary.json" "$E2E_TMP/ovr2/lcdm-flat/summary.json" &&
-   grep -q "is now 'run --override" "$ERR" &&
+   grep -q "lantern: warning \[renamed-flag\]: 'run --set section.key=value' is now 'run --override" "$ERR" &&
    /usr/bin/python3 -c 'import json,sys; j=json.load(open(sys.argv[1])); assert j["convergence"]["ess_min"] >= 300' "$E2E_TMP/ovr/lcdm-flat/summary.json"; then
     pass "run --override replaces run-file keys; --set does the same with a warning"
 else

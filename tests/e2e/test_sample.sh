@@ -134,7 +134,7 @@ fi
 # upper ratio may lie anywhere in 0.3-0.75; the lower must be near 1.
 run "$LANTERN" sample --sampler mcmc "${DATA[@]}" --model lcdm-flat --prior omega_m=uniform:0.3:0.32 --target-ess 400 \
     --seed 4 --out "$E2E_TMP/fill" --quiet
-if [ "$STATUS" -eq 0 ] && grep -q "lantern: warning: lcdm-flat: the posterior of omega_m reaches both edges of its prior U(0.3, 0.32)" "$ERR" &&
+if [ "$STATUS" -eq 0 ] && grep -q "lantern: warning \[prior-edge\]: lcdm-flat: the posterior of omega_m reaches both edges of its prior U(0.3, 0.32)" "$ERR" &&
    /usr/bin/python3 - "$E2E_TMP/fill/summary.json" <<'PY'
 import json, re, sys
 w = [x for x in json.load(open(sys.argv[1]))["warnings"] if "omega_m reaches both edges" in x]

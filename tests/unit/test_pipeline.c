@@ -245,6 +245,70 @@ static void test_fingerprint_parts(void **state)
     lt_survey_free(s);
 }
 
+/* Kinds of warning: --no-warn and [data] no_warn take ids (one, or a
+ * comma-separated list; the flag repeated adds), refuse an unknown one with
+ * the list of the known, silence exactly the kinds named, and the settings
+ * file a resume reads keeps them. */
+static void test_no_warn(void **state)
+{
+    (void)state;
+    /* the survey's ids are in the list, each once; the mask has room */
+    const char *survey_ids[] = {LT_WARN_HEADER_EXTRA, LT_WARN_NO_ZHEL, LT_WARN_MODES_ORDER,
+                                LT_WARN_CUTS, LT_WARN_DUPLICATE_IDS, LT_WARN_COV_DOUBLE_DIAG};
+    const lt_warning_kind *k = lt_warning_kinds();
+    size_t n = 0;
+    while (k[n].id)
+        n++;
+    assert_true(n <= 64);
+    for (size_t i = 0; i < sizeof survey_ids / sizeof survey_ids[0]; i++) {
+        size_t found = 0;
+        for (size_t q = 0; q < n; q++)
+            found += !strcmp(k[q].id, survey_ids[i]);
+        assert_int_equal(found, 1);
+    }
+    lt_job j;
+    lt_error err;
+    lt_job_init(&j);
+    for (size_t q = 0; q < n; q++)
+        assert_true(lt_job_warning_shown(&j, k[q].id));
+    assert_int_equal(lt_job_flag(&j, "--no-warn", "header-extra-names", &err), LT_OK);
+    assert_int_equal(lt_job_flag(&j, "--no-warn", " cuts , prior-edge", &err), LT_OK);
+    for (size_t q = 0; q < n; q++)
+        assert_int_equal(lt_job_warning_shown(&j, k[q].id),
+                         strcmp(k[q].id, "header-extra-names") && strcmp(k[q].id, "cuts") &&
+                             strcmp(k[q].id, "prior-edge"));
+    assert_true(lt_job_warning_shown(&j, NULL));   /* a warning of no kind */
+    assert_true(lt_job_warning_shown(NULL, "cuts")); /* no job: nothing silenced */
+    expect(lt_job_flag(&j, "--no-warn", "cuts,no-such-kind", &err), &err,
+           "--no-warn: unknown kind of warning 'no-such-kind' (the kinds: header-extra-names, ");
+    assert_non_null(strstr(msg(&err), "cov-double-diagonal"));
+    expect(lt_job_flag(&j, "--no-warn", " , ", &err), &err, "name a kind of warning");
+    /* the run file's key, refused with its file and line */
+    const char *p = write_text("nw.ini", "[data]\nno_warn = no-zhel, duplicate-ids\n");
+    lt_job f;
+    lt_job_init(&f);
+    assert_int_equal(lt_job_read(&f, p, NULL, NULL, 0, &err), LT_OK);
+    assert_false(lt_job_warning_shown(&f, "no-zhel"));
+    assert_false(lt_job_warning_shown(&f, "duplicate-ids"));
+    assert_true(lt_job_warning_shown(&f, "cuts"));
+    /* ... and written for a resume */
+    char out[512];
+    snprintf(out, sizeof out, "%s/nw_settings.ini", dir);
+    assert_int_equal(lt_job_write(&f, NULL, out, &err), LT_OK);
+    lt_job g;
+    lt_job_init(&g);
+    assert_int_equal(lt_job_read(&g, out, NULL, NULL, 0, &err), LT_OK);
+    assert_true(g.no_warn == f.no_warn);
+    lt_job_free(&g);
+    lt_job_free(&f);
+    p = write_text("nw_bad.ini", "[data]\n\nno_warn = header-extra\n");
+    lt_job_init(&f);
+    expect(lt_job_read(&f, p, NULL, NULL, 0, &err), &err,
+           ":3: unknown kind of warning 'header-extra'");
+    lt_job_free(&f);
+    lt_job_free(&j);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -253,6 +317,7 @@ int main(void)
         cmocka_unit_test(test_overrides),
         cmocka_unit_test(test_write_read_back),
         cmocka_unit_test(test_fingerprint_parts),
+        cmocka_unit_test(test_no_warn),
     };
     return cmocka_run_group_tests(tests, setup, teardown);
 }

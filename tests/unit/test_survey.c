@@ -19,6 +19,7 @@
 
 #include <cmocka.h>
 #include <fitsio.h>
+#include <gsl/gsl_eigen.h>
 #include <gsl/gsl_linalg.h>
 
 #include "lantern/lantern.h"
@@ -91,6 +92,8 @@ static void test_trailing_header(void **state)
     assert_int_equal(s->nwarnings, 2); /* trailing names; no zhel */
     assert_non_null(strstr(s->warnings[0], "extra1, extra2"));
     assert_non_null(strstr(s->warnings[0], ":1:"));
+    assert_string_equal(s->warning_ids[0], LT_WARN_HEADER_EXTRA); /* each with its kind */
+    assert_string_equal(s->warning_ids[1], LT_WARN_NO_ZHEL);
     lt_survey_free(s);
     assert_null(read_survey(p, "z=z,mag=mb,err=extra2", &err));
     assert_int_equal(err.line, 2);
@@ -880,6 +883,190 @@ static void test_cov_digest(void **state)
     assert_true(h != cov_digest_of(d, 0));
 }
 
+
+/* lt_cov_diagnose on a matrix whose negative direction is known in closed
+ * form: the identity with a 2x2 block [[1, 1.5], [1.5, 1]] on objects 3 and
+ * 4 has eigenvalues 1 +- 1.5, so -0.5 along (e3 - e4)/sqrt(2), 2.5 along
+ * (e3 + e4)/sqrt(2), and 1 (four times) elsewhere. */
+static void test_diagnose_closed_form(void **state)
+{
+    (void)state;
+    lt_error err;
+    double m[36] = {0};
+    for (int i = 0; i < 6; i++)
+        m[i * 6 + i] = 1.0;
+    m[2 * 6 + 3] = m[3 * 6 + 2] = 1.5;
+    lt_cov *c = lt_cov_alloc(6, &err);
+    lt_cov_add_dense(c, m, &err);
+    assert_int_equal(lt_cov_factor(c, &err), LT_EINPUT); /* refused, restored */
+    lt_cov_diagnosis d;
+    assert_int_equal(lt_cov_diagnose(c, &d, &err), LT_OK);
+    assert_int_equal(d.n, 6);
+    assert_int_equal(d.n_negative, 1);
+    assert_int_equal(d.n_zero, 0);
+    assert_int_equal(d.neigen, LT_DIAG_EIGEN);
+    assert_abs(d.eigen[0], -0.5, 1e-14);
+    for (int k = 1; k < LT_DIAG_EIGEN; k++)
+        assert_abs(d.eigen[k], 1.0, 1e-14);
+    assert_abs(d.max_eigenvalue, 2.5, 1e-14);
+    assert_int_equal(d.ntop, LT_DIAG_TOP);
+    /* objects 3 and 4 (indices 2, 3), +- 1/sqrt(2), the first positive */
+    assert_int_equal(d.top[0] + d.top[1], 5);
+    assert_true(d.top[0] == 2 || d.top[0] == 3);
+    assert_abs(d.weight[0], 1.0 / sqrt(2.0), 1e-12);
+    assert_abs(d.weight[1], -1.0 / sqrt(2.0), 1e-12);
+    for (int t = 2; t < LT_DIAG_TOP; t++)
+        assert_abs(d.weight[t], 0.0, 1e-12);
+    assert_abs(d.pair_correlation, 1.5, 1e-14);
+    assert_rel(d.tolerance, 6 * 2.220446049250313e-16 * 2.5, 1e-14); /* n eps |lambda|max */
+    lt_cov_free(c);
+}
+
+/* lt_cov_diagnose against GSL's symmetric eigensolver (gsl_eigen_symmv, an
+ * outside reference) on a random symmetric matrix with several negative
+ * eigenvalues, and with modes on a diagonal base. */
+static void test_diagnose_vs_gsl(void **state)
+{
+    (void)state;
+    enum { N = 30, K = 2 };
+    unsigned long long seed = 20261204;
+    double a[N * N], diag[N], u[N * K], full[N * N];
+    for (int i = 0; i < N; i++)
+        for (int j = 0; j <= i; j++)
+            a[i * N + j] = a[j * N + i] = lt_test_uniform(&seed, -1.0, 1.0);
+    for (int i = 0; i < N; i++)
+        diag[i] = lt_test_uniform(&seed, 0.5, 1.5);
+    for (int i = 0; i < N * K; i++)
+        u[i] = lt_test_uniform(&seed, -1.0, 1.0);
+    lt_error err;
+    lt_cov *c = lt_cov_alloc(N, &err);
+    assert_int_equal(lt_cov_add_diag(c, diag, &err), LT_OK);
+    assert_int_equal(lt_cov_add_dense(c, a, &err), LT_OK);
+    assert_int_equal(lt_cov_add_modes(c, K, u, NULL, &err), LT_OK);
+    lt_cov_to_dense(c, full);
+    lt_cov_diagnosis d;
+    assert_int_equal(lt_cov_diagnose(c, &d, &err), LT_OK);
+    gsl_matrix *m = gsl_matrix_alloc(N, N), *v = gsl_matrix_alloc(N, N);
+    gsl_vector *ev = gsl_vector_alloc(N);
+    gsl_eigen_symmv_workspace *w = gsl_eigen_symmv_alloc(N);
+    memcpy(m->data, full, sizeof full);
+    assert_int_equal(gsl_eigen_symmv(m, ev, v, w), 0);
+    gsl_eigen_symmv_sort(ev, v, GSL_EIGEN_SORT_VAL_ASC);
+    size_t neg = 0;
+    for (int i = 0; i < N; i++)
+        neg += gsl_vector_get(ev, i) < 0;
+    assert_true(neg >= 2); /* the case is the one meant */
+    assert_int_equal(d.n_negative, neg);
+    for (size_t k = 0; k < d.neigen; k++)
+        assert_abs(d.eigen[k], gsl_vector_get(ev, k), 1e-12);
+    assert_abs(d.max_eigenvalue, gsl_vector_get(ev, N - 1), 1e-12);
+    /* the eigenvector of the smallest, up to its sign, at the heaviest */
+    double sign = gsl_matrix_get(v, d.top[0], 0) < 0 ? -1.0 : 1.0;
+    double prev = INFINITY;
+    for (size_t t = 0; t < d.ntop; t++) {
+        assert_abs(d.weight[t], sign * gsl_matrix_get(v, d.top[t], 0), 1e-10);
+        assert_true(fabs(d.weight[t]) <= prev);
+        prev = fabs(d.weight[t]);
+    }
+    for (int i = 0; i < N; i++) /* none heavier was left out */
+        assert_true(fabs(gsl_matrix_get(v, i, 0)) <= fabs(d.weight[0]) + 1e-12);
+    gsl_eigen_symmv_free(w);
+    gsl_vector_free(ev);
+    gsl_matrix_free(m);
+    gsl_matrix_free(v);
+    lt_cov_free(c);
+}
+
+/* The double-diagonal rule (lantern/survey.h): a --cov whose diagonal
+ * reaches err^2 on at least 90% of the rows warns; one below it does not,
+ * nor anything with --no-err-diag. */
+static void test_double_diagonal(void **state)
+{
+    (void)state;
+    const char *t = TMP("dd.txt", "z mu err\n0.1 38 0.1\n0.2 40 0.2\n0.3 41 0.1\n0.4 42 0.2\n"
+                                  "0.5 42.5 0.1\n0.6 43 0.2\n0.7 43.5 0.1\n0.8 44 0.2\n"
+                                  "0.9 44.3 0.1\n1.0 44.6 0.2\n");
+    /* C_ii = scale err_i^2: reaching err^2, above it (err^2 + systematics),
+     * within and beyond the 2% slack, 9 rows of 10 (the share), and a
+     * systematics-only matrix below err^2 */
+    struct {
+        double scale, last; /* every C_ii = scale err_i^2, the last row's last */
+        int warns;
+    } cases[] = {{1.0, 1.0, 1}, {1.3, 1.3, 1}, {0.99, 0.99, 1}, {0.97, 0.97, 0},
+                 {1.0, 0.5, 1}, {0.3, 0.3, 0}};
+    for (size_t k = 0; k < sizeof cases / sizeof cases[0]; k++) {
+        char text[1024] = "10\n";
+        for (int i = 0; i < 10; i++) {
+            for (int j = 0; j < 10; j++) {
+                double e = i % 2 ? 0.2 : 0.1, f = i == 9 ? cases[k].last : cases[k].scale;
+                snprintf(text + strlen(text), sizeof text - strlen(text), "%.10g ",
+                         i == j ? f * e * e : 0.0);
+            }
+            strcat(text, "\n");
+        }
+        const char *cov = lt_test_write(dir, "dd_cov.txt", text, strlen(text));
+        lt_survey_spec spec;
+        lt_survey_spec_init(&spec);
+        spec.data = t, spec.columns = "z=z,mu=mu,err=err";
+        spec.cov[0] = cov, spec.ncov = 1;
+        lt_error err;
+        lt_survey *s = lt_survey_read(&spec, &err);
+        assert_non_null(s);
+        int found = 0;
+        for (size_t w = 0; w < s->nwarnings; w++)
+            if (!strcmp(s->warning_ids[w], LT_WARN_COV_DOUBLE_DIAG)) {
+                found = 1;
+                assert_non_null(strstr(s->warnings[w], cov));
+                assert_non_null(strstr(s->warnings[w], "--no-err-diag"));
+            }
+        if (found != cases[k].warns)
+            print_error("case %zu: scale %g, last %g\n", k, cases[k].scale, cases[k].last);
+        assert_int_equal(found, cases[k].warns);
+        lt_survey_free(s);
+        spec.no_err_diag = 1; /* the matrix alone: nothing counted twice */
+        s = lt_survey_read(&spec, &err);
+        assert_non_null(s);
+        for (size_t w = 0; w < s->nwarnings; w++)
+            assert_string_not_equal(s->warning_ids[w], LT_WARN_COV_DOUBLE_DIAG);
+        lt_survey_free(s);
+    }
+}
+
+
+/* The hint's rule (lt_report_cov_hint), branch by branch, on diagnoses made
+ * by hand: a pair beyond 1 first, then --no-err-diag, then an eigenvalue
+ * within rounding of the largest, else the general words. */
+static void test_cov_hint(void **state)
+{
+    (void)state;
+    const char *p = TMP("hint.txt", "id z mu err\na 0.1 38 0.1\nb 0.2 40 0.1\nc 0.3 41 0.1\n");
+    lt_error err;
+    lt_survey *s = read_survey(p, "z=z,mu=mu,err=err,id=id", &err);
+    assert_non_null(s);
+    lt_survey_spec spec;
+    lt_survey_spec_init(&spec);
+    lt_cov_diagnosis d = {.n = 3, .n_negative = 1, .max_eigenvalue = 2.0, .neigen = 3,
+                          .eigen = {-0.5, 1, 2}, .ntop = 3, .top = {2, 0, 1},
+                          .weight = {0.8, -0.6, 0}, .pair_correlation = 1.25};
+    char hint[1024];
+    lt_report_cov_hint(&spec, s, &d, hint, sizeof hint);
+    assert_non_null(strstr(hint, "objects 'c' and 'a' are correlated beyond 1"));
+    assert_non_null(strstr(hint, "= 1.25"));
+    d.pair_correlation = 0.9;
+    spec.no_err_diag = 1;
+    lt_report_cov_hint(&spec, s, &d, hint, sizeof hint);
+    assert_non_null(strstr(hint, "drop --no-err-diag"));
+    spec.no_err_diag = 0;
+    d.eigen[0] = -2e-6; /* 1e-6 of the largest: within rounding */
+    lt_report_cov_hint(&spec, s, &d, hint, sizeof hint);
+    assert_non_null(strstr(hint, "the smallest eigenvalue is 1e-06 of the largest"));
+    assert_non_null(strstr(hint, "too few digits"));
+    d.eigen[0] = -3e-6;
+    lt_report_cov_hint(&spec, s, &d, hint, sizeof hint);
+    assert_non_null(strstr(hint, "not a covariance as given"));
+    lt_survey_free(s);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -893,6 +1080,9 @@ int main(void)
         cmocka_unit_test(test_rfc4180_refusals),  cmocka_unit_test(test_pandas_index),
         cmocka_unit_test(test_text_case),         cmocka_unit_test(test_fits_case),
         cmocka_unit_test(test_positions),         cmocka_unit_test(test_header_rule),
+        cmocka_unit_test(test_diagnose_closed_form),
+        cmocka_unit_test(test_diagnose_vs_gsl),   cmocka_unit_test(test_double_diagonal),
+        cmocka_unit_test(test_cov_hint),
     };
     return cmocka_run_group_tests_name("survey", tests, setup, teardown);
 }
