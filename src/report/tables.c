@@ -109,7 +109,8 @@ static void quote_text(const lt_quote *q, int tex, char *buf, size_t size)
         /* limits: two significant digits (common practice, no source) */
         snprintf(v, sizeof v, "%.2g", q->value);
         const char *op = q->kind == LT_QUOTE_UPPER ? (tex ? "<" : "<") : (tex ? ">" : ">");
-        snprintf(buf, size, tex ? "$%s %s$ (95\\%%)" : "%s %s (95%%)", op, v);
+        /* in LaTeX a mark and a footnote say "95% limit": the cell stays narrow */
+        snprintf(buf, size, tex ? "$%s %s^{\\S}$" : "%s %s (95%%)", op, v);
         return;
     }
     lt_pdg_round(q->value, q->minus, q->plus, v, mi, pl, sizeof v);
@@ -246,6 +247,191 @@ static const char *base_name(const char *path)
     return b ? b + 1 : path ? path : "file not recorded";
 }
 
+/* ---- LaTeX ---- */
+
+/* Model columns in one tabular: four fit the text width of a two-column
+ * page (about 7 in) with room for the parameter column; more are split
+ * into several tabulars, one under another (a convention of ours). */
+#define TEX_COLS 4
+/* Footnote lines are broken at about this many characters a model column
+ * (plus the parameter column's), so that no note is wider than the table. */
+#define TEX_NOTE_CHARS(k) (22 + 16 * (k))
+
+/* One footnote as rows of the tabular (so that \input brings it along),
+ * broken at spaces into lines of at most width characters. */
+static void tex_note(FILE *f, size_t cols, size_t width, const char *text)
+{
+    const char *p = text;
+    while (*p) {
+        size_t len = strlen(p), cut = len;
+        if (len > width) {
+            /* the last space at or before width outside math ($...$): a
+             * line may not end inside a formula */
+            size_t last = 0;
+            int math = 0;
+            for (size_t i = 0; i < len && (i <= width || !last); i++) {
+                if (p[i] == '$' && (i == 0 || p[i - 1] != '\\'))
+                    math = !math;
+                else if (p[i] == ' ' && !math)
+                    last = i;
+            }
+            cut = last ? last : len; /* no space outside math: as it is */
+        }
+        fprintf(f, "\\multicolumn{%zu}{l}{\\footnotesize %.*s} \\\\\n", cols, (int)cut, p);
+        p += cut;
+        while (*p == ' ')
+            p++;
+    }
+}
+
+/* A difference for the comparison rows, in math mode (a real minus). */
+#define TEX_DIFF(field)                                                                      \
+    for (size_t i = first; i < last; i++)                                                    \
+        if (t->ref[i] >= 0)                                                                  \
+            fprintf(f, " & $%+.2f$", models[i].field - models[t->ref[i]].field);             \
+        else                                                                                 \
+            fputs(" &", f);
+
+/* Models [first, last) as one tabular. */
+static void tex_tabular(FILE *f, const lt_run_model *models, size_t first, size_t last,
+                        const char **names, size_t nn, const table_facts *t, int notes)
+{
+    size_t k = last - first;
+    char cell[200];
+    int have_z = 0, any_limit = 0;
+    for (size_t i = first; i < last; i++)
+        have_z |= isfinite(models[i].ln_z);
+    /* rows a little apart, so that asymmetric errors' super- and
+     * subscripts do not touch the next row's */
+    fputs("{\\renewcommand{\\arraystretch}{1.3}\\setlength{\\tabcolsep}{4pt}%\n", f);
+    fputs("\\begin{tabular}{l", f);
+    for (size_t i = 0; i < k; i++)
+        fputc('c', f);
+    fputs("}\n\\toprule\nParameter", f);
+    for (size_t i = first; i < last; i++)
+        fprintf(f, " & %s%s", lt_report_model_label(models[i].name, LT_LABEL_TEX, cell, sizeof cell),
+                models[i].converged ? "" : "$^\\ddagger$");
+    if (t->many_probes) { /* a second header row: the probes of each column */
+        fputs(" \\\\\n", f);
+        for (size_t i = first; i < last; i++)
+            fprintf(f, " & %s", tex_probes(models[i].probes, cell, sizeof cell));
+    }
+    fputs(" \\\\\n\\midrule\n", f);
+    for (size_t p = 0; p < nn; p++) {
+        int any = 0;
+        for (size_t i = first; i < last; i++)
+            any |= col_of(&models[i], names[p]) >= 0;
+        if (!any)
+            continue; /* a parameter of the other tabular's models only */
+        fprintf(f, "%s", lt_report_param_label(names[p], LT_LABEL_TEX, cell, sizeof cell));
+        for (size_t i = first; i < last; i++) {
+            long c = col_of(&models[i], names[p]);
+            if (c < 0) {
+                fputs(" & ---", f);
+                continue;
+            }
+            quote_text(&t->q[i][c], 1, cell, sizeof cell);
+            any_limit |= t->q[i][c].kind != LT_QUOTE_TWO_SIDED;
+            fprintf(f, " & %s", cell);
+        }
+        fputs(" \\\\\n", f);
+    }
+    fputs("\\midrule\n$\\chi^2_\\mathrm{min}$/dof", f);
+    for (size_t i = first; i < last; i++)
+        fprintf(f, " & $%.2f/%ld$", models[i].chi2_min, models[i].dof);
+    fputs(" \\\\\n$\\Delta$AIC", f);
+    TEX_DIFF(aic)
+    fputs(" \\\\\n$\\Delta$BIC", f);
+    TEX_DIFF(bic)
+    if (have_z) {
+        fputs(" \\\\\n$\\ln Z$", f);
+        for (size_t i = first; i < last; i++)
+            if (isfinite(models[i].ln_z))
+                fprintf(f, " & $%.2f \\pm %.2f$", models[i].ln_z, models[i].ln_z_err);
+            else
+                fputs(" &", f);
+        fputs(" \\\\\n$\\ln B$", f);
+        TEX_DIFF(ln_z)
+    }
+    fputs(" \\\\\n\\bottomrule\n", f);
+    size_t w = TEX_NOTE_CHARS(k), cols = k + 1;
+    char text[600];
+    if (notes) {
+        if (any_limit)
+            tex_note(f, cols, w, "$^\\S$ 95\\% limit: the posterior piles against an edge of "
+                                 "its prior");
+        if (t->any_edge)
+            tex_note(f, cols, w, "$^\\dagger$ the posterior reaches a prior edge (density there "
+                                 "$>10\\%$ of its peak): the prior sets part of the interval");
+        for (size_t i = first; i < last; i++)
+            if (!models[i].converged) {
+                snprintf(text, sizeof text,
+                         "$^\\ddagger$ %s: not converged (step cap reached; smallest ESS %.0f); "
+                         "its numbers are provisional",
+                         tex_column(&models[i], t->many_probes, cell, sizeof cell),
+                         models[i].ess_min);
+                tex_note(f, cols, w, text);
+            }
+        size_t nw = 0, at = 0;
+        for (size_t i = first; i < last; i++)
+            nw += models[i].weighted;
+        if (nw) { /* one note for all the importance-weighted columns */
+            at = (size_t)snprintf(text, sizeof text, "importance-weighted draws, effective "
+                                                     "sample size:");
+            for (size_t i = first, j = 0; i < last && at < sizeof text; i++)
+                if (models[i].weighted)
+                    at += (size_t)snprintf(text + at, sizeof text - at, "%s %s %.0f",
+                                           j++ ? "," : "",
+                                           tex_column(&models[i], t->many_probes, cell,
+                                                      sizeof cell),
+                                           models[i].ess_min);
+            tex_note(f, cols, w, text);
+        }
+        if (t->many_refs)
+            tex_note(f, cols, w, "$\\Delta$: to the first column of the same data");
+        if (t->any_alone)
+            tex_note(f, cols, w, "blank $\\Delta$: fitted to other data than the first column");
+    }
+    fputs("\\end{tabular}}%\n", f);
+}
+
+/* Every model, in tabulars of at most TEX_COLS model columns, one under
+ * another; the comparison rows keep their references across the split. */
+static void tex_tabulars(FILE *f, const lt_run_model *models, size_t n, const char **names,
+                         size_t nn, const table_facts *t)
+{
+    for (size_t first = 0; first < n; first += TEX_COLS) {
+        size_t last = first + TEX_COLS < n ? first + TEX_COLS : n;
+        if (first)
+            fputs("\\par\\medskip\n", f);
+        tex_tabular(f, models, first, last, names, nn, t, 1);
+    }
+}
+
+/* constraints_table.tex: the tabulars in a float with a caption and a label,
+ * a table for one or two model columns (a column of the page), a table*
+ * across both columns for more. */
+static void tex_float(FILE *f, const lt_run_model *models, size_t n, const char **names,
+                      size_t nn, const table_facts *t)
+{
+    const char *env = n <= 2 ? "table" : "table*";
+    size_t objects = models[0].n_data;
+    fprintf(f, "%% lantern constraint table as a float; needs \\usepackage{booktabs}\n"
+               "\\begin{%s}\n\\centering\n",
+            env);
+    fprintf(f, "\\caption{Posterior medians and 68\\%% equal-tailed intervals of each model's "
+               "parameters (rounded by the Particle Data Group's rule), or 95\\%% limits where "
+               "a posterior piles against a prior edge");
+    if (objects)
+        fprintf(f, "; %zu objects", objects);
+    fputs(". $\\chi^2_\\mathrm{min}$ is at the best fit; $\\Delta$AIC, $\\Delta$BIC and "
+          "$\\ln B$ are taken to the first model of the same data.}\n"
+          "\\label{tab:lantern-constraints}\n",
+          f);
+    tex_tabulars(f, models, n, names, nn, t);
+    fprintf(f, "\n\\end{%s}\n", env);
+}
+
 int lt_report_write_tables(const char *dir, const lt_run_model *models, size_t n,
                            lt_error *err)
 {
@@ -354,77 +540,16 @@ int lt_report_write_tables(const char *dir, const lt_run_model *models, size_t n
     if ((rc = lt_file_close_commit(f, final, err)))
         goto done;
 
-    /* LaTeX (booktabs) */
+    /* LaTeX (booktabs): the bare tabular(s) for \input, and the same in a
+     * float with caption and label */
     if ((rc = open_tmp(dir, "constraints.tex", &final, &f, err)))
         goto done;
-    fputs("% lantern constraint table; needs \\usepackage{booktabs}\n\\begin{tabular}{l", f);
-    for (size_t i = 0; i < n; i++)
-        fputc('c', f);
-    fputs("}\n\\toprule\nParameter", f);
-    for (size_t i = 0; i < n; i++)
-        fprintf(f, " & %s%s", lt_report_model_label(models[i].name, LT_LABEL_TEX, cell, sizeof cell),
-                models[i].converged ? "" : "$^\\ddagger$");
-    if (t.many_probes) { /* a second header row: the probes of each column */
-        fputs(" \\\\\n", f);
-        for (size_t i = 0; i < n; i++)
-            fprintf(f, " & %s", tex_probes(models[i].probes, cell, sizeof cell));
-    }
-    fputs(" \\\\\n\\midrule\n", f);
-    for (size_t p = 0; p < nn; p++) {
-        fprintf(f, "%s", lt_report_param_label(names[p], LT_LABEL_TEX, cell, sizeof cell));
-        for (size_t i = 0; i < n; i++) {
-            long c = col_of(&models[i], names[p]);
-            if (c < 0) {
-                fputs(" & ---", f);
-                continue;
-            }
-            quote_text(&t.q[i][c], 1, cell, sizeof cell);
-            fprintf(f, " & %s", cell);
-        }
-        fputs(" \\\\\n", f);
-    }
-    fputs("\\midrule\n$\\chi^2_\\mathrm{min}$ / dof", f);
-    for (size_t i = 0; i < n; i++)
-        fprintf(f, " & %.2f / %ld", models[i].chi2_min, models[i].dof);
-    fputs(" \\\\\n$\\Delta$AIC", f);
-    ROW(" & %+.2f", " &", aic)
-    fputs(" \\\\\n$\\Delta$BIC", f);
-    ROW(" & %+.2f", " &", bic)
-    if (have_z) {
-        fputs(" \\\\\n$\\ln Z$", f);
-        for (size_t i = 0; i < n; i++)
-            fprintf(f, " & $%.2f \\pm %.2f$", models[i].ln_z, models[i].ln_z_err);
-        fputs(" \\\\\n$\\ln B$", f);
-        ROW(" & %+.2f", " &", ln_z)
-    }
-#undef ROW
-    fputs(" \\\\\n\\bottomrule\n", f);
-    /* the footnotes as rows of the tabular, so that \input brings them along */
-    if (t.any_edge)
-        fprintf(f, "\\multicolumn{%zu}{l}{\\footnotesize $^\\dagger$ the posterior reaches a "
-                   "prior edge (density there $>10\\%%$ of its peak)} \\\\\n",
-                n + 1);
-    for (size_t i = 0; i < n; i++)
-        if (!models[i].converged)
-            fprintf(f, "\\multicolumn{%zu}{l}{\\footnotesize $^\\ddagger$ %s: not converged "
-                       "(step cap reached; smallest ESS %.0f)} \\\\\n",
-                    n + 1, tex_column(&models[i], t.many_probes, cell, sizeof cell),
-                    models[i].ess_min);
-    for (size_t i = 0; i < n; i++)
-        if (models[i].weighted)
-            fprintf(f, "\\multicolumn{%zu}{l}{\\footnotesize %s: importance-weighted draws "
-                       "(effective sample size %.0f)} \\\\\n",
-                    n + 1, tex_column(&models[i], t.many_probes, cell, sizeof cell),
-                    models[i].ess_min);
-    if (t.many_refs)
-        fprintf(f, "\\multicolumn{%zu}{l}{\\footnotesize $\\Delta$: to the first column of "
-                   "the same data} \\\\\n",
-                n + 1);
-    if (t.any_alone)
-        fprintf(f, "\\multicolumn{%zu}{l}{\\footnotesize blank $\\Delta$: fitted to other data "
-                   "than the first column} \\\\\n",
-                n + 1);
-    fputs("\\end{tabular}\n", f);
+    fputs("% lantern constraint table; needs \\usepackage{booktabs}\n", f);
+    tex_tabulars(f, models, n, names, nn, &t);
+    if ((rc = lt_file_close_commit(f, final, err)) ||
+        (rc = open_tmp(dir, "constraints_table.tex", &final, &f, err)))
+        goto done;
+    tex_float(f, models, n, names, nn, &t);
     if ((rc = lt_file_close_commit(f, final, err)))
         goto done;
 
