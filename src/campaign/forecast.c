@@ -379,13 +379,14 @@ int lt_forecast_write(const char *out, int force, const lt_scenario *sc,
     if (!rc && d >= 2) {
         double cov[4] = {f->cov[ix * d + ix], f->cov[ix * d + iy], f->cov[iy * d + ix],
                          f->cov[iy * d + iy]};
-        char name[128], title[256];
+        char name[128], title[256], model[96];
         snprintf(name, sizeof name, "ellipse_%s_%s", f->names[ix], f->names[iy]);
+        lt_report_model_label(spec->model->name, LT_LABEL_PLOT, model, sizeof model);
         if (f->has_w0wa)
-            snprintf(title, sizeof title, "%s, %s: FoM = %.3g", sc->name ? sc->name : "",
-                     spec->model->name, f->fom);
+            snprintf(title, sizeof title, "%s, %s: FoM = %.3g", sc->name ? sc->name : "", model,
+                     f->fom);
         else
-            snprintf(title, sizeof title, "%s, %s", sc->name ? sc->name : "", spec->model->name);
+            snprintf(title, sizeof title, "%s, %s", sc->name ? sc->name : "", model);
         rc = lt_report_write_ellipse(out, name, title, f->names[ix], f->names[iy],
                                      f->fiducial[ix], f->fiducial[iy], cov, err);
     }

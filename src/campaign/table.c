@@ -161,15 +161,17 @@ int lt_campaign_result_write_figures(const char *dir, const lt_campaign_result *
         }
         size_t dropped = g->dropped_failed + g->dropped_no_errors;
         size_t n = strlen(g->dataset) + strlen(g->model) + strlen(g->method);
-        char *name = malloc(n + 16), *title = malloc(n + 96);
+        char *name = malloc(n + 16), *title = malloc(n + 96), model[96];
+        lt_report_model_label(g->model, LT_LABEL_PLOT, model, sizeof model);
+        n += strlen(model);
         int rc = name && title ? LT_OK : lt_error_set(err, LT_ENOMEM, dir, 0, "out of memory");
         if (!rc) {
             snprintf(name, n + 16, "bias_%s_%s_%s", g->dataset, g->model, g->method);
             if (dropped > 0)
                 snprintf(title, n + 96, "%s, %s by %s: %d realizations (%d dropped)", g->dataset,
-                         g->model, g->method, (int)g->used, (int)dropped);
+                         model, g->method, (int)g->used, (int)dropped);
             else
-                snprintf(title, n + 96, "%s, %s by %s: %d realizations", g->dataset, g->model,
+                snprintf(title, n + 96, "%s, %s by %s: %d realizations", g->dataset, model,
                          g->method, (int)g->used);
             rc = lt_report_write_bias_figure(dir, name, title, panels, np, err);
         }

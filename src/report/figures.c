@@ -993,12 +993,12 @@ static void draw_bias(const void *ctx)
         pllsty(2);
         plline(81, gx, gy);
         pllsty(1);
-        plmtex("b", 3.0, 0.5, 0.5, "pull (estimate - truth) / #gs");
+        plmtex("b", 3.0, 0.5, 0.5, "pull (estimate − truth) / σ");
         if (k == 0)
             plmtex("l", 3.5, 0.5, 0.5, "realizations");
-        char t[128];
-        snprintf(t, sizeof t, "%s: mean %.2f, width %.2f", pk_param_label(p->name, lab, sizeof lab), p->pull_mean,
-                 p->pull_width);
+        char t[160], mean[32];
+        snprintf(t, sizeof t, "%s: mean %s, width %.2f", pk_param_label(p->name, lab, sizeof lab),
+                 pk_number(p->pull_mean, 2, mean, sizeof mean), p->pull_width);
         plmtex("t", 0.8, 0.5, 0.5, t);
     }
     /* bottom: coverage of the 68% and 95% intervals with their binomial errors */
@@ -1087,19 +1087,20 @@ static void draw_ellipse(const void *ctx)
         }
         plcol0(PK_SERIES);
         pllsty(k ? 2 : 1);
-        plwidth(2);
+        pk_width(1.2);
         plline(201, px, py);
-        plwidth(1);
+        pk_width(0.6);
         pllsty(1);
     }
     PLFLT fx = e->x, fy = e->y;
     plcol0(PK_INK);
-    plpoin(1, &fx, &fy, 5);
+    plstring(1, &fx, &fy, "×");
     plmtex("b", 3.2, 0.5, 0.5, pk_param_label(e->xname, lab, sizeof lab));
     plmtex("l", 4.5, 0.5, 0.5, pk_param_label(e->yname, lab, sizeof lab));
-    plmtex("t", 2.5, 0.5, 0.5, e->title);
+    pk_font(PK_PT_LABEL);
+    plmtex("t", 2.3, 0.5, 0.5, e->title);
     pk_font(PK_PT_TICK);
-    plmtex("t", 0.9, 0.5, 0.5, "Fisher forecast: 68% (solid) and 95% (dashed) regions, x: fiducial");
+    plmtex("t", 0.8, 0.5, 0.5, "Fisher: 68.3% (solid), 95.4% (dashed); ×: fiducial");
 }
 
 int lt_report_write_ellipse(const char *dir, const char *name, const char *title,

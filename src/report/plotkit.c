@@ -231,13 +231,23 @@ typedef struct {
     double lo[2], hi[2]; /* the window */
 } tick_fmt;
 
+const char *pk_number(double v, int decimals, char *buf, size_t size)
+{
+    char num[64];
+    /* no "-0.00": a value that rounds to zero has no sign */
+    if (fabs(v) < 0.5 * pow(10.0, -decimals))
+        v = 0.0;
+    snprintf(num, sizeof num, "%.*f", decimals, v);
+    snprintf(buf, size, "%s%s", num[0] == '-' ? "−" : "", num + (num[0] == '-'));
+    return buf;
+}
+
 /* Numbers with the minus sign U+2212 (a hyphen is shorter and sits lower;
  * typesetters and journals ask for the real sign). */
 static void tick_label(PLINT axis, PLFLT value, char *label, PLINT length, PLPointer data)
 {
     const tick_fmt *t = data;
     int a = axis == PL_Y_AXIS ? 1 : 0;
-    char num[64];
     double span = t->hi[a] - t->lo[a];
     if (t->inner && !t->log[a] &&
         (value - t->lo[a] < 0.08 * span || t->hi[a] - value < 0.08 * span)) {
@@ -245,16 +255,9 @@ static void tick_label(PLINT axis, PLFLT value, char *label, PLINT length, PLPoi
         return;
     }
     if (t->log[a])
-        snprintf(num, sizeof num, "%.10g", pow(10.0, value));
-    else {
-        int dec = t->decimals[a];
-        double v = fabs(value) < 0.5 * pow(10.0, -dec) ? 0.0 : value; /* no "-0.0" */
-        snprintf(num, sizeof num, "%.*f", dec, v);
-    }
-    if (num[0] == '-')
-        snprintf(label, (size_t)length, "−%s", num + 1);
+        snprintf(label, (size_t)length, "%.10g", pow(10.0, value));
     else
-        snprintf(label, (size_t)length, "%s", num);
+        pk_number(value, t->decimals[a], label, (size_t)length);
 }
 
 static int decimals_of(double step)

@@ -57,6 +57,9 @@ void pk_box(const char *xopt, double xstep, const char *yopt, double ystep);
  * into those of the next panel of a matrix. */
 void pk_box_inner(const char *xopt, double xstep, const char *yopt, double ystep);
 
+/* v with decimals decimals and a real minus sign (U+2212), into buf;
+ * returns buf. */
+const char *pk_number(double v, int decimals, char *buf, size_t size);
 /* A parameter's axis label, PLplot text, into buf; returns buf. */
 const char *pk_param_label(const char *name, char *buf, size_t size);
 

@@ -96,6 +96,31 @@ print("the 68%% region is centred at omega_m = %.3f (weighted 0.36, unweighted 0
 PY
 ); then pass "plot honours a CSV's weight column ($msg)"; else fail "plot honours a CSV's weight column ($msg)"; fi
 
+# a best fit on a prior edge is drawn whole: Pantheon with omega_m's prior
+# cut at 0.35, where the best fit (0.30 unbounded) then sits; the window is
+# widened so that the mark's glyph lies inside the frame (0.7 in = 50.4 pt
+# from the page's left edge in a --pair figure), where clipping would cut
+# it in half
+run "$LANTERN" sample --data "$P/lcparam_DS17f.txt" --columns z=zcmb,zhel=zhel,mag=mb,err=dmb \
+    --cov "$P/sys_DS17f.txt" --model lcdm --prior omega_m=uniform:0.35:1 --out "$E2E_TMP/edge" --quiet
+run "$LANTERN" plot "$E2E_TMP/edge" --params omega_m,omega_de --pair --truth omega_de=1.5 \
+    --out "$E2E_TMP/edge.pdf"
+if [ "$STATUS" -eq 0 ] && msg=$($PY - "$E2E_TMP/edge.pdf" "$E2E_TMP/edge/summary.json" 2>&1 <<'PY'
+import json, re, subprocess, sys
+best = json.load(open(sys.argv[2]))["params"]["omega_m"]["best"]
+assert abs(best - 0.35) < 0.01, best
+text = subprocess.run(["pdftotext", "-bbox", sys.argv[1], "-"], capture_output=True, text=True).stdout
+marks = [float(m.group(1)) for m in re.finditer(r'xMin="([0-9.]+)"[^>]*>\u00d7</word>', text)]
+assert marks, "no best-fit mark"
+assert min(marks) > 50.4, marks
+# the truth omega_de = 1.5, far above the draws, is in view: a tick at 1.4 or beyond
+ticks = [float(w.replace("\u2212", "-")) for w in re.findall(r'>([\u22120-9.]+)</word>', text)]
+assert max(ticks) >= 1.4, ticks
+print("best fit at omega_m = %.3f, its mark from %.1f pt (frame at 50.4); ticks to %.1f" % (best, min(marks), max(ticks)))
+PY
+); then pass "marks at a prior edge and far truths are drawn whole, in view ($msg)"
+else fail "marks at a prior edge and far truths are drawn whole, in view ($msg)"; fi
+
 # ---- refusals ----
 run "$LANTERN" plot "$E2E_TMP/pan" --params omega_m,w0 --out "$E2E_TMP/x.pdf"
 expect_error "a parameter no source has is refused, listing what there is" 2 "w0: no set of draws has this parameter \(the first has omega_m"
