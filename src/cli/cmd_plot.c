@@ -76,9 +76,12 @@ int cli_plot(int argc, char **argv)
     lt_run_model models[LT_PLOT_MAX_SERIES];
     size_t nm = 0;
     for (size_t i = 0; i < nrange; i++) {
-        char *s = copies[ncopies++] = strdup(ranges_in[i]), *v, *colon;
-        if (!s || split_eq(s, &v) || !(colon = strchr(v, ':')) || (*colon = '\0', 0) ||
-            lt_parse_double(v, &ranges[i].lo) || lt_parse_double(colon + 1, &ranges[i].hi)) {
+        char *s = copies[ncopies++] = strdup(ranges_in[i]), *v = NULL;
+        char *colon = s && !split_eq(s, &v) ? strchr(v, ':') : NULL;
+        if (colon)
+            *colon = '\0'; /* LO and HI apart */
+        if (!colon || lt_parse_double(v, &ranges[i].lo) ||
+            lt_parse_double(colon + 1, &ranges[i].hi)) {
             status = cli_usage_error("--range", "'%s' is not NAME=LO:HI", ranges_in[i]);
             goto done;
         }
