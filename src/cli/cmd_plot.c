@@ -86,6 +86,11 @@ int cli_plot(int argc, char **argv)
             goto done;
         }
         ranges[i].name = s;
+        for (size_t k = 0; k < i; k++)
+            if (!strcmp(ranges[k].name, s)) {
+                status = cli_usage_error("--range", "%s is given twice", s);
+                goto done;
+            }
     }
     for (size_t i = 0; i < naxis; i++) {
         char *s = copies[ncopies++] = strdup(axes_in[i]), *v;
@@ -110,7 +115,11 @@ int cli_plot(int argc, char **argv)
                 status = cli_usage_error("--params", "at most %d parameters", LT_MAX_FREE);
                 goto done;
             }
-            names[o.nparams++] = lt_text_trim(t);
+            names[o.nparams] = lt_text_trim(t);
+            if (!*names[o.nparams++]) {
+                status = cli_usage_error("--params", "'%s' has an empty name", params);
+                goto done;
+            }
         }
         o.params = names;
     }

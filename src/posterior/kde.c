@@ -66,8 +66,8 @@ static void bin_reflected(const kde_grid *k, double *b, double x, double y, doub
             bin_point(k, b, xs[a], ys[c], w);
 }
 
-/* The core: mean-free covariance cov (d x d, row-major) of the usable
- * draws has been found; bandwidth factor f. */
+/* The core: the weighted mean and covariance cov (d x d, row-major) of the
+ * usable draws have been found; bandwidth factor f. */
 static int kde_core(const double *x, const double *y, const double *w, size_t n,
                     const double *cov, double f, kde_grid *k, double *g, double *outside,
                     lt_error *err)
@@ -75,14 +75,16 @@ static int kde_core(const double *x, const double *y, const double *w, size_t n,
     double h[4] = {0, 0, 0, 0}, inv[4] = {0, 0, 0, 0}, det;
     for (int i = 0; i < k->d * k->d; i++)
         h[i] = f * f * cov[i];
+    if (k->d == 1 && h[0] > 0 && h[0] < k->step[0] * k->step[0])
+        h[0] = k->step[0] * k->step[0]; /* as below: no kernel narrower than a cell */
     if (k->d == 2 && cov[0] > 0 && cov[3] > 0) {
         /* a kernel narrower than a cell across (two columns nearly
          * or exactly tied, as Omega_DE = 1 - Omega_m of a flat model) would
          * fall between the grid's points and break the band into islands:
          * widen it to a cell (its sd) in its narrowest direction, in cell units */
-        double a = h[0] / (k->step[0] * k->step[0]), c = h[3] / (k->step[1] * k->step[1]);
-        double b = h[1] / (k->step[0] * k->step[1]);
-        double lmin = 0.5 * (a + c) - sqrt(0.25 * (a - c) * (a - c) + b * b);
+        double hx = h[0] / (k->step[0] * k->step[0]), hy = h[3] / (k->step[1] * k->step[1]);
+        double hxy = h[1] / (k->step[0] * k->step[1]);
+        double lmin = 0.5 * (hx + hy) - sqrt(0.25 * (hx - hy) * (hx - hy) + hxy * hxy);
         if (lmin < 1.0) {
             h[0] += (1.0 - lmin) * k->step[0] * k->step[0];
             h[3] += (1.0 - lmin) * k->step[1] * k->step[1];
@@ -216,8 +218,11 @@ int lt_post_kde2d(const double *x, const double *y, const double *w, size_t n,
                   const lt_kde_opts *o, double x0, double x1, double y0, double y1, int nx,
                   int ny, double *g, double *outside, lt_error *err)
 {
-    if (!(x1 > x0) || !(y1 > y0) || nx < 1 || ny < 1 || !isfinite(x1 - x0) || !isfinite(y1 - y0))
-        return lt_error_set(err, LT_EINPUT, NULL, 0, "a density needs a window of positive size");
+    if (!(x1 > x0) || !(y1 > y0) || nx < 1 || ny < 1 || nx > LT_KDE_MAX_CELLS ||
+        ny > LT_KDE_MAX_CELLS || !isfinite(x1 - x0) || !isfinite(y1 - y0))
+        return lt_error_set(err, LT_EINPUT, NULL, 0,
+                            "a density needs a window of positive size and 1 to %d cells a side",
+                            LT_KDE_MAX_CELLS);
     double cov[4], neff;
     int rc = moments(x, y, w, n, 2, cov, &neff, err);
     if (rc)
@@ -232,8 +237,10 @@ int lt_post_kde2d(const double *x, const double *y, const double *w, size_t n,
 int lt_post_kde1d(const double *x, const double *w, size_t n, const lt_kde_opts *o, double x0,
                   double x1, int nx, double *g, double *outside, lt_error *err)
 {
-    if (!(x1 > x0) || nx < 1 || !isfinite(x1 - x0))
-        return lt_error_set(err, LT_EINPUT, NULL, 0, "a density needs a window of positive size");
+    if (!(x1 > x0) || nx < 1 || nx > LT_KDE_MAX_CELLS || !isfinite(x1 - x0))
+        return lt_error_set(err, LT_EINPUT, NULL, 0,
+                            "a density needs a window of positive size and 1 to %d cells",
+                            LT_KDE_MAX_CELLS);
     double cov[1], neff;
     int rc = moments(x, NULL, w, n, 1, cov, &neff, err);
     if (rc)

@@ -25,8 +25,13 @@ static double line_in(double width) { return 1.3 * legend_pt(width) / 72.0; }
 static double text_in(const char *s, double width)
 {
     size_t n = 0;
-    for (; *s; s++) /* characters, not UTF-8 bytes; PLplot's #d and #u take none */
-        n += ((unsigned char)*s & 0xC0) != 0x80;
+    for (; *s; s++) {
+        if (s[0] == '#' && (s[1] == 'd' || s[1] == 'u')) { /* PLplot's sub/superscript: no width */
+            s++;
+            continue;
+        }
+        n += ((unsigned char)*s & 0xC0) != 0x80; /* characters, not UTF-8 bytes */
+    }
     return (double)n * 0.6 * legend_pt(width) / 72.0;
 }
 
@@ -189,6 +194,31 @@ static void group_legend(const model_group *g, double x, double y, const char *c
     }
 }
 
+/* Every member's regions of columns xn, yn in the current window: all the
+ * fills first, the widest underneath (so that the narrow ones, the
+ * combinations of most probes, lie on top), then all the edges, so that
+ * each stays in view. */
+static void group_regions(const model_group *g, const char *xn, const char *yn)
+{
+    size_t order[MAX_OVERLAY];
+    double area[MAX_OVERLAY];
+    for (size_t j = 0; j < g->k; j++) {
+        long jx = pk_column(MEMBER(g, j), xn), jy = pk_column(MEMBER(g, j), yn);
+        area[j] = jx >= 0 && jy >= 0 ? pk_region_area(MEMBER(g, j), (size_t)jx, (size_t)jy) : 0;
+        size_t at = j;
+        for (; at > 0 && area[order[at - 1]] < area[j]; at--)
+            order[at] = order[at - 1];
+        order[at] = j;
+    }
+    for (unsigned part = PK_PART_FILL; part <= PK_PART_LINES; part <<= 1)
+        for (size_t o = 0; o < g->k; o++) {
+            const lt_run_model *mj = MEMBER(g, order[o]);
+            long jx = pk_column(mj, xn), jy = pk_column(mj, yn);
+            if (jx >= 0 && jy >= 0)
+                pk_regions(mj, (size_t)jx, (size_t)jy, member_colour(g, order[o]), part);
+        }
+}
+
 /* ---- the posterior matrix ---- */
 
 /* The parameters of the members, in first-seen order (the same model may
@@ -312,16 +342,8 @@ static void draw_posterior(const void *p)
                 plwind(lo[c], hi[c], 0, 1.08);
             else
                 plwind(lo[c], hi[c], lo[r], hi[r]);
-            /* every member's fills first, widest first, then every edge,
-             * so that each edge stays in view */
-            for (unsigned part = PK_PART_FILL; r != c && part <= PK_PART_LINES; part <<= 1)
-                for (size_t j = 0; j < g->k; j++) {
-                    const lt_run_model *mj = MEMBER(g, j);
-                    long cx = pk_column(mj, names[c]), cy = pk_column(mj, names[r]);
-                    if (cx >= 0 && cy >= 0)
-                        pk_regions(mj, (size_t)cx, (size_t)cy, lo[c], hi[c], lo[r], hi[r],
-                                   member_colour(g, j), part);
-                }
+            if (r != c)
+                group_regions(g, names[c], names[r]);
             for (size_t j = 0; j < g->k; j++) {
                 const lt_run_model *mj = MEMBER(g, j);
                 long cx = pk_column(mj, names[c]), cy = pk_column(mj, names[r]);
@@ -331,7 +353,7 @@ static void draw_posterior(const void *p)
                 /* the best fit in ink for one model, in its colour among several */
                 plcol0(g->k > 1 ? col : PK_INK);
                 if (r == c) {
-                    pk_marginal(mj, (size_t)cx, lo[c], hi[c], col);
+                    pk_marginal(mj, (size_t)cx, col);
                     PLFLT bx[2] = {mj->best[cx], mj->best[cx]}, by[2] = {0, 1.08};
                     plcol0(g->k > 1 ? col : PK_INK);
                     pllsty(2);
@@ -482,30 +504,7 @@ static void draw_plane(const void *p)
     /* the legend above the frame, where no region can lie under it */
     pk_viewport(0.62, W - 0.15, 0.48, H - 0.06 - lh);
     plwind(x0, x1, y0, y1);
-    /* the widest regions first, so that the narrow ones (the combinations
-     * of most probes) are drawn over them, not under */
-    size_t order[MAX_OVERLAY];
-    double area[MAX_OVERLAY];
-    for (size_t j = 0; j < g->k; j++) {
-        const lt_run_model *mj = MEMBER(g, j);
-        long jx = pk_column(mj, xn), jy = pk_column(mj, yn);
-        area[j] = jx >= 0 && jy >= 0
-                      ? pk_region_area(mj, (size_t)jx, (size_t)jy, x0, x1, y0, y1)
-                      : 0;
-        size_t at = j;
-        for (; at > 0 && area[order[at - 1]] < area[j]; at--)
-            order[at] = order[at - 1];
-        order[at] = j;
-    }
-    for (unsigned part = PK_PART_FILL; part <= PK_PART_LINES; part <<= 1)
-        for (size_t o = 0; o < g->k; o++) {
-            size_t j = order[o];
-            const lt_run_model *mj = MEMBER(g, j);
-            long jx = pk_column(mj, xn), jy = pk_column(mj, yn);
-            if (jx < 0 || jy < 0)
-                continue;
-            pk_regions(mj, (size_t)jx, (size_t)jy, x0, x1, y0, y1, member_colour(g, j), part);
-        }
+    group_regions(g, xn, yn);
     /* the cosmological constant, and for curved models flatness and
      * q0 = 0 (for w = -1: q0 = Omega_m / 2 - Omega_DE) */
     plcol0(PK_BAR);
@@ -828,26 +827,7 @@ static void draw_pair(const void *p)
     double H = g->opts->height_in > 0 ? g->opts->height_in : pair_height(g, nnote);
     pk_viewport(0.7, W - 0.15, 0.48, H - 0.06 - lh);
     plwind(x0, x1, y0, y1);
-    size_t order[MAX_OVERLAY];
-    double area[MAX_OVERLAY];
-    for (size_t j = 0; j < g->k; j++) {
-        long jx = pk_column(MEMBER(g, j), xn), jy = pk_column(MEMBER(g, j), yn);
-        area[j] = jx >= 0 && jy >= 0 ? pk_region_area(MEMBER(g, j), (size_t)jx, (size_t)jy, x0,
-                                                      x1, y0, y1)
-                                     : 0;
-        size_t at = j;
-        for (; at > 0 && area[order[at - 1]] < area[j]; at--)
-            order[at] = order[at - 1];
-        order[at] = j;
-    }
-    for (unsigned part = PK_PART_FILL; part <= PK_PART_LINES; part <<= 1)
-        for (size_t o = 0; o < g->k; o++) {
-            const lt_run_model *mj = MEMBER(g, order[o]);
-            long jx = pk_column(mj, xn), jy = pk_column(mj, yn);
-            if (jx >= 0 && jy >= 0)
-                pk_regions(mj, (size_t)jx, (size_t)jy, x0, x1, y0, y1, member_colour(g, order[o]),
-                           part);
-        }
+    group_regions(g, xn, yn);
     for (size_t j = 0; show_best(g) && j < g->k; j++) {
         const lt_run_model *mj = MEMBER(g, j);
         long jx = pk_column(mj, xn), jy = pk_column(mj, yn);
@@ -933,6 +913,15 @@ int lt_report_plot(const char *path, const lt_run_model *models, size_t n,
     if (o->pair && d != 2)
         return lt_error_set(err, LT_EINPUT, path, 0,
                             "a pair figure draws two parameters (%zu given)", d);
+    /* a column that cannot be smoothed would leave its panels blank */
+    for (size_t j = 0; j < n; j++)
+        for (size_t i = 0; i < d; i++) {
+            long c = pk_column(&models[j], names[i]);
+            const char *why;
+            if (c >= 0 && !pk_can_smooth(&models[j], (size_t)c, &why))
+                return lt_error_set(err, LT_EINPUT, models[j].label, 0,
+                                    "%s cannot be drawn: %s", names[i], why);
+        }
     const char *note[4];
     double h = o->height_in > 0 ? o->height_in
                : o->pair        ? pair_height(&g, marks_note(&g, note))

@@ -56,7 +56,15 @@ static const struct {
  * of code); PLplot text takes '#' as an escape, doubled to print it. */
 static size_t put_plain(const char *s, lt_label_form f, char *buf, size_t size, size_t k)
 {
-    for (; *s && k + 8 < size; s++) {
+    for (; *s && k + 24 < size; s++) {
+        const char *word = *s == '\\' ? "\\textbackslash{}"
+                           : *s == '^'  ? "\\textasciicircum{}"
+                           : *s == '~'  ? "\\textasciitilde{}"
+                                        : NULL;
+        if (f == LT_LABEL_TEX && word) {
+            k += (size_t)snprintf(buf + k, size - k, "%s", word);
+            continue;
+        }
         if (f == LT_LABEL_TEX && strchr("_#%&${}", *s))
             buf[k++] = '\\';
         else if (f == LT_LABEL_PLOT && *s == '#')

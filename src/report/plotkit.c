@@ -402,93 +402,123 @@ static double *column(const lt_run_model *m, size_t c)
     return x;
 }
 
-/* The density of columns cx, cy on the grid and its two levels. */
-static int density2d(const lt_run_model *m, size_t cx, size_t cy, double x0, double x1,
-                     double y0, double y1, double *g, double lev[2])
+/* The window a model's density is evaluated on: its own columns' span
+ * (pk_range), whatever window the figure shows. A figure that overlays a
+ * tight posterior with a broad one, or whose range the user has narrowed,
+ * then still resolves each region and counts all of its mass. */
+typedef struct {
+    double x0, x1, y0, y1;
+    double g[PK_GRID * PK_GRID];
+    double lev[2]; /* the 68.27% and 95.45% levels (0: the grid cannot hold it) */
+} density_grid;
+
+/* The density of columns cx, cy of m on its own window, with its levels. */
+static int density2d(const lt_run_model *m, size_t cx, size_t cy, density_grid *d)
 {
     size_t n = m->nchains * m->ndraws, cols[2] = {cx, cy};
+    pk_range(m, cx, 0, &d->x0, &d->x1);
+    pk_range(m, cy, 0, &d->y0, &d->y1);
     double *x = column(m, cx), *y = column(m, cy), edge[4], outside = 0;
     lt_kde_opts o;
     kde_opts(m, cols, 2, edge, &o);
     lt_error err;
     int rc = !x || !y ? -1
-                      : lt_post_kde2d(x, y, m->weights, n, &o, x0, x1, y0, y1, PK_GRID, PK_GRID,
-                                      g, &outside, &err);
+                      : lt_post_kde2d(x, y, m->weights, n, &o, d->x0, d->x1, d->y0, d->y1,
+                                      PK_GRID, PK_GRID, d->g, &outside, &err);
     free(x);
     free(y);
     if (rc)
         return -1;
     const double p[2] = {LT_POST_MASS_1SIGMA, LT_POST_MASS_2SIGMA};
-    lt_post_hpd_levels(g, PK_GRID * PK_GRID, (x1 - x0) / PK_GRID * (y1 - y0) / PK_GRID, outside,
-                       p, 2, lev);
+    lt_post_hpd_levels(d->g, PK_GRID * PK_GRID,
+                       (d->x1 - d->x0) / PK_GRID * (d->y1 - d->y0) / PK_GRID, outside, p, 2,
+                       d->lev);
     return 0;
 }
 
-double pk_region_area(const lt_run_model *m, size_t cx, size_t cy, double x0, double x1,
-                      double y0, double y1)
+double pk_region_area(const lt_run_model *m, size_t cx, size_t cy)
 {
-    double *g = malloc(PK_GRID * PK_GRID * sizeof *g), lev[2], area = 0;
-    if (g && !density2d(m, cx, cy, x0, x1, y0, y1, g, lev))
+    density_grid *d = malloc(sizeof *d);
+    double area = 0;
+    if (d && !density2d(m, cx, cy, d) && d->lev[1] > 0) {
         for (int i = 0; i < PK_GRID * PK_GRID; i++)
-            area += lev[1] > 0 && g[i] >= lev[1];
-    free(g);
+            area += d->g[i] >= d->lev[1];
+        area *= (d->x1 - d->x0) / PK_GRID * (d->y1 - d->y0) / PK_GRID;
+    }
+    free(d);
     return area;
 }
 
-int pk_regions(const lt_run_model *m, size_t cx, size_t cy, double x0, double x1, double y0,
-               double y1, int colour, unsigned parts)
+int pk_regions(const lt_run_model *m, size_t cx, size_t cy, int colour, unsigned parts)
 {
-    double *g = malloc(PK_GRID * PK_GRID * sizeof *g), lev[2];
+    density_grid *d = malloc(sizeof *d);
     PLFLT **f = NULL;
-    if (!g || density2d(m, cx, cy, x0, x1, y0, y1, g, lev)) {
-        free(g);
+    if (!d || density2d(m, cx, cy, d)) {
+        free(d);
         return -1;
     }
     plAlloc2dGrid(&f, PK_GRID, PK_GRID);
     PLFLT xg[PK_GRID], yg[PK_GRID], top = 0;
     for (int i = 0; i < PK_GRID; i++) {
-        xg[i] = x0 + (x1 - x0) * (i + 0.5) / PK_GRID;
-        yg[i] = y0 + (y1 - y0) * (i + 0.5) / PK_GRID;
+        xg[i] = d->x0 + (d->x1 - d->x0) * (i + 0.5) / PK_GRID;
+        yg[i] = d->y0 + (d->y1 - d->y0) * (i + 0.5) / PK_GRID;
         for (int k = 0; k < PK_GRID; k++) {
-            f[i][k] = g[i * PK_GRID + k];
+            f[i][k] = d->g[i * PK_GRID + k];
             top = fmax(top, f[i][k]);
         }
     }
     PLcGrid cg = {xg, yg, NULL, PK_GRID, PK_GRID, 0};
-    /* opaque tints, not translucency: PLplot fills cell by cell, and
-     * translucent cells would show every seam */
-    for (int k = 0; (parts & PK_PART_FILL) && k < 2 && lev[1] > 0 && top > lev[1]; k++) {
-        double t = k ? 0.55 : 0.25; /* the share of the colour against white */
+    /* the 95.45% region, then the 68.27% one over it, each drawn if the
+     * grid holds it; opaque tints, not translucency: PLplot fills cell by
+     * cell, and translucent cells would show every seam */
+    for (int k = 1; (parts & PK_PART_FILL) && k >= 0; k--) {
+        if (!(d->lev[k] > 0 && top > d->lev[k]))
+            continue;
+        double t = k == 0 ? 0.55 : 0.25; /* the share of the colour against white */
         int rgb[3];
         pk_rgb(colour, rgb);
         for (int c = 0; c < 3; c++)
             rgb[c] = (int)lround(255 - t * (255 - rgb[c]));
         plscol0(PK_FILL, rgb[0], rgb[1], rgb[2]);
-        if (k == 1 && !(lev[0] > 0))
-            break;
-        plshade((PLFLT_MATRIX)f, PK_GRID, PK_GRID, NULL, x0, x1, y0, y1, k ? lev[0] : lev[1],
+        plshade((PLFLT_MATRIX)f, PK_GRID, PK_GRID, NULL, d->x0, d->x1, d->y0, d->y1, d->lev[k],
                 top + 1, 0, PK_FILL, 0, 0, 0, 0, 0, plfill, 1, pltr1, &cg);
     }
     if (parts & PK_PART_LINES) {
         plcol0(colour);
-        PLFLT l95[1] = {lev[1]}, l68[1] = {lev[0]};
-        pk_width(0.7);
-        if (lev[1] > 0)
-            plcont((PLFLT_MATRIX)f, PK_GRID, PK_GRID, 1, PK_GRID, 1, PK_GRID, l95, 1, pltr1, &cg);
-        pk_width(1.2);
-        if (lev[0] > 0)
-            plcont((PLFLT_MATRIX)f, PK_GRID, PK_GRID, 1, PK_GRID, 1, PK_GRID, l68, 1, pltr1, &cg);
+        for (int k = 1; k >= 0; k--) {
+            PLFLT lev[1] = {d->lev[k]};
+            pk_width(k == 0 ? 1.2 : 0.7);
+            if (d->lev[k] > 0)
+                plcont((PLFLT_MATRIX)f, PK_GRID, PK_GRID, 1, PK_GRID, 1, PK_GRID, lev, 1, pltr1,
+                       &cg);
+        }
         pk_width(0.6);
     }
     plFree2dGrid(f, PK_GRID, PK_GRID);
-    free(g);
+    free(d);
     return 0;
 }
 
-int pk_marginal(const lt_run_model *m, size_t c, double x0, double x1, int colour)
+int pk_can_smooth(const lt_run_model *m, size_t c, const char **why)
+{
+    size_t n = m->nchains * m->ndraws, nc = m->nparams + m->nderived, used = 0;
+    double lo = INFINITY, hi = -INFINITY;
+    for (size_t i = 0; i < n; i++) {
+        double w = m->weights ? m->weights[i] : 1.0, v = m->draws[i * nc + c];
+        if (!(w > 0) || !isfinite(w) || !isfinite(v))
+            continue;
+        used++;
+        lo = fmin(lo, v), hi = fmax(hi, v);
+    }
+    *why = used < 2 ? "fewer than two draws with weight" : !(hi > lo) ? "one value in every draw" : NULL;
+    return *why == NULL;
+}
+
+int pk_marginal(const lt_run_model *m, size_t c, int colour)
 {
     size_t n = m->nchains * m->ndraws;
-    double *x = column(m, c), g[PK_LINE], edge[2];
+    double *x = column(m, c), g[PK_LINE], edge[2], x0, x1;
+    pk_range(m, c, 0, &x0, &x1);
     lt_kde_opts o;
     kde_opts(m, &c, 1, edge, &o);
     lt_error err;

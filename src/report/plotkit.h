@@ -2,7 +2,7 @@
  * The figures' drawing kit (internal to the report module): pages sized in
  * inches for a journal's columns, type in points, our palette, tick labels
  * with real minus signs, and smoothed posterior densities drawn as filled
- * regions and curves. figures.c and plotcmd.c draw with it.
+ * regions and curves. figures.c draws with it.
  *
  * PLplot keeps global state: a figure is drawn from one thread, opened and
  * closed by pk_write, one at a time (DESIGN.md).
@@ -71,18 +71,23 @@ const char *pk_param_label(const char *name, char *buf, size_t size);
 #define PK_GRID 100
 #define PK_LINE 240
 
-/* Filled regions of 68.27% and 95.45% of the mass of columns cx, cy of m
- * in the current window [x0, x1] x [y0, y1]: PART_FILL fills them in two
- * tints of colour, PART_LINES draws their edges. Returns 0, or -1 if the
- * density could not be formed (too few draws). */
+/* Filled regions of 68.27% and 95.45% of the mass of columns cx, cy of m,
+ * drawn in the current window: PART_FILL fills them in two tints of
+ * colour, PART_LINES draws their edges. The density is evaluated on m's
+ * own span of the two columns (pk_range), not on the window, so that a
+ * tight posterior beside a broad one is resolved and a narrowed window
+ * still counts all of the mass. Returns 0, or -1 if the density could not
+ * be formed (pk_can_smooth says why). */
 enum { PK_PART_FILL = 1, PK_PART_LINES = 2 };
-int pk_regions(const lt_run_model *m, size_t cx, size_t cy, double x0, double x1, double y0,
-               double y1, int colour, unsigned parts);
-/* The area of the 95.45% region (in window units), to layer several. */
-double pk_region_area(const lt_run_model *m, size_t cx, size_t cy, double x0, double x1,
-                      double y0, double y1);
-/* The 1-D marginal of column c on [x0, x1], scaled to peak 1. */
-int pk_marginal(const lt_run_model *m, size_t c, double x0, double x1, int colour);
+int pk_regions(const lt_run_model *m, size_t cx, size_t cy, int colour, unsigned parts);
+/* The area of the 95.45% region, in the columns' units, to layer several
+ * widest first. */
+double pk_region_area(const lt_run_model *m, size_t cx, size_t cy);
+/* The 1-D marginal of column c, on m's own span, scaled to peak 1. */
+int pk_marginal(const lt_run_model *m, size_t c, int colour);
+/* Whether column c of m can be smoothed: two draws with weight and more
+ * than one value; otherwise 0 and *why says what is missing. */
+int pk_can_smooth(const lt_run_model *m, size_t c, const char **why);
 
 /* A plotting range for column c of m: the 0.5% to 99.5% span of the draws
  * (as weighted, unless as_sampled), widened by 15%, clipped to the prior

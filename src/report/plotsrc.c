@@ -121,7 +121,8 @@ int lt_report_plot_sources(const char *const *src, size_t nsrc, const char *mode
         }
         const char *folder = dir ? dir : p;
         lt_run_model *m;
-        if (is_dir(folder) && exists(folder, "chains.csv") && exists(folder, "summary.json")) {
+        if (is_dir(folder) && (exists(folder, "chains.csv") || exists(folder, "chains.fits")) &&
+            exists(folder, "summary.json")) {
             if (!(m = slot(p, out, max, n, err)))
                 rc = err->code;
             else if ((rc = lt_run_model_load(folder, m, err)))

@@ -606,6 +606,18 @@ static int table_text(const char *path, lt_run_model *m, lt_error *err)
                 h++;
             csv = strchr(h, ',') != NULL;
             ncol = lt_line_split(h, csv, fields, TABLE_MAX_COLS);
+            long numbers = 0;
+            for (long i = 0; i < ncol; i++) {
+                double v;
+                numbers += !lt_parse_double(fields[i], &v) || !strcasecmp(fields[i], "nan");
+            }
+            if (ncol > 0 && numbers == ncol) { /* numpy's savetxt writes no header */
+                rc = lt_error_set(err, LT_EINPUT, path, it.line,
+                                  "the first line holds numbers, not column names: a table of "
+                                  "draws needs a line of names first (parameter names, and "
+                                  "weight for weights)");
+                break;
+            }
             if (ncol < 0) {
                 rc = ncol == LT_SPLIT_TOO_MANY
                          ? lt_error_set(err, LT_EINPUT, path, it.line, "more than %d columns",
@@ -737,7 +749,10 @@ static int table_fits(const char *path, lt_run_model *m, lt_error *err)
         for (long r = 0; r < nrows && !rc; r++) {
             if (k < nkeep)
                 m->draws[(size_t)r * nkeep + k] = col[r];
-            else if (!(rc = weight_check(path, 0, col[r], err)))
+            else if (!(isfinite(col[r]) && col[r] >= 0))
+                rc = lt_error_set(err, LT_EINPUT, path, 0,
+                                  "row %ld: weight %g is not a finite number >= 0", r + 1, col[r]);
+            else
                 m->weights[r] = col[r];
         }
     }

@@ -106,8 +106,11 @@ static void quote_text(const lt_quote *q, int tex, char *buf, size_t size)
 {
     char v[64], mi[64], pl[64];
     if (q->kind != LT_QUOTE_TWO_SIDED) {
-        /* limits: two significant digits (common practice, no source) */
-        snprintf(v, sizeof v, "%.2g", q->value);
+        /* limits: two significant digits (common practice, no source), in
+         * fixed notation: %.2g would write a limit of 148 as 1.5e+02 */
+        double a = fabs(q->value);
+        int dec = a > 0 && isfinite(a) ? 1 - (int)floor(log10(a)) : 0;
+        snprintf(v, sizeof v, "%.*f", dec < 0 ? 0 : dec, dec < 0 ? round(q->value / pow(10, -dec)) * pow(10, -dec) : q->value);
         const char *op = q->kind == LT_QUOTE_UPPER ? (tex ? "<" : "<") : (tex ? ">" : ">");
         /* in LaTeX a mark and a footnote say "95% limit": the cell stays narrow */
         snprintf(buf, size, tex ? "$%s %s^{\\S}$" : "%s %s (95%%)", op, v);
@@ -287,7 +290,7 @@ static void tex_note(FILE *f, size_t cols, size_t width, const char *text)
 /* A difference for the comparison rows, in math mode (a real minus). */
 #define TEX_DIFF(field)                                                                      \
     for (size_t i = first; i < last; i++)                                                    \
-        if (t->ref[i] >= 0)                                                                  \
+        if (t->ref[i] >= 0 && isfinite(models[i].field - models[t->ref[i]].field))           \
             fprintf(f, " & $%+.2f$", models[i].field - models[t->ref[i]].field);             \
         else                                                                                 \
             fputs(" &", f);
@@ -415,7 +418,10 @@ static void tex_float(FILE *f, const lt_run_model *models, size_t n, const char 
                       size_t nn, const table_facts *t)
 {
     const char *env = n <= 2 ? "table" : "table*";
-    size_t objects = models[0].n_data;
+    size_t objects = models[0].n_data; /* said only when every column has as many */
+    for (size_t i = 1; i < n; i++)
+        if (models[i].n_data != objects)
+            objects = 0;
     fprintf(f, "%% lantern constraint table as a float; needs \\usepackage{booktabs}\n"
                "\\begin{%s}\n\\centering\n",
             env);
@@ -474,7 +480,7 @@ int lt_report_write_tables(const char *dir, const lt_run_model *models, size_t n
      * alone on its data compares with nothing: its cells stay blank */
 #define ROW(fmt, blank, field)                                                               \
     for (size_t i = 0; i < n; i++)                                                           \
-        if (t.ref[i] >= 0)                                                                   \
+        if (t.ref[i] >= 0 && isfinite(models[i].field - models[t.ref[i]].field))             \
             fprintf(f, fmt, models[i].field - models[t.ref[i]].field);                       \
         else                                                                                 \
             fputs(blank, f);
@@ -489,7 +495,10 @@ int lt_report_write_tables(const char *dir, const lt_run_model *models, size_t n
     if (have_z) {
         fputs("\n| ln Z (nested sampling) |", f);
         for (size_t i = 0; i < n; i++)
-            fprintf(f, " %.2f ± %.2f |", models[i].ln_z, models[i].ln_z_err);
+            if (isfinite(models[i].ln_z))
+                fprintf(f, " %.2f ± %.2f |", models[i].ln_z, models[i].ln_z_err);
+            else
+                fputs(" |", f); /* a model sampled without its evidence */
         fprintf(f, "\n| ln B vs %s |", against);
         ROW(" %+.2f |", " |", ln_z)
     }

@@ -71,8 +71,10 @@ else
 fi
 # the PNG placed at its own size came out a column wide: its pHYs (300 dpi)
 # was read (at 72 dpi it would be 14 in and overfull)
-if grep -q "hubble.png" "$P/paper.log" && ! grep -q "Undefined" "$P/paper.log"; then
-    pass "the PNG's resolution places it at 3.4 in; every reference resolved"
+# pdfTeX logs each image with its size: <hubble.png, id=N, W pt x H pt>
+w=$(grep -o "<hubble.png, id=[0-9]*, [0-9.]*pt" "$P/paper.log" | head -1 | sed 's/.*, //; s/pt//')
+if [ -n "$w" ] && awk -v w="$w" 'BEGIN { exit !(w > 244 && w < 247) }' && ! grep -q "Undefined" "$P/paper.log"; then
+    pass "the PNG's resolution places it at 3.4 in ($w pt); every reference resolved"
 else
-    fail "the PNG's resolution places it at 3.4 in; every reference resolved"
+    fail "the PNG's resolution places it at 3.4 in (got '$w' pt); every reference resolved"
 fi

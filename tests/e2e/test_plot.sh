@@ -121,27 +121,92 @@ PY
 ); then pass "marks at a prior edge and far truths are drawn whole, in view ($msg)"
 else fail "marks at a prior edge and far truths are drawn whole, in view ($msg)"; fi
 
+# a tight posterior beside a broad one (widths 0.005 and 0.05): each
+# member's density is formed on its own span, so the tight one's 68.27%
+# region keeps its size; and the widest fill goes underneath, so the tight
+# one's fill shows. Its 68.27% region of a 2-D normal reaches
+# sqrt(2.30) sd from the mean in x (Delta chi2 = 2.30, chi-square table),
+# times sqrt(1 + f^2) for the kernel, f = n^(-1/6).
+$PY - "$E2E_TMP" <<'PY'
+import sys
+import numpy as np
+rng = np.random.default_rng(24)
+for name, sd in (("tight", 0.005), ("broad", 0.05)):
+    x = rng.normal(0.30, sd, 20000)
+    y = rng.normal(0.70, sd, 20000)
+    np.savetxt(sys.argv[1] + "/" + name + ".csv", np.c_[x, y], delimiter=",",
+               header="omega_m,omega_de", comments="")
+PY
+run "$LANTERN" plot "$E2E_TMP/tight.csv" "$E2E_TMP/broad.csv" --params omega_m,omega_de --pair \
+    --range omega_m=0.15:0.45 --range omega_de=0.55:0.85 --out "$E2E_TMP/tb.png"
+if [ "$STATUS" -eq 0 ] && msg=$($PY - "$E2E_TMP/tb.png" "$ROOT/tests/e2e" 2>&1 <<'PY'
+import math, sys
+sys.path.insert(0, sys.argv[2])
+import figures
+w, h, bpp, rows = figures.png_rows(sys.argv[1])
+tint = tuple(round(255 - 0.55 * (255 - c)) for c in (0, 114, 178))  # the first: blue, 68%
+# rows below the legend (above the frame, 1 in at most at this size), whose
+# swatch has the same tint
+count = [0] * w
+for row in rows[300:]:
+    for x in range(w):
+        count[x] += tuple(row[x * bpp:x * bpp + 3]) == tint
+# the fill's columns (anti-aliased edges of the other lines can take the
+# same colour here and there; the fill has long runs)
+xs = [x for x in range(w) if count[x] >= 10]
+assert xs, "the tight member's 68% fill is hidden"
+x0, x1 = 0.7 * 300, w - 0.15 * 300  # the frame, as plot draws a pair
+per = 0.30 / (x1 - x0)  # omega_m per pixel
+half = (max(xs) - min(xs) + 1) / 2 * per
+want = math.sqrt(2.30) * 0.005 * math.sqrt(1 + 20000 ** (-1 / 3))
+assert abs(half / want - 1) < 0.15, (half, want)
+print("the tight 68%% region reaches %.4f from its centre (expected %.4f)" % (half, want))
+PY
+); then pass "a tight posterior beside a broad one keeps its size and shows ($msg)"
+else fail "a tight posterior beside a broad one keeps its size and shows ($msg)"; fi
+
 # ---- refusals ----
-run "$LANTERN" plot "$E2E_TMP/pan" --params omega_m,w0 --out "$E2E_TMP/x.pdf"
-expect_error "a parameter no source has is refused, listing what there is" 2 "w0: no set of draws has this parameter \(the first has omega_m"
+# refused NAME PATTERN ARGS...: "lantern plot ARGS --out x.pdf" exits 2 with
+# a message matching PATTERN; table FILE LINE...: a table of draws
+refused() {
+    local name=$1 pattern=$2
+    shift 2
+    run "$LANTERN" plot "$@" --out "$E2E_TMP/x.pdf"
+    expect_error "$name" 2 "$pattern"
+}
+table() {
+    local f="$E2E_TMP/$1"
+    shift
+    printf '%s\n' "$@" >"$f"
+}
+refused "a parameter no source has is refused, listing what there is" \
+    "w0: no set of draws has this parameter \(the first has omega_m" "$E2E_TMP/pan" --params omega_m,w0
 run "$LANTERN" plot "$E2E_TMP/pan" --out "$E2E_TMP/x.svg"
 expect_error "a figure name without .pdf or .png is refused" 2 "x.svg: the figure's name must end in .pdf or .png"
-printf 'omega_m,weight\n0.3,1\n0.31\n' > "$E2E_TMP/short.csv"
-run "$LANTERN" plot "$E2E_TMP/short.csv" --out "$E2E_TMP/x.pdf"
-expect_error "a row with too few fields names its file and line" 2 "short.csv:3: 1 fields where the header has 2"
-printf 'omega_m,weight\n0.3,1\n0.31,-2\n' > "$E2E_TMP/negw.csv"
-run "$LANTERN" plot "$E2E_TMP/negw.csv" --out "$E2E_TMP/x.pdf"
-expect_error "a negative weight names its file and line" 2 "negw.csv:3: weight -2 is not a finite number >= 0"
-run "$LANTERN" plot "$E2E_TMP/pan" --range omega_m=0.4:0.2 --out "$E2E_TMP/x.pdf"
-expect_error "a range with LO >= HI is refused" 2 "omega_m: a range needs LO < HI"
-run "$LANTERN" plot "$E2E_TMP/pan" --params omega_m,omega_de,q0 --pair --out "$E2E_TMP/x.pdf"
-expect_error "--pair with three parameters is refused" 2 "a pair figure draws two parameters \(3 given\)"
-run "$LANTERN" plot "$E2E_TMP/pan" --label a --label b --out "$E2E_TMP/x.pdf"
-expect_error "more labels than sets of draws are refused" 2 "--label: 2 labels for 1 sets of draws"
-run "$LANTERN" plot "$D" --model wcdm --out "$E2E_TMP/x.pdf"
-expect_error "a run without the model asked for is refused" 2 "the run has no model wcdm"
-run "$LANTERN" plot "$E2E_TMP/nothere.csv" --out "$E2E_TMP/x.pdf"
-expect_error "a missing source is refused" 2 "nothere.csv: cannot open"
-run "$LANTERN" plot "$E2E_TMP/pan" --size tiny --out "$E2E_TMP/x.pdf"
-expect_error "an unknown size is refused" 2 "--size: 'tiny' is not single"
+table short.csv omega_m,weight 0.3,1 0.31
+refused "a row with too few fields names its file and line" \
+    "short.csv:3: 1 fields where the header has 2" "$E2E_TMP/short.csv"
+table negw.csv omega_m,weight 0.3,1 0.31,-2
+refused "a negative weight names its file and line" \
+    "negw.csv:3: weight -2 is not a finite number >= 0" "$E2E_TMP/negw.csv"
+refused "a range with LO >= HI is refused" "omega_m: a range needs LO < HI" \
+    "$E2E_TMP/pan" --range omega_m=0.4:0.2
+refused "a range given twice is refused" "--range: omega_m is given twice" \
+    "$E2E_TMP/pan" --range omega_m=0.1:0.5 --range omega_m=0.2:0.4
+refused "--pair with three parameters is refused" "a pair figure draws two parameters \(3 given\)" \
+    "$E2E_TMP/pan" --params omega_m,omega_de,q0 --pair
+refused "more labels than sets of draws are refused" "--label: 2 labels for 1 sets of draws" \
+    "$E2E_TMP/pan" --label a --label b
+refused "a run without the model asked for is refused" "the run has no model wcdm" "$D" --model wcdm
+refused "a missing source is refused" "nothere.csv: cannot open" "$E2E_TMP/nothere.csv"
+refused "an unknown size is refused" "--size: 'tiny' is not single" "$E2E_TMP/pan" --size tiny
+table const.csv omega_m,h0 0.3,70 0.31,70 0.32,70
+refused "a column of one value is refused, not drawn blank" \
+    "const: h0 cannot be drawn: one value in every draw" "$E2E_TMP/const.csv"
+table zero.csv omega_m,weight 0.3,0 0.31,0 0.32,0
+refused "weights all zero are refused" \
+    "zero: omega_m cannot be drawn: fewer than two draws with weight" "$E2E_TMP/zero.csv"
+table noheader.txt "0.3 0.7" "0.31 0.69" "0.29 0.71"
+refused "a table without a line of names is refused at its first line" \
+    "noheader.txt:1: the first line holds numbers, not column names" "$E2E_TMP/noheader.txt"
 [ ! -e "$E2E_TMP/x.pdf" ] && pass "no refusal leaves a figure" || fail "no refusal leaves a figure"

@@ -92,6 +92,25 @@ static void test_kde1d_weights(void **state)
     free(w);
 }
 
+/* A kernel far narrower than a cell (many draws of a tight normal on a wide
+ * window) is widened to one cell, so the estimate still integrates to 1. */
+static void test_kde1d_narrow(void **state)
+{
+    (void)state;
+    lt_rng r;
+    lt_rng_seed(&r, 12, 0);
+    double *x = malloc(N * sizeof *x), g[80], out, mass = 0;
+    for (size_t i = 0; i < N; i++)
+        x[i] = 1e-3 * lt_rng_normal(&r);
+    lt_error err;
+    assert_int_equal(lt_post_kde1d(x, NULL, N, NULL, -1, 1, 80, g, &out, &err), LT_OK);
+    for (int i = 0; i < 80; i++)
+        mass += g[i] * 0.025;
+    print_message("mass on the grid %.4f, outside %.4f\n", mass, out);
+    assert_true(fabs(mass - 1) < 0.01);
+    free(x);
+}
+
 static void test_kde1d_reflection(void **state)
 {
     (void)state;
@@ -277,6 +296,7 @@ int main(void)
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_kde1d_normal),
         cmocka_unit_test(test_kde1d_weights),
+        cmocka_unit_test(test_kde1d_narrow),
         cmocka_unit_test(test_kde1d_reflection),
         cmocka_unit_test(test_kde2d_correlated),
         cmocka_unit_test(test_hpd_levels_closed_form),

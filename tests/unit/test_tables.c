@@ -323,6 +323,43 @@ static void test_weighted_summaries(void **state)
     free(w);
 }
 
+/* A 95% limit above 100 in fixed notation with two significant digits:
+ * rd_h with prior U(50, 200) and a posterior piled on the upper edge (the
+ * density of draws 200 - |N(0, 20)|: its 5% quantile is 200 - 20 z(0.975)
+ * = 160.8, z from the normal table), quoted "> 160" and never "1.6e+02";
+ * and ln Z for one column only: the other's cells stay blank, no "nan". */
+static void test_limit_notation(void **state)
+{
+    (void)state;
+    enum { N = 4000 };
+    static double x[N];
+    lt_rng r;
+    lt_rng_seed(&r, 5, 0);
+    for (size_t i = 0; i < N; i++)
+        x[i] = 200.0 - fabs(20.0 * lt_rng_normal(&r));
+    static char *names[] = {"rd_h"};
+    lt_prior prior = {LT_PRIOR_UNIFORM, 50, 200};
+    lt_post_stats st[2];
+    double best[2];
+    lt_run_model m[2];
+    m[0] = one_model("lcdm-flat", names, &prior, x, N, &st[0], &best[0]);
+    m[1] = one_model("lcdm", names, &prior, x, N, &st[1], &best[1]);
+    m[0].ln_z = 10.0, m[0].ln_z_err = 0.1; /* m[1] has none: NaN */
+    m[1].ln_z = NAN, m[1].ln_z_err = NAN;
+    lt_error err;
+    assert_int_equal(lt_report_write_tables(dir, m, 2, &err), LT_OK);
+    char *md = read_out("constraints.md"), *tex = read_out("constraints.tex");
+    print_message("%s%s", md, tex);
+    assert_non_null(strstr(md, "| rd_h | > 160 (95%) | > 160 (95%) |"));
+    assert_non_null(strstr(tex, "$> 160^{\\S}$"));
+    assert_null(strstr(md, "e+0"));
+    assert_null(strstr(md, "nan"));
+    assert_null(strstr(tex, "nan"));
+    assert_non_null(strstr(md, "| ln Z (nested sampling) | 10.00 ± 0.10 | |"));
+    assert_non_null(strstr(tex, "$\\ln B$ & $+0.00$ & \\\\"));
+    free(md), free(tex);
+}
+
 static void test_flat_posterior_marked(void **state)
 {
     (void)state;
@@ -482,6 +519,7 @@ int main(void)
         cmocka_unit_test(test_quotes_and_files),
         cmocka_unit_test(test_edge_density),
         cmocka_unit_test(test_weighted_summaries),
+        cmocka_unit_test(test_limit_notation),
         cmocka_unit_test(test_flat_posterior_marked),
         cmocka_unit_test(test_unconverged_marked),
         cmocka_unit_test(test_other_data_blank),
