@@ -349,7 +349,8 @@ static void test_limit_notation(void **state)
     lt_error err;
     assert_int_equal(lt_report_write_tables(dir, m, 2, &err), LT_OK);
     char *md = read_out("constraints.md"), *tex = read_out("constraints.tex");
-    print_message("%s%s", md, tex);
+    /* (no print of the whole table: cmocka cuts a long message, and a cut
+     * line would run into its "OK" line, which tests/run.sh counts) */
     assert_non_null(strstr(md, "| rd_h | > 160 (95%) | > 160 (95%) |"));
     assert_non_null(strstr(tex, "$> 160^{\\S}$"));
     assert_null(strstr(md, "e+0"));
