@@ -10,7 +10,8 @@
 #   make fuzz       each libFuzzer target for FUZZ_SECONDS (default 30)
 #   make test-long  make test, then the longer checks (fuzzing, the 200-survey coverage,
 #                   300 simulated light-curve surveys)
-#   make install PREFIX=/usr/local
+#   make python     the Python package, build/python/lantern (PYTHONPATH=build/python)
+#   make install PREFIX=/usr/local   (the program, library, headers and Python package)
 #   make clean
 
 PREFIX ?= /usr/local
@@ -56,7 +57,23 @@ MPICC ?= mpicc
 # lantern-mpi: the same command line with its own entry (src/cli/mpi/).
 MPI_CLI_OBJ := $(filter-out $(BUILD)/src/cli/entry.o,$(CLI_OBJ)) $(BUILD)/src/cli/mpi/main_mpi.o
 
-.PHONY: mpi all deps check-pkgs demo test check bench install clean asan valgrind fuzz test-long tests-built
+# The Python package (make python): build/python/lantern/, the C extension
+# python/_lantern.c linked with the library, for Debian's /usr/bin/python3
+# (PYTHON; the tests and Debian's numpy use that one).
+PYTHON ?= /usr/bin/python3
+PY_INC := $(shell $(PYTHON) -c "import sysconfig; print(sysconfig.get_paths()['include'])" 2>/dev/null)
+PY_NP_INC := $(shell $(PYTHON) -c "import numpy; print(numpy.get_include())" 2>/dev/null)
+PY_EXT := $(shell $(PYTHON) -c "import sysconfig; print(sysconfig.get_config_var('EXT_SUFFIX'))" 2>/dev/null)
+# The library once more as position-independent code, for the extension
+# (a shared object; the programs keep their faster position-dependent build).
+PIC_OBJ := $(LIB_SRC:%.c=$(BUILD)/pic/%.o)
+PIC_LIB := $(BUILD)/pic/liblantern.a
+PY_DIR := $(BUILD)/python/lantern
+PY_SITE = $(PREFIX)/lib/python$(shell $(PYTHON) -c "import sys; print('%d.%d' % sys.version_info[:2])")/dist-packages
+PY_MOD := $(PY_DIR)/_lantern$(PY_EXT)
+PY_SRC := $(wildcard python/lantern/*.py)
+
+.PHONY: mpi all deps check-pkgs demo test check bench install clean asan valgrind fuzz test-long tests-built python
 all: $(LIB) $(BIN)
 
 # Refuse to build with missing libraries, with a message that says what to do.
@@ -131,7 +148,29 @@ test: deps
 
 tests-built: all $(MPI_BIN) $(TEST_BIN)
 
-check: tests-built
+python: $(PY_MOD) $(PY_SRC:python/lantern/%=$(PY_DIR)/%)
+
+$(BUILD)/pic/%.o: %.c $(HEADERS) | check-pkgs
+	@mkdir -p $(dir $@)
+	@$(if $(Q),echo "  CC -fPIC $<")
+	$(Q)$(CC) $(ALL_CFLAGS) -fPIC -c $< -o $@
+
+$(PIC_LIB): $(PIC_OBJ)
+	@rm -f $@
+	@$(if $(Q),echo "  AR      $@")
+	$(Q)ar rcs $@ $^
+
+$(PY_MOD): python/_lantern.c $(PIC_LIB) $(HEADERS) | check-pkgs
+	@mkdir -p $(dir $@)
+	@echo "  PY      $@"
+	@$(CC) -std=c17 -D_DEFAULT_SOURCE -shared -fPIC -fopenmp -Wall -Wextra -Werror $(CFLAGS) \
+	    -Iinclude -I$(PY_INC) -I$(PY_NP_INC) $(PKG_CFLAGS) -o $@ $< $(PIC_LIB) $(LDLIBS)
+
+$(PY_DIR)/%.py: python/lantern/%.py
+	@mkdir -p $(dir $@)
+	@cp $< $@
+
+check: tests-built python
 	@bash tests/run.sh
 
 # The sanitizer build lives in build/asan (objects, test programs, bin/),
@@ -143,7 +182,9 @@ SAN_ENV := LANTERN_BUILD=build/asan LANTERN_BIN=$(CURDIR)/build/asan/bin/lantern
 	ASAN_OPTIONS=detect_leaks=1:abort_on_error=0:strict_string_checks=1 \
 	LSAN_OPTIONS=suppressions=$(CURDIR)/tests/sanitizers/lsan.supp:print_suppressions=0 \
 	UBSAN_OPTIONS=print_stacktrace=1:halt_on_error=1
-asan: deps
+# (the Python tests load the plain build's package: Python itself is not
+# built with the sanitizers)
+asan: deps python
 	@$(MAKE) --no-print-directory BUILD=build/asan BINDIR=build/asan/bin CFLAGS="$(SAN_CFLAGS)" tests-built
 	@$(SAN_ENV) bash tests/run.sh
 
@@ -191,11 +232,15 @@ test-long: test
 bench: all $(BENCH_BIN)
 	@bash scripts/bench.sh
 
-install: all
+install: all python
 	install -d $(DESTDIR)$(PREFIX)/bin $(DESTDIR)$(PREFIX)/lib $(DESTDIR)$(PREFIX)/include/lantern
 	install -m 755 $(BIN) $(DESTDIR)$(PREFIX)/bin/lantern
 	install -m 644 $(LIB) $(DESTDIR)$(PREFIX)/lib/liblantern.a
 	install -m 644 include/lantern/*.h $(DESTDIR)$(PREFIX)/include/lantern/
+	@# the Python package where Debian's python3 looks for a prefix's packages
+	@# (/usr/local/lib/python3.X/dist-packages is on its path)
+	install -d $(DESTDIR)$(PY_SITE)/lantern
+	install -m 644 $(PY_DIR)/*.py $(PY_MOD) $(DESTDIR)$(PY_SITE)/lantern/
 
 clean:
 	rm -rf $(BUILD) bin

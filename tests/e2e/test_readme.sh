@@ -5,7 +5,8 @@
 # the README's own ```sh blocks, so that a changed command is what runs; each
 # block of output that follows one must be what the command prints, line for
 # line ('...' in the README stands for lines left out). The demo's table is
-# checked the same way in test_run.sh, which runs the demo anyway.
+# checked the same way in test_run.sh, which runs the demo anyway; the Python
+# example (README "Python") the same way here.
 # All three take well under a second: they run in make test.
 source "$(dirname "$0")/lib.sh"
 # as make demo and test_run.sh do: OpenBLAS's kernels fixed, so that the
@@ -123,6 +124,20 @@ got = r.stdout.splitlines()
 report(r.returncode == 0 and fit_stdout is not None and got[1:] == fit_stdout[1:] and
        got[0].endswith("data/pantheon2018/lcparam_DS17f.txt: 40 objects, observable mag"),
        "README: bin/lantern fit configs/pantheon2018.ini prints the fit shown", r.stderr)
+
+# The README's Python example (make python has built the package: make test
+# builds it first) runs from the repository and prints what the README shows.
+py_blocks = [(k, lines) for k, (lang, lines, _) in enumerate(blocks)
+             if lang == "sh" and any("PYTHONPATH=build/python" in l for l in lines)]
+report(len(py_blocks) >= 1, "the README shows a Python example")
+for k, lines in py_blocks:
+    script = "\n".join(l for l in lines if l.strip() != "make python")
+    r = subprocess.run(["bash", "-c", script], cwd=root, capture_output=True, text=True,
+                       timeout=300)
+    want = output_after(k)
+    report(r.returncode == 0 and want is not None and matches(want, r.stdout.splitlines()),
+           "README: the Python example runs and prints what the README shows",
+           r.stderr + "\n".join(r.stdout.splitlines()))
 
 # The comparison can fail: one digit changed, or a line missing, is told apart.
 want = ["a", "...", "c", "d"]

@@ -2,7 +2,8 @@
 """lantern distance against astropy.cosmology (Debian python3-astropy).
 
 For random parameters of all six models, with and without radiation,
-bin/lantern distance --format json must agree with astropy's
+bin/lantern distance --format json, and the same from Python's
+lantern.distance (make python; build/python), must agree with astropy's
 comoving_distance, comoving_transverse_distance, luminosity_distance,
 angular_diameter_distance, lookback_time and age to 1e-7 relative, distmod
 to 1e-6 mag, and H(z) to 1e-10 relative.
@@ -10,6 +11,8 @@ to 1e-6 mag, and H(z) to 1e-10 relative.
 astropy integrates with scipy's quad at its default tolerance (1.5e-8
 relative), so 1e-7 is about as tight as it can referee; the 1e-9 check of
 lantern's own quadrature is tests/reference/test_gsl_quadrature.c.
+Python's columns must also equal the command line's exactly (the JSON holds
+each double's shortest round-trip text).
 Prints one "ok"/"not ok" line per model and radiation setting.
 """
 import json
@@ -23,6 +26,12 @@ from astropy import cosmology as ac
 
 ROOT = os.path.dirname(os.path.dirname(os.path.dirname(os.path.abspath(__file__))))
 LANTERN = os.environ.get("LANTERN_BIN", os.path.join(ROOT, "bin", "lantern"))
+sys.path.insert(0, os.path.join(ROOT, "build", "python"))
+try:
+    import lantern
+except ImportError as e:  # reported as a failure below, not skipped
+    lantern = None
+    IMPORT_ERROR = str(e)
 TCMB = 2.7255
 NEFF = 3.046
 DRAWS = 6
@@ -64,14 +73,19 @@ def draw_params(rng, name):
     return p
 
 
-def run_lantern(name, p, tcmb, z):
-    sets = ",".join(f"{k}={v!r}" for k, v in p.items())
+def lantern_params(p, tcmb):
+    """The parameters as lantern takes them, radiation included."""
+    q = dict(p)
     if tcmb:
-        sets += f",t_cmb={tcmb},n_eff={NEFF}"
-        if "m_nu" not in p:
-            # massless neutrinos, as astropy's m_nu=0.0 here (lantern's
-            # default with radiation is one 0.06 eV state: astropy_neutrinos.py)
-            sets += ",m_nu=0"
+        q.update(t_cmb=tcmb, n_eff=NEFF)
+        # massless neutrinos, as astropy's m_nu=0.0 here (lantern's default
+        # with radiation is one 0.06 eV state: astropy_neutrinos.py)
+        q.setdefault("m_nu", 0.0)
+    return q
+
+
+def run_lantern(name, p, tcmb, z):
+    sets = ",".join(f"{k}={v!r}" for k, v in lantern_params(p, tcmb).items())
     zs = ",".join(repr(float(v)) for v in z)
     out = subprocess.run(
         [LANTERN, "distance", "--model", name, "--set", sets, "--z", zs, "--format", "json"],
@@ -88,6 +102,10 @@ def check(name, tcmb, rng):
         ref = astropy_model(name, p, tcmb)
         rows = got["rows"]
         assert [r["z"] for r in rows] == [float(v) for v in z], "input order kept"
+        py = lantern.distance(name, z, **lantern_params(p, tcmb))
+        for col in rows[0]:
+            if [r[col] for r in rows] != [float(v) for v in py[col]]:
+                return False, f"Python's {col} differs from the command line's for {p}"
         for col, (method, tol) in COLUMNS.items():
             want = getattr(ref, method)(z).value
             have = np.array([r[col] for r in rows], dtype=float)
@@ -109,6 +127,9 @@ def rng_array(rng, n):
 
 def main():
     rng = random.Random(20261202)
+    if lantern is None:
+        print(f"not ok - the Python package imports from build/python (make python): {IMPORT_ERROR}")
+        return 1
     failures = 0
     for name in ["lcdm-flat", "lcdm", "wcdm-flat", "wcdm", "w0wa-flat", "w0wa"]:
         for tcmb in (0.0, TCMB):
