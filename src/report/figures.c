@@ -200,23 +200,25 @@ static void group_legend(const model_group *g, double x, double y, const char *c
  * each stays in view. */
 static void group_regions(const model_group *g, const char *xn, const char *yn)
 {
+    /* each member's density once, for its area, its fills and its edges */
+    pk_density *dens[MAX_OVERLAY];
     size_t order[MAX_OVERLAY];
     double area[MAX_OVERLAY];
     for (size_t j = 0; j < g->k; j++) {
         long jx = pk_column(MEMBER(g, j), xn), jy = pk_column(MEMBER(g, j), yn);
-        area[j] = jx >= 0 && jy >= 0 ? pk_region_area(MEMBER(g, j), (size_t)jx, (size_t)jy) : 0;
+        dens[j] = jx >= 0 && jy >= 0 ? pk_density_of(MEMBER(g, j), (size_t)jx, (size_t)jy) : NULL;
+        area[j] = pk_density_area(dens[j]);
         size_t at = j;
         for (; at > 0 && area[order[at - 1]] < area[j]; at--)
             order[at] = order[at - 1];
         order[at] = j;
     }
     for (unsigned part = PK_PART_FILL; part <= PK_PART_LINES; part <<= 1)
-        for (size_t o = 0; o < g->k; o++) {
-            const lt_run_model *mj = MEMBER(g, order[o]);
-            long jx = pk_column(mj, xn), jy = pk_column(mj, yn);
-            if (jx >= 0 && jy >= 0)
-                pk_regions(mj, (size_t)jx, (size_t)jy, member_colour(g, order[o]), part);
-        }
+        for (size_t o = 0; o < g->k; o++)
+            if (dens[order[o]])
+                pk_density_draw(dens[order[o]], member_colour(g, order[o]), part);
+    for (size_t j = 0; j < g->k; j++)
+        free(dens[j]);
 }
 
 /* ---- the posterior matrix ---- */

@@ -406,15 +406,17 @@ static double *column(const lt_run_model *m, size_t c)
  * (pk_range), whatever window the figure shows. A figure that overlays a
  * tight posterior with a broad one, or whose range the user has narrowed,
  * then still resolves each region and counts all of its mass. */
-typedef struct {
+struct pk_density {
     double x0, x1, y0, y1;
     double g[PK_GRID * PK_GRID];
     double lev[2]; /* the 68.27% and 95.45% levels (0: the grid cannot hold it) */
-} density_grid;
+};
 
-/* The density of columns cx, cy of m on its own window, with its levels. */
-static int density2d(const lt_run_model *m, size_t cx, size_t cy, density_grid *d)
+pk_density *pk_density_of(const lt_run_model *m, size_t cx, size_t cy)
 {
+    pk_density *d = malloc(sizeof *d);
+    if (!d)
+        return NULL;
     size_t n = m->nchains * m->ndraws, cols[2] = {cx, cy};
     pk_range(m, cx, 0, &d->x0, &d->x1);
     pk_range(m, cy, 0, &d->y0, &d->y1);
@@ -427,36 +429,30 @@ static int density2d(const lt_run_model *m, size_t cx, size_t cy, density_grid *
                                       PK_GRID, PK_GRID, d->g, &outside, &err);
     free(x);
     free(y);
-    if (rc)
-        return -1;
+    if (rc) {
+        free(d);
+        return NULL;
+    }
     const double p[2] = {LT_POST_MASS_1SIGMA, LT_POST_MASS_2SIGMA};
     lt_post_hpd_levels(d->g, PK_GRID * PK_GRID,
                        (d->x1 - d->x0) / PK_GRID * (d->y1 - d->y0) / PK_GRID, outside, p, 2,
                        d->lev);
-    return 0;
+    return d;
 }
 
-double pk_region_area(const lt_run_model *m, size_t cx, size_t cy)
+double pk_density_area(const pk_density *d)
 {
-    density_grid *d = malloc(sizeof *d);
     double area = 0;
-    if (d && !density2d(m, cx, cy, d) && d->lev[1] > 0) {
-        for (int i = 0; i < PK_GRID * PK_GRID; i++)
-            area += d->g[i] >= d->lev[1];
-        area *= (d->x1 - d->x0) / PK_GRID * (d->y1 - d->y0) / PK_GRID;
-    }
-    free(d);
-    return area;
+    if (!d || !(d->lev[1] > 0))
+        return 0;
+    for (int i = 0; i < PK_GRID * PK_GRID; i++)
+        area += d->g[i] >= d->lev[1];
+    return area * (d->x1 - d->x0) / PK_GRID * (d->y1 - d->y0) / PK_GRID;
 }
 
-int pk_regions(const lt_run_model *m, size_t cx, size_t cy, int colour, unsigned parts)
+void pk_density_draw(const pk_density *d, int colour, unsigned parts)
 {
-    density_grid *d = malloc(sizeof *d);
     PLFLT **f = NULL;
-    if (!d || density2d(m, cx, cy, d)) {
-        free(d);
-        return -1;
-    }
     plAlloc2dGrid(&f, PK_GRID, PK_GRID);
     PLFLT xg[PK_GRID], yg[PK_GRID], top = 0;
     for (int i = 0; i < PK_GRID; i++) {
@@ -495,8 +491,6 @@ int pk_regions(const lt_run_model *m, size_t cx, size_t cy, int colour, unsigned
         pk_width(0.6);
     }
     plFree2dGrid(f, PK_GRID, PK_GRID);
-    free(d);
-    return 0;
 }
 
 int pk_can_smooth(const lt_run_model *m, size_t c, const char **why)

@@ -71,18 +71,21 @@ const char *pk_param_label(const char *name, char *buf, size_t size);
 #define PK_GRID 100
 #define PK_LINE 240
 
-/* Filled regions of 68.27% and 95.45% of the mass of columns cx, cy of m,
- * drawn in the current window: PART_FILL fills them in two tints of
- * colour, PART_LINES draws their edges. The density is evaluated on m's
- * own span of the two columns (pk_range), not on the window, so that a
- * tight posterior beside a broad one is resolved and a narrowed window
- * still counts all of the mass. Returns 0, or -1 if the density could not
- * be formed (pk_can_smooth says why). */
+/* The density of columns cx, cy of m and its levels holding 68.27% and
+ * 95.45% of the mass, formed once and drawn as often as needed. It is
+ * evaluated on m's own span of the two columns (pk_range), not on the
+ * figure's window, so that a tight posterior beside a broad one is resolved
+ * and a narrowed window still counts all of the mass. NULL if it cannot be
+ * formed (pk_can_smooth says why) or memory is short; free() it. */
+typedef struct pk_density pk_density;
+pk_density *pk_density_of(const lt_run_model *m, size_t cx, size_t cy);
+/* The area of d's 95.45% region, in the columns' units (0 for NULL), to
+ * layer several widest first. */
+double pk_density_area(const pk_density *d);
+/* d's regions in the current window: PART_FILL fills them in two tints of
+ * colour, PART_LINES draws their edges. */
 enum { PK_PART_FILL = 1, PK_PART_LINES = 2 };
-int pk_regions(const lt_run_model *m, size_t cx, size_t cy, int colour, unsigned parts);
-/* The area of the 95.45% region, in the columns' units, to layer several
- * widest first. */
-double pk_region_area(const lt_run_model *m, size_t cx, size_t cy);
+void pk_density_draw(const pk_density *d, int colour, unsigned parts);
 /* The 1-D marginal of column c, on m's own span, scaled to peak 1. */
 int pk_marginal(const lt_run_model *m, size_t c, int colour);
 /* Whether column c of m can be smoothed: two draws with weight and more
