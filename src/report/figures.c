@@ -221,6 +221,21 @@ static void group_regions(const model_group *g, const char *xn, const char *yn)
         free(dens[j]);
 }
 
+/* Every member's best fit of columns xn, yn as a cross (in ink for one
+ * member, in its colour among several), unless lantern plot leaves them out. */
+static void group_best_marks(const model_group *g, const char *xn, const char *yn)
+{
+    for (size_t j = 0; show_best(g) && j < g->k; j++) {
+        const lt_run_model *mj = MEMBER(g, j);
+        long jx = pk_column(mj, xn), jy = pk_column(mj, yn);
+        if (jx < 0 || jy < 0 || !isfinite(mj->best[jx]) || !isfinite(mj->best[jy]))
+            continue;
+        plcol0(g->k > 1 ? member_colour(g, j) : PK_INK);
+        pk_font(PK_PT_LABEL);
+        plstring(1, &mj->best[jx], &mj->best[jy], "×");
+    }
+}
+
 /* ---- the posterior matrix ---- */
 
 /* The parameters of the members, in first-seen order (the same model may
@@ -344,28 +359,24 @@ static void draw_posterior(const void *p)
                 plwind(lo[c], hi[c], 0, 1.08);
             else
                 plwind(lo[c], hi[c], lo[r], hi[r]);
-            if (r != c)
+            if (r != c) {
                 group_regions(g, names[c], names[r]);
-            for (size_t j = 0; j < g->k; j++) {
+                group_best_marks(g, names[c], names[r]);
+            }
+            for (size_t j = 0; r == c && j < g->k; j++) {
                 const lt_run_model *mj = MEMBER(g, j);
-                long cx = pk_column(mj, names[c]), cy = pk_column(mj, names[r]);
+                long cx = pk_column(mj, names[c]);
                 int col = member_colour(g, j);
-                if (cx < 0 || cy < 0)
+                if (cx < 0)
                     continue;
+                pk_marginal(mj, (size_t)cx, col);
                 /* the best fit in ink for one model, in its colour among several */
+                PLFLT bx[2] = {mj->best[cx], mj->best[cx]}, by[2] = {0, 1.08};
                 plcol0(g->k > 1 ? col : PK_INK);
-                if (r == c) {
-                    pk_marginal(mj, (size_t)cx, col);
-                    PLFLT bx[2] = {mj->best[cx], mj->best[cx]}, by[2] = {0, 1.08};
-                    plcol0(g->k > 1 ? col : PK_INK);
-                    pllsty(2);
-                    if (show_best(g) && isfinite(mj->best[cx]))
-                        plline(2, bx, by);
-                    pllsty(1);
-                } else if (show_best(g) && isfinite(mj->best[cx]) && isfinite(mj->best[cy])) {
-                    pk_font(PK_PT_LABEL);
-                    plstring(1, &mj->best[cx], &mj->best[cy], "×");
-                }
+                pllsty(2);
+                if (show_best(g) && isfinite(mj->best[cx]))
+                    plline(2, bx, by);
+                pllsty(1);
             }
             if (r == c)
                 truth_marks(truth_of(g, names[c]), NAN, lo[c], hi[c], 0, 1.08);
@@ -540,15 +551,7 @@ static void draw_plane(const void *p)
         line_note(x0, 1 - x0, x1, 1 - x1, x0, x1, y0, y1, "flat");
         line_note(x0, x0 / 2, x1, x1 / 2, x0, x1, y0, y1, "q#d0#u = 0 (Λ): accelerating above");
     }
-    for (size_t j = 0; j < g->k; j++) { /* best fits over everything */
-        const lt_run_model *mj = MEMBER(g, j);
-        long jx = pk_column(mj, xn), jy = pk_column(mj, yn);
-        if (jx < 0 || jy < 0 || !isfinite(mj->best[jx]) || !isfinite(mj->best[jy]))
-            continue;
-        plcol0(g->k > 1 ? member_colour(g, j) : PK_INK);
-        pk_font(PK_PT_LABEL);
-        plstring(1, &mj->best[jx], &mj->best[jy], "×");
-    }
+    group_best_marks(g, xn, yn); /* over everything */
     plcol0(PK_INK);
     pk_font(PK_PT_TICK);
     pk_box("bcnst", pk_tick_step(x0, x1, 5), "bcnstv", pk_tick_step(y0, y1, 5));
@@ -830,15 +833,7 @@ static void draw_pair(const void *p)
     pk_viewport(0.7, W - 0.15, 0.48, H - 0.06 - lh);
     plwind(x0, x1, y0, y1);
     group_regions(g, xn, yn);
-    for (size_t j = 0; show_best(g) && j < g->k; j++) {
-        const lt_run_model *mj = MEMBER(g, j);
-        long jx = pk_column(mj, xn), jy = pk_column(mj, yn);
-        if (jx < 0 || jy < 0 || !isfinite(mj->best[jx]) || !isfinite(mj->best[jy]))
-            continue;
-        plcol0(g->k > 1 ? member_colour(g, j) : PK_INK);
-        pk_font(PK_PT_LABEL);
-        plstring(1, &mj->best[jx], &mj->best[jy], "×");
-    }
+    group_best_marks(g, xn, yn);
     truth_marks(truth_of(g, xn), truth_of(g, yn), x0, x1, y0, y1);
     char xl[160], yl[160];
     plcol0(PK_INK);

@@ -281,16 +281,11 @@ static void box(const char *xopt, double xstep, const char *yopt, double ystep, 
     /* "o": our label function for the numbers */
     snprintf(xo, sizeof xo, "%so", xopt);
     snprintf(yo, sizeof yo, "%so", yopt);
-    if (!xstep && !t.log[0]) { /* PLplot's step: label with its decimals */
-        PLFLT x0, x1, y0, y1;
-        plgvpw(&x0, &x1, &y0, &y1);
-        t.decimals[0] = decimals_of(pk_tick_step(x0, x1, 5));
-    }
-    if (!ystep && !t.log[1]) {
-        PLFLT x0, x1, y0, y1;
-        plgvpw(&x0, &x1, &y0, &y1);
-        t.decimals[1] = decimals_of(pk_tick_step(y0, y1, 5));
-    }
+    /* PLplot's own step: label with the decimals of ours for the window */
+    if (!xstep && !t.log[0])
+        t.decimals[0] = decimals_of(pk_tick_step(wx0, wx1, 5));
+    if (!ystep && !t.log[1])
+        t.decimals[1] = decimals_of(pk_tick_step(wy0, wy1, 5));
     plslabelfunc(tick_label, &t);
     plbox(xo, xstep, 0, yo, ystep, 0);
     plslabelfunc(NULL, NULL);

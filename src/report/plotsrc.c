@@ -22,8 +22,7 @@ static int is_dir(const char *p)
 static int exists(const char *dir, const char *name)
 {
     char *p = lt_path_join(dir, name, NULL);
-    struct stat st;
-    int ok = p && stat(p, &st) == 0;
+    int ok = p && lt_path_exists(p);
     free(p);
     return ok;
 }

@@ -63,6 +63,10 @@ static char *next_field(char **p)
     return f;
 }
 
+/* The columns a chain file has before the parameters (and "weight" after
+ * the first two, when the draws are weighted). */
+static const char *const chain_cols[] = {"chain", "step", "logpost", "chi2"};
+
 /* Check the chain file's column names (n of them; the CSV's line 1, the
  * FITS table's TTYPEn, line 0) against the summary's: chain, step, an optional
  * weight, logpost, chi2, then m's columns in order. A column read by
@@ -70,7 +74,6 @@ static char *next_field(char **p)
 static int header_check(const char *path, long line, char *const *names, size_t n,
                         const lt_run_model *m, int *weighted, lt_error *err)
 {
-    static const char *fixed[] = {"chain", "step", "logpost", "chi2"};
     size_t nc = m->nparams + m->nderived, k = 0;
     *weighted = 0;
     for (size_t i = 0; i < n; i++) {
@@ -84,7 +87,7 @@ static int header_check(const char *path, long line, char *const *names, size_t 
                                 "column '%s' is more than the summary's %zu parameters and "
                                 "derived quantities",
                                 f, nc);
-        const char *want = k < 4 ? fixed[k] : m->names[k - 4];
+        const char *want = k < 4 ? chain_cols[k] : m->names[k - 4];
         if (strcmp(f, want))
             return lt_error_set(err, LT_EINPUT, path, line,
                                 "column %zu is '%s' where '%s' was expected (chain,step"
@@ -95,7 +98,7 @@ static int header_check(const char *path, long line, char *const *names, size_t 
     if (k < 4 + nc)
         return lt_error_set(err, LT_EINPUT, path, line,
                             "the header ends after %zu columns where '%s' was expected",
-                            k + (size_t)*weighted, k < 4 ? fixed[k] : m->names[k - 4]);
+                            k + (size_t)*weighted, k < 4 ? chain_cols[k] : m->names[k - 4]);
     return LT_OK;
 }
 
@@ -507,8 +510,10 @@ long lt_run_model_reference(const lt_run_model *models, size_t n, size_t i)
  * weight, which weighs the rows. */
 static int bookkeeping(const char *name)
 {
-    return !strcmp(name, "chain") || !strcmp(name, "step") || !strcmp(name, "logpost") ||
-           !strcmp(name, "chi2");
+    for (size_t i = 0; i < sizeof chain_cols / sizeof chain_cols[0]; i++)
+        if (!strcmp(name, chain_cols[i]))
+            return 1;
+    return 0;
 }
 
 /* The file's name without folder and extension, for a legend. */

@@ -36,6 +36,16 @@ enum { N = 200000 };
 
 static double normal_pdf(double x, double var) { return exp(-0.5 * x * x / var) / sqrt(2 * M_PI * var); }
 
+/* The largest difference of a grid of 80 cells of 0.1 from x0 from the
+ * density of N(mean, var) at the cells' centres. */
+static double worst_normal1d(const double *g, double x0, double mean, double var)
+{
+    double worst = 0;
+    for (int i = 0; i < 80; i++)
+        worst = fmax(worst, fabs(g[i] - normal_pdf(x0 + (i + 0.5) * 0.1 - mean, var)));
+    return worst;
+}
+
 static void test_kde1d_normal(void **state)
 {
     (void)state;
@@ -46,25 +56,16 @@ static void test_kde1d_normal(void **state)
         x[i] = lt_rng_normal(&r);
     lt_error err;
     assert_int_equal(lt_post_kde1d(x, NULL, N, NULL, -4, 4, 80, g, &out, &err), LT_OK);
-    double f = pow((double)N, -0.2), worst = 0;
-    for (int i = 0; i < 80; i++) {
-        double c = -4 + (i + 0.5) * 0.1;
-        worst = fmax(worst, fabs(g[i] - normal_pdf(c, 1 + f * f)));
-    }
+    double f = pow((double)N, -0.2);
     /* sampling noise of 2e5 draws at the peak: sqrt(p / (n h 2 sqrt(pi))) ~ 3e-3 */
-    assert_true(worst < 0.006);
+    assert_true(worst_normal1d(g, -4, 0, 1 + f * f) < 0.006);
     /* mass beyond +-4 sd of N(0, 1 + f^2): 2 Phi(-4 / 1.0...) ~ 6.6e-5 */
     assert_true(out < 1e-3);
     /* with the effective size set to 100, the bandwidth is 100^(-1/5) */
     lt_kde_opts o = {.ess = 100};
     assert_int_equal(lt_post_kde1d(x, NULL, N, &o, -4, 4, 80, g, &out, &err), LT_OK);
     f = pow(100.0, -0.2);
-    worst = 0;
-    for (int i = 0; i < 80; i++) {
-        double c = -4 + (i + 0.5) * 0.1;
-        worst = fmax(worst, fabs(g[i] - normal_pdf(c, 1 + f * f)));
-    }
-    assert_true(worst < 0.006);
+    assert_true(worst_normal1d(g, -4, 0, 1 + f * f) < 0.006);
     free(x);
 }
 
@@ -82,12 +83,8 @@ static void test_kde1d_weights(void **state)
     }
     lt_error err;
     assert_int_equal(lt_post_kde1d(x, w, N, NULL, -3, 5, 80, g, NULL, &err), LT_OK);
-    double f = pow(sw * sw / sw2, -0.2), worst = 0; /* Kish's effective size */
-    for (int i = 0; i < 80; i++) {
-        double c = -3 + (i + 0.5) * 0.1;
-        worst = fmax(worst, fabs(g[i] - normal_pdf(c - 1, 1 + f * f)));
-    }
-    assert_true(worst < 0.01);
+    double f = pow(sw * sw / sw2, -0.2); /* Kish's effective size */
+    assert_true(worst_normal1d(g, -3, 1, 1 + f * f) < 0.01);
     free(x);
     free(w);
 }
