@@ -160,11 +160,12 @@ $(PIC_LIB): $(PIC_OBJ)
 	@$(if $(Q),echo "  AR      $@")
 	$(Q)ar rcs $@ $^
 
-$(PY_MOD): python/_lantern.c $(PIC_LIB) $(HEADERS) | check-pkgs
+PY_C := $(wildcard python/*.c)
+$(PY_MOD): $(PY_C) python/internal.h $(PIC_LIB) $(HEADERS) | check-pkgs
 	@mkdir -p $(dir $@)
 	@echo "  PY      $@"
 	@$(CC) -std=c17 -D_DEFAULT_SOURCE -shared -fPIC -fopenmp -Wall -Wextra -Werror $(CFLAGS) \
-	    -Iinclude -I$(PY_INC) -I$(PY_NP_INC) $(PKG_CFLAGS) -o $@ $< $(PIC_LIB) $(LDLIBS)
+	    -Iinclude -I$(PY_INC) -I$(PY_NP_INC) $(PKG_CFLAGS) -o $@ $(PY_C) $(PIC_LIB) $(LDLIBS)
 
 $(PY_DIR)/%.py: python/lantern/%.py
 	@mkdir -p $(dir $@)

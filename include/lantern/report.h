@@ -197,6 +197,8 @@ typedef struct lt_run_model {
                                  * importance weights, mean 1, >= 0), NULL when the draws
                                  * are unweighted; everything that turns draws into a
                                  * quantile, density or contour uses them */
+    double *logpost, *chi2;     /* one per row of draws: the chain file's logpost and chi2
+                                 * columns (lt_run_model_load; NULL from a plain table) */
     int weighted;               /* weights present (summary.json "weighted": true must
                                  * come with them); rhat_max is then NaN (null) and
                                  * ess_min the importance-sampling ESS */

@@ -31,6 +31,8 @@ void lt_run_model_free(lt_run_model *m)
     free(m->stats);
     free(m->draws);
     free(m->weights);
+    free(m->logpost);
+    free(m->chi2);
     memset(m, 0, sizeof *m);
 }
 
@@ -102,14 +104,16 @@ static int header_check(const char *path, long line, char *const *names, size_t 
     return LT_OK;
 }
 
-/* Room for the draws of rows rows (and their weights). */
+/* Room for the draws of rows rows (and their weights, logpost and chi2). */
 static int alloc_draws(const char *path, lt_run_model *m, size_t rows, int weighted, lt_error *err)
 {
     size_t nc = m->nparams + m->nderived;
     m->draws = malloc((rows + 1) * nc * sizeof *m->draws);
+    m->logpost = malloc((rows + 1) * sizeof *m->logpost);
+    m->chi2 = malloc((rows + 1) * sizeof *m->chi2);
     if (weighted)
         m->weights = malloc((rows + 1) * sizeof *m->weights);
-    if (!m->draws || (weighted && !m->weights))
+    if (!m->draws || !m->logpost || !m->chi2 || (weighted && !m->weights))
         return lt_error_set(err, LT_ENOMEM, path, 0, "out of memory");
     m->weighted |= weighted;
     return LT_OK;
@@ -196,8 +200,9 @@ static int chains_parse(const char *path, char *text, lt_run_model *m, lt_error 
                                     "weight '%s' is not a finite number >= 0", f);
             m->weights[rows] = w;
         }
-        next_field(&p); /* logpost */
-        next_field(&p); /* chi2 */
+        /* strtod: logpost is -inf where a weighted draw left the domain */
+        m->logpost[rows] = strtod(next_field(&p), NULL);
+        m->chi2[rows] = strtod(next_field(&p), NULL);
         /* strtod: a derived quantity may be nan (an age without a big bang) */
         for (size_t c = 0; c < nc; c++)
             m->draws[rows * nc + c] = strtod(next_field(&p), NULL);
@@ -296,6 +301,11 @@ static int fits_parse(const char *path, lt_run_model *m, lt_error *err)
                 }
             }
         }
+        if (fits_read_col(f, TDOUBLE, first_draw - 2, first, 1, (LONGLONG)b, NULL,
+                          m->logpost + r0, NULL, &status) ||
+            fits_read_col(f, TDOUBLE, first_draw - 1, first, 1, (LONGLONG)b, NULL, m->chi2 + r0,
+                          NULL, &status))
+            goto fitserr;
         for (size_t c = 0; c < nc; c++) {
             if (fits_read_col(f, TDOUBLE, first_draw + (int)c, first, 1, (LONGLONG)b, NULL, col,
                               NULL, &status))
