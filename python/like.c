@@ -674,14 +674,15 @@ static PyObject *posterior_arrays(const lt_posterior *p)
                          (Py_ssize_t)p->nderived);
 }
 
-/* sample(settings, progress, main_thread, resume): lantern sample on the
- * likelihood (resume: continue the checkpoint of the job's out folder);
+/* sample(settings, progress, main_thread, resume, evidence): lantern
+ * sample on the likelihood (resume: continue the checkpoint of the job's
+ * out folder; evidence: add ln Z by nested sampling, as lantern run does);
  * returns (summary JSON text, posterior arrays, warnings). */
 static PyObject *like_sample(py_like *o, PyObject *args)
 {
     PyObject *settings;
-    int progress, main_thread, resume, rc, stage = 0;
-    if (!PyArg_ParseTuple(args, "Oppp", &settings, &progress, &main_thread, &resume))
+    int progress, main_thread, resume, evidence, rc, stage = 0;
+    if (!PyArg_ParseTuple(args, "Opppp", &settings, &progress, &main_thread, &resume, &evidence))
         return NULL;
     READY(o);
     method_call c;
@@ -689,7 +690,8 @@ static PyObject *like_sample(py_like *o, PyObject *args)
                      "sample", progress, main_thread, &c))
         return NULL;
     const char *out = o->job.out;
-    lt_sample_opts so = {out, resume, NULL, c.stop, &c.hooks};
+    lt_sample_opts so = {out, resume, evidence ? lt_like_model(o->like)->name : NULL, c.stop,
+                         &c.hooks};
     Py_BEGIN_ALLOW_THREADS
     LOCK(o);
     rc = lt_pipeline_sample(o->like, &o->job, &o->spec, &so, &c.post, &c.summary, &stage,
@@ -707,6 +709,11 @@ static PyObject *like_sample(py_like *o, PyObject *args)
         char msg[1024];
         if (stage == 0)
             snprintf(msg, sizeof msg, "interrupted during the best fit, before sampling began");
+        else if (stage == 2 && out)
+            snprintf(msg, sizeof msg,
+                     "interrupted during the evidence; the checkpoints in %s/checkpoint are "
+                     "kept: continue with lantern.sample(resume='%s', evidence=True)",
+                     out, out);
         else if (out)
             snprintf(msg, sizeof msg,
                      "interrupted; the checkpoint in %s/checkpoint holds every draw so far: "
@@ -741,7 +748,7 @@ static PyMethodDef like_methods[] = {
     {"guess", (PyCFunction)like_guess, METH_NOARGS, "the fit's first start"},
     {"fit", (PyCFunction)like_fit, METH_VARARGS, "fit(settings, progress, main_thread)"},
     {"sample", (PyCFunction)like_sample, METH_VARARGS,
-     "sample(settings, progress, main_thread, resume)"},
+     "sample(settings, progress, main_thread, resume, evidence)"},
     {NULL, NULL, 0, NULL}};
 
 PyTypeObject py_like_type = {

@@ -9,7 +9,7 @@ libgsl-dev libcfitsio-dev libopenblas-dev liblapacke-dev
 libplplot-dev plplot-driver-cairo libcairo2-dev
 libinih-dev libcjson-dev libcmocka-dev
 libopenmpi-dev openmpi-bin
-python3 python3-dev python3-astropy python3-scipy python3-numpy
+python3 python3-dev python3-astropy python3-scipy python3-numpy python3-matplotlib
 clang libclang-rt-14-dev valgrind poppler-utils"
 
 missing=""

@@ -308,14 +308,17 @@ class Likelihood:
         _warn(warns)
         return FitResult(_json.loads(text))
 
-    def sample(self, progress=True, **settings):
+    def sample(self, progress=True, evidence=False, **settings):
         """lantern's sampler (`lantern sample`): settings seed, sampler
         ("auto", "importance", "mcmc"), chains, threads, warmup, check_every,
-        max_steps, target_ess, thin, starts, out (a folder: summary.json,
-        chain files, a checkpoint), force. progress: print a line at each
-        convergence check to sys.stderr. Returns the posterior as Samples."""
+        max_steps, target_ess, thin, starts, live_points, out (a folder:
+        summary.json, chain files, a checkpoint), force. progress: print a
+        line at each convergence check to sys.stderr. evidence: add the
+        Bayesian evidence ln Z by nested sampling, as `lantern run` does
+        (Samples.ln_z; summary["evidence"]). Returns the posterior as
+        Samples."""
         text, arrays, warns = self._c.sample(_settings(settings), bool(progress),
-                                             _main_thread(), False)
+                                             _main_thread(), False, bool(evidence))
         _warn(warns)
         folder = settings.get("out")
         return Samples._from_posterior(_json.loads(text), arrays, self,
@@ -361,7 +364,8 @@ class Samples:
     column. weights: one per draw (ones unless weighted); logpost, chi2: per
     draw; chain: each draw's chain (0-based), nchains chains of ndraws
     draws one after another. summary: the run's summary.json as a dict.
-    folder: where it was written, or None.
+    ln_z, ln_z_err: the evidence where it was computed, else NaN. folder:
+    where it was written, or None.
     """
 
     def __init__(self, names, nparams, draws, weights, logpost, chi2, nchains, ndraws,
@@ -376,6 +380,10 @@ class Samples:
         self.nchains, self.ndraws = nchains, ndraws
         self.chain = _np.repeat(_np.arange(nchains), ndraws)
         self.summary = summary
+        ev = summary.get("evidence") or {}
+        #: ln Z and its error (NaN unless the evidence was computed)
+        self.ln_z = float("nan") if ev.get("ln_z") is None else ev["ln_z"]
+        self.ln_z_err = float("nan") if ev.get("ln_z_err") is None else ev["ln_z_err"]
         self.folder = folder
         self._likelihood = likelihood
 
@@ -401,8 +409,19 @@ class Samples:
                            % (name, ", ".join(self.names))) from None
 
     def mean(self, name):
-        """The weighted posterior mean of a column."""
-        return float(_np.average(self[name], weights=self.weights))
+        """The weighted posterior mean of a column (NaN entries left out)."""
+        x, w = self._column(name)
+        return float(_np.average(x, weights=w))
+
+    def std(self, name):
+        """The weighted posterior standard deviation of a column."""
+        x, w = self._column(name)
+        return float(_np.sqrt(_np.average((x - _np.average(x, weights=w)) ** 2, weights=w)))
+
+    def _column(self, name):
+        x = self[name]
+        keep = ~_np.isnan(x)
+        return x[keep], self.weights[keep]
 
     def likelihood(self):
         """The Likelihood these draws were sampled from: the sampler's own
@@ -444,12 +463,14 @@ def fit(run=None, progress=False, **settings):
     return Likelihood(run, **like_kw).fit(progress=progress, **method_kw)
 
 
-def sample(run=None, resume=None, progress=True, **settings):
+def sample(run=None, resume=None, progress=True, evidence=False, **settings):
     """`lantern sample`: the posterior of Likelihood(run, **settings), with
     the sampler's settings (seed, sampler, chains, threads, warmup,
-    check_every, max_steps, target_ess, thin, starts, out, force) among the
-    keywords. resume=FOLDER continues a stopped run's checkpoint (the
-    folder holds its settings: give no others). Returns Samples."""
+    check_every, max_steps, target_ess, thin, starts, live_points, out,
+    force) among the keywords; evidence=True adds ln Z (see
+    Likelihood.sample). resume=FOLDER continues a stopped run's checkpoint
+    (the folder holds its settings: give no others; evidence as the run
+    was started). Returns Samples."""
     if resume is not None:
         if run is not None or settings:
             raise TypeError("sample(resume=...) takes no other settings: the run's are in "
@@ -457,11 +478,12 @@ def sample(run=None, resume=None, progress=True, **settings):
         folder = _os.fspath(resume)
         c = _lantern.like_from_run(folder, True)
         like = Likelihood._wrap(c)
-        text, arrays, warns = c.sample([], bool(progress), _main_thread(), True)
+        text, arrays, warns = c.sample([], bool(progress), _main_thread(), True,
+                                       bool(evidence))
         _warn(warns)
         return Samples._from_posterior(_json.loads(text), arrays, like, folder)
     like_kw, method_kw = _split(settings, _SAMPLE_KEYS)
-    return Likelihood(run, **like_kw).sample(progress=progress, **method_kw)
+    return Likelihood(run, **like_kw).sample(progress=progress, evidence=evidence, **method_kw)
 
 
 _FIT_KEYS = {"starts", "seed", "out", "force"}

@@ -154,6 +154,19 @@ try:
            and fit.cov.shape == (2, 2), "fit: the summary of 'lantern fit --format json'",
            repr(fit))
 
+    # a run file with BAO and CMB terms, a measurement added by keyword
+    combined = os.path.join(ROOT, "configs", "combined-probes.ini")
+    fit_cli = json.loads(cli("fit", combined, "--model", "w0wa-flat", "--measure", "h0=73:1",
+                             "--no-warn", "header-extra-names", "--format", "json").stdout)
+    like_all = lantern.Likelihood(combined, model="w0wa-flat", measurements={"h0": (73, 1)},
+                                  no_warn="header-extra-names")
+    fit = like_all.fit()
+    fit_cli.pop("command"), fit.summary.pop("command")
+    report(fit.summary == fit_cli and like_all.names == ("h0", "omega_m", "w0", "wa",
+                                                          "omega_b_h2", "rd_h"),
+           "a run file's BAO and CMB terms with a measurement: the command line's fit",
+           "free: " + ", ".join(like_all.names))
+
     out_cli, out_py = os.path.join(tmp, "cli-same"), os.path.join(tmp, "py-same")
     cli("sample", *flags(LAMP), "--model", "lcdm-flat", "--seed", "11", "--out", out_cli,
         "--quiet")
@@ -169,6 +182,27 @@ try:
            == open(os.path.join(out_py, "chains.csv")).read(),
            "sample: the same draws, weights, summary and chains.csv as the command line",
            "%d draws" % len(got))
+
+    # ---- the evidence: lantern run's, and a quadrature of the likelihood ----
+    one = os.path.join(tmp, "one.ini")
+    with open(one, "w") as f:
+        f.write("[run]\nname = one\nmodels = lcdm-flat\n[data]\nfile = %s\ncolumns = %s\n"
+                "cov = %s\nno_warn = header-extra-names\n[sampler]\nseed = 5\n"
+                % (PAN["data"], PAN["columns"], PAN["cov"]))
+    cli("run", one, "--out", os.path.join(tmp, "run-one"), "--quiet")
+    ev_run = json.load(open(os.path.join(tmp, "run-one", "lcdm-flat", "summary.json")))["evidence"]
+    ev = lantern.sample(one, model="lcdm-flat", evidence=True, progress=False)
+    # Z = e^lognorm * int exp(loglike) dOmega_m over the U(0, 1) prior, by
+    # scipy.integrate.quad (the likelihood's exact path)
+    from scipy.integrate import quad
+    peak = like.evaluate([0.3], exact=True)["loglike"]
+    area, _ = quad(lambda om: np.exp(like.evaluate([om], exact=True)["loglike"] - peak), 0, 1,
+                   points=[0.3], epsabs=0, epsrel=1e-10, limit=200)
+    ln_z = like.info["lognorm"] + peak + np.log(area)
+    report(ev.ln_z == ev_run["ln_z"] and ev.ln_z_err == ev_run["ln_z_err"]
+           and abs(ev.ln_z - ln_z) < 3 * ev.ln_z_err,
+           "sample(evidence=True): lantern run's ln Z, within 3 sigma of scipy's quadrature",
+           "ln Z %.4f +- %.4f, quadrature %.4f" % (ev.ln_z, ev.ln_z_err, ln_z))
 
     # ---- Ctrl-C: KeyboardInterrupt, the checkpoint kept, resumed to the same end ----
     long_kw = dict(model="w0wa-flat", sampler="mcmc", seed=9, target_ess=3000)
