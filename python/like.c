@@ -677,7 +677,8 @@ static PyObject *posterior_arrays(const lt_posterior *p)
 /* sample(settings, progress, main_thread, resume, evidence): lantern
  * sample on the likelihood (resume: continue the checkpoint of the job's
  * out folder; evidence: add ln Z by nested sampling, as lantern run does);
- * returns (summary JSON text, posterior arrays, warnings). */
+ * returns (summary JSON text, posterior arrays, warnings, the folder
+ * written or None). */
 static PyObject *like_sample(py_like *o, PyObject *args)
 {
     PyObject *settings;
@@ -726,7 +727,7 @@ static PyObject *like_sample(py_like *o, PyObject *args)
         py_raise(&c.err);
     else {
         PyObject *text = json_text(c.summary), *arrays = text ? posterior_arrays(&c.post) : NULL;
-        res = arrays ? Py_BuildValue("(NNO)", text, arrays, c.n.warnings) : NULL;
+        res = arrays ? Py_BuildValue("(NNOz)", text, arrays, c.n.warnings, out) : NULL;
         if (!arrays)
             Py_XDECREF(text);
     }

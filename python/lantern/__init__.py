@@ -317,12 +317,10 @@ class Likelihood:
         Bayesian evidence ln Z by nested sampling, as `lantern run` does
         (Samples.ln_z; summary["evidence"]). Returns the posterior as
         Samples."""
-        text, arrays, warns = self._c.sample(_settings(settings), bool(progress),
-                                             _main_thread(), False, bool(evidence))
+        text, arrays, warns, folder = self._c.sample(_settings(settings), bool(progress),
+                                                     _main_thread(), False, bool(evidence))
         _warn(warns)
-        folder = settings.get("out")
-        return Samples._from_posterior(_json.loads(text), arrays, self,
-                                       None if folder is None else _os.fspath(folder))
+        return Samples._from_posterior(_json.loads(text), arrays, self, folder)
 
     def __repr__(self):
         i = self.info
@@ -478,8 +476,8 @@ def sample(run=None, resume=None, progress=True, evidence=False, **settings):
         folder = _os.fspath(resume)
         c = _lantern.like_from_run(folder, True)
         like = Likelihood._wrap(c)
-        text, arrays, warns = c.sample([], bool(progress), _main_thread(), True,
-                                       bool(evidence))
+        text, arrays, warns, folder = c.sample([], bool(progress), _main_thread(), True,
+                                               bool(evidence))
         _warn(warns)
         return Samples._from_posterior(_json.loads(text), arrays, like, folder)
     like_kw, method_kw = _split(settings, _SAMPLE_KEYS)

@@ -177,7 +177,7 @@ try:
     sj = [json.load(open(os.path.join(d, "summary.json"))) for d in (out_cli, out_py)]
     for j in sj:
         j.pop("command")
-    report(same and sj[0] == sj[1]
+    report(same and sj[0] == sj[1] and got.folder == out_py
            and open(os.path.join(out_cli, "chains.csv")).read()
            == open(os.path.join(out_py, "chains.csv")).read(),
            "sample: the same draws, weights, summary and chains.csv as the command line",
