@@ -64,23 +64,28 @@ int py_job_build(lt_job *j, PyObject *run, PyObject *settings, unsigned mask, co
             status = -1;
             break;
         }
-        unsigned section;
-        int takes;
-        if (!strcmp(flag, "--force")) {
+        unsigned section = 0;
+        int takes = 0;
+        if (!strcmp(flag, "--force") && (mask & LT_JOB_OUTPUT) && !value) {
             j->force = 1;
             continue;
         }
-        if (!lt_job_flag_find(flag, &section, &takes) || !(section & mask)) {
+        if (strncmp(flag, "--", 2) || !lt_job_flag_find(flag, &section, &takes) ||
+            !(section & mask)) {
             /* the keyword as the caller wrote it: the flag without its
              * dashes, '-' as '_' */
             char kw[64];
-            snprintf(kw, sizeof kw, "%s", flag + 2);
+            snprintf(kw, sizeof kw, "%s", flag + (strncmp(flag, "--", 2) ? 0 : 2));
             for (char *c = kw; *c; c++)
                 *c = *c == '-' ? '_' : *c;
             PyErr_Format(PyExc_TypeError, "%s() got an unexpected keyword argument '%s'", func,
                          kw);
             status = -1;
-        } else if (lt_job_flag(j, flag, takes ? value : NULL, &err))
+        } else if (!takes && value) {
+            /* the Python layer passes a switch's True as no value */
+            PyErr_Format(PyExc_ValueError, "%s: a switch, True or False", flag);
+            status = -1;
+        } else if (lt_job_flag(j, flag, value, &err))
             status = (py_raise(&err), -1);
     }
     Py_DECREF(seq);
@@ -227,6 +232,28 @@ static PyObject *str_list(char *const *s, size_t n)
  * 16384^2 doubles are 2 GiB. */
 #define DENSE_MAX 16384
 
+/* The survey's total covariance as an (n, n) array; None above DENSE_MAX
+ * objects. */
+static PyObject *dense_cov(const lt_survey *s)
+{
+    if (s->n > DENSE_MAX)
+        Py_RETURN_NONE;
+    PyObject *cov = py_array2(s->n, s->n);
+    if (cov)
+        lt_cov_to_dense(s->cov, PyArray_DATA((PyArrayObject *)cov));
+    return cov;
+}
+
+/* Each object's 1-based data row in its table, as an integer array. */
+static PyObject *data_rows(const lt_survey *s)
+{
+    npy_intp dim = (npy_intp)s->n;
+    PyObject *rows = PyArray_SimpleNew(1, &dim, NPY_LONG);
+    for (size_t i = 0; rows && i < s->n; i++)
+        ((long *)PyArray_DATA((PyArrayObject *)rows))[i] = s->row[i];
+    return rows;
+}
+
 /* read_survey(run, settings): the survey a run description reads, as a
  * dict of arrays (see lantern.read_survey). */
 static PyObject *py_read_survey(PyObject *self, PyObject *args)
@@ -256,27 +283,16 @@ static PyObject *py_read_survey(PyObject *self, PyObject *args)
         goto done;
     }
     size_t n = s->n;
+    npy_intp dim = (npy_intp)n;
     if (!(d = PyDict_New()))
         goto done;
-    npy_intp dim = (npy_intp)n;
-    PyObject *rows = PyArray_SimpleNew(1, &dim, NPY_LONG);
-    if (rows)
-        for (size_t i = 0; i < n; i++)
-            ((long *)PyArray_DATA((PyArrayObject *)rows))[i] = s->row[i];
-    PyObject *cov = Py_None;
-    if (n <= DENSE_MAX) {
-        cov = py_array2(n, n);
-        if (cov)
-            lt_cov_to_dense(s->cov, PyArray_DATA((PyArrayObject *)cov));
-    } else
-        Py_INCREF(cov);
     if (put(d, "kind", PyUnicode_FromString(lt_obs_name(s->kind))) ||
         put(d, "z", py_array1(s->z, n)) || put(d, "zhel", py_array1(s->zhel, n)) ||
         put(d, lt_obs_name(s->kind), py_array1(s->obs, n)) ||
         put(d, "err", s->err ? py_array1(s->err, n) : (Py_INCREF(Py_None), Py_None)) ||
-        put(d, "cov", cov) ||
+        put(d, "cov", dense_cov(s)) ||
         put(d, "cov_kind", PyUnicode_FromString(lt_cov_kind_name(lt_cov_kind_of(s->cov)))) ||
-        put(d, "id", str_list(s->id, n)) || put(d, "row", rows) ||
+        put(d, "id", str_list(s->id, n)) || put(d, "row", data_rows(s)) ||
         put(d, "n_read", PyLong_FromSize_t(s->n_read)) ||
         put(d, "warnings", py_survey_warnings(s, &j)))
         goto fail;
@@ -347,7 +363,8 @@ static PyObject *py_read_run(PyObject *self, PyObject *args)
     PyObject *res = Py_BuildValue(
         "(NnNNNNnn)", str_list(m.names, nc), (Py_ssize_t)m.nparams, draws,
         m.weights ? py_array1(m.weights, n) : (Py_INCREF(Py_None), Py_None),
-        py_array1(m.logpost, n), py_array1(m.chi2, n), (Py_ssize_t)m.nchains,
+        m.logpost ? py_array1(m.logpost, n) : (Py_INCREF(Py_None), Py_None),
+        m.chi2 ? py_array1(m.chi2, n) : (Py_INCREF(Py_None), Py_None), (Py_ssize_t)m.nchains,
         (Py_ssize_t)m.ndraws);
     lt_run_model_free(&m);
     return res;

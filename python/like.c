@@ -34,6 +34,37 @@ typedef struct {
     int ready;                /* job, survey and like all made */
 } py_like;
 
+/* The object's lock, taken with the GIL held: the wait, for another
+ * thread's sample, say, goes without the GIL, in steps of 50 ms between
+ * which Python's signal handlers run, so that Ctrl-C breaks it
+ * (KeyboardInterrupt). 0 with the lock, or -1 with a Python error. Nobody
+ * waits for the GIL while holding the lock, so this cannot deadlock. */
+static int lock_take(py_like *o)
+{
+    if (PyThread_acquire_lock(o->lock, NOWAIT_LOCK))
+        return 0;
+    for (;;) {
+        PyLockStatus got;
+        Py_BEGIN_ALLOW_THREADS
+        got = PyThread_acquire_lock_timed(o->lock, 50000, 0);
+        Py_END_ALLOW_THREADS
+        if (got == PY_LOCK_ACQUIRED)
+            return 0;
+        if (PyErr_CheckSignals())
+            return -1;
+    }
+}
+#define UNLOCK(o) PyThread_release_lock((o)->lock)
+
+/* The work space for one point at a time, made again if a sample's
+ * refinement could not (under the lock). */
+static lt_like_work *serial_work(py_like *o)
+{
+    if (!o->work)
+        o->work = lt_like_work_alloc(o->like);
+    return o->work;
+}
+
 /* ---- building ---- */
 
 static void like_clear(py_like *o)
@@ -95,20 +126,25 @@ static PyObject *like_new(PyTypeObject *type, PyObject *args, PyObject *kw)
     return like_alloc_object(type);
 }
 
-/* Likelihood(run, settings): run a run file's path or None; settings the
- * (flag, value) pairs of the data, model and parameter sections. */
+/* Likelihood(run, settings, func): run a run file's path or None;
+ * settings the (flag, value) pairs of the data, model and parameter
+ * sections; func the Python function that was called, for its errors. An
+ * object is made once: a second __init__ could free the likelihood under
+ * another thread's sample. */
 static int like_init(py_like *o, PyObject *args, PyObject *kw)
 {
     PyObject *run, *settings;
-    static char *names[] = {"run", "settings", NULL};
-    if (!PyArg_ParseTupleAndKeywords(args, kw, "OO", names, &run, &settings))
+    const char *func = "Likelihood";
+    static char *names[] = {"run", "settings", "func", NULL};
+    if (!PyArg_ParseTupleAndKeywords(args, kw, "OO|s", names, &run, &settings, &func))
         return -1;
-    like_clear(o);
-    Py_CLEAR(o->warnings);
+    if (o->ready) {
+        PyErr_SetString(PyExc_TypeError, "a Likelihood is made once: make another");
+        return -1;
+    }
     lt_job_init(&o->job);
     o->ready = 1;
-    if (py_job_build(&o->job, run, settings, LT_JOB_DATA | LT_JOB_MODEL | LT_JOB_PARAMS,
-                     "Likelihood") ||
+    if (py_job_build(&o->job, run, settings, LT_JOB_DATA | LT_JOB_MODEL | LT_JOB_PARAMS, func) ||
         like_make(o)) {
         like_clear(o);
         return -1;
@@ -204,7 +240,7 @@ PyObject *py_like_from_run(PyObject *self, PyObject *args)
  * __init__ that failed or never called ours). */
 static int check_ready(py_like *o)
 {
-    if (o->like && o->work)
+    if (o->like)
         return 0;
     PyErr_SetString(PyExc_RuntimeError, "this Likelihood was not made (its __init__ failed)");
     return -1;
@@ -277,7 +313,10 @@ static PyObject *like_get_info(py_like *o, void *unused)
     READY(o);
     size_t K = 0;
     double dchi2 = NAN;
+    if (lock_take(o)) /* a sample may refine the compression */
+        return NULL;
     lt_like_compression(o->like, &K, &dchi2);
+    UNLOCK(o);
     return Py_BuildValue("{s:s,s:n,s:l,s:n,s:d,s:n,s:s,s:s}", "model",
                          lt_like_model(o->like)->name, "n_data",
                          (Py_ssize_t)lt_like_ndata(o->like), "dof", lt_like_dof(o->like),
@@ -308,11 +347,6 @@ static PyObject *like_guess(py_like *o, PyObject *unused)
 
 /* ---- evaluating ---- */
 
-/* The object's lock, taken without the GIL (another thread may hold the
- * lock while waiting for nothing of Python's). Between
- * Py_BEGIN_ALLOW_THREADS and its end. */
-#define LOCK(o) PyThread_acquire_lock((o)->lock, WAIT_LOCK)
-#define UNLOCK(o) PyThread_release_lock((o)->lock)
 
 /* The points' rows at which a batch is worth OpenMP threads. */
 #define PAR_ROWS 64
@@ -352,13 +386,18 @@ static PyObject *like_eval(py_like *o, PyObject *args)
         col[k] = PyArray_DATA((PyArrayObject *)out[k]);
     const double *x = PyArray_DATA(pts);
     int failed = 0;
+    if (lock_take(o)) {
+        for (int k = 0; k < 5; k++)
+            Py_DECREF(out[k]);
+        Py_DECREF(pts);
+        return NULL;
+    }
     Py_BEGIN_ALLOW_THREADS
-    LOCK(o);
     const lt_like *l = o->like;
 #pragma omp parallel if (n >= PAR_ROWS)
     {
         /* one work space a thread; the object's serves one thread */
-        lt_like_work *w = omp_get_num_threads() > 1 ? lt_like_work_alloc(l) : o->work;
+        lt_like_work *w = omp_get_num_threads() > 1 ? lt_like_work_alloc(l) : serial_work(o);
         if (!w) {
 #pragma omp atomic write
             failed = 1;
@@ -375,8 +414,8 @@ static PyObject *like_eval(py_like *o, PyObject *args)
         if (w != o->work)
             lt_like_work_free(w);
     }
-    UNLOCK(o);
     Py_END_ALLOW_THREADS
+    UNLOCK(o);
     Py_DECREF(pts);
     if (failed) {
         for (int k = 0; k < 5; k++)
@@ -424,6 +463,7 @@ typedef struct {
     double target;
     struct timespec start;
     PyObject *warnings;
+    const lt_job *job; /* its no_warn: kinds not to warn of, as the command line */
 } notes;
 
 static double seconds_since(const struct timespec *t0)
@@ -478,7 +518,9 @@ static void on_note(lt_note_kind kind, const char *id, const char *text, void *c
 {
     notes *n = ctx;
     PyGILState_STATE g = PyGILState_Ensure();
-    if (kind == LT_NOTE_WARNING) {
+    if (kind == LT_NOTE_WARNING && !lt_job_warning_shown(n->job, id)) {
+        /* silenced (no_warn) */
+    } else if (kind == LT_NOTE_WARNING) {
         PyObject *t = Py_BuildValue("(ss)", id ? id : "", text);
         if (!t || PyList_Append(n->warnings, t))
             PyErr_Clear(); /* out of memory: the warning is lost, the run is not */
@@ -538,6 +580,7 @@ static volatile sig_atomic_t *sig_hold(sig_guard *g, int main_thread)
     struct sigaction sa;
     memset(&sa, 0, sizeof sa);
     sa.sa_handler = on_sigint;
+    sa.sa_flags = SA_RESTART; /* a library thread's read or write goes on */
     sigemptyset(&sa.sa_mask);
     sigint_seen = 0;
     if (sigaction(SIGINT, &sa, &g->old))
@@ -546,10 +589,16 @@ static volatile sig_atomic_t *sig_hold(sig_guard *g, int main_thread)
     return &sigint_seen;
 }
 
-static void sig_release(sig_guard *g)
+/* Python's handler back. A SIGINT the method did not act on (stopped 0:
+ * it came after the last safe point) is passed on to Python, which raises
+ * KeyboardInterrupt at its next check. */
+static void sig_release(sig_guard *g, int stopped)
 {
-    if (g->held)
+    if (g->held) {
         sigaction(SIGINT, &g->old, NULL);
+        if (sigint_seen && !stopped)
+            PyErr_SetInterrupt();
+    }
     g->held = 0;
 }
 
@@ -573,13 +622,17 @@ static int method_begin(py_like *o, PyObject *settings, unsigned mask, const cha
                         int progress, int main_thread, method_call *c)
 {
     memset(c, 0, sizeof *c);
+    /* the job's settings are the object's: held from here to method_end */
+    if (lock_take(o))
+        return -1;
     settings_save(&o->job, &c->saved);
     if (py_job_build(&o->job, Py_None, settings, mask, func) ||
         !(c->n.warnings = PyList_New(0))) {
         settings_restore(&o->job, &c->saved);
+        UNLOCK(o);
         return -1;
     }
-    c->n.progress = progress, c->n.target = o->job.target_ess;
+    c->n.progress = progress, c->n.target = o->job.target_ess, c->n.job = &o->job;
     clock_gettime(CLOCK_MONOTONIC, &c->n.start);
     c->hooks = (lt_pipeline_hooks){.check = on_check, .note = on_note, .ctx = &c->n,
                                    .nested = on_nested};
@@ -588,11 +641,13 @@ static int method_begin(py_like *o, PyObject *settings, unsigned mask, const cha
     return 0;
 }
 
-/* After the method ran: SIGINT and the job's settings back. */
-static void method_end(py_like *o, method_call *c)
+/* After the method ran (rc): SIGINT and the job's settings back, the
+ * lock released. */
+static void method_end(py_like *o, method_call *c, int rc)
 {
-    sig_release(&c->g);
+    sig_release(&c->g, rc == LT_EINTR);
     settings_restore(&o->job, &c->saved);
+    UNLOCK(o);
 }
 
 static void method_free(method_call *c)
@@ -626,11 +681,9 @@ static PyObject *like_fit(py_like *o, PyObject *args)
     if (method_begin(o, settings, LT_JOB_FIT | LT_JOB_OUTPUT, "fit", progress, main_thread, &c))
         return NULL;
     Py_BEGIN_ALLOW_THREADS
-    LOCK(o);
     rc = lt_pipeline_fit(o->like, &o->job, c.stop, &c.hooks, &c.post, &c.summary, &c.err);
-    UNLOCK(o);
     Py_END_ALLOW_THREADS
-    method_end(o, &c);
+    method_end(o, &c, rc);
     PyObject *res = NULL;
     if (rc == LT_EINTR)
         PyErr_SetString(PyExc_KeyboardInterrupt,
@@ -694,19 +747,16 @@ static PyObject *like_sample(py_like *o, PyObject *args)
     lt_sample_opts so = {out, resume, evidence ? lt_like_model(o->like)->name : NULL, c.stop,
                          &c.hooks};
     Py_BEGIN_ALLOW_THREADS
-    LOCK(o);
     rc = lt_pipeline_sample(o->like, &o->job, &o->spec, &so, &c.post, &c.summary, &stage,
                             &c.err);
-    /* a refined compression changed the likelihood: its work space too */
+    /* a refined compression changed the likelihood: its work space too
+     * (made again by the next evaluation if there is no room now) */
     lt_like_work_free(o->work);
     o->work = lt_like_work_alloc(o->like);
-    UNLOCK(o);
     Py_END_ALLOW_THREADS
-    method_end(o, &c);
+    method_end(o, &c, rc);
     PyObject *res = NULL;
-    if (!o->work)
-        PyErr_NoMemory();
-    else if (rc == LT_EINTR) {
+    if (rc == LT_EINTR) {
         char msg[1024];
         if (stage == 0)
             snprintf(msg, sizeof msg, "interrupted during the best fit, before sampling began");

@@ -79,8 +79,13 @@ def distance(model, z, **params):
 # ---- settings: keywords into the command line's flags ----
 
 def _number(v):
-    # repr: the shortest text that reads back as the same double
-    return repr(float(v)) if isinstance(v, (float, _np.floating)) else str(v)
+    """A number as the command line reads it: a whole float as a whole number
+    (chains=4.0, max_steps=1e5), another float by repr, the shortest text
+    that reads back as the same double."""
+    if isinstance(v, (float, _np.floating)):
+        v = float(v)
+        return "%d" % v if v.is_integer() and abs(v) < 2.0 ** 53 else repr(v)
+    return str(v)
 
 
 def _prior_text(v):
@@ -112,12 +117,22 @@ def _measure_texts(v):
     return out
 
 
+#: Settings that are switches (a flag without a value): any truth value.
+_SWITCHES = {"no_err_diag", "force"}
+#: Settings that take several values: a list, or the command line's text.
+_LISTS = {"priors", "fixed", "measurements", "columns", "cov", "no_warn"}
+
+
 def _settings(kw):
     """The (flag, value) pairs of keyword settings, in the order given."""
     out = []
     for key, v in kw.items():
+        if isinstance(v, _np.bool_) or key in _SWITCHES:
+            v = bool(v)
         if v is None or v is False:
             continue
+        if key not in _LISTS and isinstance(v, (list, tuple, dict, set)):
+            raise TypeError("%s takes one value, not %s" % (key, type(v).__name__))
         if key == "priors":
             out += [("--prior", "%s=%s" % (n, _prior_text(p))) for n, p in dict(v).items()]
         elif key == "fixed":
@@ -145,7 +160,7 @@ def _settings(kw):
 
 
 def _run_path(run):
-    return None if run is None else _os.fspath(run)
+    return None if run is None else _os.fsdecode(_os.fspath(run))
 
 
 _HERE = _os.path.dirname(_os.path.abspath(__file__))
@@ -169,7 +184,12 @@ def _warn(pairs):
 
 
 def _main_thread():
-    return _threading.current_thread() is _threading.main_thread()
+    """Whether a fit or sample may hold SIGINT while it runs: called from the
+    main thread (where Python delivers signals), with Python's default
+    handler in place (not a handler of the user's, nor SIG_IGN)."""
+    import signal
+    return (_threading.current_thread() is _threading.main_thread()
+            and signal.getsignal(signal.SIGINT) is signal.default_int_handler)
 
 
 # ---- surveys ----
@@ -217,8 +237,19 @@ class Likelihood:
     """
 
     def __init__(self, run=None, **settings):
-        self._c = _lantern.Likelihood(_run_path(run), _settings(settings))
+        self._make(run, settings, "Likelihood")
+
+    def _make(self, run, settings, func):
+        self._c = _lantern.Likelihood(_run_path(run), _settings(settings), func)
         _warn(self._c.survey_warnings)
+        return self
+
+    def __getattr__(self, name):
+        # only for attributes not found: a subclass that skipped our __init__
+        if name == "_c":
+            raise RuntimeError("this Likelihood was not made: a subclass's __init__ must "
+                               "call Likelihood.__init__")
+        raise AttributeError(name)
 
     @classmethod
     def _wrap(cls, c):
@@ -458,7 +489,8 @@ def fit(run=None, progress=False, **settings):
     fit settings (starts, seed, out, force) among the keywords. Returns a
     FitResult."""
     like_kw, method_kw = _split(settings, _FIT_KEYS)
-    return Likelihood(run, **like_kw).fit(progress=progress, **method_kw)
+    like = Likelihood.__new__(Likelihood)._make(run, like_kw, "fit")
+    return like.fit(progress=progress, **method_kw)
 
 
 def sample(run=None, resume=None, progress=True, evidence=False, **settings):
@@ -481,7 +513,8 @@ def sample(run=None, resume=None, progress=True, evidence=False, **settings):
         _warn(warns)
         return Samples._from_posterior(_json.loads(text), arrays, like, folder)
     like_kw, method_kw = _split(settings, _SAMPLE_KEYS)
-    return Likelihood(run, **like_kw).sample(progress=progress, evidence=evidence, **method_kw)
+    like = Likelihood.__new__(Likelihood)._make(run, like_kw, "sample")
+    return like.sample(progress=progress, evidence=evidence, **method_kw)
 
 
 _FIT_KEYS = {"starts", "seed", "out", "force"}
