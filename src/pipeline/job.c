@@ -804,9 +804,42 @@ int lt_job_model_spec(const lt_job *j, lt_like_spec *spec, lt_error *err)
     return m ? lt_job_like_spec(j, m, spec, err) : err->code;
 }
 
+/* A table of the run file without columns: refused naming the file and
+ * the line of its section ([data]'s file key, or [survey.NAME]), where the
+ * library's reader could name only --columns. Tables from --data flags are
+ * left to the reader, whose words name the flag. */
+static int columns_check(const lt_job *j, lt_error *err)
+{
+    if (!j->ini || j->data_flags)
+        return LT_OK;
+    const lt_ini *ini = j->ini;
+    size_t k = 0; /* the table: j->data, then the parts */
+    for (size_t i = 0; i < ini->nsections; i++) {
+        const char *sec = ini->sections[i];
+        if (strncmp(sec, "survey.", 7))
+            continue;
+        const lt_survey_spec *t = k == 0 ? &j->data : k - 1 < j->nparts ? &j->parts[k - 1] : NULL;
+        k++;
+        if (t && t->data && (!t->columns || !*t->columns))
+            return lt_error_set(err, LT_EINPUT, ini->path, ini->section_lines[i],
+                                "[%s] has no columns: say which column holds what, e.g. "
+                                "columns = z=zcmb,mag=mb,err=dmb",
+                                sec);
+    }
+    if (k == 0 && j->data.data && (!j->data.columns || !*j->data.columns))
+        for (size_t e = 0; e < ini->n; e++)
+            if (!strcmp(ini->entries[e].section, "data") && !strcmp(ini->entries[e].key, "file"))
+                return lt_error_set(err, LT_EINPUT, ini->path, ini->entries[e].line,
+                                    "[data] names a table but no columns: say which column "
+                                    "holds what, e.g. columns = z=zcmb,mag=mb,err=dmb");
+    return LT_OK;
+}
+
 int lt_job_survey(const lt_job *j, lt_survey **s, lt_error *err)
 {
     *s = NULL;
+    if (columns_check(j, err))
+        return err->code;
     if (!j->data.data && (j->nmeasures || j->bao || j->cmb)) {
         /* other terms alone: survey options would be silently lost */
         const lt_survey_spec *d = &j->data;

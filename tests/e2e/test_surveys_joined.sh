@@ -19,7 +19,7 @@ for t in lanterns harbor beacon; do
 done
 # beacon without its group column: its rows take the table's name, beacon
 NOGROUP=${COLS/,group=tier/}
-COMMON=(--model lcdm-flat --velocity-dispersion 150 --format json --seed 4)
+COMMON=(--model lcdm-flat --velocity-dispersion 150 --format json --seed 4 --starts 2)
 
 run "$LANTERN" fit --data "$D/survey.csv" --columns "$COLS" --zmin 0.03 "${COMMON[@]}"
 cp "$OUT" "$E2E_TMP/whole.json"
@@ -45,6 +45,7 @@ zmin = 0.03
 name = lcdm-flat
 [fit]
 seed = 4
+starts = 2
 INI
 run "$LANTERN" fit "$E2E_TMP/joined.ini" --format json
 cp "$OUT" "$E2E_TMP/ini.json"
@@ -141,4 +142,11 @@ expect_error "[data] file beside [survey.NAME] sections: file and line" 2 "bad.i
 { echo "[survey.a]"; echo "file = harbor.csv"; echo "bao = x.csv"; echo "[model]"; echo "name = lcdm-flat"; } >"$E2E_TMP/bad2.ini"
 run "$LANTERN" fit "$E2E_TMP/bad2.ini"
 expect_error "a non-table key in [survey.NAME]: file and line" 2 "bad2.ini:3: \[survey.a\] bao: a survey section takes a table's keys"
+# a run file's table without columns: the file and line, not --columns
+{ echo "[model]"; echo "name = lcdm-flat"; echo "[data]"; echo "file = $D/survey.csv"; } >"$E2E_TMP/nocols.ini"
+run "$LANTERN" fit "$E2E_TMP/nocols.ini"
+expect_error "a run file's table without columns: file and line" 2 "nocols.ini:4: \[data\] names a table but no columns"
+{ echo "[survey.a]"; echo "file = $D/survey.csv"; echo "columns = $COLS"; echo "[survey.b]"; echo "file = $D/survey.csv"; echo "[model]"; echo "name = lcdm-flat"; } >"$E2E_TMP/nocols2.ini"
+run "$LANTERN" fit "$E2E_TMP/nocols2.ini"
+expect_error "a [survey.NAME] table without columns: its section's line" 2 "nocols2.ini:4: \[survey.b\] has no columns"
 exit 0
