@@ -470,12 +470,26 @@ class Samples:
             ", weighted" if self.weighted else "")
 
 
-def read_run(folder):
-    """The draws of a finished `lantern sample --out FOLDER` (or of one
-    model's folder of `lantern run`): its summary.json and chain file
-    (chains.fits where there is one, read bit for bit, else chains.csv), as
-    Samples."""
-    folder = _os.fspath(folder)
+def _has_chains(folder):
+    return any(_os.path.exists(_os.path.join(folder, f)) for f in ("chains.fits", "chains.csv"))
+
+
+def read_run(folder, model=None):
+    """The draws of a finished `lantern sample --out FOLDER`, or of one model
+    of `lantern run --out FOLDER` (model: its name; a run of one model needs
+    none): its summary.json and chain file (chains.fits where there is one,
+    read bit for bit, else chains.csv), as Samples."""
+    folder = _os.fsdecode(_os.fspath(folder))
+    if model is not None:
+        folder = _os.path.join(folder, str(model))
+    elif _os.path.isdir(folder) and not _has_chains(folder):
+        models = sorted(d for d in _os.listdir(folder)
+                        if _has_chains(_os.path.join(folder, d)))
+        if len(models) > 1:
+            raise ValueError("%s: a run of %d models (%s): name one with model="
+                             % (folder, len(models), ", ".join(models)))
+        if models:
+            folder = _os.path.join(folder, models[0])
     names, npar, draws, w, lp, chi2, nchains, ndraws = _lantern.read_run(folder)
     with open(_os.path.join(folder, "summary.json")) as f:
         summary = _json.load(f)

@@ -151,6 +151,19 @@ try:
     report(msg is not None and "--force" in msg and again.folder == out,
            "sample(out=) refuses an earlier run's folder without force", str(msg))
 
+    # ---- a lantern run folder: its model by name, or its only one ----
+    run_out = os.path.join(tmp, "run")
+    subprocess.run([LANTERN, "run", run_file, "--override", "run.models=lcdm-flat,lcdm",
+                    "--out", run_out, "--quiet"], capture_output=True)
+    both = [lantern.read_run(run_out, model=m) for m in ("lcdm-flat", "lcdm")]
+    msg = raises(lambda: lantern.read_run(run_out), ValueError)
+    shutil.rmtree(os.path.join(run_out, "lcdm"))
+    only = lantern.read_run(run_out)
+    report([b.params for b in both] == [("omega_m",), ("omega_m", "omega_de")]
+           and msg is not None and "lcdm, lcdm-flat" in msg
+           and np.array_equal(only.draws, both[0].draws, equal_nan=True),
+           "read_run of a lantern run folder: a model by name, or the only one", str(msg))
+
     # ---- Samples' weighted moments against numpy.average ----
     x, wts = again["omega_m"], again.weights
     m = np.average(x, weights=wts)
