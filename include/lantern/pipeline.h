@@ -126,15 +126,8 @@ int lt_job_read(lt_job *j, const char *path, const char *const *overrides,
  * lantern/survey.h) and those below. Silencing concerns what is printed
  * only: JSON summaries keep every warning.
  */
-#define LT_WARN_IMPORTANCE_WEIGHTS "importance-weights" /* Pareto k of the weights high */
-#define LT_WARN_COMPRESSION "compression"      /* compressed vs exact likelihood */
-#define LT_WARN_WEIGHTED_ESS "weighted-ess"    /* weighted draws' ESS below the target */
-#define LT_WARN_PRIOR_EDGE "prior-edge"        /* a posterior against its prior's edge */
-#define LT_WARN_NOT_CONVERGED "not-converged"  /* a run that did not converge */
-#define LT_WARN_NO_EVIDENCE "no-evidence"      /* too many parameters for nested sampling */
-#define LT_WARN_LAPLACE "laplace"              /* no Laplace errors at the best fit */
-#define LT_WARN_DIC "dic"                      /* DIC a poor guide for a model */
-#define LT_WARN_RENAMED_FLAG "renamed-flag"    /* a flag's old name (run --set) */
+/* (the ids, LT_WARN_IMPORTANCE_WEIGHTS ..., are in lantern/report.h, whose
+ * summaries list them beside their warnings) */
 typedef struct lt_warning_kind {
     const char *id, *what; /* what: a few words, for lists of the ids */
 } lt_warning_kind;

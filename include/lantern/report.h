@@ -417,11 +417,30 @@ int lt_report_plot(const char *path, const lt_run_model *models, size_t n,
 int lt_report_plot_sources(const char *const *src, size_t nsrc, const char *model,
                            lt_run_model *out, size_t max, size_t *n, lt_error *err);
 
+/*
+ * Kinds of warning of the methods and their summaries (besides the
+ * survey's, LT_WARN_* in lantern/survey.h): stable short ids, printed with
+ * each warning and named by --no-warn ID (lt_warning_kinds in
+ * lantern/pipeline.h lists them all).
+ */
+#define LT_WARN_IMPORTANCE_WEIGHTS "importance-weights" /* Pareto k of the weights high */
+#define LT_WARN_COMPRESSION "compression"      /* compressed vs exact likelihood */
+#define LT_WARN_WEIGHTED_ESS "weighted-ess"    /* weighted draws' ESS below the target */
+#define LT_WARN_PRIOR_EDGE "prior-edge"        /* a posterior against its prior's edge */
+#define LT_WARN_NOT_CONVERGED "not-converged"  /* a run that did not converge */
+#define LT_WARN_NO_EVIDENCE "no-evidence"      /* too many parameters for nested sampling */
+#define LT_WARN_LAPLACE "laplace"              /* no Laplace errors at the best fit */
+#define LT_WARN_DIC "dic"                      /* DIC a poor guide for a model */
+#define LT_WARN_RENAMED_FLAG "renamed-flag"    /* a flag's old name (run --set) */
+
+/* Append a warning to o's "warnings" list and its kind's id (LT_WARN_*) to
+ * "warning_ids", making both lists if o has none: the summaries' parallel
+ * lists, as inspect's, so that scripts can pick warnings by kind. */
+void lt_report_json_warning(struct cJSON *o, const char *id, const char *text);
 /* Add the "data" block (files, columns, a digest of the survey and the
- * measurements) and the "warnings" list of l's survey to o; returns the
- * warnings array for the caller to extend. */
-struct cJSON *lt_report_add_data(struct cJSON *o, const lt_survey_spec *data,
-                                 const lt_like *l);
+ * measurements) and the warnings of l's survey (lt_report_json_warning)
+ * to o. */
+void lt_report_add_data(struct cJSON *o, const lt_survey_spec *data, const lt_like *l);
 /* Add "calibrators" ({n, h0_offset_correlation}) to o where l's table has
  * calibrators, and "standardisation" ({n_objects, method, scatter,
  * velocity_dispersion_km_s, mass_split, lensing_per_z, tuned_sigma_int:

@@ -114,11 +114,12 @@ cJSON *lt_report_compare_json(const lt_model_result *m, size_t n)
         }
         char edges[512], dic[256];
         lt_report_compare_warnings(mr, edges, sizeof edges, dic, sizeof dic);
-        cJSON *w = cJSON_AddArrayToObject(o, "warnings");
+        cJSON_AddArrayToObject(o, "warnings");
+        cJSON_AddArrayToObject(o, "warning_ids");
         if (edges[0])
-            cJSON_AddItemToArray(w, cJSON_CreateString(edges));
+            lt_report_json_warning(o, LT_WARN_PRIOR_EDGE, edges);
         if (dic[0])
-            cJSON_AddItemToArray(w, cJSON_CreateString(dic));
+            lt_report_json_warning(o, LT_WARN_DIC, dic);
         cJSON_AddItemToArray(list, o);
     }
     return json;

@@ -96,7 +96,19 @@ static void table_json(cJSON *o, const lt_survey_spec *t)
         cJSON_AddStringToObject(o, "modes", t->modes);
 }
 
-cJSON *lt_report_add_data(cJSON *o, const lt_survey_spec *data, const lt_like *l)
+void lt_report_json_warning(cJSON *o, const char *id, const char *text)
+{
+    cJSON *w = cJSON_GetObjectItemCaseSensitive(o, "warnings");
+    cJSON *ids = cJSON_GetObjectItemCaseSensitive(o, "warning_ids");
+    if (!w)
+        w = cJSON_AddArrayToObject(o, "warnings");
+    if (!ids)
+        ids = cJSON_AddArrayToObject(o, "warning_ids");
+    cJSON_AddItemToArray(w, cJSON_CreateString(text));
+    cJSON_AddItemToArray(ids, cJSON_CreateString(id));
+}
+
+void lt_report_add_data(cJSON *o, const lt_survey_spec *data, const lt_like *l)
 {
     const lt_survey *s = lt_like_table(l);
     cJSON *files = cJSON_AddObjectToObject(o, "data");
@@ -146,10 +158,11 @@ cJSON *lt_report_add_data(cJSON *o, const lt_survey_spec *data, const lt_like *l
         cJSON_AddStringToObject(b, "cov", cmb->cov_path ? cmb->cov_path : "");
         cJSON_AddItemToObject(b, "n_data", num((double)cmb->n));
     }
-    cJSON *w = cJSON_AddArrayToObject(o, "warnings");
+    /* both lists, empty when there is nothing to say */
+    cJSON_AddArrayToObject(o, "warnings");
+    cJSON_AddArrayToObject(o, "warning_ids");
     for (size_t i = 0; s && i < s->nwarnings; i++)
-        cJSON_AddItemToArray(w, cJSON_CreateString(s->warnings[i]));
-    return w;
+        lt_report_json_warning(o, s->warning_ids[i], s->warnings[i]);
 }
 
 int lt_report_calibrated(const lt_like *l, const double *cov, lt_calibrated *c)
@@ -358,9 +371,9 @@ cJSON *lt_report_fit_json(const lt_like *l, const lt_fit_result *r, const lt_sur
     cJSON_AddItemToObject(opt, "best_start", num((double)r->info.best_start));
     cJSON_AddItemToObject(opt, "starts_agreeing", num((double)r->info.agree));
 
-    cJSON *w = lt_report_add_data(o, data, l);
+    lt_report_add_data(o, data, l);
     if (!r->laplace_ok)
-        cJSON_AddItemToArray(w, cJSON_CreateString(r->laplace_note));
+        lt_report_json_warning(o, LT_WARN_LAPLACE, r->laplace_note);
     return o;
 }
 

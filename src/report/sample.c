@@ -184,24 +184,24 @@ cJSON *lt_report_sample_json(const lt_like *l, const lt_posterior *r,
             cJSON_AddItemToObject(cp, "max_abs_dchi2_weighted_draws", num(r->max_abs_dchi2));
         }
     }
-    cJSON *w = lt_report_add_data(o, data, l);
+    lt_report_add_data(o, data, l);
     if (lt_sample_compression_missed(&r->compression)) {
         char text[512];
         lt_report_compression_warning(r, text, sizeof text);
-        cJSON_AddItemToArray(w, cJSON_CreateString(text));
+        lt_report_json_warning(o, LT_WARN_COMPRESSION, text);
     }
     if (!r->converged)
-        cJSON_AddItemToArray(w, cJSON_CreateString(lt_report_unconverged_text(r)));
+        lt_report_json_warning(o, LT_WARN_NOT_CONVERGED, lt_report_unconverged_text(r));
     if (r->method == LT_POST_IMPORTANCE && r->pareto_k > LT_PARETO_K_WARN) {
         char text[256];
         lt_report_pareto_warning(r, text, sizeof text);
-        cJSON_AddItemToArray(w, cJSON_CreateString(text));
+        lt_report_json_warning(o, LT_WARN_IMPORTANCE_WEIGHTS, text);
     }
     for (size_t i = 0; i < d; i++) {
         char note[256];
         if (lt_post_edge_note(r->cols[r->first_param + i], lt_like_prior(l, i), r->edge_lo[i],
                               r->edge_hi[i], note, sizeof note))
-            cJSON_AddItemToArray(w, cJSON_CreateString(note));
+            lt_report_json_warning(o, LT_WARN_PRIOR_EDGE, note);
     }
     /* the evidence, where a nested run gave one (lantern run), last */
     if (isfinite(r->ln_z)) {

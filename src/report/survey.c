@@ -161,12 +161,10 @@ cJSON *lt_report_survey_json(const lt_survey_spec *spec, const lt_survey *s,
         cJSON_AddStringToObject(files, "modes", spec->modes);
     else
         cJSON_AddNullToObject(files, "modes");
-    cJSON *w = cJSON_AddArrayToObject(o, "warnings");
+    cJSON_AddArrayToObject(o, "warnings");
+    cJSON_AddArrayToObject(o, "warning_ids");
     for (size_t i = 0; i < s->nwarnings; i++)
-        cJSON_AddItemToArray(w, cJSON_CreateString(s->warnings[i]));
-    cJSON *wi = cJSON_AddArrayToObject(o, "warning_ids");
-    for (size_t i = 0; i < s->nwarnings; i++)
-        cJSON_AddItemToArray(wi, cJSON_CreateString(s->warning_ids[i]));
+        lt_report_json_warning(o, s->warning_ids[i], s->warnings[i]);
     return o;
 }
 

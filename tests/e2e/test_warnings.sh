@@ -207,3 +207,32 @@ if [ "$STATUS" -eq 0 ] && [ ! -s "$ERR" ]; then pass "[data] no_warn in a run fi
 else fail "[data] no_warn in a run file"; fi
 run "$LANTERN" run "$E2E_TMP/nw.ini" --no-warn no-such-kind --out "$E2E_TMP/nwrun"
 expect_error "lantern run --no-warn checks its ids" 2 "--no-warn: unknown kind of warning 'no-such-kind'"
+
+# ---- fit, sample and compare summaries list each warning's id beside it ----
+run "$LANTERN" fit "${D[@]}" --cov "$P/sys_DS17f.txt" --model lcdm-flat --format json
+cp "$OUT" "$E2E_TMP/fit.json"
+L=(--data "$ROOT/data/lamplighter/survey.csv" --columns z=z,zhel=zhel,mag=mag,err=err,id=id
+   --modes "$ROOT/data/lamplighter/modes.csv")
+run "$LANTERN" sample "${L[@]}" --model w0wa-flat --sampler mcmc --target-ess 300 --seed 4 \
+    --format json --no-warn prior-edge
+cp "$OUT" "$E2E_TMP/sample.json"
+run "$LANTERN" compare "${D[@]}" --cov "$P/sys_DS17f.txt" --models lcdm-flat,w0wa-flat \
+    --live-points 100 --format json
+cp "$OUT" "$E2E_TMP/compare.json"
+if /usr/bin/python3 - "$E2E_TMP" <<'PY'
+import json, sys
+t = sys.argv[1]
+fit, smp, cmp = (json.load(open("%s/%s.json" % (t, n))) for n in ("fit", "sample", "compare"))
+assert fit["warning_ids"] == ["header-extra-names"], fit["warning_ids"]
+assert fit["warnings"][0].endswith("lcparam_DS17f.txt:1: the header names 19 columns but rows "
+                                   "have 18 fields; the trailing name biascor, filled by no row "
+                                   "and mapped to no role, is ignored"), fit["warnings"]
+assert "prior-edge" in smp["warning_ids"], smp["warning_ids"]
+assert "omega_m" in smp["warnings"][smp["warning_ids"].index("prior-edge")]
+for j in [fit, smp] + cmp["models"]:
+    assert len(j["warnings"]) == len(j["warning_ids"]), j
+ids = [i for m in cmp["models"] for i in m["warning_ids"]]
+assert set(ids) <= {"prior-edge", "dic"}, ids
+PY
+then pass "fit, sample and compare summaries: warning_ids beside warnings (--no-warn keeps them)"
+else fail "fit, sample and compare summaries: warning_ids beside warnings (--no-warn keeps them)"; fi
