@@ -6,7 +6,8 @@ computed by lantern's C library, with numpy arrays in and out.
     >>> d["distmod"]                     # the distance modulus at each redshift, mag
     >>> like = lantern.Likelihood(data="sn.csv", columns="z=zcmb,mu=mu", cov="sys.txt",
     ...                           model="lcdm-flat")
-    >>> like([0.3, 70.0])                # the log-posterior at omega_m = 0.3, h0 = 70
+    >>> like.names                       # ('h0', 'omega_m'): theta's order
+    >>> like([70.0, 0.3])                # the log-posterior at h0 = 70, omega_m = 0.3
     >>> fit = like.fit()                 # lantern's best fit: fit.best, fit.sd, fit.cov
     >>> post = like.sample(seed=7)       # lantern's sampler: post["omega_m"], post.weights
 
