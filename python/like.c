@@ -496,19 +496,9 @@ static void on_check(const lt_progress *d, void *ctx)
     notes *n = ctx;
     if (!n->progress)
         return;
-    char line[256], eta[48] = "";
-    double t = seconds_since(&n->start);
-    if (d->ess_min > 0 && isfinite(d->ess_min) && !d->converged)
-        snprintf(eta, sizeof eta, ", about %.0f s left",
-                 t * fmax(0.0, n->target / d->ess_min - 1.0));
-    if (d->weighted)
-        snprintf(line, sizeof line,
-                 "importance sampling: %zu draws, smallest ESS %.0f, Pareto k %.2f, %.1f s%s\n",
-                 d->draws_per_chain, d->ess_min, d->pareto_k, t, eta);
-    else
-        snprintf(line, sizeof line,
-                 "sampling: %zu draws per chain, worst R-hat %.4f, smallest ESS %.0f, %.1f s%s\n",
-                 d->draws_per_chain, d->rhat_max, d->ess_min, t, eta);
+    char line[256];
+    lt_pipeline_progress_text(d, seconds_since(&n->start), n->target, line, sizeof line - 1);
+    strcat(line, "\n");
     PyGILState_STATE g = PyGILState_Ensure();
     say(line);
     PyGILState_Release(g);
@@ -543,11 +533,9 @@ static void on_nested(const lt_nested_progress *d, void *ctx)
     notes *n = ctx;
     if (!n->progress)
         return;
-    char line[256];
-    snprintf(line, sizeof line,
-             "nested sampling %s: %zu iterations, %zu likelihood evaluations, ln Z = %.3f, the "
-             "live points could add %.3g\n",
-             d->model, d->iterations, d->evals, d->logz, d->dlogz);
+    char line[320];
+    lt_pipeline_nested_text(d, line, sizeof line - 1);
+    strcat(line, "\n");
     PyGILState_STATE g = PyGILState_Ensure();
     say(line);
     PyGILState_Release(g);

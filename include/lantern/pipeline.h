@@ -243,6 +243,16 @@ typedef struct lt_nested_progress {
     double logz, dlogz; /* ln Z so far; what the live points could still add */
 } lt_nested_progress;
 
+/* A check's progress as one line, without a newline, for whoever shows
+ * it (the command line on stderr, the Python package on sys.stderr):
+ * "sampling: ..." or "importance sampling: ...", the seconds so far and,
+ * until converged, the seconds left at the rate seen (the ESS grows about
+ * linearly with the draws once the chains mix) towards target_ess. */
+void lt_pipeline_progress_text(const lt_progress *p, double seconds, double target_ess,
+                               char *buf, size_t size);
+/* A nested run's progress as one line, without a newline. */
+void lt_pipeline_nested_text(const lt_nested_progress *p, char *buf, size_t size);
+
 /* The kinds of line a long job has to say. */
 typedef enum {
     LT_NOTE_PROGRESS = 0, /* where it is: "[1/3] lcdm: best fit, then nested sampling ..." */

@@ -28,28 +28,15 @@ static void on_check(const lt_progress *d, void *p)
     cli_progress *pr = p;
     if (pr->quiet || (!pr->tty && !pr->verbose))
         return;
-    double t = elapsed(&pr->start), left = NAN;
-    if (d->ess_min > 0 && isfinite(d->ess_min))
-        left = t * fmax(0.0, pr->target / d->ess_min - 1.0);
-    char eta[32] = "";
-    if (isfinite(left) && !d->converged)
-        snprintf(eta, sizeof eta, ", about %.0f s left", left);
+    char line[256];
+    lt_pipeline_progress_text(d, elapsed(&pr->start), pr->target, line, sizeof line);
     int inplace = pr->tty && !pr->verbose;
 #pragma omp critical(cli_progress)
     {
         if (inplace && pr->printed && pr->writing)
             fputc('\n', stderr);
         pr->writing = NULL;
-        if (d->weighted)
-            fprintf(stderr,
-                    "%simportance sampling: %zu draws, smallest ESS %.0f, Pareto k %.2f, %.1f s%s%s",
-                    inplace ? "\r" : "", d->draws_per_chain, d->ess_min, d->pareto_k, t, eta,
-                    inplace ? "   " : "\n");
-        else
-        fprintf(stderr,
-                "%ssampling: %zu draws per chain, worst R-hat %.4f, smallest ESS %.0f, %.1f s%s%s",
-                inplace ? "\r" : "", d->draws_per_chain, d->rhat_max, d->ess_min, t, eta,
-                inplace ? "   " : "\n");
+        fprintf(stderr, "%s%s%s", inplace ? "\r" : "", line, inplace ? "   " : "\n");
         pr->printed = 1;
     }
 }
@@ -78,17 +65,15 @@ static void on_nested(const lt_nested_progress *d, void *p)
     cli_progress *pr = p;
     if (pr->quiet || (!pr->tty && !pr->verbose))
         return;
+    char line[320];
+    lt_pipeline_nested_text(d, line, sizeof line);
     int inplace = pr->tty && !pr->verbose;
 #pragma omp critical(cli_progress)
     {
         if (inplace && pr->printed && pr->writing)
             fputc('\n', stderr);
         pr->writing = NULL;
-        fprintf(stderr,
-                "%snested sampling %s: %zu iterations, %zu likelihood evaluations, ln Z = %.3f, "
-                "the live points could add %.3g%s",
-                inplace ? "\r" : "", d->model, d->iterations, d->evals, d->logz, d->dlogz,
-                inplace ? "   " : "\n");
+        fprintf(stderr, "%s%s%s", inplace ? "\r" : "", line, inplace ? "   " : "\n");
         pr->printed = 1;
     }
 }

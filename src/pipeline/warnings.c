@@ -3,6 +3,7 @@
  * pipeline's), what --no-warn checks its ids against and what decides
  * which warnings a command prints (see lantern/pipeline.h).
  */
+#include <math.h>
 #include <stdio.h>
 #include <string.h>
 
@@ -59,4 +60,31 @@ void pipeline_warn(const lt_pipeline_hooks *h, const char *id, const char *text)
 {
     if (h && h->note)
         h->note(LT_NOTE_WARNING, id, text, h->ctx);
+}
+
+/* ---- progress lines (here: what a long job says, beside its warnings) ---- */
+
+void lt_pipeline_progress_text(const lt_progress *p, double seconds, double target_ess,
+                               char *buf, size_t size)
+{
+    char eta[48] = "";
+    if (p->ess_min > 0 && isfinite(p->ess_min) && !p->converged)
+        snprintf(eta, sizeof eta, ", about %.0f s left",
+                 seconds * fmax(0.0, target_ess / p->ess_min - 1.0));
+    if (p->weighted)
+        snprintf(buf, size,
+                 "importance sampling: %zu draws, smallest ESS %.0f, Pareto k %.2f, %.1f s%s",
+                 p->draws_per_chain, p->ess_min, p->pareto_k, seconds, eta);
+    else
+        snprintf(buf, size,
+                 "sampling: %zu draws per chain, worst R-hat %.4f, smallest ESS %.0f, %.1f s%s",
+                 p->draws_per_chain, p->rhat_max, p->ess_min, seconds, eta);
+}
+
+void lt_pipeline_nested_text(const lt_nested_progress *p, char *buf, size_t size)
+{
+    snprintf(buf, size,
+             "nested sampling %s: %zu iterations, %zu likelihood evaluations, ln Z = %.3f, the "
+             "live points could add %.3g",
+             p->model, p->iterations, p->evals, p->logz, p->dlogz);
 }
